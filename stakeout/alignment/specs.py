@@ -1,0 +1,92 @@
+"""Plain descriptions of an alignment as the job file gives it.
+
+These are pure data, validated for type and sign by the job-file reader;
+:mod:`stakeout.alignment.build` turns them into geometry.  Angles are
+decimal degrees, azimuths clockwise from grid north, lengths in job units.
+``where`` fields carry the job-file key so geometry errors can name it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+__all__ = ["LineSpec", "ArcSpec", "ChainSpec", "PISpec", "PIListSpec", "SinglePISpec", "AlignmentSpec"]
+
+
+@dataclass(frozen=True)
+class LineSpec:
+    """A tangent of ``length`` units continuing the current direction."""
+
+    length: float
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class ArcSpec:
+    """A circular arc: ``radius`` and either ``delta`` (degrees) or ``length``.
+
+    ``turn`` is +1 for right (clockwise), -1 for left, looking ahead.
+    """
+
+    radius: float
+    turn: int
+    delta: float | None = None
+    length: float | None = None
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class ChainSpec:
+    """Form A: elements chained from a start point and azimuth."""
+
+    name: str
+    start_station: float
+    start_northing: float
+    start_easting: float
+    azimuth: float
+    elements: tuple[LineSpec | ArcSpec, ...]
+
+
+@dataclass(frozen=True)
+class PISpec:
+    """One point of a PI list.
+
+    ``radii`` empty: no curve (an angle point, or the POB/POE).  Otherwise
+    the arcs in station order with their ``deltas`` in degrees, exactly one
+    of them ``None`` (the "rest" of the intersection angle).
+    """
+
+    northing: float
+    easting: float
+    radii: tuple[float, ...] = ()
+    deltas: tuple[float | None, ...] = ()
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class PIListSpec:
+    """Form B: POB, PIs, POE."""
+
+    name: str
+    start_station: float
+    pis: tuple[PISpec, ...]
+
+
+@dataclass(frozen=True)
+class SinglePISpec:
+    """Form C: one curve at a PI given by its station, as in a curve table."""
+
+    name: str
+    pi_station: float
+    northing: float
+    easting: float
+    back_azimuth: float
+    ahead_azimuth: float
+    radii: tuple[float, ...]
+    deltas: tuple[float | None, ...]
+    lead_in: float = 0.0
+    lead_out: float = 0.0
+    where: str = "alignment.at_pi"
+
+
+AlignmentSpec = ChainSpec | PIListSpec | SinglePISpec

@@ -1,0 +1,77 @@
+"""The ``stakeout`` command line: wiring only.
+
+Exit codes: 0 success; 1 a check found stakes out of tolerance, duplicated
+or unmatched; 2 bad input (one line on stderr, no traceback; ``--debug``
+shows one); 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Callable, Optional, TypeVar
+
+import typer
+
+from .errors import StakeoutError
+
+__all__ = ["app", "main"]
+
+app = typer.Typer(
+    add_completion=False,
+    no_args_is_help=True,
+    help="Stake points, setout sheets and staked-point checks from one job file. "
+    "Results must be checked independently; local codes and a licensed surveyor's judgement govern.",
+    pretty_exceptions_enable=False,
+)
+
+T = TypeVar("T")
+
+
+def _guard(debug: bool, fn: Callable[[], T]) -> T:
+    try:
+        return fn()
+    except StakeoutError as exc:
+        if debug:
+            raise
+        typer.echo(f"stakeout: error: {exc}", err=True)
+        raise typer.Exit(2) from None
+    except KeyboardInterrupt:
+        typer.echo("stakeout: interrupted; nothing was written", err=True)
+        raise typer.Exit(130) from None
+
+
+@app.command()
+def build(
+    job: Path = typer.Argument(..., help="The job file (TOML, format 1)."),
+    out: Path = typer.Option(..., "--out", "-o", help="Folder to write the outputs into."),
+    only: Optional[str] = typer.Option(None, "--only", help="Comma-separated outputs: points, stations, "
+                                       "curves, setout, sheet, dxf, manifest."),
+    force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
+    debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
+) -> None:
+    """Compute the job and write its stake files into one folder."""
+    from .pipeline import run_build
+
+    for note in _guard(debug, lambda: run_build(job, out, only, force)):
+        typer.echo(note, err=True)
+
+
+@app.command()
+def curve(
+    job: Path = typer.Argument(..., help="The job file (TOML, format 1)."),
+    debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
+) -> None:
+    """Print the alignment's elements, key points and curve data."""
+    from .pipeline import run_curve_report
+
+    typer.echo(_guard(debug, lambda: run_curve_report(job)), nl=False)
+
+
+def main() -> None:
+    """Console-script entry point."""
+    app(prog_name="stakeout")
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

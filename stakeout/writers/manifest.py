@@ -1,0 +1,50 @@
+"""``manifest.json``: proof of which design produced which files.
+
+The only output that carries a timestamp.  Library versions are read from
+package metadata, so writing the manifest imports nothing heavy.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from datetime import datetime, timezone
+from importlib import metadata
+from typing import Any
+
+from .. import __version__
+
+__all__ = ["manifest_json"]
+
+
+def _version(dist: str) -> str | None:
+    try:
+        return metadata.version(dist)
+    except metadata.PackageNotFoundError:
+        return None
+
+
+def manifest_json(job_path: str, job_sha256: str, job_name: str, units: str, crs: str | None,
+                  factors: dict[str, Any], outputs: dict[str, bytes], proj_version: str | None) -> bytes:
+    """Render the manifest for the given outputs (name -> file bytes)."""
+    doc = {
+        "tool": "stakeout",
+        "version": __version__,
+        "created_utc": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        "job_file": {"path": job_path, "sha256": job_sha256},
+        "job_name": job_name,
+        "units": units,
+        "crs": crs,
+        "factors": factors,
+        "libraries": {
+            "numpy": _version("numpy"),
+            "pyproj": _version("pyproj"),
+            "proj": proj_version,
+            "ezdxf": _version("ezdxf"),
+        },
+        "outputs": {
+            name: {"sha256": hashlib.sha256(data).hexdigest(), "bytes": len(data)}
+            for name, data in sorted(outputs.items())
+        },
+    }
+    return (json.dumps(doc, indent=2, sort_keys=True) + "\n").encode("utf-8")
