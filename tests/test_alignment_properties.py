@@ -1,0 +1,205 @@
+"""Property tests on random valid alignments (hypothesis), and the inverse
+against shapely on a densified alignment."""
+
+import math
+
+import numpy as np
+import pytest
+import shapely
+from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import strategies as st
+from shapely.geometry import LineString, Point
+
+from stakeout.alignment import (
+    ArcSpec,
+    ChainSpec,
+    LineSpec,
+    PIListSpec,
+    PISpec,
+    SinglePISpec,
+    build_alignment,
+    compound_tangents,
+)
+from stakeout.jobfile import OffsetLine, Staking
+from stakeout.staking import plan_stakes
+
+from .helpers import arc_end_by_rotation
+
+settings.register_profile("stakeout", deadline=None, suppress_health_check=[HealthCheck.too_slow])
+settings.load_profile("stakeout")
+
+
+@st.composite
+def pi_lists(draw, max_pis=5):
+    """A random PI list whose curves fit; heading stays within 60 deg of the
+    start so the alignment never comes back near itself."""
+    k = draw(st.integers(1, max_pis))
+    lengths = [draw(st.floats(300, 3000)) for _ in range(k + 1)]
+    heading0 = draw(st.floats(0, 360))
+    rel = 0.0
+    heads = [heading0]
+    for _ in range(k):
+        while True:
+            d = draw(st.floats(-60, 60))
+            if abs(d) >= 3 and abs(rel + d) <= 60:
+                break
+            d = math.copysign(max(3.0, abs(d)), -rel if rel else 1.0)
+            if abs(rel + d) <= 60:
+                break
+        rel += d
+        heads.append(heading0 + rel)
+    n, e = draw(st.floats(-1e6, 6e6)), draw(st.floats(-1e6, 6e6))
+    pts = [(n, e)]
+    for L, h in zip(lengths, heads):
+        n += L * math.cos(math.radians(h))
+        e += L * math.sin(math.radians(h))
+        pts.append((n, e))
+    pis = [PISpec(*pts[0], where="pi[0]")]
+    for i in range(1, k + 1):
+        defl = abs(heads[i] - heads[i - 1])
+        narcs = draw(st.sampled_from([0, 1, 1, 2, 2, 3]))
+        if narcs == 0:
+            pis.append(PISpec(*pts[i], where=f"pi[{i}]"))
+            continue
+        radii = tuple(draw(st.floats(1.0, 10.0)) for _ in range(narcs))
+        shares = [draw(st.floats(0.2, 1.0)) for _ in range(narcs)]
+        deltas = tuple(defl * s / sum(shares) for s in shares)
+        t = compound_tangents(radii, deltas)
+        room = 0.45 * min(lengths[i - 1], lengths[i])
+        scale = room / max(t.back, t.ahead) * draw(st.floats(0.2, 1.0))
+        radii = tuple(r * scale for r in radii)
+        rest = draw(st.integers(0, narcs - 1))
+        pis.append(PISpec(*pts[i], radii, tuple(None if j == rest else d for j, d in enumerate(deltas)),
+                          where=f"pi[{i}]"))
+    pis.append(PISpec(*pts[-1], where=f"pi[{k + 1}]"))
+    return PIListSpec("R", draw(st.floats(-1000, 10000)), tuple(pis))
+
+
+@settings(max_examples=150)
+@given(pi_lists())
+def test_closure_pi_list(spec):
+    # Walking the arcs must land on the PT that the PI geometry predicts
+    # (PT = PI + T_ahead along the ahead tangent), to 1e-9 relative.
+    a = build_alignment(spec)
+    curve_pis = [p for p in spec.pis[1:-1] if p.radii]
+    assert len(a.curves) <= len(curve_pis)
+    for c in a.curves:
+        last = a.elements[c.elements[-1]]
+        az = math.radians(last.end_azimuth)
+        pt_n = c.pi_northing + c.tangents.ahead * math.cos(az)
+        pt_e = c.pi_easting + c.tangents.ahead * math.sin(az)
+        size = max(1.0, c.tangents.back + c.tangents.ahead)
+        assert math.hypot(pt_n - last.end_northing, pt_e - last.end_easting) <= 1e-9 * size + 1e-9 * abs(pt_n)
+    end = a.elements[-1]
+    assert end.end_northing == pytest.approx(spec.pis[-1].northing, abs=1e-6)
+    assert end.end_easting == pytest.approx(spec.pis[-1].easting, abs=1e-6)
+
+
+@settings(max_examples=150)
+@given(pi_lists(), st.data())
+def test_round_trip_and_monotone(spec, data):
+    a = build_alignment(spec)
+    starts = np.array([el.start_station for el in a.elements])
+    assert np.all(np.diff(starts) > 0)
+    assert a.length == pytest.approx(sum(el.length for el in a.elements))
+    min_r = min([el.radius for el in a.elements if el.radius] + [1e9])
+    omax = min(0.4 * min_r, 25.0)
+    m = 64
+    s = np.array(data.draw(st.lists(st.floats(0, 1), min_size=m, max_size=m))) * a.length + a.start_station
+    o = np.array(data.draw(st.lists(st.floats(-omax, omax), min_size=m, max_size=m)))
+    # keep clear of angle points, whose inside corner belongs to the other leg
+    ap = np.array([k.station for k in a.key_points if "AP" in k.features])
+    if ap.size:
+        keep = np.min(np.abs(s[:, None] - ap[None, :]), axis=1) > 2 * omax + 1
+        s, o = s[keep], o[keep]
+    n, e, _ = a.evaluate(s, o, miter=False)
+    s2, o2, d2 = a.locate(n, e)
+    assert np.allclose(s2, s, atol=1e-6, rtol=0)
+    assert np.allclose(o2, o, atol=1e-6, rtol=0)
+    assert np.allclose(d2, np.abs(o), atol=1e-6)
+
+
+@st.composite
+def chains(draw):
+    els = []
+    total_turn = 0.0
+    for _ in range(draw(st.integers(1, 6))):
+        if draw(st.booleans()):
+            els.append(LineSpec(draw(st.floats(1, 500))))
+        else:
+            r = draw(st.floats(20, 2000))
+            if draw(st.booleans()):
+                els.append(ArcSpec(r, draw(st.sampled_from([-1, 1])), delta=draw(st.floats(0.5, 300))))
+            else:
+                els.append(ArcSpec(r, draw(st.sampled_from([-1, 1])), length=draw(st.floats(1, 5 * r))))
+    return ChainSpec("C", draw(st.floats(-500, 5000)), draw(st.floats(-1e6, 1e6)), draw(st.floats(-1e6, 1e6)),
+                     draw(st.floats(0, 359.999)), tuple(els))
+
+
+@settings(max_examples=150)
+@given(chains())
+def test_chain_elements_close_by_rotation(spec):
+    # Each arc's end equals the start rotated about the centre (independent
+    # construction with complex numbers), and lines run straight.
+    a = build_alignment(spec)
+    for el in a.elements:
+        if el.kind == "arc":
+            n1, e1, cn, ce = arc_end_by_rotation(el.start_northing, el.start_easting, el.start_azimuth,
+                                                 el.radius, el.delta, el.turn)
+            assert (el.end_northing, el.end_easting) == pytest.approx((n1, e1), abs=1e-6)
+            assert (el.center_northing, el.center_easting) == pytest.approx((cn, ce), abs=1e-6)
+        n, e, az = a.evaluate(np.array([el.end_station - 1e-9]))
+        assert (float(n[0]), float(e[0])) == pytest.approx((el.end_northing, el.end_easting), abs=1e-6)
+    feats = [f for k in a.key_points for f in k.features]
+    assert feats[0] == "POB" and feats[-1] == "POE"
+    for c in a.curves:
+        assert len({a.elements[i].turn for i in c.elements}) == 1
+
+
+@settings(max_examples=60)
+@given(pi_lists(max_pis=3), st.lists(st.floats(-30, 30), min_size=1, max_size=5, unique=True),
+       st.floats(5, 200))
+def test_key_points_on_every_offset_line(spec, offsets, interval):
+    a = build_alignment(spec)
+    staking = Staking(interval, tuple(sorted((OffsetLine(o, f"C{i}") for i, o in enumerate(offsets)),
+                                             key=lambda x: x.offset)), (), 1, "", None)
+    sp = plan_stakes(a, staking, 100, 2)
+    m = len(offsets)
+    assert len(sp) == m * sp.stations.size
+    assert np.all(np.diff(sp.stations) > 0)
+    for kp in a.key_points:
+        hit = np.abs(sp.station - kp.station) < 1e-9
+        assert hit.sum() == m
+        assert set(sp.feature[i] for i in np.where(hit)[0]) == {" ".join(kp.features)}
+    # numbering: by station, then offset left to right
+    assert np.all(np.diff(sp.number) == 1)
+    assert np.all(np.diff(sp.offset.reshape(-1, m), axis=1) > 0)
+
+
+def _densify(a, step=0.05):
+    s = np.unique(np.concatenate([np.arange(a.start_station, a.end_station, step), [a.end_station]]))
+    n, e, _ = a.evaluate(s)
+    return s, LineString(np.column_stack([e, n]))
+
+
+@pytest.mark.parametrize("sample", ["loop_ramp_usft.toml", "site_road_metric.toml", "curve_table_ramp.toml"])
+def test_inverse_against_shapely(sample):
+    # shapely/GEOS as the reference: line_locate_point and distance on a
+    # densified centreline (5 cm vertices, chord error < 1e-6 units on R >= 100).
+    from stakeout.jobfile import load_job
+    from .helpers import SAMPLES
+
+    a = build_alignment(load_job(SAMPLES / sample).alignment)
+    s0, line = _densify(a)
+    rng = np.random.default_rng(7)
+    s = rng.uniform(a.start_station + 1, a.end_station - 1, 300)
+    o = rng.uniform(-20, 20, 300)
+    ap = np.array([k.station for k in a.key_points if "AP" in k.features])
+    n, e, _ = a.evaluate(s, o)
+    st_, off, dist = a.locate(n, e)
+    pts = shapely.points(e, n)
+    ref_s = shapely.line_locate_point(line, pts) + a.start_station
+    ref_d = shapely.distance(line, pts)
+    assert np.allclose(st_, ref_s, atol=2e-3)
+    assert np.allclose(dist, ref_d, atol=1e-5)
+    assert np.allclose(np.abs(off), ref_d, atol=1e-5)
