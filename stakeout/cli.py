@@ -2,7 +2,7 @@
 
 Exit codes: 0 success; 1 a check found stakes out of tolerance, duplicated
 or unmatched; 2 bad input (one line on stderr, no traceback; ``--debug``
-shows one); 130 interrupted.
+shows one); 3 an internal error (a bug: please report it); 130 interrupted.
 """
 
 from __future__ import annotations
@@ -39,6 +39,14 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
     except KeyboardInterrupt:
         typer.echo("stakeout: interrupted; nothing was written", err=True)
         raise typer.Exit(130) from None
+    except typer.Exit:
+        raise
+    except Exception as exc:  # a bug, not bad input: say so in one line
+        if debug:
+            raise
+        typer.echo(f"stakeout: internal error ({type(exc).__name__}: {exc}); nothing was written. "
+                   "Please report it with the job file; --debug shows the traceback", err=True)
+        raise typer.Exit(3) from None
 
 
 @app.command()

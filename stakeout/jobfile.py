@@ -272,14 +272,24 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     info = _job_info(top)
     alignment = _alignment(top, info)
     staking = _staking(top, info)
+    setup = _setup(top)
+    scale = _scale(top)
+    if scale.auto and info.crs is None:
+        raise JobFileError('scale.combined_factor = "auto": needs job.crs (the grid scale factor comes from the CRS)')
+    if scale.auto and setup is None:
+        raise JobFileError('scale.combined_factor = "auto": needs [setup] (the factor is taken at the occupied point)')
+    if setup is not None and setup.azimuth_reference == "geodetic" and info.crs is None:
+        raise JobFileError(
+            "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
+        )
     return Job(
         path=path,
         sha256=hashlib.sha256(data).hexdigest(),
         info=info,
         alignment=alignment,
         staking=staking,
-        setup=_setup(top),
-        scale=_scale(top),
+        setup=setup,
+        scale=scale,
         check=_check(top),
     )
 

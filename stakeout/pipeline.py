@@ -10,9 +10,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from .alignment import Alignment, build_alignment
+from .angles import azimuth_between, normalize_azimuth
 from .errors import JobFileError, OutputError
 from .jobfile import Job, load_job
+from .setout import ScaleInfo, Setout, compute_setout, elevation_factor
 from .staking import StakePoints, plan_stakes
 
 __all__ = ["OUTPUT_FILES", "Computed", "compute", "parse_only", "run_build", "run_curve_report"]
@@ -24,7 +28,9 @@ OUTPUT_FILES: dict[str, str] = {
     "curves": "curves.csv",
     "setout": "setout.csv",
     "sheet": "setout.txt",
+    "deflections": "deflections.txt",
     "dxf": "plan.dxf",
+    "preview": "plan.png",
     "manifest": "manifest.json",
 }
 _SETOUT_NAMES = ("setout", "sheet")
@@ -37,16 +43,72 @@ class Computed:
     job: Job
     alignment: Alignment
     stakes: StakePoints
+    crs_label: str | None = None
+    scale: ScaleInfo | None = None
+    setout: Setout | None = None
     factors: dict[str, Any] = field(default_factory=dict)
     proj_version: str | None = None
 
 
+def _scale_and_backsight(job: Job, grid: Any) -> tuple[ScaleInfo, float]:
+    setup = job.setup
+    assert setup is not None
+    unit = job.info.unit
+    occ = setup.occupied
+    pf = grid.factors(occ.northing, occ.easting) if grid is not None else None
+    sc = job.scale
+    if sc.auto:
+        assert pf is not None
+        h = sc.ellipsoid_height if sc.ellipsoid_height is not None else (sc.elevation or 0.0) + (sc.geoid_separation or 0.0)
+        ef = elevation_factor(unit.to_metres(h), pf.radius_m)
+        cf = pf.scale_factor * ef
+        how = "auto: grid scale factor k at the occupied point x elevation factor R/(R+h)"
+        scale = ScaleInfo(cf, how, pf.scale_factor, ef, pf.radius_m, h, pf.convergence, pf.latitude, pf.longitude)
+    else:
+        assert sc.combined_factor is not None
+        scale = ScaleInfo(sc.combined_factor, "given in the job file",
+                          convergence=pf.convergence if pf else None,
+                          latitude=pf.latitude if pf else None, longitude=pf.longitude if pf else None)
+    if setup.backsight is not None:
+        bs = setup.backsight
+        bs_az = float(azimuth_between(occ.northing, occ.easting, bs.northing, bs.easting))
+    else:
+        assert setup.backsight_azimuth is not None
+        bs_az = setup.backsight_azimuth
+        if setup.azimuth_reference == "geodetic":
+            assert pf is not None
+            bs_az = float(normalize_azimuth(bs_az - pf.convergence))
+    return scale, bs_az
+
+
 def compute(job: Job) -> Computed:
-    """Build the alignment and the stake points of a job."""
+    """Build the alignment, the stake points and, with a [setup], the setout."""
     alignment = build_alignment(job.alignment)
     unit = job.info.unit
     stakes = plan_stakes(alignment, job.staking, job.info.station_length, unit.station_decimals)
-    return Computed(job, alignment, stakes, {"combined_factor": job.scale.combined_factor})
+    c = Computed(job, alignment, stakes)
+    grid = None
+    if job.info.crs is not None:
+        from .crs import load_crs, proj_version
+
+        grid = load_crs(job.info.crs, unit)
+        c.crs_label = grid.label
+        c.proj_version = proj_version()
+    if job.setup is not None:
+        setup = job.setup
+        scale, bs_az = _scale_and_backsight(job, grid)
+        occ = setup.occupied
+        elev = None if job.staking.elevation is None else np.full(len(stakes), job.staking.elevation)
+        c.scale = scale
+        c.setout = compute_setout(occ.northing, occ.easting, bs_az, stakes.northing, stakes.easting,
+                                  scale.combined_factor, occ.elevation, setup.instrument_height, elev,
+                                  setup.target_height)
+        c.factors = {k: v for k, v in {
+            "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
+            "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
+            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": bs_az,
+        }.items() if v is not None}
+    return c
 
 
 def parse_only(text: str | None) -> list[str] | None:
@@ -62,17 +124,41 @@ def parse_only(text: str | None) -> list[str] | None:
     return names
 
 
+def _has_matplotlib() -> bool:
+    import importlib.util
+
+    return importlib.util.find_spec("matplotlib") is not None
+
+
 def _render(name: str, c: Computed) -> bytes:
-    from .writers import tables
+    from .writers import sheets, tables
 
     unit = c.job.info.unit
     if name == "points":
-        return tables.points_csv(c.stakes, unit).encode("utf-8")
-    if name == "stations":
-        return tables.stations_csv(c.stakes).encode("utf-8")
-    if name == "curves":
-        return tables.curves_csv(c.alignment, unit).encode("utf-8")
-    raise OutputError(f"--only {name}: this output is not available in this version")
+        text = tables.points_csv(c.stakes, unit)
+    elif name == "stations":
+        text = tables.stations_csv(c.stakes)
+    elif name == "curves":
+        text = tables.curves_csv(c.alignment, unit)
+    elif name == "setout":
+        assert c.setout is not None
+        text = tables.setout_csv(c.stakes, c.setout)
+    elif name == "sheet":
+        assert c.setout is not None and c.scale is not None
+        text = sheets.setout_sheet(c.job, c.alignment, c.stakes, c.setout, c.scale, c.crs_label)
+    elif name == "deflections":
+        text = sheets.deflection_sheet(c.job, c.alignment, c.stakes.stations, c.crs_label)
+    elif name == "dxf":
+        from .writers.dxf import plan_dxf
+
+        return plan_dxf(c)
+    elif name == "preview":
+        from .writers.dxf import plan_dxf, plan_png
+
+        return plan_png(plan_dxf(c))
+    else:  # pragma: no cover - names are checked by parse_only
+        raise OutputError(f"--only {name}: unknown output")
+    return text.encode("utf-8")
 
 
 def run_build(job_path: str | Path, out: str | Path, only: str | None = None, force: bool = False) -> list[str]:
@@ -89,9 +175,11 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     job = load_job(job_path)
     chosen = parse_only(only)
     notes: list[str] = []
-    available = [n for n in OUTPUT_FILES if n in ("points", "stations", "curves", "manifest")]
     if chosen is None:
-        names = available
+        names = [n for n in OUTPUT_FILES if job.setup is not None or n not in _SETOUT_NAMES]
+        if not _has_matplotlib():
+            names.remove("preview")
+            notes.append("matplotlib is not installed: plan.png skipped (pip install 'stakeout[preview]')")
         if job.setup is None:
             notes.append("no [setup] in the job: setout.csv and setout.txt skipped")
     else:

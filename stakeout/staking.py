@@ -18,7 +18,10 @@ from .errors import JobFileError
 from .jobfile import Staking
 from .stations import format_station
 
-__all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE"]
+__all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS"]
+
+#: Decimals of stake coordinates, as written to the point file.
+COORDINATE_DECIMALS = 4
 
 #: Stations closer than this (job units) are staked once; a key point wins.
 #: It lies below the 4-decimal resolution of the CSV files.
@@ -108,6 +111,10 @@ def plan_stakes(alignment: Alignment, staking: Staking, station_length: int, sta
     st = np.repeat(stations, m)
     of = np.tile(offs, stations.size)
     n, e, az = alignment.evaluate(st, of)
+    # Round once to the point file's decimals: every output (points, setout,
+    # plan, check) then works from exactly the coordinates the crew loads.
+    n = np.round(n, COORDINATE_DECIMALS) + 0.0
+    e = np.round(e, COORDINATE_DECIMALS) + 0.0
     number = staking.first_point + np.arange(st.size, dtype=np.int64)
     prefix = staking.point_prefix
     labels = format_station(stations, station_length, station_decimals)

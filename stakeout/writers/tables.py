@@ -12,7 +12,8 @@ from collections.abc import Iterable, Sequence
 import numpy as np
 
 from ..alignment import Alignment, degree_of_curve_arc
-from ..angles import format_dms
+from ..angles import format_azimuth_dms, format_dms
+from ..setout import Setout
 from ..staking import StakePoints
 from ..stations import format_station
 from ..units import Unit
@@ -20,7 +21,8 @@ from .numbers import fixed, fixed_or_empty, rounded
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
-    "csv_field", "csv_text", "points_csv", "stations_csv", "curves_csv", "descriptions",
+    "SETOUT_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv", "curves_csv", "setout_csv",
+    "descriptions",
 ]
 
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
@@ -117,3 +119,26 @@ def station_labels(values: np.ndarray, station_length: int, unit: Unit) -> list[
     """Station labels with the unit's decimals."""
     out = format_station(values, station_length, unit.station_decimals)
     return out if isinstance(out, list) else [out]
+
+
+SETOUT_COLUMNS = ("point", "station", "offset", "azimuth_deg", "azimuth_dms", "angle_right_deg",
+                  "angle_right_dms", "grid_distance", "ground_distance")
+
+
+def setout_csv(sp: StakePoints, so: Setout) -> str:
+    """``setout.csv``: angle and distance from the occupied point to every point.
+
+    With instrument and target heights and elevations, ``zenith_deg`` and
+    ``slope_distance`` follow as added columns.
+    """
+    d = DECIMALS
+    cols = [sp.point, rounded(sp.station, d), rounded(sp.offset, d), rounded(so.azimuth, 8),
+            format_azimuth_dms(so.azimuth, 1), rounded(so.angle_right, 8), format_azimuth_dms(so.angle_right, 1),
+            rounded(so.grid_distance, d), rounded(so.ground_distance, d)]
+    header = list(SETOUT_COLUMNS)
+    fmt = f"%s,%.{d}f,%.{d}f,%.8f,%s,%.8f,%s,%.{d}f,%.{d}f"
+    if so.zenith is not None and so.slope_distance is not None:
+        header += ["zenith_deg", "slope_distance"]
+        cols += [rounded(so.zenith, 8), rounded(so.slope_distance, d)]
+        fmt += f",%.8f,%.{d}f"
+    return csv_text(header, map(fmt.__mod__, zip(*cols)))

@@ -1,0 +1,101 @@
+"""Angles and distances from the occupied point (numpy, no I/O).
+
+Grid and ground (NOAA Manual NOS NGS 5): elevation factor EF = R/(R + h),
+h the ellipsoid height; combined factor CF = k * EF; grid distance =
+ground distance * CF.  The angle right is the point's grid azimuth minus
+the backsight's grid azimuth, reduced to [0, 360).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .angles import azimuth_between, normalize_azimuth
+
+__all__ = ["elevation_factor", "ScaleInfo", "Setout", "compute_setout"]
+
+
+def elevation_factor(height_m: float, radius_m: float) -> float:
+    """Elevation (ellipsoid) factor R / (R + h), both in metres."""
+    return radius_m / (radius_m + height_m)
+
+
+@dataclass(frozen=True)
+class ScaleInfo:
+    """The combined factor used and how it was obtained.
+
+    ``scale_factor``, ``elevation_factor``, ``radius_m`` and ``height`` are
+    set for an ``auto`` factor; ``convergence`` whenever a CRS was used.
+    """
+
+    combined_factor: float
+    how: str
+    scale_factor: float | None = None
+    elevation_factor: float | None = None
+    radius_m: float | None = None
+    height: float | None = None
+    convergence: float | None = None
+    latitude: float | None = None
+    longitude: float | None = None
+
+
+@dataclass(frozen=True)
+class Setout:
+    """Per-point setout from the occupied point (arrays in point order)."""
+
+    backsight_azimuth: float
+    azimuth: NDArray[np.float64]
+    angle_right: NDArray[np.float64]
+    grid_distance: NDArray[np.float64]
+    ground_distance: NDArray[np.float64]
+    zenith: NDArray[np.float64] | None
+    slope_distance: NDArray[np.float64] | None
+
+
+def compute_setout(
+    occ_n: float,
+    occ_e: float,
+    backsight_azimuth: float,
+    northing: ArrayLike,
+    easting: ArrayLike,
+    combined_factor: float,
+    occ_elevation: float | None = None,
+    instrument_height: float | None = None,
+    elevation: ArrayLike | None = None,
+    target_height: float | None = None,
+) -> Setout:
+    """Azimuth, angle right, grid and ground distance to every point.
+
+    Parameters
+    ----------
+    occ_n, occ_e : float
+        Occupied point, grid coordinates (job units).
+    backsight_azimuth : float
+        Grid azimuth to the backsight, degrees clockwise from grid north.
+    northing, easting : arrays
+        Target points (job units).
+    combined_factor : float
+        Grid / ground; ground distance = grid distance / combined_factor.
+    occ_elevation, instrument_height, elevation, target_height : optional
+        With all four, the zenith angle (degrees, 90 = level) and slope
+        distance (ground) are computed; no curvature or refraction
+        correction is applied (short sights).
+    """
+    n = np.asarray(northing, dtype=float)
+    e = np.asarray(easting, dtype=float)
+    az = np.asarray(azimuth_between(occ_n, occ_e, n, e), dtype=float)
+    grid = np.hypot(n - occ_n, e - occ_e)
+    # a point on the occupied station has no direction: report azimuth 0
+    az = np.where(grid > 0, az, 0.0)
+    ar = np.asarray(normalize_azimuth(az - backsight_azimuth), dtype=float)
+    ground = grid / combined_factor
+    zen = slope = None
+    if all(v is not None for v in (occ_elevation, instrument_height, elevation, target_height)):
+        dz = (np.asarray(elevation, dtype=float) + float(target_height)) - (float(occ_elevation) + float(instrument_height))  # type: ignore[arg-type]
+        dz = np.broadcast_to(dz, ground.shape)
+        zen = np.degrees(np.arctan2(ground, dz))
+        slope = np.hypot(ground, dz)
+    return Setout(float(backsight_azimuth), az, ar, grid, ground, zen, slope)

@@ -1,0 +1,245 @@
+"""``plan.dxf``: the plan check drawing (the only module that imports ezdxf).
+
+Survey azimuths run clockwise from north; DXF angles run counter-clockwise
+from +x (east).  The one conversion is :func:`dxf_angle`.  Drawing x is
+easting, y is northing, in job units.
+
+Layers (names and colours are this project's own, listed in the README):
+
+=============  ======  ==========================================================
+layer          colour  contents
+=============  ======  ==========================================================
+SO-CL          1       centreline: true LINE and ARC entities
+SO-OFFSET      8       offset lines, true LINE and ARC entities
+SO-STAKE       3       one POINT per staked point
+SO-STAKE-NO    3       the point number beside each stake
+SO-STATION     7       station ticks and labels (full stations long, others short)
+SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
+SO-CONTROL     5       occupied point (triangle) and backsight point (circle), labelled
+SO-BACKSIGHT   5       the backsight line from the occupied point
+SO-TABLE       7       curve data table and title block text
+=============  ======  ==========================================================
+"""
+
+from __future__ import annotations
+
+import io
+import math
+from collections import OrderedDict
+from typing import TYPE_CHECKING
+
+import ezdxf
+import numpy as np
+
+from ..alignment import Alignment
+from ..angles import format_dms, sincosd
+from ..stations import format_station
+from .cautions import CAUTION_LINES
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..pipeline import Computed
+
+__all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
+
+LAYERS: dict[str, int] = {
+    "SO-CL": 1,
+    "SO-OFFSET": 8,
+    "SO-STAKE": 3,
+    "SO-STAKE-NO": 3,
+    "SO-STATION": 7,
+    "SO-KEYPOINT": 1,
+    "SO-CONTROL": 5,
+    "SO-BACKSIGHT": 5,
+    "SO-TABLE": 7,
+}
+
+#: $INSUNITS per job unit: 2 feet, 6 metres, 21 US survey feet.
+INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
+
+TEXT_STYLE = "SO-TEXT"
+
+
+def dxf_angle(azimuth_deg: float) -> float:
+    """Survey azimuth (clockwise from north) -> DXF angle (counter-clockwise from east), degrees."""
+    return (90.0 - azimuth_deg) % 360.0
+
+
+def _text(msp, s: str, x: float, y: float, h: float, layer: str, rot: float = 0.0, align: str = "LEFT") -> None:
+    t = msp.add_text(s, height=h, rotation=rot % 360.0, dxfattribs={"layer": layer, "style": TEXT_STYLE})
+    t.set_placement((x, y), align=ezdxf.enums.TextEntityAlignment[align])
+
+
+def _draw_path(msp, alignment: Alignment, offset: float, layer: str) -> None:
+    """Draw the centreline (offset 0) or an offset line with true LINEs and ARCs."""
+    for el in alignment.elements:
+        (n0, n1), (e0, e1), _ = alignment.evaluate(np.array([el.start_station, el.end_station]), offset)
+        if el.kind == "line":
+            msp.add_line((e0, n0), (e1, n1), dxfattribs={"layer": layer})
+            continue
+        assert el.radius is not None and el.center_easting is not None and el.center_northing is not None
+        r = el.radius - el.turn * offset
+        if r <= 1e-9:
+            continue
+        a0 = math.degrees(math.atan2(n0 - el.center_northing, e0 - el.center_easting)) % 360.0
+        a1 = math.degrees(math.atan2(n1 - el.center_northing, e1 - el.center_easting)) % 360.0
+        # DXF arcs run counter-clockwise from start to end: a left turn travels
+        # counter-clockwise, a right turn clockwise (so swap its ends).
+        start, end = (a0, a1) if el.turn < 0 else (a1, a0)
+        msp.add_arc((el.center_easting, el.center_northing), r, start, end, dxfattribs={"layer": layer})
+
+
+def _extent(c: "Computed") -> tuple[float, float, float, float]:
+    e = np.concatenate([c.stakes.easting, [el.start_easting for el in c.alignment.elements],
+                        [c.alignment.elements[-1].end_easting]])
+    n = np.concatenate([c.stakes.northing, [el.start_northing for el in c.alignment.elements],
+                        [c.alignment.elements[-1].end_northing]])
+    if c.job.setup is not None:
+        occ = c.job.setup.occupied
+        e = np.append(e, occ.easting)
+        n = np.append(n, occ.northing)
+        if c.job.setup.backsight is not None:
+            e = np.append(e, c.job.setup.backsight.easting)
+            n = np.append(n, c.job.setup.backsight.northing)
+    return float(e.min()), float(n.min()), float(e.max()), float(n.max())
+
+
+def _build(c: "Computed"):
+    job, a, sp = c.job, c.alignment, c.stakes
+    unit = job.info.unit
+    sl, sd = job.info.station_length, unit.station_decimals
+    doc = ezdxf.new("R2013", setup=False)
+    doc.header["$INSUNITS"] = INSUNITS[unit.key]
+    doc.header["$MEASUREMENT"] = 1 if unit.key == "m" else 0
+    doc.styles.add(TEXT_STYLE, font="txt")
+    for name, colour in LAYERS.items():
+        doc.layers.add(name, color=colour)
+    msp = doc.modelspace()
+    x0, y0, x1, y1 = _extent(c)
+    size = max(x1 - x0, y1 - y0, 1.0)
+    h = size / 250.0  # text height: legible at full-extent zoom
+
+    _draw_path(msp, a, 0.0, "SO-CL")
+    for ol in job.staking.offsets:
+        if ol.offset != 0.0:
+            _draw_path(msp, a, ol.offset, "SO-OFFSET")
+
+    for i in range(len(sp)):
+        e, n = float(sp.easting[i]), float(sp.northing[i])
+        msp.add_point((e, n, sp.elevation or 0.0), dxfattribs={"layer": "SO-STAKE"})
+        _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
+
+    # station ticks: long at full stations, short at every staked station
+    full = np.arange(math.ceil(a.start_station / sl - 1e-9), math.floor(a.end_station / sl + 1e-9) + 1) * sl
+    ticks = np.unique(np.concatenate([full, sp.stations]))
+    (tn, te, taz) = a.evaluate(ticks, 0.0)
+    is_full = np.isin(ticks, full)
+    labels = format_station(full, sl, sd)
+    labels = labels if isinstance(labels, list) else [labels]
+    lab = dict(zip(full.tolist(), labels))
+    for st, n, e, az, big in zip(ticks.tolist(), tn.tolist(), te.tolist(), taz.tolist(), is_full.tolist()):
+        half = (2.0 if big else 0.8) * h
+        sn, cn = sincosd(az + 90.0)
+        msp.add_line((e - half * float(sn), n - half * float(cn)), (e + half * float(sn), n + half * float(cn)),
+                     dxfattribs={"layer": "SO-STATION"})
+        if big:
+            # label on the left of the centreline, reading along the normal
+            _text(msp, lab[st], e - 2.5 * h * float(sn), n - 2.5 * h * float(cn), h, "SO-STATION",
+                  rot=dxf_angle(az - 90.0), align="MIDDLE_RIGHT")
+
+    for kp in a.key_points:
+        msp.add_circle((kp.easting, kp.northing), 0.8 * h, dxfattribs={"layer": "SO-KEYPOINT"})
+        _text(msp, f"{' '.join(kp.features)} {format_station(kp.station, sl, sd)}", kp.easting + 1.2 * h,
+              kp.northing - 1.5 * h, h, "SO-KEYPOINT")
+
+    if job.setup is not None:
+        occ = job.setup.occupied
+        tri = [(occ.easting + 1.5 * h * math.sin(math.radians(t)), occ.northing + 1.5 * h * math.cos(math.radians(t)))
+               for t in (0, 120, 240, 0)]
+        for p, q in zip(tri, tri[1:]):
+            msp.add_line(p, q, dxfattribs={"layer": "SO-CONTROL"})
+        msp.add_point((occ.easting, occ.northing), dxfattribs={"layer": "SO-CONTROL"})
+        _text(msp, f"{occ.id} (occupied)", occ.easting + 2 * h, occ.northing + h, h, "SO-CONTROL")
+        bs = job.setup.backsight
+        if bs is not None:
+            end = (bs.easting, bs.northing)
+            msp.add_point(end, dxfattribs={"layer": "SO-CONTROL"})
+            msp.add_circle(end, 1.2 * h, dxfattribs={"layer": "SO-CONTROL"})
+            _text(msp, f"{bs.id} (backsight)", bs.easting + 2 * h, bs.northing + h, h, "SO-CONTROL")
+        else:
+            assert c.setout is not None
+            s, co = sincosd(c.setout.backsight_azimuth)
+            length = 0.25 * size
+            end = (occ.easting + length * float(s), occ.northing + length * float(co))
+            _text(msp, "backsight direction", end[0] + h, end[1], h, "SO-CONTROL")
+        msp.add_line((occ.easting, occ.northing), end, dxfattribs={"layer": "SO-BACKSIGHT"})
+
+    # title block and curve table, above the top-left corner of the job
+    lines = [f"{job.info.name}", f"alignment {a.name}   units {unit.label}",
+             f"CRS {c.crs_label or 'none: local grid'}", ""]
+    lines.append("CURVE DATA")
+    for cv in a.curves:
+        t = cv.tangents
+        head = f"curve {cv.number}: {'right' if cv.turn > 0 else 'left'}, I {format_dms(cv.delta, 1)}"
+        if cv.pi_station is not None and t is not None:
+            head += f", PI {format_station(cv.pi_station, sl, sd)}, T back {t.back:.4f}, T ahead {t.ahead:.4f}"
+            if t.t_a is not None and t.t_b is not None:
+                head += f", T_A {t.t_a:.4f} ({t.t_a_side}), T_B {t.t_b:.4f}"
+        lines.append(head)
+        for k, i in enumerate(cv.elements, start=1):
+            el = a.elements[i]
+            p = el.arc
+            assert p is not None
+            tan = f"{p.tangent:.4f}" if p.tangent is not None else "-"
+            lines.append(f"  arc {k}: R {p.radius:.4f}  delta {format_dms(p.delta, 1)}  L {p.length:.4f}  "
+                         f"T {tan}  chord {p.chord:.4f}")
+    lines.append("")
+    lines.extend(CAUTION_LINES)
+    y = y1 + (len(lines) + 2) * 1.6 * h
+    for line in lines:
+        if line:
+            _text(msp, line, x0, y, h, "SO-TABLE")
+        y -= 1.6 * h
+
+    top = y1 + (len(lines) + 3) * 1.6 * h
+    doc.header["$EXTMIN"] = (x0, y0, 0.0)
+    doc.header["$EXTMAX"] = (x1, top, 0.0)
+    doc.set_modelspace_vport(height=(top - y0) * 1.1, center=((x0 + x1) / 2, (y0 + top) / 2))
+    return doc
+
+
+def plan_dxf(c: "Computed") -> bytes:
+    """Render ``plan.dxf`` as bytes, identical for the same job and version."""
+    saved = ezdxf.options.write_fixed_meta_data_for_testing
+    ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
+    try:
+        doc = _build(c)
+        # The CLASSES section can come out in set order, which follows the hash
+        # seed: add the required classes now and put them in a fixed order.
+        doc.classes.add_required_classes(doc.dxfversion)
+        doc.classes.classes = OrderedDict(sorted(doc.classes.classes.items()))
+        stream = io.StringIO()
+        doc.write(stream)
+    finally:
+        ezdxf.options.write_fixed_meta_data_for_testing = saved
+    return stream.getvalue().encode(doc.output_encoding)
+
+
+def plan_png(dxf_bytes: bytes) -> bytes:
+    """Render a PNG preview of the plan with ezdxf's drawing add-on and matplotlib."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from ezdxf.addons.drawing import Frontend, RenderContext
+    from ezdxf.addons.drawing.config import BackgroundPolicy, Configuration
+    from ezdxf.addons.drawing.matplotlib import MatplotlibBackend
+
+    doc = ezdxf.read(io.StringIO(dxf_bytes.decode("utf-8")))
+    fig = plt.figure(figsize=(11, 8.5), dpi=120)
+    ax = fig.add_axes((0, 0, 1, 1))
+    cfg = Configuration(background_policy=BackgroundPolicy.WHITE)
+    Frontend(RenderContext(doc), MatplotlibBackend(ax), config=cfg).draw_layout(doc.modelspace(), finalize=True)
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=120, metadata={"Software": None})
+    plt.close(fig)
+    return buf.getvalue()
