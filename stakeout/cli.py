@@ -76,6 +76,27 @@ def curve(
     typer.echo(_guard(debug, lambda: run_curve_report(job)), nl=False)
 
 
+@app.command()
+def check(
+    job: Path = typer.Argument(..., help="The job file (TOML, format 1) with a [check] table."),
+    staked: Path = typer.Argument(..., help="The staked points exported by the data collector."),
+    out: Path = typer.Option(..., "--out", "-o", help="Folder to write check.csv and check.txt into."),
+    force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
+    columns: Optional[str] = typer.Option(None, "--columns", help="Column order of the staked file, e.g. "
+                                          "point,easting,northing,elevation,description (skip ignores one)."),
+    delimiter: str = typer.Option("auto", "--delimiter", help="auto, comma, semicolon, tab or space."),
+    debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
+) -> None:
+    """Check staked shots against design; exit 1 if any needs attention."""
+    from .pipeline import run_check
+
+    ok, notes = _guard(debug, lambda: run_check(job, staked, out, force, columns, delimiter))
+    for note in notes:
+        typer.echo(note, err=True)
+    if not ok:
+        raise typer.Exit(1)
+
+
 def main() -> None:
     """Console-script entry point."""
     app(prog_name="stakeout")

@@ -19,7 +19,7 @@ from .jobfile import Job, load_job
 from .setout import ScaleInfo, Setout, compute_setout, elevation_factor
 from .staking import StakePoints, plan_stakes
 
-__all__ = ["OUTPUT_FILES", "Computed", "compute", "parse_only", "run_build", "run_curve_report"]
+__all__ = ["OUTPUT_FILES", "Computed", "compute", "parse_only", "run_build", "run_curve_report", "run_check"]
 
 #: ``--only`` names and the files they write, in writing order.
 OUTPUT_FILES: dict[str, str] = {
@@ -214,3 +214,46 @@ def run_curve_report(job_path: str | Path) -> str:
     job = load_job(job_path)
     alignment = build_alignment(job.alignment)
     return curve_report(alignment, job.info.name, job.info.unit, job.info.station_length, job.info.crs)
+
+
+def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,
+              columns: str | None = None, delimiter: str = "auto") -> tuple[bool, list[str]]:
+    """``stakeout check``: staked shots against design, written atomically.
+
+    Returns
+    -------
+    (all_ok, notes)
+        ``all_ok`` is False when any shot is out of tolerance, duplicated
+        or unmatched (the CLI exits 1).
+    """
+    from .check import check_shots
+    from .shots import parse_columns, read_shots
+    from .stations import format_station
+    from .writers.checkreport import check_csv, check_txt
+    from .writers.folder import OutputFolder
+
+    job = load_job(job_path)
+    spec = job.check
+    if spec is None or spec.horizontal_tolerance is None:
+        raise JobFileError("check.horizontal_tolerance: missing; stakeout check needs [check] "
+                           "horizontal_tolerance in job units (it never guesses a tolerance)")
+    cols = parse_columns(columns)
+    shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
+    folder = OutputFolder(out, force)
+    alignment = build_alignment(job.alignment)
+    unit = job.info.unit
+    design = plan_stakes(alignment, job.staking, job.info.station_length, unit.station_decimals)
+    elev = None if job.staking.elevation is None else np.full(len(design), job.staking.elevation)
+    result = check_shots(alignment, design, elev, shots, spec.horizontal_tolerance, spec.vertical_tolerance,
+                         spec.search_radius)
+
+    def label(v: float) -> str:
+        return str(format_station(v, job.info.station_length, unit.station_decimals)) if np.isfinite(v) else ""
+
+    with folder:
+        folder.write_bytes("check.csv", check_csv(shots, design, result).encode("utf-8"))
+        folder.write_bytes("check.txt", check_txt(job, str(staked), shots, design, result, label).encode("utf-8"))
+        folder.commit()
+    c = result.counts()
+    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in c.items()) + f"; wrote {out}"]
+    return result.all_ok, notes

@@ -1,0 +1,108 @@
+"""``check.csv`` and the printable ``check.txt`` summary of a staked-point check."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..check import STATUSES, CheckResult
+from ..jobfile import Job
+from ..shots import Shots
+from ..staking import StakePoints
+from .cautions import CAUTION_LINES
+from .tables import DECIMALS, csv_field, csv_text
+
+__all__ = ["CHECK_COLUMNS", "check_csv", "check_txt"]
+
+CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
+                 "d_station", "d_offset", "d_elevation", "status",
+                 # added columns
+                 "matched_by", "northing", "easting", "line")
+
+
+def _f(v: float, d: int = DECIMALS) -> str:
+    if not math.isfinite(v):
+        return ""
+    return f"{round(v, d) + 0.0:.{d}f}"
+
+
+def check_csv(shots: Shots, design: StakePoints, r: CheckResult) -> str:
+    """``check.csv``: one row per shot, in file order."""
+    rows = []
+    for k in range(len(shots)):
+        i = int(r.design_index[k])
+        rows.append(",".join([
+            csv_field(shots.point[k]), design.point[i] if i >= 0 else "", _f(r.station[k]), _f(r.offset[k]),
+            _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]),
+            _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
+            _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]),
+        ]))
+    return csv_text(CHECK_COLUMNS, rows)
+
+
+def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: CheckResult,
+              station_label) -> str:
+    """``check.txt``: summary, what needs attention first, then the rest; cautions at the foot."""
+    unit = job.info.unit
+    counts = r.counts()
+    out = [f"STAKED-POINT CHECK   {job.info.name}".rstrip(),
+           f"job file     {job.path}",
+           f"             sha256 {job.sha256}",
+           f"staked file  {staked_path}",
+           f"units        {unit.label}",
+           f"tolerances   horizontal {r.horizontal_tolerance:.4f}   vertical "
+           + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None else "not set (not checked)"),
+           f"search radius for renumbered shots {r.search_radius:.4f}",
+           "",
+           f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
+           ]
+    hz = r.horizontal_error[np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[np.isfinite(r.d_elevation)]
+    out.append(f"worst horizontal error {hz.max():.4f}" if hz.size else "worst horizontal error -")
+    out.append(f"worst vertical error {np.abs(dz).max():.4f}" if dz.size else "worst vertical error - (no elevations to compare)")
+    out.append(f"verdict: {'ALL WITHIN TOLERANCE' if r.all_ok else 'NEEDS ATTENTION: see the first table'}")
+    out.append("")
+    ids = shots.point + [design.point[int(i)] for i in r.design_index if i >= 0]
+    w = min(16, max([6] + [len(p) for p in ids]))
+
+    def ident(p: str) -> str:
+        return p if len(p) <= w else p[: w - 1] + "~"
+
+    cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>10} {'offset':>9} {'horiz':>7} {'d along':>8} "
+            f"{'d across':>8} {'d elev':>7} {'status'}")
+    rule = "-" * (len(cols) + 3)
+
+    def row(k: int) -> str:
+        i = int(r.design_index[k])
+        return (f"{ident(shots.point[k]):<{w}} {ident(design.point[i]) if i >= 0 else '':<{w}} "
+                f"{station_label(r.station[k]):>10} {_f(r.offset[k], 3):>9} {_f(r.horizontal_error[k], 3):>7} "
+                f"{_f(r.d_station[k], 3):>8} {_f(r.d_offset[k], 3):>8} {_f(r.d_elevation[k], 3):>7} "
+                f"{r.status[k]}")
+
+    attention = [k for k in range(len(shots)) if r.status[k] != "ok"]
+    fine = [k for k in range(len(shots)) if r.status[k] == "ok"]
+    for title, ks in (("NEEDS ATTENTION (out of tolerance, duplicate, unmatched)", attention),
+                      ("WITHIN TOLERANCE", fine)):
+        out.append(f"{title}: {len(ks)}")
+        if ks:
+            out += [rule, cols, rule] + [row(k) for k in ks] + [rule]
+        out.append("")
+    missing = [design.point[i] for i in r.not_staked]
+    out.append(f"design points not staked: {len(missing)}")
+    line = ""
+    for pid in missing:
+        if len(line) + len(pid) + 1 > 96:
+            out.append("  " + line.rstrip())
+            line = ""
+        line += pid + " "
+    if line:
+        out.append("  " + line.rstrip())
+    out.append("")
+    out.append("d along / d across: the shot's station / offset minus the design point's; d = staked - design;")
+    out.append("northing and easting residuals are in check.csv")
+    out.append("")
+    out.extend(CAUTION_LINES)
+    text = "\n".join(out) + "\n"
+    assert all(len(line) <= 100 for line in text.splitlines()), [ln for ln in text.splitlines() if len(ln) > 100]
+    return text
