@@ -164,3 +164,10 @@ def test_no_tolerance_is_an_error(tmp_path):
     (tmp_path / "s.csv").write_text("1,5000,5000\n")
     r = runner.invoke(app, ["check", str(job), str(tmp_path / "s.csv"), "--out", str(tmp_path / "o")])
     assert r.exit_code == 2 and "horizontal_tolerance" in r.output
+
+
+def test_formula_like_shot_ids_are_neutralised(tmp_path):
+    (tmp_path / "s.csv").write_text('=1+2,1840000,6485000\n"a,b",1840000,6485000\n')
+    r, got = _run(tmp_path, tmp_path / "s.csv")
+    assert r.exit_code == 1
+    assert got[0]["point"] == "'=1+2" and got[1]["point"] == "a,b"

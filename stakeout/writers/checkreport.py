@@ -27,13 +27,20 @@ def _f(v: float, d: int = DECIMALS) -> str:
     return f"{round(v, d) + 0.0:.{d}f}"
 
 
+def _shot_id(pid: str) -> str:
+    """A shot id from the field as a CSV field that no spreadsheet runs as a formula."""
+    if pid[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        pid = "'" + pid
+    return csv_field(pid)
+
+
 def check_csv(shots: Shots, design: StakePoints, r: CheckResult) -> str:
     """``check.csv``: one row per shot, in file order."""
     rows = []
     for k in range(len(shots)):
         i = int(r.design_index[k])
         rows.append(",".join([
-            csv_field(shots.point[k]), design.point[i] if i >= 0 else "", _f(r.station[k]), _f(r.offset[k]),
+            _shot_id(shots.point[k]), design.point[i] if i >= 0 else "", _f(r.station[k]), _f(r.offset[k]),
             _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]),
             _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]),
