@@ -8,7 +8,6 @@ shows one); 3 an internal error (a bug: please report it); 130 interrupted.
 from __future__ import annotations
 
 import sys
-from pathlib import Path
 from typing import Callable, Optional, TypeVar
 
 import typer
@@ -51,8 +50,8 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
 
 @app.command()
 def build(
-    job: Path = typer.Argument(..., help="The job file (TOML, format 1)."),
-    out: Path = typer.Option(..., "--out", "-o", help="Folder to write the outputs into."),
+    job: str = typer.Argument(..., help="The job file (TOML, format 1)."),
+    out: str = typer.Option(..., "--out", "-o", help="Folder to write the outputs into."),
     only: Optional[str] = typer.Option(None, "--only", help="Comma-separated outputs: points, stations, "
                                        "curves, setout, sheet, dxf, manifest."),
     force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
@@ -67,7 +66,7 @@ def build(
 
 @app.command()
 def curve(
-    job: Path = typer.Argument(..., help="The job file (TOML, format 1)."),
+    job: str = typer.Argument(..., help="The job file (TOML, format 1)."),
     debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
 ) -> None:
     """Print the alignment's elements, key points and curve data."""
@@ -78,9 +77,9 @@ def curve(
 
 @app.command()
 def check(
-    job: Path = typer.Argument(..., help="The job file (TOML, format 1) with a [check] table."),
-    staked: Path = typer.Argument(..., help="The staked points exported by the data collector."),
-    out: Path = typer.Option(..., "--out", "-o", help="Folder to write check.csv and check.txt into."),
+    job: str = typer.Argument(..., help="The job file (TOML, format 1) with a [check] table."),
+    staked: str = typer.Argument(..., help="The staked points exported by the data collector."),
+    out: str = typer.Option(..., "--out", "-o", help="Folder to write check.csv and check.txt into."),
     force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
     columns: Optional[str] = typer.Option(None, "--columns", help="Column order of the staked file, e.g. "
                                           "point,easting,northing,elevation,description (skip ignores one)."),

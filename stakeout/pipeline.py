@@ -6,6 +6,8 @@ The CLI only parses options and calls these functions.
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -16,6 +18,7 @@ from .alignment import Alignment, build_alignment
 from .angles import azimuth_between, normalize_azimuth
 from .errors import JobFileError, OutputError
 from .jobfile import Job, load_job
+from .progress import Progress
 from .setout import ScaleInfo, Setout, compute_setout, elevation_factor
 from .staking import StakePoints, plan_stakes
 
@@ -134,6 +137,7 @@ def _render(name: str, c: Computed) -> bytes:
     from .writers import sheets, tables
 
     unit = c.job.info.unit
+    text: str | bytes
     if name == "points":
         text = tables.points_csv(c.stakes, unit)
     elif name == "stations":
@@ -158,7 +162,7 @@ def _render(name: str, c: Computed) -> bytes:
         return plan_png(plan_dxf(c))
     else:  # pragma: no cover - names are checked by parse_only
         raise OutputError(f"--only {name}: unknown output")
-    return text.encode("utf-8")
+    return text if isinstance(text, bytes) else text.encode("utf-8")
 
 
 def run_build(job_path: str | Path, out: str | Path, only: str | None = None, force: bool = False) -> list[str]:
@@ -191,13 +195,19 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     folder = OutputFolder(out, force)
     c = compute(job)
     written: dict[str, bytes] = {}
+    files = [n for n in names if n != "manifest"]
+    progress = Progress(len(files) + 1, len(c.stakes))
+    progress.step("computed")
     with folder:
-        for name in names:
-            if name == "manifest":
-                continue
-            data = _render(name, c)
-            folder.write_bytes(OUTPUT_FILES[name], data)
-            written[OUTPUT_FILES[name]] = data
+        # Outputs are independent: render them on both cores (numpy releases
+        # the GIL), then write them in a fixed order.
+        with ThreadPoolExecutor(max_workers=min(2, os.cpu_count() or 1)) as pool:
+            futures = {name: pool.submit(_render, name, c) for name in files}
+            for name in files:
+                data = futures[name].result()
+                folder.write_bytes(OUTPUT_FILES[name], data)
+                written[OUTPUT_FILES[name]] = data
+                progress.step(OUTPUT_FILES[name])
         if "manifest" in names:
             folder.write_bytes("manifest.json", manifest_json(
                 str(job_path), job.sha256, job.info.name, job.info.unit.key, job.info.crs,

@@ -9,6 +9,7 @@ then by offset from left to right.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 from numpy.typing import NDArray
@@ -30,28 +31,73 @@ MERGE_TOLERANCE = 5e-5
 
 @dataclass(frozen=True)
 class StakePoints:
-    """Every staked point, flat arrays in point-number order.
+    """Every staked point in point-number order: station by station, offsets
+    left to right within a station.
 
-    ``station_index`` refers each point to ``stations``; ``features`` holds
-    one string per station (empty for ordinary stations).
+    Per-station data (``stations``, ``features``) and per-offset data
+    (``offsets``, ``codes``) are kept apart; per-point arrays are laid out
+    as ``station_index * len(offsets) + offset_index``.  The per-point text
+    lists are built on first use only.
     """
 
     stations: NDArray[np.float64]
     features: tuple[str, ...]
-    point: list[str]
-    number: NDArray[np.int64]
-    station: NDArray[np.float64]
-    station_label: list[str]
-    offset: NDArray[np.float64]
-    code: list[str]
-    feature: list[str]
+    offsets: NDArray[np.float64]
+    codes: tuple[str, ...]
+    first_point: int
+    prefix: str
+    station_length: int
+    station_decimals: int
     northing: NDArray[np.float64]
     easting: NDArray[np.float64]
     azimuth: NDArray[np.float64]
     elevation: float | None
 
     def __len__(self) -> int:
-        return int(self.number.size)
+        return int(self.northing.size)
+
+    @cached_property
+    def number(self) -> NDArray[np.int64]:
+        """Point numbers (without the prefix)."""
+        return self.first_point + np.arange(len(self), dtype=np.int64)
+
+    @cached_property
+    def station(self) -> NDArray[np.float64]:
+        """Station of each point."""
+        return np.repeat(self.stations, self.offsets.size)
+
+    @cached_property
+    def offset(self) -> NDArray[np.float64]:
+        """Offset of each point (negative left)."""
+        return np.tile(self.offsets, self.stations.size)
+
+    @cached_property
+    def point(self) -> list[str]:
+        """Point ids: prefix + number."""
+        return [f"{self.prefix}{k}" for k in self.number.tolist()]
+
+    @cached_property
+    def labels(self) -> list[str]:
+        """Station labels, one per station."""
+        out = format_station(self.stations, self.station_length, self.station_decimals)
+        return out if isinstance(out, list) else [out]
+
+    @cached_property
+    def station_label(self) -> list[str]:
+        """Station label of each point."""
+        m = self.offsets.size
+        return [lab for lab in self.labels for _ in range(m)]
+
+    @cached_property
+    def code(self) -> list[str]:
+        """Code of each point."""
+        return list(self.codes) * self.stations.size
+
+    @cached_property
+    def feature(self) -> list[str]:
+        """Key-point features of each point (empty for ordinary stations)."""
+        m = self.offsets.size
+        return [f for f in self.features for _ in range(m)]
 
 
 def _stations(alignment: Alignment, staking: Staking) -> tuple[NDArray[np.float64], list[str]]:
@@ -106,29 +152,22 @@ def plan_stakes(alignment: Alignment, staking: Staking, station_length: int, sta
     """
     stations, feats = _stations(alignment, staking)
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
-    codes = [ol.code for ol in staking.offsets]
-    m = offs.size
-    st = np.repeat(stations, m)
+    st = np.repeat(stations, offs.size)
     of = np.tile(offs, stations.size)
     n, e, az = alignment.evaluate(st, of)
     # Round once to the point file's decimals: every output (points, setout,
     # plan, check) then works from exactly the coordinates the crew loads.
     n = np.round(n, COORDINATE_DECIMALS) + 0.0
     e = np.round(e, COORDINATE_DECIMALS) + 0.0
-    number = staking.first_point + np.arange(st.size, dtype=np.int64)
-    prefix = staking.point_prefix
-    labels = format_station(stations, station_length, station_decimals)
-    assert isinstance(labels, list)
     return StakePoints(
         stations=stations,
         features=tuple(feats),
-        point=[f"{prefix}{k}" for k in number.tolist()],
-        number=number,
-        station=st,
-        station_label=[lab for lab in labels for _ in range(m)],
-        offset=of,
-        code=codes * stations.size,
-        feature=[f for f in feats for _ in range(m)],
+        offsets=offs,
+        codes=tuple(ol.code for ol in staking.offsets),
+        first_point=staking.first_point,
+        prefix=staking.point_prefix,
+        station_length=station_length,
+        station_decimals=station_decimals,
         northing=n,
         easting=e,
         azimuth=az,

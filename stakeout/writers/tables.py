@@ -7,9 +7,10 @@ needs quoting; :func:`csv_field` quotes anything else per RFC 4180.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..alignment import Alignment, degree_of_curve_arc
 from ..angles import format_azimuth_dms, format_dms
@@ -17,6 +18,7 @@ from ..setout import Setout
 from ..staking import StakePoints
 from ..stations import format_station
 from ..units import Unit
+from . import rows
 from .numbers import fixed, fixed_or_empty, rounded
 
 __all__ = [
@@ -55,27 +57,85 @@ def descriptions(sp: StakePoints, unit: Unit) -> list[str]:
     return [f"{c} {s} {o}" for c, s, o in zip(sp.code, sp.station_label, offs)]
 
 
-def _elevation(sp: StakePoints) -> str:
-    return "" if sp.elevation is None else fixed([sp.elevation], DECIMALS)[0]
+_CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cache and are reused
 
 
-def points_csv(sp: StakePoints, unit: Unit) -> str:
+class _PerPoint:
+    """Vectorised per-point fields of the stations ``s0:s1`` of a stake set."""
+
+    def __init__(self, sp: StakePoints, s0: int, s1: int):
+        self.sp = sp
+        self.m = sp.offsets.size
+        self.k = s1 - s0
+        self.s = slice(s0, s1)
+        self.p = slice(s0 * self.m, s1 * self.m)
+        self.n = self.k * self.m
+
+    def sep(self, s: str = ",") -> rows.Field:
+        return rows.const(s, self.n)
+
+    def point(self) -> list[rows.Field]:
+        first = self.sp.first_point + self.p.start
+        return [rows.const(self.sp.prefix, self.n), rows.integer(np.arange(first, first + self.n, dtype=np.int64))]
+
+    def label(self) -> rows.Field:
+        sp = self.sp
+        return rows.repeat_rows(rows.station(sp.stations[self.s], sp.station_length, sp.station_decimals), self.m)
+
+    def station(self, decimals: int) -> rows.Field:
+        return rows.repeat_rows(rows.fixed(self.sp.stations[self.s], decimals), self.m)
+
+    def offset(self, decimals: int) -> rows.Field:
+        return rows.tile_rows(rows.fixed(self.sp.offsets, decimals), self.k)
+
+    def code(self) -> rows.Field:
+        return rows.tile_rows(rows.text(self.sp.codes), self.k)
+
+    def feature(self) -> rows.Field:
+        return rows.repeat_rows(rows.text(self.sp.features[self.s]), self.m)
+
+    def elevation(self) -> rows.Field:
+        e = self.sp.elevation
+        return rows.const("" if e is None else fixed([e], DECIMALS)[0], self.n)
+
+    def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
+        return rows.fixed(values[self.p], decimals)
+
+    def dms(self, values: NDArray[np.float64]) -> rows.Field:
+        return rows.dms(values[self.p], 1)
+
+
+def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], list[rows.Field]]) -> bytes:
+    """Render a per-point CSV in chunks of whole stations."""
+    out = [(",".join(header) + "\n").encode("ascii")]
+    step = max(1, _CHUNK_ROWS // max(1, sp.offsets.size))
+    for s0 in range(0, sp.stations.size, step):  # chunks: each one is vectorised
+        part = _PerPoint(sp, s0, min(s0 + step, sp.stations.size))
+        out.append(rows.join_rows(layout(part), part.n))
+    return b"".join(out)
+
+
+def points_csv(sp: StakePoints, unit: Unit) -> bytes:
     """``points.csv``: the file a crew loads onto a data collector."""
-    elev = _elevation(sp)
-    fmt = f"%s,%.{DECIMALS}f,%.{DECIMALS}f,{elev},%s"
-    rows = map(fmt.__mod__, zip(sp.point, rounded(sp.northing, DECIMALS), rounded(sp.easting, DECIMALS),
-                                descriptions(sp, unit)))
-    return csv_text(POINTS_COLUMNS, rows)
-
-
-def stations_csv(sp: StakePoints) -> str:
-    """``stations.csv``: every staked point with where it sits on the alignment."""
-    elev = _elevation(sp)
     d = DECIMALS
-    fmt = f"%s,%.{d}f,%s,%.{d}f,%.{d}f,%.{d}f,{elev},%s,%s"
-    rows = map(fmt.__mod__, zip(sp.point, rounded(sp.station, d), sp.station_label, rounded(sp.offset, d),
-                                rounded(sp.northing, d), rounded(sp.easting, d), sp.feature, sp.code))
-    return csv_text(STATIONS_COLUMNS, rows)
+
+    def layout(p: _PerPoint) -> list[rows.Field]:
+        return [*p.point(), p.sep(), p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(),
+                p.elevation(), p.sep(), p.code(), p.sep(" "), p.label(), p.sep(" "), p.offset(unit.station_decimals)]
+
+    return _csv(POINTS_COLUMNS, sp, layout)
+
+
+def stations_csv(sp: StakePoints) -> bytes:
+    """``stations.csv``: every staked point with where it sits on the alignment."""
+    d = DECIMALS
+
+    def layout(p: _PerPoint) -> list[rows.Field]:
+        return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(), p.sep(), p.offset(d), p.sep(),
+                p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(), p.elevation(), p.sep(),
+                p.feature(), p.sep(), p.code()]
+
+    return _csv(STATIONS_COLUMNS, sp, layout)
 
 
 def curves_csv(alignment: Alignment, unit: Unit) -> str:
@@ -125,20 +185,25 @@ SETOUT_COLUMNS = ("point", "station", "offset", "azimuth_deg", "azimuth_dms", "a
                   "angle_right_dms", "grid_distance", "ground_distance")
 
 
-def setout_csv(sp: StakePoints, so: Setout) -> str:
+def setout_csv(sp: StakePoints, so: Setout) -> bytes:
     """``setout.csv``: angle and distance from the occupied point to every point.
 
     With instrument and target heights and elevations, ``zenith_deg`` and
     ``slope_distance`` follow as added columns.
     """
     d = DECIMALS
-    cols = [sp.point, rounded(sp.station, d), rounded(sp.offset, d), rounded(so.azimuth, 8),
-            format_azimuth_dms(so.azimuth, 1), rounded(so.angle_right, 8), format_azimuth_dms(so.angle_right, 1),
-            rounded(so.grid_distance, d), rounded(so.ground_distance, d)]
     header = list(SETOUT_COLUMNS)
-    fmt = f"%s,%.{d}f,%.{d}f,%.8f,%s,%.8f,%s,%.{d}f,%.{d}f"
-    if so.zenith is not None and so.slope_distance is not None:
+    zen = so.zenith is not None and so.slope_distance is not None
+    if zen:
         header += ["zenith_deg", "slope_distance"]
-        cols += [rounded(so.zenith, 8), rounded(so.slope_distance, d)]
-        fmt += f",%.8f,%.{d}f"
-    return csv_text(header, map(fmt.__mod__, zip(*cols)))
+
+    def layout(p: _PerPoint) -> list[rows.Field]:
+        f = [*p.point(), p.sep(), p.station(d), p.sep(), p.offset(d), p.sep(), p.col(so.azimuth, 8), p.sep(),
+             p.dms(so.azimuth), p.sep(), p.col(so.angle_right, 8), p.sep(), p.dms(so.angle_right), p.sep(),
+             p.col(so.grid_distance, d), p.sep(), p.col(so.ground_distance, d)]
+        if zen:
+            assert so.zenith is not None and so.slope_distance is not None
+            f += [p.sep(), p.col(so.zenith, 8), p.sep(), p.col(so.slope_distance, d)]
+        return f
+
+    return _csv(header, sp, layout)

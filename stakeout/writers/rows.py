@@ -1,0 +1,149 @@
+"""Vectorised text rows: numbers and short ASCII text turned into bytes with
+numpy, no Python call per field.
+
+Each field is a ``(N, width)`` ``uint8`` matrix of ASCII codes, padded with
+NUL bytes; :func:`join_rows` lays fields side by side, ends each row with
+``\\n`` and drops the padding.  Numbers are rounded once, half to even, in
+units of their last printed digit, so a value never prints as ``-0.0000``
+and carries are exact.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+__all__ = ["Field", "fixed", "integer", "text", "const", "repeat_rows", "tile_rows", "join_rows", "dms", "station"]
+
+Field = NDArray[np.uint8]
+_POW10 = 10 ** np.arange(19, dtype=np.int64)
+_LIMIT = 10**17  # largest scaled value handled exactly
+
+
+_PAIRS = np.array([[48 + i // 10, 48 + i % 10] for i in range(100)], dtype=np.uint8).view(np.uint16).ravel()
+
+
+def _digits(v: NDArray[np.int64], min_len: int, zero_pad: bool) -> Field:
+    """Decimal digits of non-negative integers, right-aligned, NUL-padded on the left."""
+    n = v.size
+    vmax = int(v.max()) if n else 0
+    if vmax >= _LIMIT:
+        raise ValueError(f"number too large to format: {vmax}")
+    width = max(min_len, len(str(vmax)))
+    pairs = (width + 1) // 2
+    out = np.empty((pairs, n), dtype=np.uint16)
+    w = v.copy()
+    for j in range(pairs - 1, -1, -1):  # two digits per vectorised step
+        q = w // 100
+        out[j] = _PAIRS[w - q * 100]
+        w = q
+    d = np.ascontiguousarray(out.T).view(np.uint8)[:, 2 * pairs - width:]
+    if not zero_pad:
+        length = np.maximum(np.searchsorted(_POW10, v, side="right"), min_len)
+        d = d * (np.arange(width)[None, :] >= (width - length)[:, None])
+    return d.astype(np.uint8, copy=False)
+
+
+def fixed(values: ArrayLike, decimals: int) -> Field:
+    """Numbers with a fixed number of decimals (``-12.5000``)."""
+    x = np.asarray(values, dtype=float).ravel()
+    if not np.all(np.isfinite(x)):
+        raise ValueError("cannot format a non-finite number")
+    v = np.rint(np.abs(x) * 10.0**decimals).astype(np.int64)
+    neg = (x < 0) & (v > 0)
+    d = _digits(v, decimals + 1, False)
+    parts = [np.where(neg, 45, 0).astype(np.uint8)[:, None]]
+    if decimals:
+        cut = d.shape[1] - decimals
+        parts += [d[:, :cut], np.full((x.size, 1), 46, dtype=np.uint8), d[:, cut:]]
+    else:
+        parts.append(d)
+    return np.hstack(parts)
+
+
+def integer(values: ArrayLike, width: int = 1, zero_pad: bool = False) -> Field:
+    """Whole numbers (``v >= 0`` unless negative ones are wanted with a sign)."""
+    v = np.asarray(values, dtype=np.int64).ravel()
+    neg = v < 0
+    d = _digits(np.abs(v), width, zero_pad)
+    if np.any(neg):
+        return np.hstack([np.where(neg, 45, 0).astype(np.uint8)[:, None], d])
+    return d
+
+
+def text(strings: Sequence[str]) -> Field:
+    """ASCII strings as a field (they must be ASCII: safe text guarantees it)."""
+    if len(strings) == 0:
+        return np.zeros((0, 0), dtype=np.uint8)
+    a = np.array(strings, dtype=str)
+    w = max(1, a.dtype.itemsize // 4)
+    codes = a.view(np.uint32).reshape(len(strings), w)
+    if np.any(codes > 127):
+        raise ValueError("non-ASCII text in a vectorised field")
+    return codes.astype(np.uint8)
+
+
+def const(s: str, n: int) -> Field:
+    """The same text on every row."""
+    b = np.frombuffer(s.encode("ascii"), dtype=np.uint8)
+    return np.broadcast_to(b, (n, b.size))
+
+
+def repeat_rows(f: Field, m: int) -> Field:
+    """Each row ``m`` times in a row (per-station field -> per-point)."""
+    return np.repeat(f, m, axis=0)
+
+
+def tile_rows(f: Field, k: int) -> Field:
+    """The whole block ``k`` times (per-offset field -> per-point)."""
+    return np.tile(f, (k, 1))
+
+
+def join_rows(fields: Sequence[Field], n: int) -> bytes:
+    """Lay fields side by side, end rows with ``\\n`` and drop the padding."""
+    if n == 0:
+        return b""
+    cols = [np.broadcast_to(f, (n, f.shape[1])) for f in fields if f.shape[1]]
+    cols.append(const("\n", n))
+    m = np.hstack(cols).ravel()
+    return np.compress(m != 0, m).tobytes()
+
+
+def dms(degrees: ArrayLike, decimals: int = 1, wrap360: bool = True) -> Field:
+    """Angles in ``D-MM-SS.s``, rounded once with the carry (never ``59-60``)."""
+    x = np.asarray(degrees, dtype=float).ravel()
+    if wrap360:
+        x = np.mod(x, 360.0)
+    scale = 10**decimals
+    total = np.rint(np.abs(x) * (3600 * scale)).astype(np.int64)
+    if wrap360:
+        total %= 360 * 3600 * scale
+    neg = (x < 0) & (total > 0)
+    deg = total // (3600 * scale)
+    rem = total % (3600 * scale)
+    mins, secs = rem // (60 * scale), rem % (60 * scale)
+    n = x.size
+    parts = [np.where(neg, 45, 0).astype(np.uint8)[:, None], integer(deg), const("-", n), integer(mins, 2, True),
+             const("-", n), integer(secs // scale, 2, True)]
+    if decimals:
+        parts += [const(".", n), integer(secs % scale, decimals, True)]
+    return np.hstack([np.broadcast_to(p, (n, p.shape[1])) for p in parts])
+
+
+def station(values: ArrayLike, station_length: int, decimals: int) -> Field:
+    """Station labels ``12+34.56`` (``-0+25.00`` for negative stations)."""
+    x = np.asarray(values, dtype=float).ravel()
+    scale = 10**decimals
+    total = np.rint(np.abs(x) * scale).astype(np.int64)
+    per = int(station_length) * scale
+    neg = (x < 0) & (total > 0)
+    full, rem = total // per, total % per
+    n = x.size
+    int_width = len(str(int(station_length) - 1))
+    parts = [np.where(neg, 45, 0).astype(np.uint8)[:, None], integer(full), const("+", n),
+             integer(rem // scale, int_width, True)]
+    if decimals:
+        parts += [const(".", n), integer(rem % scale, decimals, True)]
+    return np.hstack([np.broadcast_to(p, (n, p.shape[1])) for p in parts])
