@@ -203,3 +203,23 @@ def test_inverse_against_shapely(sample):
     assert np.allclose(st_, ref_s, atol=2e-3)
     assert np.allclose(dist, ref_d, atol=1e-5)
     assert np.allclose(np.abs(off), ref_d, atol=1e-5)
+
+
+def test_grid_inverse_matches_brute_force():
+    # The grid prefilter must never change the answer: compare with every element.
+    els = []
+    for i in range(60):
+        els.append(LineSpec(80.0 + 7 * (i % 5)))
+        els.append(ArcSpec(150.0 + 10 * (i % 7), 1 if (i // 2) % 2 else -1, delta=25.0 + (i % 4)))
+    a = build_alignment(ChainSpec("G", 0.0, 5_000_000.0, 500_000.0, 33.0, tuple(els)))
+    rng = np.random.default_rng(11)
+    s = rng.uniform(a.start_station - 50, a.end_station + 50, 4000)
+    o = rng.uniform(-400, 400, s.size)
+    n, e, _ = a.evaluate(np.clip(s, a.start_station, a.end_station), o)
+    n = np.concatenate([n, [0.0, 9e6]])
+    e = np.concatenate([e, [0.0, 9e6]])
+    got = np.stack(a.locate(n, e))
+    ref = a._locate_sel(n, e, np.arange(len(a.elements)))
+    assert np.allclose(got[2], ref[2], atol=1e-9)
+    same = np.abs(got[2] - ref[2]) < 1e-9
+    assert np.allclose(got[0][same], ref[0][same], atol=1e-6)

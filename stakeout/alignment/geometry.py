@@ -219,6 +219,11 @@ class Alignment:
         a point before the POB or past the POE gets a station outside the
         alignment.
 
+        Candidate elements come from a uniform grid over the elements'
+        bounding boxes; a point with no element within one grid cell is
+        compared against every element, so the answer is always the
+        nearest element.
+
         Parameters
         ----------
         northing, easting : array of float
@@ -234,67 +239,109 @@ class Alignment:
         shape = n.shape
         n = n.ravel()
         e = e.ravel()
-        out_s = np.empty(n.size)
-        out_o = np.empty(n.size)
-        out_d = np.empty(n.size)
-        step = max(1, _CHUNK_PAIRS // len(self.elements))
-        for i in range(0, n.size, step):  # chunks bound memory; each chunk is vectorised
-            sl = slice(i, i + step)
-            out_s[sl], out_o[sl], out_d[sl] = self._locate_chunk(n[sl], e[sl])
-        return out_s.reshape(shape), out_o.reshape(shape), out_d.reshape(shape)
+        out = np.empty((3, n.size))
+        todo = np.arange(n.size)
+        grid = self._grid()
+        if grid is not None and n.size:
+            g, e_min, n_min, cells = grid
+            keys = (np.floor((e - e_min) / g).astype(np.int64) << 32) + np.floor((n - n_min) / g).astype(np.int64)
+            uniq, inv = np.unique(keys, return_inverse=True)
+            order = np.argsort(inv, kind="stable")
+            bounds = np.searchsorted(inv[order], np.arange(uniq.size + 1))
+            miss = []
+            for c, key in enumerate(uniq.tolist()):  # one step per occupied grid cell, vectorised inside
+                pts = order[bounds[c]:bounds[c + 1]]
+                sel = cells.get(key)
+                if sel is None:
+                    miss.append(pts)
+                    continue
+                res = self._locate_sel(n[pts], e[pts], sel)
+                ok = res[2] <= g
+                out[:, pts[ok]] = res[:, ok]
+                miss.append(pts[~ok])
+            todo = np.concatenate(miss) if miss else todo[:0]
+        if todo.size:
+            allsel = np.arange(len(self.elements))
+            step = max(1, _CHUNK_PAIRS // len(self.elements))
+            for i in range(0, todo.size, step):  # chunks bound memory; each chunk is vectorised
+                pts = todo[i:i + step]
+                out[:, pts] = self._locate_sel(n[pts], e[pts], allsel)
+        return out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape)
 
-    def _locate_chunk(self, n: NDArray[np.float64], e: NDArray[np.float64]):
+    def _grid(self):
+        """(cell size, origin E, origin N, {cell key: element indices}), or None for short alignments."""
+        cached = self._arrays.get("_grid")
+        if cached is not None:
+            return cached[0]
+        grid = None
+        k = len(self.elements)
+        if k > 8:
+            boxes = []
+            for el in self.elements:
+                steps = 2 if el.kind == "line" else max(3, int(np.ceil((el.delta or 0.0) / 10.0)) + 1)
+                s = np.linspace(el.start_station, el.end_station, steps)
+                pn, pe, _ = self.evaluate(s, miter=False)
+                pad = 0.0 if el.radius is None else el.radius * (1.0 - np.cos(np.radians(5.0)))
+                boxes.append((pe.min() - pad, pn.min() - pad, pe.max() + pad, pn.max() + pad))
+            b = np.array(boxes)
+            extent = max(b[:, 2].max() - b[:, 0].min(), b[:, 3].max() - b[:, 1].min(), 1e-9)
+            g = max(self.length / k, extent / 4096.0, 1e-6)
+            e_min, n_min = b[:, 0].min() - 2 * g, b[:, 1].min() - 2 * g
+            cells: dict[int, list[int]] = {}
+            for idx, (x0, y0, x1, y1) in enumerate(b):
+                ix0, iy0 = int(np.floor((x0 - g - e_min) / g)), int(np.floor((y0 - g - n_min) / g))
+                ix1, iy1 = int(np.floor((x1 + g - e_min) / g)), int(np.floor((y1 + g - n_min) / g))
+                for ix in range(ix0, ix1 + 1):
+                    for iy in range(iy0, iy1 + 1):
+                        cells.setdefault((ix << 32) + iy, []).append(idx)
+            grid = (g, e_min, n_min, {key: np.array(v) for key, v in cells.items()})
+        self._arrays["_grid"] = (grid,)  # type: ignore[assignment]
+        return grid
+
+    def _locate_sel(self, n: NDArray[np.float64], e: NDArray[np.float64], sel: NDArray[np.int64]) -> NDArray[np.float64]:
+        """Nearest of the elements ``sel`` for each point: rows station, offset, distance."""
         a = self._arrays
-        k = a["k"]
-        length = a["length"]
-        n0, e0 = a["n0"][None, :], a["e0"][None, :]
-        sa, ca = sincosd(a["az0"])
+        nel = len(self.elements)
+        k = a["k"][sel]
+        length = a["length"][sel]
+        az0 = a["az0"][sel]
+        n0, e0 = a["n0"][sel][None, :], a["e0"][sel][None, :]
+        sa, ca = sincosd(az0)
         dn = n[:, None] - n0
         de = e[:, None] - e0
         is_arc = k != 0.0
-        # lines: along and across in the element's frame
+        # lines: along the element's direction
         along = de * sa + dn * ca
-        lo = np.zeros_like(length)
-        hi = length.copy()
-        if not is_arc[0]:
-            lo[0] = -np.inf
-        if not is_arc[-1]:
-            hi[-1] = np.inf
+        lo = np.where((sel == 0) & ~is_arc, -np.inf, 0.0)
+        hi = np.where((sel == nel - 1) & ~is_arc, np.inf, length)
         # arcs: angle swept from the start radius, about the centre
         r = np.where(is_arc, 1.0 / np.abs(np.where(is_arc, k, 1.0)), 0.0)
         turn = np.sign(k)
         # centre = start + turn * R * right normal; right normal (E, N) = (cos, -sin)
-        c_e = a["e0"] + turn * r * ca
-        c_n = a["n0"] - turn * r * sa
-        vn = n[:, None] - c_n[None, :]
-        ve = e[:, None] - c_e[None, :]
-        rho = np.hypot(vn, ve)
-        phi = np.degrees(np.arctan2(ve, vn))
-        start_radial = a["az0"] - 90.0 * turn  # direction centre -> start
+        c_e = a["e0"][sel] + turn * r * ca
+        c_n = a["n0"][sel] - turn * r * sa
+        phi = np.degrees(np.arctan2(e[:, None] - c_e[None, :], n[:, None] - c_n[None, :]))
+        start_radial = az0 - 90.0 * turn  # direction centre -> start
         swept_deg = np.where(is_arc, np.degrees(np.abs(k) * length), 0.0)
         u = np.mod((phi - start_radial[None, :]) * turn[None, :], 360.0)
         u = np.mod(u - swept_deg / 2.0 + 180.0, 360.0) - 180.0 + swept_deg / 2.0
-        arc_s = np.radians(u) * r
-        s_loc = np.where(is_arc[None, :], arc_s, along)
+        s_loc = np.where(is_arc[None, :], np.radians(u) * r, along)
         s_c = np.clip(s_loc, lo[None, :], hi[None, :])
         clamped = s_c != s_loc
         # the element's point at s_c and the distance to it
         turn_deg = np.degrees(k[None, :] * s_c)
         chord = s_c * np.sinc(k[None, :] * s_c / (2.0 * np.pi))
-        sm, cm = sincosd(a["az0"][None, :] + turn_deg / 2.0)
+        sm, cm = sincosd(az0[None, :] + turn_deg / 2.0)
         qn = n0 + chord * cm
         qe = e0 + chord * sm
         dist = np.hypot(n[:, None] - qn, e[:, None] - qe)
         best = np.argmin(dist, axis=1)
         rows = np.arange(n.size)
         sb = s_c[rows, best]
-        kb = k[best]
         # signed offset: component on the right normal at the nearest point
-        st, ct = sincosd(a["az0"][best] + np.degrees(kb * sb))
-        ddn = n - qn[rows, best]
-        dde = e - qe[rows, best]
-        across = dde * ct - ddn * st
+        st, ct = sincosd(az0[best] + np.degrees(k[best] * sb))
+        across = (e - qe[rows, best]) * ct - (n - qn[rows, best]) * st
         d = dist[rows, best]
         sign = np.where(across < 0.0, -1.0, 1.0)
         offset = np.where(clamped[rows, best], sign * d, across)
-        return a["start"][best] + sb, offset, d
+        return np.stack([a["start"][sel][best] + sb, offset, d])
