@@ -153,9 +153,13 @@ def sincosd(x: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     q = np.rint(r / 90.0)
     r = np.deg2rad(r - 90.0 * q)
     s, c = np.sin(r), np.cos(r)
-    qi = q.astype(np.int64) & 3
-    sin = np.choose(qi, [s, c, -s, -c]) + 0.0
-    cos = np.choose(qi, [c, -s, -c, s]) + 0.0
+    qi = q.astype(np.int64)
+    odd = (qi & 1).astype(bool)
+    # quadrants 0..3: (s, c), (c, -s), (-s, -c), (-c, s)
+    sin = np.where(odd, c, s)
+    cos = np.where(odd, s, c)
+    sin = np.where(qi & 2, -sin, sin) + 0.0
+    cos = np.where((qi + 1) & 2, -cos, cos) + 0.0
     return sin, cos
 
 

@@ -6,8 +6,6 @@ The CLI only parses options and calls these functions.
 
 from __future__ import annotations
 
-import os
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -199,15 +197,11 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     progress = Progress(len(files) + 1, len(c.stakes))
     progress.step("computed")
     with folder:
-        # Outputs are independent: render them on both cores (numpy releases
-        # the GIL), then write them in a fixed order.
-        with ThreadPoolExecutor(max_workers=min(2, os.cpu_count() or 1)) as pool:
-            futures = {name: pool.submit(_render, name, c) for name in files}
-            for name in files:
-                data = futures[name].result()
-                folder.write_bytes(OUTPUT_FILES[name], data)
-                written[OUTPUT_FILES[name]] = data
-                progress.step(OUTPUT_FILES[name])
+        for name in files:  # per-point CSVs render their chunks on every core
+            data = _render(name, c)
+            folder.write_bytes(OUTPUT_FILES[name], data)
+            written[OUTPUT_FILES[name]] = data
+            progress.step(OUTPUT_FILES[name])
         if "manifest" in names:
             folder.write_bytes("manifest.json", manifest_json(
                 str(job_path), job.sha256, job.info.name, job.info.unit.key, job.info.crs,

@@ -170,3 +170,27 @@ def test_random_bytes(data):
         parse_job(data)
     except StakeoutError:
         pass
+
+
+def test_progress_only_at_a_terminal():
+    import io
+
+    from stakeout.progress import Progress
+
+    class Tty(io.StringIO):
+        def isatty(self):
+            return True
+
+    quiet = io.StringIO()
+    p = Progress(2, 100_000, stream=quiet)
+    p.step("a")
+    p.step("b")
+    assert quiet.getvalue() == ""
+    small = Tty()
+    Progress(2, 10, stream=small).step("a")
+    assert small.getvalue() == ""
+    loud = Tty()
+    p = Progress(2, 100_000, stream=loud)
+    p.step("a")
+    p.step("b")
+    assert "2/2" in loud.getvalue() and loud.getvalue().endswith("\n")

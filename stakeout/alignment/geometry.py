@@ -111,6 +111,7 @@ class Alignment:
             "az0": np.array([e.start_azimuth for e in elements]),
             "k": np.array([0.0 if e.radius is None else e.turn / e.radius for e in elements]),
         }
+        arr["sin0"], arr["cos0"] = sincosd(arr["az0"])
         aps = [kp for kp in key_points if "AP" in kp.features]
         ap_st = np.array([kp.station for kp in aps])
         ap_back = []
@@ -181,13 +182,17 @@ class Alignment:
         idx = np.clip(np.searchsorted(a["start"], s, side="right") - 1, 0, len(a["start"]) - 1)
         ds = s - a["start"][idx]
         k = a["k"][idx]
-        az0 = a["az0"][idx]
-        turn_deg = np.degrees(k * ds)
-        # chord = 2 sin(k ds / 2) / k, written with sinc so lines (k = 0) fit too
-        chord = ds * np.sinc(k * ds / (2.0 * np.pi))
-        sm, cm = sincosd(az0 + turn_deg / 2.0)
-        az = az0 + turn_deg
-        st, ct = sincosd(az)
+        half = 0.5 * k * ds  # half the turn from the element's start, radians
+        sh, ch = np.sin(half), np.cos(half)
+        # chord = 2 sin(half) / k, and just ds on lines (k = 0)
+        chord = np.where(k == 0.0, ds, 2.0 * sh / np.where(k == 0.0, 1.0, k))
+        # directions by angle addition from the element's exact start direction
+        # (sincosd, exact at multiples of 90), so a line keeps it exactly
+        s0, c0 = a["sin0"][idx], a["cos0"][idx]
+        sm, cm = s0 * ch + c0 * sh, c0 * ch - s0 * sh  # at the chord: start + half
+        s2, c2 = 2.0 * sh * ch, 1.0 - 2.0 * sh * sh  # the whole turn
+        st, ct = s0 * c2 + c0 * s2, c0 * c2 - s0 * s2
+        az = a["az0"][idx] + np.degrees(2.0 * half)
         north = a["n0"][idx] + chord * cm - o * st
         east = a["e0"][idx] + chord * sm + o * ct
         if miter and a["ap_station"].size:

@@ -1,0 +1,196 @@
+"""stakeout benchmark: prints a table and JSON of the figures DEVELOPERS.md records.
+
+    python benchmarks/run.py [--quick]
+
+It generates its own invented corridor jobs in a temporary folder and
+measures, on this machine:
+
+- engine throughput: station/offset -> N, E, azimuth (points/s), for 1M
+  points in station order (as staking asks for them) and, for comparison, in
+  random order (slower: every lookup and gather misses the cache);
+- inverse throughput: shots -> station, offset against a 200-element alignment (shots/s);
+- whole-process `stakeout build --only points,stations,setout` at 25k and
+  250k points (microseconds a point, and how cost grows), beside a plain
+  per-point Python program writing the same files (benchmarks/plain_loop.py);
+- DXF: stakeout's plan.dxf against ezdxf's own time to add and save the same entities;
+- CLI start-up: `stakeout --help` against `python -c "import numpy"`;
+- peak memory of a 1,000,000-point CSV build.
+
+Nothing here is a test: speed is measured, never asserted.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import os
+import platform
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numpy as np
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent))
+sys.path.insert(0, str(HERE))
+
+from corridor import corridor_job  # noqa: E402
+
+PY = sys.executable
+STAKEOUT = [PY, "-m", "stakeout.cli"]
+
+
+def _run(cmd: list[str]) -> tuple[float, int]:
+    """Wall time (s) and peak RSS (KiB) of one child process."""
+    t = time.perf_counter()
+    p = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    _, status, usage = os.wait4(p.pid, 0)
+    wall = time.perf_counter() - t
+    if os.waitstatus_to_exitcode(status) != 0:
+        raise SystemExit(f"benchmark command failed: {' '.join(cmd)}")
+    return wall, int(usage.ru_maxrss)
+
+
+def _best(cmd: list[str], repeat: int) -> tuple[float, int]:
+    runs = [_run(cmd) for _ in range(repeat)]
+    return min(r[0] for r in runs), max(r[1] for r in runs)
+
+
+def engine_and_inverse(tmp: Path) -> dict[str, float]:
+    from stakeout.alignment import build_alignment
+    from stakeout.jobfile import load_job
+
+    a = build_alignment(load_job(corridor_job(tmp / "eng.toml", 250_000)).alignment)
+    rng = np.random.default_rng(1)
+    s = rng.uniform(a.start_station, a.end_station, 1_000_000)
+    o = rng.uniform(-10, 10, s.size)
+    a.evaluate(s[:1000], o[:1000])
+    t = time.perf_counter()
+    n, e, _ = a.evaluate(s, o)
+    eng_random = s.size / (time.perf_counter() - t)
+    order = np.argsort(s)  # station order, as the staking plan asks
+    s_sorted, o_sorted = s[order], o[order]
+    t = time.perf_counter()
+    a.evaluate(s_sorted, o_sorted)
+    eng = s.size / (time.perf_counter() - t)
+    shots = 500_000
+    a.locate(n[:100], e[:100])  # builds the element grid once
+    t = time.perf_counter()
+    a.locate(n[:shots], e[:shots])
+    inv = shots / (time.perf_counter() - t)
+    return {"engine_points_per_s": eng, "engine_random_order_points_per_s": eng_random,
+            "inverse_shots_per_s": inv, "inverse_elements": len(a.elements)}
+
+
+def whole_process(tmp: Path, repeat: int) -> dict[str, float]:
+    out: dict[str, float] = {}
+    for pts in (25_000, 250_000):
+        job = corridor_job(tmp / f"c{pts}.toml", pts)
+        from stakeout.jobfile import load_job
+        from stakeout.pipeline import compute
+
+        real = len(compute(load_job(job)).stakes)
+        wall, _ = _best([*STAKEOUT, "build", str(job), "--out", str(tmp / f"o{pts}"), "--force",
+                         "--only", "points,stations,setout"], repeat)
+        out[f"build_{pts // 1000}k_us_per_point"] = wall / real * 1e6
+        out[f"build_{pts // 1000}k_points"] = real
+        if pts == 250_000:
+            plain, _ = _best([PY, str(HERE / "plain_loop.py"), str(job), str(tmp / "plain")], 1)
+            out["plain_python_250k_us_per_point"] = plain / real * 1e6
+            out["speedup_vs_plain_python"] = plain / wall
+    out["growth_25k_to_250k"] = out["build_250k_us_per_point"] / out["build_25k_us_per_point"]
+    return out
+
+
+def dxf(tmp: Path) -> dict[str, float]:
+    import ezdxf
+
+    from stakeout.jobfile import load_job
+    from stakeout.pipeline import compute
+    from stakeout.writers.dxf import plan_dxf
+
+    c = compute(load_job(corridor_job(tmp / "dxf.toml", 20_000, interval=2.0)))
+    t = time.perf_counter()
+    data = plan_dxf(c)
+    ours = time.perf_counter() - t
+    src = ezdxf.read(io.StringIO(data.decode()))
+    ents = list(src.modelspace())
+    t = time.perf_counter()
+    doc = ezdxf.new("R2013", setup=False)
+    msp = doc.modelspace()
+    for en in ents:  # the same entities, added with ezdxf's own calls
+        kind = en.dxftype()
+        if kind == "LINE":
+            msp.add_line(en.dxf.start, en.dxf.end)
+        elif kind == "ARC":
+            msp.add_arc(en.dxf.center, en.dxf.radius, en.dxf.start_angle, en.dxf.end_angle)
+        elif kind == "CIRCLE":
+            msp.add_circle(en.dxf.center, en.dxf.radius)
+        elif kind == "POINT":
+            msp.add_point(en.dxf.location)
+        elif kind == "TEXT":
+            msp.add_text(en.dxf.text, height=en.dxf.height, rotation=en.dxf.rotation).set_placement(en.dxf.insert)
+    doc.write(io.StringIO())
+    raw = time.perf_counter() - t
+    return {"dxf_entities": len(ents), "dxf_stakeout_s": ours, "dxf_ezdxf_own_s": raw, "dxf_ratio": ours / raw}
+
+
+def startup(repeat: int) -> dict[str, float]:
+    def med(cmd):
+        return statistics.median(_run(cmd)[0] for _ in range(repeat))
+
+    helpt = med([*STAKEOUT, "--help"])
+    nump = med([PY, "-c", "import numpy"])
+    return {"help_s": helpt, "import_numpy_s": nump, "help_minus_numpy_s": helpt - nump}
+
+
+def memory(tmp: Path) -> dict[str, float]:
+    job = corridor_job(tmp / "c1m.toml", 1_000_000)
+    wall, rss = _run([*STAKEOUT, "build", str(job), "--out", str(tmp / "o1m"), "--force",
+                      "--only", "points,stations,setout"])
+    return {"build_1m_s": wall, "build_1m_peak_mib": rss / 1024}
+
+
+TARGETS = {
+    "engine_points_per_s": (">=", 2e6),
+    "inverse_shots_per_s": (">=", 5e5),
+    "build_250k_us_per_point": ("<=", 6.0),
+    "speedup_vs_plain_python": (">=", 3.0),
+    "growth_25k_to_250k": ("<=", 1.0),
+    "dxf_ratio": ("<=", 1.3),
+    "help_minus_numpy_s": ("<=", 0.3),
+    "build_1m_peak_mib": ("<=", 1024),
+}
+
+
+def main() -> None:
+    quick = "--quick" in sys.argv
+    repeat = 1 if quick else 3
+    with tempfile.TemporaryDirectory(prefix="stakeout-bench-") as d:
+        tmp = Path(d)
+        res: dict[str, float] = {}
+        res.update(engine_and_inverse(tmp))
+        res.update(whole_process(tmp, repeat))
+        res.update(dxf(tmp))
+        res.update(startup(3 if quick else 7))
+        if not quick:
+            res.update(memory(tmp))
+    print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}, "
+          f"numpy {np.__version__}")
+    print(f"{'figure':<34} {'value':>14}  target")
+    for k, v in res.items():
+        tgt = TARGETS.get(k)
+        mark = ""
+        if tgt:
+            ok = v >= tgt[1] if tgt[0] == ">=" else v <= tgt[1]
+            mark = f"{tgt[0]} {tgt[1]:g}  {'met' if ok else 'NOT MET'}"
+        print(f"{k:<34} {v:>14.4g}  {mark}")
+    print(json.dumps({"machine": platform.machine(), "cores": os.cpu_count(), "results": res}, indent=2))
+
+
+if __name__ == "__main__":
+    main()
