@@ -248,8 +248,11 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     unit = job.info.unit
     design = plan_stakes(alignment, job.staking, job.info.station_length, unit.station_decimals)
     elev = None if job.staking.elevation is None else np.full(len(design), job.staking.elevation)
+    progress = Progress(3, max(len(shots), len(design)))
+    progress.step("design computed")
     result = check_shots(alignment, design, elev, shots, spec.horizontal_tolerance, spec.vertical_tolerance,
                          spec.search_radius)
+    progress.step("shots checked")
 
     def label(v: float) -> str:
         return str(format_station(v, job.info.station_length, unit.station_decimals)) if np.isfinite(v) else ""
@@ -258,6 +261,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
         folder.write_bytes("check.csv", check_csv(shots, design, result).encode("utf-8"))
         folder.write_bytes("check.txt", check_txt(job, str(staked), shots, design, result, label).encode("utf-8"))
         folder.commit()
+    progress.step("check.csv, check.txt")
     c = result.counts()
     notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in c.items()) + f"; wrote {out}"]
     return result.all_ok, notes
