@@ -235,11 +235,11 @@ def plan_png(dxf_bytes: bytes) -> bytes:
     from ezdxf.addons.drawing.matplotlib import MatplotlibBackend
 
     doc = ezdxf.read(io.StringIO(dxf_bytes.decode("utf-8")))
-    fig = plt.figure(figsize=(11, 8.5), dpi=120)
+    fig = plt.figure(figsize=(11, 8.5), dpi=200)
     ax = fig.add_axes((0, 0, 1, 1))
     cfg = Configuration(background_policy=BackgroundPolicy.WHITE)
     Frontend(RenderContext(doc), MatplotlibBackend(ax), config=cfg).draw_layout(doc.modelspace(), finalize=True)
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=120, metadata={"Software": None})
+    fig.savefig(buf, format="png", dpi=200, metadata={"Software": None})
     plt.close(fig)
     return buf.getvalue()

@@ -116,10 +116,10 @@ def setout_sheet(job: Job, alignment: Alignment, stakes: StakePoints, so: Setout
         head.append(f"target height {setup.target_height:.3f}")
     sd = unit.station_decimals
     with_zenith = so.zenith is not None and so.slope_distance is not None
-    cols = f"{'point':<10} {'station':>11} {'offset':>9} {'code':<6} {'angle right':>12} {'grid dist':>11} " \
-           f"{'ground dist':>11}"
+    cols = (f"{'point':<10} {'station':>11} {'offset':>8} {'code':<6} {'feature':<7} {'ang right':>10} "
+            f"{'grid dist':>10} {'grnd dist':>10}")
     if with_zenith:
-        cols += f" {'zenith':>11} {'slope dist':>11}"
+        cols += f" {'zenith':>9} {'slope dist':>10}"
     angles = format_azimuth_dms(so.angle_right, 0)
     offs = fixed(stakes.offset, sd)
     grid = fixed(so.grid_distance, 3)
@@ -128,11 +128,11 @@ def setout_sheet(job: Job, alignment: Alignment, stakes: StakePoints, so: Setout
     zen = format_dms(so.zenith, 0) if with_zenith else None
     slope = fixed(so.slope_distance, 3) if with_zenith else None
     for i in range(len(stakes)):
-        row = (f"{stakes.point[i]:<10} {stakes.station_label[i]:>11} {offs[i]:>9} {stakes.code[i]:<6} "
-               f"{angles[i]:>12} {grid[i]:>11} {ground[i]:>11}")
+        row = (f"{stakes.point[i]:<10} {stakes.station_label[i]:>11} {offs[i]:>8} {stakes.code[i]:<6} "
+               f"{stakes.feature[i]:<7} {angles[i]:>10} {grid[i]:>10} {ground[i]:>10}")
         if zen is not None and slope is not None:
-            row += f" {zen[i]:>11} {slope[i]:>11}"
-        rows.append(row)
+            row += f" {zen[i]:>9} {slope[i]:>10}"
+        rows.append(row.rstrip())
     foot = [f"{len(stakes)} points; angles to 1 second, distances in {unit.label}s"]
     return _paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
 
