@@ -26,3 +26,22 @@ def arc_end_by_rotation(n0, e0, az0_deg, radius, delta_deg, turn):
     rot = complex(math.cos(-turn * math.radians(delta_deg)), math.sin(-turn * math.radians(delta_deg)))
     p1 = centre + (p0 - centre) * rot
     return p1.imag, p1.real, centre.imag, centre.real
+
+
+def build_job(job, out: Path, *extra: str) -> Path:
+    """Run `stakeout build` in-process and insist that it succeeds."""
+    from typer.testing import CliRunner
+
+    from stakeout.cli import app
+
+    r = CliRunner().invoke(app, ["build", str(job), "--out", str(out), *extra])
+    assert r.exit_code == 0, r.output
+    return out
+
+
+def read_rows(path: Path) -> list[dict]:
+    """A CSV file as dictionaries keyed by its header."""
+    import csv
+
+    with open(path, newline="") as fh:
+        return list(csv.DictReader(fh))

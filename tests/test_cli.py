@@ -1,6 +1,5 @@
 """The command line on the sample jobs (typer's CliRunner and real processes)."""
 
-import csv
 import hashlib
 import os
 import subprocess
@@ -12,7 +11,7 @@ from typer.testing import CliRunner
 
 from stakeout.cli import app
 
-from .helpers import SAMPLES
+from .helpers import SAMPLES, build_job, read_rows
 
 runner = CliRunner()
 SAMPLE_FILES = sorted(SAMPLES.glob("*.toml"))
@@ -25,14 +24,9 @@ def _digests(folder: Path) -> dict[str, str]:
 
 @pytest.mark.parametrize("job", SAMPLE_FILES, ids=lambda p: p.stem)
 def test_build_samples(job, tmp_path):
-    out = tmp_path / "out"
-    r = runner.invoke(app, ["build", str(job), "--out", str(out)])
-    assert r.exit_code == 0, r.output
-    with open(out / "points.csv", newline="") as fh:
-        rows = list(csv.reader(fh))
-    assert rows[0] == ["point", "northing", "easting", "elevation", "description"]
-    with open(out / "stations.csv", newline="") as fh:
-        st = list(csv.DictReader(fh))
+    out = build_job(job, tmp_path / "out")
+    assert list(read_rows(out / "points.csv")[0]) == ["point", "northing", "easting", "elevation", "description"]
+    st = read_rows(out / "stations.csv")
     assert st[0]["feature"].startswith("POB") and st[-1]["feature"].endswith("POE")
     stations = [float(r["station"]) for r in st]
     assert stations == sorted(stations)

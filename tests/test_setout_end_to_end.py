@@ -1,6 +1,5 @@
 """setout.csv from `stakeout build` against an independent pyproj-based computation."""
 
-import csv
 import json
 import math
 
@@ -11,20 +10,14 @@ from typer.testing import CliRunner
 
 from stakeout.cli import app
 
-from .helpers import SAMPLES
+from .helpers import SAMPLES, build_job, read_rows
 
 runner = CliRunner()
 
 
 def _build(job, tmp_path):
-    out = tmp_path / "o"
-    r = runner.invoke(app, ["build", str(job), "--out", str(out)])
-    assert r.exit_code == 0, r.output
-    with open(out / "setout.csv", newline="") as fh:
-        setout = list(csv.DictReader(fh))
-    with open(out / "stations.csv", newline="") as fh:
-        stations = list(csv.DictReader(fh))
-    return out, setout, stations
+    out = build_job(job, tmp_path / "o")
+    return out, read_rows(out / "setout.csv"), read_rows(out / "stations.csv")
 
 
 def _factors(crs, n, e):
