@@ -35,6 +35,8 @@ OUTPUT_FILES: dict[str, str] = {
     "manifest": "manifest.json",
 }
 _SETOUT_NAMES = ("setout", "sheet")
+#: A default build draws plan.png only up to this many points.
+PREVIEW_MAX_POINTS = 20_000
 
 
 @dataclass
@@ -192,6 +194,10 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         names = [n for n in OUTPUT_FILES if n in chosen]
     folder = OutputFolder(out, force)
     c = compute(job)
+    if chosen is None and "preview" in names and len(c.stakes) > PREVIEW_MAX_POINTS:
+        names.remove("preview")
+        notes.append(f"{len(c.stakes)} points: plan.png skipped (over {PREVIEW_MAX_POINTS:,} points it is not "
+                     "legible; ask for it with --only preview)")
     written: dict[str, bytes] = {}
     files = [n for n in names if n != "manifest"]
     progress = Progress(len(files) + 1, len(c.stakes))

@@ -19,7 +19,10 @@ from .errors import JobFileError
 from .jobfile import Staking
 from .stations import format_station
 
-__all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS"]
+__all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
+
+#: Most points one job may stake (memory stays under a few GB).
+MAX_POINTS = 10_000_000
 
 #: Decimals of stake coordinates, as written to the point file.
 COORDINATE_DECIMALS = 4
@@ -103,6 +106,12 @@ class StakePoints:
 def _stations(alignment: Alignment, staking: Staking) -> tuple[NDArray[np.float64], list[str]]:
     lo, hi = alignment.start_station, alignment.end_station
     step = staking.interval
+    count = (hi - lo) / step * len(staking.offsets)
+    if count > MAX_POINTS:
+        raise JobFileError(
+            f"staking.interval = {step!r}: would stake about {count:,.0f} points on {hi - lo:.1f} units of "
+            f"alignment; the limit is {MAX_POINTS:,} (split the job or widen the interval)"
+        )
     k0 = int(np.ceil(lo / step - 1e-9))
     k1 = int(np.floor(hi / step + 1e-9))
     regular = np.arange(k0, k1 + 1, dtype=np.float64) * step
