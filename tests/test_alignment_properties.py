@@ -223,3 +223,28 @@ def test_grid_inverse_matches_brute_force():
     assert np.allclose(got[2], ref[2], atol=1e-9)
     same = np.abs(got[2] - ref[2]) < 1e-9
     assert np.allclose(got[0][same], ref[0][same], atol=1e-6)
+
+
+@settings(max_examples=150)
+@given(st.floats(0, 360), st.floats(2, 175), st.sampled_from([-1, 1]),
+       st.lists(st.floats(20, 3000), min_size=1, max_size=3), st.data())
+def test_single_pi_curve_properties(back, defl, turn, radii, data):
+    # Form C: the built curve's PI is the given PI and station; the PT lies on the
+    # ahead tangent at T_ahead from the PI (closure against the PI geometry).
+    shares = [data.draw(st.floats(0.1, 1.0)) for _ in radii]
+    deltas = [defl * s / sum(shares) for s in shares]
+    rest = data.draw(st.integers(0, len(radii) - 1))
+    ahead = (back + turn * defl) % 360
+    spec = SinglePISpec("C", 5000.0, 1e6, 2e6, back, ahead, tuple(radii),
+                        tuple(None if i == rest else d for i, d in enumerate(deltas)),
+                        lead_in=data.draw(st.floats(0, 500)), lead_out=data.draw(st.floats(0, 500)))
+    a = build_alignment(spec)
+    (c,) = a.curves
+    assert c.pi_station == pytest.approx(5000.0, abs=1e-9)
+    assert (c.pi_northing, c.pi_easting) == pytest.approx((1e6, 2e6), abs=1e-7)
+    last = a.elements[c.elements[-1]]
+    az = math.radians(ahead)
+    assert last.end_northing == pytest.approx(1e6 + c.tangents.ahead * math.cos(az), abs=1e-6)
+    assert last.end_easting == pytest.approx(2e6 + c.tangents.ahead * math.sin(az), abs=1e-6)
+    assert c.delta == pytest.approx(defl, abs=1e-9)
+    assert {a.elements[i].turn for i in c.elements} == {turn}

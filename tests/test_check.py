@@ -171,3 +171,23 @@ def test_formula_like_shot_ids_are_neutralised(tmp_path):
     r, got = _run(tmp_path, tmp_path / "s.csv")
     assert r.exit_code == 1
     assert got[0]["point"] == "'=1+2" and got[1]["point"] == "a,b"
+
+
+def test_vertical_tolerance(tmp_path):
+    job = tmp_path / "j.toml"
+    job.write_text((SAMPLES / "pi_list_local_ft.toml").read_text()
+                   + "\n[check]\nhorizontal_tolerance = 0.05\nvertical_tolerance = 0.03\n")
+    c = compute(load_job(job))
+    sp = c.stakes
+    rows = [[sp.point[0], f"{sp.northing[0]:.4f}", f"{sp.easting[0]:.4f}", "412.52", ""],
+            [sp.point[1], f"{sp.northing[1]:.4f}", f"{sp.easting[1]:.4f}", "412.45", ""],
+            [sp.point[2], f"{sp.northing[2]:.4f}", f"{sp.easting[2]:.4f}", "", ""]]
+    _write(tmp_path / "s.csv", rows)
+    out = tmp_path / "chk"
+    r = runner.invoke(app, ["check", str(job), str(tmp_path / "s.csv"), "--out", str(out)])
+    got = list(csv.DictReader(open(out / "check.csv")))
+    assert r.exit_code == 1
+    assert [g["status"] for g in got] == ["ok", "out", "ok"]
+    assert float(got[0]["d_elevation"]) == pytest.approx(0.02, abs=1e-9)
+    assert float(got[1]["d_elevation"]) == pytest.approx(-0.05, abs=1e-9)
+    assert got[2]["d_elevation"] == ""
