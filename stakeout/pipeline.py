@@ -223,7 +223,8 @@ def run_curve_report(job_path: str | Path) -> str:
 
     job = load_job(job_path)
     alignment = build_alignment(job.alignment)
-    return curve_report(alignment, job.info.name, job.info.unit, job.info.station_length, job.info.crs)
+    return curve_report(alignment, job.info.name, job.info.unit, job.info.station_length, job.info.crs,
+                        Path(job.path).name, job.sha256)
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,

@@ -90,3 +90,13 @@ def test_byte_identical_across_hash_seeds(tmp_path):
                         "--out", str(out)], check=True, env=env, capture_output=True)
         digests.append(_digests(out))
     assert digests[0] == digests[1] and len(digests[0]) >= 3
+
+
+def test_byte_identical_from_another_folder(tmp_path):
+    # The same job file copied elsewhere gives the same bytes (sheets name the file, not its folder).
+    a = build_job(SAMPLES / "curve_table_ramp.toml", tmp_path / "a")
+    other = tmp_path / "elsewhere"
+    other.mkdir()
+    (other / "curve_table_ramp.toml").write_bytes((SAMPLES / "curve_table_ramp.toml").read_bytes())
+    b = build_job(other / "curve_table_ramp.toml", tmp_path / "b")
+    assert _digests(a) == _digests(b)

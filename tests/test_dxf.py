@@ -67,6 +67,10 @@ def test_readback(sample, insunits, tmp_path):
         assert (bl[0].dxf.start.x, bl[0].dxf.start.y) == pytest.approx((occ.easting, occ.northing), abs=1e-9)
         az = math.degrees(math.atan2(bl[0].dxf.end.x - occ.easting, bl[0].dxf.end.y - occ.northing)) % 360
         assert az == pytest.approx(c.setout.backsight_azimuth, abs=1e-9)
+        radials = msp.query('LINE[layer=="SO-RADIAL"]')
+        assert len(radials) == len(c.stakes)
+        ends = np.array([(ln.dxf.end.x, ln.dxf.end.y) for ln in radials])
+        assert np.allclose(ends, np.column_stack([c.stakes.easting, c.stakes.northing]), atol=1e-9)
         if c.job.setup.backsight is not None:
             assert (bl[0].dxf.end.x, bl[0].dxf.end.y) == pytest.approx(
                 (c.job.setup.backsight.easting, c.job.setup.backsight.northing), abs=1e-9)

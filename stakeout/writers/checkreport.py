@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import numpy as np
 
@@ -54,9 +55,9 @@ def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: 
     unit = job.info.unit
     counts = r.counts()
     out = [f"STAKED-POINT CHECK   {job.info.name}".rstrip(),
-           f"job file     {job.path}",
+           f"job file     {Path(job.path).name}",
            f"             sha256 {job.sha256}",
-           f"staked file  {staked_path}",
+           f"staked file  {Path(staked_path).name}",
            f"units        {unit.label}",
            f"tolerances   horizontal {r.horizontal_tolerance:.4f}   vertical "
            + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None else "not set (not checked)"),

@@ -17,6 +17,7 @@ SO-STATION     7       station ticks and labels (full stations long, others shor
 SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
 SO-CONTROL     5       occupied point (triangle) and backsight point (circle), labelled
 SO-BACKSIGHT   5       the backsight line from the occupied point
+SO-RADIAL      9       light lines from the occupied point to each stake (up to 2,000 stakes; layer off)
 SO-TABLE       7       curve data table and title block text
 =============  ======  ==========================================================
 """
@@ -26,6 +27,7 @@ from __future__ import annotations
 import io
 import math
 from collections import OrderedDict
+from pathlib import Path
 from typing import TYPE_CHECKING
 
 import ezdxf
@@ -50,6 +52,7 @@ LAYERS: dict[str, int] = {
     "SO-KEYPOINT": 1,
     "SO-CONTROL": 5,
     "SO-BACKSIGHT": 5,
+    "SO-RADIAL": 9,
     "SO-TABLE": 7,
 }
 
@@ -57,6 +60,9 @@ LAYERS: dict[str, int] = {
 INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 
 TEXT_STYLE = "SO-TEXT"
+
+#: Radial lines from the occupied point are drawn for jobs up to this many stakes.
+RADIAL_MAX_STAKES = 2000
 
 
 def dxf_angle(azimuth_deg: float) -> float:
@@ -113,6 +119,7 @@ def _build(c: "Computed"):
     doc.styles.add(TEXT_STYLE, font="txt")
     for name, colour in LAYERS.items():
         doc.layers.add(name, color=colour)
+    doc.layers.get("SO-RADIAL").off()  # there for whoever wants it; off so it hides nothing
     msp = doc.modelspace()
     x0, y0, x1, y1 = _extent(c)
     size = max(x1 - x0, y1 - y0, 1.0)
@@ -172,9 +179,13 @@ def _build(c: "Computed"):
             end = (occ.easting + length * float(s), occ.northing + length * float(co))
             _text(msp, "backsight direction", end[0] + h, end[1], h, "SO-CONTROL")
         msp.add_line((occ.easting, occ.northing), end, dxfattribs={"layer": "SO-BACKSIGHT"})
+        if len(sp) <= RADIAL_MAX_STAKES:
+            for e, n in zip(sp.easting.tolist(), sp.northing.tolist()):
+                msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
     # title block and curve table, above the top-left corner of the job
-    lines = [f"{job.info.name}", f"alignment {a.name}   units {unit.label}",
+    lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
+             f"alignment {a.name}   units {unit.label}",
              f"CRS {c.crs_label or 'none: local grid'}", ""]
     lines.append("CURVE DATA")
     for cv in a.curves:

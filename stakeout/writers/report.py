@@ -17,11 +17,13 @@ def _st(value: float, station_length: int, unit: Unit) -> str:
 
 
 def curve_report(alignment: Alignment, job_name: str, unit: Unit, station_length: int,
-                 crs: str | None) -> str:
+                 crs: str | None, job_file: str = "", job_sha256: str = "") -> str:
     """Render the readable curve report as text (at most 100 columns)."""
     st = lambda v: _st(v, station_length, unit)  # noqa: E731
     out: list[str] = []
     out.append(f"CURVE REPORT  {job_name}".rstrip())
+    if job_file:
+        out.append(f"job file {job_file}   sha256 {job_sha256[:16]}...")
     out.append(f"alignment {alignment.name}   units: {unit.label}   CRS: {crs or 'local grid (none given)'}")
     out.append(f"from {st(alignment.start_station)} to {st(alignment.end_station)}, "
                f"length {alignment.length:.4f} {unit.symbol}")

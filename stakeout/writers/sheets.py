@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 
@@ -42,7 +43,7 @@ class SheetHeader:
         unit = self.job.info.unit
         return [
             f"{self.title}   {self.job.info.name}".rstrip(),
-            f"job file  {self.job.path}",
+            f"job file  {Path(self.job.path).name}",
             f"          sha256 {self.job.sha256}",
             f"alignment {self.alignment_name}   units {unit.label}",
             f"CRS       {self.crs_label or 'none: local grid'}",
