@@ -45,6 +45,8 @@ class Unit:
         Decimals in a station label (2 for feet, 3 for metres).
     symbol : str
         Short symbol printed after numbers on sheets.
+    plural : str
+        The unit's plural name, for "distances in ..." on sheets.
     """
 
     key: str
@@ -53,6 +55,7 @@ class Unit:
     station_length: float
     station_decimals: int
     symbol: str
+    plural: str
 
     def to_metres(self, value: float) -> float:
         """Convert a length in this unit to metres."""
@@ -69,9 +72,9 @@ class Unit:
 
 
 UNITS: dict[str, Unit] = {
-    "m": Unit("m", METRE, "metre", 1000.0, 3, "m"),
-    "ft": Unit("ft", INTERNATIONAL_FOOT, "international foot (0.3048 m)", 100.0, 2, "ft"),
-    "us_ft": Unit("us_ft", US_SURVEY_FOOT, "US survey foot (1200/3937 m)", 100.0, 2, "sft"),
+    "m": Unit("m", METRE, "metre", 1000.0, 3, "m", "metres"),
+    "ft": Unit("ft", INTERNATIONAL_FOOT, "international foot (0.3048 m)", 100.0, 2, "ft", "international feet"),
+    "us_ft": Unit("us_ft", US_SURVEY_FOOT, "US survey foot (1200/3937 m)", 100.0, 2, "sft", "US survey feet"),
 }
 
 

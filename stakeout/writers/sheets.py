@@ -24,7 +24,7 @@ from ..stations import format_station
 from .cautions import CAUTION_LINES
 from .numbers import fixed
 
-__all__ = ["ROWS_PER_PAGE", "SheetHeader", "setout_sheet", "deflection_sheet", "deflection_rows"]
+__all__ = ["ROWS_PER_PAGE", "SheetHeader", "curve_lines", "setout_sheet", "deflection_sheet", "deflection_rows"]
 
 ROWS_PER_PAGE = 50
 WIDTH = 100
@@ -48,6 +48,38 @@ class SheetHeader:
             f"alignment {self.alignment_name}   units {unit.label}",
             f"CRS       {self.crs_label or 'none: local grid'}",
         ]
+
+
+def curve_lines(alignment: Alignment, station_length: int, decimals: int) -> list[str]:
+    """Curve data for the foot of a sheet: per curve its PI and whole tangents
+    (T_A / T_B named by side for two-centred curves), then one line per arc."""
+    def st(v: float) -> str:
+        return str(format_station(v, station_length, decimals))
+
+    out = ["CURVE DATA"]
+    if not alignment.curves:
+        out.append("  (no curves)")
+    for c in alignment.curves:
+        t = c.tangents
+        head = f"  curve {c.number}  {'right' if c.turn > 0 else 'left'}  I {format_dms(c.delta, 1)}"
+        if c.pi_station is None or t is None:
+            out.append(head + "  (I of 180 deg or more: no PI)")
+        else:
+            out.append(head + f"  PI {st(c.pi_station)}  N {c.pi_northing:.4f}  E {c.pi_easting:.4f}")
+            radii = [alignment.elements[i].radius or 0.0 for i in c.elements]
+            side_b = side_a = ""
+            if t.t_a_side == "back":
+                side_b, side_a = f" = T_A (R1 {max(radii):.4f} side)", f" = T_B (R2 {min(radii):.4f} side)"
+            elif t.t_a_side == "ahead":
+                side_b, side_a = f" = T_B (R2 {min(radii):.4f} side)", f" = T_A (R1 {max(radii):.4f} side)"
+            out.append(f"    tangent PI to start (back)  {t.back:.4f}{side_b}")
+            out.append(f"    tangent PI to end (ahead)   {t.ahead:.4f}{side_a}")
+        for k, i in enumerate(c.elements, start=1):
+            el = alignment.elements[i]
+            assert el.arc is not None
+            out.append(f"    arc {k}  {st(el.start_station)} to {st(el.end_station)}  R {el.arc.radius:.4f}  "
+                       f"delta {format_dms(el.arc.delta, 1)}  L {el.arc.length:.4f}  chord {el.arc.chord:.4f}")
+    return out
 
 
 def _paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str]) -> str:
@@ -134,7 +166,8 @@ def setout_sheet(job: Job, alignment: Alignment, stakes: StakePoints, so: Setout
         if zen is not None and slope is not None:
             row += f" {zen[i]:>9} {slope[i]:>10}"
         rows.append(row.rstrip())
-    foot = [f"{len(stakes)} points; angles to 1 second, distances in {unit.label}s"]
+    foot = [f"{len(stakes)} points; angles to 1 second, distances in {unit.plural}", ""]
+    foot += curve_lines(alignment, job.info.station_length, sd)
     return _paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
 
 
@@ -185,5 +218,6 @@ def deflection_sheet(job: Job, alignment: Alignment, stations: np.ndarray, crs_l
                         f"{chord:17.4f} {inc:16.4f}")
     if not rows:
         rows.append("(the alignment has no curves)")
-    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R)"]
+    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R)", ""]
+    foot += curve_lines(alignment, sl, sd)
     return _paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
