@@ -13,7 +13,6 @@ from __future__ import annotations
 import csv
 import io
 import math
-import re
 from dataclasses import dataclass
 from pathlib import Path
 

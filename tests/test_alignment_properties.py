@@ -6,9 +6,9 @@ import math
 import numpy as np
 import pytest
 import shapely
-from hypothesis import HealthCheck, assume, given, settings
+from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from shapely.geometry import LineString, Point
+from shapely.geometry import LineString
 
 from stakeout.alignment import (
     ArcSpec,
@@ -122,7 +122,6 @@ def test_round_trip_and_monotone(spec, data):
 @st.composite
 def chains(draw):
     els = []
-    total_turn = 0.0
     for _ in range(draw(st.integers(1, 6))):
         if draw(st.booleans()):
             els.append(LineSpec(draw(st.floats(1, 500))))
@@ -194,7 +193,6 @@ def test_inverse_against_shapely(sample):
     rng = np.random.default_rng(7)
     s = rng.uniform(a.start_station + 1, a.end_station - 1, 300)
     o = rng.uniform(-20, 20, 300)
-    ap = np.array([k.station for k in a.key_points if "AP" in k.features])
     n, e, _ = a.evaluate(s, o)
     st_, off, dist = a.locate(n, e)
     pts = shapely.points(e, n)

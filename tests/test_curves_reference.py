@@ -3,9 +3,7 @@ independent construction with shapely."""
 
 import math
 
-import numpy as np
 import pytest
-import shapely
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString

@@ -8,7 +8,6 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
-from stakeout.alignment import ArcSpec, ChainSpec, LineSpec, build_alignment
 from stakeout.cli import app
 from stakeout.jobfile import load_job
 from stakeout.pipeline import compute

@@ -1,10 +1,7 @@
 """No half-written outputs, atomic --force, and a fuzzed job-file loader."""
 
 import json
-import math
-import os
 
-import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from typer.testing import CliRunner

@@ -3,7 +3,6 @@
 import json
 import math
 
-import numpy as np
 import pyproj
 import pytest
 from typer.testing import CliRunner

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from ..angles import angle_difference, normalize_azimuth, sincosd
+from ..angles import normalize_azimuth, sincosd
 from ..errors import GeometryError
 from .curves import ArcProperties, CompoundTangents
 

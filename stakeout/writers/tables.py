@@ -15,18 +15,16 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..alignment import Alignment, degree_of_curve_arc
-from ..angles import format_azimuth_dms, format_dms
+from ..angles import format_dms
 from ..setout import Setout
 from ..staking import StakePoints
-from ..stations import format_station
 from ..units import Unit
 from . import rows
-from .numbers import fixed, fixed_or_empty, rounded
+from .numbers import fixed, fixed_or_empty
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
     "SETOUT_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv", "curves_csv", "setout_csv",
-    "descriptions",
 ]
 
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
@@ -51,12 +49,6 @@ def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
     """Join a header and already formatted lines into CSV text."""
     body = "\n".join(lines)
     return ",".join(header) + "\n" + (body + "\n" if body else "")
-
-
-def descriptions(sp: StakePoints, unit: Unit) -> list[str]:
-    """``CODE STATION OFFSET`` per point, e.g. ``CL 12+50.00 0.00``."""
-    offs = fixed(sp.offset, unit.station_decimals)
-    return [f"{c} {s} {o}" for c, s, o in zip(sp.code, sp.station_label, offs)]
 
 
 _CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cache and are reused
@@ -182,12 +174,6 @@ def curves_csv(alignment: Alignment, unit: Unit) -> str:
             ]
             rows.append(",".join(fields))
     return csv_text(CURVES_COLUMNS, rows)
-
-
-def station_labels(values: np.ndarray, station_length: int, unit: Unit) -> list[str]:
-    """Station labels with the unit's decimals."""
-    out = format_station(values, station_length, unit.station_decimals)
-    return out if isinstance(out, list) else [out]
 
 
 SETOUT_COLUMNS = ("point", "station", "offset", "azimuth_deg", "azimuth_dms", "angle_right_deg",
