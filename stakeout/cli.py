@@ -7,7 +7,6 @@ shows one); 3 an internal error (a bug: please report it); 130 interrupted.
 
 from __future__ import annotations
 
-import sys
 from typing import Callable, Optional, TypeVar
 
 import typer
@@ -102,4 +101,4 @@ def main() -> None:
 
 
 if __name__ == "__main__":  # pragma: no cover
-    sys.exit(main())
+    main()

@@ -67,6 +67,8 @@ class GridCRS:
         self._to_geo = pyproj.Transformer.from_crs(crs, crs.geodetic_crs, always_xy=True)
         self._proj = pyproj.Proj(crs)
         ell = crs.ellipsoid
+        if ell is None:
+            raise CRSError(f"{text!r}: the CRS names no ellipsoid")
         self._a = float(ell.semi_major_metre)
         inv_f = float(ell.inverse_flattening)
         f = 0.0 if inv_f == 0 else 1.0 / inv_f

@@ -92,7 +92,7 @@ def _finish(name: str, elements: list[Element]) -> Alignment:
         prev, cur = elements[i - 1], elements[i]
         where = (cur.start_station, cur.start_northing, cur.start_easting)
         if prev.kind == "line" and cur.kind == "line":
-            if abs(angle_difference(prev.end_azimuth, cur.start_azimuth)) > _ANGLE_EPS:
+            if abs(float(angle_difference(prev.end_azimuth, cur.start_azimuth))) > _ANGLE_EPS:
                 add(i, "AP", *where)
         elif prev.kind == "line":
             add(i, "PC", *where)

@@ -198,11 +198,11 @@ def _build(c: "Computed"):
         lines.append(head)
         for k, i in enumerate(cv.elements, start=1):
             el = a.elements[i]
-            p = el.arc
-            assert p is not None
-            tan = f"{p.tangent:.4f}" if p.tangent is not None else "-"
-            lines.append(f"  arc {k}: R {p.radius:.4f}  delta {format_dms(p.delta, 1)}  L {p.length:.4f}  "
-                         f"T {tan}  chord {p.chord:.4f}")
+            props = el.arc
+            assert props is not None
+            tan = f"{props.tangent:.4f}" if props.tangent is not None else "-"
+            lines.append(f"  arc {k}: R {props.radius:.4f}  delta {format_dms(props.delta, 1)}  "
+                         f"L {props.length:.4f}  T {tan}  chord {props.chord:.4f}")
     lines.append("")
     lines.extend(CAUTION_LINES)
     y = y1 + (len(lines) + 2) * 1.6 * h

@@ -158,8 +158,8 @@ def setout_sheet(job: Job, alignment: Alignment, stakes: StakePoints, so: Setout
     grid = fixed(so.grid_distance, 3)
     ground = fixed(so.ground_distance, 3)
     rows = []
-    zen = format_dms(so.zenith, 0) if with_zenith else None
-    slope = fixed(so.slope_distance, 3) if with_zenith else None
+    zen = format_dms(so.zenith, 0) if so.zenith is not None else None
+    slope = fixed(so.slope_distance, 3) if so.slope_distance is not None else None
     for i in range(len(stakes)):
         row = (f"{stakes.point[i]:<10} {stakes.station_label[i]:>11} {offs[i]:>8} {stakes.code[i]:<6} "
                f"{stakes.feature[i]:<7} {angles[i]:>10} {grid[i]:>10} {ground[i]:>10}")
@@ -211,7 +211,7 @@ def deflection_sheet(job: Job, alignment: Alignment, stations: np.ndarray, crs_l
         kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
         start_name = kp.get(round(el.start_station, 6), "")
         rows.append(f"curve {curve_no}, arc from {start_name} {format_station(el.start_station, sl, sd)}: "
-                    f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect "
+                    f"R {el.radius:.4f}, delta {format_dms(el.delta or 0.0, 1)}, deflect "
                     f"{'right' if el.turn > 0 else 'left'}")
         for st, arc, defl, chord, inc in data:
             rows.append(f"{format_station(st, sl, sd):>11} {arc:15.4f} {format_dms(defl, 0):>12} "

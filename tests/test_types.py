@@ -1,0 +1,15 @@
+"""The package type-checks (house style: full type hints, a type checker in CI)."""
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def test_mypy_clean():
+    pytest.importorskip("mypy")
+    r = subprocess.run([sys.executable, "-m", "mypy", "stakeout"], cwd=ROOT, capture_output=True, text=True)
+    assert r.returncode == 0, r.stdout + r.stderr
