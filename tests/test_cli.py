@@ -100,3 +100,8 @@ def test_byte_identical_from_another_folder(tmp_path):
     (other / "curve_table_ramp.toml").write_bytes((SAMPLES / "curve_table_ramp.toml").read_bytes())
     b = build_job(other / "curve_table_ramp.toml", tmp_path / "b")
     assert _digests(a) == _digests(b)
+
+
+def test_python_dash_m():
+    r = subprocess.run([sys.executable, "-m", "stakeout", "--help"], capture_output=True, text=True)
+    assert r.returncode == 0 and "build" in r.stdout and "check" in r.stdout
