@@ -192,7 +192,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
                 if n in _SETOUT_NAMES:
                     raise JobFileError(f"--only {n}: the job has no [setup], so there is no setout to write")
         names = [n for n in OUTPUT_FILES if n in chosen]
-    folder = OutputFolder(out, force)
+    folder = OutputFolder(out, force, protect=(job_path,))
     c = compute(job)
     if chosen is None and "preview" in names and len(c.stakes) > PREVIEW_MAX_POINTS:
         names.remove("preview")
@@ -250,7 +250,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
                            "horizontal_tolerance in job units (it never guesses a tolerance)")
     cols = parse_columns(columns)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
-    folder = OutputFolder(out, force)
+    folder = OutputFolder(out, force, protect=(job_path, staked))
     alignment = build_alignment(job.alignment)
     unit = job.info.unit
     design = plan_stakes(alignment, job.staking, job.info.station_length, unit.station_decimals)

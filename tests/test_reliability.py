@@ -191,3 +191,20 @@ def test_progress_only_at_a_terminal():
     p.step("a")
     p.step("b")
     assert "2/2" in loud.getvalue() and loud.getvalue().endswith("\n")
+
+
+def test_force_never_replaces_a_folder_holding_the_inputs(tmp_path, monkeypatch):
+    job = tmp_path / "job.toml"
+    job.write_bytes(JOB.read_bytes())
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path), "--force"])
+    assert r.exit_code == 2 and "job.toml" in r.output
+    assert job.exists()
+    work = tmp_path / "work"
+    work.mkdir()
+    (work / "keep.txt").write_text("mine")
+    monkeypatch.chdir(work)
+    r = runner.invoke(app, ["build", str(job), "--out", ".", "--force"])
+    assert r.exit_code == 2 and "working folder" in r.output
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path), "--force"])
+    assert r.exit_code == 2
+    assert (work / "keep.txt").read_text() == "mine" and job.exists()

@@ -31,12 +31,27 @@ class OutputFolder:
     temporary folder and leaves the target untouched.
     """
 
-    def __init__(self, target: str | Path, force: bool = False, option: str = "--out"):
+    def __init__(self, target: str | Path, force: bool = False, option: str = "--out",
+                 protect: tuple[str | Path, ...] = ()):
         self.target = Path(target).absolute()
         self.force = force
         self.option = option
         self.tmp: Path | None = None
+        self._check_protected(protect)
         self._check_target()
+
+    def _check_protected(self, protect: tuple[str | Path, ...]) -> None:
+        # --force replaces the whole folder: never one that holds the inputs,
+        # the working folder or the user's home.
+        t = self.target.resolve()
+        keep = [Path(p).absolute().resolve() for p in protect] + [Path.cwd().resolve(), Path.home().resolve()]
+        for p in keep:
+            if p == t or t in p.parents:
+                what = "the working folder" if p == Path.cwd().resolve() else (
+                    "the home folder" if p == Path.home().resolve() else f"{p.name}")
+                raise OutputError(
+                    f"{self.option} {str(self.target)!r}: holds {what}; write the outputs to a folder of their own"
+                )
 
     def _check_target(self) -> None:
         t = self.target
