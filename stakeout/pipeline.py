@@ -51,6 +51,15 @@ class Computed:
     setout: Setout | None = None
     factors: dict[str, Any] = field(default_factory=dict)
     proj_version: str | None = None
+    plan: bytes | None = None  # plan.dxf once drawn: the preview is drawn from it
+
+    def plan_dxf(self) -> bytes:
+        """plan.dxf, drawn once however many outputs need it."""
+        if self.plan is None:
+            from .writers.dxf import plan_dxf
+
+            self.plan = plan_dxf(self)
+        return self.plan
 
 
 def _scale_and_backsight(job: Job, grid: Any) -> tuple[ScaleInfo, float]:
@@ -153,13 +162,11 @@ def _render(name: str, c: Computed) -> bytes:
     elif name == "deflections":
         text = sheets.deflection_sheet(c.job, c.alignment, c.stakes.stations, c.crs_label)
     elif name == "dxf":
-        from .writers.dxf import plan_dxf
-
-        return plan_dxf(c)
+        return c.plan_dxf()
     elif name == "preview":
-        from .writers.dxf import plan_dxf, plan_png
+        from .writers.dxf import plan_png
 
-        return plan_png(plan_dxf(c))
+        return plan_png(c.plan_dxf())
     else:  # pragma: no cover - names are checked by parse_only
         raise OutputError(f"--only {name}: unknown output")
     return text if isinstance(text, bytes) else text.encode("utf-8")
