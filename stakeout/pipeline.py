@@ -258,9 +258,8 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     cols = parse_columns(columns)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=(job_path, staked))
-    alignment = build_alignment(job.alignment)
-    unit = job.info.unit
-    design = plan_stakes(alignment, job.staking, job.info.station_length, unit.station_decimals)
+    c = compute(job)
+    alignment, design, unit = c.alignment, c.stakes, job.info.unit
     elev = None if job.staking.elevation is None else np.full(len(design), job.staking.elevation)
     progress = Progress(3, max(len(shots), len(design)))
     progress.step("design computed")
