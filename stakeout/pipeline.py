@@ -275,6 +275,6 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
         folder.write_bytes("check.txt", check_txt(job, str(staked), shots, design, result, label).encode("utf-8"))
         folder.commit()
     progress.step("check.csv, check.txt")
-    c = result.counts()
-    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in c.items()) + f"; wrote {out}"]
+    counts = result.counts()
+    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}"]
     return result.all_ok, notes
