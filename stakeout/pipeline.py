@@ -246,7 +246,6 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     """
     from .check import check_shots
     from .shots import parse_columns, read_shots
-    from .stations import format_station
     from .writers.checkreport import check_csv, check_txt
     from .writers.folder import OutputFolder
 
@@ -259,7 +258,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=(job_path, staked))
     c = compute(job)
-    alignment, design, unit = c.alignment, c.stakes, job.info.unit
+    alignment, design = c.alignment, c.stakes
     elev = None if job.staking.elevation is None else np.full(len(design), job.staking.elevation)
     progress = Progress(3, max(len(shots), len(design)))
     progress.step("design computed")
@@ -267,12 +266,9 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
                          spec.search_radius)
     progress.step("shots checked")
 
-    def label(v: float) -> str:
-        return str(format_station(v, job.info.station_length, unit.station_decimals)) if np.isfinite(v) else ""
-
     with folder:
         folder.write_bytes("check.csv", check_csv(shots, design, result).encode("utf-8"))
-        folder.write_bytes("check.txt", check_txt(job, str(staked), shots, design, result, label).encode("utf-8"))
+        folder.write_bytes("check.txt", check_txt(job, str(staked), shots, design, result).encode("utf-8"))
         folder.commit()
     progress.step("check.csv, check.txt")
     counts = result.counts()

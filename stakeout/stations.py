@@ -15,7 +15,7 @@ from numpy.typing import ArrayLike
 
 from .errors import JobFileError
 
-__all__ = ["parse_station", "format_station", "check_station_length"]
+__all__ = ["parse_station", "format_station", "station_text", "check_station_length"]
 
 _STATION = re.compile(r"^([+-]?)(\d+)\+(\d+(?:\.\d*)?)$")
 _PLAIN = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$")
@@ -106,3 +106,12 @@ def format_station(values: ArrayLike, station_length: int, decimals: int) -> str
         rest = [f"{r}".rjust(width, "0") for r in rem.tolist()]
     out = [f"{'-' if n else ''}{f}+{r}" for n, f, r in zip(neg.tolist(), full.tolist(), rest)]
     return out[0] if x.ndim == 0 else out
+
+
+def station_text(value: float, station_length: int, decimals: int) -> str:
+    """One station as text (``12+34.56``); an empty string for a non-finite value."""
+    if not np.isfinite(value):
+        return ""
+    out = format_station(value, station_length, decimals)
+    assert isinstance(out, str)
+    return out

@@ -311,7 +311,7 @@ class Alignment:
         length = a["length"][sel]
         az0 = a["az0"][sel]
         n0, e0 = a["n0"][sel][None, :], a["e0"][sel][None, :]
-        sa, ca = sincosd(az0)
+        sa, ca = a["sin0"][sel], a["cos0"][sel]  # exact start directions, computed once
         dn = n[:, None] - n0
         de = e[:, None] - e0
         is_arc = k != 0.0

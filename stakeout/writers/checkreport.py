@@ -11,6 +11,7 @@ from ..check import STATUSES, CheckResult
 from ..jobfile import Job
 from ..shots import Shots
 from ..staking import StakePoints
+from ..stations import station_text
 from .cautions import CAUTION_LINES
 from .tables import DECIMALS, csv_field, csv_text
 
@@ -49,11 +50,14 @@ def check_csv(shots: Shots, design: StakePoints, r: CheckResult) -> str:
     return csv_text(CHECK_COLUMNS, rows)
 
 
-def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: CheckResult,
-              station_label) -> str:
+def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: CheckResult) -> str:
     """``check.txt``: summary, what needs attention first, then the rest; cautions at the foot."""
     unit = job.info.unit
     counts = r.counts()
+
+    def station_label(v: float) -> str:
+        return station_text(v, job.info.station_length, unit.station_decimals)
+
     out = [f"STAKED-POINT CHECK   {job.info.name}".rstrip(),
            f"job file     {Path(job.path).name}",
            f"             sha256 {job.sha256}",

@@ -5,21 +5,19 @@ from __future__ import annotations
 
 from ..alignment import Alignment, degree_of_curve_arc
 from ..angles import format_azimuth_dms, format_dms
-from ..stations import format_station
+from ..stations import station_text
 from ..units import Unit
 from .cautions import CAUTION_LINES
 
 __all__ = ["curve_report"]
 
 
-def _st(value: float, station_length: int, unit: Unit) -> str:
-    return str(format_station(value, station_length, unit.station_decimals))
-
-
 def curve_report(alignment: Alignment, job_name: str, unit: Unit, station_length: int,
                  crs: str | None, job_file: str = "", job_sha256: str = "") -> str:
     """Render the readable curve report as text (at most 100 columns)."""
-    st = lambda v: _st(v, station_length, unit)  # noqa: E731
+    def st(v: float) -> str:
+        return station_text(v, station_length, unit.station_decimals)
+
     out: list[str] = []
     out.append(f"CURVE REPORT  {job_name}".rstrip())
     if job_file:

@@ -20,7 +20,7 @@ from ..angles import format_azimuth_dms, format_dms
 from ..jobfile import Job
 from ..setout import ScaleInfo, Setout
 from ..staking import StakePoints
-from ..stations import format_station
+from ..stations import format_station, station_text
 from .cautions import CAUTION_LINES
 from .numbers import fixed
 
@@ -54,7 +54,7 @@ def curve_lines(alignment: Alignment, station_length: int, decimals: int) -> lis
     """Curve data for the foot of a sheet: per curve its PI and whole tangents
     (T_A / T_B named by side for two-centred curves), then one line per arc."""
     def st(v: float) -> str:
-        return str(format_station(v, station_length, decimals))
+        return station_text(v, station_length, decimals)
 
     out = ["CURVE DATA"]
     if not alignment.curves:
@@ -206,9 +206,9 @@ def deflection_sheet(job: Job, alignment: Alignment, stations: np.ndarray, crs_l
     cols = f"{'station':>11} {'arc from start':>15} {'deflection':>12} {'chord from start':>17} " \
            f"{'chord from prev':>16}"
     rows: list[str] = []
+    kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     for curve_no, i, data in deflection_rows(alignment, stations):
         el = alignment.elements[i]
-        kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
         start_name = kp.get(round(el.start_station, 6), "")
         rows.append(f"curve {curve_no}, arc from {start_name} {format_station(el.start_station, sl, sd)}: "
                     f"R {el.radius:.4f}, delta {format_dms(el.delta or 0.0, 1)}, deflect "
