@@ -12,6 +12,7 @@ from typing import Callable, Optional, TypeVar
 import typer
 
 from .errors import StakeoutError
+from .outputs import only_help
 
 __all__ = ["app", "main"]
 
@@ -51,8 +52,7 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
 def build(
     job: str = typer.Argument(..., help="The job file (TOML, format 1)."),
     out: str = typer.Option(..., "--out", "-o", help="Folder to write the outputs into."),
-    only: Optional[str] = typer.Option(None, "--only", help="Comma-separated outputs: points, stations, "
-                                       "curves, setout, sheet, dxf, manifest."),
+    only: Optional[str] = typer.Option(None, "--only", help=only_help()),
     force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
     debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
 ) -> None:

@@ -13,9 +13,16 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .angles import azimuth_between, normalize_azimuth
+from typing import TYPE_CHECKING
 
-__all__ = ["elevation_factor", "ScaleInfo", "Setout", "compute_setout"]
+from .angles import azimuth_between, normalize_azimuth
+from .job import Scale, Setup
+from .units import Unit
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .crs import PointFactors
+
+__all__ = ["elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale", "backsight_azimuth"]
 
 
 def elevation_factor(height_m: float, radius_m: float) -> float:
@@ -99,3 +106,52 @@ def compute_setout(
         zen = np.degrees(np.arctan2(ground, dz))
         slope = np.hypot(ground, dz)
     return Setout(float(backsight_azimuth), az, ar, grid, ground, zen, slope)
+
+
+def resolve_scale(scale: Scale, unit: Unit, factors: "PointFactors | None") -> ScaleInfo:
+    """The combined factor to use, and how it was found.
+
+    Parameters
+    ----------
+    scale : Scale
+        The job's ``[scale]`` table.
+    unit : Unit
+        The job's unit (heights are in it).
+    factors : PointFactors or None
+        The CRS's factors at the occupied point (``None`` without a CRS).
+        With ``auto``: CF = k x R/(R + h) (NOAA Manual NOS NGS 5), h the
+        ellipsoid height (given, or elevation + geoid separation) and R the
+        Gaussian mean radius there.
+    """
+    pf = factors
+    if scale.auto:
+        assert pf is not None
+        sc = scale
+        h = sc.ellipsoid_height if sc.ellipsoid_height is not None else (sc.elevation or 0.0) + (sc.geoid_separation or 0.0)
+        ef = elevation_factor(unit.to_metres(h), pf.radius_m)
+        cf = pf.scale_factor * ef
+        how = "auto: grid scale factor k at the occupied point x elevation factor R/(R+h)"
+        return ScaleInfo(cf, how, pf.scale_factor, ef, pf.radius_m, h, pf.convergence, pf.latitude, pf.longitude)
+    assert scale.combined_factor is not None
+    return ScaleInfo(scale.combined_factor, "given in the job file",
+                     convergence=pf.convergence if pf else None,
+                     latitude=pf.latitude if pf else None, longitude=pf.longitude if pf else None)
+
+
+def backsight_azimuth(setup: Setup, convergence: float | None) -> float:
+    """Grid azimuth of the backsight, degrees clockwise from grid north.
+
+    From the backsight point, or the given azimuth; a geodetic azimuth
+    becomes grid = geodetic - convergence (NGS 5: t = alpha - gamma + delta,
+    the arc-to-chord term delta, under 1 second for ordinary sights, not applied).
+    """
+    occ = setup.occupied
+    if setup.backsight is not None:
+        bs = setup.backsight
+        return float(azimuth_between(occ.northing, occ.easting, bs.northing, bs.easting))
+    assert setup.backsight_azimuth is not None
+    az = setup.backsight_azimuth
+    if setup.azimuth_reference == "geodetic":
+        assert convergence is not None
+        az = float(normalize_azimuth(az - convergence))
+    return az

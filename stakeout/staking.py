@@ -16,8 +16,8 @@ from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment
 from .errors import JobFileError
-from .jobfile import Staking
-from .stations import format_station
+from .job import Staking
+from .stations import Stationing
 
 __all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
 
@@ -37,9 +37,10 @@ class StakePoints:
     """Every staked point in point-number order: station by station, offsets
     left to right within a station.
 
-    Per-station data (``stations``, ``features``) and per-offset data
-    (``offsets``, ``codes``) are kept apart; per-point arrays are laid out
-    as ``station_index * len(offsets) + offset_index``.  The per-point text
+    Per-station data (``stations``, internal stations, and ``features``)
+    and per-offset data (``offsets``, ``codes``) are kept apart; per-point
+    arrays are laid out as ``station_index * len(offsets) + offset_index``.
+    The stations printed come from ``stationing``.  The per-point text
     lists are built on first use only.
     """
 
@@ -49,8 +50,7 @@ class StakePoints:
     codes: tuple[str, ...]
     first_point: int
     prefix: str
-    station_length: int
-    station_decimals: int
+    stationing: Stationing
     northing: NDArray[np.float64]
     easting: NDArray[np.float64]
     azimuth: NDArray[np.float64]
@@ -66,8 +66,18 @@ class StakePoints:
 
     @cached_property
     def station(self) -> NDArray[np.float64]:
-        """Station of each point."""
+        """Internal station of each point."""
         return np.repeat(self.stations, self.offsets.size)
+
+    @cached_property
+    def station_values(self) -> NDArray[np.float64]:
+        """The station in force at each staked station (one per station)."""
+        return self.stationing.station(self.stations)
+
+    @cached_property
+    def regions(self) -> NDArray[np.int64]:
+        """Stationing region of each staked station (one per station)."""
+        return self.stationing.region(self.stations)
 
     @cached_property
     def offset(self) -> NDArray[np.float64]:
@@ -82,8 +92,7 @@ class StakePoints:
     @cached_property
     def labels(self) -> list[str]:
         """Station labels, one per station."""
-        out = format_station(self.stations, self.station_length, self.station_decimals)
-        return out if isinstance(out, list) else [out]
+        return self.stationing.labels(self.stations)
 
     @cached_property
     def station_label(self) -> list[str]:
@@ -103,7 +112,7 @@ class StakePoints:
         return [f for f in self.features for _ in range(m)]
 
 
-def _stations(alignment: Alignment, staking: Staking) -> tuple[NDArray[np.float64], list[str]]:
+def _stations(alignment: Alignment, staking: Staking, stationing: Stationing) -> tuple[NDArray[np.float64], list[str]]:
     lo, hi = alignment.start_station, alignment.end_station
     step = staking.interval
     count = (hi - lo) / step * len(staking.offsets)
@@ -116,10 +125,13 @@ def _stations(alignment: Alignment, staking: Staking) -> tuple[NDArray[np.float6
     k1 = int(np.floor(hi / step + 1e-9))
     regular = np.arange(k0, k1 + 1, dtype=np.float64) * step
     regular = regular[(regular >= lo - STATION_TOLERANCE) & (regular <= hi + STATION_TOLERANCE)]
-    for value, where in staking.extra_stations:
+    extra_values = []
+    for ref in staking.extra_stations:
+        value = stationing.to_internal(ref)
         if not lo - STATION_TOLERANCE <= value <= hi + STATION_TOLERANCE:
-            raise JobFileError(f"{where} = {value!r}: off the alignment, which runs from {lo:.4f} to {hi:.4f}")
-    extra = np.array([v for v, _ in staking.extra_stations], dtype=np.float64)
+            raise JobFileError(f"{ref.where} = {ref.value!r}: off the alignment, which runs from {lo:.4f} to {hi:.4f}")
+        extra_values.append(value)
+    extra = np.array(extra_values, dtype=np.float64)
     keys = np.array([kp.station for kp in alignment.key_points], dtype=np.float64)
     key_feats = [" ".join(kp.features) for kp in alignment.key_points]
     # key points first so that a merge keeps the key point's exact station
@@ -145,7 +157,7 @@ def _stations(alignment: Alignment, staking: Staking) -> tuple[NDArray[np.float6
     return values[pick], out_feats
 
 
-def plan_stakes(alignment: Alignment, staking: Staking, station_length: int, station_decimals: int) -> StakePoints:
+def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing) -> StakePoints:
     """Compute every stake point of a job.
 
     Parameters
@@ -154,12 +166,10 @@ def plan_stakes(alignment: Alignment, staking: Staking, station_length: int, sta
         The built alignment.
     staking : Staking
         The job's ``[staking]`` table.
-    station_length : int
-        Units per full station, for labels.
-    station_decimals : int
-        Decimals in station labels.
+    stationing : Stationing
+        The alignment's stationing: reads extra stations, labels stakes.
     """
-    stations, feats = _stations(alignment, staking)
+    stations, feats = _stations(alignment, staking, stationing)
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     st = np.repeat(stations, offs.size)
     of = np.tile(offs, stations.size)
@@ -175,8 +185,7 @@ def plan_stakes(alignment: Alignment, staking: Staking, station_length: int, sta
         codes=tuple(ol.code for ol in staking.offsets),
         first_point=staking.first_point,
         prefix=staking.point_prefix,
-        station_length=station_length,
-        station_decimals=station_decimals,
+        stationing=stationing,
         northing=n,
         easting=e,
         azimuth=az,

@@ -1,21 +1,29 @@
-"""Stations: text <-> value.
+"""Stations: text <-> value, and the stationing of an alignment.
 
-A station is a distance along the alignment.  Its text form splits it into
-full stations and the remainder: ``12+34.56`` is 1234.56 with 100 units per
-station (feet), ``1+234.567`` is 1234.567 with 1000 (metres).  Negative
-stations print as ``-0+25.00``.
+A station's text form splits it into full stations and the remainder:
+``12+34.56`` is 1234.56 with 100 units per station (feet), ``1+234.567``
+is 1234.567 with 1000 (metres).  Negative stations print as ``-0+25.00``.
+
+The geometry works in *internal stations*: the POB's station plus the
+distance along the centreline, no equation applied.  :class:`Stationing`
+maps internal stations to the stations in force (region by region, across
+station equations) and back, and formats every station label of every
+output.
 """
 
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from .errors import JobFileError
 
-__all__ = ["parse_station", "format_station", "station_text", "check_station_length"]
+__all__ = ["parse_station", "format_station", "station_text", "check_station_length", "StationRef",
+           "Equation", "Stationing"]
 
 _STATION = re.compile(r"^([+-]?)(\d+)\+(\d+(?:\.\d*)?)$")
 _PLAIN = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$")
@@ -115,3 +123,129 @@ def station_text(value: float, station_length: int, decimals: int) -> str:
     out = format_station(value, station_length, decimals)
     assert isinstance(out, str)
     return out
+
+
+class StationRef(NamedTuple):
+    """A station as the job file gives it: its value, the region it is read
+    in (``None``: wherever it lies) and the key that gave it."""
+
+    value: float
+    region: int | None
+    where: str
+
+
+@dataclass(frozen=True)
+class Equation:
+    """A station equation at internal station ``internal``: the station
+    ``back`` before it is the same point as ``ahead`` after it."""
+
+    internal: float
+    back: float
+    ahead: float
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class Stationing:
+    """Internal stations <-> stations in force, and their labels.
+
+    Region 1 runs from the POB to the first equation, region ``r`` from
+    equation ``r - 1`` to equation ``r``; in region ``r`` the station is
+    the internal station plus a constant shift (0 in region 1).  An
+    equation point belongs to the region ahead of it.
+
+    Parameters
+    ----------
+    start, end : float
+        Internal stations of the POB and POE (job units).
+    station_length : int
+        Units per full station (100 for feet, 1000 for metres by default).
+    decimals : int
+        Decimals of the remainder in labels (2 for feet jobs, 3 for metres).
+    equations : tuple of Equation
+        In order along the alignment.
+    """
+
+    start: float
+    end: float
+    station_length: int
+    decimals: int
+    equations: tuple[Equation, ...] = ()
+
+    @property
+    def regions(self) -> int:
+        """Number of stationing regions."""
+        return len(self.equations) + 1
+
+    @property
+    def _breaks(self) -> NDArray[np.float64]:
+        return np.array([eq.internal for eq in self.equations], dtype=np.float64)
+
+    @property
+    def _shifts(self) -> NDArray[np.float64]:
+        return np.array([0.0] + [eq.ahead - eq.internal for eq in self.equations], dtype=np.float64)
+
+    def region(self, internal: ArrayLike) -> NDArray[np.int64]:
+        """Region (from 1) of each internal station."""
+        x = np.asarray(internal, dtype=float)
+        if not self.equations:
+            return np.ones(x.shape, dtype=np.int64)
+        return np.searchsorted(self._breaks, x, side="right").astype(np.int64) + 1
+
+    def station(self, internal: ArrayLike) -> NDArray[np.float64]:
+        """The station in force at each internal station."""
+        x = np.asarray(internal, dtype=float)
+        if not self.equations:
+            return x
+        return x + self._shifts[self.region(x) - 1]
+
+    def region_range(self, region: int) -> tuple[float, float]:
+        """Internal stations where ``region`` starts and ends."""
+        bounds = [self.start] + [eq.internal for eq in self.equations] + [self.end]
+        return bounds[region - 1], bounds[region]
+
+    def to_internal(self, ref: StationRef) -> float:
+        """The internal station of a station given in the job file.
+
+        A station lying in two regions (after an equation that steps back)
+        needs its region; one lying in none is off the alignment.
+        """
+        if not self.equations:
+            return ref.value
+        hits = []
+        for r in range(1, self.regions + 1):
+            if ref.region is not None and r != ref.region:
+                continue
+            lo, hi = self.region_range(r)
+            x = ref.value - float(self._shifts[r - 1])
+            last = r == self.regions
+            if lo - 1e-9 <= x < hi - 1e-9 or (last and abs(x - hi) <= 1e-9) or (ref.region is not None):
+                hits.append((r, x))
+        if ref.region is not None and not 1 <= ref.region <= self.regions:
+            raise JobFileError(f"{ref.where}: region {ref.region} does not exist; the alignment has regions "
+                               f"1 to {self.regions}")
+        if len(hits) > 1:
+            names = " and ".join(str(r) for r, _ in hits)
+            raise JobFileError(
+                f"{ref.where} = {self.label(hits[0][1])!r}: lies in regions {names} (an equation steps back); "
+                f"write {{ station = ..., region = N }}"
+            )
+        if not hits:
+            return ref.value  # off the alignment: the caller says so with its range
+        return hits[0][1]
+
+    def labels(self, internal: ArrayLike) -> list[str]:
+        """Station labels (``12+34.56``) of internal stations, in force there."""
+        out = format_station(self.station(np.atleast_1d(np.asarray(internal, dtype=float))),
+                             self.station_length, self.decimals)
+        return out if isinstance(out, list) else [out]
+
+    def label(self, internal: float | None) -> str:
+        """One station label; empty for ``None`` or a non-finite value."""
+        if internal is None:
+            return ""
+        return station_text(float(self.station(internal)), self.station_length, self.decimals)
+
+    def format_value(self, station: float) -> str:
+        """Label of a station value already in force (not an internal station)."""
+        return station_text(station, self.station_length, self.decimals)

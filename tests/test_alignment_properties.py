@@ -11,6 +11,7 @@ from hypothesis import strategies as st
 from shapely.geometry import LineString
 
 from stakeout.alignment import (
+    Arc,
     ArcSpec,
     ChainSpec,
     LineSpec,
@@ -20,8 +21,9 @@ from stakeout.alignment import (
     build_alignment,
     compound_tangents,
 )
-from stakeout.jobfile import OffsetLine, Staking
+from stakeout.job import OffsetLine, Staking
 from stakeout.staking import plan_stakes
+from stakeout.stations import Stationing
 
 from .helpers import arc_end_by_rotation
 
@@ -99,10 +101,10 @@ def test_closure_pi_list(spec):
 @given(pi_lists(), st.data())
 def test_round_trip_and_monotone(spec, data):
     a = build_alignment(spec)
-    starts = np.array([el.start_station for el in a.elements])
+    starts = np.array([el.start for el in a.elements])
     assert np.all(np.diff(starts) > 0)
     assert a.length == pytest.approx(sum(el.length for el in a.elements))
-    min_r = min([el.radius for el in a.elements if el.radius] + [1e9])
+    min_r = min([el.radius_start for el in a.elements if el.radius_start] + [1e9])
     omax = min(0.4 * min_r, 25.0)
     m = 64
     s = np.array(data.draw(st.lists(st.floats(0, 1), min_size=m, max_size=m))) * a.length + a.start_station
@@ -142,12 +144,12 @@ def test_chain_elements_close_by_rotation(spec):
     # construction with complex numbers), and lines run straight.
     a = build_alignment(spec)
     for el in a.elements:
-        if el.kind == "arc":
+        if isinstance(el, Arc):
             n1, e1, cn, ce = arc_end_by_rotation(el.start_northing, el.start_easting, el.start_azimuth,
                                                  el.radius, el.delta, el.turn)
             assert (el.end_northing, el.end_easting) == pytest.approx((n1, e1), abs=1e-6)
             assert (el.center_northing, el.center_easting) == pytest.approx((cn, ce), abs=1e-6)
-        n, e, az = a.evaluate(np.array([el.end_station - 1e-9]))
+        n, e, az = a.evaluate(np.array([el.end - 1e-9]))
         assert (float(n[0]), float(e[0])) == pytest.approx((el.end_northing, el.end_easting), abs=1e-6)
     feats = [f for k in a.key_points for f in k.features]
     assert feats[0] == "POB" and feats[-1] == "POE"
@@ -162,7 +164,7 @@ def test_key_points_on_every_offset_line(spec, offsets, interval):
     a = build_alignment(spec)
     staking = Staking(interval, tuple(sorted((OffsetLine(o, f"C{i}") for i, o in enumerate(offsets)),
                                              key=lambda x: x.offset)), (), 1, "", None)
-    sp = plan_stakes(a, staking, 100, 2)
+    sp = plan_stakes(a, staking, Stationing(a.start_station, a.end_station, 100, 2))
     m = len(offsets)
     assert len(sp) == m * sp.stations.size
     assert np.all(np.diff(sp.stations) > 0)

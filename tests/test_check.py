@@ -12,7 +12,7 @@ from typer.testing import CliRunner
 
 from stakeout.cli import app
 from stakeout.jobfile import load_job
-from stakeout.pipeline import compute
+from stakeout.design import build_design as compute
 
 from .helpers import SAMPLES
 
@@ -61,10 +61,10 @@ def test_known_along_across_errors(tmp_path):
         row = got[k]
         assert row["design_point"] == sp.point[i]
         st = sp.station[i]
-        el = al.elements[min(np.searchsorted([q.start_station for q in al.elements], st, side="right") - 1,
+        el = al.elements[min(np.searchsorted([q.start for q in al.elements], st, side="right") - 1,
                              len(al.elements) - 1)]
         o = sp.offset[i]
-        factor = 1.0 if el.radius is None else el.radius / (el.radius - el.turn * o)
+        factor = 1.0 if el.radius_start is None else el.radius_start / (el.radius_start - el.turn * o)
         if "AP" in sp.feature[i]:
             continue
         assert float(row["d_offset"]) == pytest.approx(x[k], abs=0.001)

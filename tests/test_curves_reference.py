@@ -33,7 +33,7 @@ def test_navedtra_simple_curve():
     assert r == pytest.approx(381.97, abs=0.005)
     assert degree_of_curve_arc(r) == pytest.approx(15.0)
     a = build_alignment(ChainSpec("N", 1807.80, 0.0, 0.0, 0.0, (ArcSpec(r, 1, delta=75.0),)))
-    arc = a.elements[0].arc
+    arc = a.elements[0].props
     assert arc.tangent == pytest.approx(293.10, abs=0.005)
     assert arc.length == pytest.approx(500.00, abs=0.005)
     assert a.end_station == pytest.approx(2307.80, abs=0.005)

@@ -8,9 +8,10 @@ import numpy as np
 import pytest
 from typer.testing import CliRunner
 
+from stakeout.alignment import Arc, Line
 from stakeout.cli import app
 from stakeout.jobfile import load_job
-from stakeout.pipeline import compute
+from stakeout.design import build_design as compute
 from stakeout.writers.dxf import dxf_angle, plan_dxf
 
 from .helpers import SAMPLES, arc_end_by_rotation
@@ -40,7 +41,7 @@ def test_readback(sample, insunits, tmp_path):
     c = compute(load_job(SAMPLES / sample))
     msp = doc.modelspace()
     arcs = msp.query('ARC[layer=="SO-CL"]')
-    engine_arcs = [el for el in c.alignment.elements if el.kind == "arc"]
+    engine_arcs = [el for el in c.alignment.elements if isinstance(el, Arc)]
     assert len(arcs) == len(engine_arcs)
     for a, el in zip(arcs, engine_arcs):
         assert a.dxf.radius == pytest.approx(el.radius, abs=1e-9)
@@ -49,7 +50,7 @@ def test_readback(sample, insunits, tmp_path):
                                            el.radius, el.delta, el.turn)
         assert (a.dxf.center.x, a.dxf.center.y) == pytest.approx((ce, cn), abs=1e-6)
     lines = msp.query('LINE[layer=="SO-CL"]')
-    assert len(lines) == sum(el.kind == "line" for el in c.alignment.elements)
+    assert len(lines) == sum(isinstance(el, Line) for el in c.alignment.elements)
     pts = msp.query('POINT[layer=="SO-STAKE"]')
     assert len(pts) == len(c.stakes)
     got = np.array([(p.dxf.location.x, p.dxf.location.y) for p in pts])
@@ -65,7 +66,7 @@ def test_readback(sample, insunits, tmp_path):
         assert len(bl) == 1
         assert (bl[0].dxf.start.x, bl[0].dxf.start.y) == pytest.approx((occ.easting, occ.northing), abs=1e-9)
         az = math.degrees(math.atan2(bl[0].dxf.end.x - occ.easting, bl[0].dxf.end.y - occ.northing)) % 360
-        assert az == pytest.approx(c.setout.backsight_azimuth, abs=1e-9)
+        assert az == pytest.approx(c.setup.backsight_azimuth, abs=1e-9)
         radials = msp.query('LINE[layer=="SO-RADIAL"]')
         assert len(radials) == len(c.stakes)
         ends = np.array([(ln.dxf.end.x, ln.dxf.end.y) for ln in radials])
@@ -114,7 +115,7 @@ interval = 10
     assert sweep == pytest.approx(70.0)
     mid_ang = math.radians(arc.dxf.start_angle + sweep / 2)
     mid = (arc.dxf.center.x + 50 * math.cos(mid_ang), arc.dxf.center.y + 50 * math.sin(mid_ang))
-    n, e, _ = c.alignment.evaluate(np.array([el.start_station + el.length / 2]))
+    n, e, _ = c.alignment.evaluate(np.array([el.start + el.length / 2]))
     assert mid == pytest.approx((float(e[0]), float(n[0])), abs=1e-6)
     assert dxf_angle(0.0) == 90.0 and dxf_angle(90.0) == 0.0 and dxf_angle(180.0) == 270.0
 
@@ -123,7 +124,7 @@ def test_offset_arcs_concentric():
     c = compute(load_job(SAMPLES / "site_road_metric.toml"))
     doc = _read(plan_dxf(c))
     offs = doc.modelspace().query('ARC[layer=="SO-OFFSET"]')
-    arcs = [el for el in c.alignment.elements if el.kind == "arc"]
+    arcs = [el for el in c.alignment.elements if isinstance(el, Arc)]
     assert len(offs) == 2 * len(arcs)
     radii = sorted(round(a.dxf.radius, 6) for a in offs)
     want = sorted(round(el.radius + s * 3.5, 6) for el in arcs for s in (-1, 1))

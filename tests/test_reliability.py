@@ -6,11 +6,12 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from typer.testing import CliRunner
 
-from stakeout import pipeline
+from stakeout.outputs import BY_NAME
 from stakeout.alignment import build_alignment
 from stakeout.cli import app
 from stakeout.errors import StakeoutError
 from stakeout.jobfile import parse_job
+from stakeout.design import build_stationing
 from stakeout.staking import plan_stakes
 
 from .helpers import SAMPLES
@@ -19,15 +20,17 @@ runner = CliRunner()
 JOB = SAMPLES / "loop_ramp_usft.toml"
 
 
+#: The writer function behind each output named in these tests.
+_WRITERS = {"preview": "stakeout.writers.dxf.plan_png", "dxf": "stakeout.writers.dxf.plan_dxf"}
+
+
 def _fail_on(name, monkeypatch):
-    real = pipeline._render
+    assert name in BY_NAME
 
-    def boom(n, c):
-        if n == name:
-            raise KeyboardInterrupt  # as if Ctrl-C arrived while the last file was written
-        return real(n, c)
+    def boom(*args, **kwargs):
+        raise KeyboardInterrupt  # as if Ctrl-C arrived while the last file was written
 
-    monkeypatch.setattr(pipeline, "_render", boom)
+    monkeypatch.setattr(_WRITERS[name], boom)
 
 
 def test_interrupted_build_leaves_nothing(tmp_path, monkeypatch):
@@ -155,7 +158,7 @@ def test_fuzzed_loader_only_raises_own_errors(doc):
         job = parse_job(text.encode())
         a = build_alignment(job.alignment)
         if a.length / job.staking.interval < 20000:
-            plan_stakes(a, job.staking, job.info.station_length, job.info.unit.station_decimals)
+            plan_stakes(a, job.staking, build_stationing(job, a))
     except StakeoutError:
         pass
 

@@ -1,7 +1,8 @@
-"""Horizontal alignments: lines and circular arcs, built, evaluated, inverted."""
+"""Horizontal alignments: elements built, evaluated and inverted on arrays."""
 
 from __future__ import annotations
 
+from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, KeyPoint, Location, Position
 from .build import CLOSURE_TOLERANCE, build_alignment
 from .curves import (
     ArcProperties,
@@ -12,12 +13,12 @@ from .curves import (
     degree_of_curve_arc,
     two_centered_tangents,
 )
-from .geometry import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, Element, KeyPoint
+from .elements import Arc, Element, Line
 from .specs import AlignmentSpec, ArcSpec, ChainSpec, LineSpec, PIListSpec, PISpec, SinglePISpec
 
 __all__ = [
-    "Alignment", "AlignmentSpec", "ArcProperties", "ArcSpec", "ChainSpec", "CLOSURE_TOLERANCE",
-    "CompoundTangents", "Curve", "Element", "FEATURE_ORDER", "KeyPoint", "LineSpec", "PIListSpec",
-    "PISpec", "SinglePISpec", "STATION_TOLERANCE", "arc_properties", "build_alignment",
-    "chained_tangents", "compound_tangents", "degree_of_curve_arc", "two_centered_tangents",
+    "Alignment", "AlignmentSpec", "Arc", "ArcProperties", "ArcSpec", "ChainSpec", "CLOSURE_TOLERANCE",
+    "CompoundTangents", "Curve", "Element", "FEATURE_ORDER", "KeyPoint", "Line", "LineSpec", "Location",
+    "PIListSpec", "PISpec", "Position", "SinglePISpec", "STATION_TOLERANCE", "arc_properties",
+    "build_alignment", "chained_tangents", "compound_tangents", "degree_of_curve_arc", "two_centered_tangents",
 ]

@@ -9,14 +9,15 @@ the PC must land on the PT that the PI geometry predicts.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from collections.abc import Callable
 
 import numpy as np
 
-from ..angles import angle_difference, azimuth_between, normalize_azimuth, sincosd
+from ..angles import angle_difference, azimuth_between, sincosd
 from ..errors import GeometryError
-from .curves import CompoundTangents, arc_properties, compound_tangents
-from .geometry import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, Element, KeyPoint
+from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, KeyPoint
+from .curves import CompoundTangents, compound_tangents
+from .elements import Arc, Element, Line, end_features, join_features, start_features
 from .specs import AlignmentSpec, ArcSpec, ChainSpec, LineSpec, PIListSpec, SinglePISpec
 
 __all__ = ["build_alignment", "CLOSURE_TOLERANCE"]
@@ -26,13 +27,19 @@ CLOSURE_TOLERANCE = 1e-6
 _ANGLE_EPS = 1e-9  # degrees: smaller deflections count as none
 
 
-@dataclass(frozen=True)
-class _Step:
-    kind: str  # "line" | "arc"
-    length: float
-    azimuth: float | None = None  # lines: fixed direction, else continue
-    radius: float | None = None
-    turn: int = 0
+#: One element to walk: given its start (internal station, northing, easting,
+#: azimuth), build it.  Steps are made by :func:`_line` and :func:`_arc`.
+_Step = Callable[[float, float, float, float], Element]
+
+
+def _line(length: float, azimuth: float | None = None) -> _Step:
+    """A line step: a fixed ``azimuth``, or continuing the current direction."""
+    return lambda st, n, e, az: Line.follow(st, n, e, az if azimuth is None else azimuth, length)
+
+
+def _arc(length: float, radius: float, turn: int) -> _Step:
+    """An arc step leaving along the current direction."""
+    return lambda st, n, e, az: Arc.follow(st, n, e, az, length, radius, turn)
 
 
 def build_alignment(spec: AlignmentSpec) -> Alignment:
@@ -49,30 +56,11 @@ def build_alignment(spec: AlignmentSpec) -> Alignment:
 # ---- walking ------------------------------------------------------------------------
 def _walk(station: float, n: float, e: float, az: float, steps: list[_Step]) -> list[Element]:
     out: list[Element] = []
-    for st in steps:
-        if st.kind == "line":
-            a = az if st.azimuth is None else st.azimuth
-            s, c = sincosd(a)
-            n1, e1 = n + st.length * float(c), e + st.length * float(s)
-            out.append(Element("line", float(station), st.length, n, e, a, n1, e1, a))
-            az = a
-        else:
-            assert st.radius is not None
-            r = st.radius
-            d_rad = st.length / r
-            d_deg = math.degrees(d_rad)
-            chord = 2.0 * r * math.sin(d_rad / 2.0)
-            s, c = sincosd(az + st.turn * d_deg / 2.0)
-            n1, e1 = n + chord * float(c), e + chord * float(s)
-            s0, c0 = sincosd(az)
-            cn = n - st.turn * r * float(s0)
-            ce = e + st.turn * r * float(c0)
-            a1 = float(normalize_azimuth(az + st.turn * d_deg))
-            out.append(Element("arc", float(station), st.length, n, e, float(az), n1, e1, a1, st.turn, r, d_deg,
-                               cn, ce, arc_properties(r, d_deg)))
-            az = a1
-        n, e = out[-1].end_northing, out[-1].end_easting
-        station += st.length
+    for step in steps:
+        el = step(float(station), n, e, az)
+        out.append(el)
+        n, e, az = el.end_northing, el.end_easting, el.end_azimuth
+        station += el.length
     return out
 
 
@@ -80,30 +68,19 @@ def _finish(name: str, elements: list[Element]) -> Alignment:
     feats: dict[int, list[str]] = {}
     points: dict[int, tuple[float, float, float]] = {}
 
-    def add(i: int, f: str, st: float, n: float, e: float) -> None:
-        feats.setdefault(i, []).append(f)
-        points.setdefault(i, (st, n, e))
+    def add(i: int, fs: tuple[str, ...], st: float, n: float, e: float) -> None:
+        if fs:
+            feats.setdefault(i, []).extend(fs)
+            points.setdefault(i, (st, n, e))
 
     first, last = elements[0], elements[-1]
-    add(0, "POB", first.start_station, first.start_northing, first.start_easting)
-    if first.kind == "arc":
-        add(0, "PC", first.start_station, first.start_northing, first.start_easting)
+    add(0, ("POB",) + start_features(first), first.start, first.start_northing, first.start_easting)
     for i in range(1, len(elements)):
         prev, cur = elements[i - 1], elements[i]
-        where = (cur.start_station, cur.start_northing, cur.start_easting)
-        if prev.kind == "line" and cur.kind == "line":
-            if abs(float(angle_difference(prev.end_azimuth, cur.start_azimuth))) > _ANGLE_EPS:
-                add(i, "AP", *where)
-        elif prev.kind == "line":
-            add(i, "PC", *where)
-        elif cur.kind == "line":
-            add(i, "PT", *where)
-        else:
-            add(i, "PCC" if prev.turn == cur.turn else "PRC", *where)
+        deflects = abs(float(angle_difference(prev.end_azimuth, cur.start_azimuth))) > _ANGLE_EPS
+        add(i, join_features(prev, cur, deflects), cur.start, cur.start_northing, cur.start_easting)
     end = len(elements)
-    if last.kind == "arc":
-        add(end, "PT", last.end_station, last.end_northing, last.end_easting)
-    add(end, "POE", last.end_station, last.end_northing, last.end_easting)
+    add(end, end_features(last) + ("POE",), last.end, last.end_northing, last.end_easting)
     key_points = tuple(
         KeyPoint(points[i][0], points[i][1], points[i][2],
                  tuple(f for f in FEATURE_ORDER if f in feats[i]))
@@ -115,7 +92,7 @@ def _finish(name: str, elements: list[Element]) -> Alignment:
 def _curves(elements: list[Element]) -> tuple[Curve, ...]:
     runs: list[list[int]] = []
     for i, el in enumerate(elements):
-        if el.kind != "arc":
+        if not el.curving:
             continue
         if runs and runs[-1][-1] == i - 1 and elements[i - 1].turn == el.turn:
             runs[-1].append(i)
@@ -124,20 +101,26 @@ def _curves(elements: list[Element]) -> tuple[Curve, ...]:
     curves = []
     for number, run in enumerate(runs, start=1):
         arcs = [elements[i] for i in run]
-        total = sum(a.delta or 0.0 for a in arcs)
+        total = sum(a.central_angle for a in arcs)
         pc, pt = arcs[0], arcs[-1]
         tangents: CompoundTangents | None = None
         pi_n = pi_e = pi_st = None
         if total < 180.0 - _ANGLE_EPS:
-            tangents = compound_tangents(tuple(a.radius or 0.0 for a in arcs),
-                                         tuple(a.delta or 0.0 for a in arcs))
+            tangents = _run_tangents(arcs)
             s, c = sincosd(pc.start_azimuth)
             pi_n = pc.start_northing + tangents.back * float(c)
             pi_e = pc.start_easting + tangents.back * float(s)
-            pi_st = pc.start_station + tangents.back
-        curves.append(Curve(number, tuple(run), pc.turn, total, pc.start_station, pt.end_station,
+            pi_st = pc.start + tangents.back
+        curves.append(Curve(number, tuple(run), pc.turn, total, pc.start, pt.end,
                             pi_st, pi_n, pi_e, tangents))
     return tuple(curves)
+
+
+def _run_tangents(run: list[Element]) -> CompoundTangents:
+    """Tangents from the PI of a run of arcs (the published relations)."""
+    assert all(isinstance(a, Arc) for a in run)
+    return compound_tangents(tuple(a.radius for a in run if isinstance(a, Arc)),
+                             tuple(a.central_angle for a in run))
 
 
 def _check_closure(where: str, elements: list[Element], first: int, count: int,
@@ -155,13 +138,13 @@ def _build_chain(spec: ChainSpec) -> Alignment:
     steps = []
     for el in spec.elements:
         if isinstance(el, LineSpec):
-            steps.append(_Step("line", el.length))
+            steps.append(_line(el.length))
         else:
             assert isinstance(el, ArcSpec)
             length = el.length if el.length is not None else el.radius * math.radians(el.delta or 0.0)
             if length >= 2.0 * math.pi * el.radius:
                 raise GeometryError(f"{el.where}: an arc must turn less than 360 degrees")
-            steps.append(_Step("arc", length, radius=el.radius, turn=el.turn))
+            steps.append(_arc(length, el.radius, el.turn))
     if not steps:
         raise GeometryError("alignment.element: at least one element is needed")
     elements = _walk(spec.start_station, spec.start_northing, spec.start_easting, spec.azimuth, steps)
@@ -192,7 +175,7 @@ def _curve_at_pi(where: str, az_in: float, az_out: float, radii: tuple[float, ..
 
 
 def _arc_steps(radii: tuple[float, ...], deltas: tuple[float, ...], turn: int) -> list[_Step]:
-    return [_Step("arc", r * math.radians(d), radius=r, turn=turn) for r, d in zip(radii, deltas)]
+    return [_arc(r * math.radians(d), r, turn) for r, d in zip(radii, deltas)]
 
 
 # ---- Form B ---------------------------------------------------------------------------
@@ -234,7 +217,7 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
                 f"exceed the {seg_len[j]:.4f} between the points"
             )
         if free > CLOSURE_TOLERANCE:
-            steps.append(_Step("line", float(free), azimuth=float(seg_az[j])))
+            steps.append(_line(float(free), float(seg_az[j])))
         if j + 1 in curves:
             turn, ds, _ = curves[j + 1]
             first_arc[j + 1] = len(steps)
@@ -265,11 +248,11 @@ def _build_single(spec: SinglePISpec) -> Alignment:
     pob_e = pc_e - spec.lead_in * float(s)
     steps: list[_Step] = []
     if spec.lead_in > 0:
-        steps.append(_Step("line", spec.lead_in, azimuth=spec.back_azimuth))
+        steps.append(_line(spec.lead_in, spec.back_azimuth))
     first = len(steps)
     steps.extend(_arc_steps(spec.radii, ds, turn))
     if spec.lead_out > 0:
-        steps.append(_Step("line", spec.lead_out, azimuth=spec.ahead_azimuth))
+        steps.append(_line(spec.lead_out, spec.ahead_azimuth))
     start = spec.pi_station - tans.back - spec.lead_in
     elements = _walk(start, pob_n, pob_e, spec.back_azimuth, steps)
     _check_closure(spec.where, elements, first, len(ds), spec.northing, spec.easting,

@@ -2,18 +2,15 @@
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
 import numpy as np
 
 from ..check import STATUSES, CheckResult
-from ..jobfile import Job
+from ..design import Design
 from ..shots import Shots
-from ..staking import StakePoints
-from ..stations import station_text
-from .cautions import CAUTION_LINES
 from .tables import DECIMALS, csv_field, csv_text
+from .text import CAUTION_LINES, finite_or_empty
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt"]
 
@@ -24,9 +21,7 @@ CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_
 
 
 def _f(v: float, d: int = DECIMALS) -> str:
-    if not math.isfinite(v):
-        return ""
-    return f"{round(v, d) + 0.0:.{d}f}"
+    return finite_or_empty(v, d)
 
 
 def _shot_id(pid: str) -> str:
@@ -36,27 +31,28 @@ def _shot_id(pid: str) -> str:
     return csv_field(pid)
 
 
-def check_csv(shots: Shots, design: StakePoints, r: CheckResult) -> str:
+def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     """``check.csv``: one row per shot, in file order."""
+    design = d.stakes
+    station = d.stationing.station
     rows = []
     for k in range(len(shots)):
         i = int(r.design_index[k])
         rows.append(",".join([
-            _shot_id(shots.point[k]), design.point[i] if i >= 0 else "", _f(r.station[k]), _f(r.offset[k]),
+            _shot_id(shots.point[k]), design.point[i] if i >= 0 else "", _f(float(station(r.station[k]))), _f(r.offset[k]),
             _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]),
             _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]),
         ]))
-    return csv_text(CHECK_COLUMNS, rows)
+    return csv_text(CHECK_COLUMNS, rows).encode("utf-8")
 
 
-def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: CheckResult) -> str:
+def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> bytes:
     """``check.txt``: summary, what needs attention first, then the rest; cautions at the foot."""
+    job, design = d.job, d.stakes
     unit = job.info.unit
     counts = r.counts()
-
-    def station_label(v: float) -> str:
-        return station_text(v, job.info.station_length, unit.station_decimals)
+    station_label = d.stationing.label
 
     out = [f"STAKED-POINT CHECK   {job.info.name}".rstrip(),
            f"job file     {Path(job.path).name}",
@@ -117,4 +113,4 @@ def check_txt(job: Job, staked_path: str, shots: Shots, design: StakePoints, r: 
     out.extend(CAUTION_LINES)
     text = "\n".join(out) + "\n"
     assert all(len(line) <= 100 for line in text.splitlines()), [ln for ln in text.splitlines() if len(ln) > 100]
-    return text
+    return text.encode("utf-8")

@@ -27,19 +27,17 @@ from __future__ import annotations
 import io
 import math
 from collections import OrderedDict
+from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import Any
 
 import ezdxf
 import numpy as np
 
-from ..alignment import Alignment
+from ..alignment import Alignment, Arc, Element, Line
 from ..angles import format_dms, sincosd
-from ..stations import format_station
-from .cautions import CAUTION_LINES
-
-if TYPE_CHECKING:  # pragma: no cover
-    from ..pipeline import Computed
+from ..design import Design
+from .text import CAUTION_LINES, curve_texts
 
 __all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
 
@@ -75,44 +73,58 @@ def _text(msp, s: str, x: float, y: float, h: float, layer: str, rot: float = 0.
     t.set_placement((x, y), align=ezdxf.enums.TextEntityAlignment[align])
 
 
-def _draw_path(msp, alignment: Alignment, offset: float, layer: str) -> None:
-    """Draw the centreline (offset 0) or an offset line with true LINEs and ARCs."""
+def _draw_line(msp: Any, el: Element, ends: tuple[tuple[float, float], tuple[float, float]],
+               offset: float, layer: str) -> None:
+    (n0, e0), (n1, e1) = ends
+    msp.add_line((e0, n0), (e1, n1), dxfattribs={"layer": layer})
+
+
+def _draw_arc(msp: Any, el: Element, ends: tuple[tuple[float, float], tuple[float, float]],
+              offset: float, layer: str) -> None:
+    assert isinstance(el, Arc)
+    (n0, e0), (n1, e1) = ends
+    r = el.radius - el.turn * offset
+    if r <= 1e-9:
+        return
+    a0 = math.degrees(math.atan2(n0 - el.center_northing, e0 - el.center_easting)) % 360.0
+    a1 = math.degrees(math.atan2(n1 - el.center_northing, e1 - el.center_easting)) % 360.0
+    # DXF arcs run counter-clockwise from start to end: a left turn travels
+    # counter-clockwise, a right turn clockwise (so swap its ends).
+    start, end = (a0, a1) if el.turn < 0 else (a1, a0)
+    msp.add_arc((el.center_easting, el.center_northing), r, start, end, dxfattribs={"layer": layer})
+
+
+#: How each kind of element is drawn, with true entities (keyed by class).
+DRAW: dict[type[Element], Callable[..., None]] = {Line: _draw_line, Arc: _draw_arc}
+
+
+def _draw_path(msp: Any, alignment: Alignment, offset: float, layer: str) -> None:
+    """Draw the centreline (offset 0) or an offset line with true entities."""
     for el in alignment.elements:
-        (n0, n1), (e0, e1), _ = alignment.evaluate(np.array([el.start_station, el.end_station]), offset)
-        if el.kind == "line":
-            msp.add_line((e0, n0), (e1, n1), dxfattribs={"layer": layer})
-            continue
-        assert el.radius is not None and el.center_easting is not None and el.center_northing is not None
-        r = el.radius - el.turn * offset
-        if r <= 1e-9:
-            continue
-        a0 = math.degrees(math.atan2(n0 - el.center_northing, e0 - el.center_easting)) % 360.0
-        a1 = math.degrees(math.atan2(n1 - el.center_northing, e1 - el.center_easting)) % 360.0
-        # DXF arcs run counter-clockwise from start to end: a left turn travels
-        # counter-clockwise, a right turn clockwise (so swap its ends).
-        start, end = (a0, a1) if el.turn < 0 else (a1, a0)
-        msp.add_arc((el.center_easting, el.center_northing), r, start, end, dxfattribs={"layer": layer})
+        (n0, n1), (e0, e1), _ = alignment.evaluate(np.array([el.start, el.end]), offset)
+        DRAW[type(el)](msp, el, ((float(n0), float(e0)), (float(n1), float(e1))), offset, layer)
 
 
-def _extent(c: "Computed") -> tuple[float, float, float, float]:
+def _extent(c: Design) -> tuple[float, float, float, float]:
     e = np.concatenate([c.stakes.easting, [el.start_easting for el in c.alignment.elements],
                         [c.alignment.elements[-1].end_easting]])
     n = np.concatenate([c.stakes.northing, [el.start_northing for el in c.alignment.elements],
                         [c.alignment.elements[-1].end_northing]])
-    if c.job.setup is not None:
-        occ = c.job.setup.occupied
+    if c.setup is not None:
+        occ = c.setup.setup.occupied
         e = np.append(e, occ.easting)
         n = np.append(n, occ.northing)
-        if c.job.setup.backsight is not None:
-            e = np.append(e, c.job.setup.backsight.easting)
-            n = np.append(n, c.job.setup.backsight.northing)
+        if c.setup.setup.backsight is not None:
+            e = np.append(e, c.setup.setup.backsight.easting)
+            n = np.append(n, c.setup.setup.backsight.northing)
     return float(e.min()), float(n.min()), float(e.max()), float(n.max())
 
 
-def _build(c: "Computed"):
+def _build(c: Design) -> Any:
     job, a, sp = c.job, c.alignment, c.stakes
     unit = job.info.unit
-    sl, sd = job.info.station_length, unit.station_decimals
+    stn = c.stationing
+    sl = stn.station_length
     doc = ezdxf.new("R2013", setup=False)
     doc.header["$INSUNITS"] = INSUNITS[unit.key]
     doc.header["$MEASUREMENT"] = 1 if unit.key == "m" else 0
@@ -140,9 +152,7 @@ def _build(c: "Computed"):
     ticks = np.unique(np.concatenate([full, sp.stations]))
     (tn, te, taz) = a.evaluate(ticks, 0.0)
     is_full = np.isin(ticks, full)
-    labels = format_station(full, sl, sd)
-    labels = labels if isinstance(labels, list) else [labels]
-    lab = dict(zip(full.tolist(), labels))
+    lab = dict(zip(full.tolist(), stn.labels(full)))
     for st, n, e, az, big in zip(ticks.tolist(), tn.tolist(), te.tolist(), taz.tolist(), is_full.tolist()):
         half = (2.0 if big else 0.8) * h
         sn, cn = sincosd(az + 90.0)
@@ -155,26 +165,25 @@ def _build(c: "Computed"):
 
     for kp in a.key_points:
         msp.add_circle((kp.easting, kp.northing), 0.8 * h, dxfattribs={"layer": "SO-KEYPOINT"})
-        _text(msp, f"{' '.join(kp.features)} {format_station(kp.station, sl, sd)}", kp.easting + 1.2 * h,
+        _text(msp, f"{' '.join(kp.features)} {stn.label(kp.station)}", kp.easting + 1.2 * h,
               kp.northing - 1.5 * h, h, "SO-KEYPOINT")
 
-    if job.setup is not None:
-        occ = job.setup.occupied
+    if c.setup is not None:
+        occ = c.setup.setup.occupied
         tri = [(occ.easting + 1.5 * h * math.sin(math.radians(t)), occ.northing + 1.5 * h * math.cos(math.radians(t)))
                for t in (0, 120, 240, 0)]
         for p, q in zip(tri, tri[1:]):
             msp.add_line(p, q, dxfattribs={"layer": "SO-CONTROL"})
         msp.add_point((occ.easting, occ.northing), dxfattribs={"layer": "SO-CONTROL"})
         _text(msp, f"{occ.id} (occupied)", occ.easting + 2 * h, occ.northing + h, h, "SO-CONTROL")
-        bs = job.setup.backsight
+        bs = c.setup.setup.backsight
         if bs is not None:
             end = (bs.easting, bs.northing)
             msp.add_point(end, dxfattribs={"layer": "SO-CONTROL"})
             msp.add_circle(end, 1.2 * h, dxfattribs={"layer": "SO-CONTROL"})
             _text(msp, f"{bs.id} (backsight)", bs.easting + 2 * h, bs.northing + h, h, "SO-CONTROL")
         else:
-            assert c.setout is not None
-            s, co = sincosd(c.setout.backsight_azimuth)
+            s, co = sincosd(c.setup.backsight_azimuth)
             length = 0.25 * size
             end = (occ.easting + length * float(s), occ.northing + length * float(co))
             _text(msp, "backsight direction", end[0] + h, end[1], h, "SO-CONTROL")
@@ -188,17 +197,16 @@ def _build(c: "Computed"):
              f"alignment {a.name}   units {unit.label}",
              f"CRS {c.crs_label or 'none: local grid'}", ""]
     lines.append("CURVE DATA")
-    for cv in a.curves:
-        t = cv.tangents
-        head = f"curve {cv.number}: {'right' if cv.turn > 0 else 'left'}, I {format_dms(cv.delta, 1)}"
+    for ct in curve_texts(a, stn):
+        cv, t = ct.curve, ct.curve.tangents
+        head = f"curve {cv.number}: {ct.turn}, I {ct.delta}"
         if cv.pi_station is not None and t is not None:
-            head += f", PI {format_station(cv.pi_station, sl, sd)}, T back {t.back:.4f}, T ahead {t.ahead:.4f}"
+            head += f", PI {ct.pi_label}, T back {t.back:.4f}, T ahead {t.ahead:.4f}"
             if t.t_a is not None and t.t_b is not None:
                 head += f", T_A {t.t_a:.4f} ({t.t_a_side}), T_B {t.t_b:.4f}"
         lines.append(head)
-        for k, i in enumerate(cv.elements, start=1):
-            el = a.elements[i]
-            props = el.arc
+        for k, (arc, _, _) in enumerate(ct.arcs, start=1):
+            props = arc.props
             assert props is not None
             tan = f"{props.tangent:.4f}" if props.tangent is not None else "-"
             lines.append(f"  arc {k}: R {props.radius:.4f}  delta {format_dms(props.delta, 1)}  "
@@ -218,7 +226,7 @@ def _build(c: "Computed"):
     return doc
 
 
-def plan_dxf(c: "Computed") -> bytes:
+def plan_dxf(c: Design) -> bytes:
     """Render ``plan.dxf`` as bytes, identical for the same job and version."""
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header

@@ -13,6 +13,7 @@ from importlib import metadata
 from typing import Any
 
 from .. import __version__
+from ..design import Design
 
 __all__ = ["manifest_json"]
 
@@ -24,9 +25,12 @@ def _version(dist: str) -> str | None:
         return None
 
 
-def manifest_json(job_path: str, job_sha256: str, job_name: str, units: str, crs: str | None,
-                  factors: dict[str, Any], outputs: dict[str, bytes], proj_version: str | None) -> bytes:
+def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
     """Render the manifest for the given outputs (name -> file bytes)."""
+    info = d.job.info
+    job_sha256, job_name, units, crs = d.job.sha256, info.name, info.unit.key, info.crs
+    factors: dict[str, Any] = d.factors
+    proj_version = d.proj_version
     doc = {
         "tool": "stakeout",
         "version": __version__,

@@ -14,13 +14,12 @@ from concurrent.futures import ThreadPoolExecutor
 import numpy as np
 from numpy.typing import NDArray
 
-from ..alignment import Alignment, degree_of_curve_arc
+from ..alignment import Arc, degree_of_curve_arc
 from ..angles import format_dms
-from ..setout import Setout
+from ..design import Design
 from ..staking import StakePoints
-from ..units import Unit
 from . import rows
-from .numbers import fixed, fixed_or_empty
+from .text import fixed, fixed_or_empty, turn_word
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
@@ -74,10 +73,11 @@ class _PerPoint:
 
     def label(self) -> rows.Field:
         sp = self.sp
-        return rows.repeat_rows(rows.station(sp.stations[self.s], sp.station_length, sp.station_decimals), self.m)
+        st = sp.stationing  # every label comes from the stationing: stations in force there
+        return rows.repeat_rows(rows.station(sp.station_values[self.s], st.station_length, st.decimals), self.m)
 
     def station(self, decimals: int) -> rows.Field:
-        return rows.repeat_rows(rows.fixed(self.sp.stations[self.s], decimals), self.m)
+        return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)
 
     def offset(self, decimals: int) -> rows.Field:
         return rows.tile_rows(rows.fixed(self.sp.offsets, decimals), self.k)
@@ -116,9 +116,10 @@ def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], l
         return head + b"".join(pool.map(chunk, starts))
 
 
-def points_csv(sp: StakePoints, unit: Unit) -> bytes:
+def points_csv(design: Design) -> bytes:
     """``points.csv``: the file a crew loads onto a data collector."""
     d = DECIMALS
+    sp, unit = design.stakes, design.unit
 
     def layout(p: _PerPoint) -> list[rows.Field]:
         return [*p.point(), p.sep(), p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(),
@@ -127,9 +128,10 @@ def points_csv(sp: StakePoints, unit: Unit) -> bytes:
     return _csv(POINTS_COLUMNS, sp, layout)
 
 
-def stations_csv(sp: StakePoints) -> bytes:
+def stations_csv(design: Design) -> bytes:
     """``stations.csv``: every staked point with where it sits on the alignment."""
     d = DECIMALS
+    sp = design.stakes
 
     def layout(p: _PerPoint) -> list[rows.Field]:
         return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(), p.sep(), p.offset(d), p.sep(),
@@ -139,24 +141,25 @@ def stations_csv(sp: StakePoints) -> bytes:
     return _csv(STATIONS_COLUMNS, sp, layout)
 
 
-def curves_csv(alignment: Alignment, unit: Unit) -> str:
+def curves_csv(design: Design) -> bytes:
     """``curves.csv``: one row per arc; a compound curve has a row per arc.
 
     ``pc_station``/``pt_station`` are the arc's own start and end (PC or
     PCC/PRC, PCC/PRC or PT); ``pi_station`` is the PI of the whole curve.
     """
+    alignment, unit, station = design.alignment, design.unit, design.stationing.station
     rows = []
     d = DECIMALS
     for curve in alignment.curves:
-        for arc_no, i in enumerate(curve.elements, start=1):
-            el = alignment.elements[i]
-            assert el.arc is not None and el.delta is not None and el.radius is not None
-            p = el.arc
+        arcs = [alignment.elements[i] for i in curve.elements]
+        for arc_no, el in enumerate((a for a in arcs if isinstance(a, Arc)), start=1):
+            p = el.props
+            assert p is not None
             fields = [
                 str(curve.number),
-                fixed_or_empty(curve.pi_station, d),
-                fixed_or_empty(el.start_station, d),
-                fixed_or_empty(el.end_station, d),
+                "" if curve.pi_station is None else fixed_or_empty(float(station(curve.pi_station)), d),
+                fixed_or_empty(float(station(el.start)), d),
+                fixed_or_empty(float(station(el.end)), d),
                 fixed_or_empty(p.radius, d),
                 f"{el.delta:.8f}",
                 str(format_dms(el.delta, 1)),
@@ -166,26 +169,28 @@ def curves_csv(alignment: Alignment, unit: Unit) -> str:
                 fixed_or_empty(p.chord, d),
                 fixed_or_empty(p.external, d),
                 fixed_or_empty(p.middle_ordinate, d),
-                "right" if el.turn > 0 else "left",
+                turn_word(el.turn),
                 str(arc_no),
                 fixed_or_empty(el.center_northing, d),
                 fixed_or_empty(el.center_easting, d),
                 f"{degree_of_curve_arc(p.radius):.8f}" if unit.is_feet else "",
             ]
             rows.append(",".join(fields))
-    return csv_text(CURVES_COLUMNS, rows)
+    return csv_text(CURVES_COLUMNS, rows).encode("utf-8")
 
 
 SETOUT_COLUMNS = ("point", "station", "offset", "azimuth_deg", "azimuth_dms", "angle_right_deg",
                   "angle_right_dms", "grid_distance", "ground_distance")
 
 
-def setout_csv(sp: StakePoints, so: Setout) -> bytes:
+def setout_csv(design: Design) -> bytes:
     """``setout.csv``: angle and distance from the occupied point to every point.
 
     With instrument and target heights and elevations, ``zenith_deg`` and
     ``slope_distance`` follow as added columns.
     """
+    assert design.setup is not None
+    sp, so = design.stakes, design.setup.setout
     d = DECIMALS
     header = list(SETOUT_COLUMNS)
     zen = so.zenith is not None and so.slope_distance is not None

@@ -1,0 +1,322 @@
+"""The built alignment: elements, key points, curves; evaluation and inverse.
+
+Everything here works on numpy arrays.  Positions along the alignment are
+internal stations (the POB's station plus the distance along the
+centreline, no station equation applied); :class:`stakeout.stations.Stationing`
+turns them into printed stations.  Conventions: lengths in job units;
+azimuths in degrees clockwise from grid north; offsets perpendicular to the
+alignment, negative left and positive right looking up-station; ``turn``
++1 right, -1 left.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, NamedTuple
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from ..angles import normalize_azimuth, sincosd
+from ..errors import GeometryError
+from .curves import CompoundTangents
+from .elements import Element
+from .index import ElementGrid, build_grid
+from .kernels import Kernel
+
+__all__ = ["Alignment", "Curve", "KeyPoint", "Position", "Location", "FEATURE_ORDER", "STATION_TOLERANCE"]
+
+#: Order in which coinciding key-point features are listed (outputs contract).
+FEATURE_ORDER = ("POB", "AP", "PT", "ST", "PC", "TS", "PCC", "PRC", "SC", "CS", "EQ",
+                 "PVC", "PVI", "PVT", "HP", "LP", "POE")
+
+#: Stations closer than this (job units) are the same station.
+STATION_TOLERANCE = 1e-6
+
+_CHUNK_PAIRS = 2_000_000  # point x element pairs handled at once by the inverse
+
+F = NDArray[np.float64]
+
+
+class Position(NamedTuple):
+    """Grid coordinates (job units) and the tangent azimuth (degrees) at points."""
+
+    northing: F
+    easting: F
+    azimuth: F
+
+
+class Location(NamedTuple):
+    """Where points lie against the alignment.
+
+    ``station`` is the internal station, ``offset`` the signed offset
+    (negative left), ``distance`` the distance to the nearest point of the
+    alignment (job units).
+    """
+
+    station: F
+    offset: F
+    distance: F
+
+
+@dataclass(frozen=True)
+class KeyPoint:
+    """A named point on the centreline: POB, PC, PCC, PRC, PT, AP, POE, ..."""
+
+    station: float
+    northing: float
+    easting: float
+    features: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Curve:
+    """A maximal run of curving elements turning the same way (a PRC starts a new one).
+
+    ``pi_*`` and ``tangents`` are ``None`` when the total angle is 180
+    degrees or more (the tangents then meet behind the curve).
+    """
+
+    number: int
+    elements: tuple[int, ...]
+    turn: int
+    delta: float
+    pc_station: float
+    pt_station: float
+    pi_station: float | None
+    pi_northing: float | None
+    pi_easting: float | None
+    tangents: CompoundTangents | None
+
+
+@dataclass(frozen=True)
+class Alignment:
+    """A horizontal alignment, ready to evaluate."""
+
+    name: str
+    elements: tuple[Element, ...]
+    key_points: tuple[KeyPoint, ...]
+    curves: tuple[Curve, ...]
+    _arrays: dict[str, Any] = field(repr=False, compare=False)
+
+    # ---- construction ---------------------------------------------------------
+    @classmethod
+    def from_elements(cls, name: str, elements: list[Element], curves: tuple[Curve, ...],
+                      key_points: tuple[KeyPoint, ...]) -> "Alignment":
+        """Assemble an alignment and its evaluation arrays."""
+        params = np.array([el.kernel_params() for el in elements], dtype=np.float64).reshape(len(elements), -1)
+        arr: dict[str, Any] = {
+            "start": np.array([el.start for el in elements]),
+            "length": np.array([el.length for el in elements]),
+            "n0": np.array([el.start_northing for el in elements]),
+            "e0": np.array([el.start_easting for el in elements]),
+            "az0": np.array([el.start_azimuth for el in elements]),
+            "k0": params[:, 0],
+            "k1": params[:, 1],
+        }
+        arr["sin0"], arr["cos0"] = sincosd(arr["az0"])
+        kernels: list[Kernel] = []
+        for el in elements:
+            if el.kernel not in kernels:
+                kernels.append(el.kernel)
+        arr["kernels"] = kernels
+        arr["kernel_of"] = np.array([kernels.index(el.kernel) for el in elements], dtype=np.int64)
+        aps = [kp for kp in key_points if "AP" in kp.features]
+        ap_back = []
+        ap_ahead = []
+        for kp in aps:
+            i = int(np.searchsorted(arr["start"], kp.station - STATION_TOLERANCE, side="right")) - 1
+            ap_back.append(elements[i].end_azimuth)
+            ap_ahead.append(elements[i + 1].start_azimuth)
+        arr["ap_station"] = np.array([kp.station for kp in aps])
+        arr["ap_n"] = np.array([kp.northing for kp in aps])
+        arr["ap_e"] = np.array([kp.easting for kp in aps])
+        arr["ap_back"] = np.array(ap_back)
+        arr["ap_ahead"] = np.array(ap_ahead)
+        return cls(name, tuple(elements), key_points, curves, arr)
+
+    # ---- basic facts ------------------------------------------------------------
+    @property
+    def start_station(self) -> float:
+        """Internal station of the POB."""
+        return self.elements[0].start
+
+    @property
+    def end_station(self) -> float:
+        """Internal station of the POE."""
+        return self.elements[-1].end
+
+    @property
+    def length(self) -> float:
+        """Total length along the centreline."""
+        return self.end_station - self.start_station
+
+    def element_at(self, stations: ArrayLike) -> NDArray[np.int64]:
+        """Index of the element each internal station lies on (the later one at a join)."""
+        a = self._arrays
+        s = np.asarray(stations, dtype=float)
+        return np.clip(np.searchsorted(a["start"], s, side="right") - 1, 0, len(self.elements) - 1)
+
+    # ---- evaluation ---------------------------------------------------------------
+    def evaluate(self, stations: ArrayLike, offsets: ArrayLike = 0.0, *, miter: bool = True) -> Position:
+        """Coordinates and direction at internal stations and offsets.
+
+        Parameters
+        ----------
+        stations : array of float
+            Internal stations in job units, within the alignment.
+        offsets : array of float
+            Perpendicular offsets in job units, negative left, positive
+            right; broadcast against ``stations``.
+        miter : bool
+            At an angle point, put an offset stake where the two offset
+            lines meet (job-file contract) instead of square to the
+            ahead tangent.
+
+        Returns
+        -------
+        Position
+            Grid coordinates and the tangent azimuth (degrees) there.
+
+        Raises
+        ------
+        GeometryError
+            If a station lies off the alignment.
+        """
+        a = self._arrays
+        s, o = np.broadcast_arrays(np.asarray(stations, dtype=float), np.asarray(offsets, dtype=float))
+        lo, hi = self.start_station, self.end_station
+        bad = (s < lo - STATION_TOLERANCE) | (s > hi + STATION_TOLERANCE) | ~np.isfinite(s)
+        if np.any(bad):
+            raise GeometryError(
+                f"station {float(s[bad].flat[0]):.4f} is off the alignment ({lo:.4f} to {hi:.4f})"
+            )
+        idx = self.element_at(s)
+        ds = s - a["start"][idx]
+        kernels: list[Kernel] = a["kernels"]
+        if len(kernels) == 1:
+            north, east, az = kernels[0].evaluate(a, idx, ds, o)
+        else:
+            north, east, az = (np.empty(s.shape) for _ in range(3))
+            which = a["kernel_of"][idx]
+            for kj, kern in enumerate(kernels):  # one step per kind of element, vectorised inside
+                m = which == kj
+                north[m], east[m], az[m] = kern.evaluate(a, idx[m], ds[m], o[m])
+        if miter and a["ap_station"].size:
+            j = np.clip(np.searchsorted(a["ap_station"], s), 0, a["ap_station"].size - 1)
+            hit = np.abs(a["ap_station"][j] - s) <= STATION_TOLERANCE
+            if np.any(hit):
+                jj = j[hit]
+                s1, c1 = sincosd(a["ap_back"][jj])
+                s2, c2 = sincosd(a["ap_ahead"][jj])
+                # right normals (east, north) = (cos az, -sin az); the offset
+                # lines meet at o * (n1 + n2) / (1 + n1.n2)
+                denom = 1.0 + (c1 * c2 + s1 * s2)
+                oh = o[hit]
+                east[hit] = a["ap_e"][jj] + oh * (c1 + c2) / denom
+                north[hit] = a["ap_n"][jj] - oh * (s1 + s2) / denom
+        return Position(north, east, np.asarray(normalize_azimuth(az)))
+
+    # ---- inverse ------------------------------------------------------------------
+    def locate(self, northing: ArrayLike, easting: ArrayLike) -> Location:
+        """Internal station and offset of points against the alignment.
+
+        Each point is referred to the element whose nearest point is
+        closest.  A point square to an element gets its perpendicular
+        offset; one beyond the ends of every element it is near (outside an
+        angle point, past an end arc) gets the distance to the nearest end,
+        signed by side.  Tangents at the very start and end are extended, so
+        a point before the POB or past the POE gets a station outside the
+        alignment.
+
+        Candidate elements come from a uniform grid over the elements'
+        bounding boxes (:mod:`.index`); a point with no element within one
+        grid cell is compared against every element, so the answer is
+        always the nearest element.
+
+        Parameters
+        ----------
+        northing, easting : array of float
+            Grid coordinates, job units.
+        """
+        n, e = np.broadcast_arrays(np.asarray(northing, dtype=float), np.asarray(easting, dtype=float))
+        shape = n.shape
+        n = n.ravel()
+        e = e.ravel()
+        out = np.empty((3, n.size))
+        todo = np.arange(n.size)
+        grid = self._grid()
+        if grid is not None and n.size:
+            keys = grid.keys(n, e)
+            uniq, inv = np.unique(keys, return_inverse=True)
+            order = np.argsort(inv, kind="stable")
+            bounds = np.searchsorted(inv[order], np.arange(uniq.size + 1))
+            miss = []
+            for c, key in enumerate(uniq.tolist()):  # one step per occupied grid cell, vectorised inside
+                pts = order[bounds[c]:bounds[c + 1]]
+                sel = grid.cells.get(key)
+                if sel is None:
+                    miss.append(pts)
+                    continue
+                res = self._locate_sel(n[pts], e[pts], sel)
+                ok = res[2] <= grid.g
+                out[:, pts[ok]] = res[:, ok]
+                miss.append(pts[~ok])
+            todo = np.concatenate(miss) if miss else todo[:0]
+        if todo.size:
+            allsel = np.arange(len(self.elements))
+            step = max(1, _CHUNK_PAIRS // len(self.elements))
+            for i in range(0, todo.size, step):  # chunks bound memory; each chunk is vectorised
+                pts = todo[i:i + step]
+                out[:, pts] = self._locate_sel(n[pts], e[pts], allsel)
+        return Location(out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape))
+
+    def _grid(self) -> ElementGrid | None:
+        cached = self._arrays.get("_grid")
+        if cached is None:
+            def sample(s: F) -> tuple[F, F]:
+                p = self.evaluate(s, miter=False)
+                return p.northing, p.easting
+
+            cached = (build_grid(self.elements, self.length, sample),)
+            self._arrays["_grid"] = cached
+        return cached[0]
+
+    def _locate_sel(self, n: F, e: F, sel: NDArray[np.int64]) -> F:
+        """Nearest of the elements ``sel`` for each point: rows station, offset, distance."""
+        a = self._arrays
+        nel = len(self.elements)
+        # the tangents at the very start and end extend beyond the alignment
+        lo = np.where(sel == 0, -np.inf, 0.0)
+        hi = np.where(sel == nel - 1, np.inf, a["length"][sel])
+        kernels: list[Kernel] = a["kernels"]
+        which = a["kernel_of"][sel]
+        if len(kernels) == 1:
+            near = kernels[0].nearest(a, sel, n, e, lo, hi)
+            cols = sel
+        else:
+            parts, col_parts = [], []
+            for j, kern in enumerate(kernels):  # one step per kind of element, vectorised inside
+                m = which == j
+                if np.any(m):
+                    parts.append(kern.nearest(a, sel[m], n, e, lo[m], hi[m]))
+                    col_parts.append(sel[m])
+            near = type(parts[0])(*(np.concatenate(f, axis=1) for f in zip(*parts)))
+            cols = np.concatenate(col_parts)
+        best = np.argmin(near.distance, axis=1)
+        rows = np.arange(n.size)
+        el = cols[best]
+        sb = near.s[rows, best]
+        # signed offset: component on the right normal at the nearest point
+        st = np.empty(n.size)
+        ct = np.empty(n.size)
+        owner = a["kernel_of"][el]
+        for j, kern in enumerate(kernels):  # one step per kind of element
+            m = owner == j
+            if np.any(m):
+                st[m], ct[m] = kern.direction(a, el[m], sb[m])
+        across = (e - near.easting[rows, best]) * ct - (n - near.northing[rows, best]) * st
+        d = near.distance[rows, best]
+        sign = np.where(across < 0.0, -1.0, 1.0)
+        offset = np.where(near.clamped[rows, best], sign * d, across)
+        return np.stack([a["start"][el] + sb, offset, d])

@@ -1,0 +1,68 @@
+"""A uniform grid over the elements' bounding boxes: candidate elements near a point.
+
+The inverse compares each point only with the elements whose (padded) box
+reaches the point's grid cell; points in a cell with no element fall back
+to every element, so the answer is always the nearest element.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import NDArray
+
+from .elements import Element
+
+__all__ = ["ElementGrid", "build_grid"]
+
+#: Alignments of up to this many elements are searched whole, without a grid.
+GRID_MIN_ELEMENTS = 8
+
+
+@dataclass(frozen=True)
+class ElementGrid:
+    """Cell size ``g`` (job units), origin, and ``{cell key: element indices}``."""
+
+    g: float
+    e_min: float
+    n_min: float
+    cells: dict[int, NDArray[np.int64]]
+
+    def keys(self, n: NDArray[np.float64], e: NDArray[np.float64]) -> NDArray[np.int64]:
+        """The cell key of each point."""
+        g = self.g
+        return (np.floor((e - self.e_min) / g).astype(np.int64) << 32) + np.floor((n - self.n_min) / g).astype(np.int64)
+
+
+def build_grid(elements: Sequence[Element], length: float,
+               sample: Callable[[NDArray[np.float64]], tuple[NDArray[np.float64], NDArray[np.float64]]]
+               ) -> ElementGrid | None:
+    """The grid of an alignment, or ``None`` for one of few elements.
+
+    ``sample(stations)`` gives northings and eastings of centreline points
+    at internal stations; each element is boxed by its own samples
+    (:meth:`Element.bbox_samples`) padded by :meth:`Element.bbox_pad`.
+    """
+    k = len(elements)
+    if k <= GRID_MIN_ELEMENTS:
+        return None
+    boxes = []
+    for el in elements:  # one step per element, vectorised inside
+        s = np.linspace(el.start, el.end, el.bbox_samples())
+        pn, pe = sample(s)
+        pad = el.bbox_pad()
+        boxes.append((pe.min() - pad, pn.min() - pad, pe.max() + pad, pn.max() + pad))
+    b = np.array(boxes)
+    extent = max(b[:, 2].max() - b[:, 0].min(), b[:, 3].max() - b[:, 1].min(), 1e-9)
+    g = max(length / k, extent / 4096.0, 1e-6)
+    e_min, n_min = b[:, 0].min() - 2 * g, b[:, 1].min() - 2 * g
+    cells: dict[int, list[int]] = {}
+    for idx, (x0, y0, x1, y1) in enumerate(b):
+        ix0, iy0 = int(np.floor((x0 - g - e_min) / g)), int(np.floor((y0 - g - n_min) / g))
+        ix1, iy1 = int(np.floor((x1 + g - e_min) / g)), int(np.floor((y1 + g - n_min) / g))
+        for ix in range(ix0, ix1 + 1):
+            for iy in range(iy0, iy1 + 1):
+                cells.setdefault((ix << 32) + iy, []).append(idx)
+    return ElementGrid(g, float(e_min), float(n_min), {key: np.array(v) for key, v in cells.items()})

@@ -1,0 +1,104 @@
+"""The design: everything a job computes before any file is written.
+
+:func:`build_design` turns a typed :class:`~stakeout.job.Job` into a frozen
+:class:`Design` — the alignment, its stationing, the stakes, and with a
+``[setup]`` the setout from the occupied point with the factors used.
+Every writer reads a :class:`Design` and nothing else of the job's
+processing.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from .alignment import Alignment, build_alignment
+from .job import Job, Setup
+from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
+from .staking import StakePoints, plan_stakes
+from .stations import Stationing
+from .units import Unit
+
+__all__ = ["Design", "SetupDesign", "build_design", "build_stationing"]
+
+
+@dataclass(frozen=True)
+class SetupDesign:
+    """The instrument setup as computed: the job's ``[setup]``, the combined
+    factor used and the setout of every stake from it."""
+
+    setup: Setup
+    scale: ScaleInfo
+    setout: Setout
+
+    @property
+    def backsight_azimuth(self) -> float:
+        """Grid azimuth of the backsight, degrees."""
+        return self.setout.backsight_azimuth
+
+
+@dataclass(frozen=True)
+class Design:
+    """A computed job, read by every writer."""
+
+    job: Job
+    alignment: Alignment
+    stationing: Stationing
+    stakes: StakePoints
+    setup: SetupDesign | None = None
+    crs_label: str | None = None
+    proj_version: str | None = None
+    factors: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def unit(self) -> Unit:
+        """The job's unit."""
+        return self.job.info.unit
+
+    @property
+    def design_elevation(self) -> np.ndarray | None:
+        """Design elevation of every stake, or ``None`` when the job gives none."""
+        e = self.job.staking.elevation
+        return None if e is None else np.full(len(self.stakes), e)
+
+
+def build_stationing(job: Job, alignment: Alignment) -> Stationing:
+    """The stationing of the job's alignment."""
+    return Stationing(alignment.start_station, alignment.end_station, job.info.station_length,
+                      job.info.unit.station_decimals)
+
+
+def build_design(job: Job) -> Design:
+    """Build the alignment, the stakes and, with a ``[setup]``, the setout."""
+    alignment = build_alignment(job.alignment)
+    stationing = build_stationing(job, alignment)
+    stakes = plan_stakes(alignment, job.staking, stationing)
+    grid = crs_label = proj = None
+    unit = job.info.unit
+    if job.info.crs is not None:
+        from .crs import load_crs, proj_version
+
+        grid = load_crs(job.info.crs, unit)
+        crs_label = grid.label
+        proj = proj_version()
+    setup_design = None
+    factors: dict[str, Any] = {}
+    if job.setup is not None:
+        setup = job.setup
+        occ = setup.occupied
+        pf = grid.factors(occ.northing, occ.easting) if grid is not None else None
+        scale = resolve_scale(job.scale, unit, pf)
+        bs_az = backsight_azimuth(setup, pf.convergence if pf else None)
+        elev = None if job.staking.elevation is None else np.full(len(stakes), job.staking.elevation)
+        setout = compute_setout(occ.northing, occ.easting, bs_az, stakes.northing, stakes.easting,
+                                scale.combined_factor, occ.elevation, setup.instrument_height, elev,
+                                setup.target_height)
+        setup_design = SetupDesign(setup, scale, setout)
+        factors = {k: v for k, v in {
+            "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
+            "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
+            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": bs_az,
+        }.items() if v is not None}
+    return Design(job, alignment, stationing, stakes, setup_design, crs_label, proj, factors)

@@ -1,0 +1,106 @@
+"""The typed job: what a job file says, as plain frozen data (no reading, no computing).
+
+:mod:`stakeout.jobfile` produces a :class:`Job`; :mod:`stakeout.design`
+turns it into a :class:`~stakeout.design.Design`.  Lengths in the job's
+units; angles in decimal degrees; azimuths clockwise from grid north.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .alignment.specs import AlignmentSpec
+from .stations import StationRef
+from .units import Unit
+
+__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "Setup", "Scale", "CheckSpec"]
+
+
+@dataclass(frozen=True)
+class JobInfo:
+    """``[job]``: name, unit, CRS and station length."""
+
+    name: str
+    unit: Unit
+    crs: str | None
+    station_length: int
+
+
+@dataclass(frozen=True)
+class OffsetLine:
+    """One offset line: offset (job units, negative left) and its code."""
+
+    offset: float
+    code: str
+
+
+@dataclass(frozen=True)
+class Staking:
+    """``[staking]``: what to stake and how points are numbered."""
+
+    interval: float
+    offsets: tuple[OffsetLine, ...]
+    extra_stations: tuple[StationRef, ...]
+    first_point: int
+    point_prefix: str
+    elevation: float | None
+
+
+@dataclass(frozen=True)
+class ControlPoint:
+    """A control point: id, grid coordinates (job units), optional elevation."""
+
+    id: str
+    northing: float
+    easting: float
+    elevation: float | None = None
+
+
+@dataclass(frozen=True)
+class Setup:
+    """``[setup]``: the occupied point and the backsight (point or azimuth)."""
+
+    occupied: ControlPoint
+    backsight: ControlPoint | None
+    backsight_azimuth: float | None
+    azimuth_reference: str
+    instrument_height: float | None
+    target_height: float | None
+
+
+@dataclass(frozen=True)
+class Scale:
+    """``[scale]``: combined factor as a number, or ``auto`` (needs a CRS)."""
+
+    combined_factor: float | None  # None: "auto"
+    ellipsoid_height: float | None = None
+    elevation: float | None = None
+    geoid_separation: float | None = None
+
+    @property
+    def auto(self) -> bool:
+        """True when the factor is to be computed from the CRS."""
+        return self.combined_factor is None
+
+
+@dataclass(frozen=True)
+class CheckSpec:
+    """``[check]``: tolerances for checking staked points (job units)."""
+
+    horizontal_tolerance: float | None
+    vertical_tolerance: float | None
+    search_radius: float | None
+
+
+@dataclass(frozen=True)
+class Job:
+    """A whole validated job."""
+
+    path: str
+    sha256: str
+    info: JobInfo
+    alignment: AlignmentSpec
+    staking: Staking
+    setup: Setup | None
+    scale: Scale
+    check: CheckSpec | None

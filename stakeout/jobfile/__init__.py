@@ -1,0 +1,101 @@
+"""The only reader of job files: TOML (format 1) -> a validated, typed :class:`~stakeout.job.Job`.
+
+Every key of the job-file contract is read here, one module per section
+(:mod:`.alignment`, :mod:`.staking`, :mod:`.setup`) over the strict table
+reader of :mod:`.reader`.  Unknown keys are errors (a typo must never be
+silently ignored); every error names the key with its table
+(``alignment.pi[2].radius``; array entries count from 0 in file order), the
+value, and what is allowed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import tomllib
+from pathlib import Path
+
+from ..errors import JobFileError
+from ..job import Job, JobInfo
+from ..stations import check_station_length
+from ..units import get_unit
+from .alignment import read_alignment
+from .reader import SAFE_TEXT, Table, check_safe_text
+from .setup import read_check, read_scale, read_setup
+from .staking import read_staking
+
+__all__ = ["load_job", "parse_job", "SAFE_TEXT", "check_safe_text"]
+
+
+def load_job(path: str | Path) -> Job:
+    """Read and validate a job file.
+
+    Raises
+    ------
+    JobFileError
+        If the file is missing, unreadable, not TOML, or not a valid job.
+    """
+    p = Path(path)
+    try:
+        data = p.read_bytes()
+    except FileNotFoundError:
+        raise JobFileError(f"job file {str(p)!r}: not found") from None
+    except IsADirectoryError:
+        raise JobFileError(f"job file {str(p)!r}: is a folder, not a file") from None
+    except OSError as exc:
+        raise JobFileError(f"job file {str(p)!r}: cannot be read ({exc.strerror})") from None
+    return parse_job(data, str(p))
+
+
+def parse_job(data: bytes, path: str = "<job>") -> Job:
+    """Validate job-file bytes (TOML, UTF-8) into a :class:`Job`."""
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise JobFileError(f"{path}: not UTF-8 text (byte {exc.start})") from None
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise JobFileError(f"{path}: not valid TOML: {exc}") from None
+    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check"))
+    fmt = top.raw("format", required=True)
+    if fmt != 1 or isinstance(fmt, bool):
+        raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
+    info = _job_info(top)
+    alignment = read_alignment(top, info)
+    staking = read_staking(top, info)
+    setup = read_setup(top)
+    scale = read_scale(top)
+    if scale.auto and info.crs is None:
+        raise JobFileError('scale.combined_factor = "auto": needs job.crs (the grid scale factor comes from the CRS)')
+    if scale.auto and setup is None:
+        raise JobFileError('scale.combined_factor = "auto": needs [setup] (the factor is taken at the occupied point)')
+    if setup is not None and setup.azimuth_reference == "geodetic" and info.crs is None:
+        raise JobFileError(
+            "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
+        )
+    return Job(
+        path=path,
+        sha256=hashlib.sha256(data).hexdigest(),
+        info=info,
+        alignment=alignment,
+        staking=staking,
+        setup=setup,
+        scale=scale,
+        check=read_check(top),
+    )
+
+
+def _job_info(top: Table) -> JobInfo:
+    """``[job]``: name, units, CRS, station length."""
+    t = top.table("job", ("name", "units", "crs", "station_length"), required=True)
+    assert t is not None
+    name = t.text("name") or ""
+    if "\n" in name or "\r" in name:
+        raise JobFileError(f"job.name = {name!r}: must be one line")
+    unit = get_unit(t.raw("units", required=True))
+    crs = t.text("crs")
+    if crs is not None and not crs.strip():
+        raise JobFileError(f"job.crs = {crs!r}: empty; leave the key out for a local grid")
+    sl = t.raw("station_length")
+    station_length = int(unit.station_length) if sl is None else check_station_length(sl)
+    return JobInfo(name, unit, crs, station_length)

@@ -1,0 +1,60 @@
+"""``[staking]``: what to stake and how the points are numbered."""
+
+from __future__ import annotations
+
+from ..errors import JobFileError
+from ..job import JobInfo, OffsetLine, Staking
+from .reader import Table, check_safe_text, station_ref
+
+__all__ = ["read_staking"]
+
+
+def read_staking(top: Table, info: JobInfo) -> Staking:
+    """``[staking]``: interval, offset lines, extra stations, numbering, elevation."""
+    t = top.table("staking", ("interval", "offsets", "extra_stations", "first_point", "point_prefix",
+                              "elevation"), required=True)
+    assert t is not None
+    interval = float(t.number("interval", required=True, positive=True) or 0.0)
+    offsets: list[OffsetLine] = []
+    raw = t.array("offsets")
+    if raw is None:
+        offsets.append(OffsetLine(0.0, "CL"))
+    else:
+        if not raw:
+            raise JobFileError("staking.offsets = []: give at least one offset line, e.g. {offset = 0, code = \"CL\"}")
+        for i, item in enumerate(raw):
+            where = f"staking.offsets[{i}]"
+            if not isinstance(item, dict):
+                raise JobFileError(f"{where} = {item!r}: expected {{offset = ..., code = \"...\"}}")
+            o = Table(item, where, ("offset", "code"))
+            off = float(o.number("offset", required=True) or 0.0)
+            code = check_safe_text(o.raw("code", required=True), o.key("code"))
+            offsets.append(OffsetLine(off + 0.0, code))
+    seen: dict[float, int] = {}
+    for i, ol in enumerate(offsets):
+        if ol.offset in seen:
+            raise JobFileError(
+                f"staking.offsets[{i}].offset = {ol.offset!r}: same offset as staking.offsets[{seen[ol.offset]}]"
+            )
+        seen[ol.offset] = i
+    extras = []
+    for i, v in enumerate(t.array("extra_stations") or []):
+        where = f"staking.extra_stations[{i}]"
+        extras.append(station_ref(v, info.station_length, where))
+    fp = t.raw("first_point")
+    if fp is None:
+        first_point = 1
+    elif isinstance(fp, bool) or not isinstance(fp, int) or fp < 0:
+        raise JobFileError(f"staking.first_point = {fp!r}: must be a whole number, 0 or more")
+    else:
+        first_point = fp
+    prefix = t.raw("point_prefix")
+    prefix = "" if prefix is None else check_safe_text(prefix, "staking.point_prefix", allow_empty=True)
+    return Staking(
+        interval=interval,
+        offsets=tuple(sorted(offsets, key=lambda ol: ol.offset)),
+        extra_stations=tuple(extras),
+        first_point=first_point,
+        point_prefix=prefix,
+        elevation=t.number("elevation"),
+    )

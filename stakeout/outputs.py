@@ -1,0 +1,129 @@
+"""The output registry: one table of every file ``stakeout build`` can write.
+
+Each entry names the ``--only`` name, the file, the writer and what it
+needs.  ``--only``, the help text, the default set of outputs and the
+manifest are all driven from :data:`OUTPUTS`; a new output is one entry
+here plus its writer.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from .errors import JobFileError
+
+if TYPE_CHECKING:  # pragma: no cover - the registry itself stays light to import
+    from .design import Design
+
+__all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help", "PREVIEW_MAX_POINTS"]
+
+#: A default build draws plan.png only up to this many points.
+PREVIEW_MAX_POINTS = 20_000
+
+
+class Rendered(dict[str, bytes]):
+    """Files rendered so far in one build (file name -> bytes), so that one
+    output can reuse another (the preview is drawn from plan.dxf)."""
+
+
+@dataclass(frozen=True)
+class Output:
+    """One output file.
+
+    ``render(design, done)`` returns the file's bytes; ``needs_setup``
+    outputs exist only for jobs with a ``[setup]``; ``extra`` names the
+    optional install an output needs (``None``: always available).
+    """
+
+    name: str
+    filename: str
+    what: str
+    render: Callable[["Design", Rendered], bytes]
+    needs_setup: bool = False
+    extra: str | None = None
+
+
+def _points(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import points_csv
+
+    return points_csv(d)
+
+
+def _stations(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import stations_csv
+
+    return stations_csv(d)
+
+
+def _curves(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import curves_csv
+
+    return curves_csv(d)
+
+
+def _setout(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import setout_csv
+
+    return setout_csv(d)
+
+
+def _sheet(d: "Design", done: Rendered) -> bytes:
+    from .writers.sheets import setout_sheet
+
+    return setout_sheet(d).encode("utf-8")
+
+
+def _deflections(d: "Design", done: Rendered) -> bytes:
+    from .writers.sheets import deflection_sheet
+
+    return deflection_sheet(d).encode("utf-8")
+
+
+def _dxf(d: "Design", done: Rendered) -> bytes:
+    if "plan.dxf" not in done:
+        from .writers.dxf import plan_dxf
+
+        done["plan.dxf"] = plan_dxf(d)
+    return done["plan.dxf"]
+
+
+def _preview(d: "Design", done: Rendered) -> bytes:
+    from .writers.dxf import plan_png
+
+    return plan_png(_dxf(d, done))
+
+
+#: Every output, in writing order (the manifest comes last and is written by the pipeline).
+OUTPUTS: tuple[Output, ...] = (
+    Output("points", "points.csv", "the point file for the data collector", _points),
+    Output("stations", "stations.csv", "every stake with its station, offset and feature", _stations),
+    Output("curves", "curves.csv", "one row per arc", _curves),
+    Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
+    Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
+    Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),
+    Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
+    Output("preview", "plan.png", "a picture of the plan", _preview, extra="preview"),
+    Output("manifest", "manifest.json", "hashes of the job file and of every output", lambda d, done: b""),
+)
+
+BY_NAME: dict[str, Output] = {o.name: o for o in OUTPUTS}
+
+
+def only_help() -> str:
+    """The ``--only`` help text, listing every name."""
+    return "Comma-separated outputs: " + ", ".join(o.name for o in OUTPUTS) + "."
+
+
+def parse_only(text: str | None) -> list[str] | None:
+    """Parse ``--only a,b``; ``None`` when not given."""
+    if text is None:
+        return None
+    names = [n.strip() for n in text.split(",") if n.strip()]
+    if not names:
+        raise JobFileError(f"--only {text!r}: name at least one of {', '.join(BY_NAME)}")
+    for n in names:
+        if n not in BY_NAME:
+            raise JobFileError(f"--only {n!r}: unknown output; use names from {', '.join(BY_NAME)}")
+    return names

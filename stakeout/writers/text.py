@@ -1,0 +1,173 @@
+"""One text toolkit for the sheets, the reports and the DXF's text.
+
+Fixed-width numbers, turn words, the job header block, the curve-data of
+every curve (T_A / T_B named by the side they lie on), page width and
+paging, and the cautions printed at the foot of every sheet and report.
+Nothing here is time-dependent, so the same design gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from ..alignment import Alignment, Arc, Curve
+from ..angles import format_dms
+from ..design import Design
+from ..stations import Stationing
+
+__all__ = [
+    "CAUTION_LINES", "WIDTH", "ROWS_PER_PAGE", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
+    "turn_word", "header_lines", "CurveText", "curve_texts", "curve_lines", "paged",
+]
+
+#: The cautions printed at the foot of every sheet and report.
+CAUTION_LINES = (
+    "CAUTION: computed by stakeout from the job file named above. Check every",
+    "value independently (closures, a second computation, field checks on known",
+    "control) before staking. Local codes and the judgement of a licensed surveyor",
+    "govern; this sheet does not replace them.",
+)
+
+#: Widest line of a printed sheet (characters).
+WIDTH = 100
+#: Table rows on one page of a printed sheet.
+ROWS_PER_PAGE = 50
+
+
+# ---- numbers ---------------------------------------------------------------------------
+def rounded(values: ArrayLike, decimals: int) -> list[float]:
+    """Round to ``decimals`` and clear negative zeros; a plain list of floats."""
+    return (np.round(np.asarray(values, dtype=float), decimals) + 0.0).tolist()
+
+
+def fixed(values: ArrayLike, decimals: int) -> list[str]:
+    """Format numbers with a fixed number of decimals (never ``-0.000``)."""
+    fmt = f"%.{decimals}f"
+    return [fmt % v for v in rounded(values, decimals)]
+
+
+def fixed_or_empty(value: float | None, decimals: int) -> str:
+    """Format one number, or an empty field for ``None``."""
+    if value is None:
+        return ""
+    return fixed([value], decimals)[0]
+
+
+def finite_or_empty(value: float, decimals: int) -> str:
+    """Format one number, or an empty field for NaN and infinities."""
+    if not math.isfinite(value):
+        return ""
+    return f"{round(value, decimals) + 0.0:.{decimals}f}"
+
+
+def turn_word(turn: int) -> str:
+    """``right``, ``left``, or empty for a straight element."""
+    return "right" if turn > 0 else ("left" if turn < 0 else "")
+
+
+# ---- the job header ------------------------------------------------------------------------
+def header_lines(title: str, d: Design) -> list[str]:
+    """The header block every sheet opens with: job, file and hash, alignment, units, CRS."""
+    job = d.job
+    return [
+        f"{title}   {job.info.name}".rstrip(),
+        f"job file  {Path(job.path).name}",
+        f"          sha256 {job.sha256}",
+        f"alignment {d.alignment.name}   units {job.info.unit.label}",
+        f"CRS       {d.crs_label or 'none: local grid'}",
+    ]
+
+
+# ---- curve data ------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class CurveText:
+    """A curve's data as text pieces, shared by the sheets, the report and the plan.
+
+    ``back_side``/``ahead_side`` name the two-centred tangents:
+    ``("T_A", "R1", radius)`` on the larger-radius side, ``("T_B", "R2",
+    radius)`` on the smaller; ``None`` for other curves.
+    """
+
+    curve: Curve
+    turn: str
+    delta: str
+    pi_label: str
+    back_side: tuple[str, str, float] | None
+    ahead_side: tuple[str, str, float] | None
+    arcs: tuple[tuple[Arc, str, str], ...]  # (arc, start label, end label)
+
+
+def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]:
+    """Text pieces of every curve of the alignment."""
+    out = []
+    for c in alignment.curves:
+        arcs = [alignment.elements[i] for i in c.elements]
+        radii = [a.radius for a in arcs if isinstance(a, Arc)]
+        back = ahead = None
+        t = c.tangents
+        if t is not None and t.t_a_side is not None:
+            big, small = ("T_A", "R1", max(radii)), ("T_B", "R2", min(radii))
+            back, ahead = (big, small) if t.t_a_side == "back" else (small, big)
+        out.append(CurveText(
+            c, turn_word(c.turn), str(format_dms(c.delta, 1)), stationing.label(c.pi_station), back, ahead,
+            tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs if isinstance(a, Arc)),
+        ))
+    return out
+
+
+def curve_lines(d: Design) -> list[str]:
+    """Curve data for the foot of a sheet: per curve its PI and whole tangents
+    (T_A / T_B named by side for two-centred curves), then one line per arc."""
+    out = ["CURVE DATA"]
+    if not d.alignment.curves:
+        out.append("  (no curves)")
+    for ct in curve_texts(d.alignment, d.stationing):
+        c, t = ct.curve, ct.curve.tangents
+        head = f"  curve {c.number}  {ct.turn}  I {ct.delta}"
+        if c.pi_station is None or t is None:
+            out.append(head + "  (I of 180 deg or more: no PI)")
+        else:
+            out.append(head + f"  PI {ct.pi_label}  N {c.pi_northing:.4f}  E {c.pi_easting:.4f}")
+            side_b = f" = {ct.back_side[0]} ({ct.back_side[1]} {ct.back_side[2]:.4f} side)" if ct.back_side else ""
+            side_a = f" = {ct.ahead_side[0]} ({ct.ahead_side[1]} {ct.ahead_side[2]:.4f} side)" if ct.ahead_side else ""
+            out.append(f"    tangent PI to start (back)  {t.back:.4f}{side_b}")
+            out.append(f"    tangent PI to end (ahead)   {t.ahead:.4f}{side_a}")
+        for k, (arc, a0, a1) in enumerate(ct.arcs, start=1):
+            p = arc.props
+            assert p is not None
+            out.append(f"    arc {k}  {a0} to {a1}  R {p.radius:.4f}  "
+                       f"delta {format_dms(p.delta, 1)}  L {p.length:.4f}  chord {p.chord:.4f}")
+    return out
+
+
+# ---- pages -------------------------------------------------------------------------------------
+def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str]) -> str:
+    """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
+    with the column header repeated (pages split by a form feed), the foot
+    and the cautions; no line over :data:`WIDTH` characters."""
+    pages = max(1, math.ceil(len(rows) / ROWS_PER_PAGE))
+    rule = "-" * max(len(c) for c in columns)
+    out: list[str] = []
+    for p in range(pages):
+        if p == 0:
+            out.extend(head)
+        else:
+            out.append("\f" + f"{title}   page {p + 1} of {pages}")
+        out.append(f"page {p + 1} of {pages}" if p == 0 else "")
+        out.append(rule)
+        out.extend(columns)
+        out.append(rule)
+        out.extend(rows[p * ROWS_PER_PAGE:(p + 1) * ROWS_PER_PAGE])
+        out.append(rule)
+    out.append("")
+    out.extend(foot)
+    out.append("")
+    out.extend(CAUTION_LINES)
+    text = "\n".join(out) + "\n"
+    assert all(len(line.lstrip("\f")) <= WIDTH for line in text.splitlines()), "sheet line over 100 characters"
+    return text
