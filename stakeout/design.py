@@ -27,7 +27,8 @@ __all__ = ["Design", "SetupDesign", "build_design", "build_stationing"]
 @dataclass(frozen=True)
 class SetupDesign:
     """The instrument setup as computed: the job's ``[setup]``, the combined
-    factor used and the setout of every stake from it."""
+    factor used and the setout of every stake from it.
+    """
 
     setup: Setup
     scale: ScaleInfo

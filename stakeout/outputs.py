@@ -25,7 +25,8 @@ PREVIEW_MAX_POINTS = 20_000
 
 class Rendered(dict[str, bytes]):
     """Files rendered so far in one build (file name -> bytes), so that one
-    output can reuse another (the preview is drawn from plan.dxf)."""
+    output can reuse another (the preview is drawn from plan.dxf).
+    """
 
 
 @dataclass(frozen=True)

@@ -127,7 +127,8 @@ def station_text(value: float, station_length: int, decimals: int) -> str:
 
 class StationRef(NamedTuple):
     """A station as the job file gives it: its value, the region it is read
-    in (``None``: wherever it lies) and the key that gave it."""
+    in (``None``: wherever it lies) and the key that gave it.
+    """
 
     value: float
     region: int | None
@@ -137,7 +138,8 @@ class StationRef(NamedTuple):
 @dataclass(frozen=True)
 class Equation:
     """A station equation at internal station ``internal``: the station
-    ``back`` before it is the same point as ``ahead`` after it."""
+    ``back`` before it is the same point as ``ahead`` after it.
+    """
 
     internal: float
     back: float

@@ -145,7 +145,8 @@ def test_header_sets_column_order(tmp_path):
     assert r.exit_code == 0, r.output
 
 
-@pytest.mark.parametrize("content, line", [("p,n,e\n1000,abc,5\n", 2), ("1000,abc,5\n", 1), ("1000,1.0,2.0\n1001,1.0\n", 2), ("", None),
+@pytest.mark.parametrize("content, line", [("p,n,e\n1000,abc,5\n", 2), ("1000,abc,5\n", 1),
+                                           ("1000,1.0,2.0\n1001,1.0\n", 2), ("", None),
                                            ("point,northing,easting\n1000,1,2\n1001,1,2,3,4,5,6\n", 3)])
 def test_malformed_exit_2_nothing_written(tmp_path, content, line):
     (tmp_path / "s.csv").write_text(content)

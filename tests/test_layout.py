@@ -36,3 +36,80 @@ def test_every_module_declares_all():
         if path.name in ("__init__.py",) and path.parent.name == "writers":
             continue
         assert "__all__" in path.read_text(encoding="utf-8"), path
+
+
+def _sources():
+    for path in PKG.rglob("*.py"):
+        yield path, path.read_text(encoding="utf-8")
+
+
+def test_writers_import_neither_the_pipeline_nor_the_reader():
+    # writers read the Design; they never reach back into the job file or the pipeline
+    for path in (PKG / "writers").glob("*.py"):
+        mods = {node.module for node in ast.walk(ast.parse(path.read_text(encoding="utf-8")))
+                if isinstance(node, ast.ImportFrom) and node.module}
+        assert not mods & {"pipeline", "jobfile", "outputs"}, f"{path.name} imports {mods}"
+
+
+def test_imports_flow_one_way():
+    # job file -> alignment -> staking -> design -> writers -> CLI: nothing looks back up the chain
+    later = {
+        "alignment": ("jobfile", "design", "writers", "pipeline", "outputs", "cli", "staking", "setout"),
+        "job.py": ("jobfile", "design", "writers", "pipeline", "outputs", "cli"),
+        "jobfile": ("design", "writers", "pipeline", "outputs", "cli", "staking"),
+        "design.py": ("writers", "pipeline", "cli", "jobfile"),
+        "outputs.py": ("pipeline", "cli"),
+    }
+    for path, src in _sources():
+        rel = path.relative_to(PKG).as_posix()
+        for owner, banned in later.items():
+            if rel == owner or rel.startswith(owner + "/"):
+                for node in ast.walk(ast.parse(src)):
+                    if isinstance(node, ast.ImportFrom) and node.module and node.level:
+                        # resolve the relative import to its top-level module inside the package
+                        parts = rel.split("/")[:-1]
+                        base = parts[: len(parts) - (node.level - 1)]
+                        first = (base + node.module.split("."))[0]
+                        assert first not in banned, f"{rel} imports {node.module}"
+
+
+def test_no_branching_on_element_kind_by_name():
+    # the element module owns the kinds; everyone else uses the protocol or a table keyed by class
+    for path, src in _sources():
+        if path.name == "elements.py" or path.parent.name == "jobfile":  # the reader reads `kind` keys
+            continue
+        for bad in ('.kind ==', '.kind !=', '.kind in ', 'kind == "arc"', 'kind == "line"', 'kind == "spiral"'):
+            assert bad not in src, f"{path.relative_to(PKG)} branches on an element kind: {bad!r}"
+
+
+def test_every_station_label_comes_from_the_stationing():
+    # station text is formatted in stations.py only (Stationing.label/labels/format_value); the
+    # vectorised CSV rows format the stationing's own values with its station length and decimals
+    for path, src in _sources():
+        if path.name == "stations.py":
+            continue
+        for bad in ("format_station(", "station_text("):
+            assert bad not in src, f"{path.relative_to(PKG)} formats stations itself: {bad!r}"
+        if "rows.station(" in src:
+            assert path.name == "tables.py" and "sp.stationing" in src
+
+
+def test_only_help_lists_every_output():
+    from stakeout.outputs import OUTPUTS, only_help
+
+    assert all(o.name in only_help() for o in OUTPUTS)
+
+
+def test_ruff_clean():
+    import shutil
+    import subprocess
+    import sys
+
+    ruff = shutil.which("ruff", path=str(Path(sys.executable).parent)) or shutil.which("ruff")
+    if ruff is None:
+        import pytest
+
+        pytest.skip("ruff is not installed (pip install -e '.[test]' brings it)")
+    r = subprocess.run([ruff, "check", "stakeout", "tests", "benchmarks"], cwd=PKG.parent, capture_output=True,
+                       text=True)
+    assert r.returncode == 0, r.stdout + r.stderr

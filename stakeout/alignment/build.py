@@ -225,7 +225,7 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
     if not steps:
         raise GeometryError("alignment.pi: the alignment has no length")
     elements = _walk(spec.start_station, float(n[0]), float(e[0]), float(seg_az[0]), steps)
-    for i, (turn, ds, tans) in curves.items():
+    for i, (_turn, ds, tans) in curves.items():
         _check_closure(pis[i].where, elements, first_arc[i], len(ds), float(n[i]), float(e[i]),
                        float(seg_az[i]), tans.ahead)
     last = elements[-1]

@@ -46,12 +46,14 @@ class Kernel:
 
     def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         """Northing, easting and azimuth (degrees, not normalised) at ``ds``
-        along elements ``idx`` and offsets ``o``."""
+        along elements ``idx`` and offsets ``o``.
+        """
         raise NotImplementedError
 
     def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         """Nearest point of each element ``sel`` to each point (n, e), with the
-        distance along clamped to [lo, hi] per element."""
+        distance along clamped to [lo, hi] per element.
+        """
         raise NotImplementedError
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:

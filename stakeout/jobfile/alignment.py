@@ -69,7 +69,8 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
                 if has_d:
                     delta = angle(el, "delta")
                     if delta is None or not 0.0 < delta < 360.0:
-                        raise JobFileError(f"{el.key('delta')} = {el.raw('delta')!r}: must be more than 0 and less than 360 degrees")
+                        raise JobFileError(
+                            f"{el.key('delta')} = {el.raw('delta')!r}: must be more than 0 and less than 360 degrees")
                 else:
                     length = el.number("length", required=True, positive=True)
                 elements.append(ArcSpec(float(radius or 0.0), 1 if turn == "right" else -1, delta, length, el.path))

@@ -1,6 +1,7 @@
 """The strict table reader under every section parser: unknown keys are
 errors, and every error names the key with its table (``alignment.pi[2].radius``;
-array entries count from 0 in file order), the value, and what is allowed."""
+array entries count from 0 in file order), the value, and what is allowed.
+"""
 
 from __future__ import annotations
 

@@ -1,5 +1,6 @@
 """The curve report printed by ``stakeout curve``: elements, key points and
-curve data, with T_A and T_B named by the side they lie on."""
+curve data, with T_A and T_B named by the side they lie on.
+"""
 
 from __future__ import annotations
 

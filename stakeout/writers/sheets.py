@@ -86,7 +86,10 @@ def setout_sheet(d: Design) -> str:
     return paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
 
 
-def deflection_rows(alignment: Alignment, stations: np.ndarray) -> list[tuple[int, int, list[tuple[float, float, float, float, float]]]]:
+DeflectionRow = tuple[float, float, float, float, float]
+
+
+def deflection_rows(alignment: Alignment, stations: np.ndarray) -> list[tuple[int, int, list[DeflectionRow]]]:
     """Deflections from each arc's start to the staked stations on it.
 
     Returns, per arc, ``(curve number, element index, rows)`` with each row

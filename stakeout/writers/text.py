@@ -122,7 +122,8 @@ def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]
 
 def curve_lines(d: Design) -> list[str]:
     """Curve data for the foot of a sheet: per curve its PI and whole tangents
-    (T_A / T_B named by side for two-centred curves), then one line per arc."""
+    (T_A / T_B named by side for two-centred curves), then one line per arc.
+    """
     out = ["CURVE DATA"]
     if not d.alignment.curves:
         out.append("  (no curves)")
@@ -149,7 +150,8 @@ def curve_lines(d: Design) -> list[str]:
 def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str]) -> str:
     """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
     with the column header repeated (pages split by a form feed), the foot
-    and the cautions; no line over :data:`WIDTH` characters."""
+    and the cautions; no line over :data:`WIDTH` characters.
+    """
     pages = max(1, math.ceil(len(rows) / ROWS_PER_PAGE))
     rule = "-" * max(len(c) for c in columns)
     out: list[str] = []
