@@ -70,6 +70,8 @@ class PVISpec:
         length ``2 * back``.  Different: an unsymmetrical curve.
     radius : float or None
         Radius of a circular vertical curve, job units (the lengths stay 0).
+        Between equal grades such an arc has no length: the PVI then has
+        no curve.
     where : str
         The job-file key of this PVI, e.g. ``profile.pvi[2]``, named in errors.
     """
@@ -281,8 +283,9 @@ class Profile:
             )
         a = self._arrays
         x0 = a["x0"]
-        idx = np.clip(np.searchsorted(x0, s, side="right") - 1, 0, x0.size - 1)
-        dx = s - x0[idx]
+        flat = s.reshape(-1)  # 1-d inside, so a scalar takes the same path
+        idx = np.clip(np.searchsorted(x0, flat, side="right") - 1, 0, x0.size - 1)
+        dx = flat - x0[idx]
         # tangents and parabolas: y = y0 + g0 dx + c dx^2 (c = 0 on a tangent,
         # and on arcs, which are overwritten below)
         c = a["c"][idx]
@@ -301,7 +304,7 @@ class Profile:
             # y - y_pvc = sgn (h - h0) = sgn (u0^2 - u^2) / (h + h0), free of cancellation
             y[circ] = a["y0"][j] - sgn * d * (2.0 * u0 + d) / (h + h0)
             g[circ] = -sgn * u / h
-        return y, g
+        return y.reshape(s.shape), g.reshape(s.shape)
 
 
 # ---- building ------------------------------------------------------------------------
