@@ -235,6 +235,7 @@ def test_one_setup_per_stake_equals_separate_calls():
         assert got.sigma_along[i] == pytest.approx(float(one.sigma_along), rel=1e-12)
         assert got.sigma_across[i] == pytest.approx(float(one.sigma_across), rel=1e-12)
         along, across = _closed_form(occ[i], bs[i], stakes[i], CONTRACT)
+        assert got.sigma_along[i] == pytest.approx(along, rel=1e-6)
         assert got.sigma_across[i] == pytest.approx(across, rel=1e-6)
 
 
@@ -273,8 +274,8 @@ def test_backsight_on_the_occupied_point_is_an_error():
 )
 @pytest.mark.parametrize("bad", [-0.001, float("nan"), float("inf"), "2", True])
 def test_bad_instrument_values_name_the_key(field, key, bad):
-    values = dict(angle_sigma_arcsec=2.0, distance_sigma=0.002, distance_ppm=2.0,
-                  centering_sigma=0.001, pole_sigma=0.003)
+    values: dict[str, object] = {"angle_sigma_arcsec": 2.0, "distance_sigma": 0.002, "distance_ppm": 2.0,
+                                 "centering_sigma": 0.001, "pole_sigma": 0.003}
     values[field] = bad
     with pytest.raises(JobFileError, match=key):
         InstrumentSpec(**values)
