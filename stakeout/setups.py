@@ -1,0 +1,286 @@
+"""Automatic choice of instrument setups among control points (numpy, no I/O).
+
+The rule (job-file contract, ``[setup] occupied = "auto"``):
+
+1. *Candidates* are the control points that have another control point
+   within ``max_backsight`` (inclusive; a second point on the very same
+   spot does not count: it gives no direction).
+2. *Greedy cover*: repeatedly take the candidate that reaches the most
+   stakes not yet reached, a stake being reached when it lies within
+   ``max_distance`` (inclusive); ties go to the smaller id in string order.
+   Stop when every stake is reached.  A stake no candidate reaches is an
+   error naming it.
+3. Each stake goes to the *nearest* chosen setup (ties by id).  A chosen
+   setup that is then nearest to no stake is dropped: it is not needed
+   (the others reach all its stakes, and more closely).
+4. Each setup backsights the *farthest* other control point within
+   ``max_backsight`` (ties by id).
+
+Distances are compared squared (``dN*dN + dE*dE``), so equal distances
+tie exactly wherever the coordinates make the squares exact.  The result
+does not depend on the order in which the control points are listed.  The stakes-by-candidates
+reach matrix is built in blocks of stakes and kept as packed bits.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .errors import GeometryError, JobFileError
+
+__all__ = ["Setup", "SetupPlan", "choose_setups"]
+
+_BLOCK = 1 << 22  # distance-matrix elements per block (32 MiB of float64)
+_POPCOUNT = np.array([i.bit_count() for i in range(256)], dtype=np.uint8)  # set bits of a byte
+
+
+@dataclass(frozen=True)
+class Setup:
+    """One chosen setup.
+
+    Attributes
+    ----------
+    occupied_id, backsight_id : str
+        Control point ids of the occupied point and its backsight.
+    occupied_n, occupied_e, backsight_n, backsight_e : float
+        Their grid northings and eastings (job units).
+    stake_count : int
+        Number of stakes set out from this setup.
+    farthest_sight : float
+        Longest grid distance from the occupied point to one of its stakes
+        (job units).
+    """
+
+    occupied_id: str
+    occupied_n: float
+    occupied_e: float
+    backsight_id: str
+    backsight_n: float
+    backsight_e: float
+    stake_count: int
+    farthest_sight: float
+
+
+@dataclass(frozen=True)
+class SetupPlan:
+    """The chosen setups, in the order the greedy cover chose them.
+
+    Attributes
+    ----------
+    setups : tuple of Setup
+        The setups in order of choice.
+    setup_index : ndarray of int64
+        For each stake, in stake order, the index into ``setups`` of the
+        setup it is set out from.
+    """
+
+    setups: tuple[Setup, ...]
+    setup_index: NDArray[np.int64]
+
+    def per_stake(
+        self,
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+        """Occupied and backsight coordinates of each stake's setup.
+
+        Returns
+        -------
+        occ_n, occ_e, bs_n, bs_e : ndarray
+            Grid northing and easting (job units), one per stake, ready for
+            :func:`stakeout.precision.predict_precision`.
+        """
+        cols = np.array(
+            [(s.occupied_n, s.occupied_e, s.backsight_n, s.backsight_e) for s in self.setups], dtype=float
+        ).reshape(-1, 4)
+        per = cols[self.setup_index]
+        return per[:, 0], per[:, 1], per[:, 2], per[:, 3]
+
+
+def _positive(value: float, key: str) -> float:
+    try:
+        out = float(value)
+    except (TypeError, ValueError):
+        out = math.nan
+    if isinstance(value, bool) or not math.isfinite(out) or out <= 0:
+        raise JobFileError(f"{key} = {value!r}: must be a number above 0")
+    return out
+
+
+def _step(rows: int, multiple: int = 1) -> int:
+    """Columns per block so that a rows x block matrix stays near ``_BLOCK``."""
+    return max(multiple, (_BLOCK // max(rows, 1)) // multiple * multiple)
+
+
+def _sq_dist(
+    n1: NDArray[np.float64], e1: NDArray[np.float64], n2: NDArray[np.float64], e2: NDArray[np.float64]
+) -> NDArray[np.float64]:
+    """Squared distances, rows point set 1, columns point set 2."""
+    dn = n2[None, :] - n1[:, None]
+    de = e2[None, :] - e1[:, None]
+    return dn * dn + de * de
+
+
+def _backsight_sq_dist(
+    n1: NDArray[np.float64], e1: NDArray[np.float64], n2: NDArray[np.float64], e2: NDArray[np.float64], mb2: float
+) -> NDArray[np.float64]:
+    """Squared distances from set 1 to set 2 where set 2 can be a backsight, else -1.
+
+    A point can be a backsight when it is within ``sqrt(mb2)`` and not on the very
+    same spot (equal coordinates give no direction; compared exactly, not by a
+    squared distance that could underflow to 0).
+    """
+    dn = n2[None, :] - n1[:, None]
+    de = e2[None, :] - e1[:, None]
+    d2 = dn * dn + de * de
+    return np.where(((dn != 0) | (de != 0)) & (d2 <= mb2), d2, -1.0)
+
+
+def choose_setups(
+    control_ids: Sequence[str],
+    control_n: ArrayLike,
+    control_e: ArrayLike,
+    stake_n: ArrayLike,
+    stake_e: ArrayLike,
+    max_distance: float,
+    max_backsight: float,
+    stake_ids: Sequence[str] | None = None,
+) -> SetupPlan:
+    """Choose setups among control points to reach every stake.
+
+    Parameters
+    ----------
+    control_ids : sequence of str
+        Control point ids, unique; ties are broken by their string order.
+    control_n, control_e : array
+        Control point grid northings and eastings (job units).
+    stake_n, stake_e : array
+        Stake grid northings and eastings (job units).
+    max_distance : float
+        Longest sight from a setup to a stake (job units, inclusive):
+        ``[setup] max_distance``.
+    max_backsight : float
+        Longest backsight (job units, inclusive): ``[setup] max_backsight``.
+    stake_ids : sequence of str, optional
+        Stake point ids, used only to name a stake in an error.
+
+    Returns
+    -------
+    SetupPlan
+        The setups in the order chosen and each stake's setup index.
+
+    Raises
+    ------
+    GeometryError
+        If some stake is out of ``max_distance`` of every control point that
+        has a backsight within ``max_backsight``; names the first such stake.
+    JobFileError
+        For a duplicate control id, or a distance limit that is not a
+        number above 0.
+    """
+    md2 = _positive(max_distance, "setup.max_distance") ** 2
+    mb2 = _positive(max_backsight, "setup.max_backsight") ** 2
+    ids = [str(i) for i in control_ids]
+    cn_in = np.asarray(control_n, dtype=float).ravel()
+    ce_in = np.asarray(control_e, dtype=float).ravel()
+    sn = np.asarray(stake_n, dtype=float).ravel()
+    se = np.asarray(stake_e, dtype=float).ravel()
+    if not (len(ids) == cn_in.size == ce_in.size):
+        raise ValueError(
+            f"control ids, northings and eastings differ in length: {len(ids)}, {cn_in.size}, {ce_in.size}"
+        )
+    if sn.size != se.size:
+        raise ValueError(f"stake northings and eastings differ in length: {sn.size}, {se.size}")
+    if stake_ids is not None and len(stake_ids) != sn.size:
+        raise ValueError(f"stake ids and coordinates differ in length: {len(stake_ids)}, {sn.size}")
+    # everything below works in id order, so "first of equals" is "smallest id"
+    order = sorted(range(len(ids)), key=ids.__getitem__)
+    sid = [ids[i] for i in order]
+    for a, b in itertools.pairwise(sid):
+        if a == b:
+            raise JobFileError(f"control.point id = {a!r}: appears more than once")
+    n_stakes = sn.size
+    if n_stakes == 0:
+        return SetupPlan((), np.zeros(0, dtype=np.int64))
+    cn, ce = cn_in[order], ce_in[order]
+    n_ctrl = cn.size
+
+    # 1. candidates: another control point within max_backsight (not on the same spot)
+    has_bs = np.zeros(n_ctrl, dtype=bool)
+    step = _step(n_ctrl)
+    for lo in range(0, n_ctrl, step):
+        d2 = _backsight_sq_dist(cn[lo : lo + step], ce[lo : lo + step], cn, ce, mb2)
+        has_bs[lo : lo + step] = (d2 >= 0).any(axis=1)
+    cand = np.flatnonzero(has_bs)  # indices into id order, ascending = id order
+
+    # 2. reach matrix (candidates x stakes) as packed bits, built in blocks of stakes
+    n_bytes = (n_stakes + 7) // 8
+    reach = np.zeros((cand.size, n_bytes), dtype=np.uint8)
+    reachable = np.zeros(n_stakes, dtype=bool)
+    step = _step(cand.size, multiple=8)
+    for lo in range(0, n_stakes, step):
+        hi = min(n_stakes, lo + step)
+        r = _sq_dist(cn[cand], ce[cand], sn[lo:hi], se[lo:hi]) <= md2
+        reach[:, lo // 8 : (hi + 7) // 8] = np.packbits(r, axis=1)
+        reachable[lo:hi] = r.any(axis=0)
+    if not reachable.all():
+        i = int(np.argmin(reachable))
+        name = repr(str(stake_ids[i])) if stake_ids is not None else f"#{i + 1}"
+        raise GeometryError(
+            f"stake {name} at N {float(sn[i])!r} E {float(se[i])!r}: no control point within "
+            f"setup.max_distance = {max_distance!r} has a backsight within setup.max_backsight = {max_backsight!r}"
+        )
+
+    # greedy cover; argmax returns the first of equal counts, i.e. the smallest id
+    unreached = np.packbits(np.ones(n_stakes, dtype=bool))
+    chosen: list[int] = []  # positions in cand, in order of choice
+    while unreached.any():
+        live = np.flatnonzero(unreached)  # only bytes that still hold unreached stakes
+        counts = _POPCOUNT[reach[:, live] & unreached[live]].sum(axis=1, dtype=np.int64)
+        best = int(np.argmax(counts))
+        chosen.append(best)
+        unreached &= ~reach[best]
+
+    # 3. nearest chosen setup; ties by id, so scan the chosen setups in id order
+    by_id = sorted(range(len(chosen)), key=lambda k: int(cand[chosen[k]]))
+    ctrl_by_id = cand[[chosen[k] for k in by_id]]
+    nearest = np.empty(n_stakes, dtype=np.int64)
+    step = _step(len(chosen))
+    for lo in range(0, n_stakes, step):
+        hi = min(n_stakes, lo + step)
+        d2 = _sq_dist(cn[ctrl_by_id], ce[ctrl_by_id], sn[lo:hi], se[lo:hi])
+        nearest[lo:hi] = np.asarray(by_id, dtype=np.int64)[np.argmin(d2, axis=0)]
+    counts_all = np.bincount(nearest, minlength=len(chosen))
+    kept = [k for k in range(len(chosen)) if counts_all[k] > 0]  # drop setups nearest to no stake
+    renumber = np.full(len(chosen), -1, dtype=np.int64)
+    renumber[kept] = np.arange(len(kept))
+    setup_index = renumber[nearest]
+
+    occ = cand[[chosen[k] for k in kept]]  # id-order indices of the kept setups, in order of choice
+    dist = np.sqrt((sn - cn[occ][setup_index]) ** 2 + (se - ce[occ][setup_index]) ** 2)
+    farthest = np.zeros(len(kept))
+    np.maximum.at(farthest, setup_index, dist)
+    stake_count = np.bincount(setup_index, minlength=len(kept))
+
+    # 4. backsight: the farthest other control point within max_backsight; argmax
+    # over the id order takes the smallest id of equals
+    bs = np.argmax(_backsight_sq_dist(cn[occ], ce[occ], cn, ce, mb2), axis=1)
+
+    setups = tuple(
+        Setup(
+            occupied_id=sid[o],
+            occupied_n=float(cn[o]),
+            occupied_e=float(ce[o]),
+            backsight_id=sid[b],
+            backsight_n=float(cn[b]),
+            backsight_e=float(ce[b]),
+            stake_count=int(c),
+            farthest_sight=float(f),
+        )
+        for o, b, c, f in zip(occ.tolist(), bs.tolist(), stake_count.tolist(), farthest.tolist())
+    )
+    return SetupPlan(setups, setup_index)
