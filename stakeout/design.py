@@ -16,12 +16,13 @@ import numpy as np
 
 from .alignment import Alignment, build_alignment
 from .job import Job, Setup
+from .profile import PVISpec, Profile, build_profile
 from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .staking import StakePoints, plan_stakes
 from .stations import Stationing
 from .units import Unit
 
-__all__ = ["Design", "SetupDesign", "build_design", "build_stationing"]
+__all__ = ["Design", "SetupDesign", "build_design", "build_stationing", "build_profile_of"]
 
 
 @dataclass(frozen=True)
@@ -49,6 +50,7 @@ class Design:
     stationing: Stationing
     stakes: StakePoints
     setup: SetupDesign | None = None
+    profile: Profile | None = None
     crs_label: str | None = None
     proj_version: str | None = None
     factors: dict[str, Any] = field(default_factory=dict)
@@ -61,8 +63,7 @@ class Design:
     @property
     def design_elevation(self) -> np.ndarray | None:
         """Design elevation of every stake, or ``None`` when the job gives none."""
-        e = self.job.staking.elevation
-        return None if e is None else np.full(len(self.stakes), e)
+        return self.stakes.elevation
 
 
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
@@ -71,11 +72,21 @@ def build_stationing(job: Job, alignment: Alignment) -> Stationing:
                       job.info.unit.station_decimals)
 
 
+def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:
+    """The job's profile, its PVI stations read in the alignment's stationing."""
+    if job.profile is None:
+        return None
+    pvis = [PVISpec(stationing.to_internal(p.station), p.elevation, p.curve_length_back, p.curve_length_ahead,
+                    where=p.where) for p in job.profile.pvis]
+    return build_profile(pvis, job.profile.name)
+
+
 def build_design(job: Job) -> Design:
     """Build the alignment, the stakes and, with a ``[setup]``, the setout."""
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
-    stakes = plan_stakes(alignment, job.staking, stationing)
+    profile = build_profile_of(job, stationing)
+    stakes = plan_stakes(alignment, job.staking, stationing, profile)
     grid = crs_label = proj = None
     unit = job.info.unit
     if job.info.crs is not None:
@@ -92,9 +103,8 @@ def build_design(job: Job) -> Design:
         pf = grid.factors(occ.northing, occ.easting) if grid is not None else None
         scale = resolve_scale(job.scale, unit, pf)
         bs_az = backsight_azimuth(setup, pf.convergence if pf else None)
-        elev = None if job.staking.elevation is None else np.full(len(stakes), job.staking.elevation)
         setout = compute_setout(occ.northing, occ.easting, bs_az, stakes.northing, stakes.easting,
-                                scale.combined_factor, occ.elevation, setup.instrument_height, elev,
+                                scale.combined_factor, occ.elevation, setup.instrument_height, stakes.elevation,
                                 setup.target_height)
         setup_design = SetupDesign(setup, scale, setout)
         factors = {k: v for k, v in {
@@ -102,4 +112,5 @@ def build_design(job: Job) -> Design:
             "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
             "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": bs_az,
         }.items() if v is not None}
-    return Design(job, alignment, stationing, stakes, setup_design, crs_label, proj, factors)
+    return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, crs_label=crs_label,
+                  proj_version=proj, factors=factors)

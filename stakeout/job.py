@@ -13,7 +13,8 @@ from .alignment.specs import AlignmentSpec
 from .stations import StationRef
 from .units import Unit
 
-__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "Setup", "Scale", "CheckSpec"]
+__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "Setup", "Scale", "CheckSpec",
+           "ProfilePVI", "ProfileInput"]
 
 
 @dataclass(frozen=True)
@@ -32,6 +33,16 @@ class OffsetLine:
 
     offset: float
     code: str
+    dz: float | None = None  # elevation difference from the centreline (job units)
+    cross_slope: float | None = None  # percent, per unit of distance out from the centreline
+
+    def elevation_change(self) -> float:
+        """Elevation of this line's stakes relative to the centreline (job units)."""
+        if self.dz is not None:
+            return self.dz
+        if self.cross_slope is not None:
+            return self.cross_slope / 100.0 * abs(self.offset)
+        return 0.0
 
 
 @dataclass(frozen=True)
@@ -44,6 +55,7 @@ class Staking:
     first_point: int
     point_prefix: str
     elevation: float | None
+    profile_points: bool | None = None  # None: the default (true with a profile)
 
 
 @dataclass(frozen=True)
@@ -93,6 +105,25 @@ class CheckSpec:
 
 
 @dataclass(frozen=True)
+class ProfilePVI:
+    """One ``[[profile.pvi]]``: station as given, elevation, vertical-curve lengths (job units)."""
+
+    station: StationRef
+    elevation: float
+    curve_length_back: float = 0.0
+    curve_length_ahead: float = 0.0
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class ProfileInput:
+    """``[profile]``: the vertical alignment as the job file gives it."""
+
+    name: str
+    pvis: tuple[ProfilePVI, ...]
+
+
+@dataclass(frozen=True)
 class Job:
     """A whole validated job."""
 
@@ -104,3 +135,4 @@ class Job:
     setup: Setup | None
     scale: Scale
     check: CheckSpec | None
+    profile: ProfileInput | None = None

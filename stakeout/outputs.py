@@ -34,8 +34,9 @@ class Output:
     """One output file.
 
     ``render(design, done)`` returns the file's bytes; ``needs_setup``
-    outputs exist only for jobs with a ``[setup]``; ``extra`` names the
-    optional install an output needs (``None``: always available).
+    outputs exist only for jobs with a ``[setup]``, ``needs_profile`` only
+    for jobs with a ``[profile]``; ``extra`` names the optional install an
+    output needs (``None``: always available).
     """
 
     name: str
@@ -43,6 +44,7 @@ class Output:
     what: str
     render: Callable[["Design", Rendered], bytes]
     needs_setup: bool = False
+    needs_profile: bool = False
     extra: str | None = None
 
 
@@ -62,6 +64,12 @@ def _curves(d: "Design", done: Rendered) -> bytes:
     from .writers.tables import curves_csv
 
     return curves_csv(d)
+
+
+def _profile(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import profile_csv
+
+    return profile_csv(d)
 
 
 def _setout(d: "Design", done: Rendered) -> bytes:
@@ -101,6 +109,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("points", "points.csv", "the point file for the data collector", _points),
     Output("stations", "stations.csv", "every stake with its station, offset and feature", _stations),
     Output("curves", "curves.csv", "one row per arc", _curves),
+    Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),

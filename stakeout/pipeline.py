@@ -46,7 +46,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     chosen = parse_only(only)
     notes: list[str] = []
     if chosen is None:
-        outputs = [o for o in OUTPUTS if job.setup is not None or not o.needs_setup]
+        outputs = [o for o in OUTPUTS if (job.setup is not None or not o.needs_setup)
+                   and (job.profile is not None or not o.needs_profile)]
         for o in [o for o in outputs if not _has_extra(o.extra)]:
             outputs.remove(o)
             notes.append(f"matplotlib is not installed: {o.filename} skipped (pip install 'stakeout[{o.extra}]')")
@@ -57,6 +58,10 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             for o in OUTPUTS:
                 if o.name in chosen and o.needs_setup:
                     raise JobFileError(f"--only {o.name}: the job has no [setup], so there is no setout to write")
+        if job.profile is None:
+            for o in OUTPUTS:
+                if o.name in chosen and o.needs_profile:
+                    raise JobFileError(f"--only {o.name}: the job has no [profile], so there is no {o.filename}")
         outputs = [o for o in OUTPUTS if o.name in chosen]
     folder = OutputFolder(out, force, protect=(job_path,))
     d = build_design(job)

@@ -14,9 +14,10 @@ from functools import cached_property
 import numpy as np
 from numpy.typing import NDArray
 
-from .alignment import STATION_TOLERANCE, Alignment
+from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment
 from .errors import JobFileError
 from .job import Staking
+from .profile import Profile
 from .stations import Stationing
 
 __all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
@@ -54,7 +55,7 @@ class StakePoints:
     northing: NDArray[np.float64]
     easting: NDArray[np.float64]
     azimuth: NDArray[np.float64]
-    elevation: float | None
+    elevation: NDArray[np.float64] | None  # design elevation of each point, None when the job gives none
 
     def __len__(self) -> int:
         return int(self.northing.size)
@@ -112,7 +113,9 @@ class StakePoints:
         return [f for f in self.features for _ in range(m)]
 
 
-def _stations(alignment: Alignment, staking: Staking, stationing: Stationing) -> tuple[NDArray[np.float64], list[str]]:
+def _stations(alignment: Alignment, staking: Staking, stationing: Stationing,
+              more_keys: tuple[NDArray[np.float64], tuple[str, ...]] | None = None
+              ) -> tuple[NDArray[np.float64], list[str]]:
     lo, hi = alignment.start_station, alignment.end_station
     step = staking.interval
     count = (hi - lo) / step * len(staking.offsets)
@@ -134,6 +137,10 @@ def _stations(alignment: Alignment, staking: Staking, stationing: Stationing) ->
     extra = np.array(extra_values, dtype=np.float64)
     keys = np.array([kp.station for kp in alignment.key_points], dtype=np.float64)
     key_feats = [" ".join(kp.features) for kp in alignment.key_points]
+    if more_keys is not None and more_keys[0].size:
+        on = (more_keys[0] >= lo - STATION_TOLERANCE) & (more_keys[0] <= hi + STATION_TOLERANCE)
+        keys = np.concatenate([keys, more_keys[0][on]])
+        key_feats += [f for f, keep in zip(more_keys[1], on.tolist()) if keep]
     # key points first so that a merge keeps the key point's exact station
     values = np.concatenate([keys, regular, extra])
     feats = key_feats + [""] * (regular.size + extra.size)
@@ -154,10 +161,16 @@ def _stations(alignment: Alignment, staking: Staking, stationing: Stationing) ->
     pick = np.where(pick == big, firsts, pick)
     sorted_feats = [feats[i] for i in order.tolist()]
     out_feats = [sorted_feats[i] for i in pick.tolist()]
+    # key points that coincide (a PVC at a PC) are one stake carrying every feature
+    counts = np.bincount(group[is_key], minlength=pick.size)
+    for g in np.nonzero(counts > 1)[0].tolist():  # one step per coinciding group of key points
+        words = {w for i in np.nonzero(is_key & (group == g))[0].tolist() for w in sorted_feats[i].split()}
+        out_feats[g] = " ".join(f for f in FEATURE_ORDER if f in words)
     return values[pick], out_feats
 
 
-def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing) -> StakePoints:
+def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
+                profile: Profile | None = None) -> StakePoints:
     """Compute every stake point of a job.
 
     Parameters
@@ -168,8 +181,20 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing) 
         The job's ``[staking]`` table.
     stationing : Stationing
         The alignment's stationing: reads extra stations, labels stakes.
+    profile : Profile, optional
+        The vertical alignment: design elevations (plus each offset line's
+        ``dz`` or ``cross_slope``), and with ``staking.profile_points``
+        (default true) its PVI, PVC, PVT, HP and LP staked too.
+
+    Raises
+    ------
+    JobFileError
+        A stake beyond the profile, naming its station.
     """
-    stations, feats = _stations(alignment, staking, stationing)
+    more = None
+    if profile is not None and staking.profile_points is not False:
+        more = profile.feature_points()
+    stations, feats = _stations(alignment, staking, stationing, more)
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     st = np.repeat(stations, offs.size)
     of = np.tile(offs, stations.size)
@@ -178,6 +203,21 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing) 
     # plan, check) then works from exactly the coordinates the crew loads.
     n = np.round(n, COORDINATE_DECIMALS) + 0.0
     e = np.round(e, COORDINATE_DECIMALS) + 0.0
+    centre: NDArray[np.float64] | None = None
+    if profile is not None:
+        off = ~profile.covers(stations)
+        if np.any(off):
+            first = float(stations[off][0])
+            raise JobFileError(
+                f"profile: the stake at {stationing.label(first)} lies beyond the profile, which runs from "
+                f"{stationing.label(profile.start)} to {stationing.label(profile.end)}; extend the profile")
+        centre = profile.elevation(stations)
+    elif staking.elevation is not None:
+        centre = np.full(stations.size, staking.elevation)
+    elev = None
+    if centre is not None:
+        drop = np.array([ol.elevation_change() for ol in staking.offsets], dtype=np.float64)
+        elev = np.repeat(centre, offs.size) + np.tile(drop, stations.size)
     return StakePoints(
         stations=stations,
         features=tuple(feats),
@@ -189,5 +229,5 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing) 
         northing=n,
         easting=e,
         azimuth=az,
-        elevation=staking.elevation,
+        elevation=elev,
     )

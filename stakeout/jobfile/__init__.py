@@ -19,6 +19,7 @@ from ..job import Job, JobInfo
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment
+from .profile import read_profile
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_scale, read_setup
 from .staking import read_staking
@@ -56,7 +57,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise JobFileError(f"{path}: not valid TOML: {exc}") from None
-    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check"))
+    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile"))
     fmt = top.raw("format", required=True)
     if fmt != 1 or isinstance(fmt, bool):
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
@@ -73,6 +74,10 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(
             "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
         )
+    profile = read_profile(top, info)
+    if profile is not None and staking.elevation is not None:
+        raise JobFileError(f"staking.elevation = {staking.elevation!r}: cannot be given together with [profile] "
+                           "(the profile gives the elevations)")
     return Job(
         path=path,
         sha256=hashlib.sha256(data).hexdigest(),
@@ -82,6 +87,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         setup=setup,
         scale=scale,
         check=read_check(top),
+        profile=profile,
     )
 
 

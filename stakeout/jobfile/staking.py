@@ -12,7 +12,7 @@ __all__ = ["read_staking"]
 def read_staking(top: Table, info: JobInfo) -> Staking:
     """``[staking]``: interval, offset lines, extra stations, numbering, elevation."""
     t = top.table("staking", ("interval", "offsets", "extra_stations", "first_point", "point_prefix",
-                              "elevation"), required=True)
+                              "elevation", "profile_points"), required=True)
     assert t is not None
     interval = float(t.number("interval", required=True, positive=True) or 0.0)
     offsets: list[OffsetLine] = []
@@ -26,10 +26,13 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
             where = f"staking.offsets[{i}]"
             if not isinstance(item, dict):
                 raise JobFileError(f"{where} = {item!r}: expected {{offset = ..., code = \"...\"}}")
-            o = Table(item, where, ("offset", "code"))
+            o = Table(item, where, ("offset", "code", "dz", "cross_slope"))
             off = float(o.number("offset", required=True) or 0.0)
             code = check_safe_text(o.raw("code", required=True), o.key("code"))
-            offsets.append(OffsetLine(off + 0.0, code))
+            dz, slope = o.number("dz"), o.number("cross_slope")
+            if dz is not None and slope is not None:
+                raise JobFileError(f"{where}: give `dz` or `cross_slope`, not both")
+            offsets.append(OffsetLine(off + 0.0, code, dz, slope))
     seen: dict[float, int] = {}
     for i, ol in enumerate(offsets):
         if ol.offset in seen:
@@ -57,4 +60,13 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
         first_point=first_point,
         point_prefix=prefix,
         elevation=t.number("elevation"),
+        profile_points=_flag(t, "profile_points"),
     )
+
+
+def _flag(t: Table, k: str) -> bool | None:
+    """A true/false key, or ``None`` when not given."""
+    v = t.raw(k)
+    if v is None or isinstance(v, bool):
+        return v
+    raise JobFileError(f"{t.key(k)} = {v!r}: expected true or false")

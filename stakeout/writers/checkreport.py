@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import numpy as np
@@ -12,7 +13,7 @@ from ..shots import Shots
 from .tables import DECIMALS, csv_field, csv_text
 from .text import CAUTION_LINES, finite_or_empty
 
-__all__ = ["CHECK_COLUMNS", "check_csv", "check_txt"]
+__all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
@@ -47,6 +48,31 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     return csv_text(CHECK_COLUMNS, rows).encode("utf-8")
 
 
+def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
+    """Cut or fill to mark on each stake: ``C 0.42`` where the shot is above
+    design (cut down to grade), ``F 0.17`` below; empty where unknown.
+    """
+    out = []
+    for v in d_elevation.tolist():
+        if not math.isfinite(v):
+            out.append("")
+            continue
+        t = f"{abs(v):.{decimals}f}"
+        out.append(f"C {t}" if v > 0 and float(t) > 0 else (f"F {t}" if v < 0 and float(t) > 0 else f"0 {t}"))
+    return out
+
+
+def status_text(r: CheckResult, k: int) -> str:
+    """The shot's status, and for ``out`` which tolerance it fails."""
+    s = r.status[k]
+    if s != "out":
+        return s
+    hz = bool(r.horizontal_error[k] > r.horizontal_tolerance)
+    dz = r.d_elevation[k]
+    vt = r.vertical_tolerance is not None and math.isfinite(dz) and abs(dz) > r.vertical_tolerance
+    return "out (" + ("both" if hz and vt else ("horizontal" if hz else "vertical")) + ")"
+
+
 def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> bytes:
     """``check.txt``: summary, what needs attention first, then the rest; cautions at the foot."""
     job, design = d.job, d.stakes
@@ -77,8 +103,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
     def ident(p: str) -> str:
         return p if len(p) <= w else p[: w - 1] + "~"
 
+    with_grade = d.design_elevation is not None
+    marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
     cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>10} {'offset':>9} {'horiz':>7} {'d along':>8} "
-            f"{'d across':>8} {'d elev':>7} {'status'}")
+            f"{'d across':>8} {'d elev':>7} " + (f"{'mark':<8} " if with_grade else "") + "status")
     rule = "-" * (len(cols) + 3)
 
     def row(k: int) -> str:
@@ -86,7 +114,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         return (f"{ident(shots.point[k]):<{w}} {ident(design.point[i]) if i >= 0 else '':<{w}} "
                 f"{station_label(r.station[k]):>10} {_f(r.offset[k], 3):>9} {_f(r.horizontal_error[k], 3):>7} "
                 f"{_f(r.d_station[k], 3):>8} {_f(r.d_offset[k], 3):>8} {_f(r.d_elevation[k], 3):>7} "
-                f"{r.status[k]}")
+                + (f"{marks[k]:<8} " if with_grade else "") + status_text(r, k))
 
     attention = [k for k in range(len(shots)) if r.status[k] != "ok"]
     fine = [k for k in range(len(shots)) if r.status[k] == "ok"]
@@ -107,6 +135,9 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
     if line:
         out.append("  " + line.rstrip())
     out.append("")
+    if with_grade:
+        out.append("mark: the cut or fill to write on the stake, C where the shot is above design, F below;")
+        out.append("status out (horizontal / vertical / both): which tolerance the shot fails")
     out.append("d along / d across: the shot's station / offset minus the design point's; d = staked - design;")
     out.append("northing and easting residuals are in check.csv")
     out.append("")

@@ -144,7 +144,8 @@ def _build(c: Design) -> Any:
 
     for i in range(len(sp)):
         e, n = float(sp.easting[i]), float(sp.northing[i])
-        msp.add_point((e, n, sp.elevation or 0.0), dxfattribs={"layer": "SO-STAKE"})
+        z = 0.0 if sp.elevation is None else float(sp.elevation[i])
+        msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
         _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
 
     # station ticks: long at full stations, short at every staked station

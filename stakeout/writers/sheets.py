@@ -16,7 +16,7 @@ import numpy as np
 from ..alignment import Alignment, Arc
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from .text import curve_lines, fixed, header_lines, paged, turn_word
+from .text import WIDTH, curve_lines, fixed, header_lines, paged, turn_word
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows"]
 
@@ -66,6 +66,9 @@ def setout_sheet(d: Design) -> str:
     with_zenith = so.zenith is not None and so.slope_distance is not None
     cols = (f"{'point':<10} {'station':>11} {'offset':>8} {'code':<6} {'feature':<7} {'ang right':>10} "
             f"{'grid dist':>10} {'grnd dist':>10}")
+    elev = stakes.elevation
+    if elev is not None:
+        cols += f" {'design el':>9}"
     if with_zenith:
         cols += f" {'zenith':>9} {'slope dist':>10}"
     angles = format_azimuth_dms(so.angle_right, 0)
@@ -75,15 +78,19 @@ def setout_sheet(d: Design) -> str:
     rows = []
     zen = format_dms(so.zenith, 0) if so.zenith is not None else None
     slope = fixed(so.slope_distance, 3) if so.slope_distance is not None else None
+    el_text = fixed(elev, 3) if elev is not None else None
     for i in range(len(stakes)):
         row = (f"{stakes.point[i]:<10} {stakes.station_label[i]:>11} {offs[i]:>8} {stakes.code[i]:<6} "
                f"{stakes.feature[i]:<7} {angles[i]:>10} {grid[i]:>10} {ground[i]:>10}")
+        if el_text is not None:
+            row += f" {el_text[i]:>9}"
         if zen is not None and slope is not None:
             row += f" {zen[i]:>9} {slope[i]:>10}"
         rows.append(row.rstrip())
-    foot = [f"{len(stakes)} points; angles to 1 second, distances in {unit.plural}", ""]
+    foot = [f"{len(stakes)} points; angles to 1 second, distances in {unit.plural}"
+            + ("; design el = design elevation of the stake" if elev is not None else ""), ""]
     foot += curve_lines(d)
-    return paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
+    return paged(head, [cols], rows, f"{title}   {job.info.name}", foot, width=max(WIDTH, len(cols)))
 
 
 DeflectionRow = tuple[float, float, float, float, float]

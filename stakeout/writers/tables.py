@@ -19,7 +19,7 @@ from ..angles import format_dms
 from ..design import Design
 from ..staking import StakePoints
 from . import rows
-from .text import fixed, fixed_or_empty, turn_word
+from .text import fixed_or_empty, turn_word
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
@@ -90,7 +90,7 @@ class _PerPoint:
 
     def elevation(self) -> rows.Field:
         e = self.sp.elevation
-        return rows.const("" if e is None else fixed([e], DECIMALS)[0], self.n)
+        return rows.const("", self.n) if e is None else rows.fixed(e[self.p], DECIMALS)
 
     def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
         return rows.fixed(values[self.p], decimals)
@@ -207,3 +207,39 @@ def setout_csv(design: Design) -> bytes:
         return f
 
     return _csv(header, sp, layout)
+
+
+PROFILE_COLUMNS = ("pvi", "station", "station_label", "elevation", "grade_in", "grade_out", "curve_length_back",
+                   "curve_length_ahead", "pvc_station", "pvc_elevation", "pvt_station", "pvt_elevation", "k_value",
+                   "high_low_station", "high_low_elevation",
+                   # added columns
+                   "high_low", "radius")
+
+#: Decimals of grades in percent.
+GRADE_DECIMALS = 6
+
+
+def profile_csv(design: Design) -> bytes:
+    """``profile.csv``: one row per PVI, stations in force there, grades in percent."""
+    assert design.profile is not None
+    st = design.stationing
+    d = DECIMALS
+
+    def station(v: float | None) -> str:
+        return "" if v is None else fixed_or_empty(float(st.station(v)), d)
+
+    def grade(g: float | None) -> str:
+        return "" if g is None else fixed_or_empty(100.0 * g, GRADE_DECIMALS)
+
+    lines = []
+    for i, r in enumerate(design.profile.rows(), start=1):
+        lines.append(",".join([
+            str(i), station(r.station), st.label(r.station), fixed_or_empty(r.elevation, d),
+            grade(r.grade_in), grade(r.grade_out),
+            fixed_or_empty(r.curve_length_back, d), fixed_or_empty(r.curve_length_ahead, d),
+            station(r.pvc_station), fixed_or_empty(r.pvc_elevation, d),
+            station(r.pvt_station), fixed_or_empty(r.pvt_elevation, d),
+            fixed_or_empty(r.k_value, d), station(r.high_low_station), fixed_or_empty(r.high_low_elevation, d),
+            r.high_low_kind or "", fixed_or_empty(r.radius, d),
+        ]))
+    return csv_text(PROFILE_COLUMNS, lines).encode("utf-8")

@@ -147,10 +147,12 @@ def curve_lines(d: Design) -> list[str]:
 
 
 # ---- pages -------------------------------------------------------------------------------------
-def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str]) -> str:
+def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str],
+          width: int = WIDTH) -> str:
     """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
     with the column header repeated (pages split by a form feed), the foot
-    and the cautions; no line over :data:`WIDTH` characters.
+    and the cautions; no line over ``width`` characters (:data:`WIDTH`, wider
+    only where the table's own columns need it).
     """
     pages = max(1, math.ceil(len(rows) / ROWS_PER_PAGE))
     rule = "-" * max(len(c) for c in columns)
@@ -171,5 +173,6 @@ def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot
     out.append("")
     out.extend(CAUTION_LINES)
     text = "\n".join(out) + "\n"
-    assert all(len(line.lstrip("\f")) <= WIDTH for line in text.splitlines()), "sheet line over 100 characters"
+    too_long = [line for line in text.splitlines() if len(line.lstrip("\f")) > width]
+    assert not too_long, f"sheet line over {width} characters"
     return text
