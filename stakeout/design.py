@@ -68,8 +68,8 @@ class Design:
 
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
     """The stationing of the job's alignment."""
-    return Stationing(alignment.start_station, alignment.end_station, job.info.station_length,
-                      job.info.unit.station_decimals)
+    return Stationing.with_equations(alignment.start_station, alignment.end_station, job.info.station_length,
+                                     job.info.unit.station_decimals, job.equations)
 
 
 def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:

@@ -136,3 +136,5 @@ class Job:
     scale: Scale
     check: CheckSpec | None
     profile: ProfileInput | None = None
+    #: Station equations in order: (back station, ahead station, key for errors).
+    equations: tuple[tuple[float, float, str], ...] = ()

@@ -66,6 +66,12 @@ def _curves(d: "Design", done: Rendered) -> bytes:
     return curves_csv(d)
 
 
+def _elements(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import elements_csv
+
+    return elements_csv(d)
+
+
 def _profile(d: "Design", done: Rendered) -> bytes:
     from .writers.tables import profile_csv
 
@@ -109,6 +115,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("points", "points.csv", "the point file for the data collector", _points),
     Output("stations", "stations.csv", "every stake with its station, offset and feature", _stations),
     Output("curves", "curves.csv", "one row per arc", _curves),
+    Output("elements", "elements.csv", "one row per element: lines, arcs and spirals", _elements),
     Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),

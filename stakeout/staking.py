@@ -124,19 +124,24 @@ def _stations(alignment: Alignment, staking: Staking, stationing: Stationing,
             f"staking.interval = {step!r}: would stake about {count:,.0f} points on {hi - lo:.1f} units of "
             f"alignment; the limit is {MAX_POINTS:,} (split the job or widen the interval)"
         )
-    k0 = int(np.ceil(lo / step - 1e-9))
-    k1 = int(np.floor(hi / step + 1e-9))
-    regular = np.arange(k0, k1 + 1, dtype=np.float64) * step
-    regular = regular[(regular >= lo - STATION_TOLERANCE) & (regular <= hi + STATION_TOLERANCE)]
+    if stationing.equations:
+        regular = stationing.interval_stations(step)
+    else:
+        k0 = int(np.ceil(lo / step - 1e-9))
+        k1 = int(np.floor(hi / step + 1e-9))
+        regular = np.arange(k0, k1 + 1, dtype=np.float64) * step
+        regular = regular[(regular >= lo - STATION_TOLERANCE) & (regular <= hi + STATION_TOLERANCE)]
     extra_values = []
     for ref in staking.extra_stations:
         value = stationing.to_internal(ref)
         if not lo - STATION_TOLERANCE <= value <= hi + STATION_TOLERANCE:
-            raise JobFileError(f"{ref.where} = {ref.value!r}: off the alignment, which runs from {lo:.4f} to {hi:.4f}")
+            raise JobFileError(f"{ref.where} = {ref.value!r}: off the alignment, which runs from "
+                               f"{stationing.label(lo)} to {stationing.label(hi)}")
         extra_values.append(value)
     extra = np.array(extra_values, dtype=np.float64)
-    keys = np.array([kp.station for kp in alignment.key_points], dtype=np.float64)
-    key_feats = [" ".join(kp.features) for kp in alignment.key_points]
+    keys = np.array([kp.station for kp in alignment.key_points] + [eq.internal for eq in stationing.equations],
+                    dtype=np.float64)
+    key_feats = [" ".join(kp.features) for kp in alignment.key_points] + ["EQ"] * len(stationing.equations)
     if more_keys is not None and more_keys[0].size:
         on = (more_keys[0] >= lo - STATION_TOLERANCE) & (more_keys[0] <= hi + STATION_TOLERANCE)
         keys = np.concatenate([keys, more_keys[0][on]])

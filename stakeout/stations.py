@@ -168,6 +168,35 @@ class Stationing:
         In order along the alignment.
     """
 
+    @classmethod
+    def with_equations(cls, start: float, end: float, station_length: int, decimals: int,
+                       given: tuple[tuple[float, float, str], ...]) -> "Stationing":
+        """Stationing from equations given as (back station, ahead station, key).
+
+        Each back station is read in the region before its equation.
+
+        Raises
+        ------
+        JobFileError
+            An equation off the alignment or out of order, naming its key.
+        """
+        eqs: list[Equation] = []
+        shift = 0.0
+        prev = start
+        for back, ahead, where in given:
+            internal = back - shift
+            if not prev < internal < end:
+                what = "out of order" if internal <= prev and prev > start else "off the alignment"
+                raise JobFileError(
+                    f"{where}.back = {station_text(back, station_length, decimals)!r}: {what}; the equation must "
+                    f"lie on the alignment after the previous one (region {len(eqs) + 1} runs from "
+                    f"{station_text(prev + shift, station_length, decimals)} to "
+                    f"{station_text(end + shift, station_length, decimals)})")
+            eqs.append(Equation(internal, back, ahead, where))
+            shift = ahead - internal
+            prev = internal
+        return cls(start, end, station_length, decimals, tuple(eqs))
+
     start: float
     end: float
     station_length: int
@@ -188,53 +217,89 @@ class Stationing:
         return np.array([0.0] + [eq.ahead - eq.internal for eq in self.equations], dtype=np.float64)
 
     def region(self, internal: ArrayLike) -> NDArray[np.int64]:
-        """Region (from 1) of each internal station."""
+        """Region (from 1) of each internal station; an equation point is in the region ahead."""
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return np.ones(x.shape, dtype=np.int64)
         return np.searchsorted(self._breaks, x, side="right").astype(np.int64) + 1
 
     def station(self, internal: ArrayLike) -> NDArray[np.float64]:
-        """The station in force at each internal station."""
+        """The station in force at each internal station (the ahead station at an equation)."""
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return x
         return x + self._shifts[self.region(x) - 1]
+
+    def station_back(self, internal: ArrayLike) -> NDArray[np.float64]:
+        """Like :meth:`station`, but an equation point takes its back station
+        (for the end of what runs up to it).
+        """
+        x = np.asarray(internal, dtype=float)
+        if not self.equations:
+            return x
+        r = np.searchsorted(self._breaks, x, side="left")
+        return x + self._shifts[r]
 
     def region_range(self, region: int) -> tuple[float, float]:
         """Internal stations where ``region`` starts and ends."""
         bounds = [self.start] + [eq.internal for eq in self.equations] + [self.end]
         return bounds[region - 1], bounds[region]
 
+    def shift(self, region: int) -> float:
+        """Station minus internal station in ``region``."""
+        return float(self._shifts[region - 1])
+
     def to_internal(self, ref: StationRef) -> float:
         """The internal station of a station given in the job file.
 
-        A station lying in two regions (after an equation that steps back)
-        needs its region; one lying in none is off the alignment.
+        The station is read in the region where it lies; one that lies in
+        two regions (after an equation that steps back) must name its
+        region, or it is an error naming both.  A station in no region
+        (off the alignment) is read in the first region, or in the last if
+        it lies beyond the end, so the caller's range check names it.
         """
         if not self.equations:
             return ref.value
+        if ref.region is not None:
+            if not 1 <= ref.region <= self.regions:
+                raise JobFileError(f"{ref.where}: region {ref.region} does not exist; the alignment has regions "
+                                   f"1 to {self.regions}")
+            return ref.value - self.shift(ref.region)
         hits = []
         for r in range(1, self.regions + 1):
-            if ref.region is not None and r != ref.region:
-                continue
             lo, hi = self.region_range(r)
-            x = ref.value - float(self._shifts[r - 1])
-            last = r == self.regions
-            if lo - 1e-9 <= x < hi - 1e-9 or (last and abs(x - hi) <= 1e-9) or (ref.region is not None):
+            x = ref.value - self.shift(r)
+            if lo - 1e-9 <= x <= hi + 1e-9:
                 hits.append((r, x))
-        if ref.region is not None and not 1 <= ref.region <= self.regions:
-            raise JobFileError(f"{ref.where}: region {ref.region} does not exist; the alignment has regions "
-                               f"1 to {self.regions}")
+        # a station equal to an equation's back station and its ahead region's start is one point
+        if len(hits) == 2 and abs(hits[0][1] - hits[1][1]) <= 1e-9:
+            hits = hits[1:]
         if len(hits) > 1:
             names = " and ".join(str(r) for r, _ in hits)
             raise JobFileError(
-                f"{ref.where} = {self.label(hits[0][1])!r}: lies in regions {names} (an equation steps back); "
-                f"write {{ station = ..., region = N }}"
+                f"{ref.where} = {self.format_value(ref.value)!r}: lies in regions {names} (an equation steps "
+                f"back there); write {{ station = ..., region = N }}"
             )
-        if not hits:
-            return ref.value  # off the alignment: the caller says so with its range
-        return hits[0][1]
+        if hits:
+            return hits[0][1]
+        last = self.regions if ref.value - self.shift(self.regions) > self.end else 1
+        return ref.value - self.shift(last)
+
+    def interval_stations(self, interval: float) -> NDArray[np.float64]:
+        """Internal stations of every whole multiple of ``interval`` in each region's own stationing."""
+        out = []
+        for r in range(1, self.regions + 1):  # one step per region, vectorised inside
+            lo, hi = self.region_range(r)
+            shift = self.shift(r)
+            k0 = int(np.ceil((lo + shift) / interval - 1e-9))
+            k1 = int(np.floor((hi + shift) / interval + 1e-9))
+            v = np.arange(k0, k1 + 1, dtype=np.float64) * interval
+            if shift:
+                v = v - shift
+            last = r == self.regions
+            keep = (v >= lo - 1e-6) & ((v <= hi + 1e-6) if last else (v < hi - 1e-6))
+            out.append(v[keep])
+        return np.concatenate(out) if out else np.empty(0)
 
     def labels(self, internal: ArrayLike) -> list[str]:
         """Station labels (``12+34.56``) of internal stations, in force there."""

@@ -18,7 +18,7 @@ from ..errors import JobFileError
 from ..job import Job, JobInfo
 from ..stations import check_station_length
 from ..units import get_unit
-from .alignment import read_alignment
+from .alignment import read_alignment, read_equations
 from .profile import read_profile
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_scale, read_setup
@@ -88,6 +88,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         scale=scale,
         check=read_check(top),
         profile=profile,
+        equations=read_equations(top, info),
     )
 
 

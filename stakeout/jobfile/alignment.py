@@ -18,7 +18,7 @@ from ..errors import JobFileError
 from ..job import JobInfo
 from .reader import Table, angle, check_safe_text, direction, station
 
-__all__ = ["read_alignment"]
+__all__ = ["read_alignment", "read_equations"]
 
 
 def _name(t: Table) -> str:
@@ -43,7 +43,7 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
         )
     form = forms[0]
     if form == "element":
-        t = top.table("alignment", ("name", "start", "azimuth", "element"))
+        t = top.table("alignment", ("name", "start", "azimuth", "element", "station_equation"))
         assert t is not None
         st = t.table("start", ("station", "northing", "easting"), required=True)
         assert st is not None
@@ -85,7 +85,7 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
             elements=tuple(elements),
         )
     if form == "pi":
-        t = top.table("alignment", ("name", "start_station", "pi"))
+        t = top.table("alignment", ("name", "start_station", "pi", "station_equation"))
         assert t is not None
         pis = []
         for p in t.tables("pi", ("northing", "easting", "radius", "radii", "deltas")):
@@ -95,7 +95,7 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
         if len(pis) < 2:
             raise JobFileError("alignment.pi: needs at least two entries, the POB and the POE")
         return PIListSpec(_name(t), station(t, "start_station", info.station_length, required=False, default=0.0), tuple(pis))
-    t = top.table("alignment", ("name", "at_pi"))
+    t = top.table("alignment", ("name", "at_pi", "station_equation"))
     assert t is not None
     c = t.table("at_pi", ("station", "northing", "easting", "back_tangent_azimuth", "ahead_tangent_azimuth",
                           "radius", "radii", "deltas", "lead_in", "lead_out"))
@@ -166,3 +166,14 @@ def _curve_def(t: Table) -> tuple[tuple[float, ...], tuple[float | None, ...]]:
             f"minus the others); found {rests}"
         )
     return tuple(radii), tuple(deltas)
+
+
+def read_equations(top: Table, info: JobInfo) -> tuple[tuple[float, float, str], ...]:
+    """``[[alignment.station_equation]]``: (back, ahead, key) in file order."""
+    t = top.table("alignment", ("name", "start", "azimuth", "element", "start_station", "pi", "at_pi",
+                                "station_equation"))
+    assert t is not None
+    out = []
+    for eq in t.tables("station_equation", ("back", "ahead")):
+        out.append((station(eq, "back", info.station_length), station(eq, "ahead", info.station_length), eq.path))
+    return tuple(out)

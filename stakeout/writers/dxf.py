@@ -169,6 +169,14 @@ def _build(c: Design) -> Any:
         _text(msp, f"{' '.join(kp.features)} {stn.label(kp.station)}", kp.easting + 1.2 * h,
               kp.northing - 1.5 * h, h, "SO-KEYPOINT")
 
+    if stn.equations:
+        eq_at = np.array([eq.internal for eq in stn.equations])
+        qn, qe, _ = a.evaluate(eq_at, 0.0)
+        for eq, n, e in zip(stn.equations, qn.tolist(), qe.tolist()):
+            msp.add_circle((e, n), 0.8 * h, dxfattribs={"layer": "SO-KEYPOINT"})
+            _text(msp, f"{stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH", e + 1.2 * h,
+                  n - 1.5 * h, h, "SO-KEYPOINT")
+
     if c.setup is not None:
         occ = c.setup.setup.occupied
         tri = [(occ.easting + 1.5 * h * math.sin(math.radians(t)), occ.northing + 1.5 * h * math.cos(math.radians(t)))

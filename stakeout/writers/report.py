@@ -24,6 +24,9 @@ def curve_report(d: Design) -> str:
     out.append(f"alignment {alignment.name}   units: {unit.label}   CRS: {job.info.crs or 'local grid (none given)'}")
     out.append(f"from {st(alignment.start_station)} to {st(alignment.end_station)}, "
                f"length {alignment.length:.4f} {unit.symbol}")
+    for eq in d.stationing.equations:
+        out.append(f"station equation  {d.stationing.format_value(eq.back)} BK = "
+                   f"{d.stationing.format_value(eq.ahead)} AH  (internal {eq.internal:.4f})")
     out.append("")
     out.append("ELEMENTS")
     out.append(f"{'#':>3}  {'kind':<4}  {'from':>12}  {'to':>12}  {'length':>11}  {'radius':>10}  "
@@ -32,7 +35,8 @@ def curve_report(d: Design) -> str:
         r = el.radius_start if el.radius_start == el.radius_end else None
         radius = f"{r:10.4f}" if r is not None else " " * 10
         delta = f"{format_dms(el.central_angle, 1):>13}" if el.turn else " " * 13
-        out.append(f"{i:>3}  {el.kind:<4}  {st(el.start):>12}  {st(el.end):>12}  "
+        end = d.stationing.format_value(float(d.stationing.station_back(el.end)))
+        out.append(f"{i:>3}  {el.kind:<4}  {st(el.start):>12}  {end:>12}  "
                    f"{el.length:11.4f}  {radius}  {delta}  {turn_word(el.turn):<5}  "
                    f"{format_azimuth_dms(el.start_azimuth, 1):>13}")
     out.append("")

@@ -28,7 +28,9 @@ __all__ = [
 
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "easting",
-                    "elevation", "feature", "code")
+                    "elevation", "feature", "code",
+                    # added columns
+                    "region")
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
@@ -85,6 +87,9 @@ class _PerPoint:
     def code(self) -> rows.Field:
         return rows.tile_rows(rows.text(self.sp.codes), self.k)
 
+    def region(self) -> rows.Field:
+        return rows.repeat_rows(rows.integer(self.sp.regions[self.s]), self.m)
+
     def feature(self) -> rows.Field:
         return rows.repeat_rows(rows.text(self.sp.features[self.s]), self.m)
 
@@ -136,7 +141,7 @@ def stations_csv(design: Design) -> bytes:
     def layout(p: _PerPoint) -> list[rows.Field]:
         return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(), p.sep(), p.offset(d), p.sep(),
                 p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(), p.elevation(), p.sep(),
-                p.feature(), p.sep(), p.code()]
+                p.feature(), p.sep(), p.code(), p.sep(), p.region()]
 
     return _csv(STATIONS_COLUMNS, sp, layout)
 
@@ -159,7 +164,7 @@ def curves_csv(design: Design) -> bytes:
                 str(curve.number),
                 "" if curve.pi_station is None else fixed_or_empty(float(station(curve.pi_station)), d),
                 fixed_or_empty(float(station(el.start)), d),
-                fixed_or_empty(float(station(el.end)), d),
+                fixed_or_empty(float(design.stationing.station_back(el.end)), d),
                 fixed_or_empty(p.radius, d),
                 f"{el.delta:.8f}",
                 str(format_dms(el.delta, 1)),
@@ -243,3 +248,29 @@ def profile_csv(design: Design) -> bytes:
             r.high_low_kind or "", fixed_or_empty(r.radius, d),
         ]))
     return csv_text(PROFILE_COLUMNS, lines).encode("utf-8")
+
+
+ELEMENTS_COLUMNS = ("element", "kind", "start_station", "end_station", "length", "start_northing", "start_easting",
+                    "end_northing", "end_easting", "start_azimuth_deg", "end_azimuth_deg", "radius_start",
+                    "radius_end", "turn")
+
+
+def elements_csv(design: Design) -> bytes:
+    """``elements.csv``: one row per element in order, stations in force at each end.
+
+    An element ending at an equation point ends at the back station; the
+    next one starts at the ahead station.  Radii are empty where infinite.
+    """
+    st = design.stationing
+    d = DECIMALS
+    lines = []
+    for i, el in enumerate(design.alignment.elements, start=1):
+        lines.append(",".join([
+            str(i), el.kind, fixed_or_empty(float(st.station(el.start)), d),
+            fixed_or_empty(float(st.station_back(el.end)), d), fixed_or_empty(el.length, d),
+            fixed_or_empty(el.start_northing, d), fixed_or_empty(el.start_easting, d),
+            fixed_or_empty(el.end_northing, d), fixed_or_empty(el.end_easting, d),
+            f"{el.start_azimuth % 360.0:.8f}", f"{el.end_azimuth % 360.0:.8f}",
+            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn),
+        ]))
+    return csv_text(ELEMENTS_COLUMNS, lines).encode("utf-8")
