@@ -1,0 +1,168 @@
+"""Station equations: regions, interval stations per region, EQ stakes, true distances.
+
+Conventions checked here are those of the job-file contract (common practice
+of the trade: a station equation "back = ahead" renames the stationing ahead
+of a point without moving anything; lengths stay true distances).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from typer.testing import CliRunner
+
+from stakeout.cli import app
+from stakeout.design import build_design
+from stakeout.jobfile import load_job
+
+from .helpers import build_job, read_rows, write_job
+
+BASE = """format = 1
+[job]
+name = "Equation test road"
+units = "m"
+[alignment]
+name = "EQ"
+start = {{ station = "1+000", northing = 5000.0, easting = 2000.0 }}
+azimuth = 30.0
+[[alignment.element]]
+kind = "line"
+length = 200.0
+[[alignment.element]]
+kind = "arc"
+radius = 300.0
+length = 150.0
+turn = "right"
+[[alignment.element]]
+kind = "line"
+length = 200.0
+{equations}
+[staking]
+interval = 25.0
+{extra}
+"""
+
+BACKWARD = """[[alignment.station_equation]]
+back = "1+105.000"
+ahead = "1+100.000"
+"""
+FORWARD = """[[alignment.station_equation]]
+back = "1+300.000"
+ahead = "2+000.000"
+"""
+
+
+def _job(tmp_path, equations=BACKWARD + FORWARD, extra=""):
+    return write_job(tmp_path, BASE.format(equations=equations, extra=extra))
+
+
+def test_backward_and_forward_equations_regions(tmp_path):
+    out = build_job(_job(tmp_path), tmp_path / "out")
+    rows = read_rows(out / "stations.csv")
+    eq = [r for r in rows if "EQ" in r["feature"].split()]
+    # each equation point is staked with the ahead station and the ahead region
+    assert [(r["station_label"], r["region"]) for r in eq] == [("1+100.000", "2"), ("2+000.000", "3")]
+    # interval stations are whole multiples of the interval in each region's own stationing
+    for r in rows:
+        if not r["feature"]:
+            assert float(r["station"]) % 25.0 == pytest.approx(0.0, abs=1e-9)
+    # points numbered by position along the alignment: stations rise within each region
+    for reg in ("1", "2", "3"):
+        st = [float(r["station"]) for r in rows if r["region"] == reg]
+        assert st == sorted(st)
+
+
+def test_equation_preserves_distance(tmp_path):
+    # the points do not move: the same point has the same coordinates with or without equations
+    (tmp_path / "plain").mkdir()
+    plain = build_design(load_job(_job(tmp_path / "plain", equations="")))
+    d = build_design(load_job(_job(tmp_path, BACKWARD + FORWARD)))
+    assert d.alignment.length == pytest.approx(plain.alignment.length, abs=1e-12)
+    assert [el.length for el in d.alignment.elements] == [el.length for el in plain.alignment.elements]
+    # the PT lies 350 m along: internal 1350; region 3 shift = 2000 - (1300 + 5) = 695
+    pt = [k for k in d.alignment.key_points if "PT" in k.features][0]
+    assert float(d.stationing.station(pt.station)) == pytest.approx(1350.0 + 695.0)
+
+
+def test_elements_end_at_back_station(tmp_path):
+    out = build_job(_job(tmp_path), tmp_path / "out")
+    el = read_rows(out / "elements.csv")
+    # the line ends at internal 1200 (region 2, station 1195): back of nothing; the arc ends in region 3
+    assert float(el[0]["end_station"]) == pytest.approx(1195.0)
+    assert float(el[1]["start_station"]) == pytest.approx(1195.0)
+    assert float(el[1]["end_station"]) == pytest.approx(2045.0)
+
+
+def test_element_ending_at_equation_takes_back_station(tmp_path):
+    eq = """[[alignment.station_equation]]
+back = "1+200.000"
+ahead = "5+000.000"
+"""
+    out = build_job(_job(tmp_path, eq), tmp_path / "out")
+    el = read_rows(out / "elements.csv")
+    assert float(el[0]["end_station"]) == pytest.approx(1200.0)  # back station at the equation
+    assert float(el[1]["start_station"]) == pytest.approx(5000.0)  # ahead station after it
+
+
+def test_region_qualified_extra_station(tmp_path):
+    extra = 'extra_stations = [{ station = "1+102.000", region = 1 }, { station = "1+102.000", region = 2 }]'
+    out = build_job(_job(tmp_path, extra=extra), tmp_path / "out")
+    rows = [r for r in read_rows(out / "stations.csv") if r["station_label"] == "1+102.000"]
+    assert [r["region"] for r in rows] == ["1", "2"]
+    # the two are 7 m apart along the alignment: 1102 in region 1 and 1102 + 5 internal in region 2
+    n = [float(r["northing"]) for r in rows]
+    e = [float(r["easting"]) for r in rows]
+    assert math.hypot(n[1] - n[0], e[1] - e[0]) == pytest.approx(5.0, abs=1e-4)
+
+
+def test_ambiguous_station_refused(tmp_path):
+    job = _job(tmp_path, extra='extra_stations = ["1+102.000"]')
+    r = CliRunner().invoke(app, ["build", str(job), "--out", str(tmp_path / "out")])
+    assert r.exit_code == 2
+    assert "staking.extra_stations[0]" in r.output and "regions 1 and 2" in r.output
+    assert not (tmp_path / "out").exists()
+
+
+@pytest.mark.parametrize("eq, key", [
+    ('[[alignment.station_equation]]\nback = "0+900.000"\nahead = "1+000.000"\n', "off the alignment"),
+    ('[[alignment.station_equation]]\nback = "9+900.000"\nahead = "1+000.000"\n', "off the alignment"),
+    (FORWARD + BACKWARD, "alignment.station_equation[1].back"),
+])
+def test_bad_equations_refused(tmp_path, eq, key):
+    r = CliRunner().invoke(app, ["build", str(_job(tmp_path, eq)), "--out", str(tmp_path / "out")])
+    assert r.exit_code == 2, r.output
+    assert key in r.output
+
+
+def test_check_reports_station_in_region(tmp_path):
+    job = write_job(tmp_path, BASE.format(equations=BACKWARD + FORWARD, extra="")
+                    + "[check]\nhorizontal_tolerance = 0.02\n")
+    out = build_job(job, tmp_path / "out")
+    rows = read_rows(out / "stations.csv")
+    pick = [r for r in rows if r["region"] == "3"][2]
+    staked = tmp_path / "shots.csv"
+    staked.write_text(f"{pick['point']},{pick['northing']},{pick['easting']}\n", encoding="utf-8")
+    r = CliRunner().invoke(app, ["check", str(job), str(staked), "--out", str(tmp_path / "chk")])
+    assert r.exit_code == 0, r.output
+    got = read_rows(tmp_path / "chk" / "check.csv")[0]
+    assert float(got["station"]) == pytest.approx(float(pick["station"]), abs=1e-4)
+
+
+def test_equation_labels_on_plan(tmp_path):
+    import ezdxf  # reading the drawing back with ezdxf (reference library)
+
+    out = build_job(_job(tmp_path), tmp_path / "out")
+    texts = [t.dxf.text for t in ezdxf.readfile(out / "plan.dxf").modelspace().query("TEXT")]
+    assert "1+105.000 BK = 1+100.000 AH" in texts and "1+300.000 BK = 2+000.000 AH" in texts
+
+
+def test_interval_stations_each_region_property():
+    # independent count: multiples of 25 in [1000, 1105) + [1100, 1300) + [2000, 2245]
+    from stakeout.stations import Stationing
+
+    st = Stationing.with_equations(1000.0, 1550.0, 1000, 3, ((1105.0, 1100.0, "a"), (1300.0, 2000.0, "b")))
+    got = st.station(st.interval_stations(25.0))
+    want = np.concatenate([np.arange(1000, 1105, 25), np.arange(1100, 1300, 25), np.arange(2000, 2246, 25)])
+    assert np.allclose(got, want)
