@@ -51,6 +51,7 @@ class Design:
     stakes: StakePoints
     setup: SetupDesign | None = None
     profile: Profile | None = None
+    warnings: tuple[str, ...] = ()
     crs_label: str | None = None
     proj_version: str | None = None
     factors: dict[str, Any] = field(default_factory=dict)
@@ -97,6 +98,7 @@ def build_design(job: Job) -> Design:
         proj = proj_version()
     setup_design = None
     factors: dict[str, Any] = {}
+    warnings: list[str] = []
     if job.setup is not None:
         setup = job.setup
         occ = setup.occupied
@@ -107,10 +109,16 @@ def build_design(job: Job) -> Design:
                                 scale.combined_factor, occ.elevation, setup.instrument_height, stakes.elevation,
                                 setup.target_height)
         setup_design = SetupDesign(setup, scale, setout)
+        if not job.scale.given and grid is not None:
+            warnings.append("no combined factor in the job: ground distances equal grid distances (factor 1.0); "
+                            'set [scale] combined_factor = "auto" to use the CRS\'s factor at the occupied point')
         factors = {k: v for k, v in {
             "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
             "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
             "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": bs_az,
         }.items() if v is not None}
-    return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, crs_label=crs_label,
+        if not job.scale.given:
+            factors["how"] = "default"
+    return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
+                  crs_label=crs_label,
                   proj_version=proj, factors=factors)

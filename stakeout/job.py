@@ -88,6 +88,7 @@ class Scale:
     ellipsoid_height: float | None = None
     elevation: float | None = None
     geoid_separation: float | None = None
+    given: bool = True  # False: no factor in the job file, 1.0 by default
 
     @property
     def auto(self) -> bool:

@@ -85,6 +85,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    notes.extend(f"warning: {w}" for w in d.warnings)
     return notes
 
 

@@ -22,7 +22,10 @@ from .units import Unit
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import PointFactors
 
-__all__ = ["elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale", "backsight_azimuth"]
+#: How a factor of 1.0 that no job file gave is described (sheets, manifest, console).
+DEFAULT_FACTOR_NOTE = "default: no factor given, ground distances equal grid distances"
+
+__all__ = ["DEFAULT_FACTOR_NOTE", "elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale", "backsight_azimuth"]
 
 
 def elevation_factor(height_m: float, radius_m: float) -> float:
@@ -133,7 +136,8 @@ def resolve_scale(scale: Scale, unit: Unit, factors: "PointFactors | None") -> S
         how = "auto: grid scale factor k at the occupied point x elevation factor R/(R+h)"
         return ScaleInfo(cf, how, pf.scale_factor, ef, pf.radius_m, h, pf.convergence, pf.latitude, pf.longitude)
     assert scale.combined_factor is not None
-    return ScaleInfo(scale.combined_factor, "given in the job file",
+    how = "given in the job file" if scale.given else DEFAULT_FACTOR_NOTE
+    return ScaleInfo(scale.combined_factor, how,
                      convergence=pf.convergence if pf else None,
                      latitude=pf.latitude if pf else None, longitude=pf.longitude if pf else None)
 

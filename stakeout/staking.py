@@ -20,7 +20,7 @@ from .job import Staking
 from .profile import Profile
 from .stations import Stationing
 
-__all__ = ["StakePoints", "plan_stakes", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
+__all__ = ["StakePoints", "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
 
 #: Most points one job may stake (memory stays under a few GB).
 MAX_POINTS = 10_000_000
@@ -174,6 +174,58 @@ def _stations(alignment: Alignment, staking: Staking, stationing: Stationing,
     return values[pick], out_feats
 
 
+#: Longest miter at an angle point, as a multiple of the offset (a deflection of about 168.5 degrees).
+MAX_MITER_RATIO = 10.0
+
+
+def _offset_key(staking: Staking, ol_offset: float) -> str:
+    code = next(ol.code for ol in staking.offsets if ol.offset == ol_offset)
+    return f"staking.offsets (offset = {ol_offset!r}, code = {code!r})"
+
+
+def check_offsets(alignment: Alignment, staking: Staking) -> None:
+    """Refuse offset lines that cannot be staked faithfully.
+
+    An offset on the inside of a curve at or past the smallest radius the
+    element reaches would put stakes through (or on) the centre, running
+    backwards; at an angle point turning back on itself the miter stake
+    would lie far from the alignment (more than :data:`MAX_MITER_RATIO`
+    times the offset).
+
+    Raises
+    ------
+    JobFileError
+        Naming the offset line, the element or PI, and its radius or deflection.
+    """
+    for i, el in enumerate(alignment.elements, start=1):  # one step per element
+        if not el.turn:
+            continue
+        radii = [r for r in (el.radius_start, el.radius_end) if r is not None]
+        r_min = min(radii)
+        for ol in staking.offsets:
+            inside = ol.offset * el.turn  # positive: on the side of the centre
+            if inside >= r_min:
+                raise JobFileError(
+                    f"{_offset_key(staking, ol.offset)}: lies {abs(ol.offset):g} inside element {i} ({el.kind}, "
+                    f"smallest radius {r_min:.4f}), at or past its centre; no stake can follow the curve there")
+    worst = max((abs(ol.offset) for ol in staking.offsets), default=0.0)
+    if worst == 0.0:
+        return
+    for kp in alignment.key_points:
+        if "AP" not in kp.features:
+            continue
+        i = int(np.searchsorted([el.start for el in alignment.elements], kp.station - STATION_TOLERANCE,
+                                side="right")) - 1
+        back, ahead = alignment.elements[i].end_azimuth, alignment.elements[i + 1].start_azimuth
+        half = np.radians(((ahead - back + 180.0) % 360.0 - 180.0) / 2.0)
+        ratio = 1.0 / max(np.cos(half), 1e-300)
+        if ratio > MAX_MITER_RATIO:
+            raise JobFileError(
+                f"angle point at {kp.northing:.4f} N {kp.easting:.4f} E: deflects {abs(np.degrees(2 * half)):.4f} "
+                f"degrees, so the offset stakes would sit {ratio:.1f} times their offset from it (limit "
+                f"{MAX_MITER_RATIO:g}); add a curve at this PI")
+
+
 def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
                 profile: Profile | None = None) -> StakePoints:
     """Compute every stake point of a job.
@@ -201,6 +253,7 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         more = profile.feature_points()
     stations, feats = _stations(alignment, staking, stationing, more)
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
+    check_offsets(alignment, staking)
     st = np.repeat(stations, offs.size)
     of = np.tile(offs, stations.size)
     n, e, az = alignment.evaluate(st, of)

@@ -65,7 +65,7 @@ def read_scale(top: Table) -> Scale:
     """``[scale]``: the combined factor, or ``auto`` with the height for it."""
     t = top.table("scale", ("combined_factor", "ellipsoid_height", "elevation", "geoid_separation"))
     if t is None:
-        return Scale(1.0)
+        return Scale(1.0, given=False)
     cf = t.raw("combined_factor")
     if cf is None:
         factor: float | None = 1.0
@@ -96,7 +96,7 @@ def read_scale(top: Table) -> Scale:
             'scale.combined_factor = "auto": needs the height for the elevation factor; give '
             "`ellipsoid_height`, or `elevation` with `geoid_separation` (job units)"
         )
-    return Scale(factor, h, elev, n)
+    return Scale(factor, h, elev, n, given=cf is not None)
 
 
 def read_check(top: Table) -> CheckSpec | None:

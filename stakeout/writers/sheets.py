@@ -16,6 +16,7 @@ import numpy as np
 from ..alignment import Alignment, Arc
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from ..setout import DEFAULT_FACTOR_NOTE
 from .text import WIDTH, curve_lines, fixed, header_lines, paged, turn_word
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows"]
@@ -56,6 +57,9 @@ def setout_sheet(d: Design) -> str:
                     f"(h {scale.height:.3f} {unit.symbol} ellipsoid height, R {scale.radius_m:.0f} m)")
     else:
         head.append(f"combined factor {scale.combined_factor:.8f}   {scale.how}")
+        if d.crs_label is not None and scale.how == DEFAULT_FACTOR_NOTE:
+            head.append("WARNING   ground distances equal grid distances: no combined factor was given for")
+            head.append('          this CRS; set [scale] combined_factor = "auto" to use its factor')
     if scale.convergence is not None and setup.azimuth_reference != "geodetic":
         head.append(f"convergence at the occupied point {format_dms(scale.convergence, 1)} (not applied: "
                     "grid backsight)")
