@@ -71,7 +71,10 @@ def show_value(value: object) -> str:
     """
     if isinstance(value, str) and len(value) > _SHOW_CHARS:
         return repr(value[:_SHOW_CHARS]) + "..."
-    text = repr(value)
+    try:
+        text = repr(value)
+    except ValueError:  # a whole number past Python's digit limit for text
+        return f"(a whole number of {len(hex(value)) * 1.2:.0f}-odd digits)" if isinstance(value, int) else "(?)"
     if len(text) > _SHOW_CHARS + 10:
         text = text[:_SHOW_CHARS] + "..."
     return text

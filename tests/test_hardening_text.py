@@ -111,3 +111,9 @@ def test_show_value_is_bounded_and_one_line():
     assert show_value("a\nb") == "'a\\nb'"
     long = show_value("x" * 5000)
     assert len(long) < 80 and long.endswith("...")
+
+
+def test_show_value_of_a_number_past_the_digit_limit():
+    # Python refuses str() of ints over 4300 digits (sys.get_int_max_str_digits)
+    text = show_value(10**6000)
+    assert "digits" in text and len(text) < 80
