@@ -81,8 +81,9 @@ T = TypeVar("T")
 
 
 def _guard(debug: bool, fn: Callable[[], T]) -> T:
-    from .writers.folder import InterruptedAfterCommit
+    from .writers.folder import InterruptedAfterCommit, committed_targets
 
+    before = len(committed_targets())
     try:
         with _signals_as_interrupts():
             return fn()
@@ -99,12 +100,15 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
                     "deleted by the next run with the same --out")
         typer.echo(msg, err=True)
         raise typer.Exit(128 + exc.signum) from None
-    except Terminated as exc:
-        typer.echo(f"stakeout: terminated ({_signal_name(exc.signum)}); nothing was written", err=True)
-        raise typer.Exit(128 + exc.signum) from None
-    except KeyboardInterrupt:
-        typer.echo("stakeout: interrupted; nothing was written", err=True)
-        raise typer.Exit(130) from None
+    except KeyboardInterrupt as exc:  # Ctrl-C, or Terminated (SIGTERM, SIGHUP)
+        signum = int(getattr(exc, "signum", signal.SIGINT))
+        how = "interrupted" if signum == signal.SIGINT else f"terminated ({_signal_name(signum)})"
+        done = committed_targets()[before:]
+        if done:
+            typer.echo(f"stakeout: {how} after the outputs were written; {done[-1]} is complete", err=True)
+        else:
+            typer.echo(f"stakeout: {how}; nothing was written", err=True)
+        raise typer.Exit(128 + signum) from None
     except typer.Exit:
         raise
     except Exception as exc:  # a bug, not bad input: say so in one line

@@ -253,3 +253,22 @@ def test_ebusy_from_the_move_explained(tmp_path, monkeypatch, force):
     assert r.exit_code == 2 and "is a mount point" in r.output and "inside it" in r.output
     assert sorted(p.name for p in tmp_path.iterdir()) == ["mnt"]
     assert [p.name for p in out.iterdir()] == (["old.csv"] if force else [])
+
+
+def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkeypatch):
+    # Ctrl-C after the folder is in place but before the command returns
+    # (here: while the final progress step runs) must not claim "nothing was written".
+    out = tmp_path / "out"
+    real_step = pipeline.Progress.step
+
+    def step(self, what):
+        if out.exists():  # run_check steps once more after its commit
+            raise KeyboardInterrupt
+        return real_step(self, what)
+
+    monkeypatch.setattr(pipeline.Progress, "step", step)
+    r = runner.invoke(app, ["check", str(SAMPLES / "loop_ramp_usft.toml"),
+                            str(SAMPLES / "staked" / "loop_ramp_shots.csv"), "--out", str(out)])
+    assert r.exit_code == 130
+    assert "after the outputs were written" in r.output and "nothing was written" not in r.output
+    assert sorted(p.name for p in out.iterdir()) == ["check.csv", "check.txt"]

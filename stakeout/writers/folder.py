@@ -50,13 +50,15 @@ from types import TracebackType
 
 from ..errors import OutputError
 
-__all__ = ["OutputFolder", "InterruptedAfterCommit", "REMAINS_MARK"]
+__all__ = ["OutputFolder", "InterruptedAfterCommit", "REMAINS_MARK", "committed_targets"]
 
 #: Middle part of the name of a replaced folder's remains:
 #: ``.NAME.remains-XXXX`` beside the target.  Only a replaced folder whose
 #: new outputs are already in place is ever given this name, so deleting
 #: it is always safe.
 REMAINS_MARK = ".remains-"
+
+_COMMITTED: list[Path] = []
 
 _HELD_SIGNALS = tuple(getattr(signal, n) for n in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, n))
 
@@ -80,6 +82,20 @@ class InterruptedAfterCommit(KeyboardInterrupt):
         self.target = target
         self.remains = remains
         self.signum = signum
+
+
+def committed_targets() -> tuple[Path, ...]:
+    """Every output folder put in place by this process so far, oldest first.
+
+    The CLI compares the count before and after a command, so that an
+    interruption after a commit is not reported as "nothing was written".
+
+    Returns
+    -------
+    tuple of Path
+        The targets, absolute.
+    """
+    return tuple(_COMMITTED)
 
 
 def _nearest_existing(p: Path) -> Path:
@@ -320,11 +336,13 @@ class OutputFolder:
                 with _signals_held():
                     os.rename(tmp, t)
                     committed, self.tmp = True, None
+                    _COMMITTED.append(t)
             elif not any(t.iterdir()):
                 with _signals_held():
                     os.rmdir(t)
                     os.rename(tmp, t)
                     committed, self.tmp = True, None
+                    _COMMITTED.append(t)
             else:
                 old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-", dir=t.parent))
                 old.rmdir()
@@ -336,6 +354,7 @@ class OutputFolder:
                         os.rename(old, t)
                         raise
                     committed, self.tmp = True, None
+                    _COMMITTED.append(t)
                     remains = old.with_name(f".{t.name}{REMAINS_MARK}{old.name.rsplit('.old-', 1)[1]}")
                     try:
                         os.rename(old, remains)
