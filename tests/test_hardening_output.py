@@ -272,3 +272,24 @@ def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkey
     assert r.exit_code == 130
     assert "after the outputs were written" in r.output and "nothing was written" not in r.output
     assert sorted(p.name for p in out.iterdir()) == ["check.csv", "check.txt"]
+
+
+def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):
+    # A second SIGTERM while the temporary folder is being deleted must not
+    # leave half of it behind: it is held until the deletion is done.
+    def boom(n, c):
+        raise KeyboardInterrupt
+
+    real = shutil.rmtree
+
+    def rmtree(path, *a, **k):
+        if ".out.partial-" in str(path):
+            signal.raise_signal(signal.SIGINT)  # arrives in the middle of the clean-up
+        return real(path, *a, **k)
+
+    monkeypatch.setattr(pipeline, "_render", boom)
+    monkeypatch.setattr(folder_mod.shutil, "rmtree", rmtree)
+    r = _build(JOB, tmp_path / "out")
+    monkeypatch.undo()
+    assert r.exit_code == 130 and "nothing was written" in r.output
+    assert list(tmp_path.iterdir()) == []

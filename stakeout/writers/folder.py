@@ -285,7 +285,8 @@ class OutputFolder:
 
     def _discard(self) -> None:
         if self.tmp is not None and self.tmp.exists():
-            shutil.rmtree(self.tmp, ignore_errors=True)
+            with _signals_held():  # a second Ctrl-C or SIGTERM waits until the litter is gone
+                shutil.rmtree(self.tmp, ignore_errors=True)
 
     def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
                  tb: TracebackType | None) -> None:
