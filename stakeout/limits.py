@@ -24,6 +24,9 @@ coordinate (N, E)          ``|v| <= 1e9``          inside ``2**30``: 4 decimals
                                                    northing in US feet is at
                                                    most ~3.3e7)
 station                    ``|v| <= 1e9``          same; labels stay short
+station length             whole, ``1 .. 1e6``     100 (feet) and 1000 (metres)
+                                                   in practice; 1e6 keeps the
+                                                   part after ``+`` to 6 digits
 length, radius, offset     ``|v| <= 1e9``          lengths are added to
                                                    stations and coordinates
 height, elevation          ``|v| <= 1e5``          100 km in metres, 30 km in
@@ -73,6 +76,7 @@ from .errors import JobFileError, StakeoutError
 __all__ = [
     "MAX_COORDINATE",
     "MAX_STATION",
+    "MAX_STATION_LENGTH",
     "MAX_LENGTH",
     "MAX_HEIGHT",
     "MAX_POINT_NUMBER",
@@ -82,6 +86,7 @@ __all__ = [
     "MAX_RECORD_CHARS",
     "check_coordinate",
     "check_station_value",
+    "check_station_length",
     "check_length",
     "check_height",
     "check_first_point",
@@ -95,6 +100,8 @@ __all__ = [
 MAX_COORDINATE = 1e9
 #: Largest absolute station value, job units.
 MAX_STATION = 1e9
+#: Largest station length (units per full station), job units.
+MAX_STATION_LENGTH = 10**6
 #: Largest length, radius or absolute offset, job units.
 MAX_LENGTH = 1e9
 #: Largest absolute height or elevation, job units.
@@ -184,6 +191,39 @@ def check_station_value(value: object, where: str) -> float:
         Not a finite number, or out of range.
     """
     return _bounded(value, where, MAX_STATION, "stations")
+
+
+def check_station_length(value: object, where: str = "job.station_length") -> int:
+    """Validate a station length: a whole number from 1 to ``MAX_STATION_LENGTH``.
+
+    Parameters
+    ----------
+    value : int or float
+        Units per full station (100 for feet, 1000 for metres in practice);
+        a float must be whole (``100.0``).
+    where : str
+        The key named in the error.
+
+    Returns
+    -------
+    int
+        The station length.
+
+    Raises
+    ------
+    JobFileError
+        Not a number, not whole, not positive, or over ``MAX_STATION_LENGTH``
+        (``1e20`` once crashed the label formatter).
+    """
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise JobFileError(f"{where} = {_show(value)}: expected a whole number such as 100 or 1000")
+    v = _finite(value, where)
+    if abs(v) > MAX_STATION_LENGTH:
+        raise JobFileError(f"{where} = {_show(value)}: out of range; a station length runs from 1 to "
+                           f"{MAX_STATION_LENGTH:,} job units (100 or 1000 in practice)")
+    if v <= 0 or v != int(v):
+        raise JobFileError(f"{where} = {_show(value)}: must be a positive whole number such as 100 or 1000")
+    return int(v)
 
 
 def check_length(value: object, where: str, allow_zero: bool = False, signed: bool = False) -> float:

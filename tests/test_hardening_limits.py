@@ -231,3 +231,26 @@ def test_unicode_bom_names():
     assert unicode_bom(codecs.BOM_UTF16_BE) == "UTF-16"
     assert unicode_bom(codecs.BOM_UTF8) == "UTF-8"
     assert unicode_bom(b"format") is None
+
+
+def test_huge_station_length():
+    from stakeout.limits import MAX_STATION_LENGTH, check_station_length
+    from stakeout.stations import check_station_length as current
+
+    assert check_station_length(100) == 100 and check_station_length(1000.0) == 1000
+    assert check_station_length(MAX_STATION_LENGTH) == MAX_STATION_LENGTH
+    assert current(1e20) == 10**20  # the reader's own check lets this through today (then exit 3)
+    for v in (1e20, 10**20, 1e300, 10**400):
+        with pytest.raises(JobFileError, match=r"job\.station_length = .*out of range; a station length runs "
+                                               "from 1 to 1,000,000"):
+            check_station_length(v)
+    for v in (0, -100, 100.5, math.nan, math.inf, True, "100"):
+        with pytest.raises(JobFileError, match=r"job\.station_length = "):
+            check_station_length(v)
+    # same messages as the reader's current check for ordinary mistakes
+    for v in (0, 100.5, "100"):
+        with pytest.raises(JobFileError) as ours:
+            check_station_length(v)
+        with pytest.raises(JobFileError) as theirs:
+            current(v)
+        assert str(ours.value) == str(theirs.value)
