@@ -2,11 +2,21 @@
 
 Exit codes: 0 success; 1 a check found stakes out of tolerance, duplicated
 or unmatched; 2 bad input (one line on stderr, no traceback; ``--debug``
-shows one); 3 an internal error (a bug: please report it); 130 interrupted.
+shows one); 3 an internal error (a bug: please report it); 130 interrupted
+(Ctrl-C), 143 terminated (SIGTERM), 129 hung up (SIGHUP).
+
+SIGTERM and SIGHUP are treated like Ctrl-C while a command runs: the
+temporary output folder is removed and nothing is written (a SIGHUP that
+is ignored, as under ``nohup``, stays ignored).  An interruption after the
+new outputs were moved into place says so: they are complete.
 """
 
 from __future__ import annotations
 
+import signal
+import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
 from typing import Callable, Optional, TypeVar
 
 import typer
@@ -14,7 +24,51 @@ import typer
 from .errors import StakeoutError
 from .outputs import only_help
 
-__all__ = ["app", "main"]
+__all__ = ["app", "main", "Terminated"]
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM or SIGHUP, raised like Ctrl-C so that clean-up runs.
+
+    Parameters
+    ----------
+    signum : int
+        The signal received.
+    """
+
+    def __init__(self, signum: int):
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _raise_terminated(signum: int, frame: object) -> None:
+    raise Terminated(signum)
+
+
+@contextmanager
+def _signals_as_interrupts() -> Iterator[None]:
+    """While a command runs, SIGTERM and SIGHUP raise :class:`Terminated`."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    saved = {}
+    for name in ("SIGTERM", "SIGHUP"):
+        s = getattr(signal, name, None)
+        if s is None or signal.getsignal(s) == signal.SIG_IGN:
+            continue
+        saved[s] = signal.signal(s, _raise_terminated)
+    try:
+        yield
+    finally:
+        for s, h in saved.items():
+            signal.signal(s, h)
+
+
+def _signal_name(signum: int) -> str:
+    try:
+        return signal.Signals(signum).name
+    except ValueError:
+        return f"signal {signum}"
 
 app = typer.Typer(
     add_completion=False,
@@ -28,16 +82,34 @@ T = TypeVar("T")
 
 
 def _guard(debug: bool, fn: Callable[[], T]) -> T:
+    from .writers.folder import InterruptedAfterCommit, committed_targets
+
+    before = len(committed_targets())
     try:
-        return fn()
+        with _signals_as_interrupts():
+            return fn()
     except StakeoutError as exc:
         if debug:
             raise
         typer.echo(f"stakeout: error: {exc}", err=True)
         raise typer.Exit(2) from None
-    except KeyboardInterrupt:
-        typer.echo("stakeout: interrupted; nothing was written", err=True)
-        raise typer.Exit(130) from None
+    except InterruptedAfterCommit as exc:
+        how = "interrupted" if exc.signum == signal.SIGINT else f"terminated ({_signal_name(exc.signum)})"
+        msg = f"stakeout: {how} after the new outputs were moved into place; {exc.target} is complete"
+        if exc.remains is not None:
+            msg += (f"; the replaced folder was not fully deleted: its remains ({exc.remains.name}) are "
+                    "deleted by the next run with the same --out")
+        typer.echo(msg, err=True)
+        raise typer.Exit(128 + exc.signum) from None
+    except KeyboardInterrupt as exc:  # Ctrl-C, or Terminated (SIGTERM, SIGHUP)
+        signum = int(getattr(exc, "signum", signal.SIGINT))
+        how = "interrupted" if signum == signal.SIGINT else f"terminated ({_signal_name(signum)})"
+        done = committed_targets()[before:]
+        if done:
+            typer.echo(f"stakeout: {how} after the outputs were written; {done[-1]} is complete", err=True)
+        else:
+            typer.echo(f"stakeout: {how}; nothing was written", err=True)
+        raise typer.Exit(128 + signum) from None
     except typer.Exit:
         raise
     except Exception as exc:  # a bug, not bad input: say so in one line

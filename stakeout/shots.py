@@ -2,24 +2,68 @@
 
 By default the columns are those of ``points.csv``:
 ``point,northing,easting,elevation,description``, with or without a header
-row (a first row whose northing is not a number is a header).  A header
-that names at least ``point``, ``northing`` and ``easting`` (any case) sets
-the column order; otherwise ``columns`` does.  The delimiter is a comma,
-semicolon, tab or runs of spaces; ``auto`` picks it from the first line.
+row.  The first row is a header only when it names the columns: its
+northing is not a number and it names both ``northing`` and ``easting``
+(any case, or an alias such as ``N``/``E``); otherwise it is a shot, and a
+shot that does not parse is an error with its line number (a typo in the
+first shot is never dropped as a header).  A header that names at least
+``point``, ``northing`` and ``easting`` sets the column order unless
+``columns`` is given; a header naming a column twice is refused.  The
+delimiter is a comma, semicolon, tab or runs of spaces; ``auto`` picks the
+one that splits the first record, as parsed (quotes honoured), into the
+most fields.
+
+What is accepted, and the limits (see :mod:`stakeout.limits`):
+
+* only a regular file of at most ``MAX_STAKED_FILE_BYTES`` (256 MiB); a
+  device, pipe or folder is refused before anything is read;
+* encodings: UTF-8, with or without a byte-order mark; UTF-16 with a
+  byte-order mark (either byte order); a file that is not valid UTF-8 is
+  read as Windows-1252, the Western-European code page that Latin-1 exports
+  actually use (identical to ISO 8859-1 for every printable character), and
+  refused if it is not that either.  UTF-32, and NUL bytes without a mark
+  (UTF-16 without a byte-order mark, or a binary file), are refused by name;
+* line ends CR, LF or CRLF, mixed freely; a field of at most
+  ``MAX_FIELD_CHARS`` (4,096) characters and a record of at most
+  ``MAX_RECORD_CHARS`` (65,536);
+* numbers in plain ASCII (``-1840005.811``, ``1.84e6``): digits 0-9, an
+  optional sign, point and exponent.  Other digits Python would read
+  (Arabic-Indic, full-width) and ``_`` separators are refused;
+* northings and eastings within ``MAX_COORDINATE`` (1e9), elevations within
+  ``MAX_HEIGHT`` (1e5) job units;
+* point ids without control or format characters (they are written to
+  ``check.csv`` and ``check.txt``).  Descriptions are read as given: they
+  are not written to any output.
+
+Every refusal is a :class:`~stakeout.errors.StakedFileError` naming the file
+and, for a row, its line number (counted as an editor does, quoted line
+breaks included).
 """
 
 from __future__ import annotations
 
 import csv
-import io
 import math
+import re
+from collections.abc import Iterator
 from dataclasses import dataclass
+from itertools import chain
 from pathlib import Path
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .errors import StakedFileError
+from .limits import (
+    MAX_COORDINATE,
+    MAX_FIELD_CHARS,
+    MAX_HEIGHT,
+    MAX_RECORD_CHARS,
+    MAX_STAKED_FILE_BYTES,
+    read_regular_file,
+    unicode_bom,
+)
+from .textsafety import describe_char, find_unsafe_char, show_value
 
 __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_columns"]
 
@@ -35,7 +79,12 @@ _ALIASES = {"pt": "point", "id": "point", "name": "point", "pnt": "point", "numb
 
 @dataclass(frozen=True)
 class Shots:
-    """Staked shots in file order; ``elevation`` is NaN where not given."""
+    """Staked shots in file order; ``elevation`` is NaN where not given.
+
+    ``northing``, ``easting`` and ``elevation`` are in job units; ``line``
+    is each shot's line number in the file; ``encoding`` names how the file
+    was read (``UTF-8``, ``UTF-16`` or ``Windows-1252``).
+    """
 
     point: list[str]
     northing: NDArray[np.float64]
@@ -43,6 +92,7 @@ class Shots:
     elevation: NDArray[np.float64]
     description: list[str]
     line: list[int]
+    encoding: str = "UTF-8"
 
     def __len__(self) -> int:
         return len(self.point)
@@ -65,70 +115,221 @@ def parse_columns(text: str | None) -> tuple[str, ...]:
     return cols
 
 
+#: A number as a data collector writes it: ASCII digits, optional sign,
+#: point and exponent.  float() alone would also take "١٢٣", "１２３" and "1_840".
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_LINE = re.compile(r"[^\r\n]*(?:\r\n?|\n)|[^\r\n]+")
+
+
 def _number(s: str) -> float | None:
-    try:
-        v = float(s)
-    except ValueError:
+    if _NUMBER.fullmatch(s) is None:
         return None
+    v = float(s)
     return v if math.isfinite(v) else None
 
 
-def _split(text: str, delimiter: str) -> list[list[str]]:
-    if delimiter == " ":
-        return [line.split() for line in text.splitlines()]
-    return list(csv.reader(io.StringIO(text), delimiter=delimiter, skipinitialspace=True))
+def _python_reads(s: str) -> bool:
+    try:
+        return math.isfinite(float(s))
+    except ValueError:
+        return False
+
+
+def _decode(raw: bytes, name: str) -> tuple[str, str]:
+    """Text and encoding name of a staked file (see the module docstring)."""
+    head = f"staked file {name!r}"
+    bom = unicode_bom(raw)
+    if bom == "UTF-32":
+        raise StakedFileError(f"{head}: is UTF-32 text (it starts with a UTF-32 byte-order mark); "
+                              "export it as UTF-8")
+    if bom == "UTF-16":
+        try:
+            text = raw.decode("utf-16")  # the mark gives the byte order
+        except UnicodeDecodeError as exc:
+            raise StakedFileError(f"{head}: starts with a UTF-16 byte-order mark but is not UTF-16 text "
+                                  f"(byte {exc.start + 2}); export it as UTF-8") from None
+        if "\x00" in text:
+            raise StakedFileError(f"{head}: UTF-16 text holding a NUL character; not a staked-points file")
+        return text, "UTF-16"
+    nul = raw.find(b"\x00")
+    if nul >= 0:
+        raise StakedFileError(
+            f"{head}: holds a NUL byte (byte {nul}): UTF-16 text without a byte-order mark, or not a text "
+            "file; export it as UTF-8 (or UTF-16 with a byte-order mark)"
+        )
+    try:
+        return raw.decode("utf-8-sig"), "UTF-8"
+    except UnicodeDecodeError:
+        pass
+    try:
+        return raw.decode("cp1252"), "Windows-1252"
+    except UnicodeDecodeError as exc:
+        raise StakedFileError(f"{head}: neither UTF-8 nor Windows-1252 (Latin-1) text (byte {exc.start}); "
+                              "export it as UTF-8") from None
+
+
+class _Lines:
+    """Physical lines of ``text`` with their ends (CR, LF or CRLF), counted,
+    refusing a record longer than ``MAX_RECORD_CHARS`` as it is fed."""
+
+    def __init__(self, text: str, name: str):
+        self._it = _LINE.finditer(text)
+        self._name = name
+        self.line = 0
+        self.record_start = 1
+        self._chars = 0
+
+    def new_record(self) -> None:
+        self.record_start = self.line + 1
+        self._chars = 0
+
+    def __iter__(self) -> "_Lines":
+        return self
+
+    def __next__(self) -> str:
+        line = next(self._it).group()
+        self.line += 1
+        self._chars += len(line)
+        if self._chars > MAX_RECORD_CHARS:
+            raise StakedFileError(
+                f"staked file {self._name!r} line {self.record_start}: a row of over {MAX_RECORD_CHARS:,} "
+                "characters; not a staked-points file (or an unclosed quote)"
+            )
+        return line
+
+
+def _records(text: str, delim: str, name: str) -> Iterator[tuple[int, list[str]]]:
+    """(line number, fields) of every record, blank ones included."""
+    lines = _Lines(text, name)
+    if delim == " ":
+        for line in lines:
+            yield lines.line, line.split()
+            lines.new_record()
+        return
+    reader = csv.reader(lines, delimiter=delim, skipinitialspace=True)
+    while True:
+        lines.new_record()
+        try:
+            r = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            raise StakedFileError(
+                f"staked file {name!r} line {lines.record_start}: cannot be read as delimited text ({exc})"
+            ) from None
+        yield lines.record_start, r
+
+
+def _blank(r: list[str]) -> bool:
+    return not any(c.strip() for c in r)
+
+
+def _detect_delimiter(text: str, name: str) -> str:
+    """The delimiter splitting the first parsed record into the most fields."""
+    best, most = " ", 1
+    for d in (",", ";", "\t"):
+        try:
+            first = next((r for _, r in _records(text, d, name) if not _blank(r)), [])
+        except StakedFileError:  # this delimiter's reading runs away: not it
+            continue
+        if len(first) > most:
+            best, most = d, len(first)
+    return best
+
+
+def _check_fields(name: str, ln: int, r: list[str]) -> None:
+    for k, c in enumerate(r):
+        if len(c) > MAX_FIELD_CHARS:
+            raise StakedFileError(f"staked file {name!r} line {ln}: field {k + 1} is {len(c):,} characters long; "
+                                  f"the limit is {MAX_FIELD_CHARS:,}")
+
+
+def _header_names(r: list[str]) -> list[str]:
+    return [_ALIASES.get(c.strip().lower(), c.strip().lower()) for c in r]
 
 
 def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, delimiter: str = "auto",
                columns_given: bool = False) -> Shots:
     """Read and validate a staked-points file.
 
+    Parameters
+    ----------
+    path : str or Path
+        The file exported by the data collector.
+    columns : tuple of str
+        Column order when there is no header naming them (or always, with
+        ``columns_given``): names from ``KNOWN_COLUMNS``.
+    delimiter : str
+        A key of :data:`DELIMITERS`; ``auto`` detects it.
+    columns_given : bool
+        True when the user gave ``--columns``: a header row is then skipped
+        and does not set the order.
+
+    Returns
+    -------
+    Shots
+        Shots in file order; coordinates and elevations in job units.
+
     Raises
     ------
     StakedFileError
-        Missing or empty file, or a malformed row (named by its line number).
+        Missing, not a regular file, too large, undecodable or empty file,
+        or a malformed row (named by its line number).
     """
     p = Path(path)
-    try:
-        raw = p.read_bytes()
-    except FileNotFoundError:
-        raise StakedFileError(f"staked file {str(p)!r}: not found") from None
-    except OSError as exc:
-        raise StakedFileError(f"staked file {str(p)!r}: cannot be read ({exc.strerror})") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        text = raw.decode("latin-1")
     name = str(p)
-    lines = text.splitlines()
-    first = next((ln for ln in lines if ln.strip()), None)
-    if first is None:
+    raw = read_regular_file(p, "staked file", MAX_STAKED_FILE_BYTES, StakedFileError)
+    text, encoding = _decode(raw, name)
+    del raw
+    if re.search(r"\S", text) is None:
         raise StakedFileError(f"staked file {name!r}: empty; no shots to check")
     if delimiter not in DELIMITERS:
         raise StakedFileError(f"--delimiter {delimiter!r}: use one of {', '.join(DELIMITERS)}")
-    delim = DELIMITERS[delimiter]
-    if delim is None:
-        counts = {d: first.count(d) for d in (",", ";", "\t")}
-        best = max(counts, key=lambda d: counts[d])
-        delim = best if counts[best] else " "
-    rows = _split(text, delim)
-    numbered = [(i + 1, r) for i, r in enumerate(rows) if any(c.strip() for c in r)]
+    delim = DELIMITERS[delimiter] or _detect_delimiter(text, name)
+
+    records = ((ln, r) for ln, r in _records(text, delim, name) if not _blank(r))
+    first = next(records, None)
+    if first is None:
+        raise StakedFileError(f"staked file {name!r}: empty; no shots to check")
+    ln0, r0 = first
+    _check_fields(name, ln0, r0)
     cols = columns
-    ln0, r0 = numbered[0]
     ni = cols.index("northing")
-    has_header = len(r0) <= ni or _number(r0[ni].strip()) is None
-    if has_header:
-        names = [_ALIASES.get(c.strip().lower(), c.strip().lower()) for c in r0]
-        if not columns_given and all(n in names for n in ("point", "northing", "easting")):
+    names = _header_names(r0)
+    has_header = ((ni >= len(r0) or _number(r0[ni].strip()) is None)
+                  and "northing" in names and "easting" in names)
+    if has_header and not columns_given:
+        for c in KNOWN_COLUMNS:
+            at = [i + 1 for i, n in enumerate(names) if n == c]
+            if c != "skip" and len(at) > 1:
+                raise StakedFileError(
+                    f"staked file {name!r} line {ln0}: the header names {c!r} twice (columns "
+                    f"{', '.join(map(str, at))}: {', '.join(repr(r0[i - 1].strip()) for i in at)}); "
+                    "name each column once, or give --columns"
+                )
+        if all(n in names for n in ("point", "northing", "easting")):
             cols = tuple(n if n in KNOWN_COLUMNS and n != "skip" else "skip" for n in names)
-        numbered = numbered[1:]
-    if not numbered:
-        raise StakedFileError(f"staked file {name!r}: line {ln0} is taken as a header (its northing is not a "
-                              "number) and no shots follow")
     idx = {c: i for i, c in enumerate(cols) if c != "skip"}
     need = max(idx["point"], idx["northing"], idx["easting"]) + 1
-    point, north, east, elev, desc, line_no = [], [], [], [], [], []
-    for ln, r in numbered:
+    point: list[str] = []
+    north: list[float] = []
+    east: list[float] = []
+    elev: list[float] = []
+    desc: list[str] = []
+    line_no: list[int] = []
+
+    def bad_number(ln: int, key: str, text: str) -> StakedFileError:
+        msg = f"staked file {name!r} line {ln}: {key} {show_value(text)} is not a number"
+        if _python_reads(text):
+            msg += " written with the ASCII digits 0-9 (an optional sign, '.' and exponent; no separators)"
+        elif ln == ln0:
+            msg += (f" (line {ln0} is not taken as a header: a header names its columns, e.g. "
+                    "point,northing,easting)")
+        return StakedFileError(msg)
+
+    for ln, r in (records if has_header else chain([first], records)):
+        if ln != ln0:
+            _check_fields(name, ln, r)
         r = [c.strip() for c in r]
         if not need <= len(r) <= max(len(cols), need):
             raise StakedFileError(
@@ -137,18 +338,33 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         pid = r[idx["point"]]
         if not pid:
             raise StakedFileError(f"staked file {name!r} line {ln}: empty point number")
+        bad = find_unsafe_char(pid)
+        if bad is not None:
+            raise StakedFileError(
+                f"staked file {name!r} line {ln}: point {show_value(pid)} holds {describe_char(pid[bad])}, "
+                "a control or format character"
+            )
         vals = []
         for key in ("northing", "easting"):
             v = _number(r[idx[key]])
             if v is None:
-                raise StakedFileError(f"staked file {name!r} line {ln}: {key} {r[idx[key]]!r} is not a number")
+                raise bad_number(ln, key, r[idx[key]])
+            if abs(v) > MAX_COORDINATE:
+                raise StakedFileError(
+                    f"staked file {name!r} line {ln}: {key} {show_value(r[idx[key]])} is out of range; "
+                    f"coordinates must lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} job units"
+                )
             vals.append(v)
         z = math.nan
         if "elevation" in idx and idx["elevation"] < len(r) and r[idx["elevation"]]:
             zv = _number(r[idx["elevation"]])
             if zv is None:
+                raise bad_number(ln, "elevation", r[idx["elevation"]])
+            if abs(zv) > MAX_HEIGHT:
                 raise StakedFileError(
-                    f"staked file {name!r} line {ln}: elevation {r[idx['elevation']]!r} is not a number")
+                    f"staked file {name!r} line {ln}: elevation {show_value(r[idx['elevation']])} is out of "
+                    f"range; elevations must lie within -{MAX_HEIGHT:,.0f} to {MAX_HEIGHT:,.0f} job units"
+                )
             z = zv
         point.append(pid)
         north.append(vals[0])
@@ -157,4 +373,8 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         d = idx.get("description")
         desc.append(r[d] if d is not None and d < len(r) else "")
         line_no.append(ln)
-    return Shots(point, np.array(north), np.array(east), np.array(elev), desc, line_no)
+    if not point:
+        raise StakedFileError(f"staked file {name!r}: line {ln0} is a header (it names the columns) and no "
+                              "shots follow")
+    return Shots(point, np.array(north, dtype=np.float64), np.array(east, dtype=np.float64),
+                 np.array(elev, dtype=np.float64), desc, line_no, encoding)

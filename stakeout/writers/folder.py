@@ -3,18 +3,99 @@ target and move it into place only when every file is complete.
 
 An existing non-empty target is replaced only with ``force``, and then by
 two renames, so a reader never sees a half-replaced folder.
+
+Rules for the target (``--out``):
+
+* **A symbolic link is refused.**  Replacing "the folder" would either turn
+  the link into a folder (leaving the folder it pointed to behind) or write
+  through it into a place the user did not name; both surprise.  The
+  message names the link's target: give that folder itself.  Links in the
+  folders *above* the target are followed as usual.
+* **A mount point is refused**: it can be neither renamed nor removed
+  ("Device or resource busy"), so the outputs cannot be moved onto it;
+  write into a folder inside it.  A rename that still fails with that error
+  gets the same explanation.
+* ``force`` never replaces a folder that holds an input (the job file, the
+  staked file), the working folder or the home folder.  An input given as
+  a symbolic link protects the link's folder, every folder along its chain
+  of links, and the folder of the file it finally points to.
+* A target that another program creates (or fills) during the build is
+  never replaced without ``force``: the error says that it appeared and is
+  not empty, and the new outputs are discarded.
+
+Signals: Ctrl-C (and SIGTERM or SIGHUP, which the CLI turns into the same
+interruption) anywhere before the outputs are in place removes the
+temporary folder and leaves the target untouched.  The renames that put
+the outputs in place are done with those signals held back, so an
+interruption lands either before them or after them.  After them the
+outputs are in place: an interruption while the replaced folder is being
+deleted raises :class:`InterruptedAfterCommit`, whose message says so, and
+the replaced folder's remains -- a hidden ``.NAME.remains-XXXX`` folder
+beside the target -- are deleted by the next run writing to the same
+target.
 """
 
 from __future__ import annotations
 
+import errno
 import os
 import shutil
+import signal
 import tempfile
+import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
+from types import TracebackType
 
 from ..errors import OutputError
 
-__all__ = ["OutputFolder"]
+__all__ = ["OutputFolder", "InterruptedAfterCommit", "REMAINS_MARK", "committed_targets"]
+
+#: Middle part of the name of a replaced folder's remains:
+#: ``.NAME.remains-XXXX`` beside the target.  Only a replaced folder whose
+#: new outputs are already in place is ever given this name, so deleting
+#: it is always safe.
+REMAINS_MARK = ".remains-"
+
+_COMMITTED: list[Path] = []
+
+_HELD_SIGNALS = tuple(getattr(signal, n) for n in ("SIGINT", "SIGTERM", "SIGHUP") if hasattr(signal, n))
+
+
+class InterruptedAfterCommit(KeyboardInterrupt):
+    """Interrupted after the new outputs were moved into place.
+
+    Parameters
+    ----------
+    target : Path
+        The output folder, complete and in place.
+    remains : Path or None
+        The replaced folder's remains still to delete (None if there are
+        none); the next run writing to ``target`` deletes them.
+    signum : int
+        The signal that interrupted (``signal.SIGINT`` for Ctrl-C).
+    """
+
+    def __init__(self, target: Path, remains: Path | None, signum: int):
+        super().__init__(str(target))
+        self.target = target
+        self.remains = remains
+        self.signum = signum
+
+
+def committed_targets() -> tuple[Path, ...]:
+    """Every output folder put in place by this process so far, oldest first.
+
+    The CLI compares the count before and after a command, so that an
+    interruption after a commit is not reported as "nothing was written".
+
+    Returns
+    -------
+    tuple of Path
+        The targets, absolute.
+    """
+    return tuple(_COMMITTED)
 
 
 def _nearest_existing(p: Path) -> Path:
@@ -23,12 +104,84 @@ def _nearest_existing(p: Path) -> Path:
     return p
 
 
+@contextmanager
+def _signals_held() -> Iterator[None]:
+    """Hold SIGINT, SIGTERM and SIGHUP back during a few renames, then
+    deliver the first one that arrived (through the handler in force)."""
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    pending: list[int] = []
+
+    def hold(signum: int, frame: object) -> None:
+        pending.append(signum)
+
+    saved = {}
+    for s in _HELD_SIGNALS:
+        h = signal.getsignal(s)
+        if h is None or h == signal.SIG_IGN:
+            continue
+        saved[s] = h
+        signal.signal(s, hold)
+    try:
+        yield
+    finally:
+        for s, h in saved.items():
+            signal.signal(s, h)
+        if pending:
+            signal.raise_signal(pending[0])
+
+
+def _locations(p: Path) -> list[Path]:
+    """Every place path ``p`` stands for: itself (its folder resolved), each
+    link of its chain of symbolic links, and the file it finally names."""
+    cur = Path(p).absolute()
+    out: list[Path] = []
+    for _ in range(40):  # the kernel's own limit on a chain of links
+        if cur.name in ("", ".", ".."):
+            break
+        try:
+            here = cur.parent.resolve() / cur.name
+        except (OSError, RuntimeError):
+            break
+        out.append(here)
+        if not here.is_symlink():
+            break
+        try:
+            link = Path(os.readlink(here))
+        except OSError:
+            break
+        cur = link if link.is_absolute() else here.parent / link
+    try:
+        out.append(Path(p).absolute().resolve())
+    except (OSError, RuntimeError):
+        pass
+    return out
+
+
 class OutputFolder:
     """Collect output files in a hidden temporary folder, then commit.
 
     Use as a context manager; :meth:`commit` moves the folder into place.
-    Leaving the block without committing (an error, Ctrl-C) removes the
-    temporary folder and leaves the target untouched.
+    Leaving the block without committing (an error, Ctrl-C, SIGTERM)
+    removes the temporary folder and leaves the target untouched.
+
+    Parameters
+    ----------
+    target : str or Path
+        The output folder (``--out``).
+    force : bool
+        Replace an existing, non-empty target.
+    option : str
+        How messages name the target's option.
+    protect : tuple of str or Path
+        Input files whose folders ``force`` must never replace.
+
+    Attributes
+    ----------
+    removed_remains : list of Path
+        Remains of an earlier interrupted replacement that :meth:`__enter__`
+        deleted (for a note to the user).
     """
 
     def __init__(self, target: str | Path, force: bool = False, option: str = "--out",
@@ -37,44 +190,107 @@ class OutputFolder:
         self.force = force
         self.option = option
         self.tmp: Path | None = None
+        self.removed_remains: list[Path] = []
         self._check_protected(protect)
         self._check_target()
+        self._existed = self.target.exists()
 
     def _check_protected(self, protect: tuple[str | Path, ...]) -> None:
         # --force replaces the whole folder: never one that holds the inputs,
-        # the working folder or the user's home.
+        # the working folder or the user's home.  An input reached through a
+        # symbolic link protects the link's folder and its target's.
         t = self.target.resolve()
-        keep = [Path(p).absolute().resolve() for p in protect] + [Path.cwd().resolve(), Path.home().resolve()]
-        for p in keep:
+        cwd, home = Path.cwd().resolve(), Path.home().resolve()
+        keep: list[tuple[Path, str]] = [(loc, Path(p).name) for p in protect for loc in _locations(Path(p))]
+        keep += [(cwd, "the working folder"), (home, "the home folder")]
+        for p, what in keep:
             if p == t or t in p.parents:
-                what = "the working folder" if p == Path.cwd().resolve() else (
-                    "the home folder" if p == Path.home().resolve() else f"{p.name}")
                 raise OutputError(
                     f"{self.option} {str(self.target)!r}: holds {what}; write the outputs to a folder of their own"
                 )
 
-    def _check_target(self) -> None:
+    def _check_target(self, during_build: bool = False) -> None:
         t = self.target
-        if t.exists() or t.is_symlink():
+        if t.is_symlink():
+            try:
+                dest = repr(os.readlink(t))
+            except OSError:
+                dest = "elsewhere"
+            raise OutputError(
+                f"{self.option} {str(t)!r}: is a symbolic link (to {dest}); stakeout does not write through "
+                "links, give the folder itself"
+            )
+        if t.exists():
             if not t.is_dir():
                 raise OutputError(f"{self.option} {str(t)!r}: exists and is not a folder")
+            if os.path.ismount(t):
+                raise self._mount_error()
             if any(t.iterdir()) and not self.force:
+                if during_build:
+                    how = ("appeared during the build and is not empty" if not self._existed else
+                           "was empty when the build began and is not empty now")
+                    raise OutputError(
+                        f"{self.option} {str(t)!r}: the folder {how} (another program wrote there); it was left "
+                        "as it is and the new outputs were discarded; run again, with --force to replace it"
+                    )
                 raise OutputError(
                     f"{self.option} {str(t)!r}: folder exists and is not empty; "
                     "use --force to replace it"
                 )
 
+    def _mount_error(self) -> OutputError:
+        return OutputError(
+            f"{self.option} {str(self.target)!r}: is a mount point (Device or resource busy), which cannot be "
+            f"removed or renamed to put the outputs in place; write them into a folder inside it, e.g. "
+            f"{self.option} {str(self.target / 'stakeout')!r}"
+        )
+
+    def _move_error(self, exc: OSError) -> OutputError:
+        if exc.errno == errno.EBUSY:
+            return self._mount_error()
+        if exc.errno in (errno.EEXIST, errno.ENOTEMPTY):
+            return OutputError(
+                f"{self.option} {str(self.target)!r}: a folder of that name appeared during the build and is not "
+                "empty (another program wrote there); it was left as it is and the new outputs were discarded"
+            )
+        return OutputError(
+            f"{self.option} {str(self.target)!r}: cannot move the outputs into place ({exc.strerror or exc})"
+        )
+
+    def _remove_remains(self) -> None:
+        # Remains of a replaced folder whose deletion was interrupted: the
+        # new outputs went into place, so these are garbage by construction.
+        prefix = f".{self.target.name}{REMAINS_MARK}"
+        try:
+            entries = list(os.scandir(self.target.parent))
+        except OSError:
+            return
+        for e in entries:
+            if e.name.startswith(prefix) and e.is_dir(follow_symlinks=False):
+                shutil.rmtree(e.path, ignore_errors=True)
+                self.removed_remains.append(Path(e.path))
+
     def __enter__(self) -> "OutputFolder":
+        self._remove_remains()
         base = _nearest_existing(self.target.parent)
         try:
-            self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-", dir=base))
+            with _signals_held():  # never a temporary folder that nobody will remove
+                self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-", dir=base))
         except OSError as exc:
             raise OutputError(f"{self.option} {str(self.target)!r}: cannot write there ({exc.strerror})") from None
+        except BaseException:
+            self._discard()
+            raise
         return self
 
-    def __exit__(self, exc_type, exc, tb) -> None:
+    def _discard(self) -> None:
         if self.tmp is not None and self.tmp.exists():
-            shutil.rmtree(self.tmp, ignore_errors=True)
+            with _signals_held():  # a second Ctrl-C or SIGTERM waits until the litter is gone
+                shutil.rmtree(self.tmp, ignore_errors=True)
+
+    def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
+                 tb: TracebackType | None) -> None:
+        self._discard()
 
     def path(self, name: str) -> Path:
         """Where to write output file ``name`` inside the temporary folder."""
@@ -92,29 +308,67 @@ class OutputFolder:
             raise OutputError(f"{self.option} {str(self.target)!r}: cannot write {name} ({exc.strerror})") from None
 
     def commit(self) -> None:
-        """Move the finished folder into place (replacing the old one with force)."""
+        """Move the finished folder into place (replacing the old one with force).
+
+        Raises
+        ------
+        OutputError
+            The target cannot take the outputs (it appeared or was filled
+            during the build without ``force``, is a mount point, a link, or
+            the renames fail); the temporary folder is then removed on
+            leaving the block and the target is untouched.
+        InterruptedAfterCommit
+            Interrupted after the outputs were in place (while the replaced
+            folder was being deleted).
+        """
         assert self.tmp is not None
-        t = self.target
+        tmp, t = self.tmp, self.target
         try:
             t.parent.mkdir(parents=True, exist_ok=True)
-            os.chmod(self.tmp, 0o755)
-            if t.exists():
-                self._check_target()
-                if not any(t.iterdir()):
-                    t.rmdir()
-                    os.rename(self.tmp, t)
-                else:
-                    old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-", dir=t.parent))
-                    old.rmdir()
+            os.chmod(tmp, 0o755)
+        except OSError as exc:
+            raise self._move_error(exc) from None
+        committed = False
+        remains: Path | None = None
+        try:
+            if t.exists() or t.is_symlink():
+                self._check_target(during_build=True)
+            if not t.exists():
+                with _signals_held():
+                    os.rename(tmp, t)
+                    committed, self.tmp = True, None
+                    _COMMITTED.append(t)
+            elif not any(t.iterdir()):
+                with _signals_held():
+                    os.rmdir(t)
+                    os.rename(tmp, t)
+                    committed, self.tmp = True, None
+                    _COMMITTED.append(t)
+            else:
+                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-", dir=t.parent))
+                old.rmdir()
+                with _signals_held():
                     os.rename(t, old)
                     try:
-                        os.rename(self.tmp, t)
+                        os.rename(tmp, t)
                     except BaseException:
                         os.rename(old, t)
                         raise
-                    shutil.rmtree(old, ignore_errors=True)
-            else:
-                os.rename(self.tmp, t)
+                    committed, self.tmp = True, None
+                    _COMMITTED.append(t)
+                    remains = old.with_name(f".{t.name}{REMAINS_MARK}{old.name.rsplit('.old-', 1)[1]}")
+                    try:
+                        os.rename(old, remains)
+                    except OSError:
+                        remains = old  # unlikely name clash: delete it under its first name
+                shutil.rmtree(remains, ignore_errors=True)
+                remains = None
+        except KeyboardInterrupt as exc:
+            if not committed:
+                raise
+            signum = int(getattr(exc, "signum", getattr(signal, "SIGINT", 2)))
+            raise InterruptedAfterCommit(t, remains, signum) from None
+        except OutputError:
+            raise
         except OSError as exc:
-            raise OutputError(f"{self.option} {str(t)!r}: cannot move the outputs into place ({exc.strerror})") from None
-        self.tmp = None
+            raise self._move_error(exc) from None

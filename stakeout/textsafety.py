@@ -1,0 +1,192 @@
+"""Checks of the text a job file or a staked file carries into the outputs.
+
+Two kinds of text reach the outputs:
+
+* **ids** -- point ids, codes, prefixes, occupied and backsight ids, the
+  alignment name: 1 to 20 of ASCII letters, digits and ``_ # . / -``, not
+  starting with ``-``.  They are written into CSV rows, sheet columns and
+  DXF layers and texts, so nothing else is allowed.  The whole text must
+  match (:func:`re.fullmatch`): a pattern anchored with ``^...$`` and
+  :meth:`re.Pattern.match` lets a trailing newline through, because ``$``
+  also matches just before a final ``\\n``; a ``"CL\\n"`` code would then
+  split rows of ``points.csv``.
+* **free text** -- ``job.name`` and any other label written as given: any
+  printable text, but no control or format character (Unicode categories
+  ``Cc`` and ``Cf``: NUL, tab, CR, LF, form feed, ESC, DEL, the C1 range,
+  zero-width and bidirectional marks, the byte-order mark) and no line or
+  paragraph separator (``Zl``, ``Zp``).  Such characters split lines,
+  break the pagination of the sheets (form feed), drive the terminal (ESC)
+  or reorder what a reader sees (bidirectional overrides).
+
+Every error is a one-line :class:`~stakeout.errors.JobFileError` naming the
+key, the value (as a Python literal, so an invisible character shows) and
+what is allowed.
+"""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+
+from .errors import JobFileError
+
+__all__ = [
+    "SAFE_ID",
+    "SAFE_ID_HELP",
+    "MAX_FREE_TEXT_CHARS",
+    "check_safe_id",
+    "check_free_text",
+    "find_unsafe_char",
+    "describe_char",
+    "show_value",
+]
+
+#: Ids, codes and prefixes: the same characters as ``jobfile.SAFE_TEXT``,
+#: but without anchors: use it only with :meth:`re.Pattern.fullmatch`.
+SAFE_ID = re.compile(r"[A-Za-z0-9_#./][A-Za-z0-9_#./-]{0,19}")
+SAFE_ID_HELP = "1 to 20 of letters, digits, _ # . / - (not starting with -)"
+
+#: Default longest free text (characters).  Long enough for any real job
+#: name or description of a job; a longer one is almost surely a paste
+#: gone wrong, and the sheets have to lay it out.
+MAX_FREE_TEXT_CHARS = 200
+
+_BAD_CATEGORIES = frozenset({"Cc", "Cf", "Zl", "Zp", "Cs"})
+_SHOW_CHARS = 60
+
+
+def show_value(value: object) -> str:
+    """A one-line, bounded rendering of ``value`` for an error message.
+
+    Parameters
+    ----------
+    value : object
+        Any value; text is shown as a Python literal (control characters
+        escaped) and cut to 60 characters with an ellipsis.
+
+    Returns
+    -------
+    str
+        The literal, never holding a line break.
+    """
+    if isinstance(value, str) and len(value) > _SHOW_CHARS:
+        return repr(value[:_SHOW_CHARS]) + "..."
+    try:
+        text = repr(value)
+    except ValueError:  # a whole number past Python's digit limit for text
+        return f"(a whole number of {len(hex(value)) * 1.2:.0f}-odd digits)" if isinstance(value, int) else "(?)"
+    if len(text) > _SHOW_CHARS + 10:
+        text = text[:_SHOW_CHARS] + "..."
+    return text
+
+
+def describe_char(ch: str) -> str:
+    """Name one character for a message, e.g. ``U+000A (LINE FEED)``.
+
+    Parameters
+    ----------
+    ch : str
+        A single character.
+
+    Returns
+    -------
+    str
+        Its code point and Unicode name (or its category when unnamed).
+    """
+    names = {"\x00": "NUL", "\t": "TAB", "\n": "LINE FEED", "\r": "CARRIAGE RETURN", "\x0c": "FORM FEED",
+             "\x1b": "ESC", "\x7f": "DELETE"}
+    name = names.get(ch) or unicodedata.name(ch, unicodedata.category(ch))
+    return f"U+{ord(ch):04X} ({name})"
+
+
+def find_unsafe_char(value: str) -> int | None:
+    """Index of the first control, format or separator character, or None.
+
+    Parameters
+    ----------
+    value : str
+        The text to scan.
+
+    Returns
+    -------
+    int or None
+        The position of the first character of Unicode category ``Cc``,
+        ``Cf``, ``Zl``, ``Zp`` or ``Cs`` (a lone surrogate), or None when
+        there is none.
+    """
+    if value.isascii():
+        if value.isprintable():  # the common case, without a per-character loop
+            return None
+    for i, ch in enumerate(value):
+        if unicodedata.category(ch) in _BAD_CATEGORIES:
+            return i
+    return None
+
+
+def check_safe_id(value: object, where: str, allow_empty: bool = False) -> str:
+    """Validate an id, code or prefix: the whole text must match :data:`SAFE_ID`.
+
+    Parameters
+    ----------
+    value : object
+        The value read from the job file.
+    where : str
+        The key, e.g. ``staking.offsets[0].code``, named in the error.
+    allow_empty : bool
+        Accept ``""`` (e.g. an empty ``point_prefix``).
+
+    Returns
+    -------
+    str
+        ``value`` unchanged.
+
+    Raises
+    ------
+    JobFileError
+        When ``value`` is not text or not 1-20 allowed characters; a
+        trailing newline is refused like any other character.
+    """
+    if not isinstance(value, str):
+        raise JobFileError(f"{where} = {show_value(value)}: expected text ({SAFE_ID_HELP})")
+    if allow_empty and value == "":
+        return value
+    if SAFE_ID.fullmatch(value) is None:
+        raise JobFileError(f"{where} = {show_value(value)}: use {SAFE_ID_HELP}")
+    return value
+
+
+def check_free_text(value: object, where: str, max_len: int = MAX_FREE_TEXT_CHARS) -> str:
+    """Validate free text (a job name): printable, one line, bounded length.
+
+    Parameters
+    ----------
+    value : object
+        The value read from the job file.
+    where : str
+        The key, e.g. ``job.name``, named in the error.
+    max_len : int
+        Most characters allowed (default :data:`MAX_FREE_TEXT_CHARS`).
+
+    Returns
+    -------
+    str
+        ``value`` unchanged.
+
+    Raises
+    ------
+    JobFileError
+        When ``value`` is not text, is longer than ``max_len`` characters,
+        or holds a control, format, line- or paragraph-separator character
+        (the first one is named with its position).
+    """
+    if not isinstance(value, str):
+        raise JobFileError(f"{where} = {show_value(value)}: expected text")
+    i = find_unsafe_char(value)
+    if i is not None:
+        raise JobFileError(
+            f"{where} = {show_value(value)}: character {i + 1} is {describe_char(value[i])}, a control or "
+            "format character; use printable text on one line"
+        )
+    if len(value) > max_len:
+        raise JobFileError(f"{where} = {show_value(value)}: {len(value)} characters; the limit is {max_len}")
+    return value

@@ -1,0 +1,295 @@
+"""Issue 17 items 2, 17, 18, 19 and 23: the output folder under links, races,
+interruptions and mount points.
+
+The expected outcomes are those of POSIX ``rename(2)``/``rmdir(2)``
+(a directory is renamed only onto an empty one; a mount point cannot be
+removed or renamed: EBUSY) and Python's ``signal`` semantics; each test
+checks the file system itself afterwards, not the tool's own report.
+"""
+
+import errno
+import os
+import shutil
+import signal
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from stakeout import pipeline
+from stakeout.cli import Terminated, app
+from stakeout.errors import OutputError
+from stakeout.writers import folder as folder_mod
+from stakeout.writers.folder import OutputFolder
+
+from .helpers import SAMPLES
+
+runner = CliRunner()
+JOB = SAMPLES / "pi_list_local_ft.toml"
+ONLY = ["--only", "points,stations"]
+
+
+def _build(job, out, *extra):
+    return runner.invoke(app, ["build", str(job), "--out", str(out), *ONLY, *extra])
+
+
+def _tree(p: Path) -> dict:
+    return {str(q.relative_to(p)): (q.read_bytes() if q.is_file() and not q.is_symlink() else None)
+            for q in sorted(p.rglob("*"))}
+
+
+# ---- item 2 ----------------------------------------------------------------------------
+def test_force_with_symlinked_job_file(tmp_path):
+    a, b, c = tmp_path / "a", tmp_path / "b", tmp_path / "c"
+    for d in (a, b, c):
+        d.mkdir()
+    shutil.copy(JOB, b / "job.toml")
+    (a / "job.toml").symlink_to(b / "job.toml")  # a link to the job: a holds it too
+    (c / "again.toml").symlink_to(a / "job.toml")  # a chain of two links
+    (a / "notes.txt").write_text("keep")
+    before = _tree(tmp_path)
+    for job in (a / "job.toml", c / "again.toml"):
+        for out in (a, b, c if job.parent == c else a):
+            r = _build(job, out, "--force")
+            assert r.exit_code == 2, (job, out, r.output)
+            assert "holds job.toml" in r.output or "holds again.toml" in r.output
+    assert _tree(tmp_path) == before
+    # a folder beside them is fine
+    assert _build(a / "job.toml", tmp_path / "out", "--force").exit_code == 0
+
+
+def test_protection_unit():
+    # the plain case still holds: the job's own folder is never replaced
+    with pytest.raises(OutputError, match="holds"):
+        OutputFolder(Path(JOB).parent, force=True, protect=(JOB,))
+
+
+# ---- item 17 ---------------------------------------------------------------------------
+@pytest.mark.parametrize("exc, code", [(KeyboardInterrupt(), 130), (Terminated(signal.SIGTERM), 143)])
+def test_interrupt_during_force_cleanup(tmp_path, monkeypatch, exc, code):
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "old.csv").write_text("old outputs")
+    real = shutil.rmtree
+
+    def interrupted(path, *a, **k):
+        if folder_mod.REMAINS_MARK in str(path):
+            raise exc  # as if Ctrl-C (or SIGTERM) arrived while the old folder was being deleted
+        return real(path, *a, **k)
+
+    monkeypatch.setattr(folder_mod.shutil, "rmtree", interrupted)
+    r = _build(JOB, out, "--force")
+    assert r.exit_code == code
+    assert "after the new outputs were moved into place" in r.output and "nothing was written" not in r.output
+    assert "deleted by the next run" in r.output
+    assert sorted(p.name for p in out.iterdir()) == ["points.csv", "stations.csv"]  # the new outputs, complete
+    remains = [p for p in tmp_path.iterdir() if p.name.startswith(".out.remains-")]
+    assert len(remains) == 1 and (remains[0] / "old.csv").read_text() == "old outputs"
+    monkeypatch.undo()
+    r = _build(JOB, out, "--force")  # the next run removes the remains
+    assert r.exit_code == 0, r.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
+
+
+def test_signal_during_swap_is_held(tmp_path, monkeypatch):
+    # Ctrl-C arriving between the two renames of --force must not leave the
+    # target missing: it is held until both are done.
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "old.csv").write_text("old")
+    real = os.rename
+
+    def rename(src, dst, *a, **k):
+        if Path(src) == out:
+            signal.raise_signal(signal.SIGINT)  # Python's default handler would raise KeyboardInterrupt here
+        return real(src, dst, *a, **k)
+
+    monkeypatch.setattr(folder_mod.os, "rename", rename)
+    r = _build(JOB, out, "--force")
+    monkeypatch.undo()
+    assert r.exit_code == 130 and "moved into place" in r.output
+    assert sorted(p.name for p in out.iterdir()) == ["points.csv", "stations.csv"]
+    assert all(not p.name.startswith(".out.old-") for p in tmp_path.iterdir())
+
+
+def test_interrupt_before_commit_still_leaves_nothing(tmp_path, monkeypatch):
+    def boom(n, c):
+        raise Terminated(signal.SIGHUP)  # what the CLI's handler raises on SIGHUP
+
+    monkeypatch.setattr(pipeline, "_render", boom)
+    r = _build(JOB, tmp_path / "out")
+    assert r.exit_code == 129 and "terminated (SIGHUP); nothing was written" in r.output
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_remains_of_earlier_run_removed_only_ours(tmp_path):
+    out = tmp_path / "out"
+    (tmp_path / ".out.remains-abc123").mkdir()
+    (tmp_path / ".out.remains-abc123" / "x.csv").write_text("x")
+    (tmp_path / ".other.remains-zzz").mkdir()  # another target's: not ours to delete
+    (tmp_path / ".out.old-keep").mkdir()  # mid-swap of a concurrent run: never touched
+    assert _build(JOB, out).exit_code == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == [".other.remains-zzz", ".out.old-keep", "out"]
+
+
+# ---- item 18 ---------------------------------------------------------------------------
+def test_out_is_symlink(tmp_path):
+    real = tmp_path / "real"
+    real.mkdir()
+    link = tmp_path / "link"
+    link.symlink_to(real)
+    r = _build(JOB, link)
+    assert r.exit_code == 2 and "is a symbolic link" in r.output and "give the folder itself" in r.output
+    (real / "old.csv").write_text("old")
+    r = _build(JOB, link, "--force")
+    assert r.exit_code == 2 and "is a symbolic link" in r.output
+    assert link.is_symlink() and [p.name for p in real.iterdir()] == ["old.csv"]
+    (tmp_path / "dangling").symlink_to(tmp_path / "nowhere")
+    r = _build(JOB, tmp_path / "dangling")
+    assert r.exit_code == 2 and "is a symbolic link" in r.output
+    assert not (tmp_path / "nowhere").exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["dangling", "link", "real"]
+
+
+def test_link_above_out_is_followed(tmp_path):
+    (tmp_path / "real").mkdir()
+    (tmp_path / "via").symlink_to(tmp_path / "real")
+    assert _build(JOB, tmp_path / "via" / "out").exit_code == 0
+    assert (tmp_path / "real" / "out" / "points.csv").is_file()
+
+
+def test_symlink_appearing_during_build(tmp_path, monkeypatch):
+    out = tmp_path / "out"
+    real = pipeline._render
+
+    def sneak(n, c):
+        if not out.is_symlink():
+            (tmp_path / "elsewhere").mkdir()
+            out.symlink_to(tmp_path / "elsewhere")
+        return real(n, c)
+
+    monkeypatch.setattr(pipeline, "_render", sneak)
+    r = _build(JOB, out)
+    assert r.exit_code == 2 and "is a symbolic link" in r.output
+    assert list((tmp_path / "elsewhere").iterdir()) == []
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["elsewhere", "out"]
+
+
+# ---- item 19 ---------------------------------------------------------------------------
+@pytest.mark.parametrize("existed", [False, True])
+def test_target_created_during_build(tmp_path, monkeypatch, existed):
+    out = tmp_path / "out"
+    if existed:
+        out.mkdir()
+    real = pipeline._render
+
+    def other_program(n, c):
+        out.mkdir(exist_ok=True)
+        (out / "theirs.txt").write_text("theirs")
+        return real(n, c)
+
+    monkeypatch.setattr(pipeline, "_render", other_program)
+    r = _build(JOB, out)
+    assert r.exit_code == 2
+    assert "(None)" not in r.output
+    want = "was empty when the build began and is not empty now" if existed else \
+        "appeared during the build and is not empty"
+    assert want in r.output and "new outputs were discarded" in r.output
+    assert [p.name for p in out.iterdir()] == ["theirs.txt"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
+
+
+def test_target_appearing_in_the_rename_race(tmp_path, monkeypatch):
+    out = tmp_path / "out"
+    real = os.rename
+
+    def late(src, dst, *a, **k):  # the folder appears between the last look and the rename
+        if Path(dst) == out and not out.exists():
+            out.mkdir()
+            (out / "theirs.txt").write_text("theirs")
+        return real(src, dst, *a, **k)
+
+    monkeypatch.setattr(folder_mod.os, "rename", late)
+    r = _build(JOB, out)
+    monkeypatch.undo()
+    assert r.exit_code == 2 and "appeared during the build and is not empty" in r.output
+    assert [p.name for p in out.iterdir()] == ["theirs.txt"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
+
+
+# ---- item 23 ---------------------------------------------------------------------------
+def test_empty_mount_point_as_out(tmp_path, monkeypatch):
+    out = tmp_path / "mnt"
+    out.mkdir()
+    real_ismount = os.path.ismount
+    monkeypatch.setattr(folder_mod.os.path, "ismount", lambda p: Path(p) == out or real_ismount(p))
+    r = _build(JOB, out)
+    assert r.exit_code == 2
+    assert "is a mount point (Device or resource busy)" in r.output and "mnt/stakeout" in r.output
+    assert list(tmp_path.iterdir()) == [out] and list(out.iterdir()) == []
+
+
+@pytest.mark.parametrize("force", [False, True])
+def test_ebusy_from_the_move_explained(tmp_path, monkeypatch, force):
+    # A bind mount is not always seen by ismount(); the rename or rmdir then
+    # fails with EBUSY, as rmdir(2) documents for a mount point.
+    out = tmp_path / "mnt"
+    out.mkdir()
+    if force:
+        (out / "old.csv").write_text("old")
+    real_rmdir, real_rename = os.rmdir, os.rename
+
+    def busy(fn):
+        def wrapped(src, *a, **k):
+            if Path(src) == out:
+                raise OSError(errno.EBUSY, os.strerror(errno.EBUSY), str(src))
+            return fn(src, *a, **k)
+        return wrapped
+
+    monkeypatch.setattr(folder_mod.os, "rmdir", busy(real_rmdir))
+    monkeypatch.setattr(folder_mod.os, "rename", busy(real_rename))
+    r = _build(JOB, out, *(["--force"] if force else []))
+    monkeypatch.undo()
+    assert r.exit_code == 2 and "is a mount point" in r.output and "inside it" in r.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["mnt"]
+    assert [p.name for p in out.iterdir()] == (["old.csv"] if force else [])
+
+
+def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkeypatch):
+    # Ctrl-C after the folder is in place but before the command returns
+    # (here: while the final progress step runs) must not claim "nothing was written".
+    out = tmp_path / "out"
+    real_step = pipeline.Progress.step
+
+    def step(self, what):
+        if out.exists():  # run_check steps once more after its commit
+            raise KeyboardInterrupt
+        return real_step(self, what)
+
+    monkeypatch.setattr(pipeline.Progress, "step", step)
+    r = runner.invoke(app, ["check", str(SAMPLES / "loop_ramp_usft.toml"),
+                            str(SAMPLES / "staked" / "loop_ramp_shots.csv"), "--out", str(out)])
+    assert r.exit_code == 130
+    assert "after the outputs were written" in r.output and "nothing was written" not in r.output
+    assert sorted(p.name for p in out.iterdir()) == ["check.csv", "check.txt"]
+
+
+def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):
+    # A second SIGTERM while the temporary folder is being deleted must not
+    # leave half of it behind: it is held until the deletion is done.
+    def boom(n, c):
+        raise KeyboardInterrupt
+
+    real = shutil.rmtree
+
+    def rmtree(path, *a, **k):
+        if ".out.partial-" in str(path):
+            signal.raise_signal(signal.SIGINT)  # arrives in the middle of the clean-up
+        return real(path, *a, **k)
+
+    monkeypatch.setattr(pipeline, "_render", boom)
+    monkeypatch.setattr(folder_mod.shutil, "rmtree", rmtree)
+    r = _build(JOB, tmp_path / "out")
+    monkeypatch.undo()
+    assert r.exit_code == 130 and "nothing was written" in r.output
+    assert list(tmp_path.iterdir()) == []
