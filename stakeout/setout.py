@@ -25,7 +25,8 @@ if TYPE_CHECKING:  # pragma: no cover
 #: How a factor of 1.0 that no job file gave is described (sheets, manifest, console).
 DEFAULT_FACTOR_NOTE = "default: no factor given, ground distances equal grid distances"
 
-__all__ = ["DEFAULT_FACTOR_NOTE", "elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale", "backsight_azimuth"]
+__all__ = ["DEFAULT_FACTOR_NOTE", "elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale",
+           "backsight_azimuth"]
 
 
 def elevation_factor(height_m: float, radius_m: float) -> float:

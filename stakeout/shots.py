@@ -170,7 +170,8 @@ def _decode(raw: bytes, name: str) -> tuple[str, str]:
 
 class _Lines:
     """Physical lines of ``text`` with their ends (CR, LF or CRLF), counted,
-    refusing a record longer than ``MAX_RECORD_CHARS`` as it is fed."""
+    refusing a record longer than ``MAX_RECORD_CHARS`` as it is fed.
+    """
 
     def __init__(self, text: str, name: str):
         self._it = _LINE.finditer(text)

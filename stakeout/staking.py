@@ -20,7 +20,8 @@ from .job import Staking
 from .profile import Profile
 from .stations import Stationing
 
-__all__ = ["StakePoints", "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS", "MAX_POINTS"]
+__all__ = ["StakePoints", "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS",
+           "MAX_POINTS"]
 
 #: Most points one job may stake (memory stays under a few GB).
 MAX_POINTS = 10_000_000

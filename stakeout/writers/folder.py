@@ -107,7 +107,8 @@ def _nearest_existing(p: Path) -> Path:
 @contextmanager
 def _signals_held() -> Iterator[None]:
     """Hold SIGINT, SIGTERM and SIGHUP back during a few renames, then
-    deliver the first one that arrived (through the handler in force)."""
+    deliver the first one that arrived (through the handler in force).
+    """
     if threading.current_thread() is not threading.main_thread():
         yield
         return
@@ -134,7 +135,8 @@ def _signals_held() -> Iterator[None]:
 
 def _locations(p: Path) -> list[Path]:
     """Every place path ``p`` stands for: itself (its folder resolved), each
-    link of its chain of symbolic links, and the file it finally names."""
+    link of its chain of symbolic links, and the file it finally names.
+    """
     cur = Path(p).absolute()
     out: list[Path] = []
     for _ in range(40):  # the kernel's own limit on a chain of links
