@@ -78,7 +78,7 @@ def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:
     if job.profile is None:
         return None
     pvis = [PVISpec(stationing.to_internal(p.station), p.elevation, p.curve_length_back, p.curve_length_ahead,
-                    where=p.where) for p in job.profile.pvis]
+                    where=p.where, symmetric=p.symmetric) for p in job.profile.pvis]
     return build_profile(pvis, job.profile.name)
 
 

@@ -114,6 +114,7 @@ class ProfilePVI:
     curve_length_back: float = 0.0
     curve_length_ahead: float = 0.0
     where: str = ""
+    symmetric: bool = False  # given as one `curve_length`
 
 
 @dataclass(frozen=True)

@@ -82,6 +82,16 @@ class PVISpec:
     curve_length_ahead: float = 0.0
     radius: float | None = None
     where: str = ""
+    symmetric: bool = False  # given as one `curve_length` (named so in errors)
+
+
+def _named(p: PVISpec, side: str) -> str:
+    """``key = value`` of the job-file key that sets a curve's ``side`` ("back" or "ahead")."""
+    if p.radius is not None:
+        return f"radius = {float(p.radius)!r}"
+    if p.symmetric:
+        return f"curve_length = {float(p.curve_length_back) + float(p.curve_length_ahead)!r}"
+    return f"curve_length_{side} = {float(getattr(p, 'curve_length_' + side))!r}"
 
 
 @dataclass(frozen=True)
@@ -429,9 +439,8 @@ def _check_curve_values(p: PVISpec, k: str, *, end: bool) -> None:
             "a vertical curve needs a length on both sides of its PVI"
         )
     if end and (back or ahead or p.radius is not None):
-        attr = "radius" if p.radius is not None else "curve_length_back" if back else "curve_length_ahead"
         raise JobFileError(
-            f"{k}.{attr} = {getattr(p, attr)!r}: the first and last PVI are the profile's ends "
+            f"{k}.{_named(p, 'back' if back else 'ahead')}: the first and last PVI are the profile's ends "
             "and cannot carry a vertical curve"
         )
 
@@ -489,18 +498,18 @@ def _check_extents(specs: tuple[PVISpec, ...], keys: list[str], curves: list[_Cu
         cv = curves[i]
         if cv is None:
             continue
-        what = f"{keys[i]}.{cv.attr} = {cv.value!r}"
+        what = f"{keys[i]}.{_named(specs[i], 'back')}"
         x_prev, x_next = float(specs[i - 1].station), float(specs[i + 1].station)
         if cv.pvc[0] < x_prev - PROFILE_TOLERANCE:
-            where = f"the profile starts at {first}" if i == 1 else f"{keys[i - 1]}"
+            where = f"the profile's start at {first}" if i == 1 else f"{keys[i - 1]}"
             raise JobFileError(
                 f"{what}: the vertical curve begins at {_fmt(cv.pvc[0])}, before {where} "
                 f"({_fmt(x_prev)})"
             )
         if cv.pvt[0] > x_next + PROFILE_TOLERANCE:
-            where = f"the profile ends at {last}" if i == n - 2 else f"{keys[i + 1]}"
+            where = f"the profile's end at {last}" if i == n - 2 else f"{keys[i + 1]}"
             raise JobFileError(
-                f"{what}: the vertical curve ends at {_fmt(cv.pvt[0])}, past {where} "
+                f"{keys[i]}.{_named(specs[i], 'ahead')}: the vertical curve ends at {_fmt(cv.pvt[0])}, past {where} "
                 f"({_fmt(x_next)})"
             )
         if prev is not None and prev[0] == i - 1 and cv.pvc[0] < prev[1].pvt[0] - PROFILE_TOLERANCE:

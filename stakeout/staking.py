@@ -17,6 +17,7 @@ from numpy.typing import NDArray
 from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment
 from .errors import JobFileError
 from .job import Staking
+from .limits import check_point_numbers
 from .profile import Profile
 from .stations import Stationing
 
@@ -253,6 +254,7 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
     if profile is not None and staking.profile_points is not False:
         more = profile.feature_points()
     stations, feats = _stations(alignment, staking, stationing, more)
+    check_point_numbers(staking.first_point, stations.size * len(staking.offsets))
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     check_offsets(alignment, staking)
     st = np.repeat(stations, offs.size)

@@ -30,12 +30,10 @@ _PLAIN = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$")
 
 
 def check_station_length(value: object, where: str = "job.station_length") -> int:
-    """Validate a station length: a positive whole number of job units."""
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise JobFileError(f"{where} = {value!r}: expected a whole number such as 100 or 1000")
-    if value <= 0 or float(value) != int(value):
-        raise JobFileError(f"{where} = {value!r}: must be a positive whole number such as 100 or 1000")
-    return int(value)
+    """Validate a station length: a positive whole number of job units, within bounds."""
+    from .limits import check_station_length as bounded
+
+    return bounded(value, where)
 
 
 def parse_station(value: object, station_length: int, where: str = "station") -> float:

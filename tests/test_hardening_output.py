@@ -17,6 +17,7 @@ import pytest
 from typer.testing import CliRunner
 
 from stakeout import pipeline
+from stakeout.writers import tables as tables_mod
 from stakeout.cli import Terminated, app
 from stakeout.errors import OutputError
 from stakeout.writers import folder as folder_mod
@@ -113,10 +114,10 @@ def test_signal_during_swap_is_held(tmp_path, monkeypatch):
 
 
 def test_interrupt_before_commit_still_leaves_nothing(tmp_path, monkeypatch):
-    def boom(n, c):
+    def boom(d):  # stands in for the first writer
         raise Terminated(signal.SIGHUP)  # what the CLI's handler raises on SIGHUP
 
-    monkeypatch.setattr(pipeline, "_render", boom)
+    monkeypatch.setattr(tables_mod, "points_csv", boom)
     r = _build(JOB, tmp_path / "out")
     assert r.exit_code == 129 and "terminated (SIGHUP); nothing was written" in r.output
     assert list(tmp_path.iterdir()) == []
@@ -160,15 +161,15 @@ def test_link_above_out_is_followed(tmp_path):
 
 def test_symlink_appearing_during_build(tmp_path, monkeypatch):
     out = tmp_path / "out"
-    real = pipeline._render
+    real = tables_mod.points_csv
 
-    def sneak(n, c):
+    def sneak(d):  # stands in for the first writer
         if not out.is_symlink():
             (tmp_path / "elsewhere").mkdir()
             out.symlink_to(tmp_path / "elsewhere")
-        return real(n, c)
+        return real(d)
 
-    monkeypatch.setattr(pipeline, "_render", sneak)
+    monkeypatch.setattr(tables_mod, "points_csv", sneak)
     r = _build(JOB, out)
     assert r.exit_code == 2 and "is a symbolic link" in r.output
     assert list((tmp_path / "elsewhere").iterdir()) == []
@@ -181,14 +182,14 @@ def test_target_created_during_build(tmp_path, monkeypatch, existed):
     out = tmp_path / "out"
     if existed:
         out.mkdir()
-    real = pipeline._render
+    real = tables_mod.points_csv
 
-    def other_program(n, c):
+    def other_program(d):  # stands in for the first writer
         out.mkdir(exist_ok=True)
         (out / "theirs.txt").write_text("theirs")
-        return real(n, c)
+        return real(d)
 
-    monkeypatch.setattr(pipeline, "_render", other_program)
+    monkeypatch.setattr(tables_mod, "points_csv", other_program)
     r = _build(JOB, out)
     assert r.exit_code == 2
     assert "(None)" not in r.output
@@ -277,7 +278,7 @@ def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkey
 def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):
     # A second SIGTERM while the temporary folder is being deleted must not
     # leave half of it behind: it is held until the deletion is done.
-    def boom(n, c):
+    def boom(d):  # stands in for the first writer
         raise KeyboardInterrupt
 
     real = shutil.rmtree
@@ -287,7 +288,7 @@ def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):
             signal.raise_signal(signal.SIGINT)  # arrives in the middle of the clean-up
         return real(path, *a, **k)
 
-    monkeypatch.setattr(pipeline, "_render", boom)
+    monkeypatch.setattr(tables_mod, "points_csv", boom)
     monkeypatch.setattr(folder_mod.shutil, "rmtree", rmtree)
     r = _build(JOB, tmp_path / "out")
     monkeypatch.undo()

@@ -521,6 +521,81 @@ def test_vertical_curve_across_a_station_equation(tmp_path):
     assert float(r["high_low_elevation"]) == pytest.approx(c.high_low[1], abs=1e-4)
 
 
+STEP_BACK_JOB = """\
+format = 1
+
+[job]
+name = "unsymmetrical curve across a step-back equation"
+units = "m"
+
+[alignment]
+name = "SB"
+start_station = "0+000"
+[[alignment.pi]]
+northing = 1000.0
+easting = 1000.0
+[[alignment.pi]]
+northing = 2000.0
+easting = 1000.0
+[[alignment.station_equation]]
+back = "0+500"
+ahead = "0+450"
+
+[profile]
+[[profile.pvi]]
+station = "-0+100"
+elevation = 100.0
+[[profile.pvi]]
+station = { station = "0+480", region = 2 }
+elevation = 110.0
+curve_length_back = 60.0
+curve_length_ahead = 40.0
+[[profile.pvi]]
+station = "0+960"
+elevation = 105.0
+
+[staking]
+interval = 20.0
+"""
+
+
+def test_unsymmetrical_curve_across_a_step_back_equation(tmp_path):
+    # The equation 0+500 back = 0+450 ahead repeats 50 m of stationing; the PVI is the
+    # second 0+480 (530 m along), so the curve runs 470 m to 570 m along: from 0+470
+    # in region 1 across the equation to 0+520 in region 2.  The profile starts 100 m
+    # before the alignment (allowed, job-file.md).
+    out = build_job(write_job(tmp_path, STEP_BACK_JOB), tmp_path / "out")
+
+    def internal(station: float, region: int) -> float:
+        return station if region == 1 else station + 50.0
+
+    ref = RefProfile([(-100.0, 100.0, 0.0, 0.0), (530.0, 110.0, 60.0, 40.0), (1010.0, 105.0, 0.0, 0.0)])
+    rows = read_rows(out / "stations.csv")
+    for r in rows:
+        x = internal(float(r["station"]), int(r["region"]))
+        # two quadratic Beziers (independent construction) in distance along the alignment
+        assert float(r["elevation"]) == pytest.approx(ref.elevation(x), abs=0.001), (r["point"], r["station_label"])
+    c = ref.curves[1]
+    assert c is not None and c.high_low is not None
+    feats = {(r["station"], r["region"]): r["feature"] for r in rows}
+    assert feats[("470.0000", "1")] == "PVC"
+    assert feats[("480.0000", "2")] == "PVI"
+    assert feats[("520.0000", "2")] == "PVT"
+    assert feats[("450.0000", "2")] == "EQ"
+    hp = [r for r in rows if r["feature"] == "HP"]
+    assert len(hp) == 1 and hp[0]["region"] == "2"
+    assert internal(float(hp[0]["station"]), 2) == pytest.approx(c.high_low[0], abs=1e-4)
+    prof = read_rows(out / "profile.csv")[1]
+    assert float(prof["grade_in"]) == pytest.approx(100.0 * 10.0 / 630.0, abs=1e-6)
+    assert float(prof["grade_out"]) == pytest.approx(100.0 * -5.0 / 480.0, abs=1e-6)
+    assert float(prof["pvc_station"]) == pytest.approx(470.0, abs=1e-4)
+    assert float(prof["pvt_station"]) == pytest.approx(520.0, abs=1e-4)
+    assert float(prof["pvc_elevation"]) == pytest.approx(c.pvc[1], abs=1e-4)
+    assert float(prof["pvt_elevation"]) == pytest.approx(c.pvt[1], abs=1e-4)
+    assert float(prof["k_value"]) == pytest.approx(c.k, abs=1e-4)  # K = L / |A| (references.md)
+    assert float(prof["high_low_elevation"]) == pytest.approx(c.high_low[1], abs=1e-4)
+
+
 # ---- 3. profile points ---------------------------------------------------------------------------------
 
 FEATURE_JOB = """\
@@ -618,7 +693,8 @@ def test_profile_points_off(tmp_path):
     off2 = build_job(write_job(tmp_path, off_job.replace("interval = 100.0", "interval = 300.0"), "off2.toml"),
                      tmp_path / "off2")
     extra = sorted(set(_features(on2)) - set(_features(off2)))
-    assert extra == [800.0, 1000.0, 1300.0, 1600.0]  # 9+00 and 12+00 are multiples of 300 anyway
+    # 8+00 is the PC and 9+00, 12+00 are multiples of 300: staked either way
+    assert extra == [1000.0, 1300.0, 1600.0]
     assert _features(on2)[900.0] == "PVI HP" and _features(off2)[900.0] == ""
 
 
@@ -627,14 +703,20 @@ def test_profile_points_off(tmp_path):
 
 def test_setout_sheet_shows_design_elevations(hillside_out):
     stations = {r["point"]: r for r in read_rows(hillside_out / "stations.csv")}
+    ref = _hillside_reference()
+    drops = _drops(HILLSIDE.read_text())
     text = (hillside_out / "setout.txt").read_text()
     assert re.search(r"grnd dist\s+design el\s+zenith\s+slope dist", text)
     seen = 0
     for line in text.splitlines():
         tok = line.split()
         if tok and tok[0] in stations:
-            # the last three columns: design el, zenith, slope dist
-            assert tok[-3] == f"{float(stations[tok[0]]['elevation']):.3f}", line
+            s = stations[tok[0]]
+            # the last three columns: design el (3 decimals), zenith, slope dist; the
+            # elevation from the independent profile (handbook parabola / Beziers)
+            want = ref.elevation(float(s["station"])) + drops[s["code"]]
+            assert re.fullmatch(r"-?\d+\.\d{3}", tok[-3]), line
+            assert abs(float(tok[-3]) - want) <= 0.0005 + 1e-9, line
             seen += 1
     assert seen == len(stations)
 
@@ -758,8 +840,11 @@ interval = 100.0
     # overlapping symmetric curves: the first ends at 5+50, the second begins at 5+00
     ([("0+00", 100.0, ""), ("4+00", 110.0, "curve_length = 300.0"), ("7+00", 100.0, "curve_length = 400.0"),
       ("10+00", 104.0, "")], "profile.pvi[2].curve_length = 400.0"),
+    # an unsymmetrical curve whose AHEAD length (300) reaches past the profile's end (8+00 + 300 > 10+00)
+    ([("0+00", 100.0, ""), ("8+00", 110.0, "curve_length_back = 100.0\ncurve_length_ahead = 300.0"),
+      ("10+00", 100.0, "")], "profile.pvi[1].curve_length_ahead = 300.0"),
 ])
-def test_symmetric_curve_errors_name_curve_length(tmp_path, pvis, key):
+def test_curve_errors_name_the_key_given(tmp_path, pvis, key):
     # common.md: a message names the key and the value as the job file gives them;
     # a job that says `curve_length = 400.0` must not be told about `curve_length_back = 200.0`
     text = SYM_BASE + "".join(

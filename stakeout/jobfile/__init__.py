@@ -16,6 +16,8 @@ from pathlib import Path
 
 from ..errors import JobFileError
 from ..job import Job, JobInfo
+from ..limits import MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
+from ..textsafety import check_free_text
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment, read_equations
@@ -36,23 +38,13 @@ def load_job(path: str | Path) -> Job:
         If the file is missing, unreadable, not TOML, or not a valid job.
     """
     p = Path(path)
-    try:
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise JobFileError(f"job file {str(p)!r}: not found") from None
-    except IsADirectoryError:
-        raise JobFileError(f"job file {str(p)!r}: is a folder, not a file") from None
-    except OSError as exc:
-        raise JobFileError(f"job file {str(p)!r}: cannot be read ({exc.strerror})") from None
+    data = read_regular_file(p, "job file", MAX_JOB_FILE_BYTES)
     return parse_job(data, str(p))
 
 
 def parse_job(data: bytes, path: str = "<job>") -> Job:
     """Validate job-file bytes (TOML, UTF-8) into a :class:`Job`."""
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise JobFileError(f"{path}: not UTF-8 text (byte {exc.start})") from None
+    text = decode_job_text(data, path)
     try:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -96,9 +88,7 @@ def _job_info(top: Table) -> JobInfo:
     """``[job]``: name, units, CRS, station length."""
     t = top.table("job", ("name", "units", "crs", "station_length"), required=True)
     assert t is not None
-    name = t.text("name") or ""
-    if "\n" in name or "\r" in name:
-        raise JobFileError(f"job.name = {name!r}: must be one line")
+    name = check_free_text(t.text("name") or "", "job.name")
     unit = get_unit(t.raw("units", required=True))
     crs = t.text("crs")
     if crs is not None and not crs.strip():

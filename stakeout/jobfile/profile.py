@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from ..errors import JobFileError
 from ..job import JobInfo, ProfileInput, ProfilePVI
+from ..limits import MAX_HEIGHT
+from ..textsafety import check_free_text
 from .reader import Table, station_ref
 
 __all__ = ["read_profile"]
@@ -28,8 +30,9 @@ def read_profile(top: Table, info: JobInfo) -> ProfileInput | None:
             raise JobFileError(f"{missing}: missing; an unsymmetrical curve needs both lengths")
         if sym is not None:
             back = ahead = sym / 2.0
-        pvis.append(ProfilePVI(station_ref(p.raw("station", required=True), info.station_length, p.key("station")),
-                               float(p.number("elevation", required=True) or 0.0), back or 0.0, ahead or 0.0, p.path))
+        at = station_ref(p.raw("station", required=True), info.station_length, p.key("station"))
+        elevation = float(p.number("elevation", required=True, bound=MAX_HEIGHT) or 0.0)
+        pvis.append(ProfilePVI(at, elevation, back or 0.0, ahead or 0.0, p.path, symmetric=sym is not None))
     if len(pvis) < 2:
         raise JobFileError("profile.pvi: needs at least two PVIs, where the profile starts and ends")
-    return ProfileInput(t.text("name") or "", tuple(pvis))
+    return ProfileInput(check_free_text(t.text("name") or "", "profile.name"), tuple(pvis))

@@ -11,7 +11,9 @@ from typing import Any
 
 from ..angles import parse_angle, parse_direction
 from ..errors import JobFileError
+from ..limits import MAX_COORDINATE, check_station_value
 from ..stations import StationRef, parse_station
+from ..textsafety import check_safe_id, show_value
 
 __all__ = ["Table", "kind_of", "SAFE_TEXT", "check_safe_text", "angle", "direction", "station", "station_ref"]
 
@@ -22,14 +24,10 @@ _SAFE_HELP = "1 to 20 of letters, digits, _ # . / - (not starting with -)"
 
 
 def check_safe_text(value: object, where: str, allow_empty: bool = False) -> str:
-    """Validate an id, code or prefix against :data:`SAFE_TEXT`."""
-    if not isinstance(value, str):
-        raise JobFileError(f"{where} = {value!r}: expected text ({_SAFE_HELP})")
-    if allow_empty and value == "":
-        return value
-    if not SAFE_TEXT.match(value):
-        raise JobFileError(f"{where} = {value!r}: use {_SAFE_HELP}")
-    return value
+    """Validate an id, code or prefix: the whole text must match :data:`SAFE_TEXT`
+    (a trailing newline included, so nothing splits a row of a point file).
+    """
+    return check_safe_id(value, where, allow_empty)
 
 
 def kind_of(v: object) -> str:
@@ -69,15 +67,22 @@ class Table:
         return self.data[k]
 
     def number(self, k: str, required: bool = False, positive: bool = False,
-               nonnegative: bool = False) -> float | None:
+               nonnegative: bool = False, bound: float = MAX_COORDINATE) -> float | None:
+        """A number; within +-``bound`` (default: the range in which 4 decimals are exact)."""
         v = self.raw(k, required)
         if v is None:
             return None
         if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise JobFileError(f"{self.key(k)} = {v!r}: expected a number, got {kind_of(v)}")
-        v = float(v)
+            raise JobFileError(f"{self.key(k)} = {show_value(v)}: expected a number, got {kind_of(v)}")
+        try:
+            v = float(v)
+        except OverflowError:  # a whole number beyond every float
+            v = math.inf
         if not math.isfinite(v):
-            raise JobFileError(f"{self.key(k)} = {v!r}: must be a finite number")
+            raise JobFileError(f"{self.key(k)} = {show_value(self.data[k])}: must be a finite number")
+        if abs(v) > bound:
+            raise JobFileError(f"{self.key(k)} = {show_value(self.data[k])}: out of range; it must lie within "
+                               f"-{bound:,.0f} to {bound:,.0f} job units (the range in which 4 decimals are exact)")
         if positive and v <= 0:
             raise JobFileError(f"{self.key(k)} = {v!r}: must be greater than 0")
         if nonnegative and v < 0:
@@ -137,7 +142,7 @@ def station(t: Table, k: str, station_length: int, required: bool = True, defaul
     if v is None:
         assert default is not None
         return default
-    return parse_station(v, station_length, t.key(k))
+    return check_station_value(parse_station(v, station_length, t.key(k)), t.key(k))
 
 
 def station_ref(value: object, station_length: int, where: str) -> StationRef:
@@ -147,6 +152,6 @@ def station_ref(value: object, station_length: int, where: str) -> StationRef:
         region = t.raw("region", required=True)
         if isinstance(region, bool) or not isinstance(region, int) or region < 1:
             raise JobFileError(f"{where}.region = {region!r}: expected a region number, 1 or more")
-        return StationRef(parse_station(t.raw("station", required=True), station_length, t.key("station")),
-                          region, where)
-    return StationRef(parse_station(value, station_length, where), None, where)
+        value = parse_station(t.raw("station", required=True), station_length, t.key("station"))
+        return StationRef(check_station_value(value, t.key("station")), region, where)
+    return StationRef(check_station_value(parse_station(value, station_length, where), where), None, where)

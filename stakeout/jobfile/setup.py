@@ -6,6 +6,7 @@ import math
 
 from ..errors import JobFileError
 from ..job import CheckSpec, ControlPoint, Scale, Setup
+from ..limits import MAX_HEIGHT
 from .reader import Table, check_safe_text, direction
 
 __all__ = ["read_setup", "read_scale", "read_check"]
@@ -20,7 +21,7 @@ def _control_point(t: Table, k: str, required: bool) -> ControlPoint | None:
         id=check_safe_text(c.raw("id", required=True), c.key("id")),
         northing=float(c.number("northing", required=True) or 0.0),
         easting=float(c.number("easting", required=True) or 0.0),
-        elevation=c.number("elevation"),
+        elevation=c.number("elevation", bound=MAX_HEIGHT),
     )
 
 
@@ -56,8 +57,8 @@ def read_setup(top: Table) -> Setup | None:
         backsight=backsight,
         backsight_azimuth=bs_az,
         azimuth_reference=ref,
-        instrument_height=t.number("instrument_height", nonnegative=True),
-        target_height=t.number("target_height", nonnegative=True),
+        instrument_height=t.number("instrument_height", nonnegative=True, bound=MAX_HEIGHT),
+        target_height=t.number("target_height", nonnegative=True, bound=MAX_HEIGHT),
     )
 
 
@@ -79,9 +80,9 @@ def read_scale(top: Table) -> Scale:
         )
     else:
         factor = float(cf)
-    h = t.number("ellipsoid_height")
-    elev = t.number("elevation")
-    n = t.number("geoid_separation")
+    h = t.number("ellipsoid_height", bound=MAX_HEIGHT)
+    elev = t.number("elevation", bound=MAX_HEIGHT)
+    n = t.number("geoid_separation", bound=MAX_HEIGHT)
     if factor is not None and (h is not None or elev is not None or n is not None):
         raise JobFileError(
             "scale: ellipsoid_height, elevation and geoid_separation go with combined_factor = \"auto\" only"

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from ..errors import JobFileError
 from ..job import JobInfo, OffsetLine, Staking
+from ..limits import MAX_HEIGHT, check_first_point
 from .reader import Table, check_safe_text, station_ref
 
 __all__ = ["read_staking"]
@@ -47,10 +48,8 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
     fp = t.raw("first_point")
     if fp is None:
         first_point = 1
-    elif isinstance(fp, bool) or not isinstance(fp, int) or fp < 0:
-        raise JobFileError(f"staking.first_point = {fp!r}: must be a whole number, 0 or more")
     else:
-        first_point = fp
+        first_point = check_first_point(fp, "staking.first_point")
     prefix = t.raw("point_prefix")
     prefix = "" if prefix is None else check_safe_text(prefix, "staking.point_prefix", allow_empty=True)
     return Staking(
@@ -59,7 +58,7 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
         extra_stations=tuple(extras),
         first_point=first_point,
         point_prefix=prefix,
-        elevation=t.number("elevation"),
+        elevation=t.number("elevation", bound=MAX_HEIGHT),
         profile_points=_flag(t, "profile_points"),
     )
 
