@@ -31,8 +31,10 @@ Reading
   and ``chord`` are kept as cross-checks only.  Direction attributes (``dir``,
   ``dirStart``, ``dirEnd``) are never read: files in use measure them
   counter-clockwise from east although the schema says they run from north.
-  ``delta`` is an ``angle`` in the file's ``angularUnit`` (the schema's
-  default: radians) and is converted to degrees on reading.
+  ``delta`` is an ``angle`` in the file's ``angularUnit`` and is converted
+  to degrees on reading; a file that declares no ``angularUnit`` is read in
+  the schema's default, radians, or in decimal degrees where that is what
+  fits the points (files in use often omit the unit and write degrees).
 * Content a staking job does not use (cant, cross-sections, superelevation,
   surfaces, pipe networks, features, ground profiles, ...) is listed in
   :attr:`XDesign.not_used` as short descriptions; ``<Application>`` is kept
@@ -43,9 +45,10 @@ Checking (:func:`validate_geometry`)
 Tolerances, with ``tolerance`` in file units (default 0.001):
 
 * position between consecutive elements, and a spiral's ``End`` against the
-  clothoid through its ``Start`` along ``Start``→``PI`` with its radii and
+  clothoid through its ``Start`` along ``Start``->``PI`` with its radii and
   derived length: ``tolerance``;
-* direction between consecutive elements: 1 arc-second;
+* direction between consecutive elements, and a spiral's ``PI``->``End``
+  against the end direction of that clothoid: 1 arc-second;
 * curvature where a spiral meets another element: both radii infinite, or
   both finite, of the same hand and within ``tolerance``;
 * an arc's ``|Start - Center|`` against ``|End - Center|``, and the
@@ -55,9 +58,15 @@ Tolerances, with ``tolerance`` in file units (default 0.001):
   subtends ``tolerance`` at the radius.
 
 A spiral's length is derived from its points and radii: the tangent
-deflection theta between ``Start``→``PI`` and ``PI``→``End`` gives
+deflection theta between ``Start``->``PI`` and ``PI``->``End`` gives
 ``L = 2 theta / (1/Rs + 1/Re)`` (the curvature of a clothoid is linear in
-its length), cross-checked with its ``length`` attribute.
+its length).  That estimate magnifies the rounding of the coordinates by
+about 2R / tangent (2 mm on a 1500 m radius written to 0.1 mm), so it is
+then refined until the clothoid from ``Start`` along ``Start``->``PI``
+reaches ``End`` along the chord (a few Newton steps); the ``length``
+attribute is a cross-check of the result.  A zero-length ``Line`` (within
+``tolerance``; some programs write one between elements) is accepted and
+takes the direction in force where it sits.
 
 Writing (:func:`write_landxml`)
 -------------------------------
@@ -476,7 +485,6 @@ _LINEAR = {
 _UNIT_WORDS = {"m": "metres", "ft": "international feet (0.3048 m)", "us_ft": "US survey feet (1200/3937 m)"}
 _ANGULAR = ("radians", "grads", "decimal degrees", "decimal dd.mm.ss")
 _PVI_KIND = {"PVI": "pvi", "ParaCurve": "para", "UnsymParaCurve": "unsym", "CircCurve": "circ"}
-_KIND_TAG = {"line": "Line", "arc": "Curve", "spiral": "Spiral"}
 _NEEDS = {"Line": ("Start", "End"), "Curve": ("Start", "Center", "End"), "Spiral": ("Start", "PI", "End")}
 _COLLECTIONS = frozenset(
     {"Surfaces", "PipeNetworks", "Parcels", "PlanFeatures", "Monuments", "Roadways", "GradeModel", "Survey"}
@@ -581,6 +589,7 @@ class _Reader:
         self.source = source
         self.ns = ""
         self.angular = "radians"
+        self.angular_declared = True
         self.cg_by_name: dict[str, tuple[float, float, float | None]] = {}
         self.unused: list[tuple[str, str]] = []
 
@@ -641,6 +650,30 @@ class _Reader:
             return v * 0.9
         return v
 
+    def delta_deg(
+        self,
+        el: _ET.Element,
+        where: str,
+        s: tuple[float, float, float | None],
+        c: tuple[float, float, float | None],
+        e: tuple[float, float, float | None],
+        rot: int,
+    ) -> float | None:
+        """A Curve's ``delta`` in degrees.
+
+        Without a declared angularUnit the schema's default, radians, is
+        taken, or decimal degrees where that is what fits the points (files
+        in use often omit the unit and write degrees).
+        """
+        deg = self.angle_deg(el, "delta", where)
+        if deg is None or self.angular_declared:
+            return deg
+        raw = abs(self.double(el.get("delta"), f"{where} delta"))
+        a1 = math.degrees(math.atan2(s[1] - c[1], s[0] - c[0]))
+        a2 = math.degrees(math.atan2(e[1] - c[1], e[0] - c[0]))
+        sweep = (rot * (a2 - a1)) % 360.0
+        return raw if abs(raw - sweep) < abs(deg - sweep) else deg
+
     def point(self, el: _ET.Element, what: str) -> tuple[float, float, float | None]:
         parts = (el.text or "").split()
         if not parts:
@@ -673,6 +706,9 @@ class _Reader:
         if any(u != units[0] for u in units):
             raise self.err("several <Units> that disagree")
         self.angular = units[0].angular_unit
+        self.angular_declared = any(
+            u.get("angularUnit") is not None for el in units_els for u in el if isinstance(u.tag, str)
+        )
         # CgPoints first: geometry may refer to them by pntRef.
         points: list[XPoint] = []
         for local, el in top:
@@ -813,7 +849,7 @@ class _Reader:
                         index, name, s[0], s[1], c[0], c[1], e[0], e[1], rot,
                         radius_attr=self.opt_double(child, "radius", where),
                         length_attr=self.opt_double(child, "length", where),
-                        delta_attr=self.angle_deg(child, "delta", where),
+                        delta_attr=self.delta_deg(child, where, s, c, e, rot),
                         chord_attr=self.opt_double(child, "chord", where),
                         sta_start_attr=sta,
                     )
@@ -1050,6 +1086,49 @@ def _clothoid_ends(
     return n0 + dn, e0 + de
 
 
+def _fit_clothoid(
+    n0: NDArray[np.float64],
+    e0: NDArray[np.float64],
+    n1: NDArray[np.float64],
+    e1: NDArray[np.float64],
+    az0_deg: NDArray[np.float64],
+    k0: NDArray[np.float64],
+    k1: NDArray[np.float64],
+    length: NDArray[np.float64],
+    turn: NDArray[np.float64],
+) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
+    """Refine spiral lengths so each clothoid reaches its End along the chord.
+
+    ``length`` is the estimate from the tangent deflection.  That estimate
+    magnifies coordinate rounding by about 2R / tangent (several mm for a
+    large radius written to 0.1 mm); the distance along the chord
+    Start->End is conditioned like the coordinates themselves.  Newton steps
+    (derivative by forward difference) solve
+    ``(P(L) - Start) . chord_unit = |End - Start|``.
+
+    Returns
+    -------
+    (length, northing, easting)
+        Lengths (file units) and the clothoids' end points.
+    """
+    chord = np.hypot(n1 - n0, e1 - e0)
+    un, ue = (n1 - n0) / chord, (e1 - e0) / chord
+
+    def along(lengths: NDArray[np.float64]) -> NDArray[np.float64]:
+        pn, pe = _clothoid_ends(n0, e0, az0_deg, k0, k1, lengths, turn)
+        return (pn - n0) * un + (pe - e0) * ue - chord
+
+    fitted = length.copy()
+    for _ in range(6):
+        g = along(fitted)
+        h = 1e-7 * fitted
+        slope = (along(fitted + h) - g) / h
+        step = np.where(np.isfinite(slope) & (slope > 0.1), g / slope, 0.0)
+        fitted = np.where(np.abs(step) < 0.5 * fitted, fitted - step, fitted)
+    pn, pe = _clothoid_ends(n0, e0, az0_deg, k0, k1, fitted, turn)
+    return fitted, pn, pe
+
+
 def _where(alignment: XAlignment, el: XElement) -> str:
     tag = "Line" if isinstance(el, XLine) else "Curve" if isinstance(el, XCurve) else "Spiral"
     label = f"{tag} {el.name!r}" if el.name else tag
@@ -1156,22 +1235,33 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
         k0 = np.where(np.isinf(rs_attr), 0.0, 1.0 / rs_attr)
         k1 = np.where(np.isinf(re_attr), 0.0, 1.0 / re_attr)
         theta = np.radians(turn * defl)
-        spi_len = 2.0 * theta / (k0 + k1)
+        defl_len = 2.0 * theta / (k0 + k1)  # L = 2 theta / (1/Rs + 1/Re)
+        spi_len = defl_len.copy()
+        fit_n = np.full(n, nan)
+        fit_e = np.full(n, nan)
+        ok_spi = is_spi & (theta > 0.0) & (defl_len > 0.0) & np.isfinite(defl_len)
+        if ok_spi.any():
+            i = np.flatnonzero(ok_spi)
+            spi_len[i], fit_n[i], fit_e[i] = _fit_clothoid(
+                sn[i], se[i], en[i], ee[i], b1[i], k0[i], k1[i], defl_len[i], turn[i]
+            )
+        # a spiral's End against the clothoid through Start along Start->PI
+        miss = np.hypot(fit_n - en, fit_e - ee)
+        # and the clothoid's end direction against PI->End
+        end_turn = np.abs(_wrap180(b2 - (b1 + turn * np.degrees(spi_len * (k0 + k1) / 2.0))))
 
         length = np.select([is_line, is_arc], [chord, r1 * np.radians(sweep)], spi_len)
         az_start = np.select([is_line, is_arc], [az_chord, np.mod(a1 + 90.0 * turn, 360.0)], b1)
         az_end = np.select([is_line, is_arc], [az_chord, np.mod(a2 + 90.0 * turn, 360.0)], b2)
+        # a zero-length line (some programs write one between elements) carries no
+        # direction of its own: it takes the direction in force where it sits
+        for i in np.flatnonzero(is_line & ~(chord > tolerance)):
+            ref = az_end[i - 1] if i > 0 else az_start[i + 1] if n > 1 else 0.0
+            az_start[i] = az_end[i] = ref
         rad_start = np.select([is_line, is_arc], [np.inf, r1], rs_attr)
         rad_end = np.select([is_line, is_arc], [np.inf, r1], re_attr)
 
         # element checks, in the order a message is preferred at one element
-        fit_n = np.full(n, nan)
-        fit_e = np.full(n, nan)
-        ok_spi = is_spi & (theta > 0.0) & (spi_len > 0.0) & np.isfinite(spi_len)
-        if ok_spi.any():  # a spiral's End against the clothoid through Start along Start->PI
-            i = np.flatnonzero(ok_spi)
-            fit_n[i], fit_e[i] = _clothoid_ends(sn[i], se[i], b1[i], k0[i], k1[i], spi_len[i], turn[i])
-        miss = np.hypot(fit_n - en, fit_e - ee)
         radius_attr = attr("radius_attr")
         length_attr = attr("length_attr")
         delta_attr = attr("delta_attr")
@@ -1179,18 +1269,35 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
         arc_chord = 2.0 * r1 * np.sin(np.radians(sweep) / 2.0)
         tol = tolerance
         checks: list[tuple[NDArray[np.bool_], Callable[[int], str]]] = [
-            (~is_spi & ~(chord > tol), lambda i: f"Start and End coincide ({_fmt(chord[i])} apart)"),
+            (is_arc & ~(chord > tol), lambda i: f"Start and End coincide ({_fmt(chord[i])} apart)"),
             (is_arc & ~(r1 > tol), lambda i: f"Center is on Start (radius {_fmt(r1[i])})"),
             (
                 is_arc & ~(np.abs(r1 - r2) <= tol + _REL * r1),
                 lambda i: f"|Start-Center| = {_fmt(r1[i])} but |End-Center| = {_fmt(r2[i])}",
             ),
-            (is_spi & ~((t1 > tol) & (t2 > tol)), lambda i: "PI coincides with Start or End"),
+            (
+                is_spi & ~((t1 > tol) & (t2 > tol)),
+                lambda i: f"PI coincides with Start or End (tangents {_fmt(t1[i])} and {_fmt(t2[i])})",
+            ),
             (
                 is_spi & ~(theta > 0.0),
                 lambda i: (
                     f"the tangents Start->PI and PI->End turn {_fmt(abs(defl[i]))} degrees "
                     f"{'right' if defl[i] > 0 else 'left'}, against rot = {'cw' if turn[i] > 0 else 'ccw'}"
+                ),
+            ),
+            (
+                ok_spi & ~(miss <= tol),
+                lambda i: (
+                    f"End is {_fmt(miss[i])} from the clothoid through Start along Start->PI with radiusStart "
+                    f"{_fmt(rs_attr[i])}, radiusEnd {_fmt(re_attr[i])} and length {_fmt(length[i])}"
+                ),
+            ),
+            (
+                ok_spi & ~(end_turn <= _ARCSEC),
+                lambda i: (
+                    f"PI->End is {_fmt(end_turn[i] * 3600.0)} arc-seconds off the end direction of the clothoid "
+                    f"through Start and End with radiusStart {_fmt(rs_attr[i])} and radiusEnd {_fmt(re_attr[i])}"
                 ),
             ),
             (
@@ -1208,13 +1315,6 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
             (
                 is_arc & ~np.isnan(chord_attr) & ~(np.abs(chord_attr - arc_chord) <= tol + _REL * r1),
                 lambda i: f"chord = {_fmt(chord_attr[i])} contradicts the points, which give {_fmt(arc_chord[i])}",
-            ),
-            (
-                ok_spi & ~(miss <= tol),
-                lambda i: (
-                    f"End is {_fmt(miss[i])} from the clothoid through Start along Start->PI with radiusStart "
-                    f"{_fmt(rs_attr[i])}, radiusEnd {_fmt(re_attr[i])} and length {_fmt(length[i])}"
-                ),
             ),
         ]
 
@@ -1563,7 +1663,7 @@ def write_landxml(
         {"name": _text(alignment_name, "alignment name"), "length": _len(total), "staStart": _num(sta_start)},
     )
     geom = _ET.SubElement(a_el, "CoordGeom")
-    for el, m in zip(numbered, measured):
+    for el, m in zip(numbered, measured, strict=True):
         _write_element(geom, el, m)
     for k, eq in enumerate(equations, start=1):
         back = eq.sta_back if eq.sta_back is not None else station_at(al, eq.sta_internal, before=k - 1)
@@ -1644,7 +1744,8 @@ def _write_element(geom: _ET.Element, el: XElement, m: XMeasured) -> None:
         _pt(x, "Center", el.center_n, el.center_e)
         _pt(x, "End", el.end_n, el.end_e)
     else:
-        theta = abs(float(_wrap180(np.array(m.az_end - m.az_start))))
+        curvatures = sum(1.0 / r for r in (el.radius_start, el.radius_end) if r is not None)
+        theta = math.degrees(m.length * curvatures / 2.0)  # the clothoid's deflection
         chord = math.hypot(el.end_n - el.start_n, el.end_e - el.start_e)
         x = _ET.SubElement(
             geom,
