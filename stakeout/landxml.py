@@ -1255,9 +1255,9 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
         az_end = np.select([is_line, is_arc], [az_chord, np.mod(a2 + 90.0 * turn, 360.0)], b2)
         # a zero-length line (some programs write one between elements) carries no
         # direction of its own: it takes the direction in force where it sits
-        for i in np.flatnonzero(is_line & ~(chord > tolerance)):
-            ref = az_end[i - 1] if i > 0 else az_start[i + 1] if n > 1 else 0.0
-            az_start[i] = az_end[i] = ref
+        for j in np.flatnonzero(is_line & ~(chord > tolerance)).tolist():
+            ref = az_end[j - 1] if j > 0 else az_start[j + 1] if n > 1 else 0.0
+            az_start[j] = az_end[j] = ref
         rad_start = np.select([is_line, is_arc], [np.inf, r1], rs_attr)
         rad_end = np.select([is_line, is_arc], [np.inf, r1], re_attr)
 
