@@ -10,8 +10,9 @@ Reading
 * Hardened parsing: ``defusedxml.ElementTree`` with ``forbid_dtd=True`` (and
   ``forbid_entities``/``forbid_external``), so a document type declaration,
   entity expansion ("billion laughs") and external entities are refused.
-  Files larger than :data:`MAX_FILE_BYTES` (64 MiB) and anything that is not
-  a regular file are refused before a byte is read.  Malformed XML is a
+  Files larger than :data:`MAX_FILE_BYTES` (256 MiB, room for the export
+  of a build of about three million stakes) and anything that is not a
+  regular file are refused before a byte is read.  Malformed XML is a
   :class:`~stakeout.errors.JobFileError` naming the line and column.
 * The root must be ``<LandXML>`` in the LandXML 1.2 namespace
   (:data:`LANDXML_NS`) or in no namespace at all.  Elements of any other
@@ -53,8 +54,9 @@ Tolerances, with ``tolerance`` in file units (default 0.001):
   both finite, of the same hand and within ``tolerance``;
 * an arc's ``|Start - Center|`` against ``|End - Center|``, and the
   attributes ``radius``, ``length``, ``chord`` (and the alignment's
-  ``length``) against the values from the points: ``tolerance`` plus 1e-9
-  of the value; ``delta``: the larger of 1 arc-second and the angle that
+  ``length``, against the sum of its elements or, as some programs write
+  it, the span of its stations in force) against the values from the
+  points: ``tolerance`` plus 1e-9 of the value; ``delta``: the larger of 1 arc-second and the angle that
   subtends ``tolerance`` at the radius.
 
 A spiral's length is derived from its points and radii: the tangent
@@ -73,13 +75,17 @@ Writing (:func:`write_landxml`)
 Units declare ``angularUnit`` and ``directionUnit`` ``"decimal degrees"``.
 ``delta`` and a spiral's ``theta`` are unsigned decimal degrees.  Directions
 (``dir``, ``dirStart``, ``dirEnd``) follow the schema's ``<Units>``
-documentation: decimal degrees measured counter-clockwise from north, that
-is ``(360 - azimuth) mod 360`` of a survey azimuth.  The schema requires the
-root's ``date`` and ``time``: they come from the ``created`` argument (the
-epoch, 1970-01-01 00:00:00, when not given), never from the clock, so the
-same input gives the same bytes.  Numbers are written with Python's
-shortest round-trip representation, so reading the file back gives the same
-floats.
+documentation ("Horizontal directions ... are measured counter-clockwise
+from 0 degrees = north"): decimal degrees, ``(360 - azimuth) mod 360`` of
+a survey azimuth.  No reader should rely on them (this one does not).  The
+schema requires the root's ``date`` and ``time``: they come from the
+``created`` argument (the epoch, 1970-01-01 00:00:00, when not given),
+never from the clock, so the same input gives the same bytes.  Given
+numbers (coordinates, stations, elevations, spiral radii, curve lengths of
+the profile) are written in Python's shortest round-trip form, so reading
+the file back gives the same floats; attributes derived from the points
+(lengths, stations of elements, arc radius, chord, delta, theta,
+directions) are rounded to 1e-9 units and 1e-10 degrees.
 
 Angle conventions in the dataclasses: azimuths in degrees clockwise from
 grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
@@ -89,7 +95,9 @@ grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
 from __future__ import annotations
 
 import datetime as _dt
+import gc
 import hashlib
+import itertools
 import math
 import os
 import re
@@ -118,6 +126,7 @@ __all__ = [
     "XPVI",
     "XProfile",
     "XPoint",
+    "XPoints",
     "XDesign",
     "XMeasured",
     "read_landxml",
@@ -132,7 +141,7 @@ __all__ = [
 ]
 
 LANDXML_NS = "http://www.landxml.org/schema/LandXML-1.2"
-MAX_FILE_BYTES = 64 * 1024 * 1024  # bytes: larger files are refused unread
+MAX_FILE_BYTES = 256 * 1024 * 1024  # bytes: larger files are refused unread (the export of ~3 million stakes)
 
 _ARCSEC = 1.0 / 3600.0  # degrees
 _NEWLINE = b"\n"
@@ -404,6 +413,31 @@ class XPoint:
 
 
 @dataclass(frozen=True)
+class XPoints:
+    """Many points as columns, for writing a build's stakes without a Python
+    object per point.
+
+    Attributes
+    ----------
+    names : sequence of str
+        Point names (unique).
+    northing, easting : array of float
+        File units.
+    elevation : array of float or None
+        File units; NaN (or None for the whole column) where a point has none.
+    codes, descs : sequence of str or None
+        ``code`` and ``desc`` attributes; "" or None where there is none.
+    """
+
+    names: Sequence[str]
+    northing: NDArray[np.float64]
+    easting: NDArray[np.float64]
+    elevation: NDArray[np.float64] | None = None
+    codes: Sequence[str] | None = None
+    descs: Sequence[str] | None = None
+
+
+@dataclass(frozen=True)
 class XDesign:
     """Everything a staking job can take from one LandXML file.
 
@@ -474,6 +508,7 @@ class XMeasured:
 # ---------------------------------------------------------------------------
 
 _DOUBLE = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?|[+-]?INF")
+_NOT_DOUBLE_CHAR = re.compile(r"[^0-9eE+\-. INF]")
 _DMS_PACKED = re.compile(r"([+-]?)(\d+)(?:\.(\d{0,2})(\d*))?")
 _ROT = {"cw": 1, "ccw": -1}
 _LINEAR = {
@@ -551,6 +586,18 @@ def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
     if len(data) > MAX_FILE_BYTES:
         raise JobFileError(f"{source}: over the limit of {MAX_FILE_BYTES} bytes for a LandXML file")
     digest = hashlib.sha256(data).hexdigest()
+    # a big file makes millions of small objects that the cyclic collector would
+    # rescan again and again; none of them forms a cycle worth collecting meanwhile
+    paused = gc.isenabled()
+    gc.disable()
+    try:
+        return _parse(data, source, digest)
+    finally:
+        if paused:
+            gc.enable()
+
+
+def _parse(data: bytes, source: str, digest: str) -> XDesign:
     try:
         root = _DET.fromstring(data, forbid_dtd=True, forbid_entities=True, forbid_external=True)
     except _ET.ParseError as exc:
@@ -760,28 +807,60 @@ class _Reader:
     def cgpoints(self, el: _ET.Element, out: list[XPoint]) -> None:
         stack = [el]
         order: list[_ET.Element] = []
+        tag = f"{{{self.ns}}}CgPoint" if self.ns else "CgPoint"
         while stack:  # nested collections, iteratively and in document order
             coll = stack.pop()
             ctx = f"CgPoints {coll.get('name') or ''}".rstrip()
             nested: list[_ET.Element] = []
-            for local, child in self.children(coll, ctx):
-                if local == "CgPoint":
-                    order.append(child)
-                elif local == "CgPoints":
+            order.extend(child for child in coll if child.tag == tag)
+            others = _ET.Element("others")
+            others.extend(child for child in coll if child.tag != tag)
+            for local, child in self.children(others, ctx):
+                if local == "CgPoints":
                     nested.append(child)
                 else:
                     self.note(ctx, local, child)
             stack.extend(reversed(nested))
-        # two passes: coordinates first, so a CgPoint may refer to another by pntRef
-        for child in order:
-            parts = (child.text or "").split()
-            name = child.get("name", "")
-            if parts and name:
-                self.cg_by_name.setdefault(name, self.point(child, f"CgPoint {name!r}"))
-        for child in order:
-            name = child.get("name", "")
-            n, e, z = self.point(child, f"CgPoint {name!r}")
-            out.append(XPoint(name, n, e, z, child.get("code", ""), child.get("desc", "")))
+        # all coordinates at once (a file may hold the million stakes of a build)
+        names = [c.get("name", "") for c in order]
+        split = [(c.text or "").split() for c in order]
+        counts = np.fromiter(map(len, split), dtype=np.int64, count=len(split))
+        odd = np.flatnonzero((counts == 1) | (counts > 3))
+        if odd.size:
+            c = order[int(odd[0])]
+            raise self.err(f"CgPoint {names[int(odd[0])]!r} = {c.text!r}: expected 'northing easting [elevation]'")
+        tokens = list(itertools.chain.from_iterable(split))
+        try:
+            # xs:double has digits, sign, point, exponent and INF; the conversion refuses malformed numbers
+            if _NOT_DOUBLE_CHAR.search(" ".join(tokens)):
+                raise ValueError
+            numbers = np.array(tokens, dtype=float)
+        except ValueError:
+            for name, parts in zip(names, split, strict=True):  # only to name the culprit
+                for t in parts:
+                    self.double(t, f"CgPoint {name!r}")
+            raise
+        vals = np.concatenate([numbers, np.full(3, np.nan)])  # padded for the gathers
+        first = np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(np.int64)
+        has = counts > 0
+        nn = np.where(has, vals[first], np.nan)
+        ee = np.where(has, vals[first + 1], np.nan)
+        zz = np.where(counts == 3, vals[first + 2], np.nan)
+        finite = np.isfinite(nn) & np.isfinite(ee) & (np.isfinite(zz) | (counts == 2))
+        if not finite[has].all():
+            i = int(np.flatnonzero(has & ~finite)[0])
+            raise self.err(f"CgPoint {names[i]!r} = {order[i].text!r}: coordinates must be finite")
+        # names with coordinates first (the first of a name wins), so a CgPoint may refer to another
+        for i in reversed(np.flatnonzero(has & np.array([bool(n) for n in names], dtype=bool)).tolist()):
+            self.cg_by_name[names[i]] = (float(nn[i]), float(ee[i]), None if counts[i] == 2 else float(zz[i]))
+        for i in np.flatnonzero(~has).tolist():  # pntRef only: rare
+            nn[i], ee[i], z = self.point(order[i], f"CgPoint {names[i]!r}")
+            zz[i] = np.nan if z is None else z
+        zs: list[float | None] = [None if math.isnan(z) else z for z in zz.tolist()]
+        out.extend(
+            XPoint(name, n, e, z, c.get("code", ""), c.get("desc", ""))
+            for name, n, e, z, c in zip(names, nn.tolist(), ee.tolist(), zs, order, strict=True)
+        )
 
     def alignment(self, el: _ET.Element, position: int, profiles: list[XProfile]) -> XAlignment:
         name = el.get("name", "")
@@ -1083,7 +1162,7 @@ def _clothoid_ends(
     )
     dn = length * (np.cos(head) @ wt)
     de = length * (np.sin(head) @ wt)
-    return n0 + dn, e0 + de
+    return n0 + dn, e0 + de  # n0 = e0 = 0 gives the offsets from the start
 
 
 def _fit_clothoid(
@@ -1114,19 +1193,21 @@ def _fit_clothoid(
     chord = np.hypot(n1 - n0, e1 - e0)
     un, ue = (n1 - n0) / chord, (e1 - e0) / chord
 
+    zero = np.zeros_like(n0)
+
     def along(lengths: NDArray[np.float64]) -> NDArray[np.float64]:
-        pn, pe = _clothoid_ends(n0, e0, az0_deg, k0, k1, lengths, turn)
-        return (pn - n0) * un + (pe - e0) * ue - chord
+        dn, de = _clothoid_ends(zero, zero, az0_deg, k0, k1, lengths, turn)  # offsets: no large coordinates
+        return dn * un + de * ue - chord
 
     fitted = length.copy()
     for _ in range(6):
         g = along(fitted)
-        h = 1e-7 * fitted
+        h = 1e-6 * fitted
         slope = (along(fitted + h) - g) / h
         step = np.where(np.isfinite(slope) & (slope > 0.1), g / slope, 0.0)
         fitted = np.where(np.abs(step) < 0.5 * fitted, fitted - step, fitted)
-    pn, pe = _clothoid_ends(n0, e0, az0_deg, k0, k1, fitted, turn)
-    return fitted, pn, pe
+    dn, de = _clothoid_ends(zero, zero, az0_deg, k0, k1, fitted, turn)
+    return fitted, n0 + dn, e0 + de
 
 
 def _where(alignment: XAlignment, el: XElement) -> str:
@@ -1353,7 +1434,10 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
                 raise GeometryError(f"{_where(a, els[first])}: {message(first)}")
 
     total = float(length.sum())
-    if a.length_attr is not None and not abs(a.length_attr - total) <= tolerance + _REL * total:
+    span = abs(station_at(a, a.sta_start + total) - a.sta_start)  # what some programs write instead
+    if a.length_attr is not None and not min(abs(a.length_attr - total), abs(a.length_attr - span)) <= (
+        tolerance + _REL * total
+    ):
         raise GeometryError(
             f"alignment {a.name!r}: length = {_fmt(a.length_attr)} contradicts its elements, which add up to {_fmt(total)}"
         )
@@ -1545,7 +1629,7 @@ def write_landxml(
     elements: Sequence[XElement],
     equations: Sequence[XEquation],
     profile_pvis: Sequence[XPVI] | None,
-    points: Sequence[XPoint],
+    points: Sequence[XPoint] | XPoints,
     application_name: str,
     source_note: str,
     *,
@@ -1578,9 +1662,11 @@ def write_landxml(
         from the stationing when None) and ``staIncrement``.
     profile_pvis : sequence of XPVI or None
         The design profile at internal stations; None or empty for none.
-    points : sequence of XPoint
-        Written as ``<CgPoint name code>northing easting [elevation]``;
-        names must be unique (the schema says so).
+    points : sequence of XPoint, or XPoints
+        Written as ``<CgPoint name code desc>northing easting [elevation]``
+        with 6 decimals (laid out by numpy: a build's million stakes need
+        no Python object each when given as :class:`XPoints`); names must
+        be unique (the schema says so).
     application_name : str
         ``<Application name>``.
     source_note : str
@@ -1684,25 +1770,152 @@ def write_landxml(
         for v in profile_pvis:
             _write_pvi(palign, v)
 
-    if points:
-        seen: set[str] = set()
-        cg = _ET.SubElement(root, "CgPoints")
-        for p in points:
-            if p.name in seen:
-                raise JobFileError(f"point {p.name!r}: written twice; CgPoint names must be unique")
-            seen.add(p.name)
-            attrs = {"name": _text(p.name, "point name")}
-            if p.code:
-                attrs["code"] = _text(p.code, f"point {p.name!r} code")
-            if p.desc:
-                attrs["desc"] = _text(p.desc, f"point {p.name!r} desc")
-            pt = _ET.SubElement(cg, "CgPoint", attrs)
-            coords = [p.northing, p.easting] + ([] if p.elevation is None else [p.elevation])
-            pt.text = " ".join(_num(c) for c in coords)
-
     _ET.indent(root, space="  ")
     body = _ET.tostring(root, encoding="unicode")
-    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body + "\n").encode("utf-8")
+    assert body.endswith("</LandXML>")
+    # the points as text: a build may stake a million of them, too many for a tree
+    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else ""
+    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")] + cg + "</LandXML>\n").encode(
+        "utf-8"
+    )
+
+
+_POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
+_NEEDS_ESCAPE = re.compile('[&<>"\n\r\t]')
+
+
+def _escape_attr(v: str) -> str:
+    for raw, ent in (("&", "&amp;"), ("<", "&lt;"), (">", "&gt;"), ('"', "&quot;"), ("\n", "&#10;"),
+                     ("\r", "&#13;"), ("\t", "&#9;")):
+        v = v.replace(raw, ent)
+    return v
+
+
+def _ascii_field(strings: Sequence[str], what: str) -> tuple[NDArray[np.uint8], NDArray[np.int64]]:
+    """Strings as an ``(N, width)`` matrix of UTF-8 bytes, escaped for an attribute,
+    NUL-padded on the right; and the byte length of each."""
+    joined = "".join(strings)
+    if _BAD_XML_CHAR.search(joined):
+        culprit = next(v for v in strings if _BAD_XML_CHAR.search(v))
+        raise JobFileError(f"{what} = {culprit!r}: holds a character XML cannot carry")
+    if _NEEDS_ESCAPE.search(joined):
+        strings = [_escape_attr(v) for v in strings]  # rare: most names are plain
+        joined = "".join(strings)
+    n = len(strings)
+    if joined.isascii():
+        flat = np.frombuffer(joined.encode("ascii"), dtype=np.uint8)
+        lens = np.fromiter(map(len, strings), dtype=np.int64, count=n)
+    else:
+        pieces = [v.encode("utf-8") for v in strings]
+        flat = np.frombuffer(b"".join(pieces), dtype=np.uint8)
+        lens = np.fromiter(map(len, pieces), dtype=np.int64, count=n)
+    width = int(lens.max()) if n else 0
+    starts = np.concatenate([[0], np.cumsum(lens)[:-1]]).astype(np.int64)
+    cols = np.arange(width, dtype=np.int64)[None, :]
+    inside = cols < lens[:, None]
+    out = np.zeros((n, width), dtype=np.uint8)
+    out[inside] = flat[(starts[:, None] + cols)[inside]]
+    return out, lens
+
+
+def _const_field(text: str, n: int) -> NDArray[np.uint8]:
+    return np.tile(np.frombuffer(text.encode(), dtype=np.uint8), (n, 1))
+
+
+def _fixed_field(values: NDArray[np.float64], decimals: int, what: str) -> NDArray[np.uint8]:
+    """Numbers with fixed decimals as an ``(N, width)`` ASCII matrix, NUL-padded on the left."""
+    x = np.asarray(values, dtype=float)
+    if not np.isfinite(x).all() or (np.abs(x) >= 1e12).any():
+        raise JobFileError(f"{what}: coordinates must be finite and below 1e12")
+    scaled = _scaled_exact(np.abs(x), decimals)
+    neg = (x < 0) & (scaled > 0)
+    width = max(decimals + 1, len(str(int(scaled.max()))) if scaled.size else 1)
+    digits = np.empty((x.size, width), dtype=np.uint8)
+    rest = scaled.copy()
+    for j in range(width - 1, -1, -1):  # one vectorised step per digit position
+        digits[:, j] = 48 + rest % 10
+        rest //= 10
+    shown = np.maximum(np.searchsorted(10 ** np.arange(19, dtype=np.int64), scaled, side="right"), decimals + 1)
+    digits *= np.arange(width)[None, :] >= (width - shown)[:, None]  # drop leading zeros
+    cut = width - decimals
+    sign = np.where(neg, 45, 0).astype(np.uint8)[:, None]
+    point = np.full((x.size, 1), 46, dtype=np.uint8)
+    return np.hstack([sign, digits[:, :cut], point, digits[:, cut:]])
+
+
+def _split27(v: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Veltkamp split: v = hi + lo, each with at most 26 significant bits."""
+    t = 134217729.0 * v  # 2**27 + 1
+    hi = t - (t - v)
+    return hi, v - hi
+
+
+def _scaled_exact(a: NDArray[np.float64], decimals: int) -> NDArray[np.int64]:
+    """round(a * 10**decimals) as the exact decimal value of each float rounds (half to even),
+    like Python's ``f"{a:.{decimals}f}"``, for 0 <= a < 1e12.
+
+    The integer part is split off exactly; the fraction times 10**decimals is an
+    error-free product (Dekker: rounded product plus its exact error), and the
+    error decides the ties that the rounded product alone would get wrong.
+    """
+    whole = np.floor(a)
+    frac = a - whole  # exact
+    scale = 10.0**decimals
+    prod = frac * scale
+    fh, fl = _split27(frac)
+    sh, sl = _split27(np.array(scale))
+    err = ((fh * sh - prod) + fh * sl + fl * sh) + fl * sl  # frac * scale == prod + err exactly
+    low = np.floor(prod)
+    tie = prod - low == 0.5
+    rounded = np.where(tie & (err > 0), low + 1.0, np.where(tie & (err < 0), low, np.rint(prod)))
+    return whole.astype(np.int64) * 10**decimals + rounded.astype(np.int64)
+
+
+def _optional_attr(name: str, values: Sequence[str] | None, n: int, what: str) -> list[NDArray[np.uint8]]:
+    """`` name="value"`` where a value is given, nothing where it is empty."""
+    if values is None:
+        return []
+    field, lens = _ascii_field(values, what)
+    present = (lens > 0)[:, None]
+    return [_const_field(f' {name}="', n) * present, field, _const_field('"', n) * present]
+
+
+def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
+    """``<CgPoints>`` with one ``<CgPoint>`` a line, laid out as byte matrices by numpy."""
+    if not isinstance(points, XPoints):
+        points = XPoints(
+            [p.name for p in points],
+            np.array([p.northing for p in points], dtype=float),
+            np.array([p.easting for p in points], dtype=float),
+            np.array([np.nan if p.elevation is None else p.elevation for p in points], dtype=float),
+            [p.code for p in points],
+            [p.desc for p in points],
+        )
+    n = len(points.names)
+    if not (len(points.northing) == len(points.easting) == n):
+        raise JobFileError(f"points: {n} names but {len(points.northing)} northings and {len(points.easting)} eastings")
+    if len(set(points.names)) != n:
+        seen: set[str] = set()
+        dup = next(v for v in points.names if v in seen or seen.add(v))  # type: ignore[func-returns-value]
+        raise JobFileError(f"point {dup!r}: written twice; CgPoint names must be unique")
+    elev = np.full(n, np.nan) if points.elevation is None else np.asarray(points.elevation, dtype=float)
+    has_z = ~np.isnan(elev)[:, None]
+    fields = [
+        _const_field('    <CgPoint name="', n),
+        _ascii_field(points.names, "point name")[0],
+        _const_field('"', n),
+        *_optional_attr("code", points.codes, n, "point code"),
+        *_optional_attr("desc", points.descs, n, "point desc"),
+        _const_field(">", n),
+        _fixed_field(points.northing, _POINT_DECIMALS, "points"),
+        _const_field(" ", n),
+        _fixed_field(points.easting, _POINT_DECIMALS, "points"),
+        _const_field(" ", n) * has_z,
+        _fixed_field(np.where(has_z[:, 0], elev, 0.0), _POINT_DECIMALS, "points") * has_z,
+        _const_field("</CgPoint>\n", n),
+    ]
+    rows = np.hstack(fields).ravel()
+    return "  <CgPoints>\n" + rows[rows != 0].tobytes().decode("utf-8") + "  </CgPoints>\n"
 
 
 def _renumber(el: XElement, index: int) -> XElement:

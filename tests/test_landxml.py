@@ -25,6 +25,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -512,7 +513,7 @@ def test_oversized_and_non_regular_files_are_refused_unread(tmp_path):
     big = tmp_path / "big.xml"
     with open(big, "wb") as fh:  # sparse: no disk is used
         fh.truncate(lx.MAX_FILE_BYTES + 1)
-    with pytest.raises(JobFileError, match=r"over the limit of 67108864 bytes"):
+    with pytest.raises(JobFileError, match=rf"over the limit of {lx.MAX_FILE_BYTES} bytes"):
         lx.read_landxml(big)
     with pytest.raises(JobFileError, match="not a regular file"):
         lx.read_landxml(tmp_path)
@@ -667,10 +668,11 @@ def test_written_attributes_agree_with_the_design():
             # common practice: theta = L (1/Rs + 1/Re) / 2 for a clothoid
             assert float(e.get("theta")) == pytest.approx(math.degrees(s.length * (k0 + k1) / 2), abs=1e-7)
     pts = doc.findall(".//l:CgPoint", ns)
+    # CgPoints with 6 decimals, as Python's own formatting gives them
     assert [(p.get("name"), p.get("code"), p.text) for p in pts] == [
-        ("1001", "CL", "5123460.0 481240.0 100.25"),
-        ("1002", "RT 5.0", "5123470.5 481250.5"),
-        ("1003", None, "5123480.0 481260.0 100.5"),
+        ("1001", "CL", "5123460.000000 481240.000000 100.250000"),
+        ("1002", "RT 5.0", "5123470.500000 481250.500000"),
+        ("1003", None, "5123480.000000 481260.000000 100.500000"),
     ]
     circ = doc.find(".//l:CircCurve", ns)
     assert (circ.text, circ.get("radius")) == ("450.0 101.0", "3000.0")
@@ -694,6 +696,58 @@ def test_writer_is_byte_identical_and_takes_its_date_from_the_caller():
         assert run.returncode == 0, run.stderr.decode()
         outs.add(run.stdout)
     assert outs == {first}
+
+
+def test_point_names_and_codes_with_markup_characters_round_trip(schema):
+    from lxml import etree
+
+    odd = (
+        lx.XPoint('A&B <"1">', 1.0, 2.0, 3.0, "CL & 'RT'\t5", "line\nbreak"),
+        lx.XPoint("é-ü 2", -1.5, 2e-6, None, ">"),
+    )
+    xml = write_road(points=odd)
+    assert schema.validate(etree.fromstring(xml)), schema.error_log  # schema (lxml)
+    assert [(p.get("name"), p.get("code")) for p in etree.fromstring(xml).iter(f"{{{lx.LANDXML_NS}}}CgPoint")] == [
+        ('A&B <"1">', "CL & 'RT'\t5"),
+        ("é-ü 2", ">"),
+    ]  # lxml reads back the same text
+    assert lx.parse_landxml(xml).points == odd
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(
+        st.tuples(
+            st.floats(-1e9, 1e9, allow_nan=False),
+            st.floats(-1e9, 1e9, allow_nan=False),
+            st.one_of(st.none(), st.floats(-1e4, 1e4, allow_nan=False)),
+            st.text(st.characters(blacklist_categories=["Cs", "Cc", "Cn", "Co"]) | st.sampled_from("&<>\"\t\n\r"), max_size=6),
+        ),
+        min_size=1,
+        max_size=30,
+    )
+)
+def test_point_columns_are_formatted_like_python(rows):
+    # the numpy layout of CgPoints against Python's "%.6f" formatting, row by row
+    pts = lx.XPoints(
+        [str(i) for i in range(len(rows))],
+        np.array([r[0] for r in rows]),
+        np.array([r[1] for r in rows]),
+        np.array([np.nan if r[2] is None else r[2] for r in rows]),
+        [r[3] for r in rows],
+    )
+    xml = write_road(points=pts)
+    got = lx.parse_landxml(xml).points
+    for (n, e, z, code), p in zip(rows, got, strict=True):
+        # Python's formatting, read back as the reader does (float of the text)
+        assert (p.northing, p.easting) == (float(f"{n:.6f}"), float(f"{e:.6f}"))
+        assert p.elevation == (None if z is None else float(f"{z:.6f}"))
+        assert p.code == code
+    text = xml.decode()
+    for i, (n, e, z, _) in enumerate(rows):
+        tail = "" if z is None else f" {z:.6f}".replace(" -0.000000", " 0.000000")
+        coords = f"{n:.6f} {e:.6f}".replace("-0.000000", "0.000000") + tail
+        assert f'name="{i}"' in text and f">{coords}</CgPoint>" in text
 
 
 def test_writer_refuses_what_it_cannot_write_faithfully():
