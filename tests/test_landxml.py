@@ -462,6 +462,19 @@ def test_zero_length_line_between_elements_is_accepted():
     assert measured[1].length == 0.0 and measured[1].az_start == measured[0].az_end
 
 
+def test_decreasing_stationing_after_an_equation():
+    src = text_of("road_metric.xml").replace('staIncrement="increasing"', 'staIncrement="decreasing"')
+    d = lx.parse_landxml(src.encode())
+    a = lx.pick_alignment(d, None)
+    assert a.equations == (lx.XEquation(450.0, 1000.0, None, -1),)
+    # schema: staIncrement "decreasing": stations fall ahead of the equation
+    assert lx.station_at(a, 500.0) == pytest.approx(950.0)
+    assert "ahead 1000, decreasing" in lx.describe(d)
+    xml = write_road(equations=a.equations)
+    assert lx.pick_alignment(lx.parse_landxml(xml), None).equations == (lx.XEquation(450.0, 1000.0, 450.0, -1),)
+    assert b'staIncrement="decreasing"' in xml
+
+
 def test_equations_that_contradict_the_stationing():
     a = lx.pick_alignment(read("ramp_usft.xml"), None)
     bad = dataclasses.replace(a, equations=(lx.XEquation(1400.0, 1350.0, 1410.0),))
