@@ -167,6 +167,17 @@ def check(
         raise typer.Exit(1)
 
 
+@app.command()
+def inspect(
+    design_file: str = typer.Argument(..., help="A LandXML 1.2 design file."),
+    debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
+) -> None:
+    """Show what a LandXML design file holds: units, alignments, profiles, points."""
+    from .pipeline import run_inspect
+
+    typer.echo(_guard(debug, lambda: run_inspect(design_file)), nl=False)
+
+
 def main() -> None:
     """Console-script entry point."""
     app(prog_name="stakeout")

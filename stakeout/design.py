@@ -77,8 +77,10 @@ def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:
     """The job's profile, its PVI stations read in the alignment's stationing."""
     if job.profile is None:
         return None
-    pvis = [PVISpec(stationing.to_internal(p.station), p.elevation, p.curve_length_back, p.curve_length_ahead,
-                    where=p.where, symmetric=p.symmetric) for p in job.profile.pvis]
+    internal = job.profile.internal
+    pvis = [PVISpec(p.station.value if internal else stationing.to_internal(p.station), p.elevation,
+                    p.curve_length_back, p.curve_length_ahead, radius=p.radius, where=p.where,
+                    symmetric=p.symmetric) for p in job.profile.pvis]
     return build_profile(pvis, job.profile.name)
 
 

@@ -14,7 +14,7 @@ from .stations import StationRef
 from .units import Unit
 
 __all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "Setup", "Scale", "CheckSpec",
-           "ProfilePVI", "ProfileInput"]
+           "ProfilePVI", "ProfileInput", "DesignFile"]
 
 
 @dataclass(frozen=True)
@@ -115,14 +115,33 @@ class ProfilePVI:
     curve_length_ahead: float = 0.0
     where: str = ""
     symmetric: bool = False  # given as one `curve_length`
+    radius: float | None = None  # a circular vertical curve (from a design file)
 
 
 @dataclass(frozen=True)
 class ProfileInput:
-    """``[profile]``: the vertical alignment as the job file gives it."""
+    """``[profile]``: the vertical alignment as the job file gives it.
+
+    ``internal``: the PVI stations are internal stations (a design file's),
+    not stations read in the job's stationing.
+    """
 
     name: str
     pvis: tuple[ProfilePVI, ...]
+    internal: bool = False
+
+
+@dataclass(frozen=True)
+class DesignFile:
+    """A design file the job takes geometry from: role, path as given, SHA-256,
+    what in it a staking job does not use, and the name chosen in it.
+    """
+
+    role: str
+    path: str
+    sha256: str
+    not_used: tuple[str, ...] = ()
+    chosen: str = ""
 
 
 @dataclass(frozen=True)
@@ -140,3 +159,4 @@ class Job:
     profile: ProfileInput | None = None
     #: Station equations in order: (back station, ahead station, key for errors).
     equations: tuple[tuple[float, float, str], ...] = ()
+    design_files: tuple[DesignFile, ...] = ()

@@ -1230,7 +1230,8 @@ def _radius_text(curvature: float, radius: float) -> str:
     return f"{_fmt(radius)} {'right (cw)' if curvature > 0 else 'left (ccw)'}"
 
 
-def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[XMeasured, ...]:
+def validate_geometry(alignment: XAlignment, tolerance: float = 0.001, *,
+                      joins: bool = True) -> tuple[XMeasured, ...]:
     """Check an alignment's geometry and measure its elements from their points.
 
     Parameters
@@ -1239,6 +1240,10 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
     tolerance : float
         Position tolerance in file units (see the module docstring for every
         tolerance derived from it; directions are held to 1 arc-second).
+    joins : bool
+        Check directions and curvatures at the joins (a design file); the
+        export of a staked design passes False, as its angle points and
+        curvature jumps are part of the design.
 
     Returns
     -------
@@ -1412,11 +1417,11 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001) -> tuple[
         checks += [
             (~(gap <= tol), lambda i: f"starts {_fmt(gap[i])} from the end of the element before"),
             (
-                ~(kink <= _ARCSEC),
+                ~(kink <= _ARCSEC) & joins,
                 lambda i: f"starts {_fmt(kink[i] * 3600.0)} arc-seconds off the direction of the element before",
             ),
             (
-                spiral_joint & ~curv_ok,
+                spiral_joint & ~curv_ok & joins,
                 lambda i: (
                     f"starts with radius {_radius_text(k_here[i], rad_start[i])} where the element before ends "
                     f"with radius {_radius_text(k_before[i], r_before[i])}"
@@ -1700,7 +1705,8 @@ def write_landxml(
         _renumber(el, i) for i, el in enumerate(elements, start=1)
     )
     al = XAlignment(alignment_name, float(sta_start), numbered, tuple(equations))
-    measured = validate_geometry(al, tolerance)
+    # the staked design may have angle points and curvature jumps (PT TS): export them as they are
+    measured = validate_geometry(al, tolerance, joins=False)
     total = sum(m.length for m in measured)
 
     stamp = created or _dt.datetime(1970, 1, 1)
@@ -1793,7 +1799,8 @@ def _escape_attr(v: str) -> str:
 
 def _ascii_field(strings: Sequence[str], what: str) -> tuple[NDArray[np.uint8], NDArray[np.int64]]:
     """Strings as an ``(N, width)`` matrix of UTF-8 bytes, escaped for an attribute,
-    NUL-padded on the right; and the byte length of each."""
+    NUL-padded on the right; and the byte length of each.
+    """
     joined = "".join(strings)
     if _BAD_XML_CHAR.search(joined):
         culprit = next(v for v in strings if _BAD_XML_CHAR.search(v))

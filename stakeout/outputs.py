@@ -46,6 +46,8 @@ class Output:
     needs_setup: bool = False
     needs_profile: bool = False
     extra: str | None = None
+    applies: Callable[["Design"], bool] | None = None  # None: whenever the above allow
+    absent: str = ""  # why it was not written where ``applies`` says no
 
 
 def _points(d: "Design", done: Rendered) -> bytes:
@@ -64,6 +66,18 @@ def _curves(d: "Design", done: Rendered) -> bytes:
     from .writers.tables import curves_csv
 
     return curves_csv(d)
+
+
+def _spirals(d: "Design", done: Rendered) -> bytes:
+    from .writers.tables import spirals_csv
+
+    return spirals_csv(d)
+
+
+def _has_spirals(d: "Design") -> bool:
+    from .alignment import Spiral
+
+    return any(isinstance(el, Spiral) for el in d.alignment.elements)
 
 
 def _elements(d: "Design", done: Rendered) -> bytes:
@@ -96,6 +110,12 @@ def _deflections(d: "Design", done: Rendered) -> bytes:
     return deflection_sheet(d).encode("utf-8")
 
 
+def _landxml(d: "Design", done: Rendered) -> bytes:
+    from .writers.exchange import alignment_xml
+
+    return alignment_xml(d)
+
+
 def _dxf(d: "Design", done: Rendered) -> bytes:
     if "plan.dxf" not in done:
         from .writers.dxf import plan_dxf
@@ -116,10 +136,13 @@ OUTPUTS: tuple[Output, ...] = (
     Output("stations", "stations.csv", "every stake with its station, offset and feature", _stations),
     Output("curves", "curves.csv", "one row per arc", _curves),
     Output("elements", "elements.csv", "one row per element: lines, arcs and spirals", _elements),
+    Output("spirals", "spirals.csv", "one row per spiral with its figures", _spirals, applies=_has_spirals,
+           absent="the alignment has no spirals"),
     Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),
+    Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)", _landxml),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
     Output("preview", "plan.png", "a picture of the plan", _preview, extra="preview"),
     Output("manifest", "manifest.json", "hashes of the job file and of every output", lambda d, done: b""),

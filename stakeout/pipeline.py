@@ -14,7 +14,7 @@ from .jobfile import load_job
 from .outputs import OUTPUTS, PREVIEW_MAX_POINTS, Rendered, parse_only
 from .progress import Progress
 
-__all__ = ["run_build", "run_curve_report", "run_check", "compute"]
+__all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute"]
 
 
 def compute(job_path: str | Path) -> Design:
@@ -65,6 +65,10 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         outputs = [o for o in OUTPUTS if o.name in chosen]
     folder = OutputFolder(out, force, protect=(job_path,))
     d = build_design(job)
+    for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
+        if chosen is not None:
+            raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
+        outputs.remove(o)
     preview = [o for o in outputs if o.name == "preview"]
     if chosen is None and preview and len(d.stakes) > PREVIEW_MAX_POINTS:
         outputs.remove(preview[0])
@@ -86,6 +90,9 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
     notes.extend(f"warning: {w}" for w in d.warnings)
+    for f in job.design_files:
+        for item in f.not_used:
+            notes.append(f"{f.role} file {Path(f.path).name}: not used by a staking job: {item}")
     return notes
 
 
@@ -141,3 +148,10 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     counts = result.counts()
     notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}"]
     return result.all_ok, notes
+
+
+def run_inspect(path: str | Path) -> str:
+    """``stakeout inspect``: what a LandXML design file holds, to choose ``name`` keys."""
+    from .landxml import describe, read_landxml
+
+    return describe(read_landxml(path))

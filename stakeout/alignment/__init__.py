@@ -13,12 +13,12 @@ from .curves import (
     degree_of_curve_arc,
     two_centered_tangents,
 )
-from .elements import Arc, Element, Line
-from .specs import AlignmentSpec, ArcSpec, ChainSpec, LineSpec, PIListSpec, PISpec, SinglePISpec
+from .elements import Arc, Element, Line, Spiral
+from .specs import AlignmentSpec, ArcSpec, ChainSpec, LineSpec, PIListSpec, PISpec, SinglePISpec, SpiralSpec
 
 __all__ = [
     "Alignment", "AlignmentSpec", "Arc", "ArcProperties", "ArcSpec", "ChainSpec", "CLOSURE_TOLERANCE",
     "CompoundTangents", "Curve", "Element", "FEATURE_ORDER", "KeyPoint", "Line", "LineSpec", "Location",
-    "PIListSpec", "PISpec", "Position", "SinglePISpec", "STATION_TOLERANCE", "arc_properties",
+    "PIListSpec", "PISpec", "Position", "SinglePISpec", "Spiral", "SpiralSpec", "STATION_TOLERANCE", "arc_properties",
     "build_alignment", "chained_tangents", "compound_tangents", "degree_of_curve_arc", "two_centered_tangents",
 ]

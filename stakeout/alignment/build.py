@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -17,8 +18,8 @@ from ..angles import angle_difference, azimuth_between, sincosd
 from ..errors import GeometryError
 from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, KeyPoint
 from .curves import CompoundTangents, compound_tangents
-from .elements import Arc, Element, Line, end_features, join_features, start_features
-from .specs import AlignmentSpec, ArcSpec, ChainSpec, LineSpec, PIListSpec, SinglePISpec
+from .elements import Arc, Element, Line, Spiral, end_features, join_features, join_problem, start_features
+from .specs import AlignmentSpec, ArcSpec, ChainSpec, FixedSpec, LineSpec, PIListSpec, SinglePISpec, SpiralSpec
 
 __all__ = ["build_alignment", "CLOSURE_TOLERANCE"]
 
@@ -50,10 +51,17 @@ def build_alignment(spec: AlignmentSpec) -> Alignment:
         return _build_pi_list(spec)
     if isinstance(spec, SinglePISpec):
         return _build_single(spec)
+    if isinstance(spec, FixedSpec):
+        return _build_fixed(spec)
     raise TypeError(f"not an alignment spec: {spec!r}")
 
 
 # ---- walking ------------------------------------------------------------------------
+def _spiral(length: float, k_start: float, k_end: float) -> _Step:
+    """A spiral step leaving along the current direction."""
+    return lambda st, n, e, az: Spiral.follow(st, n, e, az, length, k_start, k_end)
+
+
 def _walk(station: float, n: float, e: float, az: float, steps: list[_Step]) -> list[Element]:
     out: list[Element] = []
     for step in steps:
@@ -64,7 +72,7 @@ def _walk(station: float, n: float, e: float, az: float, steps: list[_Step]) -> 
     return out
 
 
-def _finish(name: str, elements: list[Element]) -> Alignment:
+def _finish(name: str, elements: list[Element], where: list[str] | None = None) -> Alignment:
     feats: dict[int, list[str]] = {}
     points: dict[int, tuple[float, float, float]] = {}
 
@@ -77,6 +85,9 @@ def _finish(name: str, elements: list[Element]) -> Alignment:
     add(0, ("POB",) + start_features(first), first.start, first.start_northing, first.start_easting)
     for i in range(1, len(elements)):
         prev, cur = elements[i - 1], elements[i]
+        problem = join_problem(prev, cur)
+        if problem is not None:
+            raise GeometryError(f"{where[i] if where else f'element {i + 1}'}: {problem}")
         deflects = abs(float(angle_difference(prev.end_azimuth, cur.start_azimuth))) > _ANGLE_EPS
         add(i, join_features(prev, cur, deflects), cur.start, cur.start_northing, cur.start_easting)
     end = len(elements)
@@ -117,10 +128,28 @@ def _curves(elements: list[Element]) -> tuple[Curve, ...]:
 
 
 def _run_tangents(run: list[Element]) -> CompoundTangents:
-    """Tangents from the PI of a run of arcs (the published relations)."""
-    assert all(isinstance(a, Arc) for a in run)
-    return compound_tangents(tuple(a.radius for a in run if isinstance(a, Arc)),
-                             tuple(a.central_angle for a in run))
+    """Tangents from the PI of a curve: the published relations for a run of
+    arcs; for a curve with spirals, the intersection of its end tangents.
+    """
+    if all(isinstance(a, Arc) for a in run):
+        return compound_tangents(tuple(a.radius for a in run if isinstance(a, Arc)),
+                                 tuple(a.central_angle for a in run))
+    first, last = run[0], run[-1]
+    return _intersect_tangents(first.start_northing, first.start_easting, first.start_azimuth,
+                               last.end_northing, last.end_easting, last.end_azimuth)
+
+
+def _intersect_tangents(n0: float, e0: float, az0: float, n1: float, e1: float, az1: float) -> CompoundTangents:
+    """Back and ahead tangent lengths from the PI where the line through (n0, e0)
+    along ``az0`` meets the line through (n1, e1) along ``az1``.
+    """
+    s0, c0 = (float(v) for v in sincosd(az0))
+    s1, c1 = (float(v) for v in sincosd(az1))
+    dn, de = n1 - n0, e1 - e0
+    det = s1 * c0 - c1 * s0  # sin(az1 - az0)
+    t_back = (dn * s1 - de * c1) / det if det else math.inf
+    t_ahead = (de * c0 - dn * s0) / det if det else math.inf
+    return CompoundTangents(t_back, t_ahead)
 
 
 def _check_closure(where: str, elements: list[Element], first: int, count: int,
@@ -134,21 +163,42 @@ def _check_closure(where: str, elements: list[Element], first: int, count: int,
 
 
 # ---- Form A ---------------------------------------------------------------------------
+def _step_of(el: LineSpec | ArcSpec | SpiralSpec) -> _Step:
+    """The walking step of one element of a chain."""
+    if isinstance(el, LineSpec):
+        return _line(el.length)
+    if isinstance(el, SpiralSpec):
+        if el.radius_start is None and el.radius_end is None:
+            raise GeometryError(f"{el.where}: a spiral needs radius_start or radius_end (both infinite is a line)")
+        k0 = 0.0 if el.radius_start is None else el.turn / el.radius_start
+        k1 = 0.0 if el.radius_end is None else el.turn / el.radius_end
+        return _spiral(el.length, k0, k1)
+    length = el.length if el.length is not None else el.radius * math.radians(el.delta or 0.0)
+    if length >= 2.0 * math.pi * el.radius:
+        raise GeometryError(f"{el.where}: an arc must turn less than 360 degrees")
+    return _arc(length, el.radius, el.turn)
+
+
 def _build_chain(spec: ChainSpec) -> Alignment:
-    steps = []
-    for el in spec.elements:
-        if isinstance(el, LineSpec):
-            steps.append(_line(el.length))
-        else:
-            assert isinstance(el, ArcSpec)
-            length = el.length if el.length is not None else el.radius * math.radians(el.delta or 0.0)
-            if length >= 2.0 * math.pi * el.radius:
-                raise GeometryError(f"{el.where}: an arc must turn less than 360 degrees")
-            steps.append(_arc(length, el.radius, el.turn))
+    steps = [_step_of(el) for el in spec.elements]
     if not steps:
         raise GeometryError("alignment.element: at least one element is needed")
     elements = _walk(spec.start_station, spec.start_northing, spec.start_easting, spec.azimuth, steps)
-    return _finish(spec.name, elements)
+    return _finish(spec.name, elements, [el.where for el in spec.elements])
+
+
+# ---- anchored elements (a design file) ------------------------------------------------
+def _build_fixed(spec: FixedSpec) -> Alignment:
+    """Each element from its own start point and direction, at its internal station."""
+    if not spec.elements:
+        raise GeometryError("alignment: the design file's alignment has no elements")
+    elements: list[Element] = []
+    station = spec.start_station
+    for a in spec.elements:  # one step per element
+        el = _step_of(a.element)(float(station), a.northing, a.easting, a.azimuth)
+        elements.append(el)
+        station += el.length
+    return _finish(spec.name, elements, [a.element.where for a in spec.elements])
 
 
 # ---- curves at a PI (Forms B and C) ---------------------------------------------------
@@ -164,14 +214,49 @@ def _resolve_deltas(where: str, intersection: float, radii: tuple[float, ...],
     return tuple(rest if d is None else d for d in deltas)
 
 
+@dataclass(frozen=True)
+class _PICurve:
+    """A curve fitted at a PI: its turn, the elements to walk, its tangents from the PI."""
+
+    turn: int
+    steps: list[_Step]
+    tangents: CompoundTangents
+
+
 def _curve_at_pi(where: str, az_in: float, az_out: float, radii: tuple[float, ...],
-                 deltas: tuple[float | None, ...]) -> tuple[int, tuple[float, ...], CompoundTangents]:
+                 deltas: tuple[float | None, ...], spirals: tuple[float, ...] = ()) -> _PICurve:
     signed = float(angle_difference(az_in, az_out))
     if abs(signed) < _ANGLE_EPS:
         raise GeometryError(f"{where}: the tangents do not deflect here (I = 0), so no curve fits")
     turn = 1 if signed > 0 else -1
-    ds = _resolve_deltas(where, abs(signed), radii, deltas)
-    return turn, ds, compound_tangents(radii, ds)
+    intersection = abs(signed)
+    if not any(spirals):
+        ds = _resolve_deltas(where, intersection, radii, deltas)
+        return _PICurve(turn, _arc_steps(radii, ds, turn), compound_tangents(radii, ds))
+    # with spirals: the rest takes what the other arcs and every spiral's angle leave
+    ks = [0.0, *(1.0 / r for r in radii), 0.0]
+    theta = sum(ls * (ks[i] + ks[i + 1]) / 2.0 for i, ls in enumerate(spirals))
+    given = sum(d for d in deltas if d is not None)
+    rest = intersection - given - math.degrees(theta)
+    if rest < -_ANGLE_EPS:
+        raise GeometryError(
+            f"{where}.spirals: the spirals turn {math.degrees(theta):.6f} deg and the given deltas "
+            f"{given:.6f} deg, more than the intersection angle I = {intersection:.6f} deg "
+            f"(the rest would be {rest:.6f} deg); shorten the spirals"
+        )
+    ds = tuple(max(rest, 0.0) if d is None else d for d in deltas)
+    steps: list[_Step] = []
+    for i, r in enumerate(radii):
+        if spirals[i] > 0.0:
+            steps.append(_spiral(spirals[i], turn * ks[i], turn * ks[i + 1]))
+        if ds[i] > 0.0:
+            steps.append(_arc(r * math.radians(ds[i]), r, turn))
+    if spirals[-1] > 0.0:
+        steps.append(_spiral(spirals[-1], turn * ks[-2], 0.0))
+    walked = _walk(0.0, 0.0, 0.0, 0.0, steps)
+    end = walked[-1]
+    return _PICurve(turn, steps, _intersect_tangents(0.0, 0.0, 0.0, end.end_northing, end.end_easting,
+                                                     end.end_azimuth))
 
 
 def _arc_steps(radii: tuple[float, ...], deltas: tuple[float, ...], turn: int) -> list[_Step]:
@@ -195,16 +280,16 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
     seg_az = np.asarray(azimuth_between(n[:-1], e[:-1], n[1:], e[1:]))
     back = np.zeros(len(pis))
     ahead = np.zeros(len(pis))
-    curves: dict[int, tuple[int, tuple[float, ...], CompoundTangents]] = {}
+    curves: dict[int, _PICurve] = {}
     for i in range(1, len(pis) - 1):
         p = pis[i]
         signed = float(angle_difference(seg_az[i - 1], seg_az[i]))
         if abs(abs(signed) - 180.0) < _ANGLE_EPS:
             raise GeometryError(f"{p.where}: the alignment reverses here (deflection 180 deg)")
         if p.radii:
-            turn, ds, tans = _curve_at_pi(p.where, float(seg_az[i - 1]), float(seg_az[i]), p.radii, p.deltas)
-            curves[i] = (turn, ds, tans)
-            back[i], ahead[i] = tans.back, tans.ahead
+            pc = _curve_at_pi(p.where, float(seg_az[i - 1]), float(seg_az[i]), p.radii, p.deltas, p.spirals)
+            curves[i] = pc
+            back[i], ahead[i] = pc.tangents.back, pc.tangents.ahead
     steps: list[_Step] = []
     first_arc: dict[int, int] = {}
     for j in range(len(pis) - 1):
@@ -212,22 +297,24 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
         free = float(seg_len[j]) - need
         if free < -CLOSURE_TOLERANCE:
             a, b = pis[j].where, pis[j + 1].where
-            raise GeometryError(
-                f"curves at {a} and {b} overlap: their tangents ({ahead[j]:.4f} + {back[j + 1]:.4f}) "
-                f"exceed the {seg_len[j]:.4f} between the points"
-            )
+            with_curves = [w for w, t in ((a, ahead[j]), (b, back[j + 1])) if t > 0.0]
+            if len(with_curves) == 2:
+                what = f"curves at {a} and {b} overlap: their tangents ({ahead[j]:.4f} + {back[j + 1]:.4f})"
+            else:
+                what = (f"the curve at {with_curves[0]} does not fit between {a} and {b}: its tangent "
+                        f"{max(ahead[j], back[j + 1]):.4f}")
+            raise GeometryError(f"{what} exceed the {seg_len[j]:.4f} between the points")
         if free > CLOSURE_TOLERANCE:
             steps.append(_line(float(free), float(seg_az[j])))
         if j + 1 in curves:
-            turn, ds, _ = curves[j + 1]
             first_arc[j + 1] = len(steps)
-            steps.extend(_arc_steps(pis[j + 1].radii, ds, turn))
+            steps.extend(curves[j + 1].steps)
     if not steps:
         raise GeometryError("alignment.pi: the alignment has no length")
     elements = _walk(spec.start_station, float(n[0]), float(e[0]), float(seg_az[0]), steps)
-    for i, (_turn, ds, tans) in curves.items():
-        _check_closure(pis[i].where, elements, first_arc[i], len(ds), float(n[i]), float(e[i]),
-                       float(seg_az[i]), tans.ahead)
+    for i, pc in curves.items():
+        _check_closure(pis[i].where, elements, first_arc[i], len(pc.steps), float(n[i]), float(e[i]),
+                       float(seg_az[i]), pc.tangents.ahead)
     last = elements[-1]
     miss = math.hypot(last.end_northing - n[-1], last.end_easting - e[-1])
     if miss > CLOSURE_TOLERANCE:
@@ -240,7 +327,8 @@ def _build_single(spec: SinglePISpec) -> Alignment:
     signed = float(angle_difference(spec.back_azimuth, spec.ahead_azimuth))
     if abs(abs(signed) - 180.0) < _ANGLE_EPS:
         raise GeometryError(f"{spec.where}: the tangents reverse (deflection 180 deg)")
-    turn, ds, tans = _curve_at_pi(spec.where, spec.back_azimuth, spec.ahead_azimuth, spec.radii, spec.deltas)
+    pc = _curve_at_pi(spec.where, spec.back_azimuth, spec.ahead_azimuth, spec.radii, spec.deltas, spec.spirals)
+    tans = pc.tangents
     s, c = sincosd(spec.back_azimuth)
     pc_n = spec.northing - tans.back * float(c)
     pc_e = spec.easting - tans.back * float(s)
@@ -250,11 +338,11 @@ def _build_single(spec: SinglePISpec) -> Alignment:
     if spec.lead_in > 0:
         steps.append(_line(spec.lead_in, spec.back_azimuth))
     first = len(steps)
-    steps.extend(_arc_steps(spec.radii, ds, turn))
+    steps.extend(pc.steps)
     if spec.lead_out > 0:
         steps.append(_line(spec.lead_out, spec.ahead_azimuth))
     start = spec.pi_station - tans.back - spec.lead_in
     elements = _walk(start, pob_n, pob_e, spec.back_azimuth, steps)
-    _check_closure(spec.where, elements, first, len(ds), spec.northing, spec.easting,
+    _check_closure(spec.where, elements, first, len(pc.steps), spec.northing, spec.easting,
                    spec.ahead_azimuth, tans.ahead)
     return _finish(spec.name, elements)

@@ -28,9 +28,10 @@ from typing import ClassVar
 
 from ..angles import normalize_azimuth, sincosd
 from .curves import ArcProperties, arc_properties
-from .kernels import CONSTANT_CURVATURE, Kernel
+from .kernels import CLOTHOID, CONSTANT_CURVATURE, Kernel
 
-__all__ = ["Element", "Line", "Arc", "JOIN_FEATURES", "join_features", "start_features", "end_features"]
+__all__ = ["Element", "Line", "Arc", "Spiral", "JOIN_FEATURES", "join_features", "join_problem", "start_features",
+           "end_features"]
 
 
 @dataclass(frozen=True)
@@ -166,17 +167,92 @@ class Arc(Element):
         return self.radius * (1.0 - math.cos(math.radians(5.0)))
 
 
+@dataclass(frozen=True)
+class Spiral(Element):
+    """A clothoid: signed curvature linear in length from ``k_start`` to ``k_end``
+    (1/job units, positive right; 0 where it meets a tangent).
+    """
+
+    k_start: float = 0.0
+    k_end: float = 0.0
+
+    kind: ClassVar[str] = "spiral"
+    kernel: ClassVar[Kernel] = CLOTHOID
+    curving: ClassVar[bool] = True
+
+    @classmethod
+    def follow(cls, start: float, n: float, e: float, azimuth: float, length: float, k_start: float,
+               k_end: float) -> "Spiral":
+        """The spiral of ``length`` leaving (n, e) along ``azimuth``, curvature ``k_start`` -> ``k_end``."""
+        from .clothoid import clothoid_points
+
+        n1, e1, a1 = clothoid_points(length, 0.0, n, e, azimuth, k_start, k_end, length)
+        turn = 1 if k_start + k_end > 0 else -1
+        return cls(float(start), length, n, e, float(azimuth), float(n1), float(e1), float(a1), turn,
+                   float(k_start), float(k_end))
+
+    @property
+    def curvature_start(self) -> float:
+        return self.k_start
+
+    @property
+    def curvature_end(self) -> float:
+        return self.k_end
+
+    @property
+    def central_angle(self) -> float:
+        return math.degrees(abs(self.k_start + self.k_end) * self.length / 2.0)
+
+    def bbox_samples(self) -> int:
+        return max(3, int(math.ceil(self.central_angle / 10.0)) + 1)
+
+    def bbox_pad(self) -> float:
+        k = max(abs(self.k_start), abs(self.k_end))
+        return (1.0 - math.cos(math.radians(5.0))) / k
+
+
 #: Key-point feature at the join of two kinds, (kind before, kind after) ->
 #: feature; a join of two lines is an angle point only where they deflect.
+#: Joins of curving elements depend on their curvatures (:func:`join_features`).
 JOIN_FEATURES: dict[tuple[type[Element], type[Element]], str] = {
     (Line, Line): "AP",
     (Line, Arc): "PC",
     (Arc, Line): "PT",
+    (Line, Spiral): "TS",
+    (Spiral, Line): "ST",
+    (Spiral, Arc): "SC",
+    (Arc, Spiral): "CS",
 }
 
 #: Feature an alignment's first element adds at the POB, and its last at the POE.
-START_FEATURES: dict[type[Element], tuple[str, ...]] = {Line: (), Arc: ("PC",)}
-END_FEATURES: dict[type[Element], tuple[str, ...]] = {Line: (), Arc: ("PT",)}
+START_FEATURES: dict[type[Element], tuple[str, ...]] = {Line: (), Arc: ("PC",), Spiral: ("TS",)}
+END_FEATURES: dict[type[Element], tuple[str, ...]] = {Line: (), Arc: ("PT",), Spiral: ("ST",)}
+
+#: Curvatures closer than this (1/job units, relative) are the same at a join.
+_K_TOLERANCE = 1e-9
+
+
+def _same_k(a: float, b: float) -> bool:
+    return abs(a - b) <= _K_TOLERANCE * max(1.0, abs(a), abs(b))
+
+
+def join_problem(prev: Element, cur: Element) -> str | None:
+    """Why the join of ``prev`` and ``cur`` cannot be staked, or ``None``.
+
+    A spiral must meet what it joins at the same curvature, except that a
+    spiral may start from zero curvature after an arc, or end at zero
+    before one (the curvature then jumps, as at a PT or PC).
+    """
+    if not (isinstance(prev, Spiral) or isinstance(cur, Spiral)):
+        return None
+    k0, k1 = prev.curvature_end, cur.curvature_start
+    if _same_k(k0, k1):
+        return None
+    if isinstance(prev, Arc) and k1 == 0.0 or isinstance(cur, Arc) and k0 == 0.0:
+        return None
+    r0 = "infinite" if k0 == 0.0 else f"{1.0 / abs(k0):.4f}"
+    r1 = "infinite" if k1 == 0.0 else f"{1.0 / abs(k1):.4f}"
+    return f"the curvature jumps at the join: radius {r0} ({prev.kind}) meets radius {r1} ({cur.kind})"
 
 
 def join_features(prev: Element, cur: Element, deflects: bool) -> tuple[str, ...]:
@@ -187,6 +263,13 @@ def join_features(prev: Element, cur: Element, deflects: bool) -> tuple[str, ...
     """
     if isinstance(prev, Arc) and isinstance(cur, Arc):
         return ("PCC" if prev.turn == cur.turn else "PRC",)
+    if isinstance(prev, Spiral) and isinstance(cur, Spiral):
+        # reverse spirals meet at zero curvature; a curve whose arc has no length at a common radius
+        return ("ST", "TS") if cur.k_start == 0.0 else ("SC", "CS")
+    if isinstance(prev, Arc) and isinstance(cur, Spiral) and cur.k_start == 0.0:
+        return ("PT", "TS")  # the curvature jumps from the arc to a spiral starting from a tangent
+    if isinstance(prev, Spiral) and isinstance(cur, Arc) and prev.k_end == 0.0:
+        return ("ST", "PC")
     feature = JOIN_FEATURES[(type(prev), type(cur))]
     if feature == "AP" and not deflects:
         return ()

@@ -19,7 +19,7 @@ from numpy.typing import NDArray
 
 from ..angles import sincosd
 
-__all__ = ["Kernel", "Nearest", "ConstantCurvature", "CONSTANT_CURVATURE"]
+__all__ = ["Kernel", "Nearest", "ConstantCurvature", "CONSTANT_CURVATURE", "Clothoid", "CLOTHOID"]
 
 Arrays = dict[str, NDArray[np.float64]]
 F = NDArray[np.float64]
@@ -127,3 +127,39 @@ class ConstantCurvature(Kernel):
 
 
 CONSTANT_CURVATURE = ConstantCurvature()
+
+
+class Clothoid(Kernel):
+    """Clothoids: curvature linear in length, from ``k0`` to ``k1``.
+
+    Positions by fixed-node Gauss-Legendre quadrature of the heading and the
+    inverse by a safeguarded Newton iteration on the osculating circle
+    (:mod:`.clothoid`), both on whole arrays.
+    """
+
+    def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
+        from .clothoid import clothoid_points
+
+        n, e, az = clothoid_points(ds, o, a["n0"][idx], a["e0"][idx], a["az0"][idx], a["k0"][idx], a["k1"][idx],
+                                   a["length"][idx])
+        return n, e, az
+
+    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+        from .clothoid import clothoid_points, clothoid_project
+
+        length = a["length"][sel][None, :]
+        args = (a["n0"][sel][None, :], a["e0"][sel][None, :], a["az0"][sel][None, :], a["k0"][sel][None, :],
+                a["k1"][sel][None, :], length)
+        s, _, dist = clothoid_project(n[:, None], e[:, None], *args)
+        qn, qe, _ = clothoid_points(s, 0.0, *args)
+        # a foot at either end is a clamp unless the point lies square to the spiral there
+        clamped = (s <= 0.0) | (s >= length)
+        return Nearest(s, clamped, qn, qe, np.hypot(n[:, None] - qn, e[:, None] - qe) if dist is None else dist)
+
+    def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
+        k0, k1, length = a["k0"][idx], a["k1"][idx], a["length"][idx]
+        tau = k0 * s + (k1 - k0) * s * s / (2.0 * length)
+        return sincosd(a["az0"][idx] + np.degrees(tau))
+
+
+CLOTHOID = Clothoid()

@@ -10,7 +10,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-__all__ = ["LineSpec", "ArcSpec", "ChainSpec", "PISpec", "PIListSpec", "SinglePISpec", "AlignmentSpec"]
+__all__ = ["LineSpec", "ArcSpec", "SpiralSpec", "AnchoredSpec", "FixedSpec", "ChainSpec", "PISpec", "PIListSpec",
+           "SinglePISpec", "AlignmentSpec"]
 
 
 @dataclass(frozen=True)
@@ -36,6 +37,19 @@ class ArcSpec:
 
 
 @dataclass(frozen=True)
+class SpiralSpec:
+    """A clothoid of ``length`` from ``radius_start`` to ``radius_end``
+    (``None``: infinite, meeting a tangent there); ``turn`` +1 right, -1 left.
+    """
+
+    length: float
+    turn: int
+    radius_start: float | None = None
+    radius_end: float | None = None
+    where: str = ""
+
+
+@dataclass(frozen=True)
 class ChainSpec:
     """Form A: elements chained from a start point and azimuth."""
 
@@ -44,7 +58,7 @@ class ChainSpec:
     start_northing: float
     start_easting: float
     azimuth: float
-    elements: tuple[LineSpec | ArcSpec, ...]
+    elements: tuple[LineSpec | ArcSpec | SpiralSpec, ...]
 
 
 @dataclass(frozen=True)
@@ -61,6 +75,7 @@ class PISpec:
     radii: tuple[float, ...] = ()
     deltas: tuple[float | None, ...] = ()
     where: str = ""
+    spirals: tuple[float, ...] = ()  # empty, or one more than radii: before, between, after the arcs
 
 
 @dataclass(frozen=True)
@@ -87,6 +102,28 @@ class SinglePISpec:
     lead_in: float = 0.0
     lead_out: float = 0.0
     where: str = "alignment.at_pi"
+    spirals: tuple[float, ...] = ()  # empty, or one more than radii: before, between, after the arcs
 
 
-AlignmentSpec = ChainSpec | PIListSpec | SinglePISpec
+@dataclass(frozen=True)
+class AnchoredSpec:
+    """An element given with its own start point and direction (from a design
+    file), so that each element starts exactly where the file puts it.
+    """
+
+    northing: float
+    easting: float
+    azimuth: float
+    element: LineSpec | ArcSpec | SpiralSpec
+
+
+@dataclass(frozen=True)
+class FixedSpec:
+    """An alignment whose every element is anchored (a LandXML ``CoordGeom``)."""
+
+    name: str
+    start_station: float
+    elements: tuple[AnchoredSpec, ...]
+
+
+AlignmentSpec = ChainSpec | PIListSpec | SinglePISpec | FixedSpec

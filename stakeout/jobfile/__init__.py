@@ -15,12 +15,14 @@ import tomllib
 from pathlib import Path
 
 from ..errors import JobFileError
-from ..job import Job, JobInfo
+from ..alignment.specs import AlignmentSpec
+from ..job import DesignFile, Job, JobInfo
 from ..limits import MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
 from ..textsafety import check_free_text
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment, read_equations
+from .design_file import read_alignment_file, read_profile_file
 from .profile import read_profile
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_scale, read_setup
@@ -54,7 +56,18 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     if fmt != 1 or isinstance(fmt, bool):
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
     info = _job_info(top)
-    alignment = read_alignment(top, info)
+    base = Path(path).parent
+    design_files: list[DesignFile] = []
+    raw_alignment = top.raw("alignment", required=True)
+    from_file = None
+    if isinstance(raw_alignment, dict) and "landxml" in raw_alignment:
+        at = top.table("alignment", ("landxml", "name"))
+        assert at is not None
+        from_file = read_alignment_file(at, info, base)
+        alignment: AlignmentSpec = from_file.spec
+        design_files.append(from_file.record)
+    else:
+        alignment = read_alignment(top, info)
     staking = read_staking(top, info)
     setup = read_setup(top)
     scale = read_scale(top)
@@ -67,6 +80,13 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
             "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
         )
     profile = read_profile(top, info)
+    pt = top.table("profile", ("name", "pvi", "landxml"))
+    if pt is not None and pt.has("landxml"):
+        if pt.has("pvi"):
+            raise JobFileError("profile.pvi: give the PVIs inline or `landxml = ...`, not both")
+        wanted = from_file.record.chosen if from_file is not None else alignment.name
+        profile, record = read_profile_file(pt, wanted, base)
+        design_files.append(record)
     if profile is not None and staking.elevation is not None:
         raise JobFileError(f"staking.elevation = {staking.elevation!r}: cannot be given together with [profile] "
                            "(the profile gives the elevations)")
@@ -80,7 +100,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         scale=scale,
         check=read_check(top),
         profile=profile,
-        equations=read_equations(top, info),
+        equations=from_file.equations if from_file is not None else read_equations(top, info),
+        design_files=tuple(design_files),
     )
 
 

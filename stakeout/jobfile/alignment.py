@@ -12,10 +12,12 @@ from ..alignment.specs import (
     PIListSpec,
     PISpec,
     SinglePISpec,
+    SpiralSpec,
 )
 from ..angles import parse_angle
 from ..errors import JobFileError
 from ..job import JobInfo
+from ..limits import MAX_COORDINATE
 from .reader import Table, angle, check_safe_text, direction, station
 
 __all__ = ["read_alignment", "read_equations"]
@@ -34,12 +36,12 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
     raw = top.raw("alignment", required=True)
     if not isinstance(raw, dict):
         raise JobFileError(f"alignment = {raw!r}: expected a table")
-    forms = [k for k in ("element", "pi", "at_pi") if k in raw]
+    forms = [k for k in ("element", "pi", "at_pi", "landxml") if k in raw]
     if len(forms) != 1:
         got = ", ".join(forms) if forms else "none"
         raise JobFileError(
             "alignment: give exactly one form: [[alignment.element]] (chain), "
-            f"[[alignment.pi]] (PI list) or [alignment.at_pi] (one curve); found {got}"
+            f"[[alignment.pi]] (PI list), [alignment.at_pi] (one curve) or landxml = \"file\"; found {got}"
         )
     form = forms[0]
     if form == "element":
@@ -47,9 +49,15 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
         assert t is not None
         st = t.table("start", ("station", "northing", "easting"), required=True)
         assert st is not None
-        elements: list[LineSpec | ArcSpec] = []
-        for el in t.tables("element", ("kind", "length", "radius", "delta", "turn")):
-            kind = el.text("kind", required=True, choices=("line", "arc"))
+        elements: list[LineSpec | ArcSpec | SpiralSpec] = []
+        for el in t.tables("element", ("kind", "length", "radius", "delta", "turn", "radius_start", "radius_end")):
+            kind = el.text("kind", required=True, choices=("line", "arc", "spiral"))
+            if kind == "spiral":
+                elements.append(_spiral(el))
+                continue
+            for k in ("radius_start", "radius_end"):
+                if el.has(k):
+                    raise JobFileError(f"{el.key(k)}: only a spiral takes `{k}`")
             if kind == "line":
                 for k in ("radius", "delta", "turn"):
                     if el.has(k):
@@ -88,17 +96,18 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
         t = top.table("alignment", ("name", "start_station", "pi", "station_equation"))
         assert t is not None
         pis = []
-        for p in t.tables("pi", ("northing", "easting", "radius", "radii", "deltas")):
+        for p in t.tables("pi", ("northing", "easting", "radius", "radii", "deltas", "spirals")):
             radii, deltas = _curve_def(p)
             pis.append(PISpec(float(p.number("northing", required=True) or 0.0),
-                              float(p.number("easting", required=True) or 0.0), radii, deltas, p.path))
+                              float(p.number("easting", required=True) or 0.0), radii, deltas, p.path,
+                              _spirals(p, radii)))
         if len(pis) < 2:
             raise JobFileError("alignment.pi: needs at least two entries, the POB and the POE")
         return PIListSpec(_name(t), station(t, "start_station", info.station_length, required=False, default=0.0), tuple(pis))
     t = top.table("alignment", ("name", "at_pi", "station_equation"))
     assert t is not None
     c = t.table("at_pi", ("station", "northing", "easting", "back_tangent_azimuth", "ahead_tangent_azimuth",
-                          "radius", "radii", "deltas", "lead_in", "lead_out"))
+                          "radius", "radii", "deltas", "lead_in", "lead_out", "spirals"))
     assert c is not None
     radii, deltas = _curve_def(c)
     if not radii:
@@ -114,6 +123,7 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
         deltas=deltas,
         lead_in=c.number("lead_in", nonnegative=True) or 0.0,
         lead_out=c.number("lead_out", nonnegative=True) or 0.0,
+        spirals=_spirals(c, radii),
     )
 
 
@@ -171,9 +181,47 @@ def _curve_def(t: Table) -> tuple[tuple[float, ...], tuple[float | None, ...]]:
 def read_equations(top: Table, info: JobInfo) -> tuple[tuple[float, float, str], ...]:
     """``[[alignment.station_equation]]``: (back, ahead, key) in file order."""
     t = top.table("alignment", ("name", "start", "azimuth", "element", "start_station", "pi", "at_pi",
-                                "station_equation"))
+                                "station_equation", "landxml"))
     assert t is not None
     out = []
     for eq in t.tables("station_equation", ("back", "ahead")):
         out.append((station(eq, "back", info.station_length), station(eq, "ahead", info.station_length), eq.path))
+    return tuple(out)
+
+
+def _spiral(el: Table) -> SpiralSpec:
+    """A spiral element of a chain: length, the radius at either end (omitted: infinite), turn."""
+    for k in ("radius", "delta"):
+        if el.has(k):
+            raise JobFileError(f"{el.key(k)}: a spiral takes `length`, `radius_start` and/or `radius_end`, and `turn`")
+    length = float(el.number("length", required=True, positive=True) or 0.0)
+    turn = el.text("turn", required=True, choices=("left", "right"))
+    rs = el.number("radius_start", positive=True)
+    re_ = el.number("radius_end", positive=True)
+    if rs is None and re_ is None:
+        raise JobFileError(f"{el.path}: a spiral needs `radius_start` or `radius_end` (or both); with neither "
+                           "it would be a line")
+    return SpiralSpec(length, 1 if turn == "right" else -1, rs, re_, el.path)
+
+
+def _spirals(t: Table, radii: tuple[float, ...]) -> tuple[float, ...]:
+    """``spirals = [...]`` at a PI: one more entry than ``radii`` (0 = none)."""
+    raw = t.array("spirals")
+    if raw is None:
+        return ()
+    if not radii:
+        raise JobFileError(f"{t.key('spirals')}: spirals go with a curve; give `radius` or `radii` beside them")
+    if len(raw) != len(radii) + 1:
+        raise JobFileError(
+            f"{t.key('spirals')} = {raw!r}: has {len(raw)} entries but needs {len(radii) + 1}, one more than the "
+            "radii: before the first arc, between each pair of arcs, after the last (0 = none)"
+        )
+    out = []
+    for i, v in enumerate(raw):
+        where = f"{t.key('spirals')}[{i}]"
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v < 0:
+            raise JobFileError(f"{where} = {v!r}: expected a spiral length, 0 or more (0 = no spiral)")
+        if abs(v) > MAX_COORDINATE:
+            raise JobFileError(f"{where} = {v!r}: out of range")
+        out.append(float(v))
     return tuple(out)

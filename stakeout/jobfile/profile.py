@@ -13,9 +13,11 @@ __all__ = ["read_profile"]
 
 def read_profile(top: Table, info: JobInfo) -> ProfileInput | None:
     """``[profile]`` with its ``[[profile.pvi]]`` (stations, elevations, vertical curves)."""
-    t = top.table("profile", ("name", "pvi"))
+    t = top.table("profile", ("name", "pvi", "landxml"))
     if t is None:
         return None
+    if t.has("landxml"):
+        return None  # read from the design file by the caller
     pvis = []
     for p in t.tables("pvi", ("station", "elevation", "curve_length", "curve_length_back", "curve_length_ahead"),
                       required=True):

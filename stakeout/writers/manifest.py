@@ -36,6 +36,10 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
         "version": __version__,
         "created_utc": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
         "job_file": {"path": job_path, "sha256": job_sha256},
+        "design_files": [
+            {"role": f.role, "path": f.path, "sha256": f.sha256, "chosen": f.chosen, "not_used": list(f.not_used)}
+            for f in d.job.design_files
+        ],
         "job_name": job_name,
         "units": units,
         "crs": crs,

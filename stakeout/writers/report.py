@@ -6,10 +6,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..alignment import Arc, degree_of_curve_arc
+from ..alignment import Arc, Spiral, degree_of_curve_arc
+from ..alignment.clothoid import spiral_figures
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from .text import CAUTION_LINES, curve_texts, turn_word
+from .text import CAUTION_LINES, curve_texts, spiral_line, turn_word
 
 __all__ = ["curve_report"]
 
@@ -29,14 +30,15 @@ def curve_report(d: Design) -> str:
                    f"{d.stationing.format_value(eq.ahead)} AH  (internal {eq.internal:.4f})")
     out.append("")
     out.append("ELEMENTS")
-    out.append(f"{'#':>3}  {'kind':<4}  {'from':>12}  {'to':>12}  {'length':>11}  {'radius':>10}  "
+    kw = max(4, *(len(el.kind) for el in alignment.elements))
+    out.append(f"{'#':>3}  {'kind':<{kw}}  {'from':>12}  {'to':>12}  {'length':>11}  {'radius':>10}  "
                f"{'delta':>13}  {'turn':<5}  {'start azimuth':>13}")
     for i, el in enumerate(alignment.elements, start=1):
         r = el.radius_start if el.radius_start == el.radius_end else None
         radius = f"{r:10.4f}" if r is not None else " " * 10
         delta = f"{format_dms(el.central_angle, 1):>13}" if el.turn else " " * 13
         end = d.stationing.format_value(float(d.stationing.station_back(el.end)))
-        out.append(f"{i:>3}  {el.kind:<4}  {st(el.start):>12}  {end:>12}  "
+        out.append(f"{i:>3}  {el.kind:<{kw}}  {st(el.start):>12}  {end:>12}  "
                    f"{el.length:11.4f}  {radius}  {delta}  {turn_word(el.turn):<5}  "
                    f"{format_azimuth_dms(el.start_azimuth, 1):>13}")
     out.append("")
@@ -47,8 +49,7 @@ def curve_report(d: Design) -> str:
     for ct in curve_texts(alignment, d.stationing):
         c = ct.curve
         out.append("")
-        kind = "simple curve" if len(c.elements) == 1 else f"compound curve, {len(c.elements)} arcs"
-        out.append(f"CURVE {c.number}  ({kind}, turning {ct.turn})")
+        out.append(f"CURVE {c.number}  ({ct.kind}, turning {ct.turn})")
         out.append(f"  I (total central angle) = {ct.delta}   "
                    f"from {st(c.pc_station)} to {st(c.pt_station)}")
         if c.tangents is None or c.pi_station is None:
@@ -66,6 +67,10 @@ def curve_report(d: Design) -> str:
             out.append(f"  tangent PI to end (ahead)   {t.ahead:12.4f}{ahead_name}")
         for n, (arc, a0, a1) in enumerate(ct.arcs, start=1):
             out.extend(_arc_lines(n, arc, a0, a1, unit.is_feet))
+        for n, (sp, a0, a1) in enumerate(ct.spirals, start=1):
+            out.extend(_spiral_lines(n, sp, a0, a1))
+        if ct.external is not None:
+            out.append(f"  external (PI to the curve)  {ct.external:.4f}")
     out.append("")
     out.extend(CAUTION_LINES)
     return "\n".join(out) + "\n"
@@ -82,3 +87,14 @@ def _arc_lines(n: int, el: Arc, a0: str, a1: str, feet: bool) -> list[str]:
     return [f"  arc {n}: {a0} to {a1}   R {p.radius:.4f}   delta {format_dms(p.delta, 1)}   L {p.length:.4f}",
             line,
             f"         centre N {el.center_northing:.4f}  E {el.center_easting:.4f}"]
+
+
+def _spiral_lines(n: int, sp: Spiral, a0: str, a1: str) -> list[str]:
+    f = spiral_figures(sp.length, sp.radius_start, sp.radius_end)
+    out = [f"  spiral {n}: {spiral_line(sp, a0, a1)}"]
+    if f.p is not None and f.k is not None and f.long_tangent is not None and f.short_tangent is not None:
+        out.append(f"         X {f.x:.4f}   Y {f.y:.4f}   p {f.p:.4f}   k {f.k:.4f}")
+        out.append(f"         long tangent {f.long_tangent:.4f}   short tangent {f.short_tangent:.4f}")
+    else:
+        out.append(f"         X {f.x:.4f}   Y {f.y:.4f}  (from its start, along its start tangent)")
+    return out

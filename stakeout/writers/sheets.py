@@ -13,7 +13,8 @@ import math
 
 import numpy as np
 
-from ..alignment import Alignment, Arc
+from ..alignment import Alignment, Arc, Spiral
+from ..alignment.clothoid import clothoid_xy
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..setout import DEFAULT_FACTOR_NOTE
@@ -103,27 +104,44 @@ DeflectionRow = tuple[float, float, float, float, float]
 def deflection_rows(alignment: Alignment, stations: np.ndarray) -> list[tuple[int, int, list[DeflectionRow]]]:
     """Deflections from each arc's start to the staked stations on it.
 
-    Returns, per arc, ``(curve number, element index, rows)`` with each row
-    ``(internal station, arc length from the arc's start, deflection in degrees from
-    the tangent there, chord from the start, chord from the previous row)``.
-    Deflection = s / 2R (radians); chord = 2R sin(s / 2R).
+    Returns, per arc or spiral, ``(curve number, element index, rows)`` with
+    each row ``(internal station, length from the element's start, deflection
+    in degrees from the tangent there, chord from the start, chord from the
+    previous row)``.  On an arc, deflection = s / 2R (radians) and chord =
+    2R sin(s / 2R); on a spiral, from its start (the TS, or the CS of an exit
+    spiral) along its start tangent: the point's position (x, y) there gives
+    deflection = atan(y / x) and chord = hypot(x, y).
     """
     out = []
     for c in alignment.curves:
         for i in c.elements:
             el = alignment.elements[i]
-            if not isinstance(el, Arc):
-                continue
-            r = float(el.radius)
             on = stations[(stations >= el.start - 1e-9) & (stations <= el.end + 1e-9)]
             s = np.concatenate([[el.start], on, [el.end]])
             s = np.unique(np.clip(s, el.start, el.end))
+            if isinstance(el, Spiral):
+                out.append((c.number, i, _spiral_rows(el, s)))
+                continue
+            if not isinstance(el, Arc):
+                continue
+            r = float(el.radius)
             arc = np.maximum(s - el.start, 0.0)
             defl = np.degrees(arc / (2.0 * r))
             chord = 2.0 * r * np.sin(arc / (2.0 * r))
             inc = np.concatenate([[0.0], 2.0 * r * np.sin(np.diff(arc) / (2.0 * r))])
             out.append((c.number, i, list(zip(s.tolist(), arc.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))))
     return out
+
+
+def _spiral_rows(el: Spiral, s: np.ndarray) -> list[DeflectionRow]:
+    """Deflection rows of a spiral from its start (see :func:`deflection_rows`)."""
+    along = np.maximum(s - el.start, 0.0)
+    x, y, _ = clothoid_xy(along, el.k_start, el.k_end, el.length)
+    y = np.abs(y)
+    defl = np.degrees(np.arctan2(y, x))
+    chord = np.hypot(x, y)
+    inc = np.concatenate([[0.0], np.hypot(np.diff(x), np.diff(y))])
+    return list(zip(s.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
 
 
 def deflection_sheet(d: Design) -> str:
@@ -137,17 +155,28 @@ def deflection_sheet(d: Design) -> str:
            f"{'chord from prev':>16}"
     rows: list[str] = []
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
+    spirals = False
     for curve_no, i, data in deflection_rows(alignment, d.stakes.stations):
         el = alignment.elements[i]
-        assert isinstance(el, Arc)
         start_name = kp.get(round(el.start, 6), "")
-        rows.append(f"curve {curve_no}, arc from {start_name} {lab(el.start)}: "
-                    f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
+        if isinstance(el, Spiral):
+            spirals = True
+            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (el.radius_start, el.radius_end))
+            rows.append(f"curve {curve_no}, spiral from {start_name} {lab(el.start)}: L {el.length:.4f}, "
+                        f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+        else:
+            assert isinstance(el, Arc)
+            rows.append(f"curve {curve_no}, arc from {start_name} {lab(el.start)}: "
+                        f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
         for st, arc, defl, chord, inc in data:
             rows.append(f"{lab(st):>11} {arc:15.4f} {format_dms(defl, 0):>12} "
                         f"{chord:17.4f} {inc:16.4f}")
     if not rows:
         rows.append("(the alignment has no curves)")
-    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R)", ""]
+    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R)"]
+    if spirals:
+        foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent; deflection =")
+        foot.append("atan(y / x) and chord = hypot(x, y) from the point's position (x, y) on the clothoid")
+    foot.append("")
     foot += curve_lines(d)
     return paged(head, [cols], rows, f"{title}   {job.info.name}", foot)

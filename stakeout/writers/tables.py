@@ -14,7 +14,8 @@ from concurrent.futures import ThreadPoolExecutor
 import numpy as np
 from numpy.typing import NDArray
 
-from ..alignment import Arc, degree_of_curve_arc
+from ..alignment import Arc, Spiral, degree_of_curve_arc
+from ..alignment.clothoid import spiral_figures
 from ..angles import format_dms
 from ..design import Design
 from ..staking import StakePoints
@@ -274,3 +275,27 @@ def elements_csv(design: Design) -> bytes:
             fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn),
         ]))
     return csv_text(ELEMENTS_COLUMNS, lines).encode("utf-8")
+
+
+SPIRALS_COLUMNS = ("spiral", "start_station", "end_station", "length", "radius_start", "radius_end", "theta_deg",
+                   "x", "y", "p", "k", "long_tangent", "short_tangent", "turn",
+                   # added columns
+                   "element")
+
+
+def spirals_csv(design: Design) -> bytes:
+    """``spirals.csv``: one row per spiral, its figures as the contract defines them."""
+    st = design.stationing
+    d = DECIMALS
+    lines = []
+    spirals = [(i, el) for i, el in enumerate(design.alignment.elements, start=1) if isinstance(el, Spiral)]
+    for number, (i, el) in enumerate(spirals, start=1):
+        f = spiral_figures(el.length, el.radius_start, el.radius_end, name=f"element {i}")
+        lines.append(",".join([
+            str(number), fixed_or_empty(float(st.station(el.start)), d),
+            fixed_or_empty(float(st.station_back(el.end)), d), fixed_or_empty(el.length, d),
+            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), f"{f.theta_deg:.8f}",
+            fixed_or_empty(f.x, d), fixed_or_empty(f.y, d), fixed_or_empty(f.p, d), fixed_or_empty(f.k, d),
+            fixed_or_empty(f.long_tangent, d), fixed_or_empty(f.short_tangent, d), turn_word(el.turn), str(i),
+        ]))
+    return csv_text(SPIRALS_COLUMNS, lines).encode("utf-8")

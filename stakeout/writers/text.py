@@ -15,14 +15,14 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import ArrayLike
 
-from ..alignment import Alignment, Arc, Curve
+from ..alignment import Alignment, Arc, Curve, Element, Spiral
 from ..angles import format_dms
 from ..design import Design
 from ..stations import Stationing
 
 __all__ = [
     "CAUTION_LINES", "WIDTH", "ROWS_PER_PAGE", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "header_lines", "CurveText", "curve_texts", "curve_lines", "paged",
+    "turn_word", "header_lines", "CurveText", "curve_texts", "curve_lines", "paged", "spiral_line",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -74,13 +74,19 @@ def turn_word(turn: int) -> str:
 def header_lines(title: str, d: Design) -> list[str]:
     """The header block every sheet opens with: job, file and hash, alignment, units, CRS."""
     job = d.job
-    return [
+    out = [
         f"{title}   {job.info.name}".rstrip(),
         f"job file  {Path(job.path).name}",
         f"          sha256 {job.sha256}",
+    ]
+    for f in job.design_files:
+        out.append(f"{f.role} from {Path(f.path).name}")
+        out.append(f"          sha256 {f.sha256}")
+    out += [
         f"alignment {d.alignment.name}   units {job.info.unit.label}",
         f"CRS       {d.crs_label or 'none: local grid'}",
     ]
+    return out
 
 
 # ---- curve data ------------------------------------------------------------------------------
@@ -100,6 +106,22 @@ class CurveText:
     back_side: tuple[str, str, float] | None
     ahead_side: tuple[str, str, float] | None
     arcs: tuple[tuple[Arc, str, str], ...]  # (arc, start label, end label)
+    spirals: tuple[tuple[Spiral, str, str], ...] = ()  # (spiral, start label, end label)
+    external: float | None = None  # PI to the nearest point of a curve with spirals
+
+    @property
+    def kind(self) -> str:
+        """``simple curve``, ``compound curve, 2 arcs``, ``curve with spirals, 1 arc, 2 spirals``."""
+        a, s = len(self.arcs), len(self.spirals)
+        if not s:
+            return "simple curve" if a == 1 else f"compound curve, {a} arcs"
+        return f"curve with spirals, {a} arc{'s' if a != 1 else ''}, {s} spiral{'s' if s != 1 else ''}"
+
+
+def spiral_line(sp: Spiral, a0: str, a1: str) -> str:
+    """One line of a spiral's data: stations, length, radii, central angle."""
+    r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (sp.radius_start, sp.radius_end))
+    return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
 def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]:
@@ -113,11 +135,25 @@ def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]
         if t is not None and t.t_a_side is not None:
             big, small = ("T_A", "R1", max(radii)), ("T_B", "R2", min(radii))
             back, ahead = (big, small) if t.t_a_side == "back" else (small, big)
+        spirals = tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs
+                        if isinstance(a, Spiral))
+        external = None
+        if spirals and c.pi_northing is not None and c.pi_easting is not None:
+            external = _external(arcs, c.pi_northing, c.pi_easting)
         out.append(CurveText(
             c, turn_word(c.turn), str(format_dms(c.delta, 1)), stationing.label(c.pi_station), back, ahead,
             tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs if isinstance(a, Arc)),
+            spirals, external,
         ))
     return out
+
+
+def _external(run: list[Element], pi_n: float, pi_e: float) -> float:
+    """Distance from the PI to the nearest point of a curve (dense samples refined on the elements)."""
+    from ..alignment import Alignment
+
+    part = Alignment.from_elements("", list(run), (), ())
+    return float(part.locate(pi_n, pi_e).distance)
 
 
 def curve_lines(d: Design) -> list[str]:
@@ -143,6 +179,10 @@ def curve_lines(d: Design) -> list[str]:
             assert p is not None
             out.append(f"    arc {k}  {a0} to {a1}  R {p.radius:.4f}  "
                        f"delta {format_dms(p.delta, 1)}  L {p.length:.4f}  chord {p.chord:.4f}")
+        for k, (sp, a0, a1) in enumerate(ct.spirals, start=1):
+            out.append(f"    spiral {k}  {spiral_line(sp, a0, a1)}")
+        if ct.external is not None:
+            out.append(f"    external (PI to the curve)  {ct.external:.4f}")
     return out
 
 

@@ -1,0 +1,97 @@
+"""Alignments and profiles taken from a LandXML 1.2 design file.
+
+``[alignment] landxml = "file.xml"`` (with ``name`` choosing the
+``<Alignment>``) and ``[profile] landxml = ...`` replace the inline forms.
+The file supplies geometry only: each element is anchored at the point the
+file gives for its start, its length, direction and curvature measured from
+the file's points (:func:`stakeout.landxml.validate_geometry`; attributes are
+cross-checks).  The job file stays the one place that says what is staked.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..alignment.specs import AnchoredSpec, ArcSpec, FixedSpec, LineSpec, SpiralSpec
+from ..errors import JobFileError
+from ..job import DesignFile, JobInfo, ProfileInput, ProfilePVI
+from ..stations import StationRef
+from ..textsafety import check_free_text
+from .reader import Table
+
+__all__ = ["read_alignment_file", "read_profile_file", "LandXMLAlignment"]
+
+
+class LandXMLAlignment:
+    """What an alignment read from a design file brings: its spec, equations and file record."""
+
+    def __init__(self, spec: FixedSpec, equations: tuple[tuple[float, float, str], ...], record: DesignFile):
+        self.spec = spec
+        self.equations = equations
+        self.record = record
+
+
+def _path(t: Table, base: Path) -> Path:
+    text = t.text("landxml", required=True)
+    assert text is not None
+    p = Path(text)
+    return p if p.is_absolute() else base / p
+
+
+def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment:
+    """``[alignment] landxml``: the chosen ``<Alignment>`` as anchored elements, with its equations."""
+    from .. import landxml
+
+    path = _path(t, base)
+    design = landxml.read_landxml(path)
+    landxml.check_units(design, info.unit.key, "alignment.landxml")
+    name = t.text("name")
+    xa = landxml.pick_alignment(design, name)
+    measured = landxml.validate_geometry(xa)
+    elements = []
+    for x, m in zip(xa.elements, measured):
+        where = f"alignment.landxml element {m.index}" + (f" ({m.name!r})" if m.name else "")
+        spec: LineSpec | ArcSpec | SpiralSpec
+        if m.kind == "line":
+            spec = LineSpec(m.length, where)
+        elif m.kind == "arc":
+            assert m.radius_start is not None
+            spec = ArcSpec(m.radius_start, m.turn, None, m.length, where)
+        else:
+            spec = SpiralSpec(m.length, m.turn, m.radius_start, m.radius_end, where)
+        elements.append(AnchoredSpec(x.start_n, x.start_e, m.az_start, spec))
+    equations = []
+    shift = 0.0
+    for i, eq in enumerate(xa.equations):
+        if eq.increment != 1:
+            raise JobFileError(f"alignment.landxml StaEquation {i + 1}: decreasing stationing (staIncrement) is "
+                               "not supported; stations must increase along the alignment")
+        back = eq.sta_internal + shift
+        equations.append((back, eq.sta_ahead, f"alignment.landxml StaEquation {i + 1}"))
+        shift = eq.sta_ahead - eq.sta_internal
+    record = DesignFile("alignment", str(t.text("landxml")), design.sha256, design.not_used, xa.name)
+    return LandXMLAlignment(FixedSpec(check_free_text(xa.name or "CL", "alignment.landxml name"), xa.sta_start,
+                                      tuple(elements)), tuple(equations), record)
+
+
+def read_profile_file(t: Table, alignment_name: str, base: Path) -> tuple[ProfileInput, DesignFile]:
+    """``[profile] landxml``: the chosen ``<ProfAlign>``, its PVIs at internal stations."""
+    from .. import landxml
+
+    path = _path(t, base)
+    design = landxml.read_landxml(path)
+    name = t.text("name")
+    xp = landxml.pick_profile(design, alignment_name, name)
+    pvis = []
+    for i, v in enumerate(xp.pvis):
+        where = f"profile.landxml {xp.name!r} point {i + 1}"
+        at = StationRef(v.station, None, where)
+        if v.kind == "circ":
+            assert v.radius is not None
+            pvis.append(ProfilePVI(at, v.elevation, where=where, radius=abs(v.radius)))
+        else:
+            back = v.length_in or 0.0
+            ahead = v.length_out or 0.0
+            pvis.append(ProfilePVI(at, v.elevation, back, ahead, where, symmetric=v.kind == "para"))
+    record = DesignFile("profile", str(t.text("landxml")), design.sha256, design.not_used, xp.name)
+    return ProfileInput(xp.name, tuple(pvis), internal=True), record
