@@ -28,12 +28,13 @@ __all__ = [
 ]
 
 _NUM = r"\d+(?:\.\d*)?|\.\d+"
-_DASH = re.compile(rf"^([+-]?)(\d+)-(\d+(?:\.\d*)?)(?:-({_NUM}))?$")
-_DECIMAL = re.compile(rf"^([+-]?)({_NUM})$")
+# re.ASCII: only the digits 0-9 (never Arabic-Indic or full-width digits) and ASCII spaces
+_DASH = re.compile(rf"^([+-]?)(\d+)-(\d+(?:\.\d*)?)(?:-({_NUM}))?$", re.ASCII)
+_DECIMAL = re.compile(rf"^([+-]?)({_NUM})$", re.ASCII)
 _SYMBOL = re.compile(
-    rf"^([+-]?)\s*({_NUM})\s*°\s*(?:({_NUM})\s*['′]\s*)?(?:({_NUM})\s*(?:\"|″|'')\s*)?$"
+    rf"^([+-]?)\s*({_NUM})\s*°\s*(?:({_NUM})\s*['′]\s*)?(?:({_NUM})\s*(?:\"|″|'')\s*)?$", re.ASCII
 )
-_BEARING = re.compile(r"^([NSns])\s*(.*?)\s*([EWew])$")
+_BEARING = re.compile(r"^([NSns])\s*(.*?)\s*([EWew])$", re.ASCII)
 
 _FORMS = '"45-30-15.5", "45°30\'15.5\\"" or decimal degrees'
 
@@ -120,7 +121,7 @@ def parse_direction(value: object, where: str = "azimuth") -> float:
                   ("S", "W"): 180.0 + a, ("N", "W"): 360.0 - a}[(ns, ew)]
             return float(normalize_azimuth(az))
     az = parse_angle(value, where)
-    if not -360.0 < az < 720.0:
+    if not 0.0 <= az <= 360.0:
         raise _bad(where, value, "azimuth must be between 0 and 360 degrees")
     return float(normalize_azimuth(az))
 

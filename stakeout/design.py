@@ -100,7 +100,7 @@ def build_design(job: Job) -> Design:
         proj = proj_version()
     setup_design = None
     factors: dict[str, Any] = {}
-    warnings: list[str] = []
+    warnings: list[str] = list(alignment.warnings)
     if job.setup is not None:
         setup = job.setup
         occ = setup.occupied

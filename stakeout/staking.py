@@ -24,6 +24,9 @@ from .stations import Stationing
 __all__ = ["StakePoints", "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS",
            "MAX_POINTS"]
 
+#: Longest point id (prefix + number), as for every id the job file gives.
+MAX_ID_CHARS = 20
+
 #: Most points one job may stake (memory stays under a few GB).
 MAX_POINTS = 10_000_000
 
@@ -254,7 +257,17 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
     if profile is not None and staking.profile_points is not False:
         more = profile.feature_points()
     stations, feats = _stations(alignment, staking, stationing, more)
-    check_point_numbers(staking.first_point, stations.size * len(staking.offsets))
+    count = stations.size * len(staking.offsets)
+    if count > MAX_POINTS:
+        raise JobFileError(f"staking: the job would stake {count:,} points (interval stations, key points and "
+                           f"extra stations on every offset line); the limit is {MAX_POINTS:,}")
+    check_point_numbers(staking.first_point, count)
+    last_id = f"{staking.point_prefix}{staking.first_point + count - 1}"
+    if len(last_id) > MAX_ID_CHARS:
+        raise JobFileError(
+            f"staking.point_prefix = {staking.point_prefix!r}: with first_point = {staking.first_point} the last "
+            f"point id {last_id!r} has {len(last_id)} characters; ids may have at most {MAX_ID_CHARS} "
+            "(shorten the prefix or lower staking.first_point)")
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     check_offsets(alignment, staking)
     st = np.repeat(stations, offs.size)

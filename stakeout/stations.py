@@ -25,8 +25,8 @@ from .errors import JobFileError
 __all__ = ["parse_station", "format_station", "station_text", "check_station_length", "StationRef",
            "Equation", "Stationing"]
 
-_STATION = re.compile(r"^([+-]?)(\d+)\+(\d+(?:\.\d*)?)$")
-_PLAIN = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$")
+_STATION = re.compile(r"^([+-]?)([0-9]+)\+([0-9]+)(\.[0-9]*)?$")
+_PLAIN = re.compile(r"^[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)$")
 
 
 def check_station_length(value: object, where: str = "job.station_length") -> int:
@@ -69,8 +69,15 @@ def parse_station(value: object, station_length: int, where: str = "station") ->
     m = _STATION.match(text)
     if not m:
         raise JobFileError(f'{where} = {value!r}: not a station; write e.g. "12+34.56" or a number')
-    sign, full, rest = m.groups()
-    r = float(rest)
+    sign, full, whole, frac = m.groups()
+    digits = len(str(int(station_length) - 1))
+    if len(whole) != digits:
+        example = {2: "12+34.56", 3: "1+234.567"}.get(digits, "1+" + "0" * digits)
+        raise JobFileError(
+            f"{where} = {value!r}: the part after '+' must have exactly {digits} digits before any decimals "
+            f"(station length {station_length}), e.g. {example!r}"
+        )
+    r = float(whole + (frac or ""))
     if r >= station_length:
         raise JobFileError(
             f"{where} = {value!r}: the part after '+' must be less than the station length {station_length}"

@@ -98,11 +98,12 @@ class Alignment:
     key_points: tuple[KeyPoint, ...]
     curves: tuple[Curve, ...]
     _arrays: dict[str, Any] = field(repr=False, compare=False)
+    warnings: tuple[str, ...] = ()
 
     # ---- construction ---------------------------------------------------------
     @classmethod
     def from_elements(cls, name: str, elements: list[Element], curves: tuple[Curve, ...],
-                      key_points: tuple[KeyPoint, ...]) -> "Alignment":
+                      key_points: tuple[KeyPoint, ...], warnings: tuple[str, ...] = ()) -> "Alignment":
         """Assemble an alignment and its evaluation arrays."""
         params = np.array([el.kernel_params() for el in elements], dtype=np.float64).reshape(len(elements), -1)
         arr: dict[str, Any] = {
@@ -133,7 +134,7 @@ class Alignment:
         arr["ap_e"] = np.array([kp.easting for kp in aps])
         arr["ap_back"] = np.array(ap_back)
         arr["ap_ahead"] = np.array(ap_ahead)
-        return cls(name, tuple(elements), key_points, curves, arr)
+        return cls(name, tuple(elements), key_points, curves, arr, warnings)
 
     # ---- basic facts ------------------------------------------------------------
     @property

@@ -72,7 +72,8 @@ def _walk(station: float, n: float, e: float, az: float, steps: list[_Step]) -> 
     return out
 
 
-def _finish(name: str, elements: list[Element], where: list[str] | None = None) -> Alignment:
+def _finish(name: str, elements: list[Element], where: list[str] | None = None,
+            warnings: tuple[str, ...] = ()) -> Alignment:
     feats: dict[int, list[str]] = {}
     points: dict[int, tuple[float, float, float]] = {}
 
@@ -97,7 +98,7 @@ def _finish(name: str, elements: list[Element], where: list[str] | None = None) 
                  tuple(f for f in FEATURE_ORDER if f in feats[i]))
         for i in sorted(feats)
     )
-    return Alignment.from_elements(name, elements, _curves(elements), key_points)
+    return Alignment.from_elements(name, elements, _curves(elements), key_points, warnings)
 
 
 def _curves(elements: list[Element]) -> tuple[Curve, ...]:
@@ -153,12 +154,12 @@ def _intersect_tangents(n0: float, e0: float, az0: float, n1: float, e1: float, 
 
 
 def _check_closure(where: str, elements: list[Element], first: int, count: int,
-                   pi_n: float, pi_e: float, ahead_az: float, t_ahead: float) -> None:
+                   pi_n: float, pi_e: float, ahead_az: float, t_ahead: float, slack: float = 0.0) -> None:
     s, c = sincosd(ahead_az)
     pt_n, pt_e = pi_n + t_ahead * float(c), pi_e + t_ahead * float(s)
     end = elements[first + count - 1]
     miss = math.hypot(end.end_northing - pt_n, end.end_easting - pt_e)
-    if miss > CLOSURE_TOLERANCE:
+    if miss > CLOSURE_TOLERANCE + slack:
         raise GeometryError(f"{where}: walking the arcs misses the PT by {miss:.6g} (closure failed)")
 
 
@@ -292,18 +293,30 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
             back[i], ahead[i] = pc.tangents.back, pc.tangents.ahead
     steps: list[_Step] = []
     first_arc: dict[int, int] = {}
+    slack: dict[int, float] = {}
+    absorbed = 0.0
+    warnings: list[str] = []
     for j in range(len(pis) - 1):
         need = ahead[j] + back[j + 1]
         free = float(seg_len[j]) - need
+        if ahead[j] > 0.0 and back[j + 1] > 0.0 and CLOSURE_TOLERANCE < abs(free) <= spec.join_tolerance:
+            # the designer's rounded radii leave a sliver of tangent (or overlap): the curves meet
+            what = "tangent" if free > 0 else "overlap"
+            warnings.append(f"the curves at {pis[j].where} and {pis[j + 1].where} leave a {abs(free):.4f} {what} "
+                            f"between them, within alignment.join_tolerance = {spec.join_tolerance:g}: taken as "
+                            "none, they meet at one PCC/PRC and the stakes after it shift by up to that much")
+            absorbed += abs(free)
+            free = 0.0
+        slack[j + 1] = absorbed
         if free < -CLOSURE_TOLERANCE:
             a, b = pis[j].where, pis[j + 1].where
             with_curves = [w for w, t in ((a, ahead[j]), (b, back[j + 1])) if t > 0.0]
             if len(with_curves) == 2:
-                what = f"curves at {a} and {b} overlap: their tangents ({ahead[j]:.4f} + {back[j + 1]:.4f})"
+                what = f"curves at {a} and {b} overlap: their tangents ({ahead[j]:.4f} + {back[j + 1]:.4f}) exceed"
             else:
                 what = (f"the curve at {with_curves[0]} does not fit between {a} and {b}: its tangent "
-                        f"{max(ahead[j], back[j + 1]):.4f}")
-            raise GeometryError(f"{what} exceed the {seg_len[j]:.4f} between the points")
+                        f"{max(ahead[j], back[j + 1]):.4f} exceeds")
+            raise GeometryError(f"{what} the {seg_len[j]:.4f} between the points")
         if free > CLOSURE_TOLERANCE:
             steps.append(_line(float(free), float(seg_az[j])))
         if j + 1 in curves:
@@ -314,12 +327,12 @@ def _build_pi_list(spec: PIListSpec) -> Alignment:
     elements = _walk(spec.start_station, float(n[0]), float(e[0]), float(seg_az[0]), steps)
     for i, pc in curves.items():
         _check_closure(pis[i].where, elements, first_arc[i], len(pc.steps), float(n[i]), float(e[i]),
-                       float(seg_az[i]), pc.tangents.ahead)
+                       float(seg_az[i]), pc.tangents.ahead, slack.get(i, 0.0))
     last = elements[-1]
     miss = math.hypot(last.end_northing - n[-1], last.end_easting - e[-1])
-    if miss > CLOSURE_TOLERANCE:
+    if miss > CLOSURE_TOLERANCE + absorbed:
         raise GeometryError(f"{pis[-1].where}: walking the alignment misses the POE by {miss:.6g}")
-    return _finish(spec.name, elements)
+    return _finish(spec.name, elements, warnings=tuple(warnings))
 
 
 # ---- Form C ---------------------------------------------------------------------------

@@ -80,11 +80,17 @@ class PISpec:
 
 @dataclass(frozen=True)
 class PIListSpec:
-    """Form B: POB, PIs, POE."""
+    """Form B: POB, PIs, POE.
+
+    ``join_tolerance``: a tangent between two curves shorter than this (job
+    units), or an overlap of the curves up to it, is taken as none: the
+    curves meet at one PCC or PRC (the designer's rounded radii).
+    """
 
     name: str
     start_station: float
     pis: tuple[PISpec, ...]
+    join_tolerance: float = 0.01
 
 
 @dataclass(frozen=True)

@@ -53,7 +53,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(f"{path}: not valid TOML: {exc}") from None
     top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile"))
     fmt = top.raw("format", required=True)
-    if fmt != 1 or isinstance(fmt, bool):
+    if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
     info = _job_info(top)
     base = Path(path).parent

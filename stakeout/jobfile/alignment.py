@@ -93,7 +93,7 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
             elements=tuple(elements),
         )
     if form == "pi":
-        t = top.table("alignment", ("name", "start_station", "pi", "station_equation"))
+        t = top.table("alignment", ("name", "start_station", "pi", "station_equation", "join_tolerance"))
         assert t is not None
         pis = []
         for p in t.tables("pi", ("northing", "easting", "radius", "radii", "deltas", "spirals")):
@@ -103,7 +103,9 @@ def read_alignment(top: Table, info: JobInfo) -> AlignmentSpec:
                               _spirals(p, radii)))
         if len(pis) < 2:
             raise JobFileError("alignment.pi: needs at least two entries, the POB and the POE")
-        return PIListSpec(_name(t), station(t, "start_station", info.station_length, required=False, default=0.0), tuple(pis))
+        join = t.number("join_tolerance", nonnegative=True)
+        return PIListSpec(_name(t), station(t, "start_station", info.station_length, required=False, default=0.0),
+                          tuple(pis), 0.01 if join is None else join)
     t = top.table("alignment", ("name", "at_pi", "station_equation"))
     assert t is not None
     c = t.table("at_pi", ("station", "northing", "easting", "back_tangent_azimuth", "ahead_tangent_azimuth",
@@ -181,7 +183,7 @@ def _curve_def(t: Table) -> tuple[tuple[float, ...], tuple[float | None, ...]]:
 def read_equations(top: Table, info: JobInfo) -> tuple[tuple[float, float, str], ...]:
     """``[[alignment.station_equation]]``: (back, ahead, key) in file order."""
     t = top.table("alignment", ("name", "start", "azimuth", "element", "start_station", "pi", "at_pi",
-                                "station_equation", "landxml"))
+                                "station_equation", "landxml", "join_tolerance"))
     assert t is not None
     out = []
     for eq in t.tables("station_equation", ("back", "ahead")):

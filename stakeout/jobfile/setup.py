@@ -9,7 +9,10 @@ from ..job import CheckSpec, ControlPoint, Scale, Setup
 from ..limits import MAX_HEIGHT
 from .reader import Table, check_safe_text, direction
 
-__all__ = ["read_setup", "read_scale", "read_check"]
+__all__ = ["read_setup", "read_scale", "read_check", "MIN_BACKSIGHT"]
+
+#: Shortest backsight accepted (job units): a closer one cannot orient the circle.
+MIN_BACKSIGHT = 1.0
 
 
 def _control_point(t: Table, k: str, required: bool) -> ControlPoint | None:
@@ -47,10 +50,11 @@ def read_setup(top: Table) -> Setup | None:
                 "setup.azimuth_reference = 'geodetic': only a `backsight_azimuth` can be geodetic; "
                 "a backsight point is on the grid"
             )
-        if math.hypot(backsight.northing - occupied.northing, backsight.easting - occupied.easting) < 1e-6:
+        dist = math.hypot(backsight.northing - occupied.northing, backsight.easting - occupied.easting)
+        if dist < MIN_BACKSIGHT:
             raise JobFileError(
-                f"setup.backsight = {backsight.id!r}: lies on the occupied point {occupied.id!r}; "
-                "a backsight must be a distinct point"
+                f"setup.backsight = {backsight.id!r}: lies {dist:.6g} from the occupied point {occupied.id!r}; "
+                f"a backsight must be at least {MIN_BACKSIGHT:g} job unit away to orient the instrument"
             )
     return Setup(
         occupied=occupied,

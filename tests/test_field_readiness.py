@@ -1,0 +1,293 @@
+"""Regression tests named after the field-readiness and hardening defects.
+
+Each test reproduces one way a crew could end up with a wrong stake or a wrong
+decision, and holds the fix.  Geometry references are plane trigonometry
+written here (tangent T = R tan(I/2), common practice of route surveying).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+from typer.testing import CliRunner
+
+from stakeout.cli import app
+
+from .helpers import build_job, read_rows, write_job
+
+runner = CliRunner()
+
+
+def _build(job, out, *extra):
+    return runner.invoke(app, ["build", str(job), "--out", str(out), *extra])
+
+
+def _deflection(p0, p1, p2):
+    a0 = math.atan2(p1[1] - p0[1], p1[0] - p0[0])
+    a1 = math.atan2(p2[1] - p1[1], p2[0] - p1[0])
+    return abs((math.degrees(a1 - a0) + 180.0) % 360.0 - 180.0)
+
+
+def _reverse_job(tmp_path, gap, join_tolerance=None):
+    """Two reverse curves whose tangents leave `gap` between them (negative: overlap)."""
+    pts = [(0.0, 0.0), (600.0, 0.0), (900.0, 300.0), (1500.0, 300.0)]  # (northing, easting)
+    i1 = math.radians(_deflection(*pts[0:3]))
+    i2 = math.radians(_deflection(*pts[1:4]))
+    seg = math.hypot(pts[2][0] - pts[1][0], pts[2][1] - pts[1][1])
+    r1 = 400.0
+    t1 = r1 * math.tan(i1 / 2.0)  # T = R tan(I/2): common practice
+    r2 = (seg - t1 - gap) / math.tan(i2 / 2.0)
+    pis = "\n".join(f"[[alignment.pi]]\nnorthing = {n}\neasting = {e}" + (f"\nradius = {r}" if r else "")
+                    for (n, e), r in zip(pts, (None, r1, r2, None)))
+    join = f"join_tolerance = {join_tolerance}\n" if join_tolerance is not None else ""
+    return write_job(tmp_path, f"""format = 1
+[job]
+name = "Near-touching reverse curves"
+units = "ft"
+[alignment]
+name = "RV"
+{join}{pis}
+[staking]
+interval = 50.0
+offsets = [{{ offset = -10.0, code = "L" }}, {{ offset = 0.0, code = "CL" }}]
+""")
+
+
+def test_default_combined_factor_is_announced_not_given(tmp_path):
+    # defect 1: a CRS job with no [scale] said "given in the job file"; ground = grid silently
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "UTM job without a factor"
+units = "m"
+crs = "EPSG:32633"
+[alignment]
+name = "U"
+start = { station = 0, northing = 5000000.0, easting = 500000.0 }
+azimuth = 45.0
+[[alignment.element]]
+kind = "line"
+length = 500.0
+[staking]
+interval = 100.0
+[setup]
+occupied = { id = "A", northing = 5000010.0, easting = 500000.0 }
+backsight = { id = "B", northing = 5000400.0, easting = 500000.0 }
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 0, r.output
+    assert "ground distances equal grid distances" in r.output and '"auto"' in r.output
+    sheet = (tmp_path / "out" / "setout.txt").read_text()
+    head = sheet.split("page 1 of")[0]
+    assert "WARNING" in head and "no combined factor was given" in head
+    manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())
+    assert manifest["factors"]["how"] == "default"
+
+
+def test_offset_line_past_an_arcs_centre_is_refused(tmp_path):
+    # defect 2: an inside offset larger than the radius put stakes through the centre
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Tight arc"
+units = "m"
+[alignment]
+name = "T"
+start = { station = 0, northing = 0.0, easting = 0.0 }
+azimuth = 0.0
+[[alignment.element]]
+kind = "arc"
+radius = 15.0
+delta = 90.0
+turn = "right"
+[staking]
+interval = 5.0
+offsets = [{ offset = -5.0, code = "L" }, { offset = 20.0, code = "R" }]
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2
+    assert "offset = 20.0" in r.output and "element 1" in r.output and "15.0000" in r.output
+    assert not (tmp_path / "out").exists()
+
+
+def test_near_touching_reverse_curves_meet_at_one_prc(tmp_path):
+    # defect 3: a 0.0014-ft tangent gave two stakes 0.0014 apart labelled PT and PC
+    r = _build(_reverse_job(tmp_path, 0.0014), tmp_path / "out")
+    assert r.exit_code == 0, r.output
+    assert "alignment.pi[1] and alignment.pi[2]" in r.output and "0.0014 tangent" in r.output
+    rows = read_rows(tmp_path / "out" / "stations.csv")
+    feats = [row["feature"] for row in rows if row["code"] == "CL" and row["feature"]]
+    assert feats == ["POB", "PC", "PRC", "PT", "POE"]  # one PRC where the curves meet
+    st = np.array([float(row["station"]) for row in rows if row["code"] == "CL"])
+    assert np.all(np.diff(st) > 0.001)  # no duplicate stakes
+
+
+def test_near_touching_overlap_within_tolerance_builds(tmp_path):
+    r = _build(_reverse_job(tmp_path, -0.0014), tmp_path / "out")
+    assert r.exit_code == 0, r.output
+    assert "0.0014 overlap" in r.output
+
+
+def test_reverse_curves_beyond_the_join_tolerance(tmp_path):
+    # a real tangent stays a tangent; an overlap beyond the tolerance stays an error
+    r = _build(_reverse_job(tmp_path, 0.02), tmp_path / "a")
+    assert r.exit_code == 0, r.output
+    feats = [row["feature"] for row in read_rows(tmp_path / "a" / "stations.csv") if row["code"] == "CL"]
+    assert "PT" in feats and feats.count("PC") == 2
+    (tmp_path / "b").mkdir()
+    r = _build(_reverse_job(tmp_path / "b", -0.02), tmp_path / "b" / "out")
+    assert r.exit_code == 2 and "overlap" in r.output
+    (tmp_path / "c").mkdir()
+    r = _build(_reverse_job(tmp_path / "c", -0.02, join_tolerance=0.05), tmp_path / "c" / "out")
+    assert r.exit_code == 0, r.output  # the tolerance is settable
+
+
+@pytest.mark.parametrize("text, units", [("46+6", "ft"), ("3+00.5", "m")])
+def test_loose_station_text_is_refused(tmp_path, text, units):
+    # defect 4: "46+6" was read as 46+06.00 and, in metres, "3+00.5" as 3+000.500
+    job = write_job(tmp_path, f"""format = 1
+[job]
+name = "Loose station"
+units = "{units}"
+[alignment]
+name = "S"
+start = {{ station = "{text}", northing = 0.0, easting = 0.0 }}
+azimuth = 0.0
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 10.0
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and f"'{text}'" in r.output and "exactly" in r.output
+
+
+def test_ids_over_the_limit_are_refused(tmp_path):
+    # defect 5: prefix + the largest number could exceed the documented 20 characters
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Long ids"
+units = "m"
+[alignment]
+name = "S"
+start = { station = 0, northing = 0.0, easting = 0.0 }
+azimuth = 0.0
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 10.0
+point_prefix = "ABCDEFGHIJKLMNOP"
+first_point = 99995
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and "staking.point_prefix" in r.output and "first_point" in r.output
+
+
+def test_overlap_message_names_the_curves_not_the_pob(tmp_path):
+    # defect 7: an overlap next to the POB named the POB as a curve
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Overlap at the start"
+units = "m"
+[alignment]
+name = "O"
+[[alignment.pi]]
+northing = 0.0
+easting = 0.0
+[[alignment.pi]]
+northing = 50.0
+easting = 0.0
+radius = 500.0
+[[alignment.pi]]
+northing = 300.0
+easting = 250.0
+[staking]
+interval = 10.0
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2
+    assert "the curve at alignment.pi[1] does not fit" in r.output and "curves at" not in r.output
+
+
+def test_extra_stations_count_against_the_point_limit(tmp_path, monkeypatch):
+    # hardening 4: extra stations bypassed the 10-million-point limit
+    import stakeout.staking as staking
+
+    monkeypatch.setattr(staking, "MAX_POINTS", 20)
+    extras = ", ".join(str(float(v)) for v in range(1, 40, 2))
+    job = write_job(tmp_path, f"""format = 1
+[job]
+name = "Many extras"
+units = "m"
+[alignment]
+name = "S"
+start = {{ station = 0, northing = 0.0, easting = 0.0 }}
+azimuth = 0.0
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 50.0
+extra_stations = [{extras}]
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and "limit" in r.output
+
+
+def test_hairpin_angle_point_is_refused(tmp_path):
+    # hardening 7: PIs turning back by nearly 180 degrees put miter stakes a million feet away
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Hairpin"
+units = "ft"
+[alignment]
+name = "H"
+[[alignment.pi]]
+northing = 0.0
+easting = 0.0
+[[alignment.pi]]
+northing = 1000.0
+easting = 0.0
+[[alignment.pi]]
+northing = 0.0
+easting = 1.0
+[staking]
+interval = 100.0
+offsets = [{ offset = -10.0, code = "L" }, { offset = 0.0, code = "CL" }]
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and "angle point" in r.output and "add a curve" in r.output
+
+
+@pytest.mark.parametrize("key, value, expect", [
+    ("azimuth", "719.9", "between 0 and 360"),
+    ("azimuth", "-359.99", "between 0 and 360"),
+    ("azimuth", '"４５"', "not an angle"),
+])
+def test_nonsense_directions_refused(tmp_path, key, value, expect):
+    # hardening 24: azimuths outside 0-360 and full-width digits were accepted
+    job = write_job(tmp_path, f"""format = 1
+[job]
+name = "Directions"
+units = "m"
+[alignment]
+name = "S"
+start = {{ station = 0, northing = 0.0, easting = 0.0 }}
+{key} = {value}
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 10.0
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and f"alignment.{key}" in r.output and expect in r.output
+
+
+def test_stake_counts_unchanged_for_samples(samples, tmp_path):
+    # the fixes leave ordinary jobs alone (sample digests are held by test_sample_outputs.py too)
+    out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
+    assert len(read_rows(out / "points.csv")) > 100
