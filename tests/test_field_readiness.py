@@ -291,3 +291,17 @@ def test_stake_counts_unchanged_for_samples(samples, tmp_path):
     # the fixes leave ordinary jobs alone (sample digests are held by test_sample_outputs.py too)
     out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
     assert len(read_rows(out / "points.csv")) > 100
+
+
+def test_point_description_carries_feature_and_side(samples, tmp_path):
+    # small things: the crew sees the key point and the side on the data collector (outputs contract example
+    # `EPL PC 14+11.02 16.00 LT`); the numeric columns elsewhere stay signed
+    out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
+    pts = {r["point"]: r["description"] for r in read_rows(out / "points.csv")}
+    st = {r["point"]: r for r in read_rows(out / "stations.csv")}
+    for pid, desc in pts.items():
+        row = st[pid]
+        off = float(row["offset"])
+        side = " LT" if off < 0 else (" RT" if off > 0 else "")
+        feat = (row["feature"] + " ") if row["feature"] else ""
+        assert desc == f"{row['code']} {feat}{row['station_label']} {abs(off):.2f}{side}"

@@ -91,6 +91,17 @@ class _PerPoint:
     def region(self) -> rows.Field:
         return rows.repeat_rows(rows.integer(self.sp.regions[self.s]), self.m)
 
+    def feature_words(self) -> rows.Field:
+        """Features followed by a space, or nothing, per point."""
+        return rows.repeat_rows(rows.text([f + " " if f else "" for f in self.sp.features[self.s]]), self.m)
+
+    def side_offset(self, decimals: int) -> rows.Field:
+        """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
+        offs = self.sp.offsets
+        side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in offs.tolist()])
+        both = np.concatenate([rows.fixed(np.abs(offs), decimals), side], axis=1)
+        return rows.tile_rows(both, self.k)
+
     def feature(self) -> rows.Field:
         return rows.repeat_rows(rows.text(self.sp.features[self.s]), self.m)
 
@@ -128,8 +139,10 @@ def points_csv(design: Design) -> bytes:
     sp, unit = design.stakes, design.unit
 
     def layout(p: _PerPoint) -> list[rows.Field]:
+        # description: code, key-point features, station, offset with its side (`EPL PC 14+11.02 16.00 LT`)
         return [*p.point(), p.sep(), p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(),
-                p.elevation(), p.sep(), p.code(), p.sep(" "), p.label(), p.sep(" "), p.offset(unit.station_decimals)]
+                p.elevation(), p.sep(), p.code(), p.sep(" "), p.feature_words(), p.label(), p.sep(" "),
+                p.side_offset(unit.station_decimals)]
 
     return _csv(POINTS_COLUMNS, sp, layout)
 
