@@ -305,3 +305,18 @@ def test_point_description_carries_feature_and_side(samples, tmp_path):
         side = " LT" if off < 0 else (" RT" if off > 0 else "")
         feat = (row["feature"] + " ") if row["feature"] else ""
         assert desc == f"{row['code']} {feat}{row['station_label']} {abs(off):.2f}{side}"
+
+
+def test_deflections_for_offset_lines_and_left_readings(samples, tmp_path):
+    # small things: deflections and chords for offset lines, left deflections also as the circle reading
+    out = build_job(samples / "site_road_metric.toml", tmp_path / "out")
+    text = (out / "deflections.txt").read_text()
+    assert "offset line" in text
+    lines = text.splitlines()
+    left = [i for i, ln in enumerate(lines) if "deflect left" in ln][0]
+    row = lines[left + 2].split()  # the first station after the arc's start
+    defl = [int(x) for x in row[2].split("-")]
+    reading = [int(x) for x in row[5].split("-")]
+    d = defl[0] + defl[1] / 60 + defl[2] / 3600
+    r = reading[0] + reading[1] / 60 + reading[2] / 3600
+    assert d + r == pytest.approx(360.0, abs=1.5 / 3600)  # reading = 360 - d (to the printed second)

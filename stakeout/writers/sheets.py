@@ -13,7 +13,7 @@ import math
 
 import numpy as np
 
-from ..alignment import Alignment, Arc, Spiral
+from ..alignment import Alignment, Arc, Element, Spiral
 from ..alignment.clothoid import clothoid_xy
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
@@ -144,6 +144,38 @@ def _spiral_rows(el: Spiral, s: np.ndarray) -> list[DeflectionRow]:
     return list(zip(s.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
 
 
+def _reading(defl: float, turn: int) -> str:
+    """The circle reading for a left deflection (360 - d), blank for a right one."""
+    if turn >= 0 or defl == 0.0:
+        return ""
+    return f" {format_dms(360.0 - defl, 0):>9}"
+
+
+def _side(o: float) -> str:
+    return f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
+
+
+def _offset_rows(alignment: Alignment, el: Element, stations: np.ndarray, o: float) -> list[DeflectionRow]:
+    """Deflections on an offset line, from the offset point at the element's start along the
+    offset line's tangent there: the chord's direction minus that tangent, from the points."""
+    n, e, az = alignment.evaluate(stations, o, miter=False)
+    dn, de = n - n[0], e - e[0]
+    chord = np.hypot(dn, de)
+    chord_az = np.degrees(np.arctan2(de, dn))
+    defl = np.abs((chord_az - az[0] + 180.0) % 360.0 - 180.0)
+    defl[chord == 0.0] = 0.0
+    inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
+    # length along the offset line: the centreline length scaled by the radius there (exact on arcs)
+    along = _offset_length(el, stations - el.start, o)
+    return list(zip(stations.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
+
+
+def _offset_length(el: Element, s: np.ndarray, o: float) -> np.ndarray:
+    """Length along an offset line from the element's start: integral of (1 - k(s) o) ds."""
+    k0, k1 = el.curvature_start, el.curvature_end
+    return s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
+
+
 def deflection_sheet(d: Design) -> str:
     """Render ``deflections.txt``: deflection angles and chords from the curve points."""
     job, alignment, lab = d.job, d.alignment, d.stationing.label
@@ -152,8 +184,9 @@ def deflection_sheet(d: Design) -> str:
     head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent (zero on the PI")
     head.append("or the back tangent), turn the deflection toward the curve and tape the chord.")
     cols = f"{'station':>11} {'arc from start':>15} {'deflection':>12} {'chord from start':>17} " \
-           f"{'chord from prev':>16}"
+           f"{'chord from prev':>16} {'reading':>9}"
     rows: list[str] = []
+    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0]
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     spirals = False
     for curve_no, i, data in deflection_rows(alignment, d.stakes.stations):
@@ -170,10 +203,18 @@ def deflection_sheet(d: Design) -> str:
                         f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
         for st, arc, defl, chord, inc in data:
             rows.append(f"{lab(st):>11} {arc:15.4f} {format_dms(defl, 0):>12} "
-                        f"{chord:17.4f} {inc:16.4f}")
+                        f"{chord:17.4f} {inc:16.4f}{_reading(defl, el.turn)}")
+        stations = np.array([row[0] for row in data])
+        for o, code in offsets:  # the offset line from its own start point, along its own start tangent
+            rows.append(f"  offset line {code} {_side(o)}: from its point opposite {start_name} {lab(el.start)}")
+            for st, along, defl, chord, inc in _offset_rows(alignment, el, stations, o):
+                rows.append(f"{lab(st):>11} {along:15.4f} {format_dms(defl, 0):>12} "
+                            f"{chord:17.4f} {inc:16.4f}{_reading(defl, el.turn)}")
     if not rows:
         rows.append("(the alignment has no curves)")
-    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R)"]
+    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R);",
+            "reading: the horizontal circle reading for a left deflection (360 - d) with zero on the tangent;",
+            "offset lines: the same from the offset point opposite the curve point, the length along the offset"]
     if spirals:
         foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent; deflection =")
         foot.append("atan(y / x) and chord = hypot(x, y) from the point's position (x, y) on the clothoid")
