@@ -76,8 +76,38 @@ class GridCRS:
 
     @property
     def label(self) -> str:
-        """What the job file said, with the CRS's own name."""
-        return f"{self.text} ({self.name})"
+        """What the job file said (or, for WKT, PROJJSON or a PROJ string, the CRS's
+        authority code when it has one), with the CRS's own name.
+        """
+        text = self.text.strip()
+        if len(text) > 40 or "\n" in text or text.startswith(("{", "+")) or "[" in text:
+            auth = self.crs.to_authority(min_confidence=90)
+            text = f"{auth[0]}:{auth[1]}" if auth else "as given"
+        return f"{text} ({self.name})"
+
+    def check_in_area(self, northing: float, easting: float, where: str) -> None:
+        """Refuse a point outside the CRS's area of use (where its factors mean nothing).
+
+        A margin of 1 degree is allowed beyond the published bounds (zones are
+        used a little past their edges).
+        """
+        area = self.crs.area_of_use
+        if area is None:
+            return
+        lon, lat = self.lonlat(northing, easting)
+        lon_f, lat_f = float(lon), float(lat)
+        west, south, east, north = area.bounds
+        inside_lat = south - 1.0 <= lat_f <= north + 1.0
+        if west <= east:
+            inside_lon = west - 1.0 <= lon_f <= east + 1.0
+        else:  # the area crosses the antimeridian
+            inside_lon = lon_f >= west - 1.0 or lon_f <= east + 1.0
+        if not (inside_lat and inside_lon and math.isfinite(lon_f) and math.isfinite(lat_f)):
+            raise CRSError(
+                f"{where}: N {northing} E {easting} lies at {lat_f:.4f} N {lon_f:.4f} E, outside the area of use "
+                f"of {self.name} ({south:.2f} to {north:.2f} N, {west:.2f} to {east:.2f} E); check the "
+                "coordinates or job.crs"
+            )
 
     def lonlat(self, northing: ArrayLike, easting: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
         """Longitude and latitude (degrees, CRS datum) of grid points (job units)."""

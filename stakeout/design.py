@@ -104,7 +104,10 @@ def build_design(job: Job) -> Design:
     if job.setup is not None:
         setup = job.setup
         occ = setup.occupied
-        pf = grid.factors(occ.northing, occ.easting) if grid is not None else None
+        pf = None
+        if grid is not None:
+            grid.check_in_area(occ.northing, occ.easting, "setup.occupied")
+            pf = grid.factors(occ.northing, occ.easting)
         scale = resolve_scale(job.scale, unit, pf)
         bs_az = backsight_azimuth(setup, pf.convergence if pf else None)
         setout = compute_setout(occ.northing, occ.easting, bs_az, stakes.northing, stakes.easting,

@@ -16,6 +16,7 @@ from numpy.typing import ArrayLike, NDArray
 from typing import TYPE_CHECKING
 
 from .angles import azimuth_between, normalize_azimuth
+from .errors import JobFileError
 from .job import Scale, Setup
 from .units import Unit
 
@@ -134,6 +135,11 @@ def resolve_scale(scale: Scale, unit: Unit, factors: "PointFactors | None") -> S
         h = sc.ellipsoid_height if sc.ellipsoid_height is not None else (sc.elevation or 0.0) + (sc.geoid_separation or 0.0)
         ef = elevation_factor(unit.to_metres(h), pf.radius_m)
         cf = pf.scale_factor * ef
+        if not 0.9 < cf < 1.1:
+            raise JobFileError(
+                f'scale.combined_factor = "auto": the factor found is {cf:.8f} (k {pf.scale_factor:.8f}, elevation '
+                f"factor {ef:.8f}); a combined factor must lie between 0.9 and 1.1, so the occupied point, the "
+                "height or job.crs is wrong")
         how = "auto: grid scale factor k at the occupied point x elevation factor R/(R+h)"
         return ScaleInfo(cf, how, pf.scale_factor, ef, pf.radius_m, h, pf.convergence, pf.latitude, pf.longitude)
     assert scale.combined_factor is not None

@@ -320,3 +320,66 @@ def test_deflections_for_offset_lines_and_left_readings(samples, tmp_path):
     d = defl[0] + defl[1] / 60 + defl[2] / 3600
     r = reading[0] + reading[1] / 60 + reading[2] / 3600
     assert d + r == pytest.approx(360.0, abs=1.5 / 3600)  # reading = 360 - d (to the printed second)
+
+
+def test_sheet_layout_from_content_never_crashes(tmp_path):
+    # hardening 10: the 100-character assertion fired on a long job name, a CRS given as WKT, a tall
+    # ellipsoid height and a curve deflecting a hair under 180 degrees (exit 3)
+    import pyproj  # the WKT comes from the reference library itself
+
+    wkt = pyproj.CRS.from_epsg(2229).to_wkt()
+    job = write_job(tmp_path, f'''format = 1
+[job]
+name = "{"A very long job name " * 6}"
+units = "us_ft"
+crs = """{wkt}"""
+[alignment]
+name = "L"
+start = {{ station = "10+00", northing = 1840000.0, easting = 6485000.0 }}
+azimuth = 45
+[[alignment.element]]
+kind = "arc"
+radius = 500
+delta = "179-59-59.9"
+turn = "right"
+[staking]
+interval = 100
+[setup]
+occupied = {{ id = "CP1", northing = 1840100.0, easting = 6485100.0 }}
+backsight = {{ id = "CP2", northing = 1840500.0, easting = 6485100.0 }}
+[scale]
+combined_factor = "auto"
+ellipsoid_height = 10500.0
+''')
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 0, r.output
+    sheet = (tmp_path / "out" / "setout.txt").read_text()
+    assert "EPSG:2229 (NAD83 / California zone 5 (ftUS))" in sheet
+    assert max(len(line) for line in sheet.splitlines()) <= 100
+
+
+def test_occupied_point_outside_the_crs_area_is_refused(tmp_path):
+    # hardening 8: "auto" took a factor far outside the zone (1.113) without a word
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Far outside the zone"
+units = "us_ft"
+crs = "EPSG:2229"
+[alignment]
+name = "L"
+start = { station = 0, northing = 1840000.0, easting = 16485000.0 }
+azimuth = 45
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 50
+[setup]
+occupied = { id = "CP1", northing = 1840100.0, easting = 16485100.0 }
+backsight = { id = "CP2", northing = 1840500.0, easting = 16485100.0 }
+[scale]
+combined_factor = "auto"
+ellipsoid_height = 100.0
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and "setup.occupied" in r.output and "area of use" in r.output

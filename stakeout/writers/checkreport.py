@@ -11,7 +11,7 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .tables import DECIMALS, csv_field, csv_text
-from .text import CAUTION_LINES, finite_or_empty
+from .text import CAUTION_LINES, clip, finite_or_empty
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text"]
 
@@ -80,10 +80,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
     counts = r.counts()
     station_label = d.stationing.label
 
-    out = [f"STAKED-POINT CHECK   {job.info.name}".rstrip(),
-           f"job file     {Path(job.path).name}",
+    out = [clip(f"STAKED-POINT CHECK   {job.info.name}".rstrip()),
+           clip(f"job file     {Path(job.path).name}"),
            f"             sha256 {job.sha256}",
-           f"staked file  {Path(staked_path).name}",
+           clip(f"staked file  {Path(staked_path).name}"),
            f"units        {unit.label}",
            f"tolerances   horizontal {r.horizontal_tolerance:.4f}   vertical "
            + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None else "not set (not checked)"),
@@ -143,5 +143,4 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
     out.append("")
     out.extend(CAUTION_LINES)
     text = "\n".join(out) + "\n"
-    assert all(len(line) <= 100 for line in text.splitlines()), [ln for ln in text.splitlines() if len(ln) > 100]
     return text.encode("utf-8")

@@ -157,7 +157,8 @@ def _side(o: float) -> str:
 
 def _offset_rows(alignment: Alignment, el: Element, stations: np.ndarray, o: float) -> list[DeflectionRow]:
     """Deflections on an offset line, from the offset point at the element's start along the
-    offset line's tangent there: the chord's direction minus that tangent, from the points."""
+    offset line's tangent there: the chord's direction minus that tangent, from the points.
+    """
     n, e, az = alignment.evaluate(stations, o, miter=False)
     dn, de = n - n[0], e - e[0]
     chord = np.hypot(dn, de)
