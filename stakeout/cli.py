@@ -76,7 +76,27 @@ app = typer.Typer(
     help="Stake points, setout sheets and staked-point checks from one job file. "
     "Results must be checked independently; local codes and a licensed surveyor's judgement govern.",
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # help texts name TOML tables like [check]: print them as written
 )
+
+
+def _version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        typer.echo(f"stakeout {__version__}")
+        raise typer.Exit(0)
+
+
+@app.callback()
+def _main(
+    version: bool = typer.Option(False, "--version", callback=_version, is_eager=True,
+                                 help="Print the version and exit."),
+) -> None:
+    """Stake points, setout sheets and staked-point checks from one job file.
+
+    Results must be checked independently; local codes and a licensed surveyor's judgement govern.
+    """
 
 T = TypeVar("T")
 

@@ -383,3 +383,16 @@ ellipsoid_height = 100.0
 """)
     r = _build(job, tmp_path / "out")
     assert r.exit_code == 2 and "setup.occupied" in r.output and "area of use" in r.output
+
+
+def test_version_and_help_texts():
+    # small things: --version; check --help shows [check] (the formatter swallowed it); build --help names
+    # every --only output (from the registry)
+    from stakeout import __version__
+    from stakeout.outputs import OUTPUTS
+
+    r = runner.invoke(app, ["--version"])
+    assert r.exit_code == 0 and __version__ in r.output
+    assert "[check]" in runner.invoke(app, ["check", "--help"]).output
+    text = " ".join(runner.invoke(app, ["build", "--help"]).output.split())
+    assert all(o.name in text for o in OUTPUTS)
