@@ -396,3 +396,31 @@ def test_version_and_help_texts():
     assert "[check]" in runner.invoke(app, ["check", "--help"]).output
     text = " ".join(runner.invoke(app, ["build", "--help"]).output.split())
     assert all(o.name in text for o in OUTPUTS)
+
+
+def test_tiny_curve_is_refused(tmp_path):
+    # hardening 9: radius 1e-9 and I = 1e-7 degrees lost the PT
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "Tiny curve"
+units = "m"
+[alignment]
+name = "T"
+start = { station = 0, northing = 0.0, easting = 0.0 }
+azimuth = 0.0
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[[alignment.element]]
+kind = "arc"
+radius = 1e-9
+delta = 1e-7
+turn = "right"
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[staking]
+interval = 10.0
+""")
+    r = _build(job, tmp_path / "out")
+    assert r.exit_code == 2 and "element 2" in r.output and "shorter than" in r.output

@@ -21,7 +21,7 @@ from .curves import CompoundTangents, compound_tangents
 from .elements import Arc, Element, Line, Spiral, end_features, join_features, join_problem, start_features
 from .specs import AlignmentSpec, ArcSpec, ChainSpec, FixedSpec, LineSpec, PIListSpec, SinglePISpec, SpiralSpec
 
-__all__ = ["build_alignment", "CLOSURE_TOLERANCE"]
+__all__ = ["build_alignment", "CLOSURE_TOLERANCE", "MIN_CURVE_LENGTH"]
 
 #: Largest allowed miss (job units) between a walked PT and the PI geometry's PT.
 CLOSURE_TOLERANCE = 1e-6
@@ -62,10 +62,19 @@ def _spiral(length: float, k_start: float, k_end: float) -> _Step:
     return lambda st, n, e, az: Spiral.follow(st, n, e, az, length, k_start, k_end)
 
 
+#: Shortest arc or spiral accepted (job units): anything shorter cannot be staked or even drawn.
+MIN_CURVE_LENGTH = 0.001
+
+
 def _walk(station: float, n: float, e: float, az: float, steps: list[_Step]) -> list[Element]:
     out: list[Element] = []
     for step in steps:
         el = step(float(station), n, e, az)
+        if el.curving and not el.length >= MIN_CURVE_LENGTH:
+            r = min(r for r in (el.radius_start, el.radius_end) if r is not None)
+            raise GeometryError(
+                f"element {len(out) + 1} ({el.kind}, radius {r:.6g}) at station {station:.4f} is {el.length:.3g} "
+                f"long, shorter than the {MIN_CURVE_LENGTH:g} a curve element needs; check its radius and angle")
         out.append(el)
         n, e, az = el.end_northing, el.end_easting, el.end_azimuth
         station += el.length
