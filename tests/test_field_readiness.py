@@ -8,6 +8,7 @@ written here (tangent T = R tan(I/2), common practice of route surveying).
 from __future__ import annotations
 
 import json
+from pathlib import Path
 import math
 
 import numpy as np
@@ -424,3 +425,31 @@ interval = 10.0
 """)
     r = _build(job, tmp_path / "out")
     assert r.exit_code == 2 and "element 2" in r.output and "shorter than" in r.output
+
+
+def test_dxf_of_a_large_job_is_bounded(tmp_path):
+    # hardening 14: 978,542 points took 452 s and 3.3 GB for the DXF; above the detail limit the stakes are
+    # written in bulk as POINTs (checked by reading the file back with ezdxf and auditing it)
+    import sys
+
+    import ezdxf
+
+    from stakeout.writers.dxf import DETAIL_MAX_STAKES
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
+    from corridor import corridor_job
+
+    job = corridor_job(tmp_path / "big.toml", DETAIL_MAX_STAKES + 5000, elements=20, setup=False)
+    out = build_job(job, tmp_path / "out", "--only", "points,dxf")
+    doc = ezdxf.readfile(out / "plan.dxf")
+    assert not doc.audit().has_errors
+    pts = doc.modelspace().query('POINT[layer=="SO-STAKE"]')
+    want = read_rows(out / "points.csv")
+    assert len(pts) == len(want)
+    got = np.array([(p.dxf.location.x, p.dxf.location.y) for p in pts])
+    ref = np.array([(float(r["easting"]), float(r["northing"])) for r in want])
+    assert np.allclose(got, ref, atol=1e-9)
+    handles = [int(p.dxf.handle, 16) for p in pts]
+    assert len(set(handles)) == len(handles) and max(handles) < int(doc.header["$HANDSEED"], 16)
+    texts = [t.dxf.text for t in doc.modelspace().query("TEXT")]
+    assert any("drawn as points without their numbers" in t for t in texts)

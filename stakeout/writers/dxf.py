@@ -37,6 +37,7 @@ import numpy as np
 from ..alignment import Alignment, Arc, Element, Line, Spiral
 from ..angles import format_dms, sincosd
 from ..design import Design
+from . import rows
 from .text import CAUTION_LINES, curve_texts
 
 __all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
@@ -58,6 +59,11 @@ LAYERS: dict[str, int] = {
 INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 
 TEXT_STYLE = "SO-TEXT"
+
+#: Above this many stakes the plan shows them as plain POINTs written in bulk, without
+#: a number beside each and with ticks at full stations only: a drawing of a million
+#: labelled stakes is neither quick to make nor legible (the title block says so).
+DETAIL_MAX_STAKES = 20_000
 
 #: Radial lines from the occupied point are drawn for jobs up to this many stakes.
 RADIAL_MAX_STAKES = 2000
@@ -172,7 +178,8 @@ def _build(c: Design) -> Any:
         if ol.offset != 0.0:
             _draw_path(msp, a, ol.offset, "SO-OFFSET")
 
-    for i in range(len(sp)):
+    detail = len(sp) <= DETAIL_MAX_STAKES
+    for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)
         e, n = float(sp.easting[i]), float(sp.northing[i])
         z = 0.0 if sp.elevation is None else float(sp.elevation[i])
         msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
@@ -180,7 +187,7 @@ def _build(c: Design) -> Any:
 
     # station ticks: long at full stations, short at every staked station
     full = np.arange(math.ceil(a.start_station / sl - 1e-9), math.floor(a.end_station / sl + 1e-9) + 1) * sl
-    ticks = np.unique(np.concatenate([full, sp.stations]))
+    ticks = np.unique(np.concatenate([full, sp.stations])) if detail else full
     (tn, te, taz) = a.evaluate(ticks, 0.0)
     is_full = np.isin(ticks, full)
     lab = dict(zip(full.tolist(), stn.labels(full)))
@@ -235,6 +242,10 @@ def _build(c: Design) -> Any:
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
              f"alignment {a.name}   units {unit.label}",
              f"CRS {c.crs_label or 'none: local grid'}", ""]
+    if not detail:
+        lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at full stations "
+                     f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
+        lines.append("")
     lines.append("CURVE DATA")
     for ct in curve_texts(a, stn):
         cv, t = ct.curve, ct.curve.tangents
@@ -271,15 +282,56 @@ def plan_dxf(c: Design) -> bytes:
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
     try:
         doc = _build(c)
+        bulk = len(c.stakes) > DETAIL_MAX_STAKES
+        first = 0
+        if bulk:  # reserve one handle per stake before the header's $HANDSEED is written
+            first = int(doc.entitydb.handles.next(), 16)
+            doc.entitydb.handles.reset("%X" % (first + len(c.stakes)))
         # The CLASSES section can come out in set order, which follows the hash
         # seed: add the required classes now and put them in a fixed order.
         doc.classes.add_required_classes(doc.dxfversion)
         doc.classes.classes = OrderedDict(sorted(doc.classes.classes.items()))
         stream = io.StringIO()
         doc.write(stream)
+        owner = doc.modelspace().block_record_handle
     finally:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
-    return stream.getvalue().encode(doc.output_encoding)
+    data = stream.getvalue().encode(doc.output_encoding)
+    if bulk:
+        data = _splice_points(data, c, first, owner)
+    return data
+
+
+def _hex(values: np.ndarray) -> rows.Field:
+    """Upper-case hexadecimal digits of non-negative integers (DXF handles), no leading zeros."""
+    v = values.astype(np.int64)
+    width = max(1, int(v.max()).bit_length() + 3 >> 2) if v.size else 1
+    shifts = 4 * np.arange(width - 1, -1, -1, dtype=np.int64)
+    digits = (v[:, None] >> shifts[None, :]) & 15
+    text = np.where(digits < 10, 48 + digits, 55 + digits).astype(np.uint8)
+    lead = np.cumsum(digits != 0, axis=1) == 0
+    lead[:, -1] = False  # keep one digit
+    return np.where(lead, 0, text).astype(np.uint8)
+
+
+def _splice_points(data: bytes, c: Design, first: int, owner: str) -> bytes:
+    """Put one POINT entity per stake at the end of the ENTITIES section, written in bulk
+    with numpy (the same group codes ezdxf writes for a POINT on layer SO-STAKE).
+    """
+    sp = c.stakes
+    at = data.index(b"\n  0\nENDSEC\n", data.index(b"\n  2\nENTITIES\n")) + 1
+    z = np.zeros(len(sp)) if sp.elevation is None else sp.elevation
+    parts = []
+    step = 16384
+    for i in range(0, len(sp), step):  # chunks bound the temporaries; each is vectorised
+        k = min(len(sp), i + step) - i
+        sl = slice(i, i + k)
+        fields = [rows.const("  0\nPOINT\n  5\n", k), _hex(np.arange(first + i, first + i + k)),
+                  rows.const(f"\n330\n{owner}\n100\nAcDbEntity\n  8\nSO-STAKE\n100\nAcDbPoint\n 10\n", k),
+                  rows.fixed(sp.easting[sl], 4), rows.const("\n 20\n", k), rows.fixed(sp.northing[sl], 4),
+                  rows.const("\n 30\n", k), rows.fixed(z[sl], 4)]
+        parts.append(rows.join_rows(fields, k))
+    return data[:at] + b"".join(parts) + data[at:]
 
 
 def plan_png(dxf_bytes: bytes) -> bytes:
