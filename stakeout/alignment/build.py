@@ -259,7 +259,7 @@ def _curve_at_pi(where: str, az_in: float, az_out: float, radii: tuple[float, ..
     for i, r in enumerate(radii):
         if spirals[i] > 0.0:
             steps.append(_spiral(spirals[i], turn * ks[i], turn * ks[i + 1]))
-        if ds[i] > 0.0:
+        if r * math.radians(ds[i]) > CLOSURE_TOLERANCE:  # spirals taking the whole angle leave no arc
             steps.append(_arc(r * math.radians(ds[i]), r, turn))
     if spirals[-1] > 0.0:
         steps.append(_spiral(spirals[-1], turn * ks[-2], 0.0))
