@@ -20,7 +20,7 @@ from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import WIDTH, SheetPart, curve_lines, fixed, header_lines, paged, paged_parts, turn_word
+from .text import WIDTH, SheetPart, curve_lines, fixed, header_lines, paged, paged_parts, side_text, turn_word
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
 
@@ -109,7 +109,7 @@ def _stake_table(d: Design) -> tuple[str, list[str]]:
     wp = max([10] + [len(p) for p in points])
     labels = stakes.station_label
     ws = max([11] + [len(x) for x in labels])
-    offs = fixed(stakes.offset, sd)
+    offs = side_text(stakes.offset, sd)
     wo = max([8] + [len(x) for x in offs])
     at = so.at_instrument
     angles = format_azimuth_dms(so.angle_right, 0)
