@@ -254,9 +254,10 @@ def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
                                f"(from {stationing.label(lo0)} to {stationing.label(hi0)}); ranges may share "
                                "only an end")
     st = stakes.station
+    tol = max(STATION_TOLERANCE, 0.5 * 10.0 ** -stationing.decimals)  # a range's ends as its labels print them
     index = np.full(st.size, -1, dtype=np.int64)
     for k, (lo, hi, _) in enumerate(spans):  # one step per setup, vectorised over the stakes
-        index[(index < 0) & (st >= lo - STATION_TOLERANCE) & (st <= hi + STATION_TOLERANCE)] = k
+        index[(index < 0) & (st >= lo - tol) & (st <= hi + tol)] = k
     if (index < 0).any():
         i = int(np.argmax(index < 0))
         raise GeometryError(f"stake {_PointIds(stakes)[i]!r} at {stationing.label(float(st[i]))}: no "

@@ -79,7 +79,7 @@ def _instrument_lines(d: Design) -> list[str]:
     if spec is None or sd is None or sd.precision is None:
         return []
     u = d.unit.symbol
-    out = [f"instrument angle {spec.angle_sigma_arcsec:g}\" a direction   distance {spec.distance_sigma:g} {u} + "
+    out = [f"instrument angle {spec.angle_sigma_arcsec:g}\" per direction   distance {spec.distance_sigma:g} {u} + "
            f"{spec.distance_ppm:g} ppm   centring {spec.centering_sigma:g} {u}   pole {spec.pole_sigma:g} {u}",
            "          sd along / sd across: predicted standard errors of the stake along and square to",
            f"          the sight; r95 = {R95_FACTOR} x the larger (95 % radius)"]
