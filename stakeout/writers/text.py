@@ -261,7 +261,7 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
                 else:
                     out.append(part.continued)
             out.append(rule)
-            out.extend(part.columns)
+            out.extend(c.rstrip() for c in part.columns)
             out.append(rule)
             out.extend(part.rows[j * ROWS_PER_PAGE:(j + 1) * ROWS_PER_PAGE])
             out.append(rule)
