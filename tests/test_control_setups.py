@@ -28,7 +28,7 @@ from typer.testing import CliRunner
 
 from stakeout.cli import app
 from stakeout.design import build_design
-from stakeout.errors import JobFileError
+from stakeout.errors import GeometryError, JobFileError
 from stakeout.jobfile import load_job, parse_job
 from stakeout.precision import InstrumentSpec
 
@@ -410,6 +410,15 @@ pole_sigma = 0.003
         assert float(r["sigma_along"]) == pytest.approx(along, abs=5e-5)
 
 
+def test_auto_reads_its_defaults():
+    # contract: max_backsight defaults to 2 x max_distance
+    job = parse_job((LISTED + '[setup]\noccupied = "auto"\nmax_distance = 175.5\n').encode())
+    assert job.setup is not None and job.setup.auto and job.setup.listed
+    assert (job.setup.max_distance, job.setup.max_backsight) == (175.5, 351.0)
+    assert job.setup.occupied is None and job.setup.explicit() == ()
+    assert [p.id for p in job.control] == [c[0] for c in CONTROL]
+
+
 # ---- control from a CSV and from LandXML CgPoints ------------------------------------------------------
 CGPOINTS = """<?xml version="1.0" encoding="UTF-8"?>
 <LandXML xmlns="http://www.landxml.org/schema/LandXML-1.2" version="1.2" date="2026-01-01" time="00:00:00">
@@ -515,7 +524,7 @@ def test_auto_setup_properties(az, md, ctrl):
     job = parse_job(text.encode())
     try:
         d = build_design(job)
-    except Exception as exc:  # a stake no control point reaches is the contract's error
+    except GeometryError as exc:  # a stake no control point reaches is the contract's error
         assert "no control point within setup.max_distance" in str(exc)
         return
     sd = d.setup

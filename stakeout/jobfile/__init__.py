@@ -80,8 +80,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
                                "a setup")
         for st in setup.explicit():
             if st.backsight is None:
-                raise JobFileError(f"{st.where}.backsight_azimuth: [instrument] needs a backsight point; its "
-                                   "distance enters the orientation error (give `backsight = ...`)")
+                raise JobFileError(f"{st.where}.backsight_azimuth = {st.backsight_azimuth!r}: [instrument] needs a "
+                                   "backsight point; its distance enters the orientation error (give `backsight`)")
     scale = read_scale(top)
     if scale.auto and info.crs is None:
         raise JobFileError('scale.combined_factor = "auto": needs job.crs (the grid scale factor comes from the CRS)')
