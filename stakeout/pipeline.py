@@ -14,12 +14,54 @@ from .jobfile import load_job
 from .outputs import OUTPUTS, PREVIEW_MAX_POINTS, Rendered, parse_only
 from .progress import Progress
 
-__all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute"]
+__all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute", "setup_notes"]
+
+#: The console lists at most this many setups (the sheet lists them all).
+NOTE_SETUPS = 20
 
 
 def compute(job_path: str | Path) -> Design:
     """Read a job file and build its design."""
     return build_design(load_job(job_path))
+
+
+def setup_notes(d: Design) -> list[str]:
+    """What the console says of the setups: a summary of each (numbered setups
+    only), stakes at the instrument, and the predicted precision.
+    """
+    sd = d.setup
+    if sd is None:
+        return []
+    out = []
+    occs = sd.occupations
+    if sd.listed:
+        setup = sd.setup
+        if setup.auto:
+            how = (f"chosen among {len(d.job.control)} control points (max_distance {setup.max_distance:g}, "
+                   f"max_backsight {setup.max_backsight:g})")
+        else:
+            how = "as listed in the job file"
+        out.append(f"setups: {len(occs)}, {how}")
+        for o in occs[:NOTE_SETUPS]:
+            bs = (f"backsight {o.backsight.id} ({o.backsight_distance:.3f} away)" if o.backsight is not None
+                  else "backsight by azimuth")
+            out.append(f"  setup {o.number}: occupy {o.occupied.id}, {bs}, {o.stake_count} stakes, "
+                       f"farthest sight {o.farthest_sight:.3f}")
+        if len(occs) > NOTE_SETUPS:
+            out.append(f"  ... and {len(occs) - NOTE_SETUPS} more setups: see setout.txt")
+    at = sd.setout.at_instrument
+    if at.any():
+        first = int(at.argmax())
+        out.append(f"{int(at.sum())} stake(s) at the instrument, no angle (first: point {d.stakes.point[first]}, "
+                   f"setup {occs[int(sd.setup_index[first])].number})")
+    if sd.precision is not None:
+        worst = float(sd.precision.r95.max()) if len(d.stakes) else 0.0
+        if sd.flagged is not None and sd.tolerance is not None:
+            out.append(f"precision: r95 up to {worst:.4f}; {int(sd.flagged.sum())} of {sd.flagged.size} stakes "
+                       f"exceed [check] horizontal_tolerance {sd.tolerance:g} (marked on setout.txt)")
+        else:
+            out.append(f"precision: r95 up to {worst:.4f}; no [check] horizontal_tolerance, so no stake is flagged")
+    return out
 
 
 def _has_extra(extra: str | None) -> bool:
@@ -89,6 +131,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:
         for item in f.not_used:

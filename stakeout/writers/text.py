@@ -22,7 +22,8 @@ from ..stations import Stationing
 
 __all__ = [
     "CAUTION_LINES", "WIDTH", "ROWS_PER_PAGE", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines", "paged", "spiral_line",
+    "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
+    "paged", "paged_parts", "SheetPart", "spiral_line",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -83,6 +84,26 @@ def wrap_lines(lines: list[str], width: int = WIDTH) -> list[str]:
         out.extend(textwrap.wrap(line, width, subsequent_indent=indent, break_long_words=True,
                                  break_on_hyphens=False, drop_whitespace=True))
     return out
+
+
+def side_text(offsets: ArrayLike, decimals: int) -> list[str]:
+    """Offsets as a crew reads them: ``16.00 LT``, ``12.00 RT``, ``0.00`` on the line.
+
+    Parameters
+    ----------
+    offsets : array
+        Offsets (job units), negative left and positive right looking up-station.
+    decimals : int
+        Decimals printed.
+
+    Returns
+    -------
+    list of str
+        The size with its side; an offset that rounds to zero has no side.
+    """
+    r = rounded(offsets, decimals)
+    fmt = f"%.{decimals}f"
+    return [fmt % abs(v) + (" LT" if v < 0 else " RT" if v > 0 else "") for v in r]
 
 
 def turn_word(turn: int) -> str:
@@ -207,6 +228,19 @@ def curve_lines(d: Design) -> list[str]:
 
 
 # ---- pages -------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class SheetPart:
+    """One part of a printed sheet: the lines above its table, the table's
+    column header and rows, and the line that opens its continuation pages.
+    Every part after the first starts on a new page.
+    """
+
+    head: list[str]
+    columns: list[str]
+    rows: list[str]
+    continued: str = ""
+
+
 def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str],
           width: int = WIDTH) -> str:
     """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
@@ -214,27 +248,49 @@ def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot
     and the cautions; no line over ``width`` characters (:data:`WIDTH`, wider
     only where the table's own columns need it).
     """
-    pages = max(1, math.ceil(len(rows) / ROWS_PER_PAGE))
-    # the table's own width governs (columns sized from the data); header and foot lines are cut to fit
-    width = max(width, *(len(c) for c in columns), *(len(r) for r in rows))
+    return paged_parts(head, [SheetPart([], columns, rows)], title, foot, width)
+
+
+def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> str:
+    """A printable sheet of several tables (:class:`SheetPart`), each starting on a new page.
+
+    The first page opens with ``head`` and the first part's head; every
+    later part opens a page with its own head; a part longer than
+    :data:`ROWS_PER_PAGE` rows runs on over pages opened by its
+    ``continued`` line.  Pages are numbered through the whole sheet and
+    split by a form feed; the foot and the cautions close it.  The tables
+    are as wide as their data; header and foot lines wider than that (or
+    than ``width``) are wrapped, the page titles cut.
+    """
+    width = max(width, *(len(c) for p in parts for c in p.columns), *(len(r) for p in parts for r in p.rows))
     head = wrap_lines(head, width)
     foot = wrap_lines(foot, width)
-    rule = "-" * max(len(c) for c in columns)
+    counts = [max(1, math.ceil(len(p.rows) / ROWS_PER_PAGE)) for p in parts]
+    pages = sum(counts)
     out: list[str] = []
-    for p in range(pages):
-        if p == 0:
-            out.extend(head)
-        else:
-            out.append("\f" + clip(f"{title}   page {p + 1} of {pages}", width))
-        out.append(f"page {p + 1} of {pages}" if p == 0 else "")
-        out.append(rule)
-        out.extend(columns)
-        out.append(rule)
-        out.extend(rows[p * ROWS_PER_PAGE:(p + 1) * ROWS_PER_PAGE])
-        out.append(rule)
+    page = 0
+    for part, n in zip(parts, counts):
+        rule = "-" * max(len(c) for c in part.columns)
+        for j in range(n):
+            page += 1
+            if page == 1:
+                out.extend(head)
+                out.extend(wrap_lines(part.head, width))
+                out.append(f"page 1 of {pages}")
+            else:
+                out.append("\f" + clip(f"{title}   page {page} of {pages}", width))
+                if j == 0:
+                    out.append("")
+                    out.extend(wrap_lines(part.head, width))
+                else:
+                    out.append(part.continued)
+            out.append(rule)
+            out.extend(c.rstrip() for c in part.columns)
+            out.append(rule)
+            out.extend(part.rows[j * ROWS_PER_PAGE:(j + 1) * ROWS_PER_PAGE])
+            out.append(rule)
     out.append("")
     out.extend(foot)
     out.append("")
     out.extend(CAUTION_LINES)
-    text = "\n".join(out) + "\n"
-    return text
+    return "\n".join(out) + "\n"
