@@ -453,3 +453,17 @@ def test_dxf_of_a_large_job_is_bounded(tmp_path):
     assert len(set(handles)) == len(handles) and max(handles) < int(doc.header["$HANDSEED"], 16)
     texts = [t.dxf.text for t in doc.modelspace().query("TEXT")]
     assert any("drawn as points without their numbers" in t for t in texts)
+
+
+def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
+    # issue 15: sheets split pages on common printer defaults; every page now holds at most 60 lines,
+    # with the column header repeated on each
+    out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
+    for name in ("setout.txt", "deflections.txt"):
+        pages = (out / name).read_text().split("\f")
+        assert len(pages) > 1
+        for page in pages:
+            lines = page.rstrip("\n").split("\n")
+            assert len(lines) <= 60
+            if any(line.startswith("---") for line in lines):  # a page of the table repeats its header
+                assert any(line.lstrip().startswith(("point", "station")) for line in lines)

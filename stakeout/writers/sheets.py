@@ -2,7 +2,7 @@
 sheet for curves (``deflections.txt``).
 
 Plain text, at most 100 characters a line, pages separated by a form feed,
-the column header repeated at the top of every page of 50 rows, the
+the column header repeated at the top of every page of at most 60 lines, the
 cautions at the foot.  Nothing time-dependent is printed, so the same job
 gives the same bytes.
 """

@@ -21,7 +21,7 @@ from ..design import Design
 from ..stations import Stationing
 
 __all__ = [
-    "CAUTION_LINES", "WIDTH", "ROWS_PER_PAGE", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
+    "CAUTION_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
     "paged", "paged_parts", "SheetPart", "spiral_line",
 ]
@@ -36,8 +36,8 @@ CAUTION_LINES = (
 
 #: Widest line of a printed sheet (characters).
 WIDTH = 100
-#: Table rows on one page of a printed sheet.
-ROWS_PER_PAGE = 50
+#: Lines on one printed page at most (a common printer default fits 60 to 66).
+PAGE_LINES = 60
 
 
 # ---- numbers ---------------------------------------------------------------------------
@@ -243,7 +243,7 @@ class SheetPart:
 
 def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str],
           width: int = WIDTH) -> str:
-    """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
+    """A printable sheet: the header, then pages of at most :data:`PAGE_LINES` lines
     with the column header repeated (pages split by a form feed), the foot
     and the cautions; no line over ``width`` characters (:data:`WIDTH`, wider
     only where the table's own columns need it).
@@ -255,42 +255,45 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
     """A printable sheet of several tables (:class:`SheetPart`), each starting on a new page.
 
     The first page opens with ``head`` and the first part's head; every
-    later part opens a page with its own head; a part longer than
-    :data:`ROWS_PER_PAGE` rows runs on over pages opened by its
-    ``continued`` line.  Pages are numbered through the whole sheet and
-    split by a form feed; the foot and the cautions close it.  The tables
-    are as wide as their data; header and foot lines wider than that (or
-    than ``width``) are wrapped, the page titles cut.
+    later part opens a page with its own head; a part's rows run on over
+    pages opened by its ``continued`` line, the column header repeated on
+    each.  No page holds more than :data:`PAGE_LINES` lines; pages are
+    numbered through the whole sheet and split by a form feed; the foot and
+    the cautions close it (on a page of their own when the last is full).
+    The tables are as wide as their data; header and foot lines wider than
+    that (or than ``width``) are wrapped, the page titles cut.
     """
     width = max(width, *(len(c) for p in parts for c in p.columns), *(len(r) for p in parts for r in p.rows))
     head = wrap_lines(head, width)
-    foot = wrap_lines(foot, width)
-    counts = [max(1, math.ceil(len(p.rows) / ROWS_PER_PAGE)) for p in parts]
-    pages = sum(counts)
-    out: list[str] = []
-    page = 0
-    for part, n in zip(parts, counts):
+    closing = [""] + wrap_lines(foot, width) + [""] + list(CAUTION_LINES)
+    pages: list[list[str]] = []
+    for k, part in enumerate(parts):
         rule = "-" * max(len(c) for c in part.columns)
-        for j in range(n):
-            page += 1
-            if page == 1:
-                out.extend(head)
-                out.extend(wrap_lines(part.head, width))
-                out.append(f"page 1 of {pages}")
+        columns = [c.rstrip() for c in part.columns]
+        rows = part.rows
+        first = True
+        while first or rows:
+            if k == 0 and first:
+                opening = head + wrap_lines(part.head, width) + ["page {page} of {pages}"]
+            elif first:
+                opening = ["{title}", ""] + wrap_lines(part.head, width)
             else:
-                out.append("\f" + clip(f"{title}   page {page} of {pages}", width))
-                if j == 0:
-                    out.append("")
-                    out.extend(wrap_lines(part.head, width))
-                else:
-                    out.append(part.continued)
-            out.append(rule)
-            out.extend(c.rstrip() for c in part.columns)
-            out.append(rule)
-            out.extend(part.rows[j * ROWS_PER_PAGE:(j + 1) * ROWS_PER_PAGE])
-            out.append(rule)
-    out.append("")
-    out.extend(foot)
-    out.append("")
-    out.extend(CAUTION_LINES)
+                opening = ["{title}", part.continued]
+            room = max(5, PAGE_LINES - len(opening) - len(columns) - 3)
+            pages.append(opening + [rule] + columns + [rule] + rows[:room] + [rule])
+            rows = rows[room:]
+            first = False
+    if len(pages[-1]) + len(closing) > PAGE_LINES:
+        pages.append(["{title}"] + closing)
+    else:
+        pages[-1].extend(closing)
+    total = len(pages)
+    out: list[str] = []
+    for n, lines in enumerate(pages, start=1):
+        for i, line in enumerate(lines):
+            if line == "{title}":
+                line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
+            elif line == "page {page} of {pages}":
+                line = f"page {n} of {total}"
+            out.append(line)
     return "\n".join(out) + "\n"
