@@ -11,7 +11,7 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .tables import DECIMALS, csv_field, csv_text
-from .text import CAUTION_LINES, clip, finite_or_empty
+from .text import CAUTION_LINES, SIGN_OFF_LINES, clip, finite_or_empty
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text"]
 
@@ -140,6 +140,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         out.append("status out (horizontal / vertical / both): which tolerance the shot fails")
     out.append("d along / d across: the shot's station / offset minus the design point's; d = staked - design;")
     out.append("northing and easting residuals are in check.csv")
+    out.append("")
+    out.extend(SIGN_OFF_LINES)
     out.append("")
     out.extend(CAUTION_LINES)
     text = "\n".join(out) + "\n"

@@ -21,7 +21,7 @@ from ..design import Design
 from ..stations import Stationing
 
 __all__ = [
-    "CAUTION_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
+    "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
     "paged", "paged_parts", "SheetPart", "spiral_line",
 ]
@@ -32,6 +32,12 @@ CAUTION_LINES = (
     "value independently (closures, a second computation, field checks on known",
     "control) before staking. Local codes and the judgement of a licensed surveyor",
     "govern; this sheet does not replace them.",
+)
+
+#: The sign-off block of every printed sheet and report.
+SIGN_OFF_LINES = (
+    "Prepared by ______________________________   date ______________",
+    "Checked by  ______________________________   date ______________",
 )
 
 #: Widest line of a printed sheet (characters).
@@ -265,7 +271,7 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
     """
     width = max(width, *(len(c) for p in parts for c in p.columns), *(len(r) for p in parts for r in p.rows))
     head = wrap_lines(head, width)
-    closing = [""] + wrap_lines(foot, width) + [""] + list(CAUTION_LINES)
+    closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
     pages: list[list[str]] = []
     for k, part in enumerate(parts):
         rule = "-" * max(len(c) for c in part.columns)
