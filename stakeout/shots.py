@@ -4,11 +4,14 @@ By default the columns are those of ``points.csv``:
 ``point,northing,easting,elevation,description``, with or without a header
 row.  The first row is a header only when it names the columns: its
 northing is not a number and it names both ``northing`` and ``easting``
-(any case, or an alias such as ``N``/``E``); otherwise it is a shot, and a
-shot that does not parse is an error with its line number (a typo in the
-first shot is never dropped as a header).  A header that names at least
-``point``, ``northing`` and ``easting`` sets the column order unless
-``columns`` is given; a header naming a column twice is refused.  The
+(any case, or an alias such as ``N``/``E``), or names a column ``X`` or
+``Y``; otherwise it is a shot, and a shot that does not parse is an error
+with its line number (a typo in the first shot is never dropped as a
+header).  A header that names at least ``point``, ``northing`` and
+``easting`` sets the column order unless ``columns`` is given; a header
+naming a column twice is refused.  ``X`` and ``Y`` are ambiguous in this
+trade (some programs write the easting as X, others the northing), so a
+header naming either is refused unless ``--columns`` gives the order.  The
 delimiter is a comma, semicolon, tab or runs of spaces; ``auto`` picks the
 one that splits the first record, as parsed (quotes honoured), into the
 most fields.
@@ -70,9 +73,11 @@ __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_column
 DEFAULT_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 KNOWN_COLUMNS = ("point", "northing", "easting", "elevation", "description", "skip")
 DELIMITERS = {"auto": None, "comma": ",", "semicolon": ";", "tab": "\t", "space": " "}
+#: Header names that mean the easting to some programs and the northing to others.
+AMBIGUOUS_NAMES = ("x", "y")
 _ALIASES = {"pt": "point", "id": "point", "name": "point", "pnt": "point", "number": "point",
-            "n": "northing", "north": "northing", "y": "northing",
-            "e": "easting", "east": "easting", "x": "easting",
+            "n": "northing", "north": "northing",
+            "e": "easting", "east": "easting",
             "z": "elevation", "elev": "elevation", "height": "elevation", "h": "elevation",
             "desc": "description", "code": "description", "descr": "description"}
 
@@ -83,7 +88,9 @@ class Shots:
 
     ``northing``, ``easting`` and ``elevation`` are in job units; ``line``
     is each shot's line number in the file; ``encoding`` names how the file
-    was read (``UTF-8``, ``UTF-16`` or ``Windows-1252``).
+    was read (``UTF-8``, ``UTF-16`` or ``Windows-1252``); ``columns`` is
+    the column order the shots were read in and ``columns_from`` where it
+    came from (``default``, ``header`` or ``--columns``).
     """
 
     point: list[str]
@@ -93,6 +100,8 @@ class Shots:
     description: list[str]
     line: list[int]
     encoding: str = "UTF-8"
+    columns: tuple[str, ...] = DEFAULT_COLUMNS
+    columns_from: str = "default"
 
     def __len__(self) -> int:
         return len(self.point)
@@ -249,6 +258,19 @@ def _header_names(r: list[str]) -> list[str]:
     return [_ALIASES.get(c.strip().lower(), c.strip().lower()) for c in r]
 
 
+def _ambiguous_header(name: str, ln: int, names: list[str], given: list[str]) -> str:
+    """The refusal of a header naming ``X``/``Y``, with both readings spelt out as ``--columns``."""
+    def order(x: str, y: str) -> str:
+        cols = [{"x": x, "y": y}.get(n, n if n in KNOWN_COLUMNS else "skip") for n in names]
+        return ",".join(cols)
+
+    said = " and ".join(repr(g) for g in given)
+    return (f"staked file {name!r} line {ln}: the header names {said}, which some programs write for the "
+            "easting and others for the northing; give the order with --columns, e.g. --columns "
+            f"{order('easting', 'northing')} if X is the easting, or --columns {order('northing', 'easting')} "
+            "if X is the northing")
+
+
 def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, delimiter: str = "auto",
                columns_given: bool = False) -> Shots:
     """Read and validate a staked-points file.
@@ -297,8 +319,12 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
     cols = columns
     ni = cols.index("northing")
     names = _header_names(r0)
+    ambiguous = [r0[i].strip() for i, n in enumerate(names) if n in AMBIGUOUS_NAMES]
     has_header = ((ni >= len(r0) or _number(r0[ni].strip()) is None)
-                  and "northing" in names and "easting" in names)
+                  and (("northing" in names and "easting" in names) or bool(ambiguous)))
+    if has_header and ambiguous and not columns_given:
+        raise StakedFileError(_ambiguous_header(name, ln0, names, ambiguous))
+    columns_from = "--columns" if columns_given else "default"
     if has_header and not columns_given:
         for c in KNOWN_COLUMNS:
             at = [i + 1 for i, n in enumerate(names) if n == c]
@@ -310,6 +336,7 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
                 )
         if all(n in names for n in ("point", "northing", "easting")):
             cols = tuple(n if n in KNOWN_COLUMNS and n != "skip" else "skip" for n in names)
+            columns_from = "header"
     idx = {c: i for i, c in enumerate(cols) if c != "skip"}
     need = max(idx["point"], idx["northing"], idx["easting"]) + 1
     point: list[str] = []
@@ -378,4 +405,4 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         raise StakedFileError(f"staked file {name!r}: line {ln0} is a header (it names the columns) and no "
                               "shots follow")
     return Shots(point, np.array(north, dtype=np.float64), np.array(east, dtype=np.float64),
-                 np.array(elev, dtype=np.float64), desc, line_no, encoding)
+                 np.array(elev, dtype=np.float64), desc, line_no, encoding, cols, columns_from)
