@@ -1,10 +1,29 @@
 """Staked shots against design (numpy, no I/O).
 
-Matching (outputs contract): shots are taken in file order, first by point
-number, then, for numbers no design point has, by the nearest design point
-within the search radius.  A shot whose design point is already matched is
-a ``duplicate`` (reported with its residuals); one with no design point
-within reach is ``unmatched``.  Nothing is dropped.
+Matching (outputs contract), shots taken in file order:
+
+1. **By number.**  A shot whose id is a design point's id is matched to it.
+   A point shot again later in the file (a re-stake) is governed by its
+   *last* shot; the earlier ones are ``superseded`` (reported with their
+   residuals, not a failure).
+2. **Control.**  A shot whose id is a control point's id (the occupied
+   point, a point backsight: :func:`job_control_points`) is a check on
+   control, ``control``: its residual is against the control coordinates,
+   and it needs attention only beyond the tolerances.  An id that names
+   both a design point and a control point goes to the nearer of the two
+   (a tie to the design point).
+3. **By position.**  A shot whose id is neither is matched to the nearest
+   design point or control point within the search radius (the nearer of
+   the two; a tie to the design point).  A design point already taken (by
+   number, or by an earlier shot by position) makes the shot a
+   ``duplicate``, reported with its residuals.  Beyond reach of both it is
+   ``unmatched``.
+
+Nothing is dropped.  ``ok`` and ``out`` are the governing shots of design
+points, within or beyond tolerance.  The design points still to set
+(:attr:`CheckResult.restake`) are those whose governing shot is ``out`` —
+including a point whose earlier shot was good and whose later one is
+out — and those no shot reached.
 
 Nearest-point search uses :class:`PointIndex`, a quadtree of the design
 points laid out as one array in Morton order: each shot descends only into
@@ -15,29 +34,48 @@ points near each shot, not shots times design points.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import Alignment
+from .job import Job
 from .shots import Shots
 from .staking import StakePoints
 
-__all__ = ["CheckResult", "check_shots", "STATUSES", "PointIndex", "nearest_within"]
+__all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_points", "PointIndex",
+           "nearest_within", "design_index_of_ids", "Matches", "match_shots"]
+
+STATUSES = ("ok", "out", "superseded", "duplicate", "control", "unmatched")
+
+#: A control point as the check takes it: id, northing, easting (job units),
+#: elevation (job units) or ``None``.
+ControlRow = tuple[str, float, float, float | None]
 
 #: Query points searched at once: bounds memory.
 _QUERIES_AT_ONCE = 1 << 15
 
-STATUSES = ("ok", "out", "duplicate", "unmatched")
-
 
 @dataclass(frozen=True)
 class CheckResult:
-    """Per-shot results in file order; residuals are NaN where not defined."""
+    """Per-shot results in file order; residuals are NaN where not defined.
 
-    design_index: NDArray[np.int64]  # -1 when unmatched
-    matched_by: list[str]  # "number", "nearest" or ""
+    ``design_index`` is the matched design point (-1 for none),
+    ``control_index`` the matched control point (-1 for none);
+    ``matched_by`` is ``number``, ``nearest`` or empty; ``fails`` names
+    the tolerance an ``out`` or ``control`` shot fails (``horizontal``,
+    ``vertical``, ``both``) and is empty otherwise; ``related`` is, for a
+    ``superseded`` or ``duplicate`` shot, the index of the shot that
+    governs its design point (-1 otherwise).  Stations are internal
+    stations; ``d_*`` are shot minus design (or control).
+    """
+
+    design_index: NDArray[np.int64]
+    control_index: NDArray[np.int64]
+    control_ids: tuple[str, ...]
+    matched_by: list[str]
     station: NDArray[np.float64]
     offset: NDArray[np.float64]
     d_northing: NDArray[np.float64]
@@ -47,7 +85,10 @@ class CheckResult:
     d_offset: NDArray[np.float64]
     d_elevation: NDArray[np.float64]
     status: list[str]
-    not_staked: list[int]  # design indices that no shot matched
+    fails: list[str]
+    related: NDArray[np.int64]
+    not_staked: NDArray[np.int64]  # design indices no shot matched, point order
+    restake: NDArray[np.int64]  # design indices still to set (out, or not staked), point order
     horizontal_tolerance: float
     vertical_tolerance: float | None
     search_radius: float
@@ -56,10 +97,42 @@ class CheckResult:
         """Number of shots per status."""
         return {s: self.status.count(s) for s in STATUSES}
 
+    def needs_attention(self, k: int) -> bool:
+        """Whether shot ``k`` needs a person: out, duplicate, unmatched, or control beyond tolerance."""
+        s = self.status[k]
+        return s in ("out", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
+
     @property
     def all_ok(self) -> bool:
-        """True when every shot is within tolerance (exit code 0)."""
-        return all(s == "ok" for s in self.status)
+        """True when no shot needs attention (exit code 0)."""
+        return not any(self.needs_attention(k) for k in range(len(self.status)))
+
+
+def job_control_points(job: Job) -> list[ControlRow]:
+    """The control points of a job, as :func:`check_shots` takes them.
+
+    Today these are the ``[setup]`` occupied point and a backsight given as
+    a point; a job without ``[setup]`` has none.
+
+    Parameters
+    ----------
+    job : Job
+        The read job.
+
+    Returns
+    -------
+    list of (id, northing, easting, elevation)
+        Coordinates and elevation in job units; elevation ``None`` where
+        the job gives none.  In the job's order, each id once.
+    """
+    out: list[ControlRow] = []
+    setup = job.setup
+    if setup is None:
+        return out
+    for cp in (setup.occupied, setup.backsight):
+        if cp is not None and all(cp.id != c[0] for c in out):
+            out.append((cp.id, cp.northing, cp.easting, cp.elevation))
+    return out
 
 
 # ---- nearest point within a radius ----------------------------------------------------------------
@@ -251,61 +324,223 @@ def nearest_within(pn: NDArray[np.float64], pe: NDArray[np.float64], qn: NDArray
     return PointIndex.build(pn, pe, radius).nearest_within(qn, qe, radius)
 
 
-def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDArray[np.float64] | None,
-                shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
-                search_radius: float | None = None) -> CheckResult:
-    """Match shots to design points and compute residuals and status.
+# ---- ids ----------------------------------------------------------------------------------------------
+def design_index_of_ids(ids: Sequence[str], prefix: str, first_point: int, count: int) -> NDArray[np.int64]:
+    """The design point each id names exactly (``prefix`` + number), -1 for none.
+
+    Design points are numbered ``first_point`` upwards in point order, so an
+    id is parsed rather than looked up; ``P012`` does not name ``P12``.
 
     Parameters
     ----------
-    alignment, design : the built alignment and its stake points.
-    design_elevation : design elevations per design point, or None.
-    shots : the staked shots, file order.
-    horizontal_tolerance, vertical_tolerance : job units.
-    search_radius : job units; default 10 x the horizontal tolerance.
+    ids : sequence of str
+        Shot ids as read.
+    prefix : str
+        The job's ``point_prefix``.
+    first_point : int
+        Number of the first design point.
+    count : int
+        Number of design points.
+    """
+    a = _id_array(ids, len(prefix) + 19)
+    if a.size == 0:
+        return np.zeros(0, dtype=np.int64)
+    has = np.char.startswith(a, prefix) if prefix else np.ones(a.size, dtype=bool)
+    rest = np.char.replace(a, prefix, "", 1) if prefix else a
+    rest = np.where(has, rest, "")
+    ascii_digits = (np.char.str_len(rest) > 0) & (np.char.str_len(np.char.strip(rest, "0123456789")) == 0)
+    ok = has & ascii_digits & (np.char.str_len(rest) <= 18)
+    num = np.where(ok, rest, "0").astype(np.int64)
+    ok &= np.char.add(prefix, num.astype(str)) == a  # the canonical spelling only
+    idx = num - first_point
+    ok &= (idx >= 0) & (idx < count)
+    return np.where(ok, idx, -1).astype(np.int64)
+
+
+def _id_array(ids: Sequence[str], longest: int) -> NDArray[np.str_]:
+    """Ids as a numpy string array; an id longer than ``longest`` (which can
+    name nothing) becomes empty (which names nothing), so one long id does
+    not widen every element.
+    """
+    return np.asarray([p if len(p) <= longest else "" for p in ids], dtype=str)
+
+
+def _control_index_of_ids(ids: Sequence[str], control_ids: Sequence[str]) -> NDArray[np.int64]:
+    if len(ids) == 0 or not control_ids:
+        return np.full(len(ids), -1, dtype=np.int64)
+    a = _id_array(ids, max(len(c) for c in control_ids))
+    c = np.asarray(list(control_ids), dtype=str)
+    o = np.argsort(c, kind="stable")
+    at = np.minimum(np.searchsorted(c[o], a), c.size - 1)
+    return np.where(c[o][at] == a, o[at], -1).astype(np.int64)
+
+
+# ---- the check --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Matches:
+    """How shots (file order) are matched, before any residual.
+
+    ``design_index``/``control_index``: the design or control point matched
+    (-1 for none; at most one of the two); ``by_number``: matched by id
+    (else by position); ``superseded``/``duplicate`` as in the module
+    docstring; ``related``: for those two, the shot governing the design
+    point (-1 otherwise); ``governor``: for each design point, its
+    governing shot (-1: not staked).
+    """
+
+    design_index: NDArray[np.int64]
+    control_index: NDArray[np.int64]
+    by_number: NDArray[np.bool_]
+    superseded: NDArray[np.bool_]
+    duplicate: NDArray[np.bool_]
+    related: NDArray[np.int64]
+    governor: NDArray[np.int64]
+
+
+def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDArray[np.float64], prefix: str,
+                first_point: int, design_northing: NDArray[np.float64], design_easting: NDArray[np.float64],
+                control: Sequence[ControlRow], radius: float) -> Matches:
+    """Match shots to design and control points (the rules of the module docstring).
+
+    Parameters
+    ----------
+    ids : sequence of str
+        Shot ids, file order.
+    northing, easting : array of float
+        Shot coordinates, job units.
+    prefix, first_point : str, int
+        Design point ids are ``prefix`` + (``first_point`` + index).
+    design_northing, design_easting : array of float
+        Design points in point order, job units.
+    control : sequence of (id, northing, easting, elevation)
+        Control points, job units.
+    radius : float
+        Search radius for shots matched by position, job units.
+    """
+    sn = np.asarray(northing, dtype=np.float64)
+    se = np.asarray(easting, dtype=np.float64)
+    m, nd = sn.size, design_northing.size
+    cn = np.array([c[1] for c in control], dtype=np.float64)
+    ce = np.array([c[2] for c in control], dtype=np.float64)
+
+    # ids: a design point's, a control point's, or both (then the nearer; a tie to the design point)
+    num = design_index_of_ids(ids, prefix, first_point, nd)
+    cid = _control_index_of_ids(ids, [c[0] for c in control])
+    both = (num >= 0) & (cid >= 0)
+    if np.any(both):
+        sd, sc = np.where(both, num, 0), np.where(both, cid, 0)
+        to_ctl = both & (np.hypot(sn - cn[sc], se - ce[sc])
+                         < np.hypot(sn - design_northing[sd], se - design_easting[sd]))
+        num = np.where(to_ctl, -1, num)
+        cid = np.where(both & ~to_ctl, -1, cid)
+
+    # by position: the nearer of the nearest design and control points within reach
+    rest = np.flatnonzero((num < 0) & (cid < 0))
+    near = np.full(m, -1, dtype=np.int64)
+    near_c = np.full(m, -1, dtype=np.int64)
+    if rest.size:
+        pi, pd = nearest_within(design_northing, design_easting, sn[rest], se[rest], radius)
+        ci, cd = nearest_within(cn, ce, sn[rest], se[rest], radius)
+        to_ctl = (ci >= 0) & ((pi < 0) | (cd < np.where(pi >= 0, pd, np.inf)))
+        near[rest] = np.where(to_ctl, -1, pi)
+        near_c[rest] = np.where(to_ctl, ci, -1)
+    di = np.where(num >= 0, num, near)
+    by_number = (num >= 0) | (cid >= 0)
+
+    # who governs each design point: its last shot by number, else its first by position
+    governor = np.full(nd, -1, dtype=np.int64)
+    k_num = np.flatnonzero(num >= 0)
+    np.maximum.at(governor, di[k_num], k_num)  # the last shot of each number governs
+    superseded = (num >= 0) & (governor[np.where(num >= 0, di, 0)] != np.arange(m))
+    k_near = np.flatnonzero(near >= 0)
+    dup = np.zeros(m, dtype=bool)
+    if k_near.size:
+        d_near = di[k_near]
+        is_first = np.zeros(k_near.size, dtype=bool)
+        is_first[np.unique(d_near, return_index=True)[1]] = True  # first shot by position of each point
+        takes = is_first & (governor[d_near] < 0)
+        governor[d_near[takes]] = k_near[takes]
+        dup[k_near[~takes]] = True
+    related = np.where(superseded | dup, governor[np.where(di >= 0, di, 0)], -1).astype(np.int64)
+    return Matches(di.astype(np.int64), np.where(cid >= 0, cid, near_c).astype(np.int64), by_number,
+                   superseded, dup, related, governor)
+
+
+def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDArray[np.float64] | None,
+                shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
+                search_radius: float | None = None, control: Sequence[ControlRow] = ()) -> CheckResult:
+    """Match shots to design and control points; residuals and status.
+
+    Parameters
+    ----------
+    alignment : Alignment
+        The built alignment (stations and offsets of shots, internal stations).
+    design : StakePoints
+        The design points, in point order.
+    design_elevation : array of float or None
+        Design elevation of every design point (job units), or None.
+    shots : Shots
+        The staked shots, file order.
+    horizontal_tolerance, vertical_tolerance : float
+        Job units; vertical None: elevations are not checked.
+    search_radius : float, optional
+        Job units; default 10 x the horizontal tolerance.
+    control : sequence of (id, northing, easting, elevation)
+        The job's control points (job units; elevation None where unknown),
+        e.g. :func:`job_control_points`.
+
+    Returns
+    -------
+    CheckResult
+        Per-shot results in file order (see the module docstring).
     """
     radius = 10.0 * horizontal_tolerance if search_radius is None else search_radius
-    m = len(shots)
-    by_id = {p: i for i, p in enumerate(design.point)}
-    idx = np.full(m, -1, dtype=np.int64)
-    how = [""] * m
-    taken = np.zeros(len(design), dtype=bool)
-    dup = np.zeros(m, dtype=bool)
-    for k, pid in enumerate(shots.point):  # pass 1: by point number, in file order
-        i = by_id.get(pid)
-        if i is None:
-            continue
-        idx[k], how[k] = i, "number"
-        dup[k] = taken[i]
-        taken[i] = True
-    rest = np.where(idx < 0)[0]
-    if rest.size:
-        near, _ = nearest_within(design.northing, design.easting, shots.northing[rest], shots.easting[rest], radius)
-        for k, i in zip(rest.tolist(), near.tolist()):  # pass 2: nearest, in file order
-            if i >= 0:
-                idx[k], how[k] = i, "nearest"
-                dup[k] = taken[i]
-                taken[i] = True
-    matched = idx >= 0
-    safe = np.where(matched, idx, 0)
-    st, off, _ = alignment.locate(shots.northing, shots.easting)
-    dst, doff, _ = alignment.locate(design.northing[safe], design.easting[safe])
+    m, nd = len(shots), len(design)
+    sn, se = shots.northing, shots.easting
+    mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
+                     control, radius)
+    di, ci = mt.design_index, mt.control_index
+    to_design, to_control = di >= 0, ci >= 0
+    matched = to_design | to_control
+
+    # residuals against the design point or the control point matched
+    sd, sc = np.where(to_design, di, 0), np.where(to_control, ci, 0)
+    tn = np.where(to_design, design.northing[sd], np.nan)
+    te = np.where(to_design, design.easting[sd], np.nan)
+    tz = np.where(to_design, design_elevation[sd], np.nan) if design_elevation is not None else np.full(m, np.nan)
+    if control:
+        cn = np.array([c[1] for c in control], dtype=np.float64)
+        ce = np.array([c[2] for c in control], dtype=np.float64)
+        cz = np.array([np.nan if c[3] is None else c[3] for c in control], dtype=np.float64)
+        tn = np.where(to_control, cn[sc], tn)
+        te = np.where(to_control, ce[sc], te)
+        tz = np.where(to_control, cz[sc], tz)
+    st, off, _ = alignment.locate(sn, se)
+    dst, doff, _ = alignment.locate(np.where(matched, tn, sn), np.where(matched, te, se))
     nan = np.full(m, np.nan)
-    dn = np.where(matched, shots.northing - design.northing[safe], nan)
-    de = np.where(matched, shots.easting - design.easting[safe], nan)
+    dn, de = sn - tn, se - te
     hz = np.hypot(dn, de)
-    if design_elevation is not None:
-        dz = np.where(matched, shots.elevation - design_elevation[safe], nan)
-    else:
-        dz = nan
+    dz = shots.elevation - tz
     with np.errstate(invalid="ignore"):
-        bad = hz > horizontal_tolerance
-        if vertical_tolerance is not None:
-            bad |= np.isfinite(dz) & (np.abs(dz) > vertical_tolerance)
-    status = np.where(~matched, "unmatched", np.where(dup, "duplicate", np.where(bad, "out", "ok"))).tolist()
+        h_bad = hz > horizontal_tolerance
+        v_bad = (np.isfinite(dz) & (np.abs(dz) > vertical_tolerance) if vertical_tolerance is not None
+                 else np.zeros(m, dtype=bool))
+    bad = h_bad | v_bad
+    status = np.select([~matched, to_control, mt.superseded, mt.duplicate, bad],
+                       ["unmatched", "control", "superseded", "duplicate", "out"], "ok").tolist()
+    word = np.select([h_bad & v_bad, h_bad, v_bad], ["both", "horizontal", "vertical"], "")
+    fails = np.where(np.isin(np.array(status), ["out", "control"]), word, "").tolist()
+    how = np.where(~matched, "", np.where(mt.by_number, "number", "nearest")).tolist()
+
+    staked = mt.governor >= 0
+    gov_out = np.zeros(nd, dtype=bool)
+    gov_out[staked] = bad[mt.governor[staked]]
     return CheckResult(
-        design_index=idx, matched_by=how, station=st, offset=off, d_northing=dn, d_easting=de,
-        horizontal_error=hz, d_station=np.where(matched, st - dst, nan), d_offset=np.where(matched, off - doff, nan),
-        d_elevation=dz, status=status, not_staked=np.where(~taken)[0].tolist(),
+        design_index=di, control_index=ci, control_ids=tuple(c[0] for c in control), matched_by=how,
+        station=st, offset=off, d_northing=dn, d_easting=de, horizontal_error=hz,
+        d_station=np.where(matched, st - dst, nan), d_offset=np.where(matched, off - doff, nan),
+        d_elevation=dz, status=status, fails=fails, related=mt.related,
+        not_staked=np.flatnonzero(~staked).astype(np.int64),
+        restake=np.flatnonzero(~staked | gov_out).astype(np.int64),
         horizontal_tolerance=horizontal_tolerance, vertical_tolerance=vertical_tolerance, search_radius=radius,
     )
