@@ -41,12 +41,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import Alignment
+from .errors import StakedFileError
 from .job import Job
 from .shots import Shots
 from .staking import StakePoints
 
 __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_points", "PointIndex",
-           "nearest_within", "design_index_of_ids", "Matches", "match_shots"]
+           "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots"]
 
 STATUSES = ("ok", "out", "superseded", "duplicate", "control", "unmatched")
 
@@ -373,6 +374,50 @@ def _control_index_of_ids(ids: Sequence[str], control_ids: Sequence[str]) -> NDA
     o = np.argsort(c, kind="stable")
     at = np.minimum(np.searchsorted(c[o], a), c.size - 1)
     return np.where(c[o][at] == a, o[at], -1).astype(np.int64)
+
+
+# ---- swapped columns -----------------------------------------------------------------------------------
+def check_column_order(design_n: NDArray[np.float64], design_e: NDArray[np.float64],
+                       control: Sequence[ControlRow], shots: Shots, search_radius: float, name: str) -> None:
+    """Refuse a staked file read with northing and easting swapped.
+
+    The job's extent is the box of its design and control points, padded
+    by a quarter of its larger side and the search radius.  When most shots
+    lie outside it as read but most would lie inside it with northing and
+    easting swapped, the file was exported easting-first (or ``--columns``
+    has them the wrong way round).
+
+    Raises
+    ------
+    StakedFileError
+        Naming the counts, the extent and the ``--columns`` to give.
+    """
+    n = np.concatenate([design_n, np.array([c[1] for c in control], dtype=np.float64)])
+    e = np.concatenate([design_e, np.array([c[2] for c in control], dtype=np.float64)])
+    m = len(shots)
+    if n.size == 0 or m == 0:
+        return
+    n0, n1, e0, e1 = float(n.min()), float(n.max()), float(e.min()), float(e.max())
+    pad = 0.25 * max(n1 - n0, e1 - e0) + search_radius
+
+    def inside(qn: NDArray[np.float64], qe: NDArray[np.float64]) -> int:
+        return int(np.count_nonzero((qn >= n0 - pad) & (qn <= n1 + pad) & (qe >= e0 - pad) & (qe <= e1 + pad)))
+
+    outside = m - inside(shots.northing, shots.easting)
+    swapped = inside(shots.easting, shots.northing)
+    if 2 * outside <= m or 2 * swapped <= m:
+        return
+    cols = list(shots.columns)
+    i, j = cols.index("northing"), cols.index("easting")
+    cols[i], cols[j] = cols[j], cols[i]
+    how = {"header": "as its header names them", "--columns": "as --columns gave them"}.get(
+        shots.columns_from, "in the default order")
+    raise StakedFileError(
+        f"staked file {name!r}: {outside} of {m} shots lie far outside the job (northing {n0:.1f} to {n1:.1f}, "
+        f"easting {e0:.1f} to {e1:.1f}) but {swapped} would lie inside it with northing and easting swapped; "
+        f"the columns were read as {','.join(shots.columns)} ({how}); if the file is easting first, give "
+        f"--columns {','.join(cols)}"
+    )
 
 
 # ---- the check --------------------------------------------------------------------------------------------

@@ -115,7 +115,8 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     """``stakeout check``: staked shots against design, written atomically.
 
     Writes ``check.csv``, ``check.txt`` and ``restake.csv`` (the design
-    points still to set).
+    points still to set).  A file whose northings and eastings look swapped
+    is refused before anything is written.
 
     Returns
     -------
@@ -124,7 +125,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
         tolerance, duplicated, unmatched, or a control shot beyond
         tolerance (the CLI exits 1).
     """
-    from .check import check_shots, job_control_points
+    from .check import check_column_order, check_shots, job_control_points
     from .shots import parse_columns, read_shots
     from .writers.checkreport import check_csv, check_txt, restake_csv
     from .writers.folder import OutputFolder
@@ -140,6 +141,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     d = build_design(job)
     control = job_control_points(job)
     radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
+    check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,

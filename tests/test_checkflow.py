@@ -1,5 +1,5 @@
-"""The check workflow of a crew: re-stakes, control check shots, X and Y
-headers, what to do, the re-stake list, and the nearest-point index.
+"""The check workflow of a crew: re-stakes, control check shots, swapped
+columns, what to do, the re-stake list, and the nearest-point index.
 
 Each case is named after what a crew does; references are named beside
 each check: scipy's KD-tree and plain brute force (numpy argmin, Python
@@ -195,7 +195,46 @@ def test_more_control_points_can_be_fed_in():
     assert m.by_number.tolist() == [True, True, True, False]
 
 
-# ---- 10. X and Y headers ------------------------------------------------------------------------------------------
+# ---- 10. swapped columns, X and Y -----------------------------------------------------------------------------
+def _sample_rows():
+    return [r.split(",") for r in (SAMPLES / "staked" / "loop_ramp_shots.csv").read_text().splitlines()]
+
+
+def test_easting_first_file_stops_with_exit_2_naming_columns(tmp_path):
+    rows = [[p, e, n, z, c] for p, n, e, z, c in _sample_rows()]
+    r, got, out = _check(tmp_path, rows)
+    assert r.exit_code == 2 and got is None and not out.exists()
+    msg = r.output.replace("\n", " ")
+    assert "swapped" in msg and "--columns point,easting,northing,elevation,description" in msg
+    assert "(in the default order)" in msg
+    # with the columns given, the same file checks as the sample does
+    r2, got2, _ = _check(tmp_path, rows, LOOP, "--columns", "point,easting,northing,elevation,description")
+    assert r2.exit_code == 1 and [g["status"] for g in got2].count("ok") == 9
+
+
+def test_easting_first_file_under_a_header_saying_otherwise_is_refused(tmp_path):
+    rows = [[p, e, n, z, c] for p, n, e, z, c in _sample_rows()]
+    r, _, _ = _check(tmp_path, rows, header=["Point", "Northing", "Easting", "Elevation", "Code"])
+    assert r.exit_code == 2 and "as its header names them" in r.output.replace("\n", " ")
+
+
+def test_local_grid_with_similar_northings_and_eastings_is_not_taken_for_swapped(tmp_path):
+    # Hollis Creek: northings 5000-7700, eastings 5000-6300 -- shots fit both ways; as read they fit.
+    job = tmp_path / "j.toml"
+    job.write_text((SAMPLES / "pi_list_local_ft.toml").read_text() + "\n[check]\nhorizontal_tolerance = 0.05\n")
+    d = _design(job)
+    rows = [_shot(p, n, e) for p, n, e in zip(d.stakes.point[:6], d.stakes.northing[:6], d.stakes.easting[:6])]
+    r, got, _ = _check(tmp_path, rows, job)
+    assert r.exit_code == 0, r.output
+
+
+def test_a_few_stray_shots_do_not_trigger_the_swapped_refusal(tmp_path):
+    d = _design()
+    rows = [_shot(p, *_xy(d, p)) for p in ("1000", "1001", "1002")] + [_shot("S1", 6485000.0, 1840000.0)]
+    r, got, _ = _check(tmp_path, rows)
+    assert r.exit_code == 1 and got[3]["status"] == "unmatched"
+
+
 @pytest.mark.parametrize("header", [["PT", "X", "Y", "Z", "CODE"], ["pt", "y", "x", "z", "code"],
                                     ["point", "northing", "x"]])
 def test_xy_header_is_ambiguous_and_needs_columns(tmp_path, header):
