@@ -268,6 +268,13 @@ def _displaced(d, pid: str, along: float, across: float) -> tuple[float, float]:
             float(d.stakes.easting[i]) + along * math.sin(az) + across * math.cos(az))
 
 
+def _row_and_todo(text: str, pid: str) -> tuple[str, str]:
+    """A shot's row in the first table of check.txt and the line under it (what to do)."""
+    lines = text.splitlines()
+    k = next(i for i, ln in enumerate(lines) if ln.split()[:1] == [pid])
+    return lines[k], lines[k + 1].strip()
+
+
 def test_what_to_do_move_back_and_left_looking_up_station(tmp_path):
     # 1006 is on the first tangent (station 10+50): a shot 0.07 ahead and 0.05 right of design
     # must move 0.07 back and 0.05 left.
@@ -276,7 +283,8 @@ def test_what_to_do_move_back_and_left_looking_up_station(tmp_path):
     assert got[0]["status"] == "out" and got[0]["fails"] == "horizontal"
     assert float(got[0]["d_station"]) == pytest.approx(0.07, abs=1e-4)
     text = (out / "check.txt").read_text()
-    assert "out (horizontal): move 0.07 back, 0.05 left" in text
+    row, todo = _row_and_todo(text, "1006")
+    assert row.endswith("out (horizontal)") and todo == "move 0.07 back, 0.05 left"
 
 
 def test_what_to_do_move_ahead_and_right_on_the_curve(tmp_path):
@@ -286,7 +294,7 @@ def test_what_to_do_move_ahead_and_right_on_the_curve(tmp_path):
     r, got, out = _check(tmp_path, [_shot(pid, *_displaced(d, pid, -0.09, -0.06))])
     ds, do = float(got[0]["d_station"]), float(got[0]["d_offset"])
     assert ds < 0 and do < 0
-    assert f"move {abs(ds):.2f} ahead, {abs(do):.2f} right" in (out / "check.txt").read_text()
+    assert _row_and_todo((out / "check.txt").read_text(), pid)[1] == f"move {abs(ds):.2f} ahead, {abs(do):.2f} right"
 
 
 def test_what_to_do_vertical_and_both_in_metres(tmp_path):
@@ -298,11 +306,13 @@ def test_what_to_do_vertical_and_both_in_metres(tmp_path):
     r, got, out = _check(tmp_path, [_shot(pid, n, e, z + 0.024)], HILL)
     assert got[0]["fails"] == "vertical" and r.exit_code == 1
     text = (out / "check.txt").read_text()
-    assert "out (vertical): move 0.024 down" in text
+    row, todo = _row_and_todo(text, pid)
+    assert row.endswith("out (vertical)") and todo == "move 0.024 down"
     n2, e2 = _displaced(d, pid, 0.0, -0.030)
     r, got, out = _check(tmp_path, [_shot(pid, n2, e2, z - 0.015)], HILL, "--force")
     assert got[0]["fails"] == "both"
-    assert "out (both): move 0.030 right, 0.015 up" in (out / "check.txt").read_text()
+    row, todo = _row_and_todo((out / "check.txt").read_text(), pid)
+    assert row.endswith("out (both)") and todo == "move 0.030 right, 0.015 up"
 
 
 def test_renumbered_shots_are_marked_as_matched_by_position(tmp_path):
@@ -319,11 +329,14 @@ def test_check_txt_fits_the_page_with_long_ids_grade_and_wild_residuals(tmp_path
     d = _design(HILL)
     n, e = _xy(d, "5000")
     rows = [_shot("X" * 60, n + 0.3, e, 9000.0), _shot("5000", n + 12345.678, e - 23456.5, -900.0),
-            _shot("Y" * 60, n + 400000.0, e, 10.0)]
+            _shot("Y" * 60, n + 400000.0, e, 10.0), _shot("5001", *_xy(d, "5001"), 99999.0),
+            _shot("HL-CP4", 10880.2, 20120.0)]
     r, got, out = _check(tmp_path, rows, HILL)
     assert r.exit_code == 1, r.output
-    lines = (out / "check.txt").read_text().splitlines()
-    assert max(len(ln) for ln in lines) <= 100
+    text = (out / "check.txt").read_text()
+    assert max(len(ln) for ln in text.splitlines()) <= 100
+    # no room for the long status beside a wide mark: it opens the line under the row
+    assert "    control out (horizontal): control point HL-CP4 is off" in text
 
 
 # ---- 12. the re-stake list ----------------------------------------------------------------------------------

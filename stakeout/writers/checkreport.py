@@ -86,12 +86,14 @@ def restake_csv(d: Design, r: CheckResult) -> bytes:
     for c in range(0, r.restake.size, _CHUNK_ROWS):  # chunks bound memory; each is vectorised
         i = r.restake[c:c + _CHUNK_ROWS]
         n = i.size
+        staked_at, at = np.unique(i // m, return_inverse=True)
+        labels = rows.text(st.labels(sp.stations[staked_at]))  # every label from the stationing
         sep = rows.const(",", n)
         elev = rows.const("", n) if sp.elevation is None else rows.fixed(sp.elevation[i], DECIMALS)
         fields = [rows.const(sp.prefix, n), rows.integer(sp.first_point + i), sep,
                   rows.fixed(sp.northing[i], DECIMALS), sep, rows.fixed(sp.easting[i], DECIMALS), sep, elev, sep,
                   codes[i % m], rows.const(" ", n),
-                  rows.station(sp.station_values[i // m], st.station_length, st.decimals), rows.const(" ", n),
+                  labels[at], rows.const(" ", n),
                   offsets[i % m]]
         parts.append(rows.join_rows(fields, n))
     return b"".join(parts)
@@ -219,12 +221,21 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         return t + "*" if r.matched_by[k] == "nearest" else t
 
     def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> list[str]:
-        """Rows of ``ks`` with widths from their content; ``notes`` a line under a row."""
+        """Rows of ``ks`` with widths from their content; ``notes`` a line under a row.
+
+        The status ends the row; where the columns leave no room for it (a
+        long status beside a long station label and mark), it opens the
+        line below instead.
+        """
         labels = {k: station_label(r.station[k]) for k in ks}
+        status = {k: status_text(r, k) for k in ks}
         sw = max([10] + [len(s) for s in labels.values()])
         mw = max([4] + [len(marks[k]) for k in ks]) if with_grade else 0
-        tw = max([6] + [len(r.status[k]) for k in ks]) if with_status else 0
-        fixed = sw + 9 + 7 + 8 + 8 + 7 + 6 + (mw + 1 if with_grade else 0) + (tw + 1 if with_status else 0)
+        tw = max([6] + [len(s) for s in status.values()]) if with_status else 0
+        fixed = sw + 9 + 7 + 8 + 8 + 7 + 6 + (mw + 1 if with_grade else 0)
+        inline = with_status and WIDTH - (fixed + tw + 1) - 2 >= 2 * 6
+        if inline:
+            fixed += tw + 1
         room = max(6, (WIDTH - fixed - 2) // 2)
         longest = max([6] + [len(shots.point[k]) for k in ks] + [len(target(k)) for k in ks])
         w = min(room, longest)
@@ -234,7 +245,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
 
         cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>{sw}} {'offset':>9} {'horiz':>7} {'d along':>8} "
                 f"{'d across':>8} {'d elev':>7}" + (f" {'mark':<{mw}}" if with_grade else "")
-                + (f" {'status':<{tw}}" if with_status else ""))
+                + (f" {'status':<{tw}}" if inline else ""))
         rule = "-" * len(cols)
         lines = [rule, cols.rstrip(), rule]
         for k in ks:
@@ -243,10 +254,13 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
                     f"{_fit(r.offset[k], 9, 3):>9} {_fit(r.horizontal_error[k], 7, 3):>7} "
                     f"{_fit(r.d_station[k], 8, 3):>8} {_fit(r.d_offset[k], 8, 3):>8} "
                     f"{_fit(r.d_elevation[k], 7, 3):>7}" + (f" {mark:<{mw}}" if with_grade else "")
-                    + (f" {r.status[k]:<{tw}}" if with_status else ""))
+                    + (f" {status[k]:<{tw}}" if inline else ""))
             lines.append(line.rstrip())
-            if k in notes:
-                lines += textwrap.wrap(notes[k], WIDTH, initial_indent="    ", subsequent_indent="      ",
+            note = notes.get(k, "")
+            if with_status and not inline:
+                note = f"{status[k]}: {note}" if note else status[k]
+            if note:
+                lines += textwrap.wrap(note, WIDTH, initial_indent="    ", subsequent_indent="      ",
                                        break_long_words=True, break_on_hyphens=False)
         return lines + [rule]
 
@@ -263,21 +277,21 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
             f = r.fails[k]
             what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
                              f in ("vertical", "both"), move_dec)
-            notes[k] = f"{status_text(r, k)}: {what or 'reset it'}{by_position}"
+            notes[k] = f"{what or 'reset it'}{by_position}"
         elif s == "duplicate":
-            notes[k] = (f"duplicate{by_position}: design point {_target_id(d, r, k)} already has {gov(k)}; "
+            notes[k] = (f"design point {_target_id(d, r, k)} already has {gov(k)}{by_position}; "
                         "find which stake is the point")
         elif s == "unmatched":
-            notes[k] = (f"unmatched: no design or control point within {r.search_radius:.4f}; "
+            notes[k] = (f"no design or control point within {r.search_radius:.4f}; "
                         "check the point number and the shot")
         else:
-            notes[k] = (f"{status_text(r, k)}{by_position}: control point {_target_id(d, r, k)} is off; "
+            notes[k] = (f"control point {_target_id(d, r, k)} is off{by_position}; "
                         "check the setup (occupied point, backsight, heights) before staking on")
     fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
     superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
         ("NEEDS ATTENTION (out of tolerance, duplicate, unmatched, control out), with what to do", attention,
-         False, notes),
+         True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
         ("SUPERSEDED (shot again later in the file: the later shot governs)", superseded, False,
          {k: f"superseded by {gov(k)} ({r.status[int(r.related[k])]})" for k in superseded}),
