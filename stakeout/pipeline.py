@@ -157,15 +157,20 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
               columns: str | None = None, delimiter: str = "auto") -> tuple[bool, list[str]]:
     """``stakeout check``: staked shots against design, written atomically.
 
+    Writes ``check.csv``, ``check.txt`` and ``restake.csv`` (the design
+    points still to set).  A file whose northings and eastings look swapped
+    is refused before anything is written.
+
     Returns
     -------
     (all_ok, notes)
-        ``all_ok`` is False when any shot is out of tolerance, duplicated
-        or unmatched (the CLI exits 1).
+        ``all_ok`` is False when any shot needs attention: out of
+        tolerance, duplicated, unmatched, or a control shot beyond
+        tolerance (the CLI exits 1).
     """
-    from .check import check_shots
+    from .check import check_column_order, check_shots, job_control_points
     from .shots import parse_columns, read_shots
-    from .writers.checkreport import check_csv, check_txt
+    from .writers.checkreport import check_csv, check_txt, restake_csv
     from .writers.folder import OutputFolder
 
     job = load_job(job_path)
@@ -177,19 +182,26 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=(job_path, staked))
     d = build_design(job)
+    control = job_control_points(job)
+    radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
+    check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, spec.search_radius)
+                         spec.vertical_tolerance, radius, control)
     progress.step("shots checked")
 
     with folder:
         folder.write_bytes("check.csv", check_csv(d, shots, result))
         folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result))
+        folder.write_bytes("restake.csv", restake_csv(d, result))
         folder.commit()
-    progress.step("check.csv, check.txt")
+    progress.step("check.csv, check.txt, restake.csv")
     counts = result.counts()
-    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}"]
+    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}",
+             f"{result.restake.size} design point(s) to set again in restake.csv "
+             f"({result.restake.size - result.not_staked.size} out of tolerance, "
+             f"{result.not_staked.size} not staked)"]
     return result.all_ok, notes
 
 

@@ -467,3 +467,15 @@ def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
             assert len(lines) <= 60
             if any(line.startswith("---") for line in lines):  # a page of the table repeats its header
                 assert any(line.lstrip().startswith(("point", "station")) for line in lines)
+
+
+def test_shot_keyed_without_decimals_is_reported(samples, tmp_path):
+    # hardening 10: a shot keyed without its decimal point (the blunder the check exists to catch)
+    # crashed the check sheet; it is reported out of tolerance, with exit 1
+    staked = tmp_path / "shots.csv"
+    staked.write_text("1000,1840005.7991,6484985.0879\n1001,1840004811,6484988.8159\n", encoding="utf-8")
+    r = runner.invoke(app, ["check", str(samples / "loop_ramp_usft.toml"), str(staked), "--out",
+                            str(tmp_path / "out")])
+    assert r.exit_code == 1, r.output
+    rows = read_rows(tmp_path / "out" / "check.csv")
+    assert rows[1]["status"] == "out"
