@@ -66,7 +66,7 @@ table.facts td { font-family: 'DejaVu Sans Mono', 'Liberation Mono', Consolas, m
 .caution p { margin: 2px 0; }
 .warn { color: #8a1c00; }
 .picture { page: picture; break-before: page; break-after: page; }
-.picture svg { display: block; width: 100%; height: auto; max-height: 185mm; }
+.picture svg { display: block; width: 100%; height: auto; max-height: 172mm; }
 section.setup + section.setup { break-before: page; }
 .signoff { break-inside: avoid; margin-top: 14px; }
 .signoff table td { height: 11mm; border: none; border-bottom: 0.8pt solid #000; }

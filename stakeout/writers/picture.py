@@ -601,8 +601,9 @@ def _alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) ->
     parts = [f'<g clip-path="url(#{clip_id})" fill="none" stroke-linejoin="round">']
     for ol in d.job.staking.offsets:
         if ol.offset != 0.0:
-            parts.append(f'<path d="{_path_d(a, ol.offset, v)}" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>')
-    parts.append(f'<path d="{_path_d(a, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
+            parts.append(f'<path class="so-offset" d="{_path_d(a, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
+                         'stroke-width="0.8"/>')
+    parts.append(f'<path class="so-cl" d="{_path_d(a, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
     parts.append("</g>")
     return "".join(parts)
 
@@ -660,7 +661,8 @@ def plan_svg_element(d: Design) -> str:
         lab.block(np.column_stack([px - 5, py - 6, px + 5, py + 4]))
     body.append(f'<g clip-path="url(#{clip})">')
     if tang:
-        body.append(f'<path d="{"".join(tang)}" fill="none" stroke="{TANGENT_COLOUR}" stroke-width="0.7" '
+        body.append(f'<path class="so-tangent" d="{"".join(tang)}" fill="none" stroke="{TANGENT_COLOUR}" '
+                    'stroke-width="0.7" '
                     'stroke-dasharray="6,3"/>')
     body.append("</g>")
     body.append(_alignment_lines(d, v, clip))
@@ -722,7 +724,7 @@ def plan_svg_element(d: Design) -> str:
     for j in range(m):
         sel = keep[code_of[keep] == j]
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
-        stake_paths.append(f'<path d="{_circles(sx[sel], sy[sel], r_stake)}" fill="{colour}"/>')
+        stake_paths.append(f'<path class="so-stake" d="{_circles(sx[sel], sy[sel], r_stake)}" fill="{colour}"/>')
     lab.block(np.column_stack([sx[keep] - r_stake - 0.3, sy[keep] - r_stake - 0.3, sx[keep] + r_stake + 0.3,
                                sy[keep] + r_stake + 0.3]))
 
@@ -837,8 +839,10 @@ def plan_svg_element(d: Design) -> str:
 
     body.append('<g clip-path="url(#' + clip + ')">' + "".join(stake_paths))
     if pi_marks:
-        body.append(f'<path d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" stroke-width="1.1"/>')
-    body.append(f'<path d="{_circles(kx, ky, 3.2)}" fill="none" stroke="{CL_COLOUR}" stroke-width="1.2"/>')
+        body.append(f'<path class="so-pi" d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
+                    'stroke-width="1.1"/>')
+    body.append(f'<path class="so-key" d="{_circles(kx, ky, 3.2)}" fill="none" stroke="{CL_COLOUR}" '
+                'stroke-width="1.2"/>')
     body.append("".join(ctrl) + "</g>")
     if leaders:
         body.append(f'<path d="{"".join(leaders)}" stroke="#444" stroke-width="0.6" fill="none"/>')
@@ -1050,7 +1054,9 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     staked, the residual drawn ``factor`` times its length, coloured by its
     status; a light circle of the horizontal tolerance (also times
     ``factor``) rings each design point; an unmatched shot is a cross at its
-    own position.
+    own position.  Arrows are drawn status by status, in file order within
+    each; arrows longer than :data:`ARROW_CAP` tolerance circles are cut to
+    that length, marked and labelled with their horizontal error.
     """
     job, unit, design = d.job, d.unit, d.stakes
     idx = np.asarray(r.design_index, dtype=np.int64)
@@ -1098,7 +1104,8 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
         if sel.size == 0:
             continue
         colour = STATUS_COLOURS.get(s, "#000")
-        body.append(f'<path d="{_arrows(mx[sel], my[sel], tx[sel], ty[sel])}" stroke="{colour}" stroke-width="1.1" '
+        body.append(f'<path class="so-arrow so-status-{escape(s)}" d="{_arrows(mx[sel], my[sel], tx[sel], ty[sel])}" '
+                    f'stroke="{colour}" stroke-width="1.1" '
                     f'fill="none"/><path d="{_heads(mx[sel], my[sel], tx[sel], ty[sel])}" fill="{colour}"/>')
     if cut.any():
         c = np.where(cut & matched)[0]
