@@ -14,6 +14,9 @@ measures, on this machine:
   per-point Python program writing the same files (benchmarks/plain_loop.py);
 - DXF: stakeout's plan.dxf against ezdxf's own time to add and save the same entities;
 - CLI start-up: `stakeout --help` against `python -c "import numpy"`;
+- latency of a small job: a default build of sample_jobs/loop_ramp_usft.toml (every
+  default output, plan.svg and report.html included) against `python -c "import numpy,
+  pyproj, ezdxf"`, medians of five alternating runs;
 - peak memory of a 1,000,000-point CSV build.
 
 Nothing here is a test: speed is measured, never asserted.
@@ -90,10 +93,9 @@ def whole_process(tmp: Path, repeat: int) -> dict[str, float]:
     out: dict[str, float] = {}
     for pts in (25_000, 250_000):
         job = corridor_job(tmp / f"c{pts}.toml", pts)
-        from stakeout.jobfile import load_job
         from stakeout.pipeline import compute
 
-        real = len(compute(load_job(job)).stakes)
+        real = len(compute(job).stakes)
         wall, _ = _best([*STAKEOUT, "build", str(job), "--out", str(tmp / f"o{pts}"), "--force",
                          "--only", "points,stations,setout"], repeat)
         out[f"build_{pts // 1000}k_us_per_point"] = wall / real * 1e6
@@ -109,11 +111,10 @@ def whole_process(tmp: Path, repeat: int) -> dict[str, float]:
 def dxf(tmp: Path) -> dict[str, float]:
     import ezdxf
 
-    from stakeout.jobfile import load_job
     from stakeout.pipeline import compute
     from stakeout.writers.dxf import plan_dxf
 
-    c = compute(load_job(corridor_job(tmp / "dxf.toml", 20_000, interval=2.0)))
+    c = compute(corridor_job(tmp / "dxf.toml", 20_000, interval=2.0))
     t = time.perf_counter()
     data = plan_dxf(c)
     ours = time.perf_counter() - t
@@ -148,6 +149,24 @@ def startup(repeat: int) -> dict[str, float]:
     return {"help_s": helpt, "import_numpy_s": nump, "help_minus_numpy_s": helpt - nump}
 
 
+def latency(tmp: Path, repeat: int = 5) -> dict[str, float]:
+    """A default build of the loop-ramp sample against importing its three big libraries,
+    run alternately so that both see the same machine (medians)."""
+    job = HERE.parent / "sample_jobs" / "loop_ramp_usft.toml"
+    build = [*STAKEOUT, "build", str(job), "--out", str(tmp / "latency"), "--force"]
+    imports = [PY, "-c", "import numpy, pyproj, ezdxf"]
+    # byte-code caches as an installed package has them (even under PYTHONDONTWRITEBYTECODE)
+    subprocess.run([PY, "-m", "compileall", "-q", str(HERE.parent / "stakeout")], check=True,
+                   stdout=subprocess.DEVNULL)
+    _run(build)
+    b, i = [], []
+    for _ in range(repeat):
+        i.append(_run(imports)[0])
+        b.append(_run(build)[0])
+    mb, mi = statistics.median(b), statistics.median(i)
+    return {"default_build_s": mb, "import_numpy_pyproj_ezdxf_s": mi, "default_build_ratio": mb / mi}
+
+
 def memory(tmp: Path) -> dict[str, float]:
     job = corridor_job(tmp / "c1m.toml", 1_000_000)
     wall, rss = _run([*STAKEOUT, "build", str(job), "--out", str(tmp / "o1m"), "--force",
@@ -163,6 +182,7 @@ TARGETS = {
     "growth_25k_to_250k": ("<=", 1.0),
     "dxf_ratio": ("<=", 1.3),
     "help_minus_numpy_s": ("<=", 0.3),
+    "default_build_ratio": ("<=", 1.6),
     "build_1m_peak_mib": ("<=", 1024),
 }
 
@@ -177,6 +197,7 @@ def main() -> None:
         res.update(whole_process(tmp, repeat))
         res.update(dxf(tmp))
         res.update(startup(3 if quick else 7))
+        res.update(latency(tmp))
         if not quick:
             res.update(memory(tmp))
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}, "

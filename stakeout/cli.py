@@ -199,8 +199,36 @@ def inspect(
 
 
 def main() -> None:
-    """Console-script entry point."""
-    app(prog_name="stakeout")
+    """Console-script entry point.
+
+    A command runs once and ends, so the process skips what only a
+    long-lived one needs: the cyclic garbage collector (the work makes
+    next to no reference cycles) and the teardown of every imported module
+    at exit (a fifth of a small build's time).  By then the outputs are
+    committed and synced; the standard streams are flushed before the
+    process ends with the command's exit code.  Calling :data:`app` (as the
+    tests do) keeps the ordinary behaviour.
+    """
+    import gc
+    import os
+    import sys
+
+    gc.disable()
+    try:
+        app(prog_name="stakeout")
+        code = 0
+    except SystemExit as exc:  # how click ends every command
+        if exc.code is None or isinstance(exc.code, int):
+            code = exc.code or 0
+        else:
+            print(exc.code, file=sys.stderr)
+            code = 1
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.flush()
+        except (OSError, ValueError):  # a closed pipe: nothing more can be said
+            pass
+    os._exit(code)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -17,15 +17,12 @@ from .errors import JobFileError
 if TYPE_CHECKING:  # pragma: no cover - the registry itself stays light to import
     from .design import Design
 
-__all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help", "PREVIEW_MAX_POINTS"]
-
-#: A default build draws plan.png only up to this many points.
-PREVIEW_MAX_POINTS = 20_000
+__all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help"]
 
 
 class Rendered(dict[str, bytes]):
     """Files rendered so far in one build (file name -> bytes), so that one
-    output can reuse another (the preview is drawn from plan.dxf).
+    output can reuse another (the preview is drawn from plan.dxf, the report holds plan.svg).
     """
 
 
@@ -36,7 +33,8 @@ class Output:
     ``render(design, done)`` returns the file's bytes; ``needs_setup``
     outputs exist only for jobs with a ``[setup]``, ``needs_profile`` only
     for jobs with a ``[profile]``; ``extra`` names the optional install an
-    output needs (``None``: always available).
+    output needs (``None``: always available); ``default`` outputs are
+    written by a build without ``--only``, the others only when named.
     """
 
     name: str
@@ -48,6 +46,7 @@ class Output:
     extra: str | None = None
     applies: Callable[["Design"], bool] | None = None  # None: whenever the above allow
     absent: str = ""  # why it was not written where ``applies`` says no
+    default: bool = True
 
 
 def _points(d: "Design", done: Rendered) -> bytes:
@@ -130,6 +129,20 @@ def _dxf(d: "Design", done: Rendered) -> bytes:
     return done["plan.dxf"]
 
 
+def _picture(d: "Design", done: Rendered) -> bytes:
+    if "plan.svg" not in done:
+        from .writers.picture import plan_svg
+
+        done["plan.svg"] = plan_svg(d)
+    return done["plan.svg"]
+
+
+def _report(d: "Design", done: Rendered) -> bytes:
+    from .writers.html import report_html
+
+    return report_html(d, _picture(d, done).decode("utf-8"))
+
+
 def _preview(d: "Design", done: Rendered) -> bytes:
     from .writers.dxf import plan_png
 
@@ -152,7 +165,12 @@ OUTPUTS: tuple[Output, ...] = (
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)", _landxml),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
-    Output("preview", "plan.png", "a picture of the plan", _preview, extra="preview"),
+    Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
+           _picture),
+    Output("report", "report.html", "the printable report: header, curves, plan, setout, deflections, sign-off",
+           _report),
+    Output("preview", "plan.png", "a raster preview of plan.dxf (matplotlib; only when named)", _preview,
+           extra="preview", default=False),
     Output("manifest", "manifest.json", "hashes of the job file and of every output", lambda d, done: b""),
 )
 

@@ -11,7 +11,7 @@ from pathlib import Path
 from .design import Design, build_design
 from .errors import JobFileError
 from .jobfile import load_job
-from .outputs import OUTPUTS, PREVIEW_MAX_POINTS, Rendered, parse_only
+from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
 
 __all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute", "setup_notes"]
@@ -88,7 +88,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     chosen = parse_only(only)
     notes: list[str] = []
     if chosen is None:
-        outputs = [o for o in OUTPUTS if (job.setup is not None or not o.needs_setup)
+        outputs = [o for o in OUTPUTS if o.default and (job.setup is not None or not o.needs_setup)
                    and (job.profile is not None or not o.needs_profile)]
         for o in [o for o in outputs if not _has_extra(o.extra)]:
             outputs.remove(o)
@@ -105,17 +105,16 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
                 if o.name in chosen and o.needs_profile:
                     raise JobFileError(f"--only {o.name}: the job has no [profile], so there is no {o.filename}")
         outputs = [o for o in OUTPUTS if o.name in chosen]
+        for o in outputs:
+            if not _has_extra(o.extra):
+                raise JobFileError(f"--only {o.name}: matplotlib is not installed, so there is no {o.filename} "
+                                   f"(pip install 'stakeout[{o.extra}]')")
     folder = OutputFolder(out, force, protect=(job_path,))
     d = build_design(job)
     for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
         if chosen is not None:
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
-    preview = [o for o in outputs if o.name == "preview"]
-    if chosen is None and preview and len(d.stakes) > PREVIEW_MAX_POINTS:
-        outputs.remove(preview[0])
-        notes.append(f"{len(d.stakes)} points: plan.png skipped (over {PREVIEW_MAX_POINTS:,} points it is not "
-                     "legible; ask for it with --only preview)")
     written: dict[str, bytes] = {}
     done = Rendered()
     files = [o for o in outputs if o.name != "manifest"]
@@ -172,6 +171,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     from .shots import parse_columns, read_shots
     from .writers.checkreport import check_csv, check_txt, restake_csv
     from .writers.folder import OutputFolder
+    from .writers.html import check_html
 
     job = load_job(job_path)
     spec = job.check
@@ -194,9 +194,10 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     with folder:
         folder.write_bytes("check.csv", check_csv(d, shots, result))
         folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result))
+        folder.write_bytes("check.html", check_html(d, str(staked), shots, result))
         folder.write_bytes("restake.csv", restake_csv(d, result))
         folder.commit()
-    progress.step("check.csv, check.txt, restake.csv")
+    progress.step("check.csv, check.txt, check.html, restake.csv")
     counts = result.counts()
     notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}",
              f"{result.restake.size} design point(s) to set again in restake.csv "

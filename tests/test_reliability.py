@@ -21,7 +21,8 @@ JOB = SAMPLES / "loop_ramp_usft.toml"
 
 
 #: The writer function behind each output named in these tests.
-_WRITERS = {"preview": "stakeout.writers.dxf.plan_png", "dxf": "stakeout.writers.dxf.plan_dxf"}
+_WRITERS = {"preview": "stakeout.writers.dxf.plan_png", "dxf": "stakeout.writers.dxf.plan_dxf",
+            "report": "stakeout.writers.html.report_html"}
 
 
 def _fail_on(name, monkeypatch):
@@ -34,7 +35,7 @@ def _fail_on(name, monkeypatch):
 
 
 def test_interrupted_build_leaves_nothing(tmp_path, monkeypatch):
-    _fail_on("preview", monkeypatch)
+    _fail_on("report", monkeypatch)  # the last file of a default build
     out = tmp_path / "out"
     r = runner.invoke(app, ["build", str(JOB), "--out", str(out)])
     assert r.exit_code == 130

@@ -1,0 +1,489 @@
+"""Printable HTML reports: ``report.html`` of a build and ``check.html`` of a check.
+
+Each is one self-contained file (no script, no network, no other file):
+the styles are inline, the pictures are inline SVG.  Print CSS sets page
+margins that suit A4 and US Letter alike, repeats table headers on every
+printed page (``thead { display: table-header-group }``), keeps every
+table row whole (``tr { break-inside: avoid }``) and puts the pictures on
+landscape pages of their own.  Nothing time-dependent is written, so the
+same design gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from html import escape
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from ..alignment import Arc, Spiral
+from ..angles import format_azimuth_dms, format_dms
+from ..design import Design
+from .text import CAUTION_LINES, curve_texts, fixed, turn_word
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..check import CheckResult
+    from ..shots import Shots
+
+__all__ = ["report_html", "check_html", "REPORT_MAX_ROWS", "STYLE"]
+
+#: A report lists its stakes (setout or stake table, deflections) up to this many rows; a
+#: larger job's report says where the full tables are (setout.csv, setout.txt, deflections.txt).
+REPORT_MAX_ROWS = 20_000
+
+#: The style sheet of both reports (screen and print).
+STYLE = """
+@page { margin: 13mm 12mm 15mm 12mm;
+  @bottom-right { content: "page " counter(page) " of " counter(pages); font: 8pt sans-serif; color: #444; } }
+@page picture { size: landscape; margin: 8mm; }
+:root { color-scheme: light; }
+html { font: 10pt/1.35 'DejaVu Sans', 'Liberation Sans', Arial, Helvetica, sans-serif; color: #111; }
+body { margin: 0 auto; max-width: 1100px; padding: 12px; }
+h1 { font-size: 16pt; margin: 0 0 2px; }
+h2 { font-size: 12.5pt; margin: 16px 0 6px; border-bottom: 1.5px solid #333; break-after: avoid; }
+h3 { font-size: 10.5pt; margin: 10px 0 4px; break-after: avoid; }
+p { margin: 4px 0; }
+.sub { font-size: 11pt; margin: 0 0 8px; }
+table { border-collapse: collapse; width: 100%; margin: 4px 0 10px; }
+thead { display: table-header-group; }
+tfoot { display: table-footer-group; }
+tr, .keep { break-inside: avoid; page-break-inside: avoid; }
+th, td { border: 0.6pt solid #999; padding: 1.5px 4px; vertical-align: top; }
+th { background: #eee; text-align: left; font-weight: bold; }
+td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.t { white-space: nowrap; }
+table.data { font: 8.3pt/1.25 'DejaVu Sans Mono', 'Liberation Mono', Consolas, monospace; }
+table.data th { font-family: 'DejaVu Sans', 'Liberation Sans', Arial, sans-serif; font-size: 8pt; }
+table.facts { width: auto; min-width: 60%; }
+table.facts th { width: 11em; background: #f4f4f4; font-weight: normal; color: #333; }
+table.facts td { font-family: 'DejaVu Sans Mono', 'Liberation Mono', Consolas, monospace; font-size: 9pt;
+  overflow-wrap: anywhere; }
+.caution { border: 1.2pt solid #b2182b; padding: 6px 8px; margin: 8px 0; background: #fff6f6;
+  break-inside: avoid; }
+.caution p { margin: 2px 0; }
+.warn { color: #8a1c00; }
+.picture { page: picture; break-before: page; break-after: page; }
+.picture svg { display: block; width: 100%; height: auto; max-height: 172mm; }
+section.setup + section.setup { break-before: page; }
+.signoff { break-inside: avoid; margin-top: 14px; }
+.signoff table td { height: 11mm; border: none; border-bottom: 0.8pt solid #000; }
+.signoff table th { border: none; background: none; width: 9em; vertical-align: bottom; }
+.verdict { font-size: 15pt; font-weight: bold; padding: 8px 12px; margin: 6px 0 10px; border: 2pt solid; }
+.verdict.ok { color: #0b5d1e; border-color: #1a9850; background: #effaf1; }
+.verdict.bad { color: #8e0f12; border-color: #d73027; background: #fdf0ef; }
+.status-out { color: #b2182b; font-weight: bold; }
+.status-duplicate, .status-unmatched { color: #7b3294; font-weight: bold; }
+.ids { font: 8.3pt/1.5 'DejaVu Sans Mono', 'Liberation Mono', Consolas, monospace; overflow-wrap: anywhere; }
+@media print { body { max-width: none; padding: 0; } h2 { margin-top: 10px; } }
+"""
+
+
+# ---- small pieces ----------------------------------------------------------------------------
+def _dms(angle: float, decimals: int) -> str:
+    """One angle as D-M-S text."""
+    return str(format_dms(angle, decimals))
+
+
+def _e(text: object) -> str:
+    return escape(str(text), quote=True)
+
+
+def _facts(rows: Sequence[tuple[str, str]]) -> str:
+    return ('<table class="facts">' + "".join(f"<tr><th>{_e(k)}</th><td>{_e(v)}</td></tr>" for k, v in rows)
+            + "</table>")
+
+
+Cell = str | tuple[str, str]  # text, or (text, an extra class)
+
+
+def _td(cell: Cell, kind: str) -> str:
+    if isinstance(cell, tuple):
+        return f'<td class="{kind} {_e(cell[1])}">{_e(cell[0])}</td>'
+    return f'<td class="{kind}">{_e(cell)}</td>'
+
+
+def _table(columns: Sequence[tuple[str, str]], rows: Sequence[Sequence[Cell]], cls: str = "data",
+           caption: str = "") -> str:
+    """A table: ``columns`` as (heading, kind) with kind ``n`` (number, right) or ``t`` (text);
+    cells are plain text (escaped here), or (text, class).
+    """
+    kinds = [k for _, k in columns]
+    head = "".join(f'<th class="{k}">{_e(h)}</th>' for h, k in columns)
+    body = "".join("<tr>" + "".join(_td(c, k) for c, k in zip(r, kinds)) + "</tr>" for r in rows)
+    cap = f"<caption>{_e(caption)}</caption>" if caption else ""
+    return f'<table class="{cls}">{cap}<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table>'
+
+
+def _cautions(warnings: Sequence[str] = ()) -> str:
+    text = " ".join(line.strip() for line in CAUTION_LINES)
+    warn = "".join(f'<p class="warn">warning: {_e(w)}</p>' for w in warnings)
+    return f'<div class="caution"><p>{_e(text)}</p>{warn}</div>'
+
+
+def _signoff() -> str:
+    rows = "".join(f"<tr><th>{k}</th><td></td><th>date</th><td></td></tr>" for k in ("prepared by", "checked by"))
+    return f'<div class="signoff"><h2>Sign-off</h2><table>{rows}</table></div>'
+
+
+def _css_string(text: str) -> str:
+    """``text`` as a CSS string literal, safe inside a ``<style>`` element."""
+    out = []
+    for ch in text:
+        if ch.isalnum() or ch in " .,:;-_+()[]/#=%'":
+            out.append(ch)
+        else:
+            out.append(f"\\{ord(ch):x} ")
+    return '"' + "".join(out) + '"'
+
+
+def _document(title: str, foot: str, body: str) -> bytes:
+    foot_rule = ("@page { @bottom-left { content: " + _css_string(foot)
+                 + "; font: 8pt sans-serif; color: #444; } }")
+    page = (
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
+        '<meta name="viewport" content="width=device-width, initial-scale=1">\n'
+        f"<title>{_e(title)}</title>\n<style>{STYLE}{foot_rule}\n</style>\n"
+        f"</head>\n<body>\n{body}\n</body>\n</html>\n"
+    )
+    return page.encode("utf-8")
+
+
+def _job_facts(d: Design) -> list[tuple[str, str]]:
+    job, a, stn = d.job, d.alignment, d.stationing
+    rows = [("job file", Path(job.path).name), ("sha256", job.sha256)]
+    for f in job.design_files:
+        rows.append((f"{f.role} from", f"{Path(f.path).name}  sha256 {f.sha256}"))
+    rows += [
+        ("alignment", f"{a.name}: {stn.label(a.start_station)} to {stn.label(a.end_station)}, "
+                      f"length {a.length:.4f}"),
+        ("units", d.unit.label),
+        ("CRS", d.crs_label or "none: local grid"),
+        ("stakes", f"{len(d.stakes):,}: every {d.job.staking.interval:g} on "
+                   + ", ".join(f"{c} {abs(o):.2f}{' LT' if o < 0 else ' RT' if o > 0 else ''}"
+                               for c, o in zip(d.stakes.codes, d.stakes.offsets.tolist()))),
+    ]
+    for eq in stn.equations:
+        rows.append(("station equation", f"{stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH"))
+    return rows
+
+
+# ---- report.html ------------------------------------------------------------------------------
+def _curve_section(d: Design) -> str:
+    cts = curve_texts(d.alignment, d.stationing)
+    if not cts:
+        return "<h2>Curve data</h2><p>The alignment has no curves.</p>"
+    out = ["<h2>Curve data</h2>"]
+    for ct in cts:
+        c, t = ct.curve, ct.curve.tangents
+        facts = [("turn, total angle I", f"{ct.turn}, {ct.delta}"), ("kind", ct.kind)]
+        if c.pi_station is None or t is None:
+            facts.append(("PI", "none: I of 180 deg or more"))
+        else:
+            facts.append(("PI", f"{ct.pi_label}   N {c.pi_northing:.4f}   E {c.pi_easting:.4f}"))
+            side_b = f" = {ct.back_side[0]} ({ct.back_side[1]} {ct.back_side[2]:.4f} side)" if ct.back_side else ""
+            side_a = f" = {ct.ahead_side[0]} ({ct.ahead_side[1]} {ct.ahead_side[2]:.4f} side)" if ct.ahead_side else ""
+            facts.append(("tangent PI to start", f"{t.back:.4f}{side_b}"))
+            facts.append(("tangent PI to end", f"{t.ahead:.4f}{side_a}"))
+        if ct.external is not None:
+            facts.append(("external", f"{ct.external:.4f}"))
+        rows = []
+        for k, (arc, a0, a1) in enumerate(ct.arcs, start=1):
+            p = arc.props
+            assert p is not None
+            tan = f"{p.tangent:.4f}" if p.tangent is not None else ""
+            ext = f"{p.external:.4f}" if p.external is not None else ""
+            rows.append([f"arc {k}", a0, a1, f"{p.radius:.4f}", _dms(p.delta, 1), f"{p.length:.4f}", tan,
+                         f"{p.chord:.4f}", ext, f"{p.middle_ordinate:.4f}"])
+        for k, (sp, a0, a1) in enumerate(ct.spirals, start=1):
+            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (sp.radius_start, sp.radius_end))
+            rows.append([f"spiral {k}", a0, a1, f"{r0} to {r1}", _dms(sp.central_angle, 1), f"{sp.length:.4f}",
+                         "", "", "", ""])
+        cols = [("element", "t"), ("from", "n"), ("to", "n"), ("radius", "n"), ("delta", "n"), ("length", "n"),
+                ("tangent", "n"), ("chord", "n"), ("external", "n"), ("mid-ordinate", "n")]
+        out.append(f'<div class="keep"><h3>Curve {c.number}</h3>{_facts(facts)}</div>{_table(cols, rows)}')
+    return "".join(out)
+
+
+def _setup_groups(d: Design) -> list[tuple[str, list[tuple[str, str]], np.ndarray]]:
+    """Per setup: a heading, its facts and the stake indices set out from it."""
+    sd = d.setup
+    assert sd is not None
+    out = []
+    idx = np.asarray(sd.setup_index)
+    for k, o in enumerate(sd.occupations):
+        out.append((f"Setup {o.number}: setout from {o.occupied.id}",
+                    _setup_facts(d, o.occupied, o.backsight, float(o.backsight_azimuth), o.scale),
+                    np.flatnonzero(idx == k)))
+    return out
+
+
+def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list[tuple[str, str]]:
+    sd = d.setup
+    assert sd is not None
+    setup = sd.setup
+    occ_text = f"{occ.id}   N {occ.northing:.4f}   E {occ.easting:.4f}"
+    if occ.elevation is not None:
+        occ_text += f"   elev {occ.elevation:.3f}"
+    rows = [("occupied", occ_text)]
+    if setup.instrument_height is not None:
+        rows.append(("instrument height", f"{setup.instrument_height:.3f}"))
+    if bs is not None:
+        dist = math.hypot(bs.northing - occ.northing, bs.easting - occ.easting)
+        rows.append(("backsight", f"{bs.id}   N {bs.northing:.4f}   E {bs.easting:.4f}"))
+        rows.append(("backsight grid azimuth", f"{format_azimuth_dms(bs_az, 1)}   grid distance {dist:.4f}   "
+                                               f"ground {dist / scale.combined_factor:.4f}"))
+    else:
+        rows.append(("backsight grid azimuth", f"{format_azimuth_dms(bs_az, 1)} (given)"))
+    how = f"{scale.combined_factor:.8f}"
+    if scale.scale_factor is not None and scale.elevation_factor is not None:
+        how += f" = k {scale.scale_factor:.8f} x elevation factor {scale.elevation_factor:.8f}"
+    else:
+        how += f"   {scale.how}"
+    rows.append(("combined factor", how))
+    if scale.convergence is not None:
+        rows.append(("convergence", _dms(scale.convergence, 1)))
+    if setup.target_height is not None:
+        rows.append(("target height", f"{setup.target_height:.3f}"))
+    rows.append(("reading", "angle right clockwise from the backsight; ground = grid / combined factor"))
+    return rows
+
+
+def _setout_section(d: Design) -> str:
+    sd = d.setup
+    assert sd is not None
+    sp, so = d.stakes, sd.setout
+    n = len(sp)
+    if n > REPORT_MAX_ROWS:
+        return (f"<h2>Setout</h2><p>{n:,} stakes: the setout table is in setout.csv and setout.txt (a report "
+                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
+    sd_ = d.unit.station_decimals
+    offs = fixed(sp.offset, sd_)
+    angle = format_azimuth_dms(so.angle_right, 0)
+    grid, ground = fixed(so.grid_distance, 3), fixed(so.ground_distance, 3)
+    elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
+    zen = format_dms(so.zenith, 0) if so.zenith is not None and so.slope_distance is not None else None
+    slope = fixed(so.slope_distance, 3) if zen is not None and so.slope_distance is not None else None
+    cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("angle right", "n"),
+            ("grid dist", "n"), ("ground dist", "n")]
+    if elev is not None:
+        cols.append(("design el", "n"))
+    if zen is not None:
+        cols += [("zenith", "n"), ("slope dist", "n")]
+    point, label, code, feat = sp.point, sp.station_label, sp.code, sp.feature
+    out = []
+    for heading, facts, idx in _setup_groups(d):
+        rows = []
+        for i in idx.tolist():
+            r = [point[i], label[i], offs[i], code[i], feat[i], angle[i], grid[i], ground[i]]
+            if elev is not None:
+                r.append(elev[i])
+            if zen is not None and slope is not None:
+                r += [zen[i], slope[i]]
+            rows.append(r)
+        out.append(f'<section class="setup"><h2>{_e(heading)}</h2>{_facts(facts)}'
+                   f"<p>{len(rows):,} stakes; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
+                   f"{_table(cols, rows)}</section>")
+    return "".join(out)
+
+
+def _stakes_section(d: Design) -> str:
+    """Without a setup: every stake with its coordinates."""
+    sp = d.stakes
+    n = len(sp)
+    if n > REPORT_MAX_ROWS:
+        return (f"<h2>Stakes</h2><p>{n:,} stakes: the stake table is in points.csv and stations.csv (a report "
+                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
+    offs = fixed(sp.offset, d.unit.station_decimals)
+    north, east = fixed(sp.northing, 4), fixed(sp.easting, 4)
+    elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
+    cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("northing", "n"),
+            ("easting", "n")]
+    if elev is not None:
+        cols.append(("design el", "n"))
+    rows = []
+    for i in range(n):
+        r = [sp.point[i], sp.station_label[i], offs[i], sp.code[i], sp.feature[i], north[i], east[i]]
+        if elev is not None:
+            r.append(elev[i])
+        rows.append(r)
+    return (f"<h2>Stakes</h2><p>The job has no [setup]: the stakes with their grid coordinates "
+            f"({n:,}).</p>{_table(cols, rows)}")
+
+
+def _offset_deflections(d: Design, el: Any, stations: np.ndarray, offset: float) -> list[tuple[float, ...]]:
+    """Deflections on an offset line from its point opposite the element's start, along its tangent there:
+    (station, length along the offset line, deflection, chord from start, chord from previous).
+    """
+    n, e, az = d.alignment.evaluate(stations, offset, miter=False)
+    dn, de = n - n[0], e - e[0]
+    chord = np.hypot(dn, de)
+    defl = np.abs((np.degrees(np.arctan2(de, dn)) - az[0] + 180.0) % 360.0 - 180.0)
+    defl[chord == 0.0] = 0.0
+    inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
+    s = stations - el.start
+    k0, k1 = el.curvature_start, el.curvature_end
+    along = s - offset * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))  # integral of (1 - k o) ds
+    return list(zip(stations.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
+
+
+def _deflection_section(d: Design) -> str:
+    from .sheets import deflection_rows
+
+    a, lab = d.alignment, d.stationing.label
+    data = deflection_rows(a, d.stakes.stations)
+    if not data:
+        return "<h2>Deflections</h2><p>The alignment has no curves.</p>"
+    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0]
+    total = sum(len(rows) for _, _, rows in data) * (1 + len(offsets))
+    if total > REPORT_MAX_ROWS:
+        return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
+                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
+    kp = {round(k.station, 6): " ".join(k.features) for k in a.key_points}
+    out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or the CS of an exit "
+           "spiral), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
+           "the curve and tape the chord. Reading: the horizontal circle reading for a left deflection "
+           "(360 - d) with zero on the tangent.</p>"]
+    cols = [("station", "n"), ("from start", "n"), ("deflection", "n"), ("chord from start", "n"),
+            ("chord from prev", "n"), ("reading", "n")]
+
+    def rows_of(data_rows: Sequence[tuple[float, ...]], turn: int) -> list[list[Cell]]:
+        out_rows: list[list[Cell]] = []
+        for st, along, defl, chord, inc in data_rows:
+            reading = _dms(360.0 - defl, 0) if turn < 0 and defl != 0.0 else ""
+            out_rows.append([lab(st), f"{along:.4f}", _dms(defl, 0), f"{chord:.4f}", f"{inc:.4f}", reading])
+        return out_rows
+
+    for curve_no, i, rows in data:
+        el = a.elements[i]
+        start = f"{kp.get(round(el.start, 6), '')} {lab(el.start)}".strip()
+        if isinstance(el, Spiral):
+            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (el.radius_start, el.radius_end))
+            head = (f"Curve {curve_no}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
+                    f"theta {_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+        else:
+            assert isinstance(el, Arc)
+            head = (f"Curve {curve_no}, arc from {start}: R {el.radius:.4f}, delta {_dms(el.delta, 1)}, "
+                    f"deflect {turn_word(el.turn)}")
+        out.append(f"<h3>{_e(head)}</h3>{_table(cols, rows_of(rows, el.turn))}")
+        stations = np.array([r[0] for r in rows])
+        for o, code in offsets:
+            side = f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
+            out.append(f"<h3>{_e(f'Offset line {code} {side}: from its point opposite {start}')}</h3>"
+                       f"{_table(cols, rows_of(_offset_deflections(d, el, stations, o), el.turn))}")
+    return "".join(out)
+
+
+def report_html(d: Design, plan_svg: str) -> bytes:
+    """Render ``report.html``: header and cautions, curve data, the plan, the setout
+    (or, without a setup, the stakes), the deflections and a sign-off block.
+
+    Parameters
+    ----------
+    d : Design
+        The computed job.
+    plan_svg : str
+        The plan picture as an ``<svg>`` element (``plan.svg`` without its XML declaration).
+    """
+    job = d.job
+    svg = plan_svg.split("?>", 1)[1].lstrip() if plan_svg.startswith("<?xml") else plan_svg
+    parts = [
+        f"<header><h1>Staking report</h1><p class=\"sub\">{_e(job.info.name)}</p>{_facts(_job_facts(d))}"
+        f"{_cautions(d.warnings)}</header>",
+        _curve_section(d),
+        f'<section class="picture"><h2>Plan</h2>{svg}</section>',
+        _setout_section(d) if d.setup is not None else _stakes_section(d),
+        _deflection_section(d),
+        _signoff(),
+        _cautions(),
+    ]
+    foot = f"{job.info.name}: staking report, job file sha256 {job.sha256[:16]}"
+    return _document(f"Staking report: {job.info.name}", foot, "\n".join(parts))
+
+
+# ---- check.html -------------------------------------------------------------------------------
+def _f(v: float, decimals: int = 3) -> str:
+    return f"{round(v, decimals) + 0.0:.{decimals}f}" if math.isfinite(v) else ""
+
+
+def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") -> bytes:
+    """Render ``check.html``: the verdict first, the shots needing attention, the picture of
+    the residuals, the shots within tolerance, the design points not staked, a sign-off block.
+
+    Parameters
+    ----------
+    d : Design
+        The computed job.
+    staked_path : str
+        The staked file as given (its name is printed).
+    shots, r : Shots, CheckResult
+        The shots read and the check's result, in file order.
+    """
+    from .checkreport import cut_fill, status_text
+    from .picture import residual_svg_element
+
+    job, design, unit = d.job, d.stakes, d.unit
+    name = Path(staked_path).name
+    counts = r.counts()
+    others = sorted(set(r.status) - set(counts))
+    count_text = ", ".join(f"{s} {counts[s]}" for s in counts) + "".join(
+        f", {s} {r.status.count(s)}" for s in others)
+    attention = [k for k in range(len(shots)) if r.status[k] != "ok"]
+    fine = [k for k in range(len(shots)) if r.status[k] == "ok"]
+    verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
+               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {len(shots)} shots '
+               "(see the first table)</div>")
+    hz = r.horizontal_error[np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[np.isfinite(r.d_elevation)]
+    facts = [("job", job.info.name), ("job file", f"{Path(job.path).name}  sha256 {job.sha256}"),
+             ("staked file", f"{name}  ({shots.encoding})"), ("units", unit.label),
+             ("tolerances", f"horizontal {r.horizontal_tolerance:.4f}   vertical "
+                            + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None
+                               else "not set (not checked)")),
+             ("search radius", f"{r.search_radius:.4f} (for renumbered shots)"),
+             ("shots", f"{len(shots)}: {count_text}"),
+             ("worst horizontal error", f"{hz.max():.4f}" if hz.size else "-"),
+             ("worst vertical error", f"{np.abs(dz).max():.4f}" if dz.size else "- (no elevations to compare)"),
+             ("design points not staked", str(len(r.not_staked)))]
+    with_grade = d.design_elevation is not None
+    marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
+    cols = [("shot", "t"), ("design", "t"), ("station", "n"), ("offset", "n"), ("horiz", "n"), ("d along", "n"),
+            ("d across", "n"), ("d elev", "n")] + ([("mark", "t")] if with_grade else []) + [("status", "t")]
+    label = d.stationing.label
+
+    def row(k: int) -> list[Cell]:
+        i = int(r.design_index[k])
+        out: list[Cell] = [shots.point[k], design.point[i] if i >= 0 else "", label(float(r.station[k])),
+                           _f(r.offset[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]),
+                           _f(r.d_elevation[k])]
+        if with_grade:
+            out.append(marks[k])
+        out.append((status_text(r, k), f"status-{r.status[k]}"))
+        return out
+
+    def table(ks: list[int]) -> str:
+        return _table(cols, [row(k) for k in ks])
+
+    svg, factor = residual_svg_element(d, shots, r, name)
+    missing = [design.point[i] for i in r.not_staked]
+    parts = [
+        f"<header><h1>Staked-point check</h1><p class=\"sub\">{_e(job.info.name)}</p>{verdict}{_facts(facts)}"
+        "</header>",
+        f"<h2>Needs attention: {len(attention)}</h2>"
+        + (table(attention) if attention else "<p>None: every shot is within tolerance.</p>"),
+        f'<section class="picture"><h2>Residuals, drawn {factor:g} times their length</h2>{svg}</section>',
+        f"<h2>Within tolerance: {len(fine)}</h2>" + (table(fine) if fine else "<p>None.</p>"),
+        f"<h2>Design points not staked: {len(missing)}</h2>"
+        + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
+        "<p>d = staked - design; d along / d across: the shot's station / offset minus the design point's; "
+        + ("mark: the cut or fill to write on the stake, C where the shot is above design, F below; "
+           if with_grade else "")
+        + "status out (horizontal / vertical / both): which tolerance the shot fails; northing and easting "
+        "residuals are in check.csv.</p>",
+        _signoff(),
+        _cautions(),
+    ]
+    foot = f"{job.info.name}: staked-point check of {name}"
+    return _document(f"Staked-point check: {job.info.name}", foot, "\n".join(parts))
