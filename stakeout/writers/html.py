@@ -214,7 +214,8 @@ def _setup_groups(d: Design) -> list[tuple[str, list[tuple[str, str]], np.ndarra
     out = []
     idx = np.asarray(sd.setup_index)
     for k, o in enumerate(sd.occupations):
-        out.append((f"Setup {o.number}: setout from {o.occupied.id}",
+        title = f"Setup {o.number}: setout from" if len(sd.occupations) > 1 else "Setout from"
+        out.append((f"{title} {o.occupied.id}",
                     _setup_facts(d, o.occupied, o.backsight, float(o.backsight_azimuth), o.scale),
                     np.flatnonzero(idx == k)))
     return out
