@@ -252,16 +252,18 @@ class Alignment:
         if grid is not None and n.size:
             keys = grid.keys(n, e)
             uniq, inv = np.unique(keys, return_inverse=True)
-            order = np.argsort(inv, kind="stable")
-            bounds = np.searchsorted(inv[order], np.arange(uniq.size + 1))
+            set_of_cell = np.array([grid.cell_set.get(k, -1) for k in uniq.tolist()], dtype=np.int64)
+            set_of_pt = set_of_cell[inv]
+            order = np.argsort(set_of_pt, kind="stable")
+            ids, starts = np.unique(set_of_pt[order], return_index=True)
+            bounds = np.append(starts, order.size)
             miss = []
-            for c, key in enumerate(uniq.tolist()):  # one step per occupied grid cell, vectorised inside
+            for c, sid in enumerate(ids.tolist()):  # one step per distinct candidate set, vectorised inside
                 pts = order[bounds[c]:bounds[c + 1]]
-                sel = grid.cells.get(key)
-                if sel is None:
+                if sid < 0:
                     miss.append(pts)
                     continue
-                res = self._locate_sel(n[pts], e[pts], sel)
+                res = self._locate_sel(n[pts], e[pts], grid.sets[sid])
                 ok = res[2] <= grid.g
                 out[:, pts[ok]] = res[:, ok]
                 miss.append(pts[~ok])

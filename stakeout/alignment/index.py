@@ -23,12 +23,15 @@ GRID_MIN_ELEMENTS = 8
 
 @dataclass(frozen=True)
 class ElementGrid:
-    """Cell size ``g`` (job units), origin, and ``{cell key: element indices}``."""
+    """Cell size ``g`` (job units), origin, and for each cell key the index of
+    its candidate set in ``sets`` (cells along one element share a set, so the
+    inverse handles all their points in one vectorised step)."""
 
     g: float
     e_min: float
     n_min: float
-    cells: dict[int, NDArray[np.int64]]
+    cell_set: dict[int, int]
+    sets: tuple[NDArray[np.int64], ...]
 
     def keys(self, n: NDArray[np.float64], e: NDArray[np.float64]) -> NDArray[np.int64]:
         """The cell key of each point."""
@@ -65,4 +68,6 @@ def build_grid(elements: Sequence[Element], length: float,
         for ix in range(ix0, ix1 + 1):
             for iy in range(iy0, iy1 + 1):
                 cells.setdefault((ix << 32) + iy, []).append(idx)
-    return ElementGrid(g, float(e_min), float(n_min), {key: np.array(v) for key, v in cells.items()})
+    ids: dict[tuple[int, ...], int] = {}
+    cell_set = {key: ids.setdefault(tuple(v), len(ids)) for key, v in cells.items()}
+    return ElementGrid(g, float(e_min), float(n_min), cell_set, tuple(np.array(k) for k in ids))
