@@ -25,7 +25,8 @@ GRID_MIN_ELEMENTS = 8
 class ElementGrid:
     """Cell size ``g`` (job units), origin, and for each cell key the index of
     its candidate set in ``sets`` (cells along one element share a set, so the
-    inverse handles all their points in one vectorised step)."""
+    inverse handles all their points in one vectorised step).
+    """
 
     g: float
     e_min: float
