@@ -185,7 +185,8 @@ def _text_boxes(root) -> list[tuple[str, object]]:
             text = t.text or ""
             x, y = float(t.get("x")), float(t.get("y"))
             w = len(text) * ADVANCE * size
-            x0 = x - w / 2 if t.get("text-anchor", "middle") == "middle" else x
+            anchor = t.get("text-anchor", "start")  # SVG's initial value
+            x0 = {"start": x, "middle": x - w / 2, "end": x - w}[anchor]
             down = 0.24 * size if DESCENDERS & set(text) else 0.0
             out.append((text, box(x0, y - CAP * size, x0 + w, y + down)))
     return out
@@ -341,3 +342,15 @@ def test_plan_svg_in_a_default_build(tmp_path):
     out = build_job(SAMPLES / "loop_ramp_usft.toml", tmp_path / "out")
     assert (out / "plan.svg").read_bytes().startswith(b'<?xml version="1.0" encoding="UTF-8"?>\n<svg')
     assert not (out / "plan.png").exists()  # the matplotlib preview is asked for by name only
+
+
+def test_station_equations_are_marked(tmp_path):
+    # a back and a forward equation (the job of test_equations): each marked and labelled back = ahead
+    job = write_job(tmp_path, (Path(__file__).resolve().parent.parent / "sample_jobs" / "site_road_metric.toml")
+                    .read_text(encoding="utf-8"))
+    assert "EQ" not in " ".join(_root(plan_svg(compute(job))).itertext()).split()
+    from .test_equations import BACKWARD, BASE, FORWARD
+
+    d = compute(write_job(tmp_path, BASE.format(equations=BACKWARD + FORWARD, extra=""), "eq.toml"))
+    texts = " ".join(_root(plan_svg(d)).itertext())
+    assert "EQ 1+105.000 BK = 1+100.000 AH" in texts and "EQ 1+300.000 BK = 2+000.000 AH" in texts

@@ -335,7 +335,7 @@ class _Text:
         self.items: list[str] = []
 
     def add(self, x: float, y: float, text: str, anchor: str = "middle", extra: str = "") -> None:
-        a = "" if anchor == "middle" else f' text-anchor="{anchor}"'
+        a = "" if anchor == "start" else f' text-anchor="{anchor}"'  # SVG's default anchor is the start
         self.items.append(f'<text x="{_n(x)}" y="{_n(y)}"{a}{extra}>{escape(text)}</text>')
 
 
@@ -778,6 +778,23 @@ def plan_svg_element(d: Design) -> str:
         k = lab.place(boxes[0])
         if k >= 0:
             _draw_label(texts_lab, boxes[0, k], [text], FONT_LABEL)
+    if stn.equations:  # station equations: marked on the centreline, labelled back = ahead
+        eq_at = np.array([eq.internal for eq in stn.equations])
+        qn, qe, qaz = a.evaluate(eq_at, 0.0)
+        eqx, eqy = v.x(qe), v.y(qn)
+        qnx, qny = _right_normal(qaz)
+        lab.block(np.column_stack([eqx - 4, eqy - 4, eqx + 4, eqy + 4]))
+        for k, eq in enumerate(stn.equations):
+            text = f"EQ {stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH"
+            placed = _place_on_normal(lab, float(eqx[k]), float(eqy[k]), float(qnx[k]), float(qny[k]), [text],
+                                      FONT_LABEL, (right_px + 8.0, left_px + 8.0))
+            if placed is not None:
+                _draw_label(texts_lab, placed[0], [text], FONT_LABEL)
+                leaders.append(f"M{_n(float(eqx[k]))},{_n(float(eqy[k]))}L{_n(placed[1][0])},{_n(placed[1][1])}")
+        eq_marks = "".join(f"M{_n(p - 3.5)},{_n(q)}l3.5,-3.5l3.5,3.5l-3.5,3.5z" for p, q in zip(eqx.tolist(), eqy.tolist()))
+        body_eq = f'<path class="so-eq" d="{eq_marks}" fill="#fff" stroke="{CL_COLOUR}" stroke-width="1.1"/>'
+    else:
+        body_eq = ""
     st_shown = 0
     for _, lines, px_, py_, u, w_ in station_labels:  # on the left of the line, else on the right
         placed = _place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
@@ -841,6 +858,7 @@ def plan_svg_element(d: Design) -> str:
     if pi_marks:
         body.append(f'<path class="so-pi" d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
                     'stroke-width="1.1"/>')
+    body.append(body_eq)
     body.append(f'<path class="so-key" d="{_circles(kx, ky, 3.2)}" fill="none" stroke="{CL_COLOUR}" '
                 'stroke-width="1.2"/>')
     body.append("".join(ctrl) + "</g>")
@@ -872,6 +890,9 @@ def plan_svg_element(d: Design) -> str:
     if pis:
         pan.symbol(f'<path d="M0,0h28" stroke="{TANGENT_COLOUR}" stroke-width="0.7" stroke-dasharray="6,3"/>'
                    f'<path d="M14,-5l4.5,8h-9z" fill="#fff" stroke="{TANGENT_COLOUR}"/>', "PI and tangents")
+    if stn.equations:
+        pan.symbol(f'<path d="M10.5,0l3.5,-3.5l3.5,3.5l-3.5,3.5z" fill="#fff" stroke="{CL_COLOUR}"/>',
+                   "station equation (back = ahead)")
     pan.symbol('<path d="M14,-5v10M8,0h12" stroke="#222" stroke-width="0.7"/>',
                f"station tick; labels every {_g(spacing)} {unit.symbol}")
     if occs:
@@ -912,9 +933,9 @@ def plan_svg_element(d: Design) -> str:
 
 def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, lines: list[str], size: float,
                      reach: tuple[float, float], steps: int = 3) -> tuple[tuple[float, ...], tuple[float, float]] | None:
-    """Place a label beside (x, y) along the canvas direction (nx, ny), past ``reach[0]``,
-    stepping outward, then on the other side past ``reach[1]``.  Returns the box and the
-    point of the leader's end, or None.
+    """Place a label off (x, y) along the canvas direction (nx, ny), its nearest edge or
+    corner ``reach[0]`` away, stepping outward, then on the other side past ``reach[1]``.
+    Returns the box and the end of its leader (where the ray meets the box), or None.
     """
     w = max(_text_width(t, size) for t in lines) + 2.0
     h = len(lines) * size * 1.15 + 1.0
@@ -922,12 +943,18 @@ def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, li
     ends = []
     for sgn, base in ((1.0, reach[0]), (-1.0, reach[1])):
         ux, uy = sgn * nx, sgn * ny
-        half = (abs(ux) * w + abs(uy) * h) / 2
+        sx, sy = (1.0 if ux >= 0 else -1.0), (1.0 if uy >= 0 else -1.0)
+        # beside, at a corner, or above/below the leader's end, as the direction is more across or up
+        shifts = [(sx * w / 2, 0.0), (sx * w / 2, sy * h / 2), (0.0, sy * h / 2)]
+        if abs(uy) > abs(ux):
+            shifts.reverse()
         for k in range(steps):
             dist = base + k * (h + 3.0)
-            cx, cy = x + ux * (dist + half), y + uy * (dist + half)
-            cands.append((cx - w / 2, cy - h / 2, cx + w / 2, cy + h / 2))
-            ends.append((x + ux * dist, y + uy * dist))
+            qx, qy = x + ux * dist, y + uy * dist
+            for dx, dy in shifts:
+                cx, cy = qx + dx, qy + dy
+                cands.append((cx - w / 2, cy - h / 2, cx + w / 2, cy + h / 2))
+                ends.append((qx, qy))
     k = lab.place(np.array(cands))
     if k < 0:
         return None
