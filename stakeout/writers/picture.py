@@ -1090,9 +1090,13 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     matched = idx >= 0
     safe = np.where(matched, idx, 0)
     de_n, de_e = design.northing[safe], design.easting[safe]
-    pts_e = [shots.easting, de_e[matched]]
-    pts_n = [shots.northing, de_n[matched]]
-    ext = _extent(pts_e, pts_n)
+    # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
+    # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
+    if matched.any():
+        ext = _extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
+        ext = _grow(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
+    else:
+        ext = _extent([shots.easting], [shots.northing])
     size = max(ext[2] - ext[0], ext[3] - ext[1])
     least = max(20.0 * r.horizontal_tolerance, 1.0)
     if size < least:  # one shot, or a few close together: show some room around them
@@ -1142,11 +1146,23 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
                                                                  uy.tolist()))
         body.append(f'<path d="{marks}" stroke="#000" stroke-width="1.2"/>')
     um = np.where(~matched)[0]
+    off_sheet: list[tuple[float, float, str]] = []
     if um.size:
         ux_, uy_ = v.x(shots.easting[um]), v.y(shots.northing[um])
         crosses = "".join(f"M{_n(p - 4)},{_n(q - 4)}l8,8m0,-8l-8,8" for p, q in zip(ux_.tolist(), uy_.tolist()))
         body.append(f'<path d="{crosses}" stroke="{STATUS_COLOURS["unmatched"]}" stroke-width="1.4"/>')
+        for k, p, q in zip(um.tolist(), ux_.tolist(), uy_.tolist()):
+            if not _inside_frame(p, q, 6.0):
+                fx, fy = _to_frame(v.cx, v.cy, p, q, 12.0)
+                dist = math.hypot(p - fx, q - fy) / v.scale
+                off_sheet.append((fx, fy, f"{shots.point[k]} unmatched: {dist:,.1f} {unit.symbol} off the sheet"))
     body.append("</g>")
+    for fx, fy, _ in off_sheet:  # an arrowhead at the frame toward each shot off the sheet
+        dx, dy = fx - v.cx, fy - v.cy
+        far = math.hypot(dx, dy) or 1.0
+        head = _heads(np.array([fx - 10 * dx / far]), np.array([fy - 10 * dy / far]), np.array([fx]),
+                      np.array([fy]), 7.0)
+        body.append(f'<path d="{head}" fill="{STATUS_COLOURS["unmatched"]}"/>')
     # labels: shots needing attention first, then the rest while there is room
     lab.block(np.column_stack([mx[matched] - 2, my[matched] - 2, mx[matched] + 2, my[matched] + 2]))
     lab.block(np.column_stack([np.minimum(mx, tx)[matched] - 1, np.minimum(my, ty)[matched] - 1,
@@ -1157,6 +1173,15 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
                      for s in r.status], dtype=np.int64)
     order = np.lexsort((np.arange(len(shots)), rank))
     texts = _Text()
+    for fx, fy, text in off_sheet:
+        w1 = np.array([_text_width(text, FONT_STAKE) + 1.5])
+        h1 = np.array([FONT_STAKE * 0.78 + 1.5])
+        toward = np.array([[v.cx - fx, v.cy - fy]]) / (math.hypot(v.cx - fx, v.cy - fy) or 1.0)
+        bx = _around_boxes(np.array([fx]), np.array([fy]), w1, h1, 4.0, toward)
+        j = lab.place(bx[0])
+        if j >= 0:
+            b = bx[0, j]
+            texts.add((b[0] + b[2]) / 2, b[3] - 1.25, text, extra=f' fill="{STATUS_COLOURS["unmatched"]}"')
     shown = 0
     names = [p if s == "ok" or not matched[i] or not cut[i] else f"{p} ({r.horizontal_error[i]:.3f})"
              for i, (p, s) in enumerate(zip(shots.point, r.status))]
