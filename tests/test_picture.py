@@ -252,6 +252,7 @@ def test_large_job_is_thinned_and_says_so(tmp_path):
     assert not [t for g in root.iter(f"{SVG}g") if g.get("class") == "so-num" for t in g.iter(f"{SVG}text")]
     texts = " ".join(root.itertext())
     assert "drawn thinned" in texts and "point numbers are not drawn" in texts
+    assert "(thinned), no point numbers" in texts  # said in the title block too
     marks = sum(len(_circle_centres(p.get("d"))) for p in root.iter(f"{SVG}path") if p.get("class") == "so-stake")
     assert 0 < marks < len(d.stakes)
 

@@ -859,7 +859,8 @@ def plan_svg_element(d: Design) -> str:
         body.append(f'<path class="so-pi" d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
                     'stroke-width="1.1"/>')
     body.append(body_eq)
-    body.append(f'<path class="so-key" d="{_circles(kx, ky, 3.2)}" fill="none" stroke="{CL_COLOUR}" '
+    rings = _thin(kx, ky, 8.0) if kx.size else np.zeros(0, dtype=np.int64)  # one ring where many coincide
+    body.append(f'<path class="so-key" d="{_circles(kx[rings], ky[rings], 3.2)}" fill="none" stroke="{CL_COLOUR}" '
                 'stroke-width="1.2"/>')
     body.append("".join(ctrl) + "</g>")
     if leaders:
@@ -925,6 +926,8 @@ def plan_svg_element(d: Design) -> str:
         ("units", unit.label),
         ("CRS", d.crs_label or "none: local grid"),
         ("stations", f"{stn.label(a.start_station)} to {stn.label(a.end_station)}, {len(sp):,} stakes"),
+        ("drawn", (f"{len(keep):,} marks for {n_st:,} stakes (thinned), no point numbers" if not detail else
+                   f"point numbers {num_shown:,} of {n_st:,} (no overprinting)")),
         ("north", "grid north, up the sheet"),
     ], SHEET_HEIGHT - MARGIN)
     title = f"Plan of {a.name}: {job.info.name}"
