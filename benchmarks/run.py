@@ -89,6 +89,35 @@ def engine_and_inverse(tmp: Path) -> dict[str, float]:
             "inverse_shots_per_s": inv, "inverse_elements": len(a.elements)}
 
 
+def spiral_engine_and_inverse() -> dict[str, float]:
+    """Engine and inverse on an alignment with spirals: 100 spiral-curve-spirals
+    (800 m arcs, 120 m clothoids) between tangents, 397 elements."""
+    from stakeout.alignment import PIListSpec, PISpec, build_alignment
+
+    pis = [PISpec(0.0, 0.0, where="pob")]
+    n = e = 0.0
+    for i in range(1, 101):
+        n += 1200.0
+        e += 600.0 if i % 2 else -600.0
+        pis.append(PISpec(n, e, (800.0,), (None,), f"pi{i}", (120.0, 120.0)))
+    pis[-1] = PISpec(n, e, where="poe")
+    a = build_alignment(PIListSpec("SPIRALS", 0.0, tuple(pis)))
+    rng = np.random.default_rng(3)
+    s = np.sort(rng.uniform(a.start_station, a.end_station, 1_000_000))
+    o = rng.uniform(-10, 10, s.size)
+    a.evaluate(s[:1000], o[:1000])
+    t = time.perf_counter()
+    n_, e_, _ = a.evaluate(s, o)
+    eng = s.size / (time.perf_counter() - t)
+    pick = rng.permutation(s.size)[:500_000]
+    a.locate(n_[:100], e_[:100])
+    t = time.perf_counter()
+    a.locate(n_[pick], e_[pick])
+    inv = pick.size / (time.perf_counter() - t)
+    return {"spiral_engine_points_per_s": eng, "spiral_inverse_shots_per_s": inv,
+            "spiral_alignment_elements": len(a.elements)}
+
+
 def whole_process(tmp: Path, repeat: int) -> dict[str, float]:
     out: dict[str, float] = {}
     for pts in (25_000, 250_000):
@@ -184,6 +213,8 @@ TARGETS = {
     "help_minus_numpy_s": ("<=", 0.3),
     "default_build_ratio": ("<=", 1.6),
     "build_1m_peak_mib": ("<=", 1024),
+    "spiral_engine_points_per_s": (">=", 2e6),
+    "spiral_inverse_shots_per_s": (">=", 5e5),
 }
 
 
@@ -194,6 +225,7 @@ def main() -> None:
         tmp = Path(d)
         res: dict[str, float] = {}
         res.update(engine_and_inverse(tmp))
+        res.update(spiral_engine_and_inverse())
         res.update(whole_process(tmp, repeat))
         res.update(dxf(tmp))
         res.update(startup(3 if quick else 7))

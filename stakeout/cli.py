@@ -170,7 +170,7 @@ def curve(
 def check(
     job: str = typer.Argument(..., help="The job file (TOML, format 1) with a [check] table."),
     staked: str = typer.Argument(..., help="The staked points exported by the data collector."),
-    out: str = typer.Option(..., "--out", "-o", help="Folder to write check.csv and check.txt into."),
+    out: str = typer.Option(..., "--out", "-o", help="Folder to write check.csv, check.txt and restake.csv into."),
     force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
     columns: Optional[str] = typer.Option(None, "--columns", help="Column order of the staked file, e.g. "
                                           "point,easting,northing,elevation,description (skip ignores one)."),

@@ -5,40 +5,148 @@
 ``[setup]`` the setout from the occupied point with the factors used.
 Every writer reads a :class:`Design` and nothing else of the job's
 processing.
+
+Setups: one, several listed in the job (each stake by its station range,
+or to the nearest), or chosen automatically among the control points
+(:mod:`stakeout.setups`).  Every stake is set out from its own setup, with
+the combined factor at that setup's occupied point; with ``[instrument]``
+its predicted precision (:mod:`stakeout.precision`) comes from the same
+setup.
 """
 
 from __future__ import annotations
 
+import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any, overload
 
 import numpy as np
+from numpy.typing import NDArray
 
-from .alignment import Alignment, build_alignment
-from .job import Job, Setup
+from .alignment import STATION_TOLERANCE, Alignment, build_alignment
+from .errors import GeometryError, JobFileError
+from .job import ControlPoint, Job, Setup, SetupStation
+from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
 from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
+from .setups import choose_setups
 from .staking import StakePoints, plan_stakes
 from .stations import Stationing
 from .units import Unit
 
-__all__ = ["Design", "SetupDesign", "build_design", "build_stationing", "build_profile_of"]
+if TYPE_CHECKING:  # pragma: no cover
+    from .crs import GridCRS
+
+__all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
+           "build_profile_of"]
+
+
+@dataclass(frozen=True)
+class Occupation:
+    """One instrument setup as computed.
+
+    Attributes
+    ----------
+    number : int
+        1, 2, ... in the order of the sheet: as listed in the job, or for
+        automatic setups by the first stake each serves.
+    occupied : ControlPoint
+        The occupied point (job units).
+    backsight : ControlPoint or None
+        The backsight point; None when a backsight azimuth was given.
+    given_azimuth : float or None
+        The backsight azimuth as the job gave it (degrees; grid or, with
+        ``azimuth_reference = "geodetic"``, geodetic); None with a point.
+    backsight_azimuth : float
+        Grid azimuth of the backsight, degrees clockwise from grid north.
+    scale : ScaleInfo
+        The combined factor used at this occupied point.
+    where : str
+        The job-file key the setup came from (``setup``,
+        ``setup.station[1]``); ``setup`` for automatic setups.
+    stake_count : int
+        Stakes set out from this setup.
+    farthest_sight : float
+        Longest grid distance to one of its stakes (job units); 0 with none.
+    first_station, last_station : float or None
+        Internal stations of its first and last stakes (None with none).
+    """
+
+    number: int
+    occupied: ControlPoint
+    backsight: ControlPoint | None
+    given_azimuth: float | None
+    backsight_azimuth: float
+    scale: ScaleInfo
+    where: str
+    stake_count: int
+    farthest_sight: float
+    first_station: float | None
+    last_station: float | None
+
+    @property
+    def backsight_distance(self) -> float | None:
+        """Grid distance to the backsight point (job units), None without one."""
+        if self.backsight is None:
+            return None
+        return math.hypot(self.backsight.northing - self.occupied.northing,
+                          self.backsight.easting - self.occupied.easting)
 
 
 @dataclass(frozen=True)
 class SetupDesign:
-    """The instrument setup as computed: the job's ``[setup]``, the combined
-    factor used and the setout of every stake from it.
+    """The instrument setups as computed: the job's ``[setup]``, each setup
+    with its factor, each stake's setup, and the setout of every stake from
+    its own setup; with ``[instrument]`` the predicted precision and, with a
+    ``[check] horizontal_tolerance``, the stakes whose 95 % radius exceeds it.
+
+    Attributes
+    ----------
+    setup : Setup
+        The job's ``[setup]``.
+    occupations : tuple of Occupation
+        Every setup, in sheet order (at least one).
+    setup_index : ndarray of int64
+        Per stake (point order): index into ``occupations``.
+    setout : Setout
+        Per stake, from its own setup.
+    precision : Precision or None
+        Per stake ``sigma_along``, ``sigma_across``, ``r95`` (job units).
+    flagged : ndarray of bool or None
+        Per stake: r95 exceeds ``tolerance``; None without precision or tolerance.
+    tolerance : float or None
+        ``[check] horizontal_tolerance`` (job units) used for the flags.
     """
 
     setup: Setup
-    scale: ScaleInfo
+    occupations: tuple[Occupation, ...]
+    setup_index: NDArray[np.int64]
     setout: Setout
+    precision: Precision | None = None
+    flagged: NDArray[np.bool_] | None = None
+    tolerance: float | None = None
+
+    @property
+    def scale(self) -> ScaleInfo:
+        """The combined factor of the first (or only) setup."""
+        return self.occupations[0].scale
 
     @property
     def backsight_azimuth(self) -> float:
-        """Grid azimuth of the backsight, degrees."""
-        return self.setout.backsight_azimuth
+        """Grid azimuth of the first (or only) setup's backsight, degrees."""
+        return self.occupations[0].backsight_azimuth
+
+    @property
+    def listed(self) -> bool:
+        """Setups from control points or several: outputs number and name them."""
+        return self.setup.listed or len(self.occupations) > 1
+
+    def groups(self) -> list[NDArray[np.int64]]:
+        """Stake indices of each setup, in point order, one array per setup."""
+        order = np.argsort(self.setup_index, kind="stable")
+        counts = np.bincount(self.setup_index, minlength=len(self.occupations))
+        return np.split(order, np.cumsum(counts)[:-1])
 
 
 @dataclass(frozen=True)
@@ -84,6 +192,178 @@ def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:
     return build_profile(pvis, job.profile.name)
 
 
+class _PointIds(Sequence[str]):
+    """Point ids of the stakes, made one at a time (only an error names one)."""
+
+    def __init__(self, stakes: StakePoints):
+        self._stakes = stakes
+
+    def __len__(self) -> int:
+        return len(self._stakes)
+
+    @overload
+    def __getitem__(self, i: int) -> str: ...
+
+    @overload
+    def __getitem__(self, i: slice) -> Sequence[str]: ...
+
+    def __getitem__(self, i: int | slice) -> str | Sequence[str]:
+        if isinstance(i, slice):
+            return [self[k] for k in range(*i.indices(len(self)))]
+        return f"{self._stakes.prefix}{int(self._stakes.number[i])}"
+
+
+def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[SetupStation, ...], NDArray[np.int64]]:
+    """Automatic setups among the control points (:func:`stakeout.setups.choose_setups`),
+    numbered by the first stake each serves.
+    """
+    assert setup.max_distance is not None and setup.max_backsight is not None
+    ctrl = job.control
+    plan = choose_setups([c.id for c in ctrl], np.array([c.northing for c in ctrl]),
+                         np.array([c.easting for c in ctrl]), stakes.northing, stakes.easting, setup.max_distance,
+                         setup.max_backsight, stake_ids=_PointIds(stakes))
+    n = len(stakes)
+    first = np.full(len(plan.setups), n, dtype=np.int64)
+    np.minimum.at(first, plan.setup_index, np.arange(n, dtype=np.int64))
+    order = np.argsort(first, kind="stable")
+    rank = np.empty_like(order)
+    rank[order] = np.arange(order.size)
+    by_id = {c.id: c for c in ctrl}
+    stations = tuple(SetupStation(by_id[plan.setups[k].occupied_id], by_id[plan.setups[k].backsight_id], None)
+                     for k in order.tolist())
+    return stations, rank[plan.setup_index]
+
+
+def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
+                  stationing: Stationing) -> NDArray[np.int64]:
+    """Each stake's setup by the station ranges the setups serve (inclusive;
+    at a shared end the setup listed first).
+    """
+    spans = []
+    for s in stations:
+        assert s.from_station is not None and s.to_station is not None
+        lo, hi = stationing.to_internal(s.from_station), stationing.to_internal(s.to_station)
+        if hi < lo:
+            raise JobFileError(f"{s.where}.to_station = {stationing.label(hi)!r}: comes before from_station "
+                               f"{stationing.label(lo)!r}")
+        spans.append((lo, hi, s.where))
+    ordered = sorted(spans)
+    for (lo0, hi0, w0), (lo1, hi1, w1) in zip(ordered, ordered[1:]):
+        if lo1 < hi0 - STATION_TOLERANCE:
+            raise JobFileError(f"{w1} (from {stationing.label(lo1)} to {stationing.label(hi1)}): overlaps {w0} "
+                               f"(from {stationing.label(lo0)} to {stationing.label(hi0)}); ranges may share "
+                               "only an end")
+    st = stakes.station
+    tol = max(STATION_TOLERANCE, 0.5 * 10.0 ** -stationing.decimals)  # a range's ends as its labels print them
+    index = np.full(st.size, -1, dtype=np.int64)
+    for k, (lo, hi, _) in enumerate(spans):  # one step per setup, vectorised over the stakes
+        index[(index < 0) & (st >= lo - tol) & (st <= hi + tol)] = k
+    if (index < 0).any():
+        i = int(np.argmax(index < 0))
+        raise GeometryError(f"stake {_PointIds(stakes)[i]!r} at {stationing.label(float(st[i]))}: no "
+                            "[[setup.station]] from_station/to_station range serves it")
+    return index
+
+
+def _nearest_index(stations: tuple[SetupStation, ...], stakes: StakePoints) -> NDArray[np.int64]:
+    """Each stake's nearest setup (ties: the one listed first)."""
+    on = np.array([s.occupied.northing for s in stations])
+    oe = np.array([s.occupied.easting for s in stations])
+    index = np.empty(len(stakes), dtype=np.int64)
+    step = max(1, (1 << 22) // len(stations))
+    for lo in range(0, len(stakes), step):  # blocks of stakes: a setups x block matrix stays small
+        sn, se = stakes.northing[lo:lo + step], stakes.easting[lo:lo + step]
+        d2 = (sn[None, :] - on[:, None]) ** 2 + (se[None, :] - oe[:, None]) ** 2
+        index[lo:lo + step] = np.argmin(d2, axis=0)
+    return index
+
+
+def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: GridCRS | None) -> SetupDesign:
+    """The setups of a job with a ``[setup]``, each stake's setup, the setout and the precision.
+
+    Parameters
+    ----------
+    job : Job
+        The job; its ``setup`` must not be None.
+    stakes : StakePoints
+        Every stake, in point order.
+    stationing : Stationing
+        The alignment's stationing (for ``[[setup.station]]`` ranges).
+    grid : GridCRS or None
+        The job's CRS: the factors and convergence at each occupied point.
+
+    Returns
+    -------
+    SetupDesign
+
+    Raises
+    ------
+    GeometryError
+        A stake no setup serves (no control point reaches it, or no range).
+    JobFileError
+        A station range that runs backwards or overlaps another.
+    """
+    setup = job.setup
+    assert setup is not None
+    unit = job.info.unit
+    if setup.auto:
+        stations, index = _auto_stations(job, setup, stakes)
+    else:
+        stations = setup.explicit()
+        if stations[0].from_station is not None:
+            index = _ranged_index(stations, stakes, stationing)
+        elif len(stations) == 1:
+            index = np.zeros(len(stakes), dtype=np.int64)
+        else:
+            index = _nearest_index(stations, stakes)
+    k = len(stations)
+    occ_n = np.array([s.occupied.northing for s in stations])
+    occ_e = np.array([s.occupied.easting for s in stations])
+    scales, bs_az = [], []
+    for s in stations:  # one CRS evaluation per setup
+        pf = None
+        if grid is not None:
+            grid.check_in_area(s.occupied.northing, s.occupied.easting, "setup.occupied")
+            pf = grid.factors(s.occupied.northing, s.occupied.easting)
+        scales.append(resolve_scale(job.scale, unit, pf))
+        bs_az.append(backsight_azimuth(s, pf.convergence if pf else None, setup.azimuth_reference))
+    cf = np.array([sc.combined_factor for sc in scales])
+    elev = [s.occupied.elevation for s in stations]
+    occ_z = None if any(z is None for z in elev) else np.array(elev, dtype=float)[index]
+    if k == 1:  # one setup: scalars, exactly as a one-setup job always was
+        setout = compute_setout(float(occ_n[0]), float(occ_e[0]), bs_az[0], stakes.northing, stakes.easting,
+                                float(cf[0]), elev[0], setup.instrument_height, stakes.elevation,
+                                setup.target_height)
+    else:
+        setout = compute_setout(occ_n[index], occ_e[index], np.array(bs_az)[index], stakes.northing,
+                                stakes.easting, cf[index], occ_z, setup.instrument_height, stakes.elevation,
+                                setup.target_height)
+    counts = np.bincount(index, minlength=k)
+    farthest = np.zeros(k)
+    np.maximum.at(farthest, index, setout.grid_distance)
+    st = stakes.station
+    first_st = np.full(k, np.inf)
+    last_st = np.full(k, -np.inf)
+    np.minimum.at(first_st, index, st)
+    np.maximum.at(last_st, index, st)
+    occupations = tuple(
+        Occupation(i + 1, s.occupied, s.backsight, s.backsight_azimuth, bs_az[i], scales[i], s.where,
+                   int(counts[i]), float(farthest[i]), float(first_st[i]) if counts[i] else None,
+                   float(last_st[i]) if counts[i] else None)
+        for i, s in enumerate(stations)
+    )
+    precision = flagged = tolerance = None
+    if job.instrument is not None:
+        bn = np.array([s.backsight.northing if s.backsight is not None else np.nan for s in stations])
+        be = np.array([s.backsight.easting if s.backsight is not None else np.nan for s in stations])
+        precision = predict_precision(occ_n[index], occ_e[index], bn[index], be[index], stakes.northing,
+                                      stakes.easting, job.instrument)
+        if job.check is not None and job.check.horizontal_tolerance is not None:
+            tolerance = job.check.horizontal_tolerance
+            flagged = flag_exceeding(precision.r95, tolerance)
+    return SetupDesign(setup, occupations, index, setout, precision, flagged, tolerance)
+
+
 def build_design(job: Job) -> Design:
     """Build the alignment, the stakes and, with a ``[setup]``, the setout."""
     alignment = build_alignment(job.alignment)
@@ -102,26 +382,27 @@ def build_design(job: Job) -> Design:
     factors: dict[str, Any] = {}
     warnings: list[str] = list(alignment.warnings)
     if job.setup is not None:
-        setup = job.setup
-        occ = setup.occupied
-        pf = None
-        if grid is not None:
-            grid.check_in_area(occ.northing, occ.easting, "setup.occupied")
-            pf = grid.factors(occ.northing, occ.easting)
-        scale = resolve_scale(job.scale, unit, pf)
-        bs_az = backsight_azimuth(setup, pf.convergence if pf else None)
-        setout = compute_setout(occ.northing, occ.easting, bs_az, stakes.northing, stakes.easting,
-                                scale.combined_factor, occ.elevation, setup.instrument_height, stakes.elevation,
-                                setup.target_height)
-        setup_design = SetupDesign(setup, scale, setout)
+        setup_design = build_setups(job, stakes, stationing, grid)
         if not job.scale.given and grid is not None:
             warnings.append("no combined factor in the job: ground distances equal grid distances (factor 1.0); "
                             'set [scale] combined_factor = "auto" to use the CRS\'s factor at the occupied point')
+        for o in setup_design.occupations:
+            if o.stake_count == 0:
+                warnings.append(f"setup {o.number} ({o.where}, occupied {o.occupied.id}) serves no stake")
+        first = setup_design.occupations[0]
+        scale = first.scale
         factors = {k: v for k, v in {
             "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
             "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
-            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": bs_az,
+            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": first.backsight_azimuth,
         }.items() if v is not None}
+        if len(setup_design.occupations) > 1:  # per-setup factors are listed in the manifest's setups
+            factors = {"how": scale.how}
+            cfs = {o.scale.combined_factor for o in setup_design.occupations}
+            if len(cfs) == 1:
+                factors["combined_factor"] = scale.combined_factor
+            if scale.height is not None:
+                factors["height"] = scale.height
         if not job.scale.given:
             factors["how"] = "default"
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),

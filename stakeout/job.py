@@ -7,14 +7,15 @@ units; angles in decimal degrees; azimuths clockwise from grid north.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from .alignment.specs import AlignmentSpec
+from .precision import InstrumentSpec
 from .stations import StationRef
 from .units import Unit
 
-__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "Setup", "Scale", "CheckSpec",
-           "ProfilePVI", "ProfileInput", "DesignFile"]
+__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
+           "ProfilePVI", "ProfileInput", "DesignFile", "InstrumentSpec"]
 
 
 @dataclass(frozen=True)
@@ -60,24 +61,83 @@ class Staking:
 
 @dataclass(frozen=True)
 class ControlPoint:
-    """A control point: id, grid coordinates (job units), optional elevation."""
+    """A control point: id, grid coordinates (job units), optional elevation.
+
+    ``where`` says where the job gave it (``control.point[2]``,
+    ``control.file 'c.csv' line 5``), for messages; it takes no part in
+    comparisons.
+    """
 
     id: str
     northing: float
     easting: float
     elevation: float | None = None
+    where: str = field(default="", compare=False)
+
+
+@dataclass(frozen=True)
+class SetupStation:
+    """One explicit instrument setup: the occupied point, the backsight (a
+    point, or a grid or geodetic azimuth) and, optionally, the range of
+    stations it serves (inclusive, both or neither given).
+
+    ``where`` is the job-file key it came from (``setup`` or
+    ``setup.station[1]``), named in messages.
+    """
+
+    occupied: ControlPoint
+    backsight: ControlPoint | None
+    backsight_azimuth: float | None
+    from_station: StationRef | None = None
+    to_station: StationRef | None = None
+    where: str = "setup"
 
 
 @dataclass(frozen=True)
 class Setup:
-    """``[setup]``: the occupied point and the backsight (point or azimuth)."""
+    """``[setup]``: the instrument setups, in one of three forms.
 
-    occupied: ControlPoint
+    * one setup: ``occupied`` with ``backsight`` or ``backsight_azimuth``
+      (each point inline or a control point named by id);
+    * several setups: ``stations`` (``[[setup.station]]``), ``occupied``
+      and the backsight fields ``None``;
+    * automatic setups (``occupied = "auto"``): ``max_distance`` and
+      ``max_backsight`` set, ``occupied`` and the backsight fields ``None``.
+
+    Heights and the azimuth reference are shared by every setup.  ``by_id``
+    is True when a point of the setup(s) was named by a control point id.
+    """
+
+    occupied: ControlPoint | None
     backsight: ControlPoint | None
     backsight_azimuth: float | None
     azimuth_reference: str
     instrument_height: float | None
     target_height: float | None
+    max_distance: float | None = None  # job units; set with occupied = "auto"
+    max_backsight: float | None = None  # job units; set with occupied = "auto"
+    stations: tuple[SetupStation, ...] = ()
+    by_id: bool = False
+
+    @property
+    def auto(self) -> bool:
+        """True when the setups are to be chosen among the control points."""
+        return self.max_distance is not None
+
+    @property
+    def listed(self) -> bool:
+        """True when the setups come from control points or are several: the
+        outputs then number them and name their points (``setup,occupied,backsight``).
+        """
+        return self.auto or bool(self.stations) or self.by_id
+
+    def explicit(self) -> tuple[SetupStation, ...]:
+        """The setups the job lists: its stations, or the one ``[setup]`` (none with ``auto``)."""
+        if self.stations:
+            return self.stations
+        if self.occupied is None:
+            return ()
+        return (SetupStation(self.occupied, self.backsight, self.backsight_azimuth),)
 
 
 @dataclass(frozen=True)
@@ -160,3 +220,7 @@ class Job:
     #: Station equations in order: (back station, ahead station, key for errors).
     equations: tuple[tuple[float, float, str], ...] = ()
     design_files: tuple[DesignFile, ...] = ()
+    #: Control points from ``[control]`` (file, LandXML CgPoints, inline), ids unique.
+    control: tuple[ControlPoint, ...] = ()
+    #: ``[instrument]``: standard errors for the predicted precision of every stake.
+    instrument: InstrumentSpec | None = None

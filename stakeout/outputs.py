@@ -91,6 +91,12 @@ def _profile(d: "Design", done: Rendered) -> bytes:
     return profile_csv(d)
 
 
+def _profile_picture(d: "Design", done: Rendered) -> bytes:
+    from .writers.profile_picture import profile_svg
+
+    return profile_svg(d)
+
+
 def _setout(d: "Design", done: Rendered) -> bytes:
     from .writers.tables import setout_csv
 
@@ -152,6 +158,8 @@ OUTPUTS: tuple[Output, ...] = (
     Output("spirals", "spirals.csv", "one row per spiral with its figures", _spirals, applies=_has_spirals,
            absent="the alignment has no spirals"),
     Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
+    Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
+           _profile_picture, needs_profile=True),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),

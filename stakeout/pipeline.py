@@ -14,12 +14,54 @@ from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
 
-__all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute"]
+__all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute", "setup_notes"]
+
+#: The console lists at most this many setups (the sheet lists them all).
+NOTE_SETUPS = 20
 
 
 def compute(job_path: str | Path) -> Design:
     """Read a job file and build its design."""
     return build_design(load_job(job_path))
+
+
+def setup_notes(d: Design) -> list[str]:
+    """What the console says of the setups: a summary of each (numbered setups
+    only), stakes at the instrument, and the predicted precision.
+    """
+    sd = d.setup
+    if sd is None:
+        return []
+    out = []
+    occs = sd.occupations
+    if sd.listed:
+        setup = sd.setup
+        if setup.auto:
+            how = (f"chosen among {len(d.job.control)} control points (max_distance {setup.max_distance:g}, "
+                   f"max_backsight {setup.max_backsight:g})")
+        else:
+            how = "as listed in the job file"
+        out.append(f"setups: {len(occs)}, {how}")
+        for o in occs[:NOTE_SETUPS]:
+            bs = (f"backsight {o.backsight.id} ({o.backsight_distance:.3f} away)" if o.backsight is not None
+                  else "backsight by azimuth")
+            out.append(f"  setup {o.number}: occupy {o.occupied.id}, {bs}, {o.stake_count} stakes, "
+                       f"farthest sight {o.farthest_sight:.3f}")
+        if len(occs) > NOTE_SETUPS:
+            out.append(f"  ... and {len(occs) - NOTE_SETUPS} more setups: see setout.txt")
+    at = sd.setout.at_instrument
+    if at.any():
+        first = int(at.argmax())
+        out.append(f"{int(at.sum())} stake(s) at the instrument, no angle (first: point {d.stakes.point[first]}, "
+                   f"setup {occs[int(sd.setup_index[first])].number})")
+    if sd.precision is not None:
+        worst = float(sd.precision.r95.max()) if len(d.stakes) else 0.0
+        if sd.flagged is not None and sd.tolerance is not None:
+            out.append(f"precision: r95 up to {worst:.4f}; {int(sd.flagged.sum())} of {sd.flagged.size} stakes "
+                       f"exceed [check] horizontal_tolerance {sd.tolerance:g} (marked on setout.txt)")
+        else:
+            out.append(f"precision: r95 up to {worst:.4f}; no [check] horizontal_tolerance, so no stake is flagged")
+    return out
 
 
 def _has_extra(extra: str | None) -> bool:
@@ -88,6 +130,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:
         for item in f.not_used:
@@ -113,15 +156,20 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
               columns: str | None = None, delimiter: str = "auto") -> tuple[bool, list[str]]:
     """``stakeout check``: staked shots against design, written atomically.
 
+    Writes ``check.csv``, ``check.txt`` and ``restake.csv`` (the design
+    points still to set).  A file whose northings and eastings look swapped
+    is refused before anything is written.
+
     Returns
     -------
     (all_ok, notes)
-        ``all_ok`` is False when any shot is out of tolerance, duplicated
-        or unmatched (the CLI exits 1).
+        ``all_ok`` is False when any shot needs attention: out of
+        tolerance, duplicated, unmatched, or a control shot beyond
+        tolerance (the CLI exits 1).
     """
-    from .check import check_shots
+    from .check import check_column_order, check_shots, job_control_points
     from .shots import parse_columns, read_shots
-    from .writers.checkreport import check_csv, check_txt
+    from .writers.checkreport import check_csv, check_txt, restake_csv
     from .writers.folder import OutputFolder
     from .writers.html import check_html
 
@@ -134,20 +182,27 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=(job_path, staked))
     d = build_design(job)
+    control = job_control_points(job)
+    radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
+    check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, spec.search_radius)
+                         spec.vertical_tolerance, radius, control)
     progress.step("shots checked")
 
     with folder:
         folder.write_bytes("check.csv", check_csv(d, shots, result))
         folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result))
         folder.write_bytes("check.html", check_html(d, str(staked), shots, result))
+        folder.write_bytes("restake.csv", restake_csv(d, result))
         folder.commit()
-    progress.step("check.csv, check.txt, check.html")
+    progress.step("check.csv, check.txt, check.html, restake.csv")
     counts = result.counts()
-    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}"]
+    notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}",
+             f"{result.restake.size} design point(s) to set again in restake.csv "
+             f"({result.restake.size - result.not_staked.size} out of tolerance, "
+             f"{result.not_staked.size} not staked)"]
     return result.all_ok, notes
 
 

@@ -3,7 +3,13 @@
 Grid and ground (NOAA Manual NOS NGS 5): elevation factor EF = R/(R + h),
 h the ellipsoid height; combined factor CF = k * EF; grid distance =
 ground distance * CF.  The angle right is the point's grid azimuth minus
-the backsight's grid azimuth, reduced to [0, 360).
+the backsight's grid azimuth, reduced to [0, 360).  Several setups are
+computed at once: the occupied point, backsight azimuth, factor and
+elevation may be given per point (each point's own setup).
+
+A point closer than :data:`AT_INSTRUMENT` to its occupied point is *at the
+instrument*: it has no direction, so it gets no angle (the outputs leave the
+angle empty and say so).
 """
 
 from __future__ import annotations
@@ -17,7 +23,7 @@ from typing import TYPE_CHECKING
 
 from .angles import azimuth_between, normalize_azimuth
 from .errors import JobFileError
-from .job import Scale, Setup
+from .job import Scale, SetupStation
 from .units import Unit
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -26,8 +32,12 @@ if TYPE_CHECKING:  # pragma: no cover
 #: How a factor of 1.0 that no job file gave is described (sheets, manifest, console).
 DEFAULT_FACTOR_NOTE = "default: no factor given, ground distances equal grid distances"
 
-__all__ = ["DEFAULT_FACTOR_NOTE", "elevation_factor", "ScaleInfo", "Setout", "compute_setout", "resolve_scale",
-           "backsight_azimuth"]
+#: A point closer than this to the occupied point (job units) is at the instrument: no angle to
+#: turn.  Half the last digit of the sheet's distances, so it prints as distance 0.000 there.
+AT_INSTRUMENT = 5e-4
+
+__all__ = ["DEFAULT_FACTOR_NOTE", "AT_INSTRUMENT", "elevation_factor", "ScaleInfo", "Setout", "compute_setout",
+           "resolve_scale", "backsight_azimuth"]
 
 
 def elevation_factor(height_m: float, radius_m: float) -> float:
@@ -56,9 +66,13 @@ class ScaleInfo:
 
 @dataclass(frozen=True)
 class Setout:
-    """Per-point setout from the occupied point (arrays in point order)."""
+    """Per-point setout from the occupied point (arrays in point order).
 
-    backsight_azimuth: float
+    ``backsight_azimuth`` is a float for one setup, or one value per point
+    (its own setup's) when the points were set out from several.
+    """
+
+    backsight_azimuth: float | NDArray[np.float64]
     azimuth: NDArray[np.float64]
     angle_right: NDArray[np.float64]
     grid_distance: NDArray[np.float64]
@@ -66,15 +80,20 @@ class Setout:
     zenith: NDArray[np.float64] | None
     slope_distance: NDArray[np.float64] | None
 
+    @property
+    def at_instrument(self) -> NDArray[np.bool_]:
+        """Points closer than :data:`AT_INSTRUMENT` to the occupied point: no angle."""
+        return np.asarray(self.grid_distance < AT_INSTRUMENT)
+
 
 def compute_setout(
-    occ_n: float,
-    occ_e: float,
-    backsight_azimuth: float,
+    occ_n: ArrayLike,
+    occ_e: ArrayLike,
+    backsight_azimuth: ArrayLike,
     northing: ArrayLike,
     easting: ArrayLike,
-    combined_factor: float,
-    occ_elevation: float | None = None,
+    combined_factor: ArrayLike,
+    occ_elevation: ArrayLike | None = None,
     instrument_height: float | None = None,
     elevation: ArrayLike | None = None,
     target_height: float | None = None,
@@ -83,34 +102,43 @@ def compute_setout(
 
     Parameters
     ----------
-    occ_n, occ_e : float
-        Occupied point, grid coordinates (job units).
-    backsight_azimuth : float
-        Grid azimuth to the backsight, degrees clockwise from grid north.
+    occ_n, occ_e : float or array
+        Occupied point, grid coordinates (job units): one for all points, or
+        one per point (each point's own setup).
+    backsight_azimuth : float or array
+        Grid azimuth to the backsight, degrees clockwise from grid north;
+        one, or one per point.
     northing, easting : arrays
         Target points (job units).
-    combined_factor : float
-        Grid / ground; ground distance = grid distance / combined_factor.
+    combined_factor : float or array
+        Grid / ground; ground distance = grid distance / combined_factor;
+        one, or one per point.
     occ_elevation, instrument_height, elevation, target_height : optional
         With all four, the zenith angle (degrees, 90 = level) and slope
         distance (ground) are computed; no curvature or refraction
-        correction is applied (short sights).
+        correction is applied (short sights).  ``occ_elevation`` may be
+        given per point.
     """
     n = np.asarray(northing, dtype=float)
     e = np.asarray(easting, dtype=float)
-    az = np.asarray(azimuth_between(occ_n, occ_e, n, e), dtype=float)
-    grid = np.hypot(n - occ_n, e - occ_e)
+    on = np.asarray(occ_n, dtype=float)
+    oe = np.asarray(occ_e, dtype=float)
+    bs = np.asarray(backsight_azimuth, dtype=float)
+    az = np.asarray(azimuth_between(on, oe, n, e), dtype=float)
+    grid = np.hypot(n - on, e - oe)
     # a point on the occupied station has no direction: report azimuth 0
     az = np.where(grid > 0, az, 0.0)
-    ar = np.asarray(normalize_azimuth(az - backsight_azimuth), dtype=float)
-    ground = grid / combined_factor
+    ar = np.asarray(normalize_azimuth(az - bs), dtype=float)
+    ground = grid / np.asarray(combined_factor, dtype=float)
     zen = slope = None
     if all(v is not None for v in (occ_elevation, instrument_height, elevation, target_height)):
-        dz = (np.asarray(elevation, dtype=float) + float(target_height)) - (float(occ_elevation) + float(instrument_height))  # type: ignore[arg-type]
+        inst = np.asarray(occ_elevation, dtype=float) + float(instrument_height)  # type: ignore[arg-type]
+        dz = (np.asarray(elevation, dtype=float) + float(target_height)) - inst  # type: ignore[arg-type]
         dz = np.broadcast_to(dz, ground.shape)
         zen = np.degrees(np.arctan2(ground, dz))
         slope = np.hypot(ground, dz)
-    return Setout(float(backsight_azimuth), az, ar, grid, ground, zen, slope)
+    return Setout(float(bs) if bs.ndim == 0 else np.broadcast_to(bs, grid.shape).copy(), az, ar, grid, ground, zen,
+                  slope)
 
 
 def resolve_scale(scale: Scale, unit: Unit, factors: "PointFactors | None") -> ScaleInfo:
@@ -149,12 +177,22 @@ def resolve_scale(scale: Scale, unit: Unit, factors: "PointFactors | None") -> S
                      latitude=pf.latitude if pf else None, longitude=pf.longitude if pf else None)
 
 
-def backsight_azimuth(setup: Setup, convergence: float | None) -> float:
+def backsight_azimuth(setup: SetupStation, convergence: float | None, azimuth_reference: str = "grid") -> float:
     """Grid azimuth of the backsight, degrees clockwise from grid north.
 
     From the backsight point, or the given azimuth; a geodetic azimuth
     becomes grid = geodetic - convergence (NGS 5: t = alpha - gamma + delta,
     the arc-to-chord term delta, under 1 second for ordinary sights, not applied).
+
+    Parameters
+    ----------
+    setup : SetupStation
+        One setup: occupied point and backsight point or azimuth (degrees).
+    convergence : float or None
+        Meridian convergence at the occupied point, degrees (needed for a
+        geodetic azimuth).
+    azimuth_reference : str
+        ``"grid"`` or ``"geodetic"``: what a given ``backsight_azimuth`` is.
     """
     occ = setup.occupied
     if setup.backsight is not None:
@@ -162,7 +200,7 @@ def backsight_azimuth(setup: Setup, convergence: float | None) -> float:
         return float(azimuth_between(occ.northing, occ.easting, bs.northing, bs.easting))
     assert setup.backsight_azimuth is not None
     az = setup.backsight_azimuth
-    if setup.azimuth_reference == "geodetic":
+    if azimuth_reference == "geodetic":
         assert convergence is not None
         az = float(normalize_azimuth(az - convergence))
     return az

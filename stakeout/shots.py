@@ -4,11 +4,14 @@ By default the columns are those of ``points.csv``:
 ``point,northing,easting,elevation,description``, with or without a header
 row.  The first row is a header only when it names the columns: its
 northing is not a number and it names both ``northing`` and ``easting``
-(any case, or an alias such as ``N``/``E``); otherwise it is a shot, and a
-shot that does not parse is an error with its line number (a typo in the
-first shot is never dropped as a header).  A header that names at least
-``point``, ``northing`` and ``easting`` sets the column order unless
-``columns`` is given; a header naming a column twice is refused.  The
+(any case, or an alias such as ``N``/``E``), or names a column ``X`` or
+``Y``; otherwise it is a shot, and a shot that does not parse is an error
+with its line number (a typo in the first shot is never dropped as a
+header).  A header that names at least ``point``, ``northing`` and
+``easting`` sets the column order unless ``columns`` is given; a header
+naming a column twice is refused.  ``X`` and ``Y`` are ambiguous in this
+trade (some programs write the easting as X, others the northing), so a
+header naming either is refused unless ``--columns`` gives the order.  The
 delimiter is a comma, semicolon, tab or runs of spaces; ``auto`` picks the
 one that splits the first record, as parsed (quotes honoured), into the
 most fields.
@@ -29,7 +32,9 @@ What is accepted, and the limits (see :mod:`stakeout.limits`):
 * numbers in plain ASCII (``-1840005.811``, ``1.84e6``): digits 0-9, an
   optional sign, point and exponent.  Other digits Python would read
   (Arabic-Indic, full-width) and ``_`` separators are refused;
-* northings and eastings within ``MAX_COORDINATE`` (1e9), elevations within
+* northings and eastings within ``MAX_SHOT_COORDINATE`` (1e12: a shot keyed
+  without its decimal point is the blunder a check exists to catch, so it is
+  reported, not refused), elevations within
   ``MAX_HEIGHT`` (1e5) job units;
 * point ids without control or format characters (they are written to
   ``check.csv`` and ``check.txt``).  Descriptions are read as given: they
@@ -55,7 +60,6 @@ from numpy.typing import NDArray
 
 from .errors import StakedFileError
 from .limits import (
-    MAX_COORDINATE,
     MAX_FIELD_CHARS,
     MAX_HEIGHT,
     MAX_RECORD_CHARS,
@@ -67,12 +71,18 @@ from .textsafety import describe_char, find_unsafe_char, show_value
 
 __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_columns"]
 
+#: Largest shot coordinate read (job units): a shot keyed without its decimal point
+#: (1840005811 for 1840005.811) is reported as unmatched or out, not refused.
+MAX_SHOT_COORDINATE = 1e12
+
 DEFAULT_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 KNOWN_COLUMNS = ("point", "northing", "easting", "elevation", "description", "skip")
 DELIMITERS = {"auto": None, "comma": ",", "semicolon": ";", "tab": "\t", "space": " "}
+#: Header names that mean the easting to some programs and the northing to others.
+AMBIGUOUS_NAMES = ("x", "y")
 _ALIASES = {"pt": "point", "id": "point", "name": "point", "pnt": "point", "number": "point",
-            "n": "northing", "north": "northing", "y": "northing",
-            "e": "easting", "east": "easting", "x": "easting",
+            "n": "northing", "north": "northing",
+            "e": "easting", "east": "easting",
             "z": "elevation", "elev": "elevation", "height": "elevation", "h": "elevation",
             "desc": "description", "code": "description", "descr": "description"}
 
@@ -83,7 +93,9 @@ class Shots:
 
     ``northing``, ``easting`` and ``elevation`` are in job units; ``line``
     is each shot's line number in the file; ``encoding`` names how the file
-    was read (``UTF-8``, ``UTF-16`` or ``Windows-1252``).
+    was read (``UTF-8``, ``UTF-16`` or ``Windows-1252``); ``columns`` is
+    the column order the shots were read in and ``columns_from`` where it
+    came from (``default``, ``header`` or ``--columns``).
     """
 
     point: list[str]
@@ -93,6 +105,8 @@ class Shots:
     description: list[str]
     line: list[int]
     encoding: str = "UTF-8"
+    columns: tuple[str, ...] = DEFAULT_COLUMNS
+    columns_from: str = "default"
 
     def __len__(self) -> int:
         return len(self.point)
@@ -249,6 +263,19 @@ def _header_names(r: list[str]) -> list[str]:
     return [_ALIASES.get(c.strip().lower(), c.strip().lower()) for c in r]
 
 
+def _ambiguous_header(name: str, ln: int, names: list[str], given: list[str]) -> str:
+    """The refusal of a header naming ``X``/``Y``, with both readings spelt out as ``--columns``."""
+    def order(x: str, y: str) -> str:
+        cols = [{"x": x, "y": y}.get(n, n if n in KNOWN_COLUMNS else "skip") for n in names]
+        return ",".join(cols)
+
+    said = " and ".join(repr(g) for g in given)
+    return (f"staked file {name!r} line {ln}: the header names {said}, which some programs write for the "
+            "easting and others for the northing; give the order with --columns, e.g. --columns "
+            f"{order('easting', 'northing')} if X is the easting, or --columns {order('northing', 'easting')} "
+            "if X is the northing")
+
+
 def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, delimiter: str = "auto",
                columns_given: bool = False) -> Shots:
     """Read and validate a staked-points file.
@@ -297,8 +324,12 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
     cols = columns
     ni = cols.index("northing")
     names = _header_names(r0)
+    ambiguous = [r0[i].strip() for i, n in enumerate(names) if n in AMBIGUOUS_NAMES]
     has_header = ((ni >= len(r0) or _number(r0[ni].strip()) is None)
-                  and "northing" in names and "easting" in names)
+                  and (("northing" in names and "easting" in names) or bool(ambiguous)))
+    if has_header and ambiguous and not columns_given:
+        raise StakedFileError(_ambiguous_header(name, ln0, names, ambiguous))
+    columns_from = "--columns" if columns_given else "default"
     if has_header and not columns_given:
         for c in KNOWN_COLUMNS:
             at = [i + 1 for i, n in enumerate(names) if n == c]
@@ -310,6 +341,7 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
                 )
         if all(n in names for n in ("point", "northing", "easting")):
             cols = tuple(n if n in KNOWN_COLUMNS and n != "skip" else "skip" for n in names)
+            columns_from = "header"
     idx = {c: i for i, c in enumerate(cols) if c != "skip"}
     need = max(idx["point"], idx["northing"], idx["easting"]) + 1
     point: list[str] = []
@@ -350,10 +382,10 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
             v = _number(r[idx[key]])
             if v is None:
                 raise bad_number(ln, key, r[idx[key]])
-            if abs(v) > MAX_COORDINATE:
+            if abs(v) > MAX_SHOT_COORDINATE:
                 raise StakedFileError(
                     f"staked file {name!r} line {ln}: {key} {show_value(r[idx[key]])} is out of range; "
-                    f"coordinates must lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} job units"
+                    f"coordinates must lie within -{MAX_SHOT_COORDINATE:,.0f} to {MAX_SHOT_COORDINATE:,.0f} job units"
                 )
             vals.append(v)
         z = math.nan
@@ -378,4 +410,4 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         raise StakedFileError(f"staked file {name!r}: line {ln0} is a header (it names the columns) and no "
                               "shots follow")
     return Shots(point, np.array(north, dtype=np.float64), np.array(east, dtype=np.float64),
-                 np.array(elev, dtype=np.float64), desc, line_no, encoding)
+                 np.array(elev, dtype=np.float64), desc, line_no, encoding, cols, columns_from)

@@ -6,7 +6,7 @@ import math
 import numpy as np
 import pytest
 import shapely
-from hypothesis import HealthCheck, given, settings
+from hypothesis import assume, HealthCheck, given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString
 
@@ -162,6 +162,9 @@ def test_chain_elements_close_by_rotation(spec):
        st.floats(5, 200))
 def test_key_points_on_every_offset_line(spec, offsets, interval):
     a = build_alignment(spec)
+    # an offset at or past a curve's centre is refused (test_field_readiness holds that); stay inside it
+    r_min = min([el.radius_start for el in a.elements if el.radius_start] + [1e9])
+    assume(max(abs(o) for o in offsets) < 0.9 * r_min)
     staking = Staking(interval, tuple(sorted((OffsetLine(o, f"C{i}") for i, o in enumerate(offsets)),
                                              key=lambda x: x.offset)), (), 1, "", None)
     sp = plan_stakes(a, staking, Stationing(a.start_station, a.end_station, 100, 2))

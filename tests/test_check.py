@@ -104,14 +104,14 @@ def test_matching_statuses_and_exit(tmp_path):
         ["1000", *map(str, p["1000"]), "", "good"],
         ["1001", str(p["1001"][0] + 0.2), str(p["1001"][1]), "", "out"],
         ["7777", str(p["1010"][0] + 0.01), str(p["1010"][1]), "", "renumbered"],
-        ["1000", str(p["1000"][0] + 0.01), str(p["1000"][1]), "", "duplicate by number"],
+        ["1000", str(p["1000"][0] + 0.01), str(p["1000"][1]), "", "re-stake: governs, the first is superseded"],
         ["8888", str(p["1010"][0] - 0.01), str(p["1010"][1]), "", "duplicate by nearest"],
         ["9999", "1840123.0", "6485567.0", "", "stray"],
     ]
     _write(tmp_path / "s.csv", rows)
     r, got = _run(tmp_path, tmp_path / "s.csv")
     assert r.exit_code == 1
-    assert [g["status"] for g in got] == ["ok", "out", "ok", "duplicate", "duplicate", "unmatched"]
+    assert [g["status"] for g in got] == ["superseded", "out", "ok", "ok", "duplicate", "unmatched"]
     assert got[2]["design_point"] == "1010" and got[4]["design_point"] == "1010"
     assert float(got[3]["horizontal_error"]) == pytest.approx(0.01, abs=1e-4)  # residuals kept
     assert got[5]["design_point"] == "" and got[5]["horizontal_error"] == ""

@@ -26,7 +26,7 @@ def test_exit_codes_and_streams_survive_the_quick_exit(tmp_path):
     assert r.returncode == 2 and r.stderr.startswith("stakeout: error:")
     r = _run("check", str(SAMPLES / "loop_ramp_usft.toml"), str(SAMPLES / "staked" / "loop_ramp_shots.csv"),
              "--out", str(tmp_path / "chk"))
-    assert r.returncode == 1 and "checked 13 shots" in r.stderr
+    assert r.returncode == 1 and "checked 15 shots" in r.stderr
     assert (tmp_path / "chk" / "check.html").exists()
     r = _run("build")  # a usage error from the parser
     assert r.returncode == 2 and "Missing argument" in r.stderr

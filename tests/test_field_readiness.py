@@ -453,3 +453,29 @@ def test_dxf_of_a_large_job_is_bounded(tmp_path):
     assert len(set(handles)) == len(handles) and max(handles) < int(doc.header["$HANDSEED"], 16)
     texts = [t.dxf.text for t in doc.modelspace().query("TEXT")]
     assert any("drawn as points without their numbers" in t for t in texts)
+
+
+def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
+    # issue 15: sheets split pages on common printer defaults; every page now holds at most 60 lines,
+    # with the column header repeated on each
+    out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
+    for name in ("setout.txt", "deflections.txt"):
+        pages = (out / name).read_text().split("\f")
+        assert len(pages) > 1
+        for page in pages:
+            lines = page.rstrip("\n").split("\n")
+            assert len(lines) <= 60
+            if any(line.startswith("---") for line in lines):  # a page of the table repeats its header
+                assert any(line.lstrip().startswith(("point", "station")) for line in lines)
+
+
+def test_shot_keyed_without_decimals_is_reported(samples, tmp_path):
+    # hardening 10: a shot keyed without its decimal point (the blunder the check exists to catch)
+    # crashed the check sheet; it is reported out of tolerance, with exit 1
+    staked = tmp_path / "shots.csv"
+    staked.write_text("1000,1840005.7991,6484985.0879\n1001,1840004811,6484988.8159\n", encoding="utf-8")
+    r = runner.invoke(app, ["check", str(samples / "loop_ramp_usft.toml"), str(staked), "--out",
+                            str(tmp_path / "out")])
+    assert r.exit_code == 1, r.output
+    rows = read_rows(tmp_path / "out" / "check.csv")
+    assert rows[1]["status"] == "out"

@@ -272,7 +272,7 @@ def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkey
                             str(SAMPLES / "staked" / "loop_ramp_shots.csv"), "--out", str(out)])
     assert r.exit_code == 130
     assert "after the outputs were written" in r.output and "nothing was written" not in r.output
-    assert sorted(p.name for p in out.iterdir()) == ["check.csv", "check.html", "check.txt"]
+    assert sorted(p.name for p in out.iterdir()) == ["check.csv", "check.html", "check.txt", "restake.csv"]
 
 
 def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):

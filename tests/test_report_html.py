@@ -168,4 +168,4 @@ def test_check_html_verdict_first(check_out):
 
 
 def test_check_writes_html_beside_txt(check_out):
-    assert sorted(p.name for p in check_out.iterdir()) == ["check.csv", "check.html", "check.txt"]
+    assert sorted(p.name for p in check_out.iterdir()) == ["check.csv", "check.html", "check.txt", "restake.csv"]

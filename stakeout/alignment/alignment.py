@@ -111,6 +111,8 @@ class Alignment:
             "length": np.array([el.length for el in elements]),
             "n0": np.array([el.start_northing for el in elements]),
             "e0": np.array([el.start_easting for el in elements]),
+            "n1": np.array([el.end_northing for el in elements]),
+            "e1": np.array([el.end_easting for el in elements]),
             "az0": np.array([el.start_azimuth for el in elements]),
             "k0": params[:, 0],
             "k1": params[:, 1],
@@ -297,11 +299,15 @@ class Alignment:
             cols = sel
         else:
             parts, col_parts = [], []
+            cap = None
             for j, kern in enumerate(kernels):  # one step per kind of element, vectorised inside
                 m = which == j
                 if np.any(m):
-                    parts.append(kern.nearest(a, sel[m], n, e, lo[m], hi[m]))
+                    part = kern.nearest(a, sel[m], n, e, lo[m], hi[m], cap)
+                    parts.append(part)
                     col_parts.append(sel[m])
+                    best_here = np.min(part.distance, axis=1)
+                    cap = best_here if cap is None else np.minimum(cap, best_here)
             near = type(parts[0])(*(np.concatenate(f, axis=1) for f in zip(*parts)))
             cols = np.concatenate(col_parts)
         best = np.argmin(near.distance, axis=1)

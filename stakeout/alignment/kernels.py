@@ -50,9 +50,14 @@ class Kernel:
         """
         raise NotImplementedError
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
+                cap: F | None = None) -> Nearest:
         """Nearest point of each element ``sel`` to each point (n, e), with the
         distance along clamped to [lo, hi] per element.
+
+        ``cap`` (per point, if given) is a distance already found on other
+        elements: a kernel may skip pairs that cannot come nearer (their
+        distance is then infinite).
         """
         raise NotImplementedError
 
@@ -85,7 +90,8 @@ class ConstantCurvature(Kernel):
         east = a["e0"][idx] + chord * sm + o * ct
         return north, east, az
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
+                cap: F | None = None) -> Nearest:
         k = a["k0"][sel]
         length = a["length"][sel]
         az0 = a["az0"][sel]
@@ -144,17 +150,50 @@ class Clothoid(Kernel):
                                    a["length"][idx])
         return n, e, az
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
-        from .clothoid import clothoid_points, clothoid_project
+    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
+                cap: F | None = None) -> Nearest:
+        from .clothoid import clothoid_project
 
-        length = a["length"][sel][None, :]
-        args = (a["n0"][sel][None, :], a["e0"][sel][None, :], a["az0"][sel][None, :], a["k0"][sel][None, :],
-                a["k1"][sel][None, :], length)
-        s, _, dist = clothoid_project(n[:, None], e[:, None], *args)
-        qn, qe, _ = clothoid_points(s, 0.0, *args)
-        # a foot at either end is a clamp unless the point lies square to the spiral there
-        clamped = (s <= 0.0) | (s >= length)
-        return Nearest(s, clamped, qn, qe, np.hypot(n[:, None] - qn, e[:, None] - qe) if dist is None else dist)
+        length = a["length"][sel]
+        mn, me = self._mid(a)
+        # every point of a spiral lies within L/2 of its middle point (by arc length, so by distance too):
+        # a pair whose lower bound exceeds another pair's upper bound (or ``cap``) cannot be the nearest
+        dm = np.hypot(n[:, None] - mn[sel][None, :], e[:, None] - me[sel][None, :])
+        lower = dm - length[None, :] / 2.0
+        limit = np.min(dm + length[None, :] / 2.0, axis=1)
+        if cap is not None:
+            limit = np.minimum(limit, cap)
+        pi, kj = np.nonzero(lower <= limit[:, None])
+        el = sel[kj]
+        s_f, off_f, dist_f = clothoid_project(n[pi], e[pi], a["n0"][el], a["e0"][el], a["az0"][el], a["k0"][el],
+                                              a["k1"][el], a["length"][el])
+        shape = (n.size, sel.size)
+        s_c = np.zeros(shape)
+        dist = np.full(shape, np.inf)
+        qn = np.zeros(shape)
+        qe = np.zeros(shape)
+        s_c[pi, kj] = s_f
+        dist[pi, kj] = dist_f
+        # the foot: back from the point along the normal by the offset, or the end it clamped to
+        st, ct = self.direction(a, el, s_f)
+        at_start, at_end = s_f <= 0.0, s_f >= a["length"][el]
+        qn[pi, kj] = np.where(at_start, a["n0"][el], np.where(at_end, a["n1"][el], n[pi] + off_f * st))
+        qe[pi, kj] = np.where(at_start, a["e0"][el], np.where(at_end, a["e1"][el], e[pi] - off_f * ct))
+        clamped = (s_c <= 0.0) | (s_c >= length[None, :])
+        return Nearest(s_c, clamped, qn, qe, dist)
+
+    @staticmethod
+    def _mid(a: Arrays) -> tuple[F, F]:
+        """Middle points of every element (computed once per alignment)."""
+        cached = a.get("_mid")
+        if cached is None:
+            from .clothoid import clothoid_points
+
+            half = a["length"] / 2.0
+            mn, me, _ = clothoid_points(half, 0.0, a["n0"], a["e0"], a["az0"], a["k0"], a["k1"], a["length"])
+            cached = np.stack([mn, me])
+            a["_mid"] = cached
+        return cached[0], cached[1]
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         k0, k1, length = a["k0"][idx], a["k1"][idx], a["length"][idx]

@@ -1,7 +1,7 @@
 """The only reader of job files: TOML (format 1) -> a validated, typed :class:`~stakeout.job.Job`.
 
 Every key of the job-file contract is read here, one module per section
-(:mod:`.alignment`, :mod:`.staking`, :mod:`.setup`) over the strict table
+(:mod:`.alignment`, :mod:`.staking`, :mod:`.control`, :mod:`.setup`) over the strict table
 reader of :mod:`.reader`.  Unknown keys are errors (a typo must never be
 silently ignored); every error names the key with its table
 (``alignment.pi[2].radius``; array entries count from 0 in file order), the
@@ -24,8 +24,9 @@ from ..units import get_unit
 from .alignment import read_alignment, read_equations
 from .design_file import read_alignment_file, read_profile_file
 from .profile import read_profile
+from .control import read_control
 from .reader import SAFE_TEXT, Table, check_safe_text
-from .setup import read_check, read_scale, read_setup
+from .setup import read_check, read_instrument, read_scale, read_setup
 from .staking import read_staking
 
 __all__ = ["load_job", "parse_job", "SAFE_TEXT", "check_safe_text"]
@@ -51,7 +52,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise JobFileError(f"{path}: not valid TOML: {exc}") from None
-    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile"))
+    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
+                          "instrument"))
     fmt = top.raw("format", required=True)
     if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
@@ -69,7 +71,17 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     else:
         alignment = read_alignment(top, info)
     staking = read_staking(top, info)
-    setup = read_setup(top)
+    control, control_files = read_control(top, info, base)
+    setup = read_setup(top, control, info.station_length)
+    instrument = read_instrument(top)
+    if instrument is not None:
+        if setup is None:
+            raise JobFileError("instrument: needs [setup]; the precision predicted is that of stakes set out from "
+                               "a setup")
+        for st in setup.explicit():
+            if st.backsight is None:
+                raise JobFileError(f"{st.where}.backsight_azimuth = {st.backsight_azimuth!r}: [instrument] needs a "
+                                   "backsight point; its distance enters the orientation error (give `backsight`)")
     scale = read_scale(top)
     if scale.auto and info.crs is None:
         raise JobFileError('scale.combined_factor = "auto": needs job.crs (the grid scale factor comes from the CRS)')
@@ -101,7 +113,9 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         check=read_check(top),
         profile=profile,
         equations=from_file.equations if from_file is not None else read_equations(top, info),
-        design_files=tuple(design_files),
+        design_files=tuple(design_files) + control_files,
+        control=control,
+        instrument=instrument,
     )
 
 

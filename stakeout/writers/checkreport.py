@@ -1,8 +1,9 @@
-"""``check.csv`` and the printable ``check.txt`` summary of a staked-point check."""
+"""``check.csv``, the printable ``check.txt`` and ``restake.csv`` of a staked-point check."""
 
 from __future__ import annotations
 
 import math
+import textwrap
 from pathlib import Path
 
 import numpy as np
@@ -10,15 +11,21 @@ import numpy as np
 from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
-from .tables import DECIMALS, csv_field, csv_text
-from .text import CAUTION_LINES, clip, finite_or_empty
+from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
+from .text import CAUTION_LINES, SIGN_OFF_LINES, WIDTH, clip, finite_or_empty
 
-__all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text"]
+__all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
+           "move_text", "move_decimals"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
                  # added columns
-                 "matched_by", "northing", "easting", "line")
+                 "matched_by", "northing", "easting", "line", "fails", "governing_line")
+#: ``restake.csv`` is laid out as ``points.csv``, so a crew loads it the same way.
+RESTAKE_COLUMNS = POINTS_COLUMNS
+#: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
+NOT_STAKED_LISTED = 400
+_CHUNK_ROWS = 16384
 
 
 def _f(v: float, d: int = DECIMALS) -> str:
@@ -32,20 +39,49 @@ def _shot_id(pid: str) -> str:
     return csv_field(pid)
 
 
+def _target_id(d: Design, r: CheckResult, k: int) -> str:
+    """The id of the design or control point shot ``k`` was matched to, or empty."""
+    i, c = int(r.design_index[k]), int(r.control_index[k])
+    if i >= 0:
+        return d.stakes.prefix + str(d.stakes.first_point + i)
+    return r.control_ids[c] if c >= 0 else ""
+
+
 def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
-    """``check.csv``: one row per shot, in file order."""
-    design = d.stakes
+    """``check.csv``: one row per shot, in file order.
+
+    ``design_point`` holds the control point's id for a ``control`` shot;
+    ``fails`` names the tolerance an ``out`` or ``control`` shot fails;
+    ``governing_line`` is, for a ``superseded`` or ``duplicate`` shot, the
+    line of the shot that governs its design point.
+    """
     station = d.stationing.station
-    rows = []
+    out = []
     for k in range(len(shots)):
-        i = int(r.design_index[k])
-        rows.append(",".join([
-            _shot_id(shots.point[k]), design.point[i] if i >= 0 else "", _f(float(station(r.station[k]))), _f(r.offset[k]),
-            _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]),
-            _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
-            _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]),
+        g = int(r.related[k])
+        out.append(",".join([
+            _shot_id(shots.point[k]), csv_field(_target_id(d, r, k)), _f(float(station(r.station[k]))),
+            _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
+            _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
+            _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
+            str(shots.line[g]) if g >= 0 else "",
         ]))
-    return csv_text(CHECK_COLUMNS, rows).encode("utf-8")
+    return csv_text(CHECK_COLUMNS, out).encode("utf-8")
+
+
+def restake_csv(d: Design, r: CheckResult) -> bytes:
+    """``restake.csv``: the design points still to set, in point order.
+
+    Out of tolerance (by the shot that governs them, so also a point whose
+    good shot was superseded by one out of tolerance) or not staked; every
+    row exactly as in ``points.csv`` (the rows are taken from it).
+    """
+    data = np.frombuffer(points_csv(d), dtype=np.uint8)
+    line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
+    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
+    keep[0] = True
+    keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
+    return data[keep[line_of_byte]].tobytes()
 
 
 def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
@@ -63,22 +99,78 @@ def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
 
 
 def status_text(r: CheckResult, k: int) -> str:
-    """The shot's status, and for ``out`` which tolerance it fails."""
-    s = r.status[k]
-    if s != "out":
-        return s
-    hz = bool(r.horizontal_error[k] > r.horizontal_tolerance)
-    dz = r.d_elevation[k]
-    vt = r.vertical_tolerance is not None and math.isfinite(dz) and abs(dz) > r.vertical_tolerance
-    return "out (" + ("both" if hz and vt else ("horizontal" if hz else "vertical")) + ")"
+    """The shot's status, and for ``out`` (or a control shot beyond tolerance)
+    which tolerance it fails: ``out (horizontal)``, ``control out (both)``.
+    """
+    s, f = r.status[k], r.fails[k]
+    if s == "out":
+        return f"out ({f})"
+    if s == "control" and f:
+        return f"control out ({f})"
+    return s
+
+
+def move_decimals(is_feet: bool, horizontal_tolerance: float) -> int:
+    """Decimals of a correction: 2 in feet, 3 in metres, more when the
+    tolerance is finer than five units of the last one (at most 4).
+    """
+    dec = 2 if is_feet else 3
+    while dec < 4 and 10.0**-dec > horizontal_tolerance / 5:
+        dec += 1
+    return dec
+
+
+def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal: bool, vertical: bool,
+              decimals: int) -> str:
+    """The correction of a stake in the crew's terms, looking up-station.
+
+    The stake moves from where it was shot to design: along = design
+    station - shot station (``ahead`` when positive, ``back`` when
+    negative), across = design offset - shot offset (``right``/``left``),
+    and, for a vertical failure, its top ``down`` (shot above design) or
+    ``up``.  Components that round to zero are left out.
+
+    Parameters
+    ----------
+    d_station, d_offset, d_elevation : float
+        Shot minus design: station (internal stations), offset (negative
+        left) and elevation, job units.
+    horizontal, vertical : bool
+        Which tolerances the shot fails: only those parts are given.
+    decimals : int
+        Decimals of the distances.
+    """
+    parts = []
+    if horizontal:
+        for v, plus, minus in ((-d_station, "ahead", "back"), (-d_offset, "right", "left")):
+            if math.isfinite(v) and round(abs(v), decimals) > 0:
+                parts.append(f"{abs(v):.{decimals}f} {plus if v > 0 else minus}")
+    if vertical and math.isfinite(d_elevation) and round(abs(d_elevation), decimals) > 0:
+        parts.append(f"{abs(d_elevation):.{decimals}f} {'down' if d_elevation > 0 else 'up'}")
+    return "move " + ", ".join(parts) if parts else ""
+
+
+def _fit(v: float, width: int, decimals: int) -> str:
+    """A number in at most ``width`` characters: fewer decimals, then ``1e+05`` form; empty for NaN."""
+    if not math.isfinite(v):
+        return ""
+    for dec in range(decimals, -1, -1):
+        t = f"{round(v, dec) + 0.0:.{dec}f}"
+        if len(t) <= width:
+            return t
+    return f"{v:.0e}"
 
 
 def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> bytes:
-    """``check.txt``: summary, what needs attention first, then the rest; cautions at the foot."""
+    """``check.txt``: summary, what needs attention first and what to do, the
+    shots within tolerance, the superseded ones, the points to set again;
+    cautions at the foot.  No line is over :data:`WIDTH` characters.
+    """
     job, design = d.job, d.stakes
     unit = job.info.unit
     counts = r.counts()
     station_label = d.stationing.label
+    move_dec = move_decimals(unit.is_feet, r.horizontal_tolerance)
 
     out = [clip(f"STAKED-POINT CHECK   {job.info.name}".rstrip()),
            clip(f"job file     {Path(job.path).name}"),
@@ -88,44 +180,115 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
            f"tolerances   horizontal {r.horizontal_tolerance:.4f}   vertical "
            + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None else "not set (not checked)"),
            f"search radius for renumbered shots {r.search_radius:.4f}",
+           clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job")),
            "",
            f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
            ]
-    hz = r.horizontal_error[np.isfinite(r.horizontal_error)]
-    dz = r.d_elevation[np.isfinite(r.d_elevation)]
-    out.append(f"worst horizontal error {hz.max():.4f}" if hz.size else "worst horizontal error -")
-    out.append(f"worst vertical error {np.abs(dz).max():.4f}" if dz.size else "worst vertical error - (no elevations to compare)")
+    governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
+    hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
+    out.append(f"worst horizontal error {_fit(float(hz.max()), 20, 4)}" if hz.size else "worst horizontal error -")
+    out.append(f"worst vertical error {_fit(float(np.abs(dz).max()), 20, 4)}" if dz.size
+               else "worst vertical error - (no elevations to compare)")
     out.append(f"verdict: {'ALL WITHIN TOLERANCE' if r.all_ok else 'NEEDS ATTENTION: see the first table'}")
     out.append("")
-    ids = shots.point + [design.point[int(i)] for i in r.design_index if i >= 0]
-    w = min(16, max([6] + [len(p) for p in ids]))
-
-    def ident(p: str) -> str:
-        return p if len(p) <= w else p[: w - 1] + "~"
 
     with_grade = d.design_elevation is not None
     marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
-    cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>10} {'offset':>9} {'horiz':>7} {'d along':>8} "
-            f"{'d across':>8} {'d elev':>7} " + (f"{'mark':<8} " if with_grade else "") + "status")
-    rule = "-" * (len(cols) + 3)
 
-    def row(k: int) -> str:
-        i = int(r.design_index[k])
-        return (f"{ident(shots.point[k]):<{w}} {ident(design.point[i]) if i >= 0 else '':<{w}} "
-                f"{station_label(r.station[k]):>10} {_f(r.offset[k], 3):>9} {_f(r.horizontal_error[k], 3):>7} "
-                f"{_f(r.d_station[k], 3):>8} {_f(r.d_offset[k], 3):>8} {_f(r.d_elevation[k], 3):>7} "
-                + (f"{marks[k]:<8} " if with_grade else "") + status_text(r, k))
+    def target(k: int) -> str:
+        t = _target_id(d, r, k)
+        return t + "*" if r.matched_by[k] == "nearest" else t
 
-    attention = [k for k in range(len(shots)) if r.status[k] != "ok"]
-    fine = [k for k in range(len(shots)) if r.status[k] == "ok"]
-    for title, ks in (("NEEDS ATTENTION (out of tolerance, duplicate, unmatched)", attention),
-                      ("WITHIN TOLERANCE", fine)):
+    def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> list[str]:
+        """Rows of ``ks`` with widths from their content; ``notes`` a line under a row.
+
+        The status ends the row; where the columns leave no room for it (a
+        long status beside a long station label and mark), it opens the
+        line below instead.
+        """
+        labels = {k: station_label(r.station[k]) for k in ks}
+        status = {k: status_text(r, k) for k in ks}
+        sw = max([10] + [len(s) for s in labels.values()])
+        mw = max([4] + [len(marks[k]) for k in ks]) if with_grade else 0
+        tw = max([6] + [len(s) for s in status.values()]) if with_status else 0
+        fixed = sw + 9 + 7 + 8 + 8 + 7 + 6 + (mw + 1 if with_grade else 0)
+        inline = with_status and WIDTH - (fixed + tw + 1) - 2 >= 2 * 6
+        if inline:
+            fixed += tw + 1
+        room = max(6, (WIDTH - fixed - 2) // 2)
+        longest = max([6] + [len(shots.point[k]) for k in ks] + [len(target(k)) for k in ks])
+        w = min(room, longest)
+
+        def ident(p: str) -> str:
+            return p if len(p) <= w else p[: w - 1] + "~"
+
+        cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>{sw}} {'offset':>9} {'horiz':>7} {'d along':>8} "
+                f"{'d across':>8} {'d elev':>7}" + (f" {'mark':<{mw}}" if with_grade else "")
+                + (f" {'status':<{tw}}" if inline else ""))
+        rule = "-" * len(cols)
+        lines = [rule, cols.rstrip(), rule]
+        for k in ks:
+            mark = "" if r.status[k] == "control" else marks[k]
+            line = (f"{ident(shots.point[k]):<{w}} {ident(target(k)):<{w}} {labels[k]:>{sw}} "
+                    f"{_fit(r.offset[k], 9, 3):>9} {_fit(r.horizontal_error[k], 7, 3):>7} "
+                    f"{_fit(r.d_station[k], 8, 3):>8} {_fit(r.d_offset[k], 8, 3):>8} "
+                    f"{_fit(r.d_elevation[k], 7, 3):>7}" + (f" {mark:<{mw}}" if with_grade else "")
+                    + (f" {status[k]:<{tw}}" if inline else ""))
+            lines.append(line.rstrip())
+            note = notes.get(k, "")
+            if with_status and not inline:
+                note = f"{status[k]}: {note}" if note else status[k]
+            if note:
+                lines += textwrap.wrap(note, WIDTH, initial_indent="    ", subsequent_indent="      ",
+                                       break_long_words=True, break_on_hyphens=False)
+        return lines + [rule]
+
+    def gov(k: int) -> str:
+        g = int(r.related[k])
+        return f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
+
+    attention = [k for k in range(len(shots)) if r.needs_attention(k)]
+    notes: dict[int, str] = {}
+    for k in attention:
+        s = r.status[k]
+        by_position = " (matched by position)" if r.matched_by[k] == "nearest" else ""
+        if s == "out":
+            f = r.fails[k]
+            what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
+                             f in ("vertical", "both"), move_dec)
+            notes[k] = f"{what or 'reset it'}{by_position}"
+        elif s == "duplicate":
+            notes[k] = (f"design point {_target_id(d, r, k)} already has {gov(k)}{by_position}; "
+                        "find which stake is the point")
+        elif s == "unmatched":
+            notes[k] = (f"no design or control point within {r.search_radius:.4f}; "
+                        "check the point number and the shot")
+        else:
+            notes[k] = (f"control point {_target_id(d, r, k)} is off{by_position}; "
+                        "check the setup (occupied point, backsight, heights) before staking on")
+    fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+    superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
+    sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
+        ("NEEDS ATTENTION (out of tolerance, duplicate, unmatched, control out), with what to do", attention,
+         True, notes),
+        ("WITHIN TOLERANCE", fine, True, {}),
+        ("SUPERSEDED (shot again later in the file: the later shot governs)", superseded, False,
+         {k: f"superseded by {gov(k)} ({r.status[int(r.related[k])]})" for k in superseded}),
+    )
+    for title, ks, with_status, extra in sections:
+        if not ks and title.startswith("SUPERSEDED"):
+            continue
         out.append(f"{title}: {len(ks)}")
         if ks:
-            out += [rule, cols, rule] + [row(k) for k in ks] + [rule]
+            out += table(ks, with_status, extra)
         out.append("")
-    missing = [design.point[i] for i in r.not_staked]
-    out.append(f"design points not staked: {len(missing)}")
+
+    missing = [design.prefix + str(design.first_point + int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
+    n_out = int(r.restake.size - r.not_staked.size)
+    out.append(f"design points to set again (restake.csv): {r.restake.size}   out of tolerance {n_out}   "
+               f"not staked {r.not_staked.size}")
+    out.append(f"design points not staked: {r.not_staked.size}")
     line = ""
     for pid in missing:
         if len(line) + len(pid) + 1 > 96:
@@ -134,12 +297,23 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         line += pid + " "
     if line:
         out.append("  " + line.rstrip())
+    if r.not_staked.size > NOT_STAKED_LISTED:
+        out.append(f"  ... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
     out.append("")
     if with_grade:
-        out.append("mark: the cut or fill to write on the stake, C where the shot is above design, F below;")
-        out.append("status out (horizontal / vertical / both): which tolerance the shot fails")
-    out.append("d along / d across: the shot's station / offset minus the design point's; d = staked - design;")
-    out.append("northing and easting residuals are in check.csv")
+        out.append("mark: the cut or fill to write on the stake, C where the shot is above design, F below")
+    out += [
+        "move: from where the stake was shot to design, looking up-station: ahead/back along the line,",
+        "  right/left square to it, down/up for its top (ahead = design station - shot station)",
+        "status out (horizontal / vertical / both): which tolerance the shot fails",
+        "* matched by position: the shot's number is not a design point (renumbered), so it was matched",
+        "  to the nearest design or control point within the search radius",
+        "control: a shot on a control point of the job, against the control coordinates",
+        "d along / d across: the shot's station / offset minus the design point's; d = staked - design;",
+        "northing and easting residuals are in check.csv",
+        "",
+    ]
+    out.extend(SIGN_OFF_LINES)
     out.append("")
     out.extend(CAUTION_LINES)
     text = "\n".join(out) + "\n"

@@ -15,9 +15,12 @@ SO-STAKE       3       one POINT per staked point
 SO-STAKE-NO    3       the point number beside each stake
 SO-STATION     7       station ticks and labels (full stations long, others short)
 SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
-SO-CONTROL     5       occupied point (triangle) and backsight point (circle), labelled
-SO-BACKSIGHT   5       the backsight line from the occupied point
-SO-RADIAL      9       light lines from the occupied point to each stake (up to 2,000 stakes; layer off)
+SO-CONTROL     5       every setup's occupied point (triangle) and backsight point (circle),
+                       labelled (``CP104 (setup 2)`` when setups are numbered); other control
+                       points (small circle and id)
+SO-BACKSIGHT   5       the backsight line from each occupied point
+SO-RADIAL      9       light lines from each occupied point to each of its stakes (up to
+                       2,000 stakes; layer off)
 SO-TABLE       7       curve data table and title block text
 =============  ======  ==========================================================
 """
@@ -147,13 +150,70 @@ def _extent(c: Design) -> tuple[float, float, float, float]:
     n = np.concatenate([c.stakes.northing, [el.start_northing for el in c.alignment.elements],
                         [c.alignment.elements[-1].end_northing]])
     if c.setup is not None:
-        occ = c.setup.setup.occupied
-        e = np.append(e, occ.easting)
-        n = np.append(n, occ.northing)
-        if c.setup.setup.backsight is not None:
-            e = np.append(e, c.setup.setup.backsight.easting)
-            n = np.append(n, c.setup.setup.backsight.northing)
+        for o in c.setup.occupations:
+            e = np.append(e, o.occupied.easting)
+            n = np.append(n, o.occupied.northing)
+            if o.backsight is not None:
+                e = np.append(e, o.backsight.easting)
+                n = np.append(n, o.backsight.northing)
+    if c.job.control:
+        e = np.append(e, [p.easting for p in c.job.control])
+        n = np.append(n, [p.northing for p in c.job.control])
     return float(e.min()), float(n.min()), float(e.max()), float(n.max())
+
+
+def _draw_setups(msp: Any, c: Design, h: float, size: float) -> None:
+    """Every setup: occupied point (triangle), backsight (circle) and backsight line, and
+    radial lines from each occupied point to its own stakes (up to RADIAL_MAX_STAKES stakes).
+    """
+    assert c.setup is not None
+    sd, sp = c.setup, c.stakes
+    listed = sd.listed
+    radials = len(sp) <= RADIAL_MAX_STAKES
+    groups = sd.groups() if radials else [np.zeros(0, dtype=np.int64)] * len(sd.occupations)
+    labelled: set[str] = set()
+    for o, idx in zip(sd.occupations, groups):
+        occ = o.occupied
+        tri = [(occ.easting + 1.5 * h * math.sin(math.radians(t)), occ.northing + 1.5 * h * math.cos(math.radians(t)))
+               for t in (0, 120, 240, 0)]
+        for p, q in zip(tri, tri[1:]):
+            msp.add_line(p, q, dxfattribs={"layer": "SO-CONTROL"})
+        msp.add_point((occ.easting, occ.northing), dxfattribs={"layer": "SO-CONTROL"})
+        name = f"{occ.id} (setup {o.number})" if listed else f"{occ.id} (occupied)"
+        _text(msp, name, occ.easting + 2 * h, occ.northing + h, h, "SO-CONTROL")
+        bs = o.backsight
+        if bs is not None:
+            end = (bs.easting, bs.northing)
+            if not listed or bs.id not in labelled:  # a backsight several setups share is drawn once
+                labelled.add(bs.id)
+                msp.add_point(end, dxfattribs={"layer": "SO-CONTROL"})
+                msp.add_circle(end, 1.2 * h, dxfattribs={"layer": "SO-CONTROL"})
+                ty = bs.northing + h if not listed else bs.northing - 2 * h  # below any setup label there
+                _text(msp, f"{bs.id} (backsight)", bs.easting + 2 * h, ty, h, "SO-CONTROL")
+        else:
+            s, co = sincosd(o.backsight_azimuth)
+            length = 0.25 * size
+            end = (occ.easting + length * float(s), occ.northing + length * float(co))
+            what = "backsight direction" + (f" (setup {o.number})" if listed else "")
+            _text(msp, what, end[0] + h, end[1], h, "SO-CONTROL")
+        msp.add_line((occ.easting, occ.northing), end, dxfattribs={"layer": "SO-BACKSIGHT"})
+        for e, n in zip(sp.easting[idx].tolist(), sp.northing[idx].tolist()):
+            msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
+
+
+def _draw_control(msp: Any, c: Design, h: float) -> None:
+    """The job's other control points: a point and its id."""
+    used: set[str] = set()
+    if c.setup is not None:
+        for o in c.setup.occupations:
+            used.add(o.occupied.id)
+            if o.backsight is not None:
+                used.add(o.backsight.id)
+    for p in c.job.control:
+        if p.id not in used:
+            msp.add_point((p.easting, p.northing), dxfattribs={"layer": "SO-CONTROL"})
+            msp.add_circle((p.easting, p.northing), 0.6 * h, dxfattribs={"layer": "SO-CONTROL"})
+            _text(msp, p.id, p.easting + 2 * h, p.northing + h, h, "SO-CONTROL")
 
 
 def _build(c: Design) -> Any:
@@ -215,28 +275,8 @@ def _build(c: Design) -> Any:
                   n - 1.5 * h, h, "SO-KEYPOINT")
 
     if c.setup is not None:
-        occ = c.setup.setup.occupied
-        tri = [(occ.easting + 1.5 * h * math.sin(math.radians(t)), occ.northing + 1.5 * h * math.cos(math.radians(t)))
-               for t in (0, 120, 240, 0)]
-        for p, q in zip(tri, tri[1:]):
-            msp.add_line(p, q, dxfattribs={"layer": "SO-CONTROL"})
-        msp.add_point((occ.easting, occ.northing), dxfattribs={"layer": "SO-CONTROL"})
-        _text(msp, f"{occ.id} (occupied)", occ.easting + 2 * h, occ.northing + h, h, "SO-CONTROL")
-        bs = c.setup.setup.backsight
-        if bs is not None:
-            end = (bs.easting, bs.northing)
-            msp.add_point(end, dxfattribs={"layer": "SO-CONTROL"})
-            msp.add_circle(end, 1.2 * h, dxfattribs={"layer": "SO-CONTROL"})
-            _text(msp, f"{bs.id} (backsight)", bs.easting + 2 * h, bs.northing + h, h, "SO-CONTROL")
-        else:
-            s, co = sincosd(c.setup.backsight_azimuth)
-            length = 0.25 * size
-            end = (occ.easting + length * float(s), occ.northing + length * float(co))
-            _text(msp, "backsight direction", end[0] + h, end[1], h, "SO-CONTROL")
-        msp.add_line((occ.easting, occ.northing), end, dxfattribs={"layer": "SO-BACKSIGHT"})
-        if len(sp) <= RADIAL_MAX_STAKES:
-            for e, n in zip(sp.easting.tolist(), sp.northing.tolist()):
-                msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
+        _draw_setups(msp, c, h, size)
+    _draw_control(msp, c, h)
 
     # title block and curve table, above the top-left corner of the job
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",

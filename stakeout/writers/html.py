@@ -211,18 +211,11 @@ def _setup_groups(d: Design) -> list[tuple[str, list[tuple[str, str]], np.ndarra
     """Per setup: a heading, its facts and the stake indices set out from it."""
     sd = d.setup
     assert sd is not None
-    occs = getattr(sd, "occupations", None)
-    index = getattr(sd, "setup_index", None)
-    n = len(d.stakes)
-    if not occs or index is None:
-        setup, scale = sd.setup, sd.scale
-        return [(f"Setout from {setup.occupied.id}", _setup_facts(d, setup.occupied, setup.backsight,
-                                                                 float(sd.backsight_azimuth), scale),
-                 np.arange(n))]
     out = []
-    idx = np.asarray(index)
-    for k, o in enumerate(occs):
-        out.append((f"Setup {o.number}: setout from {o.occupied.id}",
+    idx = np.asarray(sd.setup_index)
+    for k, o in enumerate(sd.occupations):
+        title = f"Setup {o.number}: setout from" if len(sd.occupations) > 1 else "Setout from"
+        out.append((f"{title} {o.occupied.id}",
                     _setup_facts(d, o.occupied, o.backsight, float(o.backsight_azimuth), o.scale),
                     np.flatnonzero(idx == k)))
     return out

@@ -31,7 +31,7 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
     job_sha256, job_name, units, crs = d.job.sha256, info.name, info.unit.key, info.crs
     factors: dict[str, Any] = d.factors
     proj_version = d.proj_version
-    doc = {
+    doc: dict[str, Any] = {
         "tool": "stakeout",
         "version": __version__,
         "created_utc": datetime.now(timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -55,4 +55,23 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
             for name, data in sorted(outputs.items())
         },
     }
+    sd = d.setup
+    if sd is not None and sd.listed:
+        doc["setups"] = [
+            {k: v for k, v in {
+                "setup": o.number, "where": o.where, "occupied": o.occupied.id,
+                "backsight": o.backsight.id if o.backsight is not None else None,
+                "backsight_grid_azimuth_deg": o.backsight_azimuth, "combined_factor": o.scale.combined_factor,
+                "scale_factor": o.scale.scale_factor, "elevation_factor": o.scale.elevation_factor,
+                "convergence_deg": o.scale.convergence, "stakes": o.stake_count, "farthest_sight": o.farthest_sight,
+            }.items() if v is not None}
+            for o in sd.occupations
+        ]
+    spec = d.job.instrument
+    if spec is not None and sd is not None and sd.precision is not None:
+        doc["instrument"] = {"angle_sigma_arcsec": spec.angle_sigma_arcsec, "distance_sigma": spec.distance_sigma,
+                             "distance_ppm": spec.distance_ppm, "centering_sigma": spec.centering_sigma,
+                             "pole_sigma": spec.pole_sigma,
+                             "horizontal_tolerance": sd.tolerance,
+                             "flagged": None if sd.flagged is None else int(sd.flagged.sum())}
     return (json.dumps(doc, indent=2, sort_keys=True) + "\n").encode("utf-8")

@@ -15,7 +15,8 @@ from collections.abc import Sequence
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-__all__ = ["Field", "fixed", "integer", "text", "const", "repeat_rows", "tile_rows", "join_rows", "dms", "station"]
+__all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
+           "station"]
 
 Field = NDArray[np.uint8]
 _POW10 = 10 ** np.arange(19, dtype=np.int64)
@@ -89,6 +90,11 @@ def const(s: str, n: int) -> Field:
     """The same text on every row."""
     b = np.frombuffer(s.encode("ascii"), dtype=np.uint8)
     return np.broadcast_to(b, (n, b.size))
+
+
+def blank(f: Field, empty: NDArray[np.bool_]) -> Field:
+    """The field with the rows where ``empty`` is True left empty (all padding)."""
+    return f * ~np.asarray(empty, dtype=bool)[:, None]
 
 
 def repeat_rows(f: Field, m: int) -> Field:

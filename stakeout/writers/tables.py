@@ -24,7 +24,8 @@ from .text import fixed_or_empty, turn_word
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
-    "SETOUT_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv", "curves_csv", "setout_csv",
+    "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv",
+    "curves_csv", "setout_csv",
 ]
 
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
@@ -200,29 +201,58 @@ def curves_csv(design: Design) -> bytes:
 
 SETOUT_COLUMNS = ("point", "station", "offset", "azimuth_deg", "azimuth_dms", "angle_right_deg",
                   "angle_right_dms", "grid_distance", "ground_distance")
+#: Added to setout.csv when the setups come from control points or are several.
+SETUP_COLUMNS = ("setup", "occupied", "backsight")
+#: Added to setout.csv with ``[instrument]`` (job units).
+PRECISION_COLUMNS = ("sigma_along", "sigma_across", "r95")
 
 
 def setout_csv(design: Design) -> bytes:
-    """``setout.csv``: angle and distance from the occupied point to every point.
+    """``setout.csv``: angle and distance from each stake's occupied point.
 
-    With instrument and target heights and elevations, ``zenith_deg`` and
-    ``slope_distance`` follow as added columns.
+    Added columns, after the contract's: ``zenith_deg,slope_distance`` with
+    instrument and target heights and elevations; ``setup,occupied,backsight``
+    (setup number, occupied and backsight ids) when the setups come from
+    control points or are several; ``sigma_along,sigma_across,r95`` with
+    ``[instrument]``.  A stake at the instrument has its angle fields empty.
     """
     assert design.setup is not None
-    sp, so = design.stakes, design.setup.setout
+    sdes = design.setup
+    sp, so = design.stakes, sdes.setout
     d = DECIMALS
     header = list(SETOUT_COLUMNS)
     zen = so.zenith is not None and so.slope_distance is not None
     if zen:
         header += ["zenith_deg", "slope_distance"]
+    listed = sdes.listed
+    if listed:
+        header += list(SETUP_COLUMNS)
+        occ_ids = rows.text([o.occupied.id for o in sdes.occupations])
+        bs_ids = rows.text([o.backsight.id if o.backsight is not None else "" for o in sdes.occupations])
+        numbers = rows.integer(np.arange(1, len(sdes.occupations) + 1))
+    prec = sdes.precision
+    if prec is not None:
+        header += list(PRECISION_COLUMNS)
+    at = so.at_instrument
+    blank_any = bool(at.any())
+
+    def angle(f: rows.Field, p: _PerPoint) -> rows.Field:
+        return rows.blank(f, at[p.p]) if blank_any else f
 
     def layout(p: _PerPoint) -> list[rows.Field]:
-        f = [*p.point(), p.sep(), p.station(d), p.sep(), p.offset(d), p.sep(), p.col(so.azimuth, 8), p.sep(),
-             p.dms(so.azimuth), p.sep(), p.col(so.angle_right, 8), p.sep(), p.dms(so.angle_right), p.sep(),
-             p.col(so.grid_distance, d), p.sep(), p.col(so.ground_distance, d)]
+        f = [*p.point(), p.sep(), p.station(d), p.sep(), p.offset(d), p.sep(), angle(p.col(so.azimuth, 8), p),
+             p.sep(), angle(p.dms(so.azimuth), p), p.sep(), angle(p.col(so.angle_right, 8), p), p.sep(),
+             angle(p.dms(so.angle_right), p), p.sep(), p.col(so.grid_distance, d), p.sep(),
+             p.col(so.ground_distance, d)]
         if zen:
             assert so.zenith is not None and so.slope_distance is not None
             f += [p.sep(), p.col(so.zenith, 8), p.sep(), p.col(so.slope_distance, d)]
+        if listed:
+            k = sdes.setup_index[p.p]
+            f += [p.sep(), numbers[k], p.sep(), occ_ids[k], p.sep(), bs_ids[k]]
+        if prec is not None:
+            f += [p.sep(), p.col(prec.sigma_along, d), p.sep(), p.col(prec.sigma_across, d), p.sep(),
+                  p.col(prec.r95, d)]
         return f
 
     return _csv(header, sp, layout)

@@ -21,8 +21,9 @@ from ..design import Design
 from ..stations import Stationing
 
 __all__ = [
-    "CAUTION_LINES", "WIDTH", "ROWS_PER_PAGE", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines", "paged", "spiral_line",
+    "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
+    "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
+    "paged", "paged_parts", "SheetPart", "spiral_line",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -33,10 +34,16 @@ CAUTION_LINES = (
     "govern; this sheet does not replace them.",
 )
 
+#: The sign-off block of every printed sheet and report.
+SIGN_OFF_LINES = (
+    "Prepared by ______________________________   date ______________",
+    "Checked by  ______________________________   date ______________",
+)
+
 #: Widest line of a printed sheet (characters).
 WIDTH = 100
-#: Table rows on one page of a printed sheet.
-ROWS_PER_PAGE = 50
+#: Lines on one printed page at most (a common printer default fits 60 to 66).
+PAGE_LINES = 60
 
 
 # ---- numbers ---------------------------------------------------------------------------
@@ -83,6 +90,26 @@ def wrap_lines(lines: list[str], width: int = WIDTH) -> list[str]:
         out.extend(textwrap.wrap(line, width, subsequent_indent=indent, break_long_words=True,
                                  break_on_hyphens=False, drop_whitespace=True))
     return out
+
+
+def side_text(offsets: ArrayLike, decimals: int) -> list[str]:
+    """Offsets as a crew reads them: ``16.00 LT``, ``12.00 RT``, ``0.00`` on the line.
+
+    Parameters
+    ----------
+    offsets : array
+        Offsets (job units), negative left and positive right looking up-station.
+    decimals : int
+        Decimals printed.
+
+    Returns
+    -------
+    list of str
+        The size with its side; an offset that rounds to zero has no side.
+    """
+    r = rounded(offsets, decimals)
+    fmt = f"%.{decimals}f"
+    return [fmt % abs(v) + (" LT" if v < 0 else " RT" if v > 0 else "") for v in r]
 
 
 def turn_word(turn: int) -> str:
@@ -207,34 +234,72 @@ def curve_lines(d: Design) -> list[str]:
 
 
 # ---- pages -------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class SheetPart:
+    """One part of a printed sheet: the lines above its table, the table's
+    column header and rows, and the line that opens its continuation pages.
+    Every part after the first starts on a new page.
+    """
+
+    head: list[str]
+    columns: list[str]
+    rows: list[str]
+    continued: str = ""
+
+
 def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str],
           width: int = WIDTH) -> str:
-    """A printable sheet: the header, then pages of :data:`ROWS_PER_PAGE` rows
+    """A printable sheet: the header, then pages of at most :data:`PAGE_LINES` lines
     with the column header repeated (pages split by a form feed), the foot
     and the cautions; no line over ``width`` characters (:data:`WIDTH`, wider
     only where the table's own columns need it).
     """
-    pages = max(1, math.ceil(len(rows) / ROWS_PER_PAGE))
-    # the table's own width governs (columns sized from the data); header and foot lines are cut to fit
-    width = max(width, *(len(c) for c in columns), *(len(r) for r in rows))
+    return paged_parts(head, [SheetPart([], columns, rows)], title, foot, width)
+
+
+def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> str:
+    """A printable sheet of several tables (:class:`SheetPart`), each starting on a new page.
+
+    The first page opens with ``head`` and the first part's head; every
+    later part opens a page with its own head; a part's rows run on over
+    pages opened by its ``continued`` line, the column header repeated on
+    each.  No page holds more than :data:`PAGE_LINES` lines; pages are
+    numbered through the whole sheet and split by a form feed; the foot and
+    the cautions close it (on a page of their own when the last is full).
+    The tables are as wide as their data; header and foot lines wider than
+    that (or than ``width``) are wrapped, the page titles cut.
+    """
+    width = max(width, *(len(c) for p in parts for c in p.columns), *(len(r) for p in parts for r in p.rows))
     head = wrap_lines(head, width)
-    foot = wrap_lines(foot, width)
-    rule = "-" * max(len(c) for c in columns)
+    closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
+    pages: list[list[str]] = []
+    for k, part in enumerate(parts):
+        rule = "-" * max(len(c) for c in part.columns)
+        columns = [c.rstrip() for c in part.columns]
+        rows = part.rows
+        first = True
+        while first or rows:
+            if k == 0 and first:
+                opening = head + wrap_lines(part.head, width) + ["page {page} of {pages}"]
+            elif first:
+                opening = ["{title}", ""] + wrap_lines(part.head, width)
+            else:
+                opening = ["{title}", part.continued]
+            room = max(5, PAGE_LINES - len(opening) - len(columns) - 3)
+            pages.append(opening + [rule] + columns + [rule] + rows[:room] + [rule])
+            rows = rows[room:]
+            first = False
+    if len(pages[-1]) + len(closing) > PAGE_LINES:
+        pages.append(["{title}"] + closing)
+    else:
+        pages[-1].extend(closing)
+    total = len(pages)
     out: list[str] = []
-    for p in range(pages):
-        if p == 0:
-            out.extend(head)
-        else:
-            out.append("\f" + clip(f"{title}   page {p + 1} of {pages}", width))
-        out.append(f"page {p + 1} of {pages}" if p == 0 else "")
-        out.append(rule)
-        out.extend(columns)
-        out.append(rule)
-        out.extend(rows[p * ROWS_PER_PAGE:(p + 1) * ROWS_PER_PAGE])
-        out.append(rule)
-    out.append("")
-    out.extend(foot)
-    out.append("")
-    out.extend(CAUTION_LINES)
-    text = "\n".join(out) + "\n"
-    return text
+    for n, lines in enumerate(pages, start=1):
+        for i, line in enumerate(lines):
+            if line == "{title}":
+                line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
+            elif line == "page {page} of {pages}":
+                line = f"page {n} of {total}"
+            out.append(line)
+    return "\n".join(out) + "\n"
