@@ -355,3 +355,19 @@ def test_station_equations_are_marked(tmp_path):
     d = compute(write_job(tmp_path, BASE.format(equations=BACKWARD + FORWARD, extra=""), "eq.toml"))
     texts = " ".join(_root(plan_svg(d)).itertext())
     assert "EQ 1+105.000 BK = 1+100.000 AH" in texts and "EQ 1+300.000 BK = 2+000.000 AH" in texts
+
+
+def test_control_points_labelled_once_with_their_roles():
+    # the Harrow Fen sample sets out from several control points; a point occupied in one setup and
+    # sighted from another gets one label naming both roles
+    d = compute(SAMPLES / "harrow_fen_bypass_control_m.toml")
+    texts = [t.text for t in _root(plan_svg(d)).iter(f"{SVG}text") if t.text]
+    ids = {o.occupied.id for o in d.setup.occupations} | {o.backsight.id for o in d.setup.occupations
+                                                         if o.backsight is not None}
+    for pid in ids:
+        mine = [t for t in texts if t.split()[0] == pid and ("occupied" in t or "backsight" in t)]
+        assert len(mine) <= 1, mine
+    both = {o.occupied.id for o in d.setup.occupations} & {o.backsight.id for o in d.setup.occupations
+                                                           if o.backsight is not None}
+    assert both and all(any(t.startswith(pid) and "occupied" in t and "backsight" in t for t in texts)
+                        for pid in both)

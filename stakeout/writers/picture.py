@@ -569,10 +569,7 @@ def _occupations(d: Design) -> list[tuple[Any, Any, float]]:
     sd = d.setup
     if sd is None:
         return []
-    many = getattr(sd, "occupations", None)
-    if many:
-        return [(o.occupied, o.backsight, float(o.backsight_azimuth)) for o in many]
-    return [(sd.setup.occupied, sd.setup.backsight, float(sd.backsight_azimuth))]
+    return [(o.occupied, o.backsight, float(o.backsight_azimuth)) for o in sd.occupations]
 
 
 def _extent(points_e: list[F], points_n: list[F]) -> tuple[float, float, float, float]:
@@ -736,33 +733,40 @@ def plan_svg_element(d: Design) -> str:
     knx, kny = _right_normal(kaz)
     lab.block(np.column_stack([kx - 4, ky - 4, kx + 4, ky + 4]))
 
-    # control points
-    ctrl: list[str] = []
+    # control points: backsight lines, then each point once (a point occupied in one setup may be
+    # the backsight of another): a ring for a backsight, a triangle for an occupied point, one label
+    lines: list[str] = []
     ctrl_labels: list[tuple[float, float, str]] = []
+    points: dict[str, tuple[float, float, list[str]]] = {}
     for occ, bs, bs_az in occs:
         ox, oy = v.xy1(occ.easting, occ.northing)
+        points.setdefault(occ.id, (ox, oy, []))[2].append("occupied")
         if bs is not None:
             bx, by = v.xy1(bs.easting, bs.northing)
         else:
             r = math.radians(bs_az)
             bx, by = ox + 120 * math.sin(r), oy - 120 * math.cos(r)
-        seen = _inside_frame(bx, by, 6.0)
-        ctrl.append(f'<path d="M{_n(ox)},{_n(oy)}L{_n(bx)},{_n(by)}" stroke="{CONTROL_COLOUR}" stroke-width="0.9" '
-                    'stroke-dasharray="8,3,2,3" fill="none"/>')
-        ctrl.append(f'<path d="M{_n(ox)},{_n(oy - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
-        lab.block([[ox - 6, oy - 7, ox + 6, oy + 4]])
-        ctrl_labels.append((ox, oy, f"{occ.id} occupied"))
-        if bs is not None and seen:
-            ctrl.append(f'<circle cx="{_n(bx)}" cy="{_n(by)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
-                        f'stroke-width="1.2"/><circle cx="{_n(bx)}" cy="{_n(by)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
-            lab.block([[bx - 5, by - 5, bx + 5, by + 5]])
-            ctrl_labels.append((bx, by, f"{bs.id} backsight"))
+        lines.append(f"M{_n(ox)},{_n(oy)}L{_n(bx)},{_n(by)}")
+        if bs is not None and _inside_frame(bx, by, 6.0):
+            points.setdefault(bs.id, (bx, by, []))[2].append("backsight")
         elif bs is not None:  # off the sheet: say where the line goes, where it leaves the frame
             fx, fy = _to_frame(ox, oy, bx, by, 10.0)
             dist = math.hypot(bs.easting - occ.easting, bs.northing - occ.northing)
             ctrl_labels.append((fx, fy, f"to {bs.id} backsight, {dist:,.2f} {unit.symbol}"))
         else:
             ctrl_labels.append((bx, by, f"backsight {format_dms(bs_az, 0)}"))
+    ctrl: list[str] = []
+    if lines:
+        ctrl.append(f'<path class="so-backsight" d="{"".join(lines)}" stroke="{CONTROL_COLOUR}" stroke-width="0.9" '
+                    'stroke-dasharray="8,3,2,3" fill="none"/>')
+    for pid, (px_, py_, roles) in points.items():
+        if "backsight" in roles:
+            ctrl.append(f'<circle cx="{_n(px_)}" cy="{_n(py_)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
+                        f'stroke-width="1.2"/><circle cx="{_n(px_)}" cy="{_n(py_)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
+        if "occupied" in roles:
+            ctrl.append(f'<path d="M{_n(px_)},{_n(py_ - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
+        lab.block([[px_ - 6, py_ - 7, px_ + 6, py_ + 5]])
+        ctrl_labels.insert(0, (px_, py_, f"{pid} {', '.join(dict.fromkeys(roles))}"))
 
     body.append(_grid_ticks(v, lab))
 
