@@ -267,22 +267,41 @@ def _setout_section(d: Design) -> str:
     elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
     zen = format_dms(so.zenith, 0) if so.zenith is not None and so.slope_distance is not None else None
     slope = fixed(so.slope_distance, 3) if zen is not None and so.slope_distance is not None else None
+    from .sheets import AT_INSTRUMENT_NOTE, FLAG
+
+    prec = sd.precision
+    at = so.at_instrument
+    notes = [""] * n  # as on setout.txt: no angle at the instrument, r95 over the tolerance flagged
+    for i in np.flatnonzero(at).tolist():
+        notes[i] = AT_INSTRUMENT_NOTE
+    if sd.flagged is not None:
+        for i in np.flatnonzero(sd.flagged).tolist():
+            notes[i] = f"{notes[i]}; {FLAG}" if notes[i] else FLAG
     cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("angle right", "n"),
             ("grid dist", "n"), ("ground dist", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
     if zen is not None:
         cols += [("zenith", "n"), ("slope dist", "n")]
+    if prec is not None:
+        cols += [("sd along", "n"), ("sd across", "n"), ("r95", "n")]
+        s_al, s_ac, r95 = fixed(prec.sigma_along, 4), fixed(prec.sigma_across, 4), fixed(prec.r95, 4)
+    if any(notes):
+        cols.append(("note", "t"))
     point, label, code, feat = sp.point, sp.station_label, sp.code, sp.feature
     out = []
     for heading, facts, idx in _setup_groups(d):
         rows = []
         for i in idx.tolist():
-            r = [point[i], label[i], offs[i], code[i], feat[i], angle[i], grid[i], ground[i]]
+            r = [point[i], label[i], offs[i], code[i], feat[i], "" if at[i] else angle[i], grid[i], ground[i]]
             if elev is not None:
                 r.append(elev[i])
             if zen is not None and slope is not None:
                 r += [zen[i], slope[i]]
+            if prec is not None:
+                r += [s_al[i], s_ac[i], r95[i]]
+            if any(notes):
+                r.append(notes[i])
             rows.append(r)
         out.append(f'<section class="setup"><h2>{_e(heading)}</h2>{_facts(facts)}'
                    f"<p>{len(rows):,} stakes; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
