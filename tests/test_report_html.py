@@ -155,12 +155,14 @@ def test_check_html_verdict_first(check_out):
     assert "verdict" in first_div.get("class") and "NEEDS ATTENTION" in first_div.text_content()
     # the attention table comes before the picture and lists every shot that is not ok
     rows = read_rows(check_out / "check.csv")
-    bad = [r["point"] for r in rows if r["status"] != "ok"]
+    # what needs a person (the outputs contract): out, duplicate, unmatched, a control shot beyond tolerance
+    bad = [r["point"] for r in rows if r["status"] in ("out", "duplicate", "unmatched")
+           or (r["status"] == "control" and float(r["horizontal_error"]) > 0.05)]
     h2 = [h for h in doc.xpath("//h2") if h.text_content().startswith("Needs attention")][0]
     table = h2.getnext()
     assert [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")] == bad
     order = [h.text_content().split(":")[0].split(",")[0] for h in doc.xpath("//h2")]
-    assert order[:3] == ["Needs attention", "Residuals", "Within tolerance"]
+    assert order[:4] == ["Needs attention", "Residuals", "Within tolerance", "Superseded"]
     text = doc.text_content()
     assert re.search(r"Residuals, drawn \d+ times their length", text)
     for r in rows:  # every shot's number is in the report

@@ -1084,19 +1084,19 @@ def exaggeration(tolerance: float, scale: float) -> float:
 def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_name: str) -> tuple[str, float]:
     """The residual picture of a check as an ``<svg>`` element, and the exaggeration used.
 
-    Each matched shot is an arrow from its design point toward where it was
-    staked, the residual drawn ``factor`` times its length, coloured by its
-    status; a light circle of the horizontal tolerance (also times
-    ``factor``) rings each design point; an unmatched shot is a cross at its
-    own position.  Arrows are drawn status by status, in file order within
+    Each matched shot is an arrow from its design point (or, for a check shot
+    on control, its control point) toward where it was staked, the residual
+    drawn ``factor`` times its length, coloured by its status; a light circle
+    of the horizontal tolerance (also times ``factor``) rings each point
+    shot; an unmatched shot is a cross at its own position.  Arrows are drawn status by status, in file order within
     each; arrows longer than :data:`ARROW_CAP` tolerance circles are cut to
     that length, marked and labelled with their horizontal error.
     """
     job, unit, design = d.job, d.unit, d.stakes
-    idx = np.asarray(r.design_index, dtype=np.int64)
-    matched = idx >= 0
-    safe = np.where(matched, idx, 0)
-    de_n, de_e = design.northing[safe], design.easting[safe]
+    # a shot matched to a design or a control point has its residual; the arrow starts at that point
+    matched = np.isfinite(r.d_northing) & np.isfinite(r.d_easting)
+    de_e = shots.easting - np.where(matched, r.d_easting, 0.0)
+    de_n = shots.northing - np.where(matched, r.d_northing, 0.0)
     # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
     # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
     if matched.any():
@@ -1125,8 +1125,9 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     body.append(f'<g clip-path="url(#{clip})"><path d="{_circles(dx_all[grey], dy_all[grey], 1.2)}" fill="#aaa"/>')
     rad = r.horizontal_tolerance * factor * v.scale
     mx, my = v.x(de_e), v.y(de_n)
-    ring = np.unique(idx[matched])
-    body.append(f'<path d="{_circles(v.x(design.easting[ring]), v.y(design.northing[ring]), rad)}" fill="none" '
+    ring = np.flatnonzero(matched)
+    ring = ring[_thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
+    body.append(f'<path d="{_circles(mx[ring], my[ring], rad)}" fill="none" '
                 'stroke="#9ecae1" stroke-width="0.7"/>')
     status = np.array(r.status, dtype=object)
     dxs = np.where(matched, r.d_easting, 0.0) * factor * v.scale
