@@ -185,7 +185,8 @@ def _text_boxes(root) -> list[tuple[str, object]]:
             text = t.text or ""
             x, y = float(t.get("x")), float(t.get("y"))
             w = len(text) * ADVANCE * size
-            x0 = x - w / 2 if t.get("text-anchor", "middle") == "middle" else x
+            anchor = t.get("text-anchor", "start")  # SVG's initial value
+            x0 = {"start": x, "middle": x - w / 2, "end": x - w}[anchor]
             down = 0.24 * size if DESCENDERS & set(text) else 0.0
             out.append((text, box(x0, y - CAP * size, x0 + w, y + down)))
     return out
@@ -251,6 +252,7 @@ def test_large_job_is_thinned_and_says_so(tmp_path):
     assert not [t for g in root.iter(f"{SVG}g") if g.get("class") == "so-num" for t in g.iter(f"{SVG}text")]
     texts = " ".join(root.itertext())
     assert "drawn thinned" in texts and "point numbers are not drawn" in texts
+    assert "(thinned), no point numbers" in texts  # said in the title block too
     marks = sum(len(_circle_centres(p.get("d"))) for p in root.iter(f"{SVG}path") if p.get("class") == "so-stake")
     assert 0 < marks < len(d.stakes)
 
@@ -320,7 +322,7 @@ def test_residual_picture(tmp_path):
             continue
         status = cls.split("so-status-")[1]
         segs = [tuple(map(float, g)) for g in re.findall(rf"M({NUM}),({NUM})L({NUM}),({NUM})", path.get("d"))]
-        ks = [k for k in range(len(shots)) if r.status[k] == status and r.design_index[k] >= 0]
+        ks = [k for k in range(len(shots)) if r.status[k] == status and np.isfinite(r.horizontal_error[k])]
         assert len(segs) == len(ks)
         for (x0, y0, x1, y1), k in zip(segs, ks):
             err = float(r.horizontal_error[k])
@@ -341,3 +343,31 @@ def test_plan_svg_in_a_default_build(tmp_path):
     out = build_job(SAMPLES / "loop_ramp_usft.toml", tmp_path / "out")
     assert (out / "plan.svg").read_bytes().startswith(b'<?xml version="1.0" encoding="UTF-8"?>\n<svg')
     assert not (out / "plan.png").exists()  # the matplotlib preview is asked for by name only
+
+
+def test_station_equations_are_marked(tmp_path):
+    # a back and a forward equation (the job of test_equations): each marked and labelled back = ahead
+    job = write_job(tmp_path, (Path(__file__).resolve().parent.parent / "sample_jobs" / "site_road_metric.toml")
+                    .read_text(encoding="utf-8"))
+    assert "EQ" not in " ".join(_root(plan_svg(compute(job))).itertext()).split()
+    from .test_equations import BACKWARD, BASE, FORWARD
+
+    d = compute(write_job(tmp_path, BASE.format(equations=BACKWARD + FORWARD, extra=""), "eq.toml"))
+    texts = " ".join(_root(plan_svg(d)).itertext())
+    assert "EQ 1+105.000 BK = 1+100.000 AH" in texts and "EQ 1+300.000 BK = 2+000.000 AH" in texts
+
+
+def test_control_points_labelled_once_with_their_roles():
+    # the Harrow Fen sample sets out from several control points; a point occupied in one setup and
+    # sighted from another gets one label naming both roles
+    d = compute(SAMPLES / "harrow_fen_bypass_control_m.toml")
+    texts = [t.text for t in _root(plan_svg(d)).iter(f"{SVG}text") if t.text]
+    ids = {o.occupied.id for o in d.setup.occupations} | {o.backsight.id for o in d.setup.occupations
+                                                         if o.backsight is not None}
+    for pid in ids:
+        mine = [t for t in texts if t.split()[0] == pid and ("occupied" in t or "backsight" in t)]
+        assert len(mine) <= 1, mine
+    both = {o.occupied.id for o in d.setup.occupations} & {o.backsight.id for o in d.setup.occupations
+                                                           if o.backsight is not None}
+    assert both and all(any(t.startswith(pid) and "occupied" in t and "backsight" in t for t in texts)
+                        for pid in both)

@@ -155,12 +155,14 @@ def test_check_html_verdict_first(check_out):
     assert "verdict" in first_div.get("class") and "NEEDS ATTENTION" in first_div.text_content()
     # the attention table comes before the picture and lists every shot that is not ok
     rows = read_rows(check_out / "check.csv")
-    bad = [r["point"] for r in rows if r["status"] != "ok"]
+    # what needs a person (the outputs contract): out, duplicate, unmatched, a control shot beyond tolerance
+    bad = [r["point"] for r in rows if r["status"] in ("out", "duplicate", "unmatched")
+           or (r["status"] == "control" and float(r["horizontal_error"]) > 0.05)]
     h2 = [h for h in doc.xpath("//h2") if h.text_content().startswith("Needs attention")][0]
     table = h2.getnext()
     assert [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")] == bad
     order = [h.text_content().split(":")[0].split(",")[0] for h in doc.xpath("//h2")]
-    assert order[:3] == ["Needs attention", "Residuals", "Within tolerance"]
+    assert order[:4] == ["Needs attention", "Residuals", "Within tolerance", "Superseded"]
     text = doc.text_content()
     assert re.search(r"Residuals, drawn \d+ times their length", text)
     for r in rows:  # every shot's number is in the report
@@ -169,3 +171,29 @@ def test_check_html_verdict_first(check_out):
 
 def test_check_writes_html_beside_txt(check_out):
     assert sorted(p.name for p in check_out.iterdir()) == ["check.csv", "check.html", "check.txt", "restake.csv"]
+
+
+def test_setout_table_has_what_the_sheet_has(tmp_path):
+    # a stake on the occupied point has no angle and says so; with [instrument] the predicted
+    # precision per stake, the same numbers as setout.csv's sigma_along, sigma_across, r95
+    from .test_stake_at_instrument import JOB
+
+    out = build_job(write_job(tmp_path, JOB), tmp_path / "o")
+    doc = _doc(out / "report.html")
+    table = doc.xpath("//section[@class='setup']//table[@class='data']")[0]
+    heads = [th.text_content() for th in table.xpath("./thead/tr/th")]
+    rows = {tr.xpath("./td")[0].text_content(): [td.text_content() for td in tr.xpath("./td")]
+            for tr in table.xpath("./tbody/tr")}
+    at = rows["2"]  # the CL stake at 0+00 is the occupied point itself (the job's [setup])
+    assert at[heads.index("angle right")] == "" and at[heads.index("note")] == "at the instrument"
+    job = SAMPLES / "harrow_fen_bypass_control_m.toml"
+    if "[instrument]" not in job.read_text(encoding="utf-8"):
+        pytest.skip("the sample has no [instrument]")
+    out = build_job(job, tmp_path / "h")
+    doc = _doc(out / "report.html")
+    csv_rows = {r["point"]: r for r in read_rows(out / "setout.csv")}
+    for table in doc.xpath("//section[@class='setup']//table[@class='data']"):
+        heads = [th.text_content() for th in table.xpath("./thead/tr/th")]
+        for tr in table.xpath("./tbody/tr"):
+            cells = [td.text_content() for td in tr.xpath("./td")]
+            assert cells[heads.index("r95")] == csv_rows[cells[0]]["r95"]

@@ -55,6 +55,7 @@ th, td { border: 0.6pt solid #999; padding: 1.5px 4px; vertical-align: top; }
 th { background: #eee; text-align: left; font-weight: bold; }
 td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 td.t { white-space: nowrap; }
+td.w { white-space: normal; min-width: 14em; }
 table.data { font: 8.3pt/1.25 'DejaVu Sans Mono', 'Liberation Mono', Consolas, monospace; }
 table.data th { font-family: 'DejaVu Sans', 'Liberation Sans', Arial, sans-serif; font-size: 8pt; }
 table.facts { width: auto; min-width: 60%; }
@@ -107,8 +108,8 @@ def _td(cell: Cell, kind: str) -> str:
 
 def _table(columns: Sequence[tuple[str, str]], rows: Sequence[Sequence[Cell]], cls: str = "data",
            caption: str = "") -> str:
-    """A table: ``columns`` as (heading, kind) with kind ``n`` (number, right) or ``t`` (text);
-    cells are plain text (escaped here), or (text, class).
+    """A table: ``columns`` as (heading, kind) with kind ``n`` (number, right), ``t`` (text)
+    or ``w`` (text that may wrap); cells are plain text (escaped here), or (text, class).
     """
     kinds = [k for _, k in columns]
     head = "".join(f'<th class="{k}">{_e(h)}</th>' for h, k in columns)
@@ -267,22 +268,41 @@ def _setout_section(d: Design) -> str:
     elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
     zen = format_dms(so.zenith, 0) if so.zenith is not None and so.slope_distance is not None else None
     slope = fixed(so.slope_distance, 3) if zen is not None and so.slope_distance is not None else None
+    from .sheets import AT_INSTRUMENT_NOTE, FLAG
+
+    prec = sd.precision
+    at = so.at_instrument
+    notes = [""] * n  # as on setout.txt: no angle at the instrument, r95 over the tolerance flagged
+    for i in np.flatnonzero(at).tolist():
+        notes[i] = AT_INSTRUMENT_NOTE
+    if sd.flagged is not None:
+        for i in np.flatnonzero(sd.flagged).tolist():
+            notes[i] = f"{notes[i]}; {FLAG}" if notes[i] else FLAG
     cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("angle right", "n"),
             ("grid dist", "n"), ("ground dist", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
     if zen is not None:
         cols += [("zenith", "n"), ("slope dist", "n")]
+    if prec is not None:
+        cols += [("sd along", "n"), ("sd across", "n"), ("r95", "n")]
+        s_al, s_ac, r95 = fixed(prec.sigma_along, 4), fixed(prec.sigma_across, 4), fixed(prec.r95, 4)
+    if any(notes):
+        cols.append(("note", "t"))
     point, label, code, feat = sp.point, sp.station_label, sp.code, sp.feature
     out = []
     for heading, facts, idx in _setup_groups(d):
         rows = []
         for i in idx.tolist():
-            r = [point[i], label[i], offs[i], code[i], feat[i], angle[i], grid[i], ground[i]]
+            r = [point[i], label[i], offs[i], code[i], feat[i], "" if at[i] else angle[i], grid[i], ground[i]]
             if elev is not None:
                 r.append(elev[i])
             if zen is not None and slope is not None:
                 r += [zen[i], slope[i]]
+            if prec is not None:
+                r += [s_al[i], s_ac[i], r95[i]]
+            if any(notes):
+                r.append(notes[i])
             rows.append(r)
         out.append(f'<section class="setup"><h2>{_e(heading)}</h2>{_facts(facts)}'
                    f"<p>{len(rows):,} stakes; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
@@ -410,8 +430,9 @@ def _f(v: float, decimals: int = 3) -> str:
 
 
 def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") -> bytes:
-    """Render ``check.html``: the verdict first, the shots needing attention, the picture of
-    the residuals, the shots within tolerance, the design points not staked, a sign-off block.
+    """Render ``check.html``: the verdict first, the shots needing attention with what to
+    do, the picture of the residuals, the shots within tolerance, the superseded shots,
+    the design points to set again, a sign-off block (the same reading as ``check.txt``).
 
     Parameters
     ----------
@@ -422,67 +443,99 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     shots, r : Shots, CheckResult
         The shots read and the check's result, in file order.
     """
-    from .checkreport import cut_fill, status_text
+    from .checkreport import cut_fill, move_decimals, move_text, status_text
     from .picture import residual_svg_element
 
     job, design, unit = d.job, d.stakes, d.unit
     name = Path(staked_path).name
+    n = len(shots)
     counts = r.counts()
-    others = sorted(set(r.status) - set(counts))
-    count_text = ", ".join(f"{s} {counts[s]}" for s in counts) + "".join(
-        f", {s} {r.status.count(s)}" for s in others)
-    attention = [k for k in range(len(shots)) if r.status[k] != "ok"]
-    fine = [k for k in range(len(shots)) if r.status[k] == "ok"]
+    count_text = ", ".join(f"{s} {c}" for s, c in counts.items())
+    attention = [k for k in range(n) if r.needs_attention(k)]
+    fine = [k for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+    superseded = [k for k in range(n) if r.status[k] == "superseded"]
     verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
-               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {len(shots)} shots '
+               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {n} shots '
                "(see the first table)</div>")
-    hz = r.horizontal_error[np.isfinite(r.horizontal_error)]
-    dz = r.d_elevation[np.isfinite(r.d_elevation)]
+    governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
+    hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
     facts = [("job", job.info.name), ("job file", f"{Path(job.path).name}  sha256 {job.sha256}"),
              ("staked file", f"{name}  ({shots.encoding})"), ("units", unit.label),
              ("tolerances", f"horizontal {r.horizontal_tolerance:.4f}   vertical "
                             + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None
                                else "not set (not checked)")),
              ("search radius", f"{r.search_radius:.4f} (for renumbered shots)"),
-             ("shots", f"{len(shots)}: {count_text}"),
+             ("control points", ", ".join(r.control_ids) if r.control_ids else "none in the job"),
+             ("shots", f"{n}: {count_text}"),
              ("worst horizontal error", f"{hz.max():.4f}" if hz.size else "-"),
              ("worst vertical error", f"{np.abs(dz).max():.4f}" if dz.size else "- (no elevations to compare)"),
-             ("design points not staked", str(len(r.not_staked)))]
+             ("to set again (restake.csv)", f"{r.restake.size}: out of tolerance "
+                                            f"{r.restake.size - r.not_staked.size}, not staked {r.not_staked.size}")]
     with_grade = d.design_elevation is not None
     marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
+    move_dec = move_decimals(unit.is_feet, r.horizontal_tolerance)
     cols = [("shot", "t"), ("design", "t"), ("station", "n"), ("offset", "n"), ("horiz", "n"), ("d along", "n"),
             ("d across", "n"), ("d elev", "n")] + ([("mark", "t")] if with_grade else []) + [("status", "t")]
     label = d.stationing.label
 
-    def row(k: int) -> list[Cell]:
-        i = int(r.design_index[k])
-        out: list[Cell] = [shots.point[k], design.point[i] if i >= 0 else "", label(float(r.station[k])),
-                           _f(r.offset[k]), _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]),
-                           _f(r.d_elevation[k])]
+    def target(k: int) -> str:
+        i, c = int(r.design_index[k]), int(r.control_index[k])
+        return design.point[i] if i >= 0 else (r.control_ids[c] if c >= 0 else "")
+
+    def governor(k: int) -> str:
+        g = int(r.related[k])
+        return f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
+
+    def what_to_do(k: int) -> str:
+        s = r.status[k]
+        by_position = " (matched by position)" if r.matched_by[k] == "nearest" else ""
+        if s == "out":
+            f = r.fails[k]
+            what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
+                             f in ("vertical", "both"), move_dec)
+            return f"{what or 'reset it'}{by_position}"
+        if s == "duplicate":
+            return f"design point {target(k)} already has {governor(k)}{by_position}; find which stake is the point"
+        if s == "unmatched":
+            return f"no design or control point within {r.search_radius:.4f}; check the point number and the shot"
+        if s == "superseded":
+            return f"superseded by {governor(k)} ({r.status[int(r.related[k])]})"
+        return (f"control point {target(k)} is off{by_position}; check the setup (occupied point, backsight, "
+                "heights) before staking on")
+
+    def row(k: int, note: bool) -> list[Cell]:
+        out: list[Cell] = [shots.point[k], target(k), label(float(r.station[k])), _f(r.offset[k]),
+                           _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k])]
         if with_grade:
             out.append(marks[k])
         out.append((status_text(r, k), f"status-{r.status[k]}"))
+        if note:
+            out.append(what_to_do(k))
         return out
 
-    def table(ks: list[int]) -> str:
-        return _table(cols, [row(k) for k in ks])
+    def table(ks: list[int], note: str = "") -> str:
+        return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
     svg, factor = residual_svg_element(d, shots, r, name)
-    missing = [design.point[i] for i in r.not_staked]
+    missing = [design.point[i] for i in r.not_staked.tolist()]
     parts = [
         f"<header><h1>Staked-point check</h1><p class=\"sub\">{_e(job.info.name)}</p>{verdict}{_facts(facts)}"
         "</header>",
         f"<h2>Needs attention: {len(attention)}</h2>"
-        + (table(attention) if attention else "<p>None: every shot is within tolerance.</p>"),
+        + (table(attention, "what to do") if attention else "<p>None: every shot is within tolerance.</p>"),
         f'<section class="picture"><h2>Residuals, drawn {factor:g} times their length</h2>{svg}</section>',
         f"<h2>Within tolerance: {len(fine)}</h2>" + (table(fine) if fine else "<p>None.</p>"),
+        (f"<h2>Superseded: {len(superseded)}</h2><p>Shot again later in the file: the later shot governs.</p>"
+         + table(superseded, "governed by")) if superseded else "",
         f"<h2>Design points not staked: {len(missing)}</h2>"
         + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
         "<p>d = staked - design; d along / d across: the shot's station / offset minus the design point's; "
         + ("mark: the cut or fill to write on the stake, C where the shot is above design, F below; "
            if with_grade else "")
-        + "status out (horizontal / vertical / both): which tolerance the shot fails; northing and easting "
-        "residuals are in check.csv.</p>",
+        + "status out (horizontal / vertical / both): which tolerance the shot fails; moves are looking "
+        "up-station, from where the stake is to design; northing and easting residuals are in check.csv; the "
+        "points to set again are in restake.csv.</p>",
         _signoff(),
         _cautions(),
     ]

@@ -335,7 +335,7 @@ class _Text:
         self.items: list[str] = []
 
     def add(self, x: float, y: float, text: str, anchor: str = "middle", extra: str = "") -> None:
-        a = "" if anchor == "middle" else f' text-anchor="{anchor}"'
+        a = "" if anchor == "start" else f' text-anchor="{anchor}"'  # SVG's default anchor is the start
         self.items.append(f'<text x="{_n(x)}" y="{_n(y)}"{a}{extra}>{escape(text)}</text>')
 
 
@@ -569,10 +569,7 @@ def _occupations(d: Design) -> list[tuple[Any, Any, float]]:
     sd = d.setup
     if sd is None:
         return []
-    many = getattr(sd, "occupations", None)
-    if many:
-        return [(o.occupied, o.backsight, float(o.backsight_azimuth)) for o in many]
-    return [(sd.setup.occupied, sd.setup.backsight, float(sd.backsight_azimuth))]
+    return [(o.occupied, o.backsight, float(o.backsight_azimuth)) for o in sd.occupations]
 
 
 def _extent(points_e: list[F], points_n: list[F]) -> tuple[float, float, float, float]:
@@ -736,33 +733,40 @@ def plan_svg_element(d: Design) -> str:
     knx, kny = _right_normal(kaz)
     lab.block(np.column_stack([kx - 4, ky - 4, kx + 4, ky + 4]))
 
-    # control points
-    ctrl: list[str] = []
+    # control points: backsight lines, then each point once (a point occupied in one setup may be
+    # the backsight of another): a ring for a backsight, a triangle for an occupied point, one label
+    lines: list[str] = []
     ctrl_labels: list[tuple[float, float, str]] = []
+    points: dict[str, tuple[float, float, list[str]]] = {}
     for occ, bs, bs_az in occs:
         ox, oy = v.xy1(occ.easting, occ.northing)
+        points.setdefault(occ.id, (ox, oy, []))[2].append("occupied")
         if bs is not None:
             bx, by = v.xy1(bs.easting, bs.northing)
         else:
             r = math.radians(bs_az)
             bx, by = ox + 120 * math.sin(r), oy - 120 * math.cos(r)
-        seen = _inside_frame(bx, by, 6.0)
-        ctrl.append(f'<path d="M{_n(ox)},{_n(oy)}L{_n(bx)},{_n(by)}" stroke="{CONTROL_COLOUR}" stroke-width="0.9" '
-                    'stroke-dasharray="8,3,2,3" fill="none"/>')
-        ctrl.append(f'<path d="M{_n(ox)},{_n(oy - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
-        lab.block([[ox - 6, oy - 7, ox + 6, oy + 4]])
-        ctrl_labels.append((ox, oy, f"{occ.id} occupied"))
-        if bs is not None and seen:
-            ctrl.append(f'<circle cx="{_n(bx)}" cy="{_n(by)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
-                        f'stroke-width="1.2"/><circle cx="{_n(bx)}" cy="{_n(by)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
-            lab.block([[bx - 5, by - 5, bx + 5, by + 5]])
-            ctrl_labels.append((bx, by, f"{bs.id} backsight"))
+        lines.append(f"M{_n(ox)},{_n(oy)}L{_n(bx)},{_n(by)}")
+        if bs is not None and _inside_frame(bx, by, 6.0):
+            points.setdefault(bs.id, (bx, by, []))[2].append("backsight")
         elif bs is not None:  # off the sheet: say where the line goes, where it leaves the frame
             fx, fy = _to_frame(ox, oy, bx, by, 10.0)
             dist = math.hypot(bs.easting - occ.easting, bs.northing - occ.northing)
             ctrl_labels.append((fx, fy, f"to {bs.id} backsight, {dist:,.2f} {unit.symbol}"))
         else:
             ctrl_labels.append((bx, by, f"backsight {format_dms(bs_az, 0)}"))
+    ctrl: list[str] = []
+    if lines:
+        ctrl.append(f'<path class="so-backsight" d="{"".join(lines)}" stroke="{CONTROL_COLOUR}" stroke-width="0.9" '
+                    'stroke-dasharray="8,3,2,3" fill="none"/>')
+    for pid, (px_, py_, roles) in points.items():
+        if "backsight" in roles:
+            ctrl.append(f'<circle cx="{_n(px_)}" cy="{_n(py_)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
+                        f'stroke-width="1.2"/><circle cx="{_n(px_)}" cy="{_n(py_)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
+        if "occupied" in roles:
+            ctrl.append(f'<path d="M{_n(px_)},{_n(py_ - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
+        lab.block([[px_ - 6, py_ - 7, px_ + 6, py_ + 5]])
+        ctrl_labels.insert(0, (px_, py_, f"{pid} {', '.join(dict.fromkeys(roles))}"))
 
     body.append(_grid_ticks(v, lab))
 
@@ -778,6 +782,23 @@ def plan_svg_element(d: Design) -> str:
         k = lab.place(boxes[0])
         if k >= 0:
             _draw_label(texts_lab, boxes[0, k], [text], FONT_LABEL)
+    if stn.equations:  # station equations: marked on the centreline, labelled back = ahead
+        eq_at = np.array([eq.internal for eq in stn.equations])
+        qn, qe, qaz = a.evaluate(eq_at, 0.0)
+        eqx, eqy = v.x(qe), v.y(qn)
+        qnx, qny = _right_normal(qaz)
+        lab.block(np.column_stack([eqx - 4, eqy - 4, eqx + 4, eqy + 4]))
+        for k, eq in enumerate(stn.equations):
+            text = f"EQ {stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH"
+            placed = _place_on_normal(lab, float(eqx[k]), float(eqy[k]), float(qnx[k]), float(qny[k]), [text],
+                                      FONT_LABEL, (right_px + 8.0, left_px + 8.0))
+            if placed is not None:
+                _draw_label(texts_lab, placed[0], [text], FONT_LABEL)
+                leaders.append(f"M{_n(float(eqx[k]))},{_n(float(eqy[k]))}L{_n(placed[1][0])},{_n(placed[1][1])}")
+        eq_marks = "".join(f"M{_n(p - 3.5)},{_n(q)}l3.5,-3.5l3.5,3.5l-3.5,3.5z" for p, q in zip(eqx.tolist(), eqy.tolist()))
+        body_eq = f'<path class="so-eq" d="{eq_marks}" fill="#fff" stroke="{CL_COLOUR}" stroke-width="1.1"/>'
+    else:
+        body_eq = ""
     st_shown = 0
     for _, lines, px_, py_, u, w_ in station_labels:  # on the left of the line, else on the right
         placed = _place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
@@ -841,7 +862,9 @@ def plan_svg_element(d: Design) -> str:
     if pi_marks:
         body.append(f'<path class="so-pi" d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
                     'stroke-width="1.1"/>')
-    body.append(f'<path class="so-key" d="{_circles(kx, ky, 3.2)}" fill="none" stroke="{CL_COLOUR}" '
+    body.append(body_eq)
+    rings = _thin(kx, ky, 8.0) if kx.size else np.zeros(0, dtype=np.int64)  # one ring where many coincide
+    body.append(f'<path class="so-key" d="{_circles(kx[rings], ky[rings], 3.2)}" fill="none" stroke="{CL_COLOUR}" '
                 'stroke-width="1.2"/>')
     body.append("".join(ctrl) + "</g>")
     if leaders:
@@ -872,6 +895,9 @@ def plan_svg_element(d: Design) -> str:
     if pis:
         pan.symbol(f'<path d="M0,0h28" stroke="{TANGENT_COLOUR}" stroke-width="0.7" stroke-dasharray="6,3"/>'
                    f'<path d="M14,-5l4.5,8h-9z" fill="#fff" stroke="{TANGENT_COLOUR}"/>', "PI and tangents")
+    if stn.equations:
+        pan.symbol(f'<path d="M10.5,0l3.5,-3.5l3.5,3.5l-3.5,3.5z" fill="#fff" stroke="{CL_COLOUR}"/>',
+                   "station equation (back = ahead)")
     pan.symbol('<path d="M14,-5v10M8,0h12" stroke="#222" stroke-width="0.7"/>',
                f"station tick; labels every {_g(spacing)} {unit.symbol}")
     if occs:
@@ -904,6 +930,8 @@ def plan_svg_element(d: Design) -> str:
         ("units", unit.label),
         ("CRS", d.crs_label or "none: local grid"),
         ("stations", f"{stn.label(a.start_station)} to {stn.label(a.end_station)}, {len(sp):,} stakes"),
+        ("drawn", (f"{len(keep):,} marks for {n_st:,} stakes (thinned), no point numbers" if not detail else
+                   f"point numbers {num_shown:,} of {n_st:,} (no overprinting)")),
         ("north", "grid north, up the sheet"),
     ], SHEET_HEIGHT - MARGIN)
     title = f"Plan of {a.name}: {job.info.name}"
@@ -912,9 +940,9 @@ def plan_svg_element(d: Design) -> str:
 
 def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, lines: list[str], size: float,
                      reach: tuple[float, float], steps: int = 3) -> tuple[tuple[float, ...], tuple[float, float]] | None:
-    """Place a label beside (x, y) along the canvas direction (nx, ny), past ``reach[0]``,
-    stepping outward, then on the other side past ``reach[1]``.  Returns the box and the
-    point of the leader's end, or None.
+    """Place a label off (x, y) along the canvas direction (nx, ny), its nearest edge or
+    corner ``reach[0]`` away, stepping outward, then on the other side past ``reach[1]``.
+    Returns the box and the end of its leader (where the ray meets the box), or None.
     """
     w = max(_text_width(t, size) for t in lines) + 2.0
     h = len(lines) * size * 1.15 + 1.0
@@ -922,12 +950,18 @@ def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, li
     ends = []
     for sgn, base in ((1.0, reach[0]), (-1.0, reach[1])):
         ux, uy = sgn * nx, sgn * ny
-        half = (abs(ux) * w + abs(uy) * h) / 2
+        sx, sy = (1.0 if ux >= 0 else -1.0), (1.0 if uy >= 0 else -1.0)
+        # beside, at a corner, or above/below the leader's end, as the direction is more across or up
+        shifts = [(sx * w / 2, 0.0), (sx * w / 2, sy * h / 2), (0.0, sy * h / 2)]
+        if abs(uy) > abs(ux):
+            shifts.reverse()
         for k in range(steps):
             dist = base + k * (h + 3.0)
-            cx, cy = x + ux * (dist + half), y + uy * (dist + half)
-            cands.append((cx - w / 2, cy - h / 2, cx + w / 2, cy + h / 2))
-            ends.append((x + ux * dist, y + uy * dist))
+            qx, qy = x + ux * dist, y + uy * dist
+            for dx, dy in shifts:
+                cx, cy = qx + dx, qy + dy
+                cands.append((cx - w / 2, cy - h / 2, cx + w / 2, cy + h / 2))
+                ends.append((qx, qy))
     k = lab.place(np.array(cands))
     if k < 0:
         return None
@@ -1050,22 +1084,26 @@ def exaggeration(tolerance: float, scale: float) -> float:
 def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_name: str) -> tuple[str, float]:
     """The residual picture of a check as an ``<svg>`` element, and the exaggeration used.
 
-    Each matched shot is an arrow from its design point toward where it was
-    staked, the residual drawn ``factor`` times its length, coloured by its
-    status; a light circle of the horizontal tolerance (also times
-    ``factor``) rings each design point; an unmatched shot is a cross at its
-    own position.  Arrows are drawn status by status, in file order within
+    Each matched shot is an arrow from its design point (or, for a check shot
+    on control, its control point) toward where it was staked, the residual
+    drawn ``factor`` times its length, coloured by its status; a light circle
+    of the horizontal tolerance (also times ``factor``) rings each point
+    shot; an unmatched shot is a cross at its own position.  Arrows are drawn status by status, in file order within
     each; arrows longer than :data:`ARROW_CAP` tolerance circles are cut to
     that length, marked and labelled with their horizontal error.
     """
     job, unit, design = d.job, d.unit, d.stakes
-    idx = np.asarray(r.design_index, dtype=np.int64)
-    matched = idx >= 0
-    safe = np.where(matched, idx, 0)
-    de_n, de_e = design.northing[safe], design.easting[safe]
-    pts_e = [shots.easting, de_e[matched]]
-    pts_n = [shots.northing, de_n[matched]]
-    ext = _extent(pts_e, pts_n)
+    # a shot matched to a design or a control point has its residual; the arrow starts at that point
+    matched = np.isfinite(r.d_northing) & np.isfinite(r.d_easting)
+    de_e = shots.easting - np.where(matched, r.d_easting, 0.0)
+    de_n = shots.northing - np.where(matched, r.d_northing, 0.0)
+    # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
+    # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
+    if matched.any():
+        ext = _extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
+        ext = _grow(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
+    else:
+        ext = _extent([shots.easting], [shots.northing])
     size = max(ext[2] - ext[0], ext[3] - ext[1])
     least = max(20.0 * r.horizontal_tolerance, 1.0)
     if size < least:  # one shot, or a few close together: show some room around them
@@ -1087,8 +1125,9 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     body.append(f'<g clip-path="url(#{clip})"><path d="{_circles(dx_all[grey], dy_all[grey], 1.2)}" fill="#aaa"/>')
     rad = r.horizontal_tolerance * factor * v.scale
     mx, my = v.x(de_e), v.y(de_n)
-    ring = np.unique(idx[matched])
-    body.append(f'<path d="{_circles(v.x(design.easting[ring]), v.y(design.northing[ring]), rad)}" fill="none" '
+    ring = np.flatnonzero(matched)
+    ring = ring[_thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
+    body.append(f'<path d="{_circles(mx[ring], my[ring], rad)}" fill="none" '
                 'stroke="#9ecae1" stroke-width="0.7"/>')
     status = np.array(r.status, dtype=object)
     dxs = np.where(matched, r.d_easting, 0.0) * factor * v.scale
@@ -1115,11 +1154,23 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
                                                                  uy.tolist()))
         body.append(f'<path d="{marks}" stroke="#000" stroke-width="1.2"/>')
     um = np.where(~matched)[0]
+    off_sheet: list[tuple[float, float, str]] = []
     if um.size:
         ux_, uy_ = v.x(shots.easting[um]), v.y(shots.northing[um])
         crosses = "".join(f"M{_n(p - 4)},{_n(q - 4)}l8,8m0,-8l-8,8" for p, q in zip(ux_.tolist(), uy_.tolist()))
         body.append(f'<path d="{crosses}" stroke="{STATUS_COLOURS["unmatched"]}" stroke-width="1.4"/>')
+        for k, p, q in zip(um.tolist(), ux_.tolist(), uy_.tolist()):
+            if not _inside_frame(p, q, 6.0):
+                fx, fy = _to_frame(v.cx, v.cy, p, q, 12.0)
+                dist = math.hypot(p - fx, q - fy) / v.scale
+                off_sheet.append((fx, fy, f"{shots.point[k]} unmatched: {dist:,.1f} {unit.symbol} off the sheet"))
     body.append("</g>")
+    for fx, fy, _ in off_sheet:  # an arrowhead at the frame toward each shot off the sheet
+        dx, dy = fx - v.cx, fy - v.cy
+        far = math.hypot(dx, dy) or 1.0
+        head = _heads(np.array([fx - 10 * dx / far]), np.array([fy - 10 * dy / far]), np.array([fx]),
+                      np.array([fy]), 7.0)
+        body.append(f'<path d="{head}" fill="{STATUS_COLOURS["unmatched"]}"/>')
     # labels: shots needing attention first, then the rest while there is room
     lab.block(np.column_stack([mx[matched] - 2, my[matched] - 2, mx[matched] + 2, my[matched] + 2]))
     lab.block(np.column_stack([np.minimum(mx, tx)[matched] - 1, np.minimum(my, ty)[matched] - 1,
@@ -1130,6 +1181,15 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
                      for s in r.status], dtype=np.int64)
     order = np.lexsort((np.arange(len(shots)), rank))
     texts = _Text()
+    for fx, fy, text in off_sheet:
+        w1 = np.array([_text_width(text, FONT_STAKE) + 1.5])
+        h1 = np.array([FONT_STAKE * 0.78 + 1.5])
+        toward = np.array([[v.cx - fx, v.cy - fy]]) / (math.hypot(v.cx - fx, v.cy - fy) or 1.0)
+        bx = _around_boxes(np.array([fx]), np.array([fy]), w1, h1, 4.0, toward)
+        j = lab.place(bx[0])
+        if j >= 0:
+            b = bx[0, j]
+            texts.add((b[0] + b[2]) / 2, b[3] - 1.25, text, extra=f' fill="{STATUS_COLOURS["unmatched"]}"')
     shown = 0
     names = [p if s == "ok" or not matched[i] or not cut[i] else f"{p} ({r.horizontal_error[i]:.3f})"
              for i, (p, s) in enumerate(zip(shots.point, r.status))]
