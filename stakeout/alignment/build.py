@@ -17,7 +17,7 @@ import numpy as np
 from ..angles import angle_difference, azimuth_between, sincosd
 from ..errors import GeometryError
 from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, KeyPoint
-from .curves import CompoundTangents, compound_tangents
+from .curves import CompoundTangents, compound_tangents, intersect_tangents
 from .elements import Arc, Element, Line, Spiral, end_features, join_features, join_problem, start_features
 from .specs import AlignmentSpec, ArcSpec, ChainSpec, FixedSpec, LineSpec, PIListSpec, SinglePISpec, SpiralSpec
 
@@ -145,21 +145,8 @@ def _run_tangents(run: list[Element]) -> CompoundTangents:
         return compound_tangents(tuple(a.radius for a in run if isinstance(a, Arc)),
                                  tuple(a.central_angle for a in run))
     first, last = run[0], run[-1]
-    return _intersect_tangents(first.start_northing, first.start_easting, first.start_azimuth,
+    return intersect_tangents(first.start_northing, first.start_easting, first.start_azimuth,
                                last.end_northing, last.end_easting, last.end_azimuth)
-
-
-def _intersect_tangents(n0: float, e0: float, az0: float, n1: float, e1: float, az1: float) -> CompoundTangents:
-    """Back and ahead tangent lengths from the PI where the line through (n0, e0)
-    along ``az0`` meets the line through (n1, e1) along ``az1``.
-    """
-    s0, c0 = (float(v) for v in sincosd(az0))
-    s1, c1 = (float(v) for v in sincosd(az1))
-    dn, de = n1 - n0, e1 - e0
-    det = s1 * c0 - c1 * s0  # sin(az1 - az0)
-    t_back = (dn * s1 - de * c1) / det if det else math.inf
-    t_ahead = (de * c0 - dn * s0) / det if det else math.inf
-    return CompoundTangents(t_back, t_ahead)
 
 
 def _check_closure(where: str, elements: list[Element], first: int, count: int,
@@ -265,7 +252,7 @@ def _curve_at_pi(where: str, az_in: float, az_out: float, radii: tuple[float, ..
         steps.append(_spiral(spirals[-1], turn * ks[-2], 0.0))
     walked = _walk(0.0, 0.0, 0.0, 0.0, steps)
     end = walked[-1]
-    return _PICurve(turn, steps, _intersect_tangents(0.0, 0.0, 0.0, end.end_northing, end.end_easting,
+    return _PICurve(turn, steps, intersect_tangents(0.0, 0.0, 0.0, end.end_northing, end.end_easting,
                                                      end.end_azimuth))
 
 

@@ -13,6 +13,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from ..angles import sincosd
 from ..errors import GeometryError
 
 __all__ = [
@@ -23,6 +24,7 @@ __all__ = [
     "CompoundTangents",
     "compound_tangents",
     "degree_of_curve_arc",
+    "intersect_tangents",
 ]
 
 
@@ -157,3 +159,17 @@ def compound_tangents(radii: tuple[float, ...], deltas_deg: tuple[float, ...]) -
         return CompoundTangents(t_b, t_a, t_a, t_b, "ahead")
     back, ahead = chained_tangents(radii, deltas_deg)
     return CompoundTangents(back, ahead)
+
+
+def intersect_tangents(n0: float, e0: float, az0: float, n1: float, e1: float, az1: float) -> CompoundTangents:
+    """Back and ahead tangent lengths from the PI where the line through (n0, e0)
+    along ``az0`` meets the line through (n1, e1) along ``az1`` (job units;
+    azimuths in degrees clockwise from grid north; infinite for parallel lines).
+    """
+    s0, c0 = (float(v) for v in sincosd(az0))
+    s1, c1 = (float(v) for v in sincosd(az1))
+    dn, de = n1 - n0, e1 - e0
+    det = s1 * c0 - c1 * s0  # sin(az1 - az0)
+    t_back = (dn * s1 - de * c1) / det if det else math.inf
+    t_ahead = (de * c0 - dn * s0) / det if det else math.inf
+    return CompoundTangents(t_back, t_ahead)

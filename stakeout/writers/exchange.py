@@ -13,6 +13,7 @@ import math
 
 from .. import __version__
 from ..alignment import Arc, Element, Spiral
+from ..alignment.curves import intersect_tangents
 from ..angles import sincosd
 from ..design import Design
 from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
@@ -22,11 +23,9 @@ __all__ = ["alignment_xml"]
 
 def _spiral_pi(el: Element) -> tuple[float, float]:
     """Where the spiral's start and end tangents meet."""
+    t = intersect_tangents(el.start_northing, el.start_easting, el.start_azimuth,
+                           el.end_northing, el.end_easting, el.end_azimuth).back
     s0, c0 = (float(v) for v in sincosd(el.start_azimuth))
-    s1, c1 = (float(v) for v in sincosd(el.end_azimuth))
-    dn, de = el.end_northing - el.start_northing, el.end_easting - el.start_easting
-    det = c0 * s1 - c1 * s0
-    t = (dn * s1 - de * c1) / det
     return el.start_northing + t * c0, el.start_easting + t * s0
 
 

@@ -22,7 +22,7 @@ import numpy as np
 from ..alignment import Arc, Spiral
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from .text import CAUTION_LINES, curve_texts, fixed, turn_word
+from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -199,7 +199,7 @@ def _curve_section(d: Design) -> str:
             rows.append([f"arc {k}", a0, a1, f"{p.radius:.4f}", _dms(p.delta, 1), f"{p.length:.4f}", tan,
                          f"{p.chord:.4f}", ext, f"{p.middle_ordinate:.4f}"])
         for k, (sp, a0, a1) in enumerate(ct.spirals, start=1):
-            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (sp.radius_start, sp.radius_end))
+            r0, r1 = end_radii(sp)
             rows.append([f"spiral {k}", a0, a1, f"{r0} to {r1}", _dms(sp.central_angle, 1), f"{sp.length:.4f}",
                          "", "", "", ""])
         cols = [("element", "t"), ("from", "n"), ("to", "n"), ("radius", "n"), ("delta", "n"), ("length", "n"),
@@ -381,7 +381,7 @@ def _deflection_section(d: Design) -> str:
         el = a.elements[i]
         start = f"{kp.get(round(el.start, 6), '')} {lab(el.start)}".strip()
         if isinstance(el, Spiral):
-            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (el.radius_start, el.radius_end))
+            r0, r1 = end_radii(el)
             head = (f"Curve {curve_no}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
                     f"theta {_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
         else:

@@ -20,7 +20,8 @@ from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import WIDTH, SheetPart, curve_lines, fixed, header_lines, paged, paged_parts, side_text, turn_word
+from .text import (WIDTH, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts, side_text,
+                   turn_word)
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
 
@@ -383,7 +384,7 @@ def deflection_sheet(d: Design) -> str:
         start_name = kp.get(round(el.start, 6), "")
         if isinstance(el, Spiral):
             spirals = True
-            r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (el.radius_start, el.radius_end))
+            r0, r1 = end_radii(el)
             rows.append(f"curve {curve_no}, spiral from {start_name} {lab(el.start)}: L {el.length:.4f}, "
                         f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
         else:

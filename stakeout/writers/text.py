@@ -23,7 +23,7 @@ from ..stations import Stationing
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "SheetPart", "spiral_line",
+    "paged", "paged_parts", "SheetPart", "spiral_line", "end_radii",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -165,9 +165,15 @@ class CurveText:
         return f"curve with spirals, {a} arc{'s' if a != 1 else ''}, {s} spiral{'s' if s != 1 else ''}"
 
 
+def end_radii(el: Element) -> tuple[str, str]:
+    """An element's radius at its start and its end as text (``inf`` where infinite)."""
+    r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (el.radius_start, el.radius_end))
+    return r0, r1
+
+
 def spiral_line(sp: Spiral, a0: str, a1: str) -> str:
     """One line of a spiral's data: stations, length, radii, central angle."""
-    r0, r1 = (f"{r:.4f}" if r is not None else "inf" for r in (sp.radius_start, sp.radius_end))
+    r0, r1 = end_radii(sp)
     return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
