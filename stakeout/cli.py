@@ -140,18 +140,23 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
         raise typer.Exit(3) from None
 
 
+_WIDE_HELP = ("Print setout.txt and deflections.txt one line per stake, up to 132 columns (default: 80 columns, "
+              "a stake's further columns on a second line).")
+
+
 @app.command()
 def build(
     job: str = typer.Argument(..., help="The job file (TOML, format 1)."),
     out: str = typer.Option(..., "--out", "-o", help="Folder to write the outputs into."),
     only: Optional[str] = typer.Option(None, "--only", help=only_help()),
     force: bool = typer.Option(False, "--force", help="Replace an existing, non-empty output folder."),
+    wide: bool = typer.Option(False, "--wide", help=_WIDE_HELP),
     debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
 ) -> None:
     """Compute the job and write its stake files into one folder."""
     from .pipeline import run_build
 
-    for note in _guard(debug, lambda: run_build(job, out, only, force)):
+    for note in _guard(debug, lambda: run_build(job, out, only, force, wide)):
         typer.echo(note, err=True)
 
 
@@ -175,12 +180,13 @@ def check(
     columns: Optional[str] = typer.Option(None, "--columns", help="Column order of the staked file, e.g. "
                                           "point,easting,northing,elevation,description (skip ignores one)."),
     delimiter: str = typer.Option("auto", "--delimiter", help="auto, comma, semicolon, tab or space."),
+    wide: bool = typer.Option(False, "--wide", help="Print check.txt up to 132 columns wide (default 80)."),
     debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
 ) -> None:
     """Check staked shots against design; exit 1 if any needs attention."""
     from .pipeline import run_check
 
-    ok, notes = _guard(debug, lambda: run_check(job, staked, out, force, columns, delimiter))
+    ok, notes = _guard(debug, lambda: run_check(job, staked, out, force, columns, delimiter, wide))
     for note in notes:
         typer.echo(note, err=True)
     if not ok:

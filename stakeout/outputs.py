@@ -22,8 +22,14 @@ __all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help"
 
 class Rendered(dict[str, bytes]):
     """Files rendered so far in one build (file name -> bytes), so that one
-    output can reuse another (the preview is drawn from plan.dxf, the report holds plan.svg).
+    output can reuse another (the preview is drawn from plan.dxf, the report holds plan.svg),
+    and the build's print option: ``wide`` text sheets (one line per stake, up to 132 columns)
+    instead of 80 columns.
     """
+
+    def __init__(self, wide: bool = False) -> None:
+        super().__init__()
+        self.wide = wide
 
 
 @dataclass(frozen=True)
@@ -106,13 +112,13 @@ def _setout(d: "Design", done: Rendered) -> bytes:
 def _sheet(d: "Design", done: Rendered) -> bytes:
     from .writers.sheets import setout_sheet
 
-    return setout_sheet(d).encode("utf-8")
+    return setout_sheet(d, wide=done.wide).encode("utf-8")
 
 
 def _deflections(d: "Design", done: Rendered) -> bytes:
     from .writers.sheets import deflection_sheet
 
-    return deflection_sheet(d).encode("utf-8")
+    return deflection_sheet(d, wide=done.wide).encode("utf-8")
 
 
 def _landxml(d: "Design", done: Rendered) -> bytes:

@@ -73,8 +73,11 @@ def _has_extra(extra: str | None) -> bool:
     return importlib.util.find_spec("matplotlib") is not None
 
 
-def run_build(job_path: str | Path, out: str | Path, only: str | None = None, force: bool = False) -> list[str]:
+def run_build(job_path: str | Path, out: str | Path, only: str | None = None, force: bool = False,
+              wide: bool = False) -> list[str]:
     """``stakeout build``: compute a job and write its outputs atomically.
+
+    ``wide``: the text sheets one line per stake, up to 132 columns (default 80).
 
     Returns
     -------
@@ -116,7 +119,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
     written: dict[str, bytes] = {}
-    done = Rendered()
+    done = Rendered(wide)
     files = [o for o in outputs if o.name != "manifest"]
     progress = Progress(len(files) + 1, len(d.stakes))
     progress.step("computed")
@@ -153,7 +156,7 @@ def run_curve_report(job_path: str | Path) -> str:
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,
-              columns: str | None = None, delimiter: str = "auto") -> tuple[bool, list[str]]:
+              columns: str | None = None, delimiter: str = "auto", wide: bool = False) -> tuple[bool, list[str]]:
     """``stakeout check``: staked shots against design, written atomically.
 
     Writes ``check.csv``, ``check.txt`` and ``restake.csv`` (the design
@@ -193,7 +196,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
 
     with folder:
         folder.write_bytes("check.csv", check_csv(d, shots, result))
-        folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result))
+        folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result, wide))
         folder.write_bytes("check.html", check_html(d, str(staked), shots, result))
         folder.write_bytes("restake.csv", restake_csv(d, result))
         folder.commit()

@@ -45,3 +45,51 @@ def read_rows(path: Path) -> list[dict]:
 
     with open(path, newline="") as fh:
         return list(csv.DictReader(fh))
+
+
+def sheet_records(text: str) -> list[str]:
+    """The records of the tables of a printed text sheet, each record's lines
+    joined by one space.
+
+    A table is a rule (``---``), its header lines, a rule, its records and a
+    closing rule; a line at the margin opens a record and an indented line
+    continues it (a stake's further columns on an 80-column sheet).
+    """
+    records: list[str] = []
+    rules = 0
+    for line in text.replace("\f", "").splitlines():
+        if line.startswith("---"):
+            rules = (rules + 1) % 3
+            continue
+        if rules != 2 or not line.strip():
+            continue
+        if line[:1] == " " and records:
+            records[-1] += " " + line.strip()
+        else:
+            records.append(line.rstrip())
+    return records
+
+
+_STATUS = r"((?:control )?out \((?:horizontal|vertical|both)\)|ok|control|duplicate|unmatched|superseded)"
+
+
+def check_row(text: str, pid: str, design: str | None = None) -> tuple[str, str, str]:
+    """A shot's row in ``check.txt`` (the first whose shot, and design point if
+    given, match), its status and the line under it (what to do).
+
+    The status ends the row, or opens the line under it where the row has
+    no room for it (an 80-column sheet with long statuses).
+    """
+    import re
+
+    lines = text.replace("\f", "").splitlines()
+    want = [pid] if design is None else [pid, design]
+    k = next(i for i, ln in enumerate(lines) if ln.split()[: len(want)] == want)
+    row = lines[k].rstrip()
+    under = lines[k + 1].strip() if k + 1 < len(lines) and lines[k + 1][:1] == " " else ""
+    m = re.search(" " + _STATUS + "$", row)
+    if m:
+        return row[: m.start()].rstrip(), m.group(1), under
+    m = re.match(_STATUS + "(?:: (.*))?$", under)
+    assert m, f"no status for shot {pid}: {row!r} / {under!r}"
+    return row, m.group(1), m.group(2) or ""

@@ -31,7 +31,7 @@ from stakeout.cli import app
 from stakeout.design import build_design
 from stakeout.jobfile import load_job
 
-from .helpers import SAMPLES, build_job
+from .helpers import SAMPLES, build_job, check_row
 
 runner = CliRunner()
 LOOP = SAMPLES / "loop_ramp_usft.toml"  # US ft, tolerances 0.05 / 0.03, control CF101 and CF102
@@ -269,10 +269,9 @@ def _displaced(d, pid: str, along: float, across: float) -> tuple[float, float]:
 
 
 def _row_and_todo(text: str, pid: str) -> tuple[str, str]:
-    """A shot's row in the first table of check.txt and the line under it (what to do)."""
-    lines = text.splitlines()
-    k = next(i for i, ln in enumerate(lines) if ln.split()[:1] == [pid])
-    return lines[k], lines[k + 1].strip()
+    """A shot's status in the first table of check.txt and what to do (the line under its row)."""
+    _, status, todo = check_row(text, pid)
+    return status, todo
 
 
 def test_what_to_do_move_back_and_left_looking_up_station(tmp_path):
@@ -283,8 +282,8 @@ def test_what_to_do_move_back_and_left_looking_up_station(tmp_path):
     assert got[0]["status"] == "out" and got[0]["fails"] == "horizontal"
     assert float(got[0]["d_station"]) == pytest.approx(0.07, abs=1e-4)
     text = (out / "check.txt").read_text()
-    row, todo = _row_and_todo(text, "1006")
-    assert row.endswith("out (horizontal)") and todo == "move 0.07 back, 0.05 left"
+    status, todo = _row_and_todo(text, "1006")
+    assert status == "out (horizontal)" and todo == "move 0.07 back, 0.05 left"
 
 
 def test_what_to_do_move_ahead_and_right_on_the_curve(tmp_path):
@@ -306,13 +305,13 @@ def test_what_to_do_vertical_and_both_in_metres(tmp_path):
     r, got, out = _check(tmp_path, [_shot(pid, n, e, z + 0.024)], HILL)
     assert got[0]["fails"] == "vertical" and r.exit_code == 1
     text = (out / "check.txt").read_text()
-    row, todo = _row_and_todo(text, pid)
-    assert row.endswith("out (vertical)") and todo == "move 0.024 down"
+    status, todo = _row_and_todo(text, pid)
+    assert status == "out (vertical)" and todo == "move 0.024 down"
     n2, e2 = _displaced(d, pid, 0.0, -0.030)
     r, got, out = _check(tmp_path, [_shot(pid, n2, e2, z - 0.015)], HILL, "--force")
     assert got[0]["fails"] == "both"
-    row, todo = _row_and_todo((out / "check.txt").read_text(), pid)
-    assert row.endswith("out (both)") and todo == "move 0.030 right, 0.015 up"
+    status, todo = _row_and_todo((out / "check.txt").read_text(), pid)
+    assert status == "out (both)" and todo == "move 0.030 right, 0.015 up"
 
 
 def test_renumbered_shots_are_marked_as_matched_by_position(tmp_path):
@@ -334,7 +333,7 @@ def test_check_txt_fits_the_page_with_long_ids_grade_and_wild_residuals(tmp_path
     r, got, out = _check(tmp_path, rows, HILL)
     assert r.exit_code == 1, r.output
     text = (out / "check.txt").read_text()
-    assert max(len(ln) for ln in text.splitlines()) <= 100
+    assert max(len(ln) for ln in text.splitlines()) <= 80
     # no room for the long status beside a wide mark: it opens the line under the row
     assert "    control out (horizontal): control point HL-CP4 is off" in text
 

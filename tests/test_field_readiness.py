@@ -356,7 +356,7 @@ ellipsoid_height = 10500.0
     assert r.exit_code == 0, r.output
     sheet = (tmp_path / "out" / "setout.txt").read_text()
     assert "EPSG:2229 (NAD83 / California zone 5 (ftUS))" in sheet
-    assert max(len(line) for line in sheet.splitlines()) <= 100
+    assert max(len(line) for line in sheet.splitlines()) <= 80
 
 
 def test_occupied_point_outside_the_crs_area_is_refused(tmp_path):

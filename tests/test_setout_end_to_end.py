@@ -65,7 +65,7 @@ def test_point_backsight_grid(tmp_path):
         az = math.degrees(math.atan2(e - occ_e, n - occ_n)) % 360
         assert float(row["angle_right_deg"]) == pytest.approx((az - bs) % 360, abs=2e-6)
     text = (out / "setout.txt").read_text()
-    assert all(len(line) <= 100 for line in text.replace("\f", "").splitlines())
+    assert all(len(line) <= 80 for line in text.replace("\f", "").splitlines())
     assert "licensed surveyor" in text and "independently" in text
     assert text.count("page ") >= 3 and "\f" in text
 

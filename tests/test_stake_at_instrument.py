@@ -7,7 +7,7 @@ import math
 
 import pytest
 
-from .helpers import build_job, read_rows, write_job
+from .helpers import build_job, read_rows, sheet_records, write_job
 
 # The POB at N 1000 E 1000, a line due east; the instrument stands on the POB.
 JOB = """format = 1
@@ -31,7 +31,7 @@ backsight = { id = "BS", northing = 1300.0, easting = 1000.0 }
 
 
 def _sheet_rows(text: str) -> dict[str, str]:
-    return {line.split()[0]: line for line in text.splitlines() if line[:1].isdigit() and "+" in line}
+    return {rec.split()[0]: rec for rec in sheet_records(text) if "+" in rec}
 
 
 def test_stake_at_the_instrument(tmp_path):

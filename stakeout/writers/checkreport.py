@@ -12,7 +12,7 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
-from .text import CAUTION_LINES, SIGN_OFF_LINES, WIDTH, clip, finite_or_empty
+from .text import WIDE, WIDTH, SheetPart, clip, finite_or_empty, paged_parts
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
            "move_text", "move_decimals"]
@@ -98,6 +98,15 @@ def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
     return out
 
 
+def _short_mark(mark: str, dz: float) -> str:
+    """A cut/fill mark in at most 9 characters for the printed table (fewer
+    decimals for a blunder of hundreds of units; check.csv keeps the value).
+    """
+    if len(mark) <= 9:
+        return mark
+    return mark[:2] + _fit(abs(dz), 7, 3)
+
+
 def status_text(r: CheckResult, k: int) -> str:
     """The shot's status, and for ``out`` (or a control shot beyond tolerance)
     which tolerance it fails: ``out (horizontal)``, ``control out (both)``.
@@ -161,26 +170,30 @@ def _fit(v: float, width: int, decimals: int) -> str:
     return f"{v:.0e}"
 
 
-def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> bytes:
+def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: bool = False) -> bytes:
     """``check.txt``: summary, what needs attention first and what to do, the
     shots within tolerance, the superseded ones, the points to set again;
-    cautions at the foot.  No line is over :data:`WIDTH` characters.
+    sign-off and cautions at the foot.  Pages of at most 60 lines with the
+    column header repeated; no line over :data:`WIDTH` characters
+    (:data:`WIDE` with ``wide``).
     """
+    width = WIDE if wide else WIDTH
     job, design = d.job, d.stakes
     unit = job.info.unit
     counts = r.counts()
     station_label = d.stationing.label
     move_dec = move_decimals(unit.is_feet, r.horizontal_tolerance)
 
-    out = [clip(f"STAKED-POINT CHECK   {job.info.name}".rstrip()),
-           clip(f"job file     {Path(job.path).name}"),
-           f"             sha256 {job.sha256}",
-           clip(f"staked file  {Path(staked_path).name}"),
+    title = f"STAKED-POINT CHECK   {job.info.name}".rstrip()
+    out = [clip(title, width),
+           clip(f"job file     {Path(job.path).name}", width),
+           f"  sha256 {job.sha256}",
+           clip(f"staked file  {Path(staked_path).name}", width),
            f"units        {unit.label}",
            f"tolerances   horizontal {r.horizontal_tolerance:.4f}   vertical "
            + (f"{r.vertical_tolerance:.4f}" if r.vertical_tolerance is not None else "not set (not checked)"),
            f"search radius for renumbered shots {r.search_radius:.4f}",
-           clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job")),
+           clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job"), width),
            "",
            f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
            ]
@@ -200,8 +213,9 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         t = _target_id(d, r, k)
         return t + "*" if r.matched_by[k] == "nearest" else t
 
-    def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> list[str]:
-        """Rows of ``ks`` with widths from their content; ``notes`` a line under a row.
+    def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> tuple[str, list[str]]:
+        """The column header and one record per shot of ``ks``, widths from
+        their content; ``notes`` lines under a shot's row, in its record.
 
         The status ends the row; where the columns leave no room for it (a
         long status beside a long station label and mark), it opens the
@@ -209,14 +223,16 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
         """
         labels = {k: station_label(r.station[k]) for k in ks}
         status = {k: status_text(r, k) for k in ks}
-        sw = max([10] + [len(s) for s in labels.values()])
-        mw = max([4] + [len(marks[k]) for k in ks]) if with_grade else 0
+        sw = max([7] + [len(s) for s in labels.values()])
+        mark = {k: "" if r.status[k] == "control" else _short_mark(marks[k], float(r.d_elevation[k])) for k in ks}
+        mw = max([4] + [len(mark[k]) for k in ks]) if with_grade else 0
         tw = max([6] + [len(s) for s in status.values()]) if with_status else 0
-        fixed = sw + 9 + 7 + 8 + 8 + 7 + 6 + (mw + 1 if with_grade else 0)
-        inline = with_status and WIDTH - (fixed + tw + 1) - 2 >= 2 * 6
+        with_dz = bool(np.isfinite(r.d_elevation[ks]).any())  # no column of blanks where no shot has a height
+        fixed = sw + 9 + 7 + 8 + 8 + 6 + (8 if with_dz else 0) + (mw + 1 if with_grade else 0)
+        inline = with_status and width - (fixed + tw + 1) - 2 >= 2 * 6
         if inline:
             fixed += tw + 1
-        room = max(6, (WIDTH - fixed - 2) // 2)
+        room = max(6, (width - fixed - 2) // 2)
         longest = max([6] + [len(shots.point[k]) for k in ks] + [len(target(k)) for k in ks])
         w = min(room, longest)
 
@@ -224,25 +240,24 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
             return p if len(p) <= w else p[: w - 1] + "~"
 
         cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>{sw}} {'offset':>9} {'horiz':>7} {'d along':>8} "
-                f"{'d across':>8} {'d elev':>7}" + (f" {'mark':<{mw}}" if with_grade else "")
+                f"{'d across':>8}" + (f" {'d elev':>7}" if with_dz else "") + (f" {'mark':<{mw}}" if with_grade else "")
                 + (f" {'status':<{tw}}" if inline else ""))
-        rule = "-" * len(cols)
-        lines = [rule, cols.rstrip(), rule]
+        records = []
         for k in ks:
-            mark = "" if r.status[k] == "control" else marks[k]
             line = (f"{ident(shots.point[k]):<{w}} {ident(target(k)):<{w}} {labels[k]:>{sw}} "
                     f"{_fit(r.offset[k], 9, 3):>9} {_fit(r.horizontal_error[k], 7, 3):>7} "
-                    f"{_fit(r.d_station[k], 8, 3):>8} {_fit(r.d_offset[k], 8, 3):>8} "
-                    f"{_fit(r.d_elevation[k], 7, 3):>7}" + (f" {mark:<{mw}}" if with_grade else "")
+                    f"{_fit(r.d_station[k], 8, 3):>8} {_fit(r.d_offset[k], 8, 3):>8}"
+                    + (f" {_fit(r.d_elevation[k], 7, 3):>7}" if with_dz else "") + (f" {mark[k]:<{mw}}" if with_grade else "")
                     + (f" {status[k]:<{tw}}" if inline else ""))
-            lines.append(line.rstrip())
+            lines = [line.rstrip()]
             note = notes.get(k, "")
             if with_status and not inline:
                 note = f"{status[k]}: {note}" if note else status[k]
             if note:
-                lines += textwrap.wrap(note, WIDTH, initial_indent="    ", subsequent_indent="      ",
+                lines += textwrap.wrap(note, width, initial_indent="    ", subsequent_indent="      ",
                                        break_long_words=True, break_on_hyphens=False)
-        return lines + [rule]
+            records.append("\n".join(lines))
+        return cols.rstrip(), records
 
     def gov(k: int) -> str:
         g = int(r.related[k])
@@ -270,51 +285,52 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult) -> byte
     fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
     superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
-        ("NEEDS ATTENTION (out of tolerance, duplicate, unmatched, control out), with what to do", attention,
-         True, notes),
+        ("NEEDS ATTENTION, with what to do (out, duplicate, unmatched, control off)", attention, True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
-        ("SUPERSEDED (shot again later in the file: the later shot governs)", superseded, False,
+        ("SUPERSEDED (shot again later in the file; the later shot governs)", superseded, False,
          {k: f"superseded by {gov(k)} ({r.status[int(r.related[k])]})" for k in superseded}),
     )
-    for title, ks, with_status, extra in sections:
-        if not ks and title.startswith("SUPERSEDED"):
+    parts: list[SheetPart] = []
+    for name, ks, with_status, extra in sections:
+        if not ks and name.startswith("SUPERSEDED"):
             continue
-        out.append(f"{title}: {len(ks)}")
+        head = [f"{name}: {len(ks)}"]
         if ks:
-            out += table(ks, with_status, extra)
-        out.append("")
-
+            cols, records = table(ks, with_status, extra)
+            parts.append(SheetPart(head, [cols], records, f"{name}, continued", new_page=False))
+        else:
+            parts.append(SheetPart(head, [], [], new_page=False))
     missing = [design.prefix + str(design.first_point + int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
     n_out = int(r.restake.size - r.not_staked.size)
-    out.append(f"design points to set again (restake.csv): {r.restake.size}   out of tolerance {n_out}   "
-               f"not staked {r.not_staked.size}")
-    out.append(f"design points not staked: {r.not_staked.size}")
+    head = [f"design points to set again (restake.csv): {r.restake.size}",
+            f"  out of tolerance {n_out}   not staked {r.not_staked.size}",
+            f"design points not staked: {r.not_staked.size}"]
+    rows: list[str] = []
     line = ""
     for pid in missing:
-        if len(line) + len(pid) + 1 > 96:
-            out.append("  " + line.rstrip())
+        if len(line) + len(pid) + 1 > width - 2:
+            rows.append("  " + line.rstrip())
             line = ""
         line += pid + " "
     if line:
-        out.append("  " + line.rstrip())
+        rows.append("  " + line.rstrip())
     if r.not_staked.size > NOT_STAKED_LISTED:
-        out.append(f"  ... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
-    out.append("")
+        rows.append(f"  ... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
+    parts.append(SheetPart(head, [], rows, "design points not staked, continued", new_page=False))
+    foot = []
     if with_grade:
-        out.append("mark: the cut or fill to write on the stake, C where the shot is above design, F below")
-    out += [
-        "move: from where the stake was shot to design, looking up-station: ahead/back along the line,",
-        "  right/left square to it, down/up for its top (ahead = design station - shot station)",
+        foot += ["mark: the cut or fill to write on the stake,",
+                 "  C where the shot is above design, F below"]
+    foot += [
+        "move: from where the stake was shot to design, looking up-station: ahead/back",
+        "  along the line, right/left square to it, down/up for its top",
+        "  (ahead = design station - shot station)",
         "status out (horizontal / vertical / both): which tolerance the shot fails",
-        "* matched by position: the shot's number is not a design point (renumbered), so it was matched",
-        "  to the nearest design or control point within the search radius",
+        "* matched by position: the shot's number is not a design point (renumbered),",
+        "  so it was matched to the nearest design or control point within the search",
+        "  radius",
         "control: a shot on a control point of the job, against the control coordinates",
-        "d along / d across: the shot's station / offset minus the design point's; d = staked - design;",
-        "northing and easting residuals are in check.csv",
-        "",
+        "d along / d across: the shot's station / offset minus the design point's;",
+        "  d = staked - design; northing and easting residuals are in check.csv",
     ]
-    out.extend(SIGN_OFF_LINES)
-    out.append("")
-    out.extend(CAUTION_LINES)
-    text = "\n".join(out) + "\n"
-    return text.encode("utf-8")
+    return paged_parts(out, parts, title, foot, width).encode("utf-8")

@@ -20,8 +20,8 @@ from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (WIDTH, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts, side_text,
-                   turn_word)
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
+                   side_text, table_lines, turn_word, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
 
@@ -56,14 +56,14 @@ def _factor_lines(d: Design, scale: ScaleInfo) -> list[str]:
     """How the combined factor was found (at one occupied point for ``auto``)."""
     unit = d.unit
     if scale.scale_factor is not None and scale.elevation_factor is not None:
-        return [f"combined factor {scale.combined_factor:.8f} = grid scale factor k {scale.scale_factor:.8f} "
-                "at the occupied point",
-                f"                x elevation factor R/(R+h) {scale.elevation_factor:.8f} "
-                f"(h {scale.height:.3f} {unit.symbol} ellipsoid height, R {scale.radius_m:.0f} m)"]
-    out = [f"combined factor {scale.combined_factor:.8f}   {scale.how}"]
+        return [f"combined factor {scale.combined_factor:.8f} = grid scale factor k x elevation factor",
+                f"  grid scale factor k {scale.scale_factor:.8f} at the occupied point",
+                f"  elevation factor R/(R+h) {scale.elevation_factor:.8f} (R {scale.radius_m:.0f} m, "
+                f"h {scale.height:.3f} {unit.symbol} ellipsoid)"]
+    out = [f"combined factor {scale.combined_factor:.8f}", f"  {scale.how}"]
     if d.crs_label is not None and scale.how == DEFAULT_FACTOR_NOTE:
-        out.append("WARNING   ground distances equal grid distances: no combined factor was given for")
-        out.append('          this CRS; set [scale] combined_factor = "auto" to use its factor')
+        out.append("WARNING   ground distances equal grid distances: no combined factor was given")
+        out.append('          for this CRS; set [scale] combined_factor = "auto" to use its factor')
     return out
 
 
@@ -81,78 +81,65 @@ def _instrument_lines(d: Design) -> list[str]:
         return []
     u = d.unit.symbol
     out = [f"instrument angle {spec.angle_sigma_arcsec:g}\" per direction   distance {spec.distance_sigma:g} {u} + "
-           f"{spec.distance_ppm:g} ppm   centring {spec.centering_sigma:g} {u}   pole {spec.pole_sigma:g} {u}",
-           "          sd along / sd across: predicted standard errors of the stake along and square to",
-           f"          the sight; r95 = {R95_FACTOR} x the larger (95 % radius)"]
+           f"{spec.distance_ppm:g} ppm",
+           f"          centring {spec.centering_sigma:g} {u}   pole {spec.pole_sigma:g} {u}",
+           "          sd along / sd across: predicted standard errors of the stake along and",
+           f"          square to the sight; r95 = {R95_FACTOR} x the larger (95 % radius)"]
     if sd.flagged is not None and sd.tolerance is not None:
-        out.append(f"          {FLAG}: r95 exceeds [check] horizontal_tolerance {sd.tolerance:g} "
-                   f"({int(sd.flagged.sum())} of {sd.flagged.size} stakes)")
+        out.append(f"          {FLAG}: r95 exceeds [check] horizontal_tolerance {sd.tolerance:g}")
+        out.append(f"          ({int(sd.flagged.sum())} of {sd.flagged.size} stakes)")
     else:
         out.append("          no [check] horizontal_tolerance in the job: no stake is flagged")
     return out
 
 
+#: What the distances and the angle of the sheet are.
+_DEFINITIONS = ["ground distance = grid distance / combined factor",
+                "angle right = clockwise from the backsight"]
 #: The mark of a stake whose predicted 95 % radius exceeds the tolerance.
 FLAG = "r95>tol"
 #: What the sheet says of a stake at the occupied point, in place of an angle.
 AT_INSTRUMENT_NOTE = "at the instrument"
 
 
-def _stake_table(d: Design) -> tuple[str, list[str]]:
-    """The stake table's column header and one row per stake (point order),
-    column widths fitted to the whole job so that every setup's table aligns.
+def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
+    """The stake table's column header lines and one record per stake (point
+    order), column widths fitted to the whole job so that every setup's table
+    aligns.  The columns a crew turns and measures come first; those that do
+    not fit ``width`` run on to a second line under their own header
+    (``None``: one line per stake).
     """
     assert d.setup is not None
     stakes, so, sdes = d.stakes, d.setup.setout, d.setup
-    unit = d.unit
-    sd = unit.station_decimals
-    points = stakes.point
-    wp = max([10] + [len(p) for p in points])
-    labels = stakes.station_label
-    ws = max([11] + [len(x) for x in labels])
-    offs = side_text(stakes.offset, sd)
-    wo = max([8] + [len(x) for x in offs])
     at = so.at_instrument
-    angles = format_azimuth_dms(so.angle_right, 0)
-    grid = fixed(so.grid_distance, 3)
-    ground = fixed(so.ground_distance, 3)
-    elev = stakes.elevation
-    el_text = fixed(elev, 3) if elev is not None else None
-    zen = format_dms(so.zenith, 0) if so.zenith is not None else None
-    slope = fixed(so.slope_distance, 3) if so.slope_distance is not None else None
+    angles = _texts(format_azimuth_dms(so.angle_right, 0))
+    cols = [Column("point", list(stakes.point), "<"),
+            Column("station", list(stakes.station_label)),
+            Column("offset", side_text(stakes.offset, d.unit.station_decimals)),
+            Column("code", list(stakes.code), "<"),
+            Column("feature", list(stakes.feature), "<"),
+            Column("ang right", ["" if at[i] else angles[i] for i in range(len(stakes))]),
+            Column("grid dist", fixed(so.grid_distance, 3)),
+            Column("grnd dist", fixed(so.ground_distance, 3))]
+    if stakes.elevation is not None:
+        cols.append(Column("design el", fixed(stakes.elevation, 3)))
+    if so.zenith is not None and so.slope_distance is not None:
+        cols.append(Column("zenith", _texts(format_dms(so.zenith, 0))))
+        cols.append(Column("slope dist", fixed(so.slope_distance, 3), with_previous=True))
     prec = sdes.precision
-    cols = (f"{'point':<{wp}} {'station':>{ws}} {'offset':>{wo}} {'code':<6} {'feature':<7} {'ang right':>10} "
-            f"{'grid dist':>10} {'grnd dist':>10}")
-    if el_text is not None:
-        cols += f" {'design el':>9}"
-    if zen is not None:
-        cols += f" {'zenith':>9} {'slope dist':>10}"
     if prec is not None:
-        cols += f" {'sd along':>8} {'sd across':>9} {'r95':>7}"
-        s_al, s_ac, r95 = fixed(prec.sigma_along, 4), fixed(prec.sigma_across, 4), fixed(prec.r95, 4)
+        cols.append(Column("sd along", fixed(prec.sigma_along, 4)))
+        cols.append(Column("sd across", fixed(prec.sigma_across, 4), with_previous=True))
+        cols.append(Column("r95", fixed(prec.r95, 4), with_previous=True))
     notes = [""] * len(stakes)
     for i in np.flatnonzero(at).tolist():
         notes[i] = AT_INSTRUMENT_NOTE
     if sdes.flagged is not None:
         for i in np.flatnonzero(sdes.flagged).tolist():
             notes[i] = f"{notes[i]}; {FLAG}" if notes[i] else FLAG
-    wn = max(len(n) for n in notes) if notes else 0
-    if wn:
-        cols += f" {'note':<{wn}}"
-    rows = []
-    for i in range(len(stakes)):
-        row = (f"{points[i]:<{wp}} {labels[i]:>{ws}} {offs[i]:>{wo}} {stakes.code[i]:<6} "
-               f"{stakes.feature[i]:<7} {'' if at[i] else angles[i]:>10} {grid[i]:>10} {ground[i]:>10}")
-        if el_text is not None:
-            row += f" {el_text[i]:>9}"
-        if zen is not None and slope is not None:
-            row += f" {zen[i]:>9} {slope[i]:>10}"
-        if prec is not None:
-            row += f" {s_al[i]:>8} {s_ac[i]:>9} {r95[i]:>7}"
-        if wn:
-            row += f" {notes[i]}"
-        rows.append(row.rstrip())
-    return cols, rows
+    if any(notes):
+        cols.append(Column("note", notes, "<"))
+    return table_lines(cols, width)
 
 
 def _stake_foot(d: Design) -> list[str]:
@@ -167,17 +154,32 @@ def _stake_foot(d: Design) -> list[str]:
     return foot + curve_lines(d)
 
 
-def setout_sheet(d: Design) -> str:
+def _texts(formatted: str | list[str]) -> list[str]:
+    """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
+    return [formatted] if isinstance(formatted, str) else formatted
+
+
+def _widths(wide: bool) -> tuple[int, int | None]:
+    """The page width and the tables' width: :data:`WIDTH` columns by default,
+    records run on to a second line where needed; ``wide``: one line per
+    record, head and foot wrapped at :data:`WIDE`.
+    """
+    return (WIDE, None) if wide else (WIDTH, WIDTH)
+
+
+def setout_sheet(d: Design, wide: bool = False) -> str:
     """Render ``setout.txt``.
 
     One setup given inline: the setup in the header, then the stakes.
     Setups from control points or several: the header and a summary of the
     setups, then one section per setup (its occupied point, backsight and
-    factor, then its stakes), each starting on a new page.
+    factor, then its stakes), each starting on a new page.  Lines of at
+    most :data:`WIDTH` characters, a stake's further columns on a second
+    line where they do not fit; ``wide``: one line per stake.
     """
     assert d.setup is not None
     if d.setup.listed:
-        return _sectioned_sheet(d)
+        return _sectioned_sheet(d, wide)
     job = d.job
     setup, o, scale = d.setup.setup, d.setup.occupations[0], d.setup.scale
     title = "SETOUT SHEET"
@@ -185,44 +187,40 @@ def setout_sheet(d: Design) -> str:
     head += _point_lines(o, setup, scale)
     head += _factor_lines(d, scale)
     head += _convergence_lines(setup, scale)
-    head.append("ground distance = grid distance / combined factor; angle right = clockwise from the backsight")
+    head += _DEFINITIONS
     if setup.target_height is not None:
         head.append(f"target height {setup.target_height:.3f}")
     head += _instrument_lines(d)
-    cols, rows = _stake_table(d)
-    return paged(head, [cols], rows, f"{title}   {job.info.name}", _stake_foot(d), width=max(WIDTH, len(cols)))
+    page, table = _widths(wide)
+    cols, rows = _stake_table(d, table)
+    return paged(head, cols, rows, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-def _summary(d: Design) -> SheetPart:
-    """The setup summary: one row per setup."""
+def _summary(d: Design, width: int, table: int | None) -> SheetPart:
+    """The setup summary: one record per setup."""
     assert d.setup is not None
     sdes = d.setup
     occs = sdes.occupations
     lab = d.stationing.label
-    wo = max([8] + [len(o.occupied.id) for o in occs])
-    wb = max([9] + [len(o.backsight.id) for o in occs if o.backsight is not None])
-    cols = (f"{'setup':>5} {'occupied':<{wo}} {'backsight':<{wb}} {'bs azimuth':>12} {'bs dist':>10} "
-            f"{'stakes':>6} {'farthest':>9} {'from station':>12} {'to station':>12}")
+    dists = [o.backsight_distance for o in occs]
+    cols = [Column("setup", [str(o.number) for o in occs], "<"),
+            Column("occupied", [o.occupied.id for o in occs], "<"),
+            Column("backsight", [o.backsight.id if o.backsight else "(azimuth)" for o in occs], "<"),
+            Column("bs azimuth", [str(format_azimuth_dms(o.backsight_azimuth, 1)) for o in occs]),
+            Column("bs dist", ["" if x is None else f"{x:.3f}" for x in dists]),
+            Column("stakes", [str(o.stake_count) for o in occs]),
+            Column("farthest", [f"{o.farthest_sight:.3f}" for o in occs]),
+            Column("from sta", [lab(o.first_station) for o in occs]),
+            Column("to sta", [lab(o.last_station) for o in occs], with_previous=True)]
     prec = sdes.precision
-    worst = np.zeros(len(occs))
-    flagged = np.zeros(len(occs), dtype=np.int64)
     if prec is not None:
-        cols += f" {'max r95':>8}"
+        worst = np.zeros(len(occs))
         np.maximum.at(worst, sdes.setup_index, prec.r95)
+        cols.append(Column("max r95", fixed(worst, 4)))
         if sdes.flagged is not None:
-            cols += f" {'flagged':>7}"
             flagged = np.bincount(sdes.setup_index, weights=sdes.flagged, minlength=len(occs)).astype(np.int64)
-    rows = []
-    for k, o in enumerate(occs):
-        dist = o.backsight_distance
-        row = (f"{o.number:>5} {o.occupied.id:<{wo}} {o.backsight.id if o.backsight else '(azimuth)':<{wb}} "
-               f"{format_azimuth_dms(o.backsight_azimuth, 1):>12} {'' if dist is None else f'{dist:.3f}':>10} "
-               f"{o.stake_count:>6} {o.farthest_sight:>9.3f} {lab(o.first_station):>12} {lab(o.last_station):>12}")
-        if prec is not None:
-            row += f" {worst[k]:>8.4f}"
-            if sdes.flagged is not None:
-                row += f" {int(flagged[k]):>7}"
-        rows.append(row.rstrip())
+            cols.append(Column("flagged", [str(int(f)) for f in flagged], with_previous=True))
+    heads, rows = table_lines(cols, table)
     setup = sdes.setup
     if setup.auto:
         how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
@@ -234,12 +232,13 @@ def _summary(d: Design) -> SheetPart:
         how = "as listed in the job file ([[setup.station]]), each stake on the nearest setup"
     else:
         how = "as given in the job file"
-    head = ["", f"SETUPS: {len(occs)}"] + [f"  {line}" for line in textwrap.wrap(how, WIDTH - 2)]
-    head.append("  bs = backsight (grid azimuth and distance); farthest = longest sight to a stake")
-    return SheetPart(head, [cols], rows, "setups, continued")
+    head = ["", f"SETUPS: {len(occs)}"] + [f"  {line}" for line in textwrap.wrap(how, width - 2)]
+    head.append("  bs = backsight (grid azimuth and distance)")
+    head.append("  farthest = longest sight to a stake")
+    return SheetPart(head, heads, rows, "setups, continued")
 
 
-def _sectioned_sheet(d: Design) -> str:
+def _sectioned_sheet(d: Design, wide: bool) -> str:
     """``setout.txt`` with a setup summary and one section per setup."""
     assert d.setup is not None
     job, sdes = d.job, d.setup
@@ -249,12 +248,11 @@ def _sectioned_sheet(d: Design) -> str:
     first = sdes.occupations[0].scale
     auto_factor = first.scale_factor is not None and first.elevation_factor is not None
     if auto_factor:
-        head.append("combined factor at each occupied point = grid scale factor k there x elevation factor "
-                    "R/(R+h)")
-        head.append(f"                (h {first.height:.3f} {d.unit.symbol} ellipsoid height); see each setup")
+        head.append("combined factor at each occupied point = grid scale factor k there")
+        head.append(f"  x elevation factor R/(R+h), h {first.height:.3f} {d.unit.symbol} (ellipsoid); see each setup")
     else:
         head += _factor_lines(d, first)
-    head.append("ground distance = grid distance / combined factor; angle right = clockwise from the backsight")
+    head += _DEFINITIONS
     heights = []
     if setup.instrument_height is not None:
         heights.append(f"instrument height {setup.instrument_height:.3f}")
@@ -263,8 +261,9 @@ def _sectioned_sheet(d: Design) -> str:
     if heights:
         head.append("   ".join(heights) + " (every setup)")
     head += _instrument_lines(d)
-    cols, rows = _stake_table(d)
-    parts = [_summary(d)]
+    page, table = _widths(wide)
+    cols, rows = _stake_table(d, table)
+    parts = [_summary(d, page, table)]
     n = len(sdes.occupations)
     lab = d.stationing.label
     for o, idx in zip(sdes.occupations, sdes.groups()):
@@ -274,17 +273,17 @@ def _sectioned_sheet(d: Design) -> str:
             sh += _factor_lines(d, o.scale)
         sh += _convergence_lines(setup, o.scale)
         if o.stake_count:
-            line = (f"{o.stake_count} stake{'s' if o.stake_count != 1 else ''}, farthest sight "
-                    f"{o.farthest_sight:.3f}, stations {lab(o.first_station)} to {lab(o.last_station)}")
+            sh.append(f"{o.stake_count} stake{'s' if o.stake_count != 1 else ''}, stations {lab(o.first_station)} "
+                      f"to {lab(o.last_station)}")
+            line = f"farthest sight {o.farthest_sight:.3f}"
         else:
             line = "no stakes"
         if sdes.flagged is not None:
             line += f"; {int(sdes.flagged[idx].sum())} flagged {FLAG}"
         sh.append(line)
-        parts.append(SheetPart(sh, [cols], [rows[i] for i in idx.tolist()] or ["(no stakes)"],
+        parts.append(SheetPart(sh, cols, [rows[i] for i in idx.tolist()] or ["(no stakes)"],
                                f"setup {o.number} of {n} (occupied {o.occupied.id}), continued"))
-    width = max([WIDTH, len(cols)] + [len(c) for c in parts[0].columns])
-    return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=width)
+    return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
 DeflectionRow = tuple[float, float, float, float, float]
@@ -337,7 +336,7 @@ def _reading(defl: float, turn: int) -> str:
     """The circle reading for a left deflection (360 - d), blank for a right one."""
     if turn >= 0 or defl == 0.0:
         return ""
-    return f" {format_dms(360.0 - defl, 0):>9}"
+    return str(format_dms(360.0 - defl, 0))
 
 
 def _side(o: float) -> str:
@@ -366,48 +365,76 @@ def _offset_length(el: Element, s: np.ndarray, o: float) -> np.ndarray:
     return s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
 
 
-def deflection_sheet(d: Design) -> str:
-    """Render ``deflections.txt``: deflection angles and chords from the curve points."""
+def deflection_sheet(d: Design, wide: bool = False) -> str:
+    """Render ``deflections.txt``: deflection angles and chords from the curve points.
+
+    Each curve element opens with a line of its data, kept on the page of
+    its first row; lines of at most :data:`WIDTH` characters (``wide``:
+    :data:`WIDE`).
+    """
     job, alignment, lab = d.job, d.alignment, d.stationing.label
+    page, table = _widths(wide)
     title = "CURVE DEFLECTIONS"
     head = header_lines(title, d)
-    head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent (zero on the PI")
-    head.append("or the back tangent), turn the deflection toward the curve and tape the chord.")
-    cols = f"{'station':>11} {'arc from start':>15} {'deflection':>12} {'chord from start':>17} " \
-           f"{'chord from prev':>16} {'reading':>9}"
-    rows: list[str] = []
+    head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent")
+    head.append("(zero on the PI or the back tangent), turn the deflection toward the curve")
+    head.append("and tape the chord.")
     offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0]
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     spirals = False
-    for curve_no, i, data in deflection_rows(alignment, d.stakes.stations):
+    # the sheet in order: a title (str) opens each element and offset line, then its data rows
+    items: list[str | tuple[str, float, float, float, float, str]] = []
+
+    def data(rows: list[DeflectionRow], turn: int) -> None:
+        items.extend((lab(st), along, defl, chord, inc, _reading(defl, turn)) for st, along, defl, chord, inc in rows)
+
+    for curve_no, i, rows in deflection_rows(alignment, d.stakes.stations):
         el = alignment.elements[i]
         start_name = kp.get(round(el.start, 6), "")
         if isinstance(el, Spiral):
             spirals = True
             r0, r1 = end_radii(el)
-            rows.append(f"curve {curve_no}, spiral from {start_name} {lab(el.start)}: L {el.length:.4f}, "
-                        f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+            items.append(f"curve {curve_no}, spiral from {start_name} {lab(el.start)}: L {el.length:.4f}, "
+                         f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
         else:
             assert isinstance(el, Arc)
-            rows.append(f"curve {curve_no}, arc from {start_name} {lab(el.start)}: "
-                        f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
-        for st, arc, defl, chord, inc in data:
-            rows.append(f"{lab(st):>11} {arc:15.4f} {format_dms(defl, 0):>12} "
-                        f"{chord:17.4f} {inc:16.4f}{_reading(defl, el.turn)}")
-        stations = np.array([row[0] for row in data])
+            items.append(f"curve {curve_no}, arc from {start_name} {lab(el.start)}: "
+                         f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
+        data(rows, el.turn)
+        stations = np.array([row[0] for row in rows])
         for o, code in offsets:  # the offset line from its own start point, along its own start tangent
-            rows.append(f"  offset line {code} {_side(o)}: from its point opposite {start_name} {lab(el.start)}")
-            for st, along, defl, chord, inc in _offset_rows(alignment, el, stations, o):
-                rows.append(f"{lab(st):>11} {along:15.4f} {format_dms(defl, 0):>12} "
-                            f"{chord:17.4f} {inc:16.4f}{_reading(defl, el.turn)}")
-    if not rows:
-        rows.append("(the alignment has no curves)")
-    foot = ["deflection = arc length / 2R from the tangent at the arc's start; chord = 2R sin(s / 2R);",
-            "reading: the horizontal circle reading for a left deflection (360 - d) with zero on the tangent;",
-            "offset lines: the same from the offset point opposite the curve point, the length along the offset"]
+            items.append(f"  offset line {code} {_side(o)}: from its point opposite {start_name} {lab(el.start)}")
+            data(_offset_rows(alignment, el, stations, o), el.turn)
+    values = [x for x in items if not isinstance(x, str)]
+    cols = [Column("station", [v[0] for v in values]),
+            Column("length", fixed([v[1] for v in values], 4)),
+            Column("deflection", [str(format_dms(v[2], 0)) for v in values]),
+            Column("chord", fixed([v[3] for v in values], 4)),
+            Column("sub-chord", fixed([v[4] for v in values], 4)),
+            Column("reading", [v[5] for v in values])]
+    heads, records = table_lines(cols, table)
+    out: list[str] = []
+    pending: list[str] = []  # title lines waiting for their first data row
+    k = 0
+    for x in items:
+        if isinstance(x, str):
+            pending += wrap_lines([x], page)
+        else:
+            out.append("\n".join(pending + [records[k]]))
+            pending = []
+            k += 1
+    if not out:
+        out.append("(the alignment has no curves)")
+    foot = ["length: along the curve from its start; chord: from the start;",
+            "sub-chord: from the row above",
+            "arcs: deflection = s / 2R from the tangent at the start; chord = 2R sin(s / 2R)",
+            "reading: the horizontal circle reading for a left deflection (360 - d),",
+            "zero on the tangent",
+            "offset lines: the same from the offset point opposite the curve point;",
+            "length along the offset line"]
     if spirals:
-        foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent; deflection =")
-        foot.append("atan(y / x) and chord = hypot(x, y) from the point's position (x, y) on the clothoid")
+        foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent;")
+        foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)
-    return paged(head, [cols], rows, f"{title}   {job.info.name}", foot)
+    return paged(head, heads, out, f"{title}   {job.info.name}", foot, width=page)

@@ -23,7 +23,7 @@ from ..stations import Stationing
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "SheetPart", "spiral_line", "end_radii",
+    "paged", "paged_parts", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -40,8 +40,11 @@ SIGN_OFF_LINES = (
     "Checked by  ______________________________   date ______________",
 )
 
-#: Widest line of a printed sheet (characters).
-WIDTH = 100
+#: Widest line of a printed sheet by default (characters): fits A4 and US Letter portrait at 10 pitch.
+WIDTH = 80
+#: Widest line of a sheet printed with ``--wide`` (landscape, or a wide carriage at 10 pitch); its
+#: tables keep one line per record even where that is wider.
+WIDE = 132
 #: Lines on one printed page at most (a common printer default fits 60 to 66).
 PAGE_LINES = 60
 
@@ -124,11 +127,11 @@ def header_lines(title: str, d: Design) -> list[str]:
     out = [
         clip(f"{title}   {job.info.name}".rstrip()),
         clip(f"job file  {Path(job.path).name}"),
-        f"          sha256 {job.sha256}",
+        f"  sha256 {job.sha256}",
     ]
     for f in job.design_files:
         out.append(clip(f"{f.role} from {Path(f.path).name}"))
-        out.append(f"          sha256 {f.sha256}")
+        out.append(f"  sha256 {f.sha256}")
     out += [
         clip(f"alignment {d.alignment.name}   units {job.info.unit.label}"),
         clip(f"CRS       {d.crs_label or 'none: local grid'}"),
@@ -230,27 +233,120 @@ def curve_lines(d: Design) -> list[str]:
         for k, (arc, a0, a1) in enumerate(ct.arcs, start=1):
             p = arc.props
             assert p is not None
-            out.append(f"    arc {k}  {a0} to {a1}  R {p.radius:.4f}  "
-                       f"delta {format_dms(p.delta, 1)}  L {p.length:.4f}  chord {p.chord:.4f}")
+            out.append(f"    arc {k}  {a0} to {a1}  R {p.radius:.4f}")
+            out.append(f"           delta {format_dms(p.delta, 1)}  L {p.length:.4f}  chord {p.chord:.4f}")
         for k, (sp, a0, a1) in enumerate(ct.spirals, start=1):
-            out.append(f"    spiral {k}  {spiral_line(sp, a0, a1)}")
+            r0, r1 = end_radii(sp)
+            out.append(f"    spiral {k}  {a0} to {a1}  L {sp.length:.4f}")
+            out.append(f"              R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}")
         if ct.external is not None:
             out.append(f"    external (PI to the curve)  {ct.external:.4f}")
     return out
+
+
+# ---- tables ----------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Column:
+    """One column of a printed table: its header, its values as text, and
+    its alignment (``"<"`` left, ``">"`` right).  It is as wide as its
+    widest entry.
+    """
+
+    header: str
+    values: list[str]
+    align: str = ">"
+    with_previous: bool = False  # printed on the same line as the column before it (a group)
+
+    @property
+    def width(self) -> int:
+        """Characters the column needs: its header or its widest value."""
+        return max([len(self.header)] + [len(v) for v in self.values])
+
+    def cell(self, text: str) -> str:
+        """``text`` padded to the column's width."""
+        return f"{text:{self.align}{self.width}}"
+
+
+def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
+    """Columns packed in order onto lines of at most ``width`` characters.
+
+    The first line starts at the margin; every further line starts under
+    the second column, so that a record's first column alone marks where
+    it starts.  A group (columns marked ``with_previous``) stays on one
+    line; each line takes at least one group.  ``None``: one line.
+    """
+    if width is None or not columns:
+        return [columns]
+    groups: list[list[Column]] = []
+    for c in columns:
+        if c.with_previous and groups:
+            groups[-1].append(c)
+        else:
+            groups.append([c])
+    indent = columns[0].width + 1
+    lines: list[list[Column]] = [[]]
+    used = -1
+    for g in groups:
+        need = sum(c.width + 1 for c in g)
+        if lines[-1] and used + need > width:
+            lines.append([])
+            used = indent - 1
+        lines[-1].extend(g)
+        used += need
+    return lines
+
+
+def table_lines(columns: list[Column], width: int | None = WIDTH) -> tuple[list[str], list[str]]:
+    """A table's header lines and its records, no line over ``width`` characters.
+
+    The columns keep their order.  Those that fit on one line of ``width``
+    characters make the record's first line; the rest run on to further
+    lines, indented under the second column, each with its own header line
+    (``None``: one line per record, however wide).
+
+    Returns
+    -------
+    (header lines, records)
+        One record per row of the columns; a record of several lines is
+        one string with ``\n`` between them (:func:`paged_parts` keeps it
+        on one page).
+    """
+    lines = _pack(columns, width)
+    if not columns:
+        return [], []
+    indent = " " * (columns[0].width + 1)
+    n = len(columns[0].values)
+
+    def render(k: int, cells: list[str]) -> str:
+        return ((indent if k else "") + " ".join(cells)).rstrip()
+
+    heads = [render(k, [c.cell(c.header) for c in cols]) for k, cols in enumerate(lines)]
+    records = ["\n".join(render(k, [c.cell(c.values[i]) for c in cols]) for k, cols in enumerate(lines)).rstrip()
+               for i in range(n)]
+    return heads, records
+
+
+def row_lines(row: str) -> list[str]:
+    """The printed lines of one record (see :func:`table_lines`)."""
+    return row.split("\n")
 
 
 # ---- pages -------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class SheetPart:
     """One part of a printed sheet: the lines above its table, the table's
-    column header and rows, and the line that opens its continuation pages.
-    Every part after the first starts on a new page.
+    column header and records, and the line that opens its continuation
+    pages.  A part starts on a new page unless ``new_page`` is False and the
+    page in hand has room for its head, its column header and a few records.
+    A record may hold several lines (``\n`` between them); it is never
+    split across pages.
     """
 
     head: list[str]
     columns: list[str]
     rows: list[str]
     continued: str = ""
+    new_page: bool = True
 
 
 def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot: list[str],
@@ -263,42 +359,67 @@ def paged(head: list[str], columns: list[str], rows: list[str], title: str, foot
     return paged_parts(head, [SheetPart([], columns, rows)], title, foot, width)
 
 
+#: Records a part opened on a page in hand must have room for (else it starts a new page).
+_MIN_RECORDS = 3
+
+
 def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> str:
-    """A printable sheet of several tables (:class:`SheetPart`), each starting on a new page.
+    """A printable sheet of several tables (:class:`SheetPart`).
 
     The first page opens with ``head`` and the first part's head; every
-    later part opens a page with its own head; a part's rows run on over
-    pages opened by its ``continued`` line, the column header repeated on
-    each.  No page holds more than :data:`PAGE_LINES` lines; pages are
-    numbered through the whole sheet and split by a form feed; the foot and
-    the cautions close it (on a page of their own when the last is full).
-    The tables are as wide as their data; header and foot lines wider than
-    that (or than ``width``) are wrapped, the page titles cut.
+    later part opens a page with its own head (or follows on the page in
+    hand, see :class:`SheetPart`); a part's records run on over pages opened
+    by its ``continued`` line, the column header repeated on each.  No page
+    holds more than :data:`PAGE_LINES` lines and no record is split; pages
+    are numbered through the whole sheet and split by a form feed; the foot
+    and the cautions close it (on a page of their own when the last is
+    full).  Head and foot lines wider than ``width`` (or the widest table
+    line, where wider) are wrapped, the page titles cut.
     """
-    width = max(width, *(len(c) for p in parts for c in p.columns), *(len(r) for p in parts for r in p.rows))
+    table = [len(line) for p in parts for line in p.columns] + \
+        [len(line) for p in parts for r in p.rows for line in row_lines(r)]
+    width = max([width] + table)
     head = wrap_lines(head, width)
     closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
     pages: list[list[str]] = []
     for k, part in enumerate(parts):
-        rule = "-" * max(len(c) for c in part.columns)
         columns = [c.rstrip() for c in part.columns]
-        rows = part.rows
+        rules = ["-" * max(len(c) for c in columns)] if columns else []  # a part of plain lines has no rules
+        part_head = wrap_lines(part.head, width)
+        records = [row_lines(r) for r in part.rows]
         first = True
-        while first or rows:
+        while first or records:
             if k == 0 and first:
-                opening = head + wrap_lines(part.head, width) + ["page {page} of {pages}"]
+                opening = head + ["page {page} of {pages}"] + part_head
+            elif first and not part.new_page and pages:
+                opening = [""] + part_head
+                need = len(opening) + len(columns) + 3 * len(rules) + sum(len(r) for r in records[:_MIN_RECORDS])
+                if len(pages[-1]) + need > PAGE_LINES:
+                    opening = ["{title}", ""] + part_head
             elif first:
-                opening = ["{title}", ""] + wrap_lines(part.head, width)
+                opening = ["{title}", ""] + part_head
             else:
                 opening = ["{title}", part.continued]
-            room = max(5, PAGE_LINES - len(opening) - len(columns) - 3)
-            pages.append(opening + [rule] + columns + [rule] + rows[:room] + [rule])
-            rows = rows[room:]
+            on_new_page = opening[0] == "{title}" or not pages or (k == 0 and first)
+            page = opening + rules + columns + rules
+            used = (0 if on_new_page else len(pages[-1])) + len(page) + len(rules)
+            taken = 0
+            while taken < len(records) and (used + len(records[taken]) <= PAGE_LINES or taken == 0):
+                used += len(records[taken])
+                page.extend(records[taken])
+                taken += 1
+            page.extend(rules)
+            if on_new_page:
+                pages.append(page)
+            else:
+                pages[-1].extend(page)
+            records = records[taken:]
             first = False
-    if len(pages[-1]) + len(closing) > PAGE_LINES:
-        pages.append(["{title}"] + closing)
-    else:
+    if len(pages[-1]) + len(closing) <= PAGE_LINES:
         pages[-1].extend(closing)
+    else:  # on pages of their own (a foot longer than a page runs on)
+        for i in range(0, len(closing), PAGE_LINES - 1):
+            pages.append(["{title}"] + closing[i:i + PAGE_LINES - 1])
     total = len(pages)
     out: list[str] = []
     for n, lines in enumerate(pages, start=1):
