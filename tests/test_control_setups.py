@@ -146,7 +146,7 @@ def _sheet_sections(text):
             continue
         if line.startswith("CURVE DATA"):
             break
-        if in_summary and re.match(r"\s+\d+ +\S+ +\S+ +\d+-\d\d-\d\d", line):
+        if in_summary and re.match(r"\s*\d+ +\S+ +\S+ +\d+-\d\d-\d\d", line):
             summary.append(line.split())
         elif current is not None and re.match(r"\d+ +\d+\+\d{3}\.\d{3} ", line):
             sections[current].append(line.split()[0])
