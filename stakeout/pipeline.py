@@ -85,7 +85,6 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         Notes for the user (what was written, what was skipped and why).
     """
     from .writers.folder import OutputFolder
-    from .writers.manifest import manifest_json
 
     job = load_job(job_path)
     chosen = parse_only(only)
@@ -130,6 +129,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             written[o.filename] = data
             progress.step(o.filename)
         if any(o.name == "manifest" for o in outputs):
+            from .writers.manifest import manifest_json  # importlib.metadata: only when a manifest is asked for
+
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")

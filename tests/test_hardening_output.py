@@ -294,3 +294,39 @@ def test_second_signal_during_cleanup_still_cleans(tmp_path, monkeypatch):
     monkeypatch.undo()
     assert r.exit_code == 130 and "nothing was written" in r.output
     assert list(tmp_path.iterdir()) == []
+
+
+# ---- files are written in the background while the next output renders ------------------------------
+def test_failed_background_write_leaves_nothing(tmp_path, monkeypatch):
+    # the disk fills while a file is flushed (ENOSPC from fsync, as POSIX allows): the build stops with
+    # exit 2 and a one-line error naming the file, and neither the target nor a temporary folder remains
+    def full(fd):
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+
+    monkeypatch.setattr(folder_mod.os, "fsync", full)
+    r = _build(JOB, tmp_path / "out")
+    assert r.exit_code == 2, r.output
+    assert "cannot write points.csv" in r.output and os.strerror(errno.ENOSPC) in r.output
+    assert "Traceback" not in r.output
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_every_background_write_lands_before_the_commit(tmp_path, monkeypatch):
+    # a slow disk: each file takes a while to flush; the committed folder still holds every file whole
+    import time
+
+    real = os.fsync
+
+    def slow(fd):
+        time.sleep(0.2)
+        real(fd)
+
+    monkeypatch.setattr(folder_mod.os, "fsync", slow)
+    out = tmp_path / "out"
+    assert _build(JOB, out).exit_code == 0
+    ref = tmp_path / "ref"
+    monkeypatch.setattr(folder_mod.os, "fsync", real)
+    assert _build(JOB, ref).exit_code == 0
+    assert sorted(p.name for p in out.iterdir()) == sorted(p.name for p in ref.iterdir()) == ["points.csv", "stations.csv"]
+    for name in ("points.csv", "stations.csv"):
+        assert (out / name).read_bytes() == (ref / name).read_bytes()

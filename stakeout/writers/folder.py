@@ -44,6 +44,7 @@ import signal
 import tempfile
 import threading
 from collections.abc import Iterator
+from concurrent.futures import Future, ThreadPoolExecutor
 from contextlib import contextmanager
 from pathlib import Path
 from types import TracebackType
@@ -193,6 +194,8 @@ class OutputFolder:
         self.option = option
         self.tmp: Path | None = None
         self.removed_remains: list[Path] = []
+        self._writer: ThreadPoolExecutor | None = None  # writes files while the next output renders
+        self._pending: list[Future[None]] = []
         self._check_protected(protect)
         self._check_target()
         self._existed = self.target.exists()
@@ -292,6 +295,9 @@ class OutputFolder:
 
     def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
                  tb: TracebackType | None) -> None:
+        if self._writer is not None:  # no write may land in the folder after it is removed
+            self._writer.shutdown(wait=True, cancel_futures=True)
+            self._writer = None
         self._discard()
 
     def path(self, name: str) -> Path:
@@ -300,7 +306,26 @@ class OutputFolder:
         return self.tmp / name
 
     def write_bytes(self, name: str, data: bytes) -> None:
-        """Write one complete file into the temporary folder."""
+        """Write one complete file into the temporary folder.
+
+        The file is written and flushed to disk by a background thread while
+        the caller renders the next output; :meth:`commit` waits for every
+        write and raises the first failure (:class:`OutputError`), as does
+        the next call here.
+        """
+        self._raise_failed()
+        if self._writer is None:
+            self._writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="stakeout-write")
+        self._pending.append(self._writer.submit(self._write_now, name, data))
+
+    def _raise_failed(self, wait: bool = False) -> None:
+        """Raise the error of a finished write (``wait``: wait for them all first)."""
+        for f in list(self._pending):
+            if wait or f.done():
+                self._pending.remove(f)
+                f.result()
+
+    def _write_now(self, name: str, data: bytes) -> None:
         try:
             with open(self.path(name), "wb") as fh:
                 fh.write(data)
@@ -324,6 +349,7 @@ class OutputFolder:
             folder was being deleted).
         """
         assert self.tmp is not None
+        self._raise_failed(wait=True)
         tmp, t = self.tmp, self.target
         try:
             t.parent.mkdir(parents=True, exist_ok=True)

@@ -23,28 +23,51 @@ _POW10 = 10 ** np.arange(19, dtype=np.int64)
 _LIMIT = 10**17  # largest scaled value handled exactly
 
 
-_PAIRS = np.array([[48 + i // 10, 48 + i % 10] for i in range(100)], dtype=np.uint8).view(np.uint16).ravel()
+def _quad_tables() -> NDArray[np.uint32]:
+    """The digits of 0..9999 as four ASCII bytes in one uint32 each (bytes in memory
+    order), in five tables: row ``k`` (0-3) blanks (NUL) the leading zeros of a
+    number's top four digits but keeps at least its last ``k`` digits; row 4
+    keeps all four (the digits below a number's top four).
+    """
+    i = np.arange(10000)
+    digits = np.stack([48 + i // 1000, 48 + i // 100 % 10, 48 + i // 10 % 10, 48 + i % 10], axis=1).astype(np.uint8)
+    length = np.searchsorted(10 ** np.arange(5), i, side="right")  # digits of i (0 for 0)
+    out = np.empty((5, 10000, 4), dtype=np.uint8)
+    for k in range(5):
+        keep = np.arange(4)[None, :] >= 4 - np.maximum(length, k)[:, None]
+        out[k] = digits * keep
+    return out.view(np.uint32)[..., 0]
+
+
+_QUADS = _quad_tables()
 
 
 def _digits(v: NDArray[np.int64], min_len: int, zero_pad: bool) -> Field:
-    """Decimal digits of non-negative integers, right-aligned, NUL-padded on the left."""
+    """Decimal digits of non-negative integers, right-aligned, NUL-padded on the left
+    (``zero_pad``: zeros instead), at least ``min_len`` digits.
+
+    Four digits per vectorised step, each group looked up in a table: the
+    group holding a number's leading digit (nothing above it) comes from a
+    table with its leading zeros blank, the groups below from the full one.
+    """
     n = v.size
     vmax = int(v.max()) if n else 0
     if vmax >= _LIMIT:
         raise ValueError(f"number too large to format: {vmax}")
     width = max(min_len, len(str(vmax)))
-    pairs = (width + 1) // 2
-    out = np.empty((pairs, n), dtype=np.uint16)
-    w = v.copy()
-    for j in range(pairs - 1, -1, -1):  # two digits per vectorised step
-        q = w // 100
-        out[j] = _PAIRS[w - q * 100]
+    quads = (width + 3) // 4
+    out = np.empty((n, quads), dtype=np.uint32)
+    w = v
+    for j in range(quads - 1, -1, -1):
+        q = w // 10000
+        r = w - q * 10000
+        if zero_pad:
+            np.take(_QUADS[4], r, out=out[:, j])
+        else:  # table 4 where digits remain above, else the one keeping the digits min_len asks for here
+            k = min(4, max(0, min_len - 4 * (quads - 1 - j)))
+            np.take(_QUADS.ravel(), r + np.where(q > 0, 4 * 10000, k * 10000), out=out[:, j])
         w = q
-    d = np.ascontiguousarray(out.T).view(np.uint8)[:, 2 * pairs - width:]
-    if not zero_pad:
-        length = np.maximum(np.searchsorted(_POW10, v, side="right"), min_len)
-        d = d * (np.arange(width)[None, :] >= (width - length)[:, None])
-    return d.astype(np.uint8, copy=False)
+    return out.view(np.uint8)[:, 4 * quads - width:]
 
 
 def fixed(values: ArrayLike, decimals: int) -> Field:
@@ -108,13 +131,25 @@ def tile_rows(f: Field, k: int) -> Field:
 
 
 def join_rows(fields: Sequence[Field], n: int) -> bytes:
-    """Lay fields side by side, end rows with ``\\n`` and drop the padding."""
+    """Lay fields side by side, end rows with ``\\n`` and drop the padding.
+
+    The rows are one structured array, a fixed-size byte field per column:
+    each column is copied in one pass (a field of the same text on every
+    row is filled), and ``bytes.translate`` drops the NUL padding.
+    """
     if n == 0:
         return b""
-    cols = [np.broadcast_to(f, (n, f.shape[1])) for f in fields if f.shape[1]]
-    cols.append(const("\n", n))
-    m = np.hstack(cols).ravel()
-    return np.compress(m != 0, m).tobytes()
+    cols = [f for f in fields if f.shape[1]]
+    names = [f"c{i}" for i in range(len(cols))]
+    layout = np.dtype({"names": names + ["end"], "formats": [f"V{f.shape[1]}" for f in cols] + ["V1"]})
+    out = np.empty(n, dtype=layout)
+    for name, f in zip(names, cols):
+        if f.strides[0] == 0:  # the same text on every row (a separator, a prefix)
+            out[name] = np.void(f[0].tobytes())
+        else:
+            out[name] = np.ascontiguousarray(np.broadcast_to(f, (n, f.shape[1]))).view(f"V{f.shape[1]}")[:, 0]
+    out["end"] = np.void(b"\n")
+    return out.tobytes().translate(None, b"\0")
 
 
 def dms(degrees: ArrayLike, decimals: int = 1, wrap360: bool = True) -> Field:
