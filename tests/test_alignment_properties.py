@@ -18,6 +18,7 @@ from stakeout.alignment import (
     PIListSpec,
     PISpec,
     SinglePISpec,
+    Spiral,
     build_alignment,
     compound_tangents,
 )
@@ -222,7 +223,7 @@ def test_grid_inverse_matches_brute_force():
     n = np.concatenate([n, [0.0, 9e6]])
     e = np.concatenate([e, [0.0, 9e6]])
     got = np.stack(a.locate(n, e))
-    ref = a._locate_sel(n, e, np.arange(len(a.elements)))
+    ref = a._locate_all(n, e)
     assert np.allclose(got[2], ref[2], atol=1e-9)
     same = np.abs(got[2] - ref[2]) < 1e-9
     assert np.allclose(got[0][same], ref[0][same], atol=1e-6)
@@ -251,3 +252,32 @@ def test_single_pi_curve_properties(back, defl, turn, radii, data):
     assert last.end_easting == pytest.approx(2e6 + c.tangents.ahead * math.sin(az), abs=1e-6)
     assert c.delta == pytest.approx(defl, abs=1e-9)
     assert {a.elements[i].turn for i in c.elements} == {turn}
+
+
+def test_grid_inverse_with_spirals_matches_shapely():
+    # Reference: shapely's distance to the centreline densified every 0.05 (the chord error of that
+    # spacing on these radii is below 1e-6). The inverse on an alignment of tangents, clothoids and
+    # arcs skips candidate pairs by their middle-point bounds and a grid of a quarter of the mean
+    # element length: neither may change the nearest distance, for shots near and far.
+    pis = [PISpec(0.0, 0.0, where="pob")]
+    n = e = 0.0
+    for i in range(1, 7):
+        n += 900.0
+        e += 450.0 if i % 2 else -450.0
+        pis.append(PISpec(n, e, (600.0 if i % 3 else 250.0,), (None,), f"pi{i}", (90.0, 60.0 + 10 * i)))
+    pis[-1] = PISpec(n, e, where="poe")
+    a = build_alignment(PIListSpec("SP", 0.0, tuple(pis)))
+    assert any(isinstance(el, Spiral) for el in a.elements) and len(a.elements) > 8  # the grid is used
+    s = np.linspace(a.start_station, a.end_station, int(a.length / 0.05) + 1)
+    cn, ce, _ = a.evaluate(s, 0.0)
+    line = LineString(np.column_stack([ce, cn]))
+    rng = np.random.default_rng(5)
+    st_ = rng.uniform(a.start_station + 1, a.end_station - 1, 3000)
+    off = np.concatenate([rng.uniform(-15, 15, 2000), rng.uniform(-900, 900, 1000)])
+    pn, pe, _ = a.evaluate(st_, off, miter=False)
+    got = a.locate(pn, pe)
+    want = shapely.distance(shapely.points(pe, pn), line)
+    assert np.max(np.abs(got.distance - want)) < 1e-5
+    assert np.max(np.abs(np.abs(got.offset) - want)) < 1e-5  # inside the ends: offset is the distance, signed
+    near = np.abs(off) <= 15
+    assert np.allclose(got.station[near], st_[near], atol=1e-6)

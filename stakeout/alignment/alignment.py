@@ -254,26 +254,15 @@ class Alignment:
             uniq, inv = np.unique(keys, return_inverse=True)
             set_of_cell = np.array([grid.cell_set.get(k, -1) for k in uniq.tolist()], dtype=np.int64)
             set_of_pt = set_of_cell[inv]
-            order = np.argsort(set_of_pt, kind="stable")
-            ids, starts = np.unique(set_of_pt[order], return_index=True)
-            bounds = np.append(starts, order.size)
-            miss = []
-            for c, sid in enumerate(ids.tolist()):  # one step per distinct candidate set, vectorised inside
-                pts = order[bounds[c]:bounds[c + 1]]
-                if sid < 0:
-                    miss.append(pts)
-                    continue
-                res = self._locate_sel(n[pts], e[pts], grid.sets[sid])
-                ok = res[2] <= grid.g
-                out[:, pts[ok]] = res[:, ok]
-                miss.append(pts[~ok])
-            todo = np.concatenate(miss) if miss else todo[:0]
+            flat, first, size = self._grid_sets(grid)
+            hit = np.flatnonzero(set_of_pt >= 0)
+            sid = set_of_pt[hit]
+            res = self._locate_candidates(n[hit], e[hit], flat, first[sid], size[sid])
+            ok = res[2] <= grid.g  # nearer than a cell: no element outside the candidates can be nearer
+            out[:, hit[ok]] = res[:, ok]
+            todo = np.concatenate([np.flatnonzero(set_of_pt < 0), hit[~ok]])
         if todo.size:
-            allsel = np.arange(len(self.elements))
-            step = max(1, _CHUNK_PAIRS // len(self.elements))
-            for i in range(0, todo.size, step):  # chunks bound memory; each chunk is vectorised
-                pts = todo[i:i + step]
-                out[:, pts] = self._locate_sel(n[pts], e[pts], allsel)
+            out[:, todo] = self._locate_all(n[todo], e[todo])
         return Location(out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape))
 
     def _grid(self) -> ElementGrid | None:
@@ -287,45 +276,112 @@ class Alignment:
             self._arrays["_grid"] = cached
         return cached[0]
 
-    def _locate_sel(self, n: F, e: F, sel: NDArray[np.int64]) -> F:
-        """Nearest of the elements ``sel`` for each point: rows station, offset, distance."""
+    def _middles(self) -> tuple[F, F]:
+        """Northing and easting of every element's middle point (computed once)."""
+        cached = self._arrays.get("_middles")
+        if cached is None:
+            a = self._arrays
+            p = self.evaluate(a["start"] + a["length"] / 2.0, miter=False)
+            cached = (p.northing, p.easting)
+            self._arrays["_middles"] = cached
+        return cached
+
+    def _locate_all(self, n: F, e: F) -> F:
+        """:meth:`locate` with every element a candidate of every point (no grid):
+        rows station, offset, distance.
+        """
+        nel = len(self.elements)
+        return self._locate_candidates(n, e, np.arange(nel), np.zeros(n.size, np.int64), np.full(n.size, nel))
+
+    def _grid_sets(self, grid: ElementGrid) -> tuple[NDArray[np.int64], NDArray[np.int64], NDArray[np.int64]]:
+        """The grid's candidate sets laid end to end: elements, first index and size of each set."""
+        cached = self._arrays.get("_grid_sets")
+        if cached is None:
+            size = np.array([len(c) for c in grid.sets], dtype=np.int64)
+            cached = (np.concatenate(grid.sets).astype(np.int64), np.cumsum(size) - size, size)
+            self._arrays["_grid_sets"] = cached
+        return cached
+
+    def _locate_candidates(self, n: F, e: F, flat: NDArray[np.int64], first: NDArray[np.int64],
+                           size: NDArray[np.int64]) -> F:
+        """Nearest element of each point among its candidates ``flat[first:first + size]``:
+        rows station, offset, distance.  Points go in chunks of at most
+        :data:`_CHUNK_PAIRS` (point, element) pairs, each chunk vectorised.
+        """
+        out = np.empty((3, n.size))
+        if not n.size:
+            return out
+        ends = np.cumsum(size)
+        i = 0
+        while i < n.size:
+            j = max(i + 1, int(np.searchsorted(ends, ends[i] - size[i] + _CHUNK_PAIRS, side="right")))
+            cnt = size[i:j]
+            pi = np.repeat(np.arange(j - i), cnt)
+            start = np.cumsum(cnt) - cnt
+            el = flat[np.repeat(first[i:j] - start, cnt) + np.arange(pi.size)]
+            out[:, i:j] = self._locate_pairs(n[i:j], e[i:j], pi, el, start)
+            i = j
+        return out
+
+    def _locate_pairs(self, n: F, e: F, pi: NDArray[np.int64], el: NDArray[np.int64],
+                      start: NDArray[np.int64]) -> F:
+        """Nearest of the (point ``pi``, element ``el``) pairs for each point: rows
+        station, offset, distance.  Pairs are grouped by point in point order,
+        point ``k``'s from ``start[k]``; every point has at least one.
+
+        The cheapest kernel (lines and arcs) is solved on all its pairs.
+        Each dearer kernel (clothoids) is solved only on the pairs that can
+        beat what the point already has: every point of an element lies
+        within half its length of its middle point (by arc length, so by
+        distance too), so a pair whose distance to the middle less half the
+        length exceeds the point's best distance so far (or another pair's
+        distance to its middle plus half its length) is skipped; the
+        extended first and last tangents are never skipped.  Ties go to the
+        first kernel, then the first element, as in element order.
+        """
         a = self._arrays
         nel = len(self.elements)
-        # the tangents at the very start and end extend beyond the alignment
-        lo = np.where(sel == 0, -np.inf, 0.0)
-        hi = np.where(sel == nel - 1, np.inf, a["length"][sel])
         kernels: list[Kernel] = a["kernels"]
-        which = a["kernel_of"][sel]
-        if len(kernels) == 1:
-            near = kernels[0].nearest(a, sel, n, e, lo, hi)
-            cols = sel
-        else:
-            parts, col_parts = [], []
-            cap = None
-            for j, kern in enumerate(kernels):  # one step per kind of element, vectorised inside
-                m = which == j
-                if np.any(m):
-                    part = kern.nearest(a, sel[m], n, e, lo[m], hi[m], cap)
-                    parts.append(part)
-                    col_parts.append(sel[m])
-                    best_here = np.min(part.distance, axis=1)
-                    cap = best_here if cap is None else np.minimum(cap, best_here)
-            near = type(parts[0])(*(np.concatenate(f, axis=1) for f in zip(*parts)))
-            cols = np.concatenate(col_parts)
-        best = np.argmin(near.distance, axis=1)
-        rows = np.arange(n.size)
-        el = cols[best]
-        sb = near.s[rows, best]
+        which = a["kernel_of"][el]
+        pn, pe = n[pi], e[pi]
+        s = np.zeros(el.size)
+        clamped = np.zeros(el.size, dtype=bool)
+        qn = np.zeros(el.size)
+        qe = np.zeros(el.size)
+        dist = np.full(el.size, np.inf)
+        order = sorted(range(len(kernels)), key=lambda k: kernels[k].cost)
+        for step, j in enumerate(order):  # one step per kind of element, vectorised inside
+            m = np.flatnonzero(which == j) if len(kernels) > 1 else np.arange(el.size)
+            if step and m.size:  # a dearer kernel: only the pairs that can beat the best so far
+                mn, me = self._middles()
+                dm = np.hypot(pn[m] - mn[el[m]], pe[m] - me[el[m]])
+                half = a["length"][el[m]] / 2.0
+                bound = dist.copy()
+                bound[m] = dm + half
+                limit = np.minimum.reduceat(bound, start)[pi[m]]
+                m = m[(dm - half <= limit) | (el[m] == 0) | (el[m] == nel - 1)]
+            if m.size:
+                em = el[m]
+                # the tangents at the very start and end extend beyond the alignment
+                lo = np.where(em == 0, -np.inf, 0.0)
+                hi = np.where(em == nel - 1, np.inf, a["length"][em])
+                s[m], clamped[m], qn[m], qe[m], dist[m] = kernels[j].nearest(a, em, pn[m], pe[m], lo, hi)
+        # the nearest pair of each point; where several are as near, the lowest (kernel, element)
+        chosen = np.flatnonzero(dist == np.minimum.reduceat(dist, start)[pi])
+        if chosen.size > n.size:
+            chosen = chosen[np.lexsort((which[chosen] * nel + el[chosen], pi[chosen]))]
+            chosen = chosen[np.r_[True, pi[chosen][1:] != pi[chosen][:-1]]]
+        elb, sb = el[chosen], s[chosen]
         # signed offset: component on the right normal at the nearest point
         st = np.empty(n.size)
         ct = np.empty(n.size)
-        owner = a["kernel_of"][el]
+        owner = which[chosen]
         for j, kern in enumerate(kernels):  # one step per kind of element
-            m = owner == j
-            if np.any(m):
-                st[m], ct[m] = kern.direction(a, el[m], sb[m])
-        across = (e - near.easting[rows, best]) * ct - (n - near.northing[rows, best]) * st
-        d = near.distance[rows, best]
+            mk = owner == j
+            if np.any(mk):
+                st[mk], ct[mk] = kern.direction(a, elb[mk], sb[mk])
+        across = (e - qe[chosen]) * ct - (n - qn[chosen]) * st
+        d = dist[chosen]
         sign = np.where(across < 0.0, -1.0, 1.0)
-        offset = np.where(near.clamped[rows, best], sign * d, across)
-        return np.stack([a["start"][el] + sb, offset, d])
+        offset = np.where(clamped[chosen], sign * d, across)
+        return np.stack([a["start"][elb] + sb, offset, d])

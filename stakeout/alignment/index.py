@@ -60,7 +60,9 @@ def build_grid(elements: Sequence[Element], length: float,
         boxes.append((pe.min() - pad, pn.min() - pad, pe.max() + pad, pn.max() + pad))
     b = np.array(boxes)
     extent = max(b[:, 2].max() - b[:, 0].min(), b[:, 3].max() - b[:, 1].min(), 1e-9)
-    g = max(length / k, extent / 4096.0, 1e-6)
+    # a quarter of the mean element length: a point has two or three candidates, and shots (within a few
+    # units of the line) stay nearer than a cell, so they need no search beyond their candidates
+    g = max(length / k / 4.0, extent / 4096.0, 1e-6)
     e_min, n_min = b[:, 0].min() - 2 * g, b[:, 1].min() - 2 * g
     cells: dict[int, list[int]] = {}
     for idx, (x0, y0, x1, y1) in enumerate(b):

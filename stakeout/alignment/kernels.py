@@ -26,7 +26,7 @@ F = NDArray[np.float64]
 
 
 class Nearest(NamedTuple):
-    """Nearest points of candidate elements, one row per point, one column per candidate.
+    """Nearest points of elements to points, one entry per (point, element) pair.
 
     ``s`` is the distance along the element (clamped to it, except that the
     first and last tangents extend), ``clamped`` whether clamping moved it,
@@ -44,22 +44,22 @@ class Nearest(NamedTuple):
 class Kernel:
     """Interface of a kernel (see the module docstring)."""
 
+    #: Relative cost of :meth:`nearest` a pair: the inverse solves the cheaper kernels first, and
+    #: their exact distances rule out pairs of the dearer ones.
+    cost = 1.0
+
     def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         """Northing, easting and azimuth (degrees, not normalised) at ``ds``
         along elements ``idx`` and offsets ``o``.
         """
         raise NotImplementedError
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
-                cap: F | None = None) -> Nearest:
-        """Nearest point of each element ``sel`` to each point (n, e), with the
-        distance along clamped to [lo, hi] per element.
-
-        ``cap`` (per point, if given) is a distance already found on other
-        elements: a kernel may skip pairs that cannot come nearer (their
-        distance is then infinite).
+    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+        """Nearest point of element ``el[i]`` to the point ``(n[i], e[i])``,
+        the distance along clamped to ``[lo[i], hi[i]]``, for every pair ``i``.
         """
         raise NotImplementedError
+
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         """Sine and cosine of the tangent azimuth at ``s`` along elements ``idx``."""
@@ -90,43 +90,40 @@ class ConstantCurvature(Kernel):
         east = a["e0"][idx] + chord * sm + o * ct
         return north, east, az
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
-                cap: F | None = None) -> Nearest:
-        k = a["k0"][sel]
-        length = a["length"][sel]
-        az0 = a["az0"][sel]
-        n0, e0 = a["n0"][sel][None, :], a["e0"][sel][None, :]
-        sa, ca = a["sin0"][sel], a["cos0"][sel]  # exact start directions, computed once
-        dn = n[:, None] - n0
-        de = e[:, None] - e0
-        is_arc = k != 0.0
-        # lines: along the element's direction
-        along = de * sa + dn * ca
-        # arcs: angle swept from the start radius, about the centre
-        r = np.where(is_arc, 1.0 / np.abs(np.where(is_arc, k, 1.0)), 0.0)
-        turn = np.sign(k)
-        # centre = start + turn * R * right normal; right normal (E, N) = (cos, -sin)
-        c_e = a["e0"][sel] + turn * r * ca
-        c_n = a["n0"][sel] - turn * r * sa
-        phi = np.degrees(np.arctan2(e[:, None] - c_e[None, :], n[:, None] - c_n[None, :]))
-        start_radial = az0 - 90.0 * turn  # direction centre -> start
-        swept_deg = np.where(is_arc, np.degrees(np.abs(k) * length), 0.0)
-        u = np.mod((phi - start_radial[None, :]) * turn[None, :], 360.0)
-        u = np.mod(u - swept_deg / 2.0 + 180.0, 360.0) - 180.0 + swept_deg / 2.0
-        s_loc = np.where(is_arc[None, :], np.radians(u) * r, along)
-        # an arc never extends past its ends
-        lo = np.where(is_arc, 0.0, lo)
-        hi = np.where(is_arc, length, hi)
-        s_c = np.clip(s_loc, lo[None, :], hi[None, :])
+    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+        k = a["k0"][el]
+        az0, n0, e0 = a["az0"][el], a["n0"][el], a["e0"][el]
+        # lines: along the element's exact start direction
+        s_loc = (e - e0) * a["sin0"][el] + (n - n0) * a["cos0"][el]
+        lo, hi = lo.copy(), hi.copy()
+        arc = np.flatnonzero(k != 0.0)
+        if arc.size:  # arcs: the angle swept from the start radius, about the centre
+            ka, sa, ca = k[arc], a["sin0"][el[arc]], a["cos0"][el[arc]]
+            r = 1.0 / np.abs(ka)
+            turn = np.sign(ka)
+            # centre = start + turn * R * right normal; right normal (E, N) = (cos, -sin)
+            c_e = e0[arc] + turn * r * ca
+            c_n = n0[arc] - turn * r * sa
+            phi = np.degrees(np.arctan2(e[arc] - c_e, n[arc] - c_n))
+            start_radial = az0[arc] - 90.0 * turn  # direction centre -> start
+            length = a["length"][el[arc]]
+            swept_deg = np.degrees(np.abs(ka) * length)
+            u = np.mod((phi - start_radial) * turn, 360.0)
+            u = np.mod(u - swept_deg / 2.0 + 180.0, 360.0) - 180.0 + swept_deg / 2.0
+            s_loc[arc] = np.radians(u) * r
+            lo[arc], hi[arc] = 0.0, length  # an arc never extends past its ends
+        s_c = np.clip(s_loc, lo, hi)
         clamped = s_c != s_loc
-        # the element's point at s_c and the distance to it
-        turn_deg = np.degrees(k[None, :] * s_c)
-        chord = s_c * np.sinc(k[None, :] * s_c / (2.0 * np.pi))
-        sm, cm = sincosd(az0[None, :] + turn_deg / 2.0)
+        # the element's point at s_c: along the start direction on a line, along the chord on an arc
+        chord = s_c.copy()
+        sm, cm = a["sin0"][el], a["cos0"][el]
+        if arc.size:
+            sa_c = s_c[arc]
+            chord[arc] = sa_c * np.sinc(k[arc] * sa_c / (2.0 * np.pi))
+            sm[arc], cm[arc] = sincosd(az0[arc] + np.degrees(k[arc] * sa_c) / 2.0)
         qn = n0 + chord * cm
         qe = e0 + chord * sm
-        dist = np.hypot(n[:, None] - qn, e[:, None] - qe)
-        return Nearest(s_c, clamped, qn, qe, dist)
+        return Nearest(s_c, clamped, qn, qe, np.hypot(n - qn, e - qe))
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         return sincosd(a["az0"][idx] + np.degrees(a["k0"][idx] * s))
@@ -143,6 +140,8 @@ class Clothoid(Kernel):
     (:mod:`.clothoid`), both on whole arrays.
     """
 
+    cost = 10.0
+
     def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         from .clothoid import clothoid_points
 
@@ -150,50 +149,18 @@ class Clothoid(Kernel):
                                    a["length"][idx])
         return n, e, az
 
-    def nearest(self, a: Arrays, sel: NDArray[np.int64], n: F, e: F, lo: F, hi: F,
-                cap: F | None = None) -> Nearest:
+    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         from .clothoid import clothoid_project
 
-        length = a["length"][sel]
-        mn, me = self._mid(a)
-        # every point of a spiral lies within L/2 of its middle point (by arc length, so by distance too):
-        # a pair whose lower bound exceeds another pair's upper bound (or ``cap``) cannot be the nearest
-        dm = np.hypot(n[:, None] - mn[sel][None, :], e[:, None] - me[sel][None, :])
-        lower = dm - length[None, :] / 2.0
-        limit = np.min(dm + length[None, :] / 2.0, axis=1)
-        if cap is not None:
-            limit = np.minimum(limit, cap)
-        pi, kj = np.nonzero(lower <= limit[:, None])
-        el = sel[kj]
-        s_f, off_f, dist_f = clothoid_project(n[pi], e[pi], a["n0"][el], a["e0"][el], a["az0"][el], a["k0"][el],
-                                              a["k1"][el], a["length"][el])
-        shape = (n.size, sel.size)
-        s_c = np.zeros(shape)
-        dist = np.full(shape, np.inf)
-        qn = np.zeros(shape)
-        qe = np.zeros(shape)
-        s_c[pi, kj] = s_f
-        dist[pi, kj] = dist_f
+        length = a["length"][el]
+        s, off, dist = clothoid_project(n, e, a["n0"][el], a["e0"][el], a["az0"][el], a["k0"][el], a["k1"][el],
+                                        length)
         # the foot: back from the point along the normal by the offset, or the end it clamped to
-        st, ct = self.direction(a, el, s_f)
-        at_start, at_end = s_f <= 0.0, s_f >= a["length"][el]
-        qn[pi, kj] = np.where(at_start, a["n0"][el], np.where(at_end, a["n1"][el], n[pi] + off_f * st))
-        qe[pi, kj] = np.where(at_start, a["e0"][el], np.where(at_end, a["e1"][el], e[pi] - off_f * ct))
-        clamped = (s_c <= 0.0) | (s_c >= length[None, :])
-        return Nearest(s_c, clamped, qn, qe, dist)
-
-    @staticmethod
-    def _mid(a: Arrays) -> tuple[F, F]:
-        """Middle points of every element (computed once per alignment)."""
-        cached = a.get("_mid")
-        if cached is None:
-            from .clothoid import clothoid_points
-
-            half = a["length"] / 2.0
-            mn, me, _ = clothoid_points(half, 0.0, a["n0"], a["e0"], a["az0"], a["k0"], a["k1"], a["length"])
-            cached = np.stack([mn, me])
-            a["_mid"] = cached
-        return cached[0], cached[1]
+        st, ct = self.direction(a, el, s)
+        at_start, at_end = s <= 0.0, s >= length
+        qn = np.where(at_start, a["n0"][el], np.where(at_end, a["n1"][el], n + off * st))
+        qe = np.where(at_start, a["e0"][el], np.where(at_end, a["e1"][el], e - off * ct))
+        return Nearest(s, at_start | at_end, qn, qe, dist)
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         k0, k1, length = a["k0"][idx], a["k1"][idx], a["length"][idx]
