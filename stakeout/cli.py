@@ -140,8 +140,8 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
         raise typer.Exit(3) from None
 
 
-_WIDE_HELP = ("Print setout.txt and deflections.txt one line per stake, up to 132 columns (default: 80 columns, "
-              "a stake's further columns on a second line).")
+_WIDE_HELP = ("Print setout.txt and deflections.txt one line per stake, headers and notes wrapped at 132 columns "
+              "(default: 80 columns, a stake's further columns run on to the next line).")
 
 
 @app.command()
@@ -180,7 +180,8 @@ def check(
     columns: Optional[str] = typer.Option(None, "--columns", help="Column order of the staked file, e.g. "
                                           "point,easting,northing,elevation,description (skip ignores one)."),
     delimiter: str = typer.Option("auto", "--delimiter", help="auto, comma, semicolon, tab or space."),
-    wide: bool = typer.Option(False, "--wide", help="Print check.txt up to 132 columns wide (default 80)."),
+    wide: bool = typer.Option(False, "--wide", help="Print check.txt one line per shot where it fits 132 columns "
+                              "(default 80)."),
     debug: bool = typer.Option(False, "--debug", help="Show a traceback on errors."),
 ) -> None:
     """Check staked shots against design; exit 1 if any needs attention."""

@@ -330,3 +330,33 @@ def test_every_background_write_lands_before_the_commit(tmp_path, monkeypatch):
     assert sorted(p.name for p in out.iterdir()) == sorted(p.name for p in ref.iterdir()) == ["points.csv", "stations.csv"]
     for name in ("points.csv", "stations.csv"):
         assert (out / name).read_bytes() == (ref / name).read_bytes()
+
+
+def test_second_signal_while_a_write_finishes_leaves_nothing(tmp_path, monkeypatch):
+    # regression: Ctrl-C while a slow write was still flushing, then SIGTERM during the wait for it,
+    # skipped the clean-up and left the temporary folder behind (Python's signal semantics: a handler
+    # raises in the main thread wherever it is)
+    import threading
+    import time
+
+    real = os.fsync
+
+    def slow(fd):
+        time.sleep(1.0)
+        real(fd)
+
+    monkeypatch.setattr(folder_mod.os, "fsync", slow)
+
+    def term(signum, frame):
+        raise KeyboardInterrupt
+
+    old = signal.signal(signal.SIGTERM, term)
+    try:
+        with pytest.raises(KeyboardInterrupt):
+            with OutputFolder(tmp_path / "out") as folder:
+                folder.write_bytes("big.csv", b"x" * 1000)  # flushing in the background for a second
+                threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGTERM)).start()
+                raise KeyboardInterrupt  # the first Ctrl-C, while the next output renders
+    finally:
+        signal.signal(signal.SIGTERM, old)
+    assert list(tmp_path.iterdir()) == []

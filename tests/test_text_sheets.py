@@ -215,3 +215,29 @@ def test_table_lines_keep_order_alignment_and_width(cols):
     # one line per record when there is no width
     heads1, records1 = table_lines(cols, None)
     assert len(heads1) == 1 and all("\n" not in r for r in records1)
+
+
+def test_check_txt_long_ids_and_a_long_attention_table_fit_80_columns(tmp_path):
+    # regressions: the attention table's "continued" line ran to 84 columns, and ids over 7 characters
+    # were cut to 6 on an 80-column check.txt although the row had room for them
+    job = SAMPLES / "loop_ramp_usft.toml"
+    out = build_job(job, tmp_path / "b", "--only", "points")
+    rows = read_rows(out / "points.csv")
+    staked = tmp_path / "shots.csv"
+    with open(staked, "w", newline="") as fh:
+        w = csv.writer(fh)
+        for k, r in enumerate(rows):  # renumbered in the field, all 0.2 off: every one needs attention
+            pid = "X" * 30 if k == 0 else f"LOOPRAMP-{r['point']}"
+            w.writerow([pid, f"{float(r['northing']) + 0.2:.4f}", r["easting"]])
+    res = CliRunner().invoke(app, ["check", str(job), str(staked), "--out", str(tmp_path / "c")])
+    assert res.exit_code == 1, res.output
+    text = (tmp_path / "c" / "check.txt").read_text()
+    pages = _pages(text)
+    for page in pages:
+        assert len(page) <= PAGE_LINES and max(len(line) for line in page) <= WIDTH
+    assert any(line == "NEEDS ATTENTION, continued" for p in pages for line in p)
+    shots = [rec.split()[0] for rec in sheet_records(text)]
+    assert set(shots) == {"X" * 23 + "~"} | {f"LOOPRAMP-{r['point']}" for r in rows[1:]}
+    assert "~: the end of a shot id cut to 24 characters (check.csv holds it whole)" in text
+    got = {r["point"] for r in read_rows(tmp_path / "c" / "check.csv")}
+    assert "X" * 30 in got

@@ -12,7 +12,7 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
-from .text import WIDE, WIDTH, SheetPart, clip, finite_or_empty, paged_parts
+from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
            "move_text", "move_decimals"]
@@ -96,6 +96,15 @@ def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
         t = f"{abs(v):.{decimals}f}"
         out.append(f"C {t}" if v > 0 and float(t) > 0 else (f"F {t}" if v < 0 and float(t) > 0 else f"0 {t}"))
     return out
+
+
+#: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).
+ID_PRINTED = 24
+
+
+def _ident(pid: str) -> str:
+    """An id as printed: whole up to :data:`ID_PRINTED` characters, else cut and ended with ``~``."""
+    return pid if len(pid) <= ID_PRINTED else pid[: ID_PRINTED - 1] + "~"
 
 
 def _short_mark(mark: str, dz: float) -> str:
@@ -213,51 +222,44 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         t = _target_id(d, r, k)
         return t + "*" if r.matched_by[k] == "nearest" else t
 
-    def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> tuple[str, list[str]]:
-        """The column header and one record per shot of ``ks``, widths from
-        their content; ``notes`` lines under a shot's row, in its record.
+    def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> tuple[list[str], list[str]]:
+        """The column header lines and one record per shot of ``ks``, widths
+        from their content; ``notes`` lines under a shot's row, in its record.
 
-        The status ends the row; where the columns leave no room for it (a
-        long status beside a long station label and mark), it opens the
-        line below instead.
+        The status ends the row where the whole row fits the page; otherwise
+        it opens the line below.  Columns that do not fit run on to a second
+        line (long ids or station labels).
         """
-        labels = {k: station_label(r.station[k]) for k in ks}
-        status = {k: status_text(r, k) for k in ks}
-        sw = max([7] + [len(s) for s in labels.values()])
-        mark = {k: "" if r.status[k] == "control" else _short_mark(marks[k], float(r.d_elevation[k])) for k in ks}
-        mw = max([4] + [len(mark[k]) for k in ks]) if with_grade else 0
-        tw = max([6] + [len(s) for s in status.values()]) if with_status else 0
-        with_dz = bool(np.isfinite(r.d_elevation[ks]).any())  # no column of blanks where no shot has a height
-        fixed = sw + 9 + 7 + 8 + 8 + 6 + (8 if with_dz else 0) + (mw + 1 if with_grade else 0)
-        inline = with_status and width - (fixed + tw + 1) - 2 >= 2 * 6
-        if inline:
-            fixed += tw + 1
-        room = max(6, (width - fixed - 2) // 2)
-        longest = max([6] + [len(shots.point[k]) for k in ks] + [len(target(k)) for k in ks])
-        w = min(room, longest)
-
-        def ident(p: str) -> str:
-            return p if len(p) <= w else p[: w - 1] + "~"
-
-        cols = (f"{'shot':<{w}} {'design':<{w}} {'station':>{sw}} {'offset':>9} {'horiz':>7} {'d along':>8} "
-                f"{'d across':>8}" + (f" {'d elev':>7}" if with_dz else "") + (f" {'mark':<{mw}}" if with_grade else "")
-                + (f" {'status':<{tw}}" if inline else ""))
-        records = []
-        for k in ks:
-            line = (f"{ident(shots.point[k]):<{w}} {ident(target(k)):<{w}} {labels[k]:>{sw}} "
-                    f"{_fit(r.offset[k], 9, 3):>9} {_fit(r.horizontal_error[k], 7, 3):>7} "
-                    f"{_fit(r.d_station[k], 8, 3):>8} {_fit(r.d_offset[k], 8, 3):>8}"
-                    + (f" {_fit(r.d_elevation[k], 7, 3):>7}" if with_dz else "") + (f" {mark[k]:<{mw}}" if with_grade else "")
-                    + (f" {status[k]:<{tw}}" if inline else ""))
-            lines = [line.rstrip()]
+        cols = [Column("shot", [_ident(shots.point[k]) for k in ks], "<"),
+                Column("design", [_ident(target(k)) for k in ks], "<"),
+                Column("station", [station_label(r.station[k]) for k in ks]),
+                Column("offset", [_fit(r.offset[k], 9, 3) for k in ks]),
+                Column("horiz", [_fit(r.horizontal_error[k], 7, 3) for k in ks]),
+                Column("d along", [_fit(r.d_station[k], 8, 3) for k in ks]),
+                Column("d across", [_fit(r.d_offset[k], 8, 3) for k in ks], with_previous=True)]
+        if np.isfinite(r.d_elevation[ks]).any():  # no column of blanks where no shot has a height
+            cols.append(Column("d elev", [_fit(r.d_elevation[k], 7, 3) for k in ks]))
+        if with_grade:
+            cols.append(Column("mark", ["" if r.status[k] == "control" else
+                                        _short_mark(marks[k], float(r.d_elevation[k])) for k in ks], "<"))
+        status = [status_text(r, k) for k in ks]
+        inline = False
+        if with_status:
+            heads, records = table_lines(cols + [Column("status", status, "<")], width)
+            inline = len(heads) == 1
+        if not inline:
+            heads, records = table_lines(cols, width)
+        out = []
+        for i, k in enumerate(ks):
+            lines = [records[i]]
             note = notes.get(k, "")
             if with_status and not inline:
-                note = f"{status[k]}: {note}" if note else status[k]
+                note = f"{status[i]}: {note}" if note else status[i]
             if note:
                 lines += textwrap.wrap(note, width, initial_indent="    ", subsequent_indent="      ",
                                        break_long_words=True, break_on_hyphens=False)
-            records.append("\n".join(lines))
-        return cols.rstrip(), records
+            out.append("\n".join(lines))
+        return heads, out
 
     def gov(k: int) -> str:
         g = int(r.related[k])
@@ -297,7 +299,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         head = [f"{name}: {len(ks)}"]
         if ks:
             cols, records = table(ks, with_status, extra)
-            parts.append(SheetPart(head, [cols], records, f"{name}, continued", new_page=False))
+            short = name.split(",")[0].split(" (")[0]
+            parts.append(SheetPart(head, cols, records, f"{short}, continued", new_page=False))
         else:
             parts.append(SheetPart(head, [], [], new_page=False))
     missing = [design.prefix + str(design.first_point + int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
@@ -321,6 +324,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     if with_grade:
         foot += ["mark: the cut or fill to write on the stake,",
                  "  C where the shot is above design, F below"]
+    if any(len(p) > ID_PRINTED for p in shots.point):
+        foot.append(f"~: the end of a shot id cut to {ID_PRINTED} characters (check.csv holds it whole)")
     foot += [
         "move: from where the stake was shot to design, looking up-station: ahead/back",
         "  along the line, right/left square to it, down/up for its top",

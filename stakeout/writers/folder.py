@@ -295,10 +295,13 @@ class OutputFolder:
 
     def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
                  tb: TracebackType | None) -> None:
-        if self._writer is not None:  # no write may land in the folder after it is removed
-            self._writer.shutdown(wait=True, cancel_futures=True)
-            self._writer = None
-        self._discard()
+        try:
+            if self._writer is not None:  # no write may land in the folder after it is removed
+                with _signals_held():  # a second Ctrl-C or SIGTERM waits for the write in hand
+                    self._writer.shutdown(wait=True, cancel_futures=True)
+                self._writer = None
+        finally:
+            self._discard()
 
     def path(self, name: str) -> Path:
         """Where to write output file ``name`` inside the temporary folder."""

@@ -267,12 +267,22 @@ class Column:
         return f"{text:{self.align}{self.width}}"
 
 
+#: Widest first column whose run-on lines start under the second column.
+_INDENT_MAX = 20
+
+
+def _indent(columns: list[Column]) -> int:
+    """Where a record's run-on lines start (see :func:`_pack`)."""
+    return columns[0].width + 1 if columns[0].width <= _INDENT_MAX else 4
+
+
 def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
     """Columns packed in order onto lines of at most ``width`` characters.
 
     The first line starts at the margin; every further line starts under
-    the second column, so that a record's first column alone marks where
-    it starts.  A group (columns marked ``with_previous``) stays on one
+    the second column (four characters in where the first column is wider
+    than :data:`_INDENT_MAX`), so that a record's first column alone marks
+    where it starts.  A group (columns marked ``with_previous``) stays on one
     line; each line takes at least one group.  ``None``: one line.
     """
     if width is None or not columns:
@@ -283,7 +293,7 @@ def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
             groups[-1].append(c)
         else:
             groups.append([c])
-    indent = columns[0].width + 1
+    indent = _indent(columns)
     lines: list[list[Column]] = [[]]
     used = -1
     for g in groups:
@@ -314,7 +324,7 @@ def table_lines(columns: list[Column], width: int | None = WIDTH) -> tuple[list[
     lines = _pack(columns, width)
     if not columns:
         return [], []
-    indent = " " * (columns[0].width + 1)
+    indent = " " * _indent(columns)
     n = len(columns[0].values)
 
     def render(k: int, cells: list[str]) -> str:
@@ -384,9 +394,10 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
     pages: list[list[str]] = []
     for k, part in enumerate(parts):
         columns = [c.rstrip() for c in part.columns]
-        rules = ["-" * max(len(c) for c in columns)] if columns else []  # a part of plain lines has no rules
         part_head = wrap_lines(part.head, width)
         records = [row_lines(r) for r in part.rows]
+        ruled = max([0] + [len(c) for c in columns] + [len(line) for r in records for line in r[:1]])
+        rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
         first = True
         while first or records:
             if k == 0 and first:
