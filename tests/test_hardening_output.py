@@ -311,17 +311,23 @@ def test_failed_background_write_leaves_nothing(tmp_path, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
-def test_every_background_write_lands_before_the_commit(tmp_path, monkeypatch):
-    # a slow disk: each file takes a while to flush; the committed folder still holds every file whole
+def _slow_disk(monkeypatch, seconds: float):
+    """Every fsync of the output folder takes ``seconds`` longer; returns the real fsync."""
     import time
 
     real = os.fsync
 
     def slow(fd):
-        time.sleep(0.2)
+        time.sleep(seconds)
         real(fd)
 
     monkeypatch.setattr(folder_mod.os, "fsync", slow)
+    return real
+
+
+def test_every_background_write_lands_before_the_commit(tmp_path, monkeypatch):
+    # a slow disk: each file takes a while to flush; the committed folder still holds every file whole
+    real = _slow_disk(monkeypatch, 0.2)
     out = tmp_path / "out"
     assert _build(JOB, out).exit_code == 0
     ref = tmp_path / "ref"
@@ -337,15 +343,8 @@ def test_second_signal_while_a_write_finishes_leaves_nothing(tmp_path, monkeypat
     # skipped the clean-up and left the temporary folder behind (Python's signal semantics: a handler
     # raises in the main thread wherever it is)
     import threading
-    import time
 
-    real = os.fsync
-
-    def slow(fd):
-        time.sleep(1.0)
-        real(fd)
-
-    monkeypatch.setattr(folder_mod.os, "fsync", slow)
+    _slow_disk(monkeypatch, 1.0)
 
     def term(signum, frame):
         raise KeyboardInterrupt

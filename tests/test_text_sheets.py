@@ -146,17 +146,22 @@ def test_harrow_fen_precision_runs_on_to_a_second_line(built):
     assert re.search(r"^point .* grnd dist +sd along +sd across +r95 +note$", wide, re.M)
 
 
-def test_check_txt_pages_with_many_shots(tmp_path):
-    # every design point of the loop ramp staked and shot: the within-tolerance table runs over pages,
-    # its column header repeated, no page over 60 lines or 80 columns
+def _shoot_every_point(tmp_path: Path, north: float, rename) -> tuple[Path, list[dict], Path]:
+    """The loop ramp sample, every design point shot ``north`` off, ids ``rename(k, point)``."""
     job = SAMPLES / "loop_ramp_usft.toml"
-    out = build_job(job, tmp_path / "b", "--only", "points")
-    rows = read_rows(out / "points.csv")
+    rows = read_rows(build_job(job, tmp_path / "b", "--only", "points") / "points.csv")
     staked = tmp_path / "shots.csv"
     with open(staked, "w", newline="") as fh:
         w = csv.writer(fh)
-        for r in rows:
-            w.writerow([r["point"], f"{float(r['northing']) + 0.01:.4f}", r["easting"]])
+        for k, r in enumerate(rows):
+            w.writerow([rename(k, r["point"]), f"{float(r['northing']) + north:.4f}", r["easting"]])
+    return job, rows, staked
+
+
+def test_check_txt_pages_with_many_shots(tmp_path):
+    # every design point of the loop ramp staked and shot: the within-tolerance table runs over pages,
+    # its column header repeated, no page over 60 lines or 80 columns
+    job, rows, staked = _shoot_every_point(tmp_path, 0.01, lambda k, pid: pid)
     for extra, width in (((), WIDTH), (("--wide",), WIDE_COLUMNS)):
         res = CliRunner().invoke(app, ["check", str(job), str(staked), "--out", str(tmp_path / f"c{width}"), *extra])
         assert res.exit_code == 0, res.output
@@ -220,15 +225,8 @@ def test_table_lines_keep_order_alignment_and_width(cols):
 def test_check_txt_long_ids_and_a_long_attention_table_fit_80_columns(tmp_path):
     # regressions: the attention table's "continued" line ran to 84 columns, and ids over 7 characters
     # were cut to 6 on an 80-column check.txt although the row had room for them
-    job = SAMPLES / "loop_ramp_usft.toml"
-    out = build_job(job, tmp_path / "b", "--only", "points")
-    rows = read_rows(out / "points.csv")
-    staked = tmp_path / "shots.csv"
-    with open(staked, "w", newline="") as fh:
-        w = csv.writer(fh)
-        for k, r in enumerate(rows):  # renumbered in the field, all 0.2 off: every one needs attention
-            pid = "X" * 30 if k == 0 else f"LOOPRAMP-{r['point']}"
-            w.writerow([pid, f"{float(r['northing']) + 0.2:.4f}", r["easting"]])
+    # renumbered in the field, all 0.2 off: every one needs attention
+    job, rows, staked = _shoot_every_point(tmp_path, 0.2, lambda k, pid: "X" * 30 if k == 0 else f"LOOPRAMP-{pid}")
     res = CliRunner().invoke(app, ["check", str(job), str(staked), "--out", str(tmp_path / "c")])
     assert res.exit_code == 1, res.output
     text = (tmp_path / "c" / "check.txt").read_text()
