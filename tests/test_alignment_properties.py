@@ -19,6 +19,7 @@ from stakeout.alignment import (
     PISpec,
     SinglePISpec,
     Spiral,
+    SpiralSpec,
     build_alignment,
     compound_tangents,
 )
@@ -281,3 +282,37 @@ def test_grid_inverse_with_spirals_matches_shapely():
     assert np.max(np.abs(np.abs(got.offset) - want)) < 1e-5  # inside the ends: offset is the distance, signed
     near = np.abs(off) <= 15
     assert np.allclose(got.station[near], st_[near], atol=1e-6)
+
+
+def test_shot_nearest_the_extended_first_tangent_is_found():
+    # regression: a shot before the start lay in a grid cell of later elements only; the first
+    # tangent, extended back, is nearer (8.8035) than any of them (41.52), but the grid never offered it
+    # (an alignment from a random search that looped back towards its start)
+    els = (LineSpec(30.580785720456614), SpiralSpec(112.80108818861969, -1, None, 928.411342205209),
+           ArcSpec(928.411342205209, -1, length=273.6055706709776), SpiralSpec(136.1851273528939, -1, 928.411342205209, None),
+           LineSpec(186.3015933720779), SpiralSpec(24.18953873516082, -1, None, 100.73668463908503),
+           ArcSpec(100.73668463908503, -1, length=208.07490442702172), SpiralSpec(35.00741686509599, -1, 100.73668463908503, None),
+           SpiralSpec(305.538173972859, -1, None, 431.16692532230223), ArcSpec(431.16692532230223, -1, length=256.3427002335122),
+           SpiralSpec(302.9266163056955, -1, 431.16692532230223, None), LineSpec(117.93453434544273),
+           SpiralSpec(349.7838924286177, 1, None, 455.3324635377726), ArcSpec(455.3324635377726, 1, length=113.78776192512736),
+           SpiralSpec(165.39364141333357, 1, 455.3324635377726, None))
+    a = build_alignment(ChainSpec("C", 509877.02044522396, 5e6, 5e5, 174.14936186606224, els))
+    n, e = 5000107.495687282, 499997.8345665278
+    got = a.locate(n, e)
+    # independent: the distance to the first tangent's line, extended back (plain vector algebra)
+    az = math.radians(174.14936186606224)
+    dn, de = n - 5e6, e - 5e5
+    assert de * math.sin(az) + dn * math.cos(az) < 0  # before the start
+    assert float(got.distance) == pytest.approx(abs(de * math.cos(az) - dn * math.sin(az)), abs=1e-9)
+    assert float(got.station) == pytest.approx(509877.02044522396 + de * math.sin(az) + dn * math.cos(az), abs=1e-9)
+
+
+def test_points_without_finite_coordinates_get_no_station():
+    # regression: a NaN point shifted the rows of the other points (or raised), and with an exact tie
+    # elsewhere it took that point's answer; it now gets NaN and the others theirs
+    els = tuple(x for i in range(6) for x in (LineSpec(80.0 + 7 * i), ArcSpec(150.0, 1 if i % 2 else -1, delta=25.0)))
+    a = build_alignment(ChainSpec("G", 0.0, 5e6, 5e5, 33.0, els))
+    pc_n, pc_e = a.elements[1].start_northing, a.elements[1].start_easting
+    got = np.stack(a.locate([np.nan, pc_n, np.inf, 5e6 + 10], [0.0, pc_e, 5e5, -np.inf]))
+    assert np.isnan(got[:, [0, 2, 3]]).all()
+    assert got[:, 1] == pytest.approx([80.0, 0.0, 0.0], abs=1e-9)

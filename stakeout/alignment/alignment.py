@@ -246,21 +246,25 @@ class Alignment:
         shape = n.shape
         n = n.ravel()
         e = e.ravel()
-        out = np.empty((3, n.size))
-        todo = np.arange(n.size)
+        out = np.full((3, n.size), np.nan)  # a point without finite coordinates has no station
+        todo = np.flatnonzero(np.isfinite(n) & np.isfinite(e))
         grid = self._grid()
         if grid is not None and n.size:
-            keys = grid.keys(n, e)
+            fin = todo
+            keys = grid.keys(n[fin], e[fin])
             uniq, inv = np.unique(keys, return_inverse=True)
             set_of_cell = np.array([grid.cell_set.get(k, -1) for k in uniq.tolist()], dtype=np.int64)
             set_of_pt = set_of_cell[inv]
             flat, first, size = self._grid_sets(grid)
-            hit = np.flatnonzero(set_of_pt >= 0)
-            sid = set_of_pt[hit]
+            missed = fin[set_of_pt < 0]
+            sid = set_of_pt[set_of_pt >= 0]
+            hit = fin[set_of_pt >= 0]
             res = self._locate_candidates(n[hit], e[hit], flat, first[sid], size[sid])
-            ok = res[2] <= grid.g  # nearer than a cell: no element outside the candidates can be nearer
+            # nearer than a cell: no element outside the candidates can be nearer, except the first and
+            # last tangents, which extend beyond the grid's boxes
+            ok = (res[2] <= grid.g) & (self._beyond_ends(n[hit], e[hit]) >= res[2])
             out[:, hit[ok]] = res[:, ok]
-            todo = np.concatenate([np.flatnonzero(set_of_pt < 0), hit[~ok]])
+            todo = np.concatenate([missed, hit[~ok]])
         if todo.size:
             out[:, todo] = self._locate_all(n[todo], e[todo])
         return Location(out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape))
@@ -285,6 +289,23 @@ class Alignment:
             cached = (p.northing, p.easting)
             self._arrays["_middles"] = cached
         return cached
+
+    def _beyond_ends(self, n: F, e: F) -> F:
+        """Distance from each point to the first tangent extended back where the point lies
+        before the start, and to the last extended ahead where it lies past the end; infinite
+        elsewhere, or where the alignment does not begin or end on a tangent.
+        """
+        a = self._arrays
+        out = np.full(n.size, np.inf)
+        last = len(self.elements) - 1
+        for i, end, sign in ((0, ("n0", "e0"), -1.0), (last, ("n1", "e1"), 1.0)):
+            if a["k0"][i] != 0.0 or a["k1"][i] != 0.0:
+                continue
+            dn, de = n - a[end[0]][i], e - a[end[1]][i]
+            along = de * a["sin0"][i] + dn * a["cos0"][i]
+            across = np.abs(de * a["cos0"][i] - dn * a["sin0"][i])
+            out = np.where(along * sign > 0.0, np.minimum(out, across), out)
+        return out
 
     def _locate_all(self, n: F, e: F) -> F:
         """:meth:`locate` with every element a candidate of every point (no grid):

@@ -40,6 +40,17 @@ class ElementGrid:
         return (np.floor((e - self.e_min) / g).astype(np.int64) << 32) + np.floor((n - self.n_min) / g).astype(np.int64)
 
 
+#: Most (cell, element) entries a grid holds; the cell grows until it fits.
+MAX_CELLS = 500_000
+
+
+def _cell_entries(boxes: NDArray[np.float64], g: float) -> int:
+    """How many (cell, element) entries boxes padded by one cell ``g`` make."""
+    cols = np.floor((boxes[:, 2] - boxes[:, 0]) / g) + 3
+    rows = np.floor((boxes[:, 3] - boxes[:, 1]) / g) + 3
+    return int(np.sum(cols * rows))
+
+
 def build_grid(elements: Sequence[Element], length: float,
                sample: Callable[[NDArray[np.float64]], tuple[NDArray[np.float64], NDArray[np.float64]]]
                ) -> ElementGrid | None:
@@ -61,8 +72,11 @@ def build_grid(elements: Sequence[Element], length: float,
     b = np.array(boxes)
     extent = max(b[:, 2].max() - b[:, 0].min(), b[:, 3].max() - b[:, 1].min(), 1e-9)
     # a quarter of the mean element length: a point has two or three candidates, and shots (within a few
-    # units of the line) stay nearer than a cell, so they need no search beyond their candidates
+    # units of the line) stay nearer than a cell, so they need no search beyond their candidates; coarser
+    # where that would make more than MAX_CELLS cell entries (long elements among short ones)
     g = max(length / k / 4.0, extent / 4096.0, 1e-6)
+    while _cell_entries(b, g) > MAX_CELLS:
+        g *= 2.0
     e_min, n_min = b[:, 0].min() - 2 * g, b[:, 1].min() - 2 * g
     cells: dict[int, list[int]] = {}
     for idx, (x0, y0, x1, y1) in enumerate(b):
