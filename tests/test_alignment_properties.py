@@ -316,3 +316,21 @@ def test_points_without_finite_coordinates_get_no_station():
     got = np.stack(a.locate([np.nan, pc_n, np.inf, 5e6 + 10], [0.0, pc_e, 5e5, -np.inf]))
     assert np.isnan(got[:, [0, 2, 3]]).all()
     assert got[:, 1] == pytest.approx([80.0, 0.0, 0.0], abs=1e-9)
+
+
+def test_grid_of_a_long_tangent_among_short_elements_stays_small():
+    # regression: a 50 km tangent among 2,000 elements of 10 m made a grid of millions of cells
+    # (seconds and gigabytes); the cell now grows until the grid holds at most MAX_CELLS entries,
+    # and the inverse still finds each shot's own station
+    from stakeout.alignment.index import MAX_CELLS
+
+    els = (LineSpec(50000.0),) + tuple(x for i in range(1000) for x in (LineSpec(10.0), ArcSpec(200.0, 1 if i % 2 else -1,
+                                                                                                  length=10.0)))
+    a = build_alignment(ChainSpec("P", 0.0, 5e6, 5e5, 45.0, els))
+    grid = a._grid()
+    assert grid is not None
+    assert sum(len(grid.sets[v]) for v in grid.cell_set.values()) <= MAX_CELLS
+    rng = np.random.default_rng(4)
+    s = rng.uniform(a.start_station, a.end_station, 5000)
+    n, e, _ = a.evaluate(s, rng.uniform(-5, 5, s.size))
+    assert np.allclose(a.locate(n, e).station, s, atol=1e-6)
