@@ -15,7 +15,7 @@ from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
-           "move_text", "move_decimals"]
+           "move_text", "move_decimals", "what_to_do", "target_id"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
@@ -39,7 +39,7 @@ def _shot_id(pid: str) -> str:
     return csv_field(pid)
 
 
-def _target_id(d: Design, r: CheckResult, k: int) -> str:
+def target_id(d: Design, r: CheckResult, k: int) -> str:
     """The id of the design or control point shot ``k`` was matched to, or empty."""
     i, c = int(r.design_index[k]), int(r.control_index[k])
     if i >= 0:
@@ -60,7 +60,7 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     for k in range(len(shots)):
         g = int(r.related[k])
         out.append(",".join([
-            _shot_id(shots.point[k]), csv_field(_target_id(d, r, k)), _f(float(station(r.station[k]))),
+            _shot_id(shots.point[k]), csv_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
             _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
             _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
@@ -168,6 +168,34 @@ def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal:
     return "move " + ", ".join(parts) if parts else ""
 
 
+
+def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
+    """What the crew does about shot ``k``, for ``check.txt`` and ``check.html``:
+    the move for one out of tolerance, which shot governs for a duplicate or
+    a superseded one, what to check for an unmatched shot or a control point
+    that is off; empty for a shot within tolerance.
+    """
+    s = r.status[k]
+    by_position = " (matched by position)" if r.matched_by[k] == "nearest" else ""
+    g = int(r.related[k])
+    governor = f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
+    if s == "out":
+        f = r.fails[k]
+        what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
+                         f in ("vertical", "both"), move_decimals(d.unit.is_feet, r.horizontal_tolerance))
+        return f"{what or 'reset it'}{by_position}"
+    if s == "duplicate":
+        return f"design point {target_id(d, r, k)} already has {governor}{by_position}; find which stake is the point"
+    if s == "unmatched":
+        return f"no design or control point within {r.search_radius:.4f}; check the point number and the shot"
+    if s == "superseded":
+        return f"superseded by {governor} ({r.status[g]})"
+    if s == "control" and r.fails[k]:
+        return (f"control point {target_id(d, r, k)} is off{by_position}; check the setup (occupied point, "
+                "backsight, heights) before staking on")
+    return ""
+
+
 def _fit(v: float, width: int, decimals: int) -> str:
     """A number in at most ``width`` characters: fewer decimals, then ``1e+05`` form; empty for NaN."""
     if not math.isfinite(v):
@@ -191,7 +219,6 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     unit = job.info.unit
     counts = r.counts()
     station_label = d.stationing.label
-    move_dec = move_decimals(unit.is_feet, r.horizontal_tolerance)
 
     title = f"STAKED-POINT CHECK   {job.info.name}".rstrip()
     out = [clip(title, width),
@@ -219,7 +246,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
 
     def target(k: int) -> str:
-        t = _target_id(d, r, k)
+        t = target_id(d, r, k)
         return t + "*" if r.matched_by[k] == "nearest" else t
 
     def table(ks: list[int], with_status: bool, notes: dict[int, str]) -> tuple[list[str], list[str]]:
@@ -261,36 +288,15 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             out.append("\n".join(lines))
         return heads, out
 
-    def gov(k: int) -> str:
-        g = int(r.related[k])
-        return f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
-
     attention = [k for k in range(len(shots)) if r.needs_attention(k)]
-    notes: dict[int, str] = {}
-    for k in attention:
-        s = r.status[k]
-        by_position = " (matched by position)" if r.matched_by[k] == "nearest" else ""
-        if s == "out":
-            f = r.fails[k]
-            what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
-                             f in ("vertical", "both"), move_dec)
-            notes[k] = f"{what or 'reset it'}{by_position}"
-        elif s == "duplicate":
-            notes[k] = (f"design point {_target_id(d, r, k)} already has {gov(k)}{by_position}; "
-                        "find which stake is the point")
-        elif s == "unmatched":
-            notes[k] = (f"no design or control point within {r.search_radius:.4f}; "
-                        "check the point number and the shot")
-        else:
-            notes[k] = (f"control point {_target_id(d, r, k)} is off{by_position}; "
-                        "check the setup (occupied point, backsight, heights) before staking on")
+    notes = {k: what_to_do(d, shots, r, k) for k in attention}
     fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
     superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
         ("NEEDS ATTENTION, with what to do (out, duplicate, unmatched, control off)", attention, True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
         ("SUPERSEDED (shot again later in the file; the later shot governs)", superseded, False,
-         {k: f"superseded by {gov(k)} ({r.status[int(r.related[k])]})" for k in superseded}),
+         {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
     for name, ks, with_status, extra in sections:

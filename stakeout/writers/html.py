@@ -443,7 +443,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     shots, r : Shots, CheckResult
         The shots read and the check's result, in file order.
     """
-    from .checkreport import cut_fill, move_decimals, move_text, status_text
+    from .checkreport import cut_fill, status_text, target_id, what_to_do
     from .picture import residual_svg_element
 
     job, design, unit = d.job, d.stakes, d.unit
@@ -474,44 +474,18 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
                                             f"{r.restake.size - r.not_staked.size}, not staked {r.not_staked.size}")]
     with_grade = d.design_elevation is not None
     marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
-    move_dec = move_decimals(unit.is_feet, r.horizontal_tolerance)
     cols = [("shot", "t"), ("design", "t"), ("station", "n"), ("offset", "n"), ("horiz", "n"), ("d along", "n"),
             ("d across", "n"), ("d elev", "n")] + ([("mark", "t")] if with_grade else []) + [("status", "t")]
     label = d.stationing.label
 
-    def target(k: int) -> str:
-        i, c = int(r.design_index[k]), int(r.control_index[k])
-        return design.point[i] if i >= 0 else (r.control_ids[c] if c >= 0 else "")
-
-    def governor(k: int) -> str:
-        g = int(r.related[k])
-        return f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
-
-    def what_to_do(k: int) -> str:
-        s = r.status[k]
-        by_position = " (matched by position)" if r.matched_by[k] == "nearest" else ""
-        if s == "out":
-            f = r.fails[k]
-            what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
-                             f in ("vertical", "both"), move_dec)
-            return f"{what or 'reset it'}{by_position}"
-        if s == "duplicate":
-            return f"design point {target(k)} already has {governor(k)}{by_position}; find which stake is the point"
-        if s == "unmatched":
-            return f"no design or control point within {r.search_radius:.4f}; check the point number and the shot"
-        if s == "superseded":
-            return f"superseded by {governor(k)} ({r.status[int(r.related[k])]})"
-        return (f"control point {target(k)} is off{by_position}; check the setup (occupied point, backsight, "
-                "heights) before staking on")
-
     def row(k: int, note: bool) -> list[Cell]:
-        out: list[Cell] = [shots.point[k], target(k), label(float(r.station[k])), _f(r.offset[k]),
+        out: list[Cell] = [shots.point[k], target_id(d, r, k), label(float(r.station[k])), _f(r.offset[k]),
                            _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k])]
         if with_grade:
             out.append(marks[k])
         out.append((status_text(r, k), f"status-{r.status[k]}"))
         if note:
-            out.append(what_to_do(k))
+            out.append(what_to_do(d, shots, r, k))
         return out
 
     def table(ks: list[int], note: str = "") -> str:
