@@ -255,11 +255,10 @@ class Alignment:
             uniq, inv = np.unique(keys, return_inverse=True)
             set_of_cell = np.array([grid.cell_set.get(k, -1) for k in uniq.tolist()], dtype=np.int64)
             set_of_pt = set_of_cell[inv]
-            flat, first, size = self._grid_sets(grid)
             missed = fin[set_of_pt < 0]
             sid = set_of_pt[set_of_pt >= 0]
             hit = fin[set_of_pt >= 0]
-            res = self._locate_candidates(n[hit], e[hit], flat, first[sid], size[sid])
+            res = self._locate_candidates(n[hit], e[hit], grid.flat, grid.first[sid], grid.size[sid])
             # nearer than a cell: no element outside the candidates can be nearer, except the first and
             # last tangents, which extend beyond the grid's boxes
             ok = (res[2] <= grid.g) & (self._beyond_ends(n[hit], e[hit]) >= res[2])
@@ -313,15 +312,6 @@ class Alignment:
         """
         nel = len(self.elements)
         return self._locate_candidates(n, e, np.arange(nel), np.zeros(n.size, np.int64), np.full(n.size, nel))
-
-    def _grid_sets(self, grid: ElementGrid) -> tuple[NDArray[np.int64], NDArray[np.int64], NDArray[np.int64]]:
-        """The grid's candidate sets laid end to end: elements, first index and size of each set."""
-        cached = self._arrays.get("_grid_sets")
-        if cached is None:
-            size = np.array([len(c) for c in grid.sets], dtype=np.int64)
-            cached = (np.concatenate(grid.sets).astype(np.int64), np.cumsum(size) - size, size)
-            self._arrays["_grid_sets"] = cached
-        return cached
 
     def _locate_candidates(self, n: F, e: F, flat: NDArray[np.int64], first: NDArray[np.int64],
                            size: NDArray[np.int64]) -> F:

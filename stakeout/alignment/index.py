@@ -24,15 +24,18 @@ GRID_MIN_ELEMENTS = 8
 @dataclass(frozen=True)
 class ElementGrid:
     """Cell size ``g`` (job units), origin, and for each cell key the index of
-    its candidate set in ``sets`` (cells along one element share a set, so the
-    inverse handles all their points in one vectorised step).
+    its candidate set (cells along one element share a set).  The sets are
+    laid end to end: set ``i`` is ``flat[first[i]:first[i] + size[i]]``, so
+    the inverse gathers every point's candidates in one step.
     """
 
     g: float
     e_min: float
     n_min: float
     cell_set: dict[int, int]
-    sets: tuple[NDArray[np.int64], ...]
+    flat: NDArray[np.int64]
+    first: NDArray[np.int64]
+    size: NDArray[np.int64]
 
     def keys(self, n: NDArray[np.float64], e: NDArray[np.float64]) -> NDArray[np.int64]:
         """The cell key of each point."""
@@ -87,4 +90,6 @@ def build_grid(elements: Sequence[Element], length: float,
                 cells.setdefault((ix << 32) + iy, []).append(idx)
     ids: dict[tuple[int, ...], int] = {}
     cell_set = {key: ids.setdefault(tuple(v), len(ids)) for key, v in cells.items()}
-    return ElementGrid(g, float(e_min), float(n_min), cell_set, tuple(np.array(k) for k in ids))
+    size = np.array([len(k) for k in ids], dtype=np.int64)
+    flat = np.array([i for k in ids for i in k], dtype=np.int64)
+    return ElementGrid(g, float(e_min), float(n_min), cell_set, flat, np.cumsum(size) - size, size)
