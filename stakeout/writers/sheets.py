@@ -332,13 +332,6 @@ def _spiral_rows(el: Spiral, s: np.ndarray) -> list[DeflectionRow]:
     return list(zip(s.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
 
 
-def _reading(defl: float, turn: int) -> str:
-    """The circle reading for a left deflection (360 - d), blank for a right one."""
-    if turn >= 0 or defl == 0.0:
-        return ""
-    return str(format_dms(360.0 - defl, 0))
-
-
 def _side(o: float) -> str:
     return f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
 
@@ -383,10 +376,11 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     spirals = False
     # the sheet in order: a title (str) opens each element and offset line, then its data rows
-    items: list[str | tuple[str, float, float, float, float, str]] = []
+    # (internal station, length, deflection, chord, sub-chord, turn)
+    items: list[str | tuple[float, float, float, float, float, int]] = []
 
     def data(rows: list[DeflectionRow], turn: int) -> None:
-        items.extend((lab(st), along, defl, chord, inc, _reading(defl, turn)) for st, along, defl, chord, inc in rows)
+        items.extend((*row, turn) for row in rows)
 
     for curve_no, i, rows in deflection_rows(alignment, d.stakes.stations):
         el = alignment.elements[i]
@@ -405,13 +399,17 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         for o, code in offsets:  # the offset line from its own start point, along its own start tangent
             items.append(f"  offset line {code} {_side(o)}: from its point opposite {start_name} {lab(el.start)}")
             data(_offset_rows(alignment, el, stations, o), el.turn)
-    values = [x for x in items if not isinstance(x, str)]
-    cols = [Column("station", [v[0] for v in values]),
-            Column("length", fixed([v[1] for v in values], 4)),
-            Column("deflection", [str(format_dms(v[2], 0)) for v in values]),
-            Column("chord", fixed([v[3] for v in values], 4)),
-            Column("sub-chord", fixed([v[4] for v in values], 4)),
-            Column("reading", [v[5] for v in values])]
+    v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
+    defl = v[:, 2]
+    # the circle reading for a left deflection (360 - d), blank for a right one
+    left = (v[:, 5] < 0) & (defl != 0.0)
+    readings = _texts(format_dms(360.0 - defl, 0))
+    cols = [Column("station", d.stationing.labels(v[:, 0]) if v.size else []),
+            Column("length", fixed(v[:, 1], 4)),
+            Column("deflection", _texts(format_dms(defl, 0))),
+            Column("chord", fixed(v[:, 3], 4)),
+            Column("sub-chord", fixed(v[:, 4], 4)),
+            Column("reading", [r if lt else "" for r, lt in zip(readings, left.tolist())])]
     heads, records = table_lines(cols, table)
     out: list[str] = []
     pending: list[str] = []  # title lines waiting for their first data row

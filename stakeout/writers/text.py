@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -257,9 +258,9 @@ class Column:
     align: str = ">"
     with_previous: bool = False  # printed on the same line as the column before it (a group)
 
-    @property
+    @cached_property
     def width(self) -> int:
-        """Characters the column needs: its header or its widest value."""
+        """Characters the column needs: its header or its widest value (measured once)."""
         return max([len(self.header)] + [len(v) for v in self.values])
 
     def cell(self, text: str) -> str:
@@ -399,7 +400,8 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
         ruled = max([0] + [len(c) for c in columns] + [len(line) for r in records for line in r[:1]])
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
         first = True
-        while first or records:
+        pos = 0  # records placed so far
+        while first or pos < len(records):
             if k == 0 and first:
                 opening = head + ["page {page} of {pages}"] + part_head
             elif first and not part.new_page and pages:
@@ -410,21 +412,20 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
             elif first:
                 opening = ["{title}", ""] + part_head
             else:
-                opening = ["{title}", part.continued]
+                opening = ["{title}", clip(part.continued, width)]
             on_new_page = opening[0] == "{title}" or not pages or (k == 0 and first)
             page = opening + rules + columns + rules
             used = (0 if on_new_page else len(pages[-1])) + len(page) + len(rules)
-            taken = 0
-            while taken < len(records) and (used + len(records[taken]) <= PAGE_LINES or taken == 0):
-                used += len(records[taken])
-                page.extend(records[taken])
-                taken += 1
+            start = pos
+            while pos < len(records) and (used + len(records[pos]) <= PAGE_LINES or pos == start):
+                used += len(records[pos])
+                page.extend(records[pos])
+                pos += 1
             page.extend(rules)
             if on_new_page:
                 pages.append(page)
             else:
                 pages[-1].extend(page)
-            records = records[taken:]
             first = False
     if len(pages[-1]) + len(closing) <= PAGE_LINES:
         pages[-1].extend(closing)
