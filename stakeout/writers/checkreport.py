@@ -270,12 +270,12 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             cols.append(Column("mark", ["" if r.status[k] == "control" else
                                         _short_mark(marks[k], float(r.d_elevation[k])) for k in ks], "<"))
         status = [status_text(r, k) for k in ks]
-        inline = False
         if with_status:
-            heads, records = table_lines(cols + [Column("status", status, "<")], width)
-            inline = len(heads) == 1
-        if not inline:
-            heads, records = table_lines(cols, width)
+            cols.append(Column("status", status, "<"))
+        inline = with_status and sum(c.width + 1 for c in cols) - 1 <= width  # the whole row fits the page
+        if with_status and not inline:
+            cols.pop()
+        heads, records = table_lines(cols, width)
         out = []
         for i, k in enumerate(ks):
             lines = [records[i]]
