@@ -23,7 +23,7 @@ __all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help"
 class Rendered(dict[str, bytes]):
     """Files rendered so far in one build (file name -> bytes), so that one
     output can reuse another (the preview is drawn from plan.dxf, the report holds plan.svg),
-    and the build's print option: ``wide`` text sheets (one line per stake, up to 132 columns)
+    and the build's print option: ``wide`` text sheets (one line per stake, notes wrapped at 132 columns)
     instead of 80 columns.
     """
 

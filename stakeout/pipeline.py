@@ -77,7 +77,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
               wide: bool = False) -> list[str]:
     """``stakeout build``: compute a job and write its outputs atomically.
 
-    ``wide``: the text sheets one line per stake, up to 132 columns (default 80).
+    ``wide``: the text sheets one line per stake, notes wrapped at 132 columns (default: 80 columns).
 
     Returns
     -------

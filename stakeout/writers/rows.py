@@ -19,7 +19,6 @@ __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows",
            "station"]
 
 Field = NDArray[np.uint8]
-_POW10 = 10 ** np.arange(19, dtype=np.int64)
 _LIMIT = 10**17  # largest scaled value handled exactly
 
 
