@@ -2,6 +2,7 @@
 independent construction."""
 
 import math
+from pathlib import Path
 
 import ezdxf
 import numpy as np
@@ -137,3 +138,36 @@ def test_png_preview(tmp_path):
     assert runner.invoke(app, ["build", str(SAMPLES / "site_road_metric.toml"), "--out", str(out),
                                "--only", "preview"]).exit_code == 0
     assert (out / "plan.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def _has_avx512() -> bool:
+    try:
+        from numpy._core._multiarray_umath import __cpu_features__
+    except ImportError:  # pragma: no cover - older numpy
+        return False
+    return bool(__cpu_features__.get("AVX512_SKX"))
+
+
+@pytest.mark.skipif(not _has_avx512(), reason="needs a processor with AVX-512 to compare numpy's two trig kernels")
+def test_plan_dxf_same_bytes_whichever_trig_kernel_numpy_picks(tmp_path):
+    """Regression: plan.dxf of the loop ramp differed between two machines.
+
+    numpy picks its vectorised sine/arctangent kernels by processor (AVX-512 or
+    not) and they differ in the last bits; label rotations written in full
+    carried that noise into the file.  Build with numpy's AVX-512 kernels
+    switched off (NPY_DISABLE_CPU_FEATURES, numpy's own switch) and compare.
+    """
+    import os
+    import subprocess
+    import sys
+
+    job = Path(__file__).resolve().parent.parent / "sample_jobs" / "loop_ramp_usft.toml"
+    outs = []
+    for disabled in ("", "X86_V4"):
+        env = dict(os.environ, NPY_DISABLE_CPU_FEATURES=disabled)
+        out = tmp_path / (disabled or "all")
+        r = subprocess.run([sys.executable, "-m", "stakeout.cli", "build", str(job), "--out", str(out), "--only", "dxf"],
+                           env=env, capture_output=True, text=True)
+        assert r.returncode == 0, r.stderr
+        outs.append((out / "plan.dxf").read_bytes())
+    assert outs[0] == outs[1]

@@ -77,8 +77,17 @@ def dxf_angle(azimuth_deg: float) -> float:
     return (90.0 - azimuth_deg) % 360.0
 
 
+#: Decimals of a label's rotation (degrees).  Rotations come from azimuths that numpy's
+#: vectorised trigonometry computes to within a few units in the last place, and which
+#: kernel runs depends on the processor (AVX-512 or not): written in full, the same job
+#: gave different plan.dxf bytes on two machines.  A millionth of a degree is far below
+#: anything a drawing shows, and far above that noise.
+ROTATION_DECIMALS = 6
+
+
 def _text(msp, s: str, x: float, y: float, h: float, layer: str, rot: float = 0.0, align: str = "LEFT") -> None:
-    t = msp.add_text(s, height=h, rotation=rot % 360.0, dxfattribs={"layer": layer, "style": TEXT_STYLE})
+    rotation = round(rot % 360.0, ROTATION_DECIMALS) % 360.0
+    t = msp.add_text(s, height=h, rotation=rotation, dxfattribs={"layer": layer, "style": TEXT_STYLE})
     t.set_placement((x, y), align=ezdxf.enums.TextEntityAlignment[align])
 
 
