@@ -296,7 +296,7 @@ def _build(c: Design) -> Any:
                      f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
         lines.append("")
     lines.append("CURVE DATA")
-    for ct in curve_texts(a, stn):
+    for ct in curve_texts(c):
         cv, t = ct.curve, ct.curve.tangents
         head = f"curve {cv.number}: {ct.turn}, I {ct.delta}"
         if cv.pi_station is not None and t is not None:

@@ -173,7 +173,7 @@ def _job_facts(d: Design) -> list[tuple[str, str]]:
 
 # ---- report.html ------------------------------------------------------------------------------
 def _curve_section(d: Design) -> str:
-    cts = curve_texts(d.alignment, d.stationing)
+    cts = curve_texts(d)
     if not cts:
         return "<h2>Curve data</h2><p>The alignment has no curves.</p>"
     out = ["<h2>Curve data</h2>"]

@@ -617,7 +617,7 @@ def plan_svg_element(d: Design) -> str:
     job, a, sp, stn = d.job, d.alignment, d.stakes, d.stationing
     unit = d.unit
     occs = _occupations(d)
-    cts = {ct.curve.number: ct for ct in curve_texts(a, stn)}
+    cts = {ct.curve.number: ct for ct in curve_texts(d)}
     el_e = np.array([el.start_easting for el in a.elements] + [a.elements[-1].end_easting])
     el_n = np.array([el.start_northing for el in a.elements] + [a.elements[-1].end_northing])
     # the elements' bounding samples (arcs bulge beyond their ends)

@@ -46,7 +46,7 @@ def curve_report(d: Design) -> str:
     out.append(f"{'station':>12}  {'feature':<10}  {'northing':>15}  {'easting':>15}")
     for kp in alignment.key_points:
         out.append(f"{st(kp.station):>12}  {' '.join(kp.features):<10}  {kp.northing:15.4f}  {kp.easting:15.4f}")
-    for ct in curve_texts(alignment, d.stationing):
+    for ct in curve_texts(d):
         c = ct.curve
         out.append("")
         out.append(f"CURVE {c.number}  ({ct.kind}, turning {ct.turn})")

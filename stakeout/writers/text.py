@@ -12,14 +12,14 @@ import math
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike
 
-from ..alignment import Alignment, Arc, Curve, Element, Spiral
 from ..angles import format_dms
 from ..design import Design
-from ..stations import Stationing
+from ..presentation import CurveView, Element
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
@@ -143,22 +143,40 @@ def header_lines(title: str, d: Design) -> list[str]:
 # ---- curve data ------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class CurveText:
-    """A curve's data as text pieces, shared by the sheets, the report and the plan.
+    """A curve's data (:class:`~stakeout.presentation.CurveView`) with its words and station
+    labels, shared by the sheets, the reports and the drawings.
 
     ``back_side``/``ahead_side`` name the two-centred tangents:
     ``("T_A", "R1", radius)`` on the larger-radius side, ``("T_B", "R2",
     radius)`` on the smaller; ``None`` for other curves.
     """
 
-    curve: Curve
+    view: CurveView
     turn: str
     delta: str
     pi_label: str
-    back_side: tuple[str, str, float] | None
-    ahead_side: tuple[str, str, float] | None
-    arcs: tuple[tuple[Arc, str, str], ...]  # (arc, start label, end label)
-    spirals: tuple[tuple[Spiral, str, str], ...] = ()  # (spiral, start label, end label)
-    external: float | None = None  # PI to the nearest point of a curve with spirals
+    arcs: tuple[tuple[Any, str, str], ...]  # (arc, start label, end label)
+    spirals: tuple[tuple[Any, str, str], ...] = ()  # (spiral, start label, end label)
+
+    @property
+    def curve(self) -> Any:
+        """The alignment's curve."""
+        return self.view.curve
+
+    @property
+    def back_side(self) -> tuple[str, str, float] | None:
+        """The back tangent's name and side on a two-centred curve."""
+        return self.view.back_side
+
+    @property
+    def ahead_side(self) -> tuple[str, str, float] | None:
+        """The ahead tangent's name and side on a two-centred curve."""
+        return self.view.ahead_side
+
+    @property
+    def external(self) -> float | None:
+        """PI to the nearest point of a curve with spirals."""
+        return self.view.external
 
     @property
     def kind(self) -> str:
@@ -175,42 +193,19 @@ def end_radii(el: Element) -> tuple[str, str]:
     return r0, r1
 
 
-def spiral_line(sp: Spiral, a0: str, a1: str) -> str:
+def spiral_line(sp: Element, a0: str, a1: str) -> str:
     """One line of a spiral's data: stations, length, radii, central angle."""
     r0, r1 = end_radii(sp)
     return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
-def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]:
-    """Text pieces of every curve of the alignment."""
-    out = []
-    for c in alignment.curves:
-        arcs = [alignment.elements[i] for i in c.elements]
-        radii = [a.radius for a in arcs if isinstance(a, Arc)]
-        back = ahead = None
-        t = c.tangents
-        if t is not None and t.t_a_side is not None:
-            big, small = ("T_A", "R1", max(radii)), ("T_B", "R2", min(radii))
-            back, ahead = (big, small) if t.t_a_side == "back" else (small, big)
-        spirals = tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs
-                        if isinstance(a, Spiral))
-        external = None
-        if spirals and c.pi_northing is not None and c.pi_easting is not None:
-            external = _external(arcs, c.pi_northing, c.pi_easting)
-        out.append(CurveText(
-            c, turn_word(c.turn), str(format_dms(c.delta, 1)), stationing.label(c.pi_station), back, ahead,
-            tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs if isinstance(a, Arc)),
-            spirals, external,
-        ))
-    return out
-
-
-def _external(run: list[Element], pi_n: float, pi_e: float) -> float:
-    """Distance from the PI to the nearest point of a curve (dense samples refined on the elements)."""
-    from ..alignment import Alignment
-
-    part = Alignment.from_elements("", list(run), (), ())
-    return float(part.locate(pi_n, pi_e).distance)
+def curve_texts(d: Design) -> list[CurveText]:
+    """Words and station labels of every curve's data (:attr:`Presentation.curves`)."""
+    label = d.stationing.label
+    return [CurveText(cv, turn_word(cv.curve.turn), str(format_dms(cv.curve.delta, 1)), label(cv.curve.pi_station),
+                      tuple((a, label(a.start), label(a.end)) for _, a in cv.arcs),
+                      tuple((sp, label(sp.start), label(sp.end)) for _, sp in cv.spirals))
+            for cv in d.presentation.curves]
 
 
 def curve_lines(d: Design) -> list[str]:
@@ -220,7 +215,7 @@ def curve_lines(d: Design) -> list[str]:
     out = ["CURVE DATA"]
     if not d.alignment.curves:
         out.append("  (no curves)")
-    for ct in curve_texts(d.alignment, d.stationing):
+    for ct in curve_texts(d):
         c, t = ct.curve, ct.curve.tangents
         head = f"  curve {c.number}  {ct.turn}  I {ct.delta}"
         if c.pi_station is None or t is None:
