@@ -261,12 +261,14 @@ class DeflectionTable:
 @dataclass(frozen=True)
 class SetoutColumn:
     """One column of the setout table: its key (:data:`SETOUT_HEADERS`), its values
-    (numbers, or the stakes' ids, labels, codes and notes) and whether it is printed with
-    the column before it (a group).
+    (numbers, or the stakes' ids, labels, codes and notes: ``decimals`` None), the decimals
+    it is printed to (seconds for the angles) and whether it is printed with the column
+    before it (a group).
     """
 
     key: str
     values: Any
+    decimals: int | None = None
     grouped: bool = False
 
 
@@ -346,19 +348,20 @@ class Presentation:
         assert sd is not None
         sp, so = d.stakes, sd.setout
         cols = [SetoutColumn("point", sp.point), SetoutColumn("station", sp.station_label),
-                SetoutColumn("offset", sp.offset), SetoutColumn("code", sp.code),
-                SetoutColumn("feature", sp.feature), SetoutColumn("angle_right", so.angle_right),
-                SetoutColumn("grid_distance", so.grid_distance), SetoutColumn("ground_distance", so.ground_distance)]
+                SetoutColumn("offset", sp.offset, d.unit.station_decimals), SetoutColumn("code", sp.code),
+                SetoutColumn("feature", sp.feature), SetoutColumn("angle_right", so.angle_right, 0),
+                SetoutColumn("grid_distance", so.grid_distance, 3),
+                SetoutColumn("ground_distance", so.ground_distance, 3)]
         if sp.elevation is not None:
-            cols.append(SetoutColumn("design_elevation", sp.elevation))
+            cols.append(SetoutColumn("design_elevation", sp.elevation, 3))
         if so.zenith is not None and so.slope_distance is not None:
-            cols.append(SetoutColumn("zenith", so.zenith))
-            cols.append(SetoutColumn("slope_distance", so.slope_distance, grouped=True))
+            cols.append(SetoutColumn("zenith", so.zenith, 0))
+            cols.append(SetoutColumn("slope_distance", so.slope_distance, 3, grouped=True))
         prec = sd.precision
         if prec is not None:
-            cols.append(SetoutColumn("sigma_along", prec.sigma_along))
-            cols.append(SetoutColumn("sigma_across", prec.sigma_across, grouped=True))
-            cols.append(SetoutColumn("r95", prec.r95, grouped=True))
+            cols.append(SetoutColumn("sigma_along", prec.sigma_along, 4))
+            cols.append(SetoutColumn("sigma_across", prec.sigma_across, 4, grouped=True))
+            cols.append(SetoutColumn("r95", prec.r95, 4, grouped=True))
         if any(self.stake_notes):
             cols.append(SetoutColumn("note", self.stake_notes))
         return tuple(cols)

@@ -17,14 +17,14 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
-from ..angles import format_dms
+from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..presentation import CurveView, Element
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "paged", "paged_parts", "setout_cells", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -238,6 +238,36 @@ def curve_lines(d: Design) -> list[str]:
         if ct.external is not None:
             out.append(f"    external (PI to the curve)  {ct.external:.4f}")
     return out
+
+
+# ---- the setout table ---------------------------------------------------------------------------
+def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
+    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, shared by
+    ``setout.txt`` and ``report.html``: angles in D-M-S to the second (none at the
+    instrument), offsets with their side (``sided``) or signed, numbers to their decimals.
+    """
+    assert d.setup is not None
+    at = d.setup.setout.at_instrument
+    out: list[tuple[Any, list[str]]] = []
+    for c in d.presentation.setout_columns:
+        if c.decimals is None:
+            texts = list(c.values)
+        elif c.key == "angle_right":
+            angles = _texts(format_azimuth_dms(c.values, 0))
+            texts = ["" if at[i] else angles[i] for i in range(len(angles))]
+        elif c.key == "zenith":
+            texts = _texts(format_dms(c.values, 0))
+        elif c.key == "offset" and sided:
+            texts = side_text(c.values, c.decimals)
+        else:
+            texts = fixed(c.values, c.decimals)
+        out.append((c, texts))
+    return out
+
+
+def _texts(formatted: str | list[str]) -> list[str]:
+    """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
+    return [formatted] if isinstance(formatted, str) else formatted
 
 
 # ---- tables ----------------------------------------------------------------------------------
