@@ -80,9 +80,7 @@ def _spirals(d: "Design", done: Rendered) -> bytes:
 
 
 def _has_spirals(d: "Design") -> bool:
-    from .alignment import Spiral
-
-    return any(isinstance(el, Spiral) for el in d.alignment.elements)
+    return d.presentation.has_spirals
 
 
 def _elements(d: "Design", done: Rendered) -> bytes:

@@ -6,10 +6,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..alignment import Arc, Spiral, degree_of_curve_arc
-from ..alignment.clothoid import spiral_figures
+from typing import Any
+
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from ..presentation import degree_of_curve_arc
 from .text import CAUTION_LINES, curve_texts, spiral_line, turn_word
 
 __all__ = ["curve_report"]
@@ -67,8 +68,9 @@ def curve_report(d: Design) -> str:
             out.append(f"  tangent PI to end (ahead)   {t.ahead:12.4f}{ahead_name}")
         for n, (arc, a0, a1) in enumerate(ct.arcs, start=1):
             out.extend(_arc_lines(n, arc, a0, a1, unit.is_feet))
+        figures = {id(sv.element): sv.figures for sv in d.presentation.spirals}
         for n, (sp, a0, a1) in enumerate(ct.spirals, start=1):
-            out.extend(_spiral_lines(n, sp, a0, a1))
+            out.extend(_spiral_lines(n, sp, figures[id(sp)], a0, a1))
         if ct.external is not None:
             out.append(f"  external (PI to the curve)  {ct.external:.4f}")
     out.append("")
@@ -76,7 +78,7 @@ def curve_report(d: Design) -> str:
     return "\n".join(out) + "\n"
 
 
-def _arc_lines(n: int, el: Arc, a0: str, a1: str, feet: bool) -> list[str]:
+def _arc_lines(n: int, el: Any, a0: str, a1: str, feet: bool) -> list[str]:
     p = el.props
     assert p is not None
     tan = f"{p.tangent:.4f}" if p.tangent is not None else "-"
@@ -89,8 +91,7 @@ def _arc_lines(n: int, el: Arc, a0: str, a1: str, feet: bool) -> list[str]:
             f"         centre N {el.center_northing:.4f}  E {el.center_easting:.4f}"]
 
 
-def _spiral_lines(n: int, sp: Spiral, a0: str, a1: str) -> list[str]:
-    f = spiral_figures(sp.length, sp.radius_start, sp.radius_end)
+def _spiral_lines(n: int, sp: Any, f: Any, a0: str, a1: str) -> list[str]:
     out = [f"  spiral {n}: {spiral_line(sp, a0, a1)}"]
     if f.p is not None and f.k is not None and f.long_tangent is not None and f.short_tangent is not None:
         out.append(f"         X {f.x:.4f}   Y {f.y:.4f}   p {f.p:.4f}   k {f.k:.4f}")

@@ -14,10 +14,9 @@ from concurrent.futures import ThreadPoolExecutor
 import numpy as np
 from numpy.typing import NDArray
 
-from ..alignment import Arc, Spiral, degree_of_curve_arc
-from ..alignment.clothoid import spiral_figures
 from ..angles import format_dms
 from ..design import Design
+from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
 from .text import fixed_or_empty, turn_word
@@ -167,12 +166,12 @@ def curves_csv(design: Design) -> bytes:
     ``pc_station``/``pt_station`` are the arc's own start and end (PC or
     PCC/PRC, PCC/PRC or PT); ``pi_station`` is the PI of the whole curve.
     """
-    alignment, unit, station = design.alignment, design.unit, design.stationing.station
+    unit, station = design.unit, design.stationing.station
     rows = []
     d = DECIMALS
-    for curve in alignment.curves:
-        arcs = [alignment.elements[i] for i in curve.elements]
-        for arc_no, el in enumerate((a for a in arcs if isinstance(a, Arc)), start=1):
+    for cv in design.presentation.curves:
+        curve = cv.curve
+        for arc_no, (_, el) in enumerate(cv.arcs, start=1):
             p = el.props
             assert p is not None
             fields = [
@@ -281,7 +280,7 @@ def profile_csv(design: Design) -> bytes:
         return "" if g is None else fixed_or_empty(100.0 * g, GRADE_DECIMALS)
 
     lines = []
-    for i, r in enumerate(design.profile.rows(), start=1):
+    for i, r in enumerate(design.presentation.profile_rows, start=1):
         lines.append(",".join([
             str(i), station(r.station), st.label(r.station), fixed_or_empty(r.elevation, d),
             grade(r.grade_in), grade(r.grade_out),
@@ -331,11 +330,10 @@ def spirals_csv(design: Design) -> bytes:
     st = design.stationing
     d = DECIMALS
     lines = []
-    spirals = [(i, el) for i, el in enumerate(design.alignment.elements, start=1) if isinstance(el, Spiral)]
-    for number, (i, el) in enumerate(spirals, start=1):
-        f = spiral_figures(el.length, el.radius_start, el.radius_end, name=f"element {i}")
+    for sv in design.presentation.spirals:
+        el, f, i = sv.element, sv.figures, sv.index + 1
         lines.append(",".join([
-            str(number), fixed_or_empty(float(st.station(el.start)), d),
+            str(sv.number), fixed_or_empty(float(st.station(el.start)), d),
             fixed_or_empty(float(st.station_back(el.end)), d), fixed_or_empty(el.length, d),
             fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), f"{f.theta_deg:.8f}",
             fixed_or_empty(f.x, d), fixed_or_empty(f.y, d), fixed_or_empty(f.p, d), fixed_or_empty(f.k, d),
