@@ -26,9 +26,9 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 from numpy.typing import NDArray
 
-from ..alignment import Alignment, Arc, Element, Line
 from ..angles import format_dms
 from ..design import Design
+from ..presentation import Element, PerKind
 from .text import curve_texts, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -85,11 +85,6 @@ def _n(v: float) -> str:
     """One coordinate on the canvas: two decimals, never ``-0.00``."""
     t = f"{v:.2f}"
     return "0.00" if t == "-0.00" else t
-
-
-def _pts(x: F, y: F) -> str:
-    """``x,y x,y ...`` of a polyline."""
-    return " ".join(f"{_n(a)},{_n(b)}" for a, b in zip(x.tolist(), y.tolist()))
 
 
 def _text_width(text: str, size: float) -> float:
@@ -339,12 +334,6 @@ class _Text:
         self.items.append(f'<text x="{_n(x)}" y="{_n(y)}"{a}{extra}>{escape(text)}</text>')
 
 
-def _label_box(cx: float, cy: float, lines: Sequence[str], size: float) -> tuple[float, float, float, float]:
-    w = max(_text_width(t, size) for t in lines) + 2.0
-    h = len(lines) * size * 1.15 + 1.0
-    return cx - w / 2, cy - h / 2, cx + w / 2, cy + h / 2
-
-
 def _draw_label(out: _Text, box: Sequence[float], lines: Sequence[str], size: float) -> None:
     """Lines of text centred in a box (baselines from the box's top)."""
     x = (box[0] + box[2]) / 2
@@ -354,23 +343,20 @@ def _draw_label(out: _Text, box: Sequence[float], lines: Sequence[str], size: fl
 
 
 # ---- alignment paths ------------------------------------------------------------------------
-def _ends(a: Alignment, el: Element, offset: float) -> tuple[float, float, float, float]:
-    (n0, n1), (e0, e1), _ = a.evaluate(np.array([el.start, el.end]), offset)
-    return float(e0), float(n0), float(e1), float(n1)
-
-
 Segment = tuple[tuple[float, float], tuple[float, float], str]  # start, end, path command
 
 
-def _seg_line(a: Alignment, el: Element, offset: float, v: View) -> Segment:
-    e0, n0, e1, n1 = _ends(a, el, offset)
+Ends = tuple[float, float, float, float]  # easting, northing at the start; at the end
+
+
+def _seg_line(d: Design, el: Element, ends: Ends, offset: float, v: View) -> Segment:
+    e0, n0, e1, n1 = ends
     x1, y1 = v.xy1(e1, n1)
     return v.xy1(e0, n0), (x1, y1), f"L{_n(x1)},{_n(y1)}"
 
 
-def _seg_arc(a: Alignment, el: Element, offset: float, v: View) -> Segment:
-    assert isinstance(el, Arc)
-    e0, n0, e1, n1 = _ends(a, el, offset)
+def _seg_arc(d: Design, el: Any, ends: Ends, offset: float, v: View) -> Segment:
+    e0, n0, e1, n1 = ends
     r = (el.radius - el.turn * offset) * v.scale
     x1, y1 = v.xy1(e1, n1)
     if r <= 1e-6:
@@ -384,32 +370,31 @@ def _seg_arc(a: Alignment, el: Element, offset: float, v: View) -> Segment:
 CHORD_TOLERANCE = 0.25
 
 
-def _seg_sampled(a: Alignment, el: Element, offset: float, v: View) -> Segment:
+def _seg_sampled(d: Design, el: Element, ends: Ends, offset: float, v: View) -> Segment:
     """Any element (spirals): a polyline whose chords stay within :data:`CHORD_TOLERANCE` of it."""
     k = max(abs(el.curvature_start), abs(el.curvature_end))
     k = k / max(1e-9, 1.0 - abs(k * offset))  # curvature of the offset line
     tol = CHORD_TOLERANCE / v.scale
     step = math.sqrt(8.0 * tol / k) if k > 0 else el.length
     count = int(min(20000, max(2, math.ceil(el.length / max(step, 1e-12)) + 1)))
-    s = np.linspace(el.start, el.end, count)
-    n, e, _ = a.evaluate(s, offset, miter=False)
+    n, e, _ = d.presentation.element_samples(el, count, offset)
     x, y = v.x(e), v.y(n)
     return ((float(x[0]), float(y[0])), (float(x[-1]), float(y[-1])),
             "L" + " ".join(f"{_n(p)},{_n(q)}" for p, q in zip(x[1:].tolist(), y[1:].tolist())))
 
 
-#: How each kind of element is drawn (keyed by class; other kinds are sampled).
-SEGMENTS: dict[type[Element], Callable[[Alignment, Element, float, View], Segment]] = {
-    Line: _seg_line, Arc: _seg_arc,
-}
+#: How each kind of element is drawn: a line, an arc, or a polyline of samples.
+SEGMENTS: PerKind[Callable[[Design, Any, Ends, float, View], Segment]] = PerKind(
+    "SVG path segment", {"line": _seg_line, "arc": _seg_arc, "spiral": _seg_sampled})
 
 
-def _path_d(a: Alignment, offset: float, v: View) -> str:
+def _path_d(d: Design, offset: float, v: View) -> str:
     """SVG path data of the centreline (offset 0) or an offset line."""
     parts: list[str] = []
     last: tuple[float, float] | None = None
-    for el in a.elements:
-        (x0, y0), end, cmd = SEGMENTS.get(type(el), _seg_sampled)(a, el, offset, v)
+    n0, e0, n1, e1 = (x.tolist() for x in d.presentation.element_ends(offset))
+    for k, el in enumerate(d.alignment.elements):
+        (x0, y0), end, cmd = SEGMENTS[el](d, el, (e0[k], n0[k], e1[k], n1[k]), offset, v)
         if last is None or abs(last[0] - x0) > 0.01 or abs(last[1] - y0) > 0.01:
             parts.append(f"M{_n(x0)},{_n(y0)}")
         parts.append(cmd)
@@ -594,13 +579,12 @@ def _grow(ext: tuple[float, float, float, float], e: F, n: F, reach: float) -> t
 
 
 def _alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) -> str:
-    a = d.alignment
     parts = [f'<g clip-path="url(#{clip_id})" fill="none" stroke-linejoin="round">']
     for ol in d.job.staking.offsets:
         if ol.offset != 0.0:
-            parts.append(f'<path class="so-offset" d="{_path_d(a, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
+            parts.append(f'<path class="so-offset" d="{_path_d(d, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
                          'stroke-width="0.8"/>')
-    parts.append(f'<path class="so-cl" d="{_path_d(a, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
+    parts.append(f'<path class="so-cl" d="{_path_d(d, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
     parts.append("</g>")
     return "".join(parts)
 
