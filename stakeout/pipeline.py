@@ -173,10 +173,11 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     """
     from .check import check_column_order, check_shots, job_control_points
     from .shots import parse_columns, read_shots
-    from .writers.checkreport import check_csv, check_txt, restake_csv
+    from .writers.checkreport import check_csv, check_txt
     from .writers.folder import OutputFolder
     from .writers.html import check_html
     from .writers.picture import residual_svg_element
+    from .writers.tables import restake_csv
 
     job = load_job(job_path)
     spec = job.check

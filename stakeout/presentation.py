@@ -109,12 +109,12 @@ def curve_views(alignment: Alignment) -> tuple[CurveView, ...]:
     externals = alignment.curve_externals()
     out = []
     for k, c in enumerate(alignment.curves):
-        parts: dict[str | None, list[tuple[int, Element]]] = {"arc": [], "spiral": []}
+        parts: dict[str | None, list[tuple[int, Element]]] = {"arcs": [], "spirals": []}
         for i in c.elements:
             el = alignment.elements[i]
             parts.setdefault(CURVE_PART[el], []).append((i, el))
-        arcs = cast("list[tuple[int, Arc]]", parts["arc"])
-        spirals = cast("list[tuple[int, Spiral]]", parts["spiral"])
+        arcs = cast("list[tuple[int, Arc]]", parts["arcs"])
+        spirals = cast("list[tuple[int, Spiral]]", parts["spirals"])
         back = ahead = None
         t = c.tangents
         if t is not None and t.t_a_side is not None:
@@ -286,9 +286,9 @@ class Presentation:
     @cached_property
     def spirals(self) -> tuple[SpiralView, ...]:
         """Every spiral of the alignment with its figures."""
-        out = []
+        out: list[SpiralView] = []
         for i, el in enumerate(self.d.alignment.elements, start=1):
-            if CURVE_PART[el] == "spiral":
+            if CURVE_PART[el] == "spirals":
                 sp = cast("Spiral", el)
                 f = spiral_figures(sp.length, sp.radius_start, sp.radius_end, name=f"element {i}")
                 out.append(SpiralView(len(out) + 1, i - 1, sp, f))
@@ -297,7 +297,7 @@ class Presentation:
     @property
     def has_spirals(self) -> bool:
         """Whether the alignment has a spiral."""
-        return any(CURVE_PART[el] == "spiral" for el in self.d.alignment.elements)
+        return any(CURVE_PART[el] == "spirals" for el in self.d.alignment.elements)
 
     @cached_property
     def profile_rows(self) -> tuple[PVIRow, ...]:

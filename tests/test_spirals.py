@@ -49,7 +49,7 @@ from stakeout.cli import app
 from stakeout.job import OffsetLine, Staking
 from stakeout.staking import plan_stakes
 from stakeout.stations import Stationing
-from stakeout.writers.sheets import deflection_rows
+from stakeout.presentation import deflection_rows
 
 from .helpers import build_job, read_rows, write_job
 

@@ -72,7 +72,7 @@ class PerKind(Generic[V]):
                             "stakeout.alignment.kinds") from None
 
 
-#: Which part of a curve an element is in the curve data: its arcs, its spirals (lines are no part).
-CURVE_PART: PerKind[str | None] = PerKind("curve part", {"line": None, "arc": "arc", "spiral": "spiral"})
+#: Which list of a curve's data an element goes in: its arcs or its spirals (a line is in no curve).
+CURVE_PART: PerKind[str | None] = PerKind("curve part", {"line": None, "arc": "arcs", "spiral": "spirals"})
 #: Whether an element is a circular arc (a curve of arcs only has the published compound relations).
 IS_CIRCULAR_ARC: PerKind[bool] = PerKind("circular arc", {"line": False, "arc": True, "spiral": False})

@@ -12,18 +12,16 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .checkwords import cut_fill, move_decimals, move_text, status_text, target_id, what_to_do
-from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
+from .csvtext import DECIMALS, csv_field, csv_text
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
-__all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
+__all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
            "move_text", "move_decimals", "what_to_do", "target_id"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
                  # added columns
                  "matched_by", "northing", "easting", "line", "fails", "governing_line")
-#: ``restake.csv`` is laid out as ``points.csv``, so a crew loads it the same way.
-RESTAKE_COLUMNS = POINTS_COLUMNS
 #: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
 NOT_STAKED_LISTED = 400
 _CHUNK_ROWS = 16384
@@ -60,21 +58,6 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
             str(shots.line[g]) if g >= 0 else "",
         ]))
     return csv_text(CHECK_COLUMNS, out).encode("utf-8")
-
-
-def restake_csv(d: Design, r: CheckResult) -> bytes:
-    """``restake.csv``: the design points still to set, in point order.
-
-    Out of tolerance (by the shot that governs them, so also a point whose
-    good shot was superseded by one out of tolerance) or not staked; every
-    row exactly as in ``points.csv`` (the rows are taken from it).
-    """
-    data = np.frombuffer(points_csv(d), dtype=np.uint8)
-    line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
-    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
-    keep[0] = True
-    keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
-    return data[keep[line_of_byte]].tobytes()
 
 
 #: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).

@@ -18,12 +18,12 @@ from ..angles import format_azimuth_dms, format_dms
 from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
-from ..presentation import AT_INSTRUMENT_NOTE, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind, deflection_rows
+from ..presentation import AT_INSTRUMENT_NOTE, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts, setout_cells,
+from .text import (texts_of, WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts, setout_cells,
                    table_lines, turn_word, wrap_lines)
 
-__all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
+__all__ = ["setout_sheet", "deflection_sheet", "DEFLECTION_TITLES"]
 
 
 def _point_lines(o: Occupation, setup: Setup, scale: ScaleInfo, inst: bool = True) -> list[str]:
@@ -121,11 +121,6 @@ def _stake_foot(d: Design) -> list[str]:
                     f"{unit.symbol}); no angle to turn")
     foot.append("")
     return foot + curve_lines(d)
-
-
-def _texts(formatted: str | list[str]) -> list[str]:
-    """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
-    return [formatted] if isinstance(formatted, str) else formatted
 
 
 def _widths(wide: bool) -> tuple[int, int | None]:
@@ -316,10 +311,10 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     defl = v[:, 2]
     # the circle reading for a left deflection (360 - d), blank for a right one
     left = (v[:, 5] < 0) & (defl != 0.0)
-    readings = _texts(format_dms(360.0 - defl, 0))
+    readings = texts_of(format_dms(360.0 - defl, 0))
     cols = [Column("station", d.stationing.labels(v[:, 0]) if v.size else []),
             Column("length", fixed(v[:, 1], 4)),
-            Column("deflection", _texts(format_dms(defl, 0))),
+            Column("deflection", texts_of(format_dms(defl, 0))),
             Column("chord", fixed(v[:, 3], 4)),
             Column("sub-chord", fixed(v[:, 4], 4)),
             Column("reading", [r if lt else "" for r, lt in zip(readings, left.tolist())])]

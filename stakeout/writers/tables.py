@@ -8,8 +8,9 @@ needs quoting; :func:`csv_field` quotes anything else per RFC 4180.
 from __future__ import annotations
 
 import os
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
@@ -19,12 +20,16 @@ from ..design import Design
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
+from .csvtext import DECIMALS, csv_field, csv_text
 from .text import fixed_or_empty, turn_word
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..check import CheckResult
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
     "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv",
-    "curves_csv", "setout_csv",
+    "curves_csv", "setout_csv", "restake_csv", "RESTAKE_COLUMNS", "DECIMALS",
 ]
 
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
@@ -36,22 +41,6 @@ CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
                   "arc", "center_northing", "center_easting", "degree_of_curve")
-
-DECIMALS = 4  # coordinates, stations, offsets and distances in CSV
-
-
-def csv_field(value: str) -> str:
-    """Quote a field per RFC 4180 when it holds a comma, quote or line break."""
-    if any(c in value for c in ',"\r\n'):
-        return '"' + value.replace('"', '""') + '"'
-    return value
-
-
-def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
-    """Join a header and already formatted lines into CSV text."""
-    body = "\n".join(lines)
-    return ",".join(header) + "\n" + (body + "\n" if body else "")
-
 
 _CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cache and are reused
 
@@ -340,3 +329,22 @@ def spirals_csv(design: Design) -> bytes:
             fixed_or_empty(f.long_tangent, d), fixed_or_empty(f.short_tangent, d), turn_word(el.turn), str(i),
         ]))
     return csv_text(SPIRALS_COLUMNS, lines).encode("utf-8")
+
+
+#: ``restake.csv`` is laid out as ``points.csv``, so a crew loads it the same way.
+RESTAKE_COLUMNS = POINTS_COLUMNS
+
+
+def restake_csv(d: Design, r: "CheckResult") -> bytes:
+    """``restake.csv``: the design points still to set, in point order.
+
+    Out of tolerance (by the shot that governs them, so also a point whose
+    good shot was superseded by one out of tolerance) or not staked; every
+    row exactly as in ``points.csv`` (the rows are taken from it).
+    """
+    data = np.frombuffer(points_csv(d), dtype=np.uint8)
+    line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
+    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
+    keep[0] = True
+    keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
+    return data[keep[line_of_byte]].tobytes()

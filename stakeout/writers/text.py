@@ -24,7 +24,7 @@ from ..presentation import CurveView, Element
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "setout_cells", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "paged", "paged_parts", "setout_cells", "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -199,7 +199,7 @@ def spiral_line(sp: Element, a0: str, a1: str) -> str:
     return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
-def curve_texts(d: Design) -> list[CurveText]:
+def curvetexts_of(d: Design) -> list[CurveText]:
     """Words and station labels of every curve's data (:attr:`Presentation.curves`)."""
     label = d.stationing.label
     return [CurveText(cv, turn_word(cv.curve.turn), str(format_dms(cv.curve.delta, 1)), label(cv.curve.pi_station),
@@ -215,7 +215,7 @@ def curve_lines(d: Design) -> list[str]:
     out = ["CURVE DATA"]
     if not d.alignment.curves:
         out.append("  (no curves)")
-    for ct in curve_texts(d):
+    for ct in curvetexts_of(d):
         c, t = ct.curve, ct.curve.tangents
         head = f"  curve {c.number}  {ct.turn}  I {ct.delta}"
         if c.pi_station is None or t is None:
@@ -253,10 +253,10 @@ def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
         if c.decimals is None:
             texts = list(c.values)
         elif c.key == "angle_right":
-            angles = _texts(format_azimuth_dms(c.values, 0))
+            angles = texts_of(format_azimuth_dms(c.values, 0))
             texts = ["" if at[i] else angles[i] for i in range(len(angles))]
         elif c.key == "zenith":
-            texts = _texts(format_dms(c.values, 0))
+            texts = texts_of(format_dms(c.values, 0))
         elif c.key == "offset" and sided:
             texts = side_text(c.values, c.decimals)
         else:
@@ -265,7 +265,7 @@ def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
     return out
 
 
-def _texts(formatted: str | list[str]) -> list[str]:
+def texts_of(formatted: str | list[str]) -> list[str]:
     """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
     return [formatted] if isinstance(formatted, str) else formatted
 

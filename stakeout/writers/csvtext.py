@@ -1,0 +1,22 @@
+"""CSV text (a toolkit of the CSV writers): RFC 4180 fields and files, the decimals of CSV numbers."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+
+__all__ = ["DECIMALS", "csv_field", "csv_text"]
+
+DECIMALS = 4  # coordinates, stations, offsets and distances in CSV
+
+
+def csv_field(value: str) -> str:
+    """Quote a field per RFC 4180 when it holds a comma, quote or line break."""
+    if any(c in value for c in ',"\r\n'):
+        return '"' + value.replace('"', '""') + '"'
+    return value
+
+
+def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
+    """Join a header and already formatted lines into CSV text."""
+    body = "\n".join(lines)
+    return ",".join(header) + "\n" + (body + "\n" if body else "")
