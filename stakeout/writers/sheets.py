@@ -20,8 +20,8 @@ from ..job import Setup
 from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (texts_of, WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts, setout_cells,
-                   table_lines, turn_word, wrap_lines)
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
+                   setout_cells, table_lines, texts_of, turn_word, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet", "DEFLECTION_TITLES"]
 

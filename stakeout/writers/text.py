@@ -24,7 +24,8 @@ from ..presentation import CurveView, Element
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "setout_cells", "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "paged", "paged_parts", "setout_cells", "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column",
+    "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -199,7 +200,7 @@ def spiral_line(sp: Element, a0: str, a1: str) -> str:
     return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
-def curvetexts_of(d: Design) -> list[CurveText]:
+def curve_texts(d: Design) -> list[CurveText]:
     """Words and station labels of every curve's data (:attr:`Presentation.curves`)."""
     label = d.stationing.label
     return [CurveText(cv, turn_word(cv.curve.turn), str(format_dms(cv.curve.delta, 1)), label(cv.curve.pi_station),
@@ -215,7 +216,7 @@ def curve_lines(d: Design) -> list[str]:
     out = ["CURVE DATA"]
     if not d.alignment.curves:
         out.append("  (no curves)")
-    for ct in curvetexts_of(d):
+    for ct in curve_texts(d):
         c, t = ct.curve, ct.curve.tangents
         head = f"  curve {c.number}  {ct.turn}  I {ct.delta}"
         if c.pi_station is None or t is None:
