@@ -15,9 +15,10 @@ is left out and the title block says how many were.
 
 The package is split by what it draws: :mod:`.canvas` (sheet, view, colours), :mod:`.frame` (frame,
 north arrow, scale bar, panel, title block), :mod:`.lines` (the alignment and its offset lines),
-:mod:`.labels` (the greedy label placement), :mod:`.plan` (``plan.svg``: tangents and PIs, station
-ticks, stakes, key points, control and setups, their labels) and :mod:`.residuals` (the residual
-picture of a check).
+:mod:`.labels` (the greedy label placement), :mod:`.stakes` (stakes, key points, point numbers),
+:mod:`.control` (control points, setups and backsights), :mod:`.plan` (``plan.svg``: the view,
+tangents and PIs, station ticks and equations, the panel, in the order the labels are placed) and
+:mod:`.residuals` (the residual picture of a check).
 """
 
 from __future__ import annotations

@@ -9,12 +9,14 @@ from collections.abc import Sequence
 from html import escape
 from typing import Any
 
+from dataclasses import dataclass, field
+
 import numpy as np
 from numpy.typing import NDArray
 
 from .canvas import AREA, F, _n, _text_width
 
-__all__ = ["Labeller", "PREFILTER_MIN", "AROUND"]
+__all__ = ["Labeller", "PREFILTER_MIN", "AROUND", "Layer"]
 
 
 class Labeller:
@@ -203,3 +205,15 @@ def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, li
     if k < 0:
         return None
     return cands[k], ends[k]
+
+
+@dataclass
+class Layer:
+    """The labels of one picture as they are placed: the labeller, the label texts, the point
+    numbers and the leaders from a point to its label.
+    """
+
+    lab: Labeller
+    texts: _Text = field(default_factory=_Text)
+    numbers: _Text = field(default_factory=_Text)
+    leaders: list[str] = field(default_factory=list)
