@@ -52,7 +52,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .design import Design
 
 __all__ = ["Presentation", "CurveView", "SpiralView", "DeflectionTable", "OffsetDeflections", "SetoutColumn",
-           "SETOUT_HEADERS", "AT_INSTRUMENT_NOTE", "FLAG", "PerKind", "ELEMENT_CLASSES", "Element",
+           "SETOUT_HEADERS", "DEFLECTION_HEADERS", "AT_INSTRUMENT_NOTE", "FLAG", "PerKind", "ELEMENT_CLASSES", "Element",
            "deflection_rows", "curve_views", "degree_of_curve_arc"]
 
 F = NDArray[np.float64]
@@ -82,6 +82,19 @@ SETOUT_HEADERS: dict[str, tuple[str, str]] = {
     "r95": ("r95", "r95"),
     "note": ("note", "note"),
 }
+
+
+#: The deflection table's column headers, per output: (``deflections.txt``, ``report.html``), one
+#: per column of :attr:`DeflectionTable.rows` and the circle reading.  The sheet is narrower and
+#: explains its words in its foot; both outputs keep their bytes.
+DEFLECTION_HEADERS: tuple[tuple[str, str], ...] = (
+    ("station", "station"),
+    ("length", "from start"),
+    ("deflection", "deflection"),
+    ("chord", "chord from start"),
+    ("sub-chord", "chord from prev"),
+    ("reading", "reading"),
+)
 
 
 @dataclass(frozen=True)
@@ -209,23 +222,36 @@ def deflection_rows(alignment: Alignment, stations: F) -> list[tuple[int, int, l
     return out
 
 
-def _offset_rows(alignment: Alignment, el: Element, stations: F, o: float) -> F:
-    """Deflections on an offset line, from the offset point at the element's start along the
-    offset line's tangent there: the chord's direction minus that tangent, from the points.
+def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F], o: float) -> list[F]:
+    """Deflections on an offset line along each of ``elements`` at its ``stations``, from the
+    offset point at the element's start along the offset line's tangent there: the chord's
+    direction minus that tangent, from the points.  Every element's stations are evaluated in
+    one call and the rows split again by element.
     """
-    n, e, az = alignment.evaluate(stations, o, miter=False)
-    dn, de = n - n[0], e - e[0]
+    if not elements:
+        return []
+    size = np.array([s.size for s in stations], dtype=np.int64)
+    first = np.repeat(np.cumsum(size) - size, size)  # each row's first row of its element
+    seg = np.repeat(np.arange(len(elements)), size)
+    st = np.concatenate(stations)
+    n, e, az = alignment.evaluate(st, o, miter=False)
+    dn, de = n - n[first], e - e[first]
     chord = np.hypot(dn, de)
     chord_az = np.degrees(np.arctan2(de, dn))
-    defl = np.abs((chord_az - az[0] + 180.0) % 360.0 - 180.0)
+    defl = np.abs((chord_az - az[first] + 180.0) % 360.0 - 180.0)
     defl[chord == 0.0] = 0.0
     inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
+    inc[first == np.arange(st.size)] = 0.0
     # length along the offset line: the centreline length scaled by the radius there (exact on arcs),
     # the integral of (1 - k(s) o) ds
-    s = stations - el.start
-    k0, k1 = el.curvature_start, el.curvature_end
-    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
-    return np.column_stack([stations, along, defl, chord, inc])
+    start = np.array([el.start for el in elements])[seg]
+    length = np.array([el.length for el in elements])[seg]
+    k0 = np.array([el.curvature_start for el in elements])[seg]
+    k1 = np.array([el.curvature_end for el in elements])[seg]
+    s = st - start
+    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * length))
+    rows = np.column_stack([st, along, defl, chord, inc])
+    return np.split(rows, np.cumsum(size)[:-1])
 
 
 @dataclass(frozen=True)
@@ -318,14 +344,13 @@ class Presentation:
     def deflections(self) -> tuple[DeflectionTable, ...]:
         """The deflection table of every curve element, with its offset lines."""
         a = self.d.alignment
-        out = []
-        for number, i, s in _element_stations(a, self.d.stakes.stations):
-            el = a.elements[i]
-            rows = DEFLECTION_ROWS[el](el, s)
-            offs = tuple(OffsetDeflections(o, code, _offset_rows(a, el, rows[:, 0], o))
-                         for o, code in self.offset_lines)
-            out.append(DeflectionTable(number, i, el, self.start_features.get(round(el.start, 6), ""), rows, offs))
-        return tuple(out)
+        parts = _element_stations(a, self.d.stakes.stations)
+        elements = [a.elements[i] for _, i, _ in parts]
+        rows = [DEFLECTION_ROWS[el](el, s) for el, (_, _, s) in zip(elements, parts)]
+        offsets = [(o, code, _offset_rows(a, elements, [r[:, 0] for r in rows], o)) for o, code in self.offset_lines]
+        return tuple(DeflectionTable(number, i, el, self.start_features.get(round(el.start, 6), ""), rows[k],
+                                     tuple(OffsetDeflections(o, code, off[k]) for o, code, off in offsets))
+                     for k, ((number, i, _), el) in enumerate(zip(parts, elements)))
 
     @cached_property
     def stake_notes(self) -> list[str]:

@@ -21,9 +21,9 @@ import numpy as np
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from ..presentation import SETOUT_HEADERS, DeflectionTable, PerKind
+from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS, DeflectionTable, PerKind
 from .checkwords import cut_fill, status_text, target_id, what_to_do
-from .text import CAUTION_LINES, curve_texts, end_radii, fixed, setout_cells, turn_word
+from .text import CAUTION_LINES, curve_texts, end_radii, fixed, offset_side, setout_cells, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -311,8 +311,7 @@ def _deflection_section(d: Design) -> str:
            "spiral), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
            "the curve and tape the chord. Reading: the horizontal circle reading for a left deflection "
            "(360 - d) with zero on the tangent.</p>"]
-    cols = [("station", "n"), ("from start", "n"), ("deflection", "n"), ("chord from start", "n"),
-            ("chord from prev", "n"), ("reading", "n")]
+    cols = [(h[1], "n") for h in DEFLECTION_HEADERS]
 
     def rows_of(data_rows: np.ndarray, turn: int) -> list[list[Cell]]:
         out_rows: list[list[Cell]] = []
@@ -326,8 +325,7 @@ def _deflection_section(d: Design) -> str:
         start = f"{t.start_feature} {lab(el.start)}".strip()
         out.append(f"<h3>{_e(_DEFLECTION_HEADS[el](t, start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
         for off in t.offsets:
-            side = f"{abs(off.offset):.2f} {'LT' if off.offset < 0 else 'RT'}"
-            out.append(f"<h3>{_e(f'Offset line {off.code} {side}: from its point opposite {start}')}</h3>"
+            out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
                        f"{_table(cols, rows_of(off.rows, el.turn))}")
     return "".join(out)
 

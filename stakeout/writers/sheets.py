@@ -18,9 +18,10 @@ from ..angles import format_azimuth_dms, format_dms
 from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
-from ..presentation import AT_INSTRUMENT_NOTE, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind
+from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, offset_side, paged,
+                   paged_parts,
                    setout_cells, table_lines, texts_of, turn_word, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet", "DEFLECTION_TITLES"]
@@ -250,10 +251,6 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-def _side(o: float) -> str:
-    return f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
-
-
 def _element_title(t: DeflectionTable, lab: Any) -> str:
     """The line that opens an element's deflections on the sheet."""
     return DEFLECTION_TITLES[t.element](t, lab)
@@ -304,7 +301,7 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         items.append(_element_title(t, lab))
         data(t.rows, el.turn)
         for off in t.offsets:  # the offset line from its own start point, along its own start tangent
-            items.append(f"  offset line {off.code} {_side(off.offset)}: from its point opposite {t.start_feature} "
+            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {t.start_feature} "
                          f"{lab(el.start)}")
             data(off.rows, el.turn)
     v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
@@ -312,12 +309,9 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     # the circle reading for a left deflection (360 - d), blank for a right one
     left = (v[:, 5] < 0) & (defl != 0.0)
     readings = texts_of(format_dms(360.0 - defl, 0))
-    cols = [Column("station", d.stationing.labels(v[:, 0]) if v.size else []),
-            Column("length", fixed(v[:, 1], 4)),
-            Column("deflection", texts_of(format_dms(defl, 0))),
-            Column("chord", fixed(v[:, 3], 4)),
-            Column("sub-chord", fixed(v[:, 4], 4)),
-            Column("reading", [r if lt else "" for r, lt in zip(readings, left.tolist())])]
+    values = [d.stationing.labels(v[:, 0]) if v.size else [], fixed(v[:, 1], 4), texts_of(format_dms(defl, 0)),
+              fixed(v[:, 3], 4), fixed(v[:, 4], 4), [r if lt else "" for r, lt in zip(readings, left.tolist())]]
+    cols = [Column(h[0], texts) for h, texts in zip(DEFLECTION_HEADERS, values)]
     heads, records = table_lines(cols, table)
     out: list[str] = []
     pending: list[str] = []  # title lines waiting for their first data row

@@ -23,7 +23,7 @@ from ..presentation import CurveView, Element
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
+    "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
     "paged", "paged_parts", "setout_cells", "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column",
     "table_lines", "row_lines",
 ]
@@ -115,6 +115,11 @@ def side_text(offsets: ArrayLike, decimals: int) -> list[str]:
     r = rounded(offsets, decimals)
     fmt = f"%.{decimals}f"
     return [fmt % abs(v) + (" LT" if v < 0 else " RT" if v > 0 else "") for v in r]
+
+
+def offset_side(offset: float) -> str:
+    """An offset line's size and side in its title, ``3.50 LT`` (two decimals, never on the line)."""
+    return f"{abs(offset):.2f} {'LT' if offset < 0 else 'RT'}"
 
 
 def turn_word(turn: int) -> str:
