@@ -14,8 +14,8 @@ from stakeout.alignment import Arc, Element
 from stakeout.alignment.kinds import ELEMENT_CLASSES, PerKind
 
 #: Every module that builds a per-kind table (imported so that its tables are registered).
-TABLE_MODULES = ("stakeout.alignment.kinds", "stakeout.presentation", "stakeout.writers.sheets",
-                 "stakeout.writers.html", "stakeout.writers.dxf", "stakeout.writers.picture")
+TABLE_MODULES = ("stakeout.alignment.kinds", "stakeout.presentation", "stakeout.writers.text",
+                 "stakeout.writers.dxf", "stakeout.writers.picture")
 
 
 def _subclasses(cls: type) -> set[type]:
@@ -36,7 +36,7 @@ def test_every_table_has_every_element_class():
         importlib.import_module(name)
     tables = PerKind.tables
     assert {t.what for t in tables} >= {"curve part", "deflection rows", "DXF drawing", "SVG path segment",
-                                        "deflection sheet title", "report deflection heading"}
+                                        "deflection title"}
     for t in tables:
         assert set(t.classes) == set(ELEMENT_CLASSES), t.what
 

@@ -21,9 +21,9 @@ import numpy as np
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS, DeflectionTable, PerKind
+from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
 from .checkwords import cut_fill, status_text, target_id, what_to_do
-from .text import CAUTION_LINES, curve_texts, end_radii, fixed, offset_side, setout_cells, turn_word
+from .text import CAUTION_LINES, curve_texts, deflection_title, end_radii, fixed, offset_side, setout_cells
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -323,29 +323,11 @@ def _deflection_section(d: Design) -> str:
     for t in tables:
         el = t.element
         start = f"{t.start_feature} {lab(el.start)}".strip()
-        out.append(f"<h3>{_e(_DEFLECTION_HEADS[el](t, start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
+        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
         for off in t.offsets:
             out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
                        f"{_table(cols, rows_of(off.rows, el.turn))}")
     return "".join(out)
-
-
-def _arc_head(t: DeflectionTable, start: str) -> str:
-    el: Any = t.element
-    return (f"Curve {t.curve}, arc from {start}: R {el.radius:.4f}, delta {_dms(el.delta, 1)}, "
-            f"deflect {turn_word(el.turn)}")
-
-
-def _spiral_head(t: DeflectionTable, start: str) -> str:
-    el = t.element
-    r0, r1 = end_radii(el)
-    return (f"Curve {t.curve}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
-            f"theta {_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
-
-
-#: The heading of an element's deflections (a line is never part of a curve).
-_DEFLECTION_HEADS: PerKind[Any] = PerKind("report deflection heading",
-                                          {"line": _spiral_head, "arc": _arc_head, "spiral": _spiral_head})
 
 
 def report_html(d: Design, plan_svg: str) -> bytes:

@@ -10,7 +10,6 @@ gives the same bytes.
 from __future__ import annotations
 
 import textwrap
-from typing import Any
 
 import numpy as np
 
@@ -18,13 +17,13 @@ from ..angles import format_azimuth_dms, format_dms
 from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
-from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS, DeflectionTable, PerKind
+from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, offset_side, paged,
+from .text import (deflection_title, WIDE, WIDTH, Column, SheetPart, curve_lines, fixed, header_lines, offset_side, paged,
                    paged_parts,
-                   setout_cells, table_lines, texts_of, turn_word, wrap_lines)
+                   setout_cells, table_lines, texts_of, wrap_lines)
 
-__all__ = ["setout_sheet", "deflection_sheet", "DEFLECTION_TITLES"]
+__all__ = ["setout_sheet", "deflection_sheet"]
 
 
 def _point_lines(o: Occupation, setup: Setup, scale: ScaleInfo, inst: bool = True) -> list[str]:
@@ -251,29 +250,6 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-def _element_title(t: DeflectionTable, lab: Any) -> str:
-    """The line that opens an element's deflections on the sheet."""
-    return DEFLECTION_TITLES[t.element](t, lab)
-
-
-def _arc_title(t: DeflectionTable, lab: Any) -> str:
-    el = t.element
-    return (f"curve {t.curve}, arc from {t.start_feature} {lab(el.start)}: "
-            f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")  # type: ignore[attr-defined]
-
-
-def _spiral_title(t: DeflectionTable, lab: Any) -> str:
-    el = t.element
-    r0, r1 = end_radii(el)
-    return (f"curve {t.curve}, spiral from {t.start_feature} {lab(el.start)}: L {el.length:.4f}, "
-            f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
-
-
-#: The title of an element's deflections (a line is never part of a curve; its title is the arc's words).
-DEFLECTION_TITLES: PerKind[Any] = PerKind("deflection sheet title",
-                                          {"line": _spiral_title, "arc": _arc_title, "spiral": _spiral_title})
-
-
 def deflection_sheet(d: Design, wide: bool = False) -> str:
     """Render ``deflections.txt``: deflection angles and chords from the curve points.
 
@@ -298,7 +274,7 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
 
     for t in d.presentation.deflections:
         el = t.element
-        items.append(_element_title(t, lab))
+        items.append(deflection_title(t, "curve", f"{t.start_feature} {lab(el.start)}"))
         data(t.rows, el.turn)
         for off in t.offsets:  # the offset line from its own start point, along its own start tangent
             items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {t.start_feature} "

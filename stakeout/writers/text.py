@@ -19,13 +19,13 @@ from numpy.typing import ArrayLike
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from ..presentation import CurveView, Element
+from ..presentation import CurveView, DeflectionTable, Element, PerKind
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "setout_cells", "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column",
-    "table_lines", "row_lines",
+    "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
+    "curve_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "texts_of", "SheetPart",
+    "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -244,6 +244,32 @@ def curve_lines(d: Design) -> list[str]:
         if ct.external is not None:
             out.append(f"    external (PI to the curve)  {ct.external:.4f}")
     return out
+
+
+# ---- deflection tables ---------------------------------------------------------------------------
+def deflection_title(t: DeflectionTable, curve: str, start: str) -> str:
+    """The line that opens an element's deflections: ``curve`` (the word, as the output
+    capitalises it), the element's kind and data, ``start`` (its start feature and station).
+    """
+    return _DEFLECTION_TITLES[t.element](t, curve, start)
+
+
+def _arc_title(t: DeflectionTable, curve: str, start: str) -> str:
+    el: Any = t.element
+    return (f"{curve} {t.curve}, arc from {start}: R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, "
+            f"deflect {turn_word(el.turn)}")
+
+
+def _spiral_title(t: DeflectionTable, curve: str, start: str) -> str:
+    el = t.element
+    r0, r1 = end_radii(el)
+    return (f"{curve} {t.curve}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
+            f"theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+
+
+#: The title of an element's deflections (a line is never part of a curve; it would read as a spiral).
+_DEFLECTION_TITLES: PerKind[Any] = PerKind("deflection title",
+                                           {"line": _spiral_title, "arc": _arc_title, "spiral": _spiral_title})
 
 
 # ---- the setout table ---------------------------------------------------------------------------

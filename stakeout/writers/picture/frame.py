@@ -66,6 +66,20 @@ class _Panel:
         self.y = MARGIN + 6.0
         self.parts: list[str] = []
 
+    @classmethod
+    def opening(cls, title: str, size: float, name: str, line: str) -> "_Panel":
+        """A panel opening with its title, the job's name, one line about the picture and the
+        legend's heading.
+        """
+        pan = cls()
+        pan.heading(title, size)
+        for t in _wrap(name, 40):
+            pan.line(t)
+        pan.line(line)
+        pan.gap()
+        pan.heading("LEGEND", 11.0)
+        return pan
+
     @property
     def x(self) -> float:
         return self.X0 + 8.0

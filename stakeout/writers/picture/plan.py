@@ -14,7 +14,7 @@ from ..text import curve_texts, turn_word
 from .canvas import (AREA, CL_COLOUR, CODE_COLOURS, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
                      MARGIN, OFFSET_COLOUR, SHEET_HEIGHT, TANGENT_COLOUR, THIN_CELL, TICK_MAX_STATIONS, View,
                      _extent, _g, _grow, _n, _right_normal, _round_label, _short_hash,
-                     _text_width, _wrap, station_spacing)
+                     _text_width, station_spacing)
 from .labels import Labeller, Layer, _around_boxes, _draw_label, _place_on_normal
 from .frame import _Panel, _frame, _grid_ticks, _north_arrow, _scale_bar, _svg_open, _title_block
 from .lines import _alignment_lines, _tick_vertices
@@ -260,13 +260,7 @@ def _place_pi_labels(d: Design, v: View, pis: list[Any], px: F, py: F, cts: dict
 def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes: list[str]) -> _Panel:
     """The panel on the right: title, legend, curve data and notes."""
     job, a, sp, stn, unit = d.job, d.alignment, d.stakes, d.stationing, d.unit
-    pan = _Panel()
-    pan.heading("PLAN", 15.0)
-    for t in _wrap(job.info.name, 40):
-        pan.line(t)
-    pan.line(f"alignment {a.name}")
-    pan.gap()
-    pan.heading("LEGEND", 11.0)
+    pan = _Panel.opening("PLAN", 15.0, job.info.name, f"alignment {a.name}")
     pan.symbol(f'<path d="M0,0h28" stroke="{CL_COLOUR}" stroke-width="1.6"/>', "centreline")
     pan.symbol(f'<path d="M0,0h28" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>', "offset line")
     for j, code in enumerate(sp.codes):

@@ -12,7 +12,7 @@ import numpy as np
 from ...design import Design
 from .canvas import (AREA, F, FONT_STAKE, LABEL_MAX_STAKES, MARGIN, SHEET_HEIGHT, STATUS_COLOURS, THIN_CELL, View,
                      _circles, _extent, _g, _grow, _inside_frame, _n, _short_hash, _text_width, _thin, _to_frame,
-                     _wrap, nice_length)
+                     nice_length)
 from .labels import Labeller, PREFILTER_MIN, _Text, _around_boxes
 from .frame import _Panel, _frame, _north_arrow, _scale_bar, _svg_open, _title_block
 from .lines import _alignment_lines
@@ -180,13 +180,7 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     bar, _ = _scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
     body.append(bar)
 
-    pan = _Panel()
-    pan.heading("STAKED-POINT CHECK", 14.0)
-    for t in _wrap(job.info.name, 40):
-        pan.line(t)
-    pan.line(f"staked file {staked_name}")
-    pan.gap()
-    pan.heading("LEGEND", 11.0)
+    pan = _Panel.opening("STAKED-POINT CHECK", 14.0, job.info.name, f"staked file {staked_name}")
     counts = r.counts()
     for s in statuses:
         n_s = sum(1 for t in r.status if t == s)
