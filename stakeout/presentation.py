@@ -303,6 +303,7 @@ class Presentation:
 
     def __init__(self, d: "Design") -> None:
         self.d = d
+        self._ends: dict[float, tuple[F, F, F, F]] = {}
 
     @cached_property
     def curves(self) -> tuple[CurveView, ...]:
@@ -393,12 +394,16 @@ class Presentation:
 
     def element_ends(self, offset: float) -> tuple[F, F, F, F]:
         """Start and end points of every element on the line at ``offset`` (northing and
-        easting at the start, then at the end), one evaluation for all elements.
+        easting at the start, then at the end), one evaluation for all elements, kept for
+        the next drawing of the same line.
         """
-        a = self.d.alignment
-        s = np.array([[el.start, el.end] for el in a.elements], dtype=float).ravel()
-        n, e, _ = a.evaluate(s, offset)
-        return n[0::2], e[0::2], n[1::2], e[1::2]
+        cached = self._ends.get(offset)
+        if cached is None:
+            a = self.d.alignment
+            s = np.array([[el.start, el.end] for el in a.elements], dtype=float).ravel()
+            n, e, _ = a.evaluate(s, offset)
+            cached = self._ends[offset] = (n[0::2], e[0::2], n[1::2], e[1::2])
+        return cached
 
     def element_samples(self, el: Element, count: int, offset: float) -> tuple[F, F, F]:
         """Northing, easting and azimuth at ``count`` evenly spaced points along ``el`` on the

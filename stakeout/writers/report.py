@@ -47,6 +47,7 @@ def curve_report(d: Design) -> str:
     out.append(f"{'station':>12}  {'feature':<10}  {'northing':>15}  {'easting':>15}")
     for kp in alignment.key_points:
         out.append(f"{st(kp.station):>12}  {' '.join(kp.features):<10}  {kp.northing:15.4f}  {kp.easting:15.4f}")
+    figures = {id(sv.element): sv.figures for sv in d.presentation.spirals}
     for ct in curve_texts(d):
         c = ct.curve
         out.append("")
@@ -68,7 +69,6 @@ def curve_report(d: Design) -> str:
             out.append(f"  tangent PI to end (ahead)   {t.ahead:12.4f}{ahead_name}")
         for n, (arc, a0, a1) in enumerate(ct.arcs, start=1):
             out.extend(_arc_lines(n, arc, a0, a1, unit.is_feet))
-        figures = {id(sv.element): sv.figures for sv in d.presentation.spirals}
         for n, (sp, a0, a1) in enumerate(ct.spirals, start=1):
             out.extend(_spiral_lines(n, sp, figures[id(sp)], a0, a1))
         if ct.external is not None:
