@@ -58,3 +58,73 @@ def test_unregistered_element_class_fails_loudly():
     el = Cubic(0.0, 10.0, 0.0, 0.0, 0.0, 10.0, 0.0, 0.0, 1, 100.0, 5.0, 0.0, 100.0)
     with pytest.raises(TypeError, match=f"{table.what}.*Cubic"):
         table[el]
+
+
+def _alignment_with(el_class):
+    """A line, an element of ``el_class`` (an arc's fields) as a one-element curve, a line."""
+    from stakeout.alignment import Alignment, Curve, Line
+
+    first = Line.follow(0.0, 0.0, 0.0, 0.0, 100.0)
+    arc = Arc.follow(100.0, first.end_northing, first.end_easting, 0.0, 50.0, 200.0, 1)
+    mid = el_class(*(getattr(arc, f.name) for f in dataclasses.fields(Arc)))
+    last = Line.follow(150.0, arc.end_northing, arc.end_easting, arc.end_azimuth, 100.0)
+    curve = Curve(1, (1,), 1, arc.delta, 100.0, 150.0, None, None, None, None)
+    return Alignment.from_elements("T", [first, mid, last], (curve,), ())
+
+
+def test_unknown_kind_skipped_by_the_deflection_sheet():
+    # before the registry, deflections.txt silently left out a curve element that was neither an
+    # Arc nor a Spiral (and report.html asserted it was an arc): now it fails loudly
+    import numpy as np
+
+    from stakeout.presentation import deflection_rows
+
+    @dataclasses.dataclass(frozen=True)
+    class Cubic(Arc):
+        kind = "cubic"
+
+    ok = deflection_rows(_alignment_with(Arc), np.array([110.0, 120.0]))
+    assert [i for _, i, _ in ok] == [1]
+    with pytest.raises(TypeError, match="deflection rows.*Cubic"):
+        deflection_rows(_alignment_with(Cubic), np.array([110.0, 120.0]))
+
+
+#: New Hampshire DOT, "Spiral Curve Data" (published worked example; also in the spiral tests).
+NH_JOB = """format = 1
+[job]
+name = "NH DOT spiral curve data"
+units = "us_ft"
+[alignment]
+name = "NH"
+[alignment.at_pi]
+station = "23+96.20"
+northing = 405083.92
+easting = 964724.93
+back_tangent_azimuth = "40-00-00"
+ahead_tangent_azimuth = "117-47-44.8"   # back + Delta 77-47-44.8 RT
+radius = 300.0
+spirals = [200.0, 200.0]
+lead_in = 50
+lead_out = 50
+[staking]
+interval = 50
+offsets = [{ offset = -12.0, code = "EPL" }, { offset = 0.0, code = "CL" }, { offset = 12.0, code = "EPR" }]
+"""
+
+
+def test_external_recomputed_by_every_writer(tmp_path):
+    # the external of a curve with spirals was measured by each of five writers building an
+    # Alignment and running its inverse; now the alignment measures it once, and a design's
+    # presentation model is made once and shared by every writer of the build
+    from stakeout.design import build_design
+    from stakeout.jobfile import load_job
+
+    path = tmp_path / "nh.toml"
+    path.write_text(NH_JOB, encoding="utf-8")
+    d = build_design(load_job(path))
+    assert d.presentation is d.presentation
+    assert d.alignment.curve_externals() is d.alignment.curve_externals()
+    (cv,) = d.presentation.curves
+    assert d.presentation.curves is d.presentation.curves
+    # NH DOT "Spiral Curve Data" (published): Es 92.58 ft
+    assert cv.external == pytest.approx(92.58, abs=0.005)
