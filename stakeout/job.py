@@ -118,6 +118,9 @@ class Setup:
     max_backsight: float | None = None  # job units; set with occupied = "auto"
     stations: tuple[SetupStation, ...] = ()
     by_id: bool = False
+    #: The refraction coefficient k when zenith angles and slope distances are corrected for
+    #: the earth's curvature and refraction (``curvature_refraction = true``); None: not corrected.
+    refraction: float | None = None
 
     @property
     def auto(self) -> bool:
