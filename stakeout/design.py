@@ -39,7 +39,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
 __all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
-           "build_profile_of"]
+           "build_profile_of", "precision_rules_setups"]
 
 
 @dataclass(frozen=True)
@@ -213,15 +213,32 @@ class _PointIds(Sequence[str]):
         return f"{self._stakes.prefix}{int(self._stakes.number[i])}"
 
 
+def precision_rules_setups(job: Job) -> bool:
+    """Whether automatic setups keep stakes within tolerance: ``[instrument]`` and
+    ``[check] horizontal_tolerance`` both given (job-file contract).
+    """
+    return (job.instrument is not None and job.check is not None
+            and job.check.horizontal_tolerance is not None)
+
+
 def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[SetupStation, ...], NDArray[np.int64]]:
     """Automatic setups among the control points (:func:`stakeout.setups.choose_setups`),
     numbered by the first stake each serves.
     """
     assert setup.max_distance is not None and setup.max_backsight is not None
     ctrl = job.control
+    r95 = tolerance = None
+    if precision_rules_setups(job):
+        assert job.check is not None and job.instrument is not None
+        spec, tolerance = job.instrument, job.check.horizontal_tolerance
+
+        def r95(on: NDArray[np.float64], oe: NDArray[np.float64], bn: NDArray[np.float64], be: NDArray[np.float64],
+                sn: NDArray[np.float64], se: NDArray[np.float64]) -> NDArray[np.float64]:
+            return predict_precision(on, oe, bn, be, sn, se, spec).r95
+
     plan = choose_setups([c.id for c in ctrl], np.array([c.northing for c in ctrl]),
                          np.array([c.easting for c in ctrl]), stakes.northing, stakes.easting, setup.max_distance,
-                         setup.max_backsight, stake_ids=_PointIds(stakes))
+                         setup.max_backsight, stake_ids=_PointIds(stakes), r95=r95, tolerance=tolerance)
     n = len(stakes)
     first = np.full(len(plan.setups), n, dtype=np.int64)
     np.minimum.at(first, plan.setup_index, np.arange(n, dtype=np.int64))
