@@ -4,7 +4,10 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 
-__all__ = ["DECIMALS", "csv_field", "csv_text"]
+__all__ = ["DECIMALS", "POINTS_COLUMNS", "csv_field", "csv_text"]
+
+#: The point file's layout: points.csv, and restake.csv and control.csv laid out the same way.
+POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 
 DECIMALS = 4  # coordinates, stations, offsets and distances in CSV
 

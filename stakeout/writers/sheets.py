@@ -14,14 +14,13 @@ import textwrap
 import numpy as np
 
 from ..angles import format_azimuth_dms, format_dms
-from ..design import Design, Occupation
+from ..design import Design, Occupation, precision_rules_setups
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
-from .text import (deflection_title, WIDE, WIDTH, Column, SheetPart, curve_lines, fixed, header_lines, offset_side, paged,
-                   paged_parts,
-                   setout_cells, table_lines, texts_of, wrap_lines)
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_title, fixed, header_lines, offset_side,
+                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
 
@@ -154,6 +153,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     head += _DEFINITIONS
     if setup.target_height is not None:
         head.append(f"target height {setup.target_height:.3f}")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)
@@ -174,8 +174,10 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
             Column("bs dist", ["" if x is None else f"{x:.3f}" for x in dists]),
             Column("stakes", [str(o.stake_count) for o in occs]),
             Column("farthest", [f"{o.farthest_sight:.3f}" for o in occs]),
-            Column("from sta", [lab(o.first_station) for o in occs]),
-            Column("to sta", [lab(o.last_station) for o in occs], with_previous=True)]
+            # the range a setup serves where the job gives one, else its first and last stake
+            Column("from sta", [lab(o.first_station if o.range_from is None else o.range_from) for o in occs]),
+            Column("to sta", [lab(o.last_station if o.range_to is None else o.range_to) for o in occs],
+                   with_previous=True)]
     prec = sdes.precision
     if prec is not None:
         worst = np.zeros(len(occs))
@@ -187,9 +189,15 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     heads, rows = table_lines(cols, table)
     setup = sdes.setup
     if setup.auto:
-        how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
-               f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
-               f"point within max_backsight {setup.max_backsight:g}")
+        if precision_rules_setups(d.job):
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup and, where any setup can keep it so, its predicted r95 "
+                   "within the tolerance (the chosen setup with the smallest r95), each backsight the farthest "
+                   f"control point within max_backsight {setup.max_backsight:g}")
+        else:
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
+                   f"point within max_backsight {setup.max_backsight:g}")
     elif setup.stations and setup.stations[0].from_station is not None:
         how = "as listed in the job file ([[setup.station]]), each serving its range of stations"
     elif setup.stations:
@@ -224,6 +232,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         heights.append(f"target height {setup.target_height:.3f}")
     if heights:
         head.append("   ".join(heights) + " (every setup)")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)

@@ -20,7 +20,7 @@ from ..design import Design
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
-from .csvtext import DECIMALS, csv_field, csv_text
+from .csvtext import DECIMALS, POINTS_COLUMNS, csv_field, csv_text
 from .text import fixed_or_empty, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -32,7 +32,6 @@ __all__ = [
     "curves_csv", "setout_csv", "restake_csv", "RESTAKE_COLUMNS", "DECIMALS",
 ]
 
-POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "easting",
                     "elevation", "feature", "code",
                     # added columns
