@@ -16,7 +16,8 @@ __all__ = [
     "SHEET_WIDTH", "SHEET_HEIGHT", "MARGIN", "PANEL_WIDTH", "AREA", "PAD", "LABEL_MAX_STAKES", "TICK_MAX_STATIONS",
     "THIN_CELL", "STATION_LABEL_GAP", "FONT_STAKE", "FONT_LABEL", "FONT_PANEL", "CHAR_EM", "MONO", "SANS",
     "CODE_COLOURS", "CL_COLOUR", "OFFSET_COLOUR", "TANGENT_COLOUR", "CONTROL_COLOUR", "STATUS_COLOURS",
-    "nice_length", "station_spacing", "View",
+    "nice_length", "station_spacing", "View", "num", "fmt_short", "text_width", "wrap_text", "round_label",
+    "circles_path", "thin", "right_normal", "extent", "grow_extent", "inside_frame", "to_frame", "short_hash",
 ]
 
 
@@ -100,18 +101,18 @@ STATUS_COLOURS = {"ok": "#1a9850", "out": "#d73027", "duplicate": "#f46d43", "un
                   "superseded": "#969696", "control": "#2166ac"}
 
 
-def _n(v: float) -> str:
+def num(v: float) -> str:
     """One coordinate on the canvas: two decimals, never ``-0.00``."""
     t = f"{v:.2f}"
     return "0.00" if t == "-0.00" else t
 
 
-def _text_width(text: str, size: float) -> float:
+def text_width(text: str, size: float) -> float:
     """Width of ``text`` set in the monospaced font at ``size`` (SVG units)."""
     return len(text) * CHAR_EM * size
 
 
-def _wrap(text: str, chars: int) -> list[str]:
+def wrap_text(text: str, chars: int) -> list[str]:
     """``text`` broken at spaces into lines of at most ``chars`` characters."""
     import textwrap
 
@@ -129,7 +130,7 @@ def nice_length(target: float) -> float:
     return p
 
 
-def _round_label(label: str) -> str:
+def round_label(label: str) -> str:
     """A station label at a round station without its zero decimals (``15+00.00`` -> ``15+00``)."""
     head, dot, tail = label.partition(".")
     return head if dot and set(tail) <= {"0"} else label
@@ -202,33 +203,33 @@ class View:
         return float(self.x(e)), float(self.y(n))
 
 
-def _g(v: float) -> str:
+def fmt_short(v: float) -> str:
     """A round length without needless decimals (``2.5``, ``100``)."""
     t = f"{v:.6f}".rstrip("0").rstrip(".")
     return t or "0"
 
 
-def _circles(x: F, y: F, r: float) -> str:
+def circles_path(x: F, y: F, r: float) -> str:
     """Path data of small circles (one subpath each)."""
     d = 2 * r
-    return "".join(f"M{_n(p - r)},{_n(q)}a{_n(r)},{_n(r)} 0 1,0 {_n(d)},0a{_n(r)},{_n(r)} 0 1,0 {_n(-d)},0"
+    return "".join(f"M{num(p - r)},{num(q)}a{num(r)},{num(r)} 0 1,0 {num(d)},0a{num(r)},{num(r)} 0 1,0 {num(-d)},0"
                    for p, q in zip(x.tolist(), y.tolist()))
 
 
-def _thin(x: F, y: F, cell: float) -> NDArray[np.int64]:
+def thin(x: F, y: F, cell: float) -> NDArray[np.int64]:
     """Indices of the first point in each canvas cell (vectorised), in input order."""
     key = np.floor(x / cell).astype(np.int64) * 1_000_003 + np.floor(y / cell).astype(np.int64)
     _, first = np.unique(key, return_index=True)
     return np.sort(first)
 
 
-def _right_normal(az: F) -> tuple[F, F]:
+def right_normal(az: F) -> tuple[F, F]:
     """Canvas direction square to the right of azimuths (degrees)."""
     r = np.radians(az)
     return np.cos(r), np.sin(r)
 
 
-def _extent(points_e: list[F], points_n: list[F]) -> tuple[float, float, float, float]:
+def extent(points_e: list[F], points_n: list[F]) -> tuple[float, float, float, float]:
     e = np.concatenate([np.asarray(p, dtype=float).ravel() for p in points_e])
     n = np.concatenate([np.asarray(p, dtype=float).ravel() for p in points_n])
     e, n = e[np.isfinite(e)], n[np.isfinite(n)]
@@ -237,7 +238,7 @@ def _extent(points_e: list[F], points_n: list[F]) -> tuple[float, float, float, 
     return float(e.min()), float(n.min()), float(e.max()), float(n.max())
 
 
-def _grow(ext: tuple[float, float, float, float], e: F, n: F, reach: float) -> tuple[float, float, float, float]:
+def grow_extent(ext: tuple[float, float, float, float], e: F, n: F, reach: float) -> tuple[float, float, float, float]:
     """The extent grown to take in points lying within ``reach`` (a fraction of its size) of it."""
     emin, nmin, emax, nmax = ext
     size = max(emax - emin, nmax - nmin, 1e-9)
@@ -249,16 +250,16 @@ def _grow(ext: tuple[float, float, float, float], e: F, n: F, reach: float) -> t
     return ext
 
 
-def _short_hash(sha: str) -> str:
+def short_hash(sha: str) -> str:
     return sha[:16]
 
 
-def _inside_frame(x: float, y: float, inset: float) -> bool:
+def inside_frame(x: float, y: float, inset: float) -> bool:
     x0, y0, x1, y1 = AREA
     return x0 + inset <= x <= x1 - inset and y0 + inset <= y <= y1 - inset
 
 
-def _to_frame(x: float, y: float, x2: float, y2: float, inset: float) -> tuple[float, float]:
+def to_frame(x: float, y: float, x2: float, y2: float, inset: float) -> tuple[float, float]:
     """Where the segment from (x, y) inside the drawing toward (x2, y2) meets the frame (inset)."""
     x0, y0, x1, y1 = AREA
     t = 1.0

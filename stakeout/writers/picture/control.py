@@ -12,8 +12,8 @@ import numpy as np
 
 from ...angles import format_dms
 from ...design import Design
-from .canvas import CONTROL_COLOUR, FONT_LABEL, View, _inside_frame, _n, _text_width, _to_frame
-from .labels import Labeller, Layer, _around_boxes, _draw_label
+from .canvas import CONTROL_COLOUR, FONT_LABEL, View, inside_frame, num, text_width, to_frame
+from .labels import Labeller, Layer, around_boxes, draw_label
 
 __all__ = ["occupations", "control_marks", "place_control_labels"]
 
@@ -41,11 +41,11 @@ def control_marks(d: Design, v: View, lab: Labeller) -> tuple[list[str], list[tu
         else:
             r = math.radians(bs_az)
             bx, by = ox + 120 * math.sin(r), oy - 120 * math.cos(r)
-        lines.append(f"M{_n(ox)},{_n(oy)}L{_n(bx)},{_n(by)}")
-        if bs is not None and _inside_frame(bx, by, 6.0):
+        lines.append(f"M{num(ox)},{num(oy)}L{num(bx)},{num(by)}")
+        if bs is not None and inside_frame(bx, by, 6.0):
             points.setdefault(bs.id, (bx, by, []))[2].append("backsight")
         elif bs is not None:  # off the sheet: say where the line goes, where it leaves the frame
-            fx, fy = _to_frame(ox, oy, bx, by, 10.0)
+            fx, fy = to_frame(ox, oy, bx, by, 10.0)
             dist = math.hypot(bs.easting - occ.easting, bs.northing - occ.northing)
             labels.append((fx, fy, f"to {bs.id} backsight, {dist:,.2f} {d.unit.symbol}"))
         else:
@@ -56,10 +56,10 @@ def control_marks(d: Design, v: View, lab: Labeller) -> tuple[list[str], list[tu
                     'stroke-dasharray="8,3,2,3" fill="none"/>')
     for pid, (px_, py_, roles) in points.items():
         if "backsight" in roles:
-            ctrl.append(f'<circle cx="{_n(px_)}" cy="{_n(py_)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
-                        f'stroke-width="1.2"/><circle cx="{_n(px_)}" cy="{_n(py_)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
+            ctrl.append(f'<circle cx="{num(px_)}" cy="{num(py_)}" r="4" fill="#fff" stroke="{CONTROL_COLOUR}" '
+                        f'stroke-width="1.2"/><circle cx="{num(px_)}" cy="{num(py_)}" r="1.2" fill="{CONTROL_COLOUR}"/>')
         if "occupied" in roles:
-            ctrl.append(f'<path d="M{_n(px_)},{_n(py_ - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
+            ctrl.append(f'<path d="M{num(px_)},{num(py_ - 6)}l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>')
         lab.block([[px_ - 6, py_ - 7, px_ + 6, py_ + 5]])
         labels.insert(0, (px_, py_, f"{pid} {', '.join(dict.fromkeys(roles))}"))
     return ctrl, labels
@@ -71,9 +71,9 @@ def place_control_labels(v: View, labels: list[tuple[float, float, str]], layer:
     for px_, py_, text in labels:
         dirx, diry = px_ - centre[0], py_ - centre[1]
         norm = math.hypot(dirx, diry) or 1.0
-        w = np.array([_text_width(text, FONT_LABEL) + 2.0])
+        w = np.array([text_width(text, FONT_LABEL) + 2.0])
         hh = np.array([FONT_LABEL * 1.15 + 1.0])
-        boxes = _around_boxes(np.array([px_]), np.array([py_]), w, hh, 5.0, np.array([[dirx / norm, diry / norm]]))
+        boxes = around_boxes(np.array([px_]), np.array([py_]), w, hh, 5.0, np.array([[dirx / norm, diry / norm]]))
         k = layer.lab.place(boxes[0])
         if k >= 0:
-            _draw_label(layer.texts, boxes[0, k], [text], FONT_LABEL)
+            draw_label(layer.texts, boxes[0, k], [text], FONT_LABEL)

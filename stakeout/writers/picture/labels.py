@@ -14,9 +14,11 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import NDArray
 
-from .canvas import AREA, F, _n, _text_width
+from .canvas import AREA, F, num, text_width
 
-__all__ = ["Labeller", "PREFILTER_MIN", "AROUND", "Layer"]
+__all__ = [
+    "Labeller", "PREFILTER_MIN", "AROUND", "Layer", "around_boxes", "TextGroup", "draw_label", "place_on_normal",
+]
 
 
 class Labeller:
@@ -139,7 +141,7 @@ PREFILTER_MIN = 8000
 AROUND = np.array([(1, 0), (-1, 0), (0, -1), (0, 1), (1, -1), (-1, -1), (1, 1), (-1, 1)], dtype=float)
 
 
-def _around_boxes(x: F, y: F, w: F, h: F, r: float, order_dir: F | None = None) -> F:
+def around_boxes(x: F, y: F, w: F, h: F, r: float, order_dir: F | None = None) -> F:
     """Candidate boxes ``(N, 8, 4)`` of labels of size (w, h) beside marks of radius ``r``
     at (x, y), nearest first to ``order_dir`` (``(N, 2)`` canvas directions) when given.
     """
@@ -158,7 +160,7 @@ def _around_boxes(x: F, y: F, w: F, h: F, r: float, order_dir: F | None = None) 
     return boxes
 
 
-class _Text:
+class TextGroup:
     """Collected text elements of one class, drawn in one group."""
 
     def __init__(self) -> None:
@@ -166,10 +168,10 @@ class _Text:
 
     def add(self, x: float, y: float, text: str, anchor: str = "middle", extra: str = "") -> None:
         a = "" if anchor == "start" else f' text-anchor="{anchor}"'  # SVG's default anchor is the start
-        self.items.append(f'<text x="{_n(x)}" y="{_n(y)}"{a}{extra}>{escape(text)}</text>')
+        self.items.append(f'<text x="{num(x)}" y="{num(y)}"{a}{extra}>{escape(text)}</text>')
 
 
-def _draw_label(out: _Text, box: Sequence[float], lines: Sequence[str], size: float) -> None:
+def draw_label(out: TextGroup, box: Sequence[float], lines: Sequence[str], size: float) -> None:
     """Lines of text centred in a box (baselines from the box's top)."""
     x = (box[0] + box[2]) / 2
     top = box[1] + 0.5
@@ -177,13 +179,13 @@ def _draw_label(out: _Text, box: Sequence[float], lines: Sequence[str], size: fl
         out.add(x, top + size * (0.86 + 1.15 * k), t)
 
 
-def _place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, lines: list[str], size: float,
+def place_on_normal(lab: Labeller, x: float, y: float, nx: float, ny: float, lines: list[str], size: float,
                      reach: tuple[float, float], steps: int = 3) -> tuple[tuple[float, ...], tuple[float, float]] | None:
     """Place a label off (x, y) along the canvas direction (nx, ny), its nearest edge or
     corner ``reach[0]`` away, stepping outward, then on the other side past ``reach[1]``.
     Returns the box and the end of its leader (where the ray meets the box), or None.
     """
-    w = max(_text_width(t, size) for t in lines) + 2.0
+    w = max(text_width(t, size) for t in lines) + 2.0
     h = len(lines) * size * 1.15 + 1.0
     cands = []
     ends = []
@@ -214,6 +216,6 @@ class Layer:
     """
 
     lab: Labeller
-    texts: _Text = field(default_factory=_Text)
-    numbers: _Text = field(default_factory=_Text)
+    texts: TextGroup = field(default_factory=TextGroup)
+    numbers: TextGroup = field(default_factory=TextGroup)
     leaders: list[str] = field(default_factory=list)

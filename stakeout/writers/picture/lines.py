@@ -12,9 +12,11 @@ import numpy as np
 
 from ...design import Design
 from ...presentation import Element, PerKind
-from .canvas import CL_COLOUR, F, OFFSET_COLOUR, View, _g, _n
+from .canvas import CL_COLOUR, F, OFFSET_COLOUR, View, fmt_short, num
 
-__all__ = ["CHORD_TOLERANCE", "SEGMENTS"]
+__all__ = [
+    "CHORD_TOLERANCE", "SEGMENTS", "alignment_lines", "tick_vertices",
+]
 
 
 Segment = tuple[tuple[float, float], tuple[float, float], str]  # start, end, path command
@@ -26,7 +28,7 @@ Ends = tuple[float, float, float, float]  # easting, northing at the start; at t
 def _seg_line(d: Design, el: Element, ends: Ends, offset: float, v: View) -> Segment:
     e0, n0, e1, n1 = ends
     x1, y1 = v.xy1(e1, n1)
-    return v.xy1(e0, n0), (x1, y1), f"L{_n(x1)},{_n(y1)}"
+    return v.xy1(e0, n0), (x1, y1), f"L{num(x1)},{num(y1)}"
 
 
 def _seg_arc(d: Design, el: Any, ends: Ends, offset: float, v: View) -> Segment:
@@ -34,10 +36,10 @@ def _seg_arc(d: Design, el: Any, ends: Ends, offset: float, v: View) -> Segment:
     r = (el.radius - el.turn * offset) * v.scale
     x1, y1 = v.xy1(e1, n1)
     if r <= 1e-6:
-        return v.xy1(e0, n0), (x1, y1), f"L{_n(x1)},{_n(y1)}"
+        return v.xy1(e0, n0), (x1, y1), f"L{num(x1)},{num(y1)}"
     large = 1 if el.delta > 180.0 else 0
     sweep = 1 if el.turn > 0 else 0  # a right turn runs clockwise on the canvas (SVG's positive sweep)
-    return v.xy1(e0, n0), (x1, y1), f"A{_n(r)},{_n(r)} 0 {large} {sweep} {_n(x1)},{_n(y1)}"
+    return v.xy1(e0, n0), (x1, y1), f"A{num(r)},{num(r)} 0 {large} {sweep} {num(x1)},{num(y1)}"
 
 
 #: Sagitta allowed between a curve and the chords drawn for it (canvas units).
@@ -54,7 +56,7 @@ def _seg_sampled(d: Design, el: Element, ends: Ends, offset: float, v: View) -> 
     n, e, _ = d.presentation.element_samples(el, count, offset)
     x, y = v.x(e), v.y(n)
     return ((float(x[0]), float(y[0])), (float(x[-1]), float(y[-1])),
-            "L" + " ".join(f"{_n(p)},{_n(q)}" for p, q in zip(x[1:].tolist(), y[1:].tolist())))
+            "L" + " ".join(f"{num(p)},{num(q)}" for p, q in zip(x[1:].tolist(), y[1:].tolist())))
 
 
 #: How each kind of element is drawn: a line, an arc, or a polyline of samples.
@@ -70,24 +72,24 @@ def _path_d(d: Design, offset: float, v: View) -> str:
     for k, el in enumerate(d.alignment.elements):
         (x0, y0), end, cmd = SEGMENTS[el](d, el, (e0[k], n0[k], e1[k], n1[k]), offset, v)
         if last is None or abs(last[0] - x0) > 0.01 or abs(last[1] - y0) > 0.01:
-            parts.append(f"M{_n(x0)},{_n(y0)}")
+            parts.append(f"M{num(x0)},{num(y0)}")
         parts.append(cmd)
         last = end
     return "".join(parts)
 
 
-def _alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) -> str:
+def alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) -> str:
     parts = [f'<g clip-path="url(#{clip_id})" fill="none" stroke-linejoin="round">']
     for ol in d.job.staking.offsets:
         if ol.offset != 0.0:
             parts.append(f'<path class="so-offset" d="{_path_d(d, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
                          'stroke-width="0.8"/>')
-    parts.append(f'<path class="so-cl" d="{_path_d(d, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
+    parts.append(f'<path class="so-cl" d="{_path_d(d, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{fmt_short(width_cl)}"/>')
     parts.append("</g>")
     return "".join(parts)
 
 
-def _tick_vertices(x: F, y: F, nx: F, ny: F, lo: float, hi: float) -> tuple[F, F]:
+def tick_vertices(x: F, y: F, nx: F, ny: F, lo: float, hi: float) -> tuple[F, F]:
     """Vertices of ticks square to the line (``lo`` to the left, ``hi`` to the right), NaN between them."""
     nan = np.full(x.size, np.nan)
     vx = np.column_stack([x - lo * nx, x + hi * nx, nan]).ravel()

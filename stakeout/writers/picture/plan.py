@@ -13,11 +13,11 @@ from ...design import Design
 from ..text import curve_texts, turn_word
 from .canvas import (AREA, CL_COLOUR, CODE_COLOURS, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
                      MARGIN, OFFSET_COLOUR, SHEET_HEIGHT, TANGENT_COLOUR, THIN_CELL, TICK_MAX_STATIONS, View,
-                     _extent, _g, _grow, _n, _right_normal, _round_label, _short_hash,
-                     _text_width, station_spacing)
-from .labels import Labeller, Layer, _around_boxes, _draw_label, _place_on_normal
-from .frame import _Panel, _frame, _grid_ticks, _north_arrow, _scale_bar, _svg_open, _title_block
-from .lines import _alignment_lines, _tick_vertices
+                     extent, fmt_short, grow_extent, num, right_normal, round_label, short_hash,
+                     text_width, station_spacing)
+from .labels import Labeller, Layer, around_boxes, draw_label, place_on_normal
+from .frame import Panel, frame_rect, grid_ticks, north_arrow, scale_bar, svg_open, title_block
+from .lines import alignment_lines, tick_vertices
 from .control import control_marks, occupations, place_control_labels
 from .stakes import key_points, key_rings, place_key_point_labels, place_stake_numbers, stake_marks
 
@@ -53,7 +53,7 @@ def plan_svg_element(d: Design) -> str:
     clip = "so-plan-clip"
     layer = Layer(Labeller())
     lab = layer.lab
-    body: list[str] = [_frame()]
+    body: list[str] = [frame_rect()]
     x0, y0, x1, y1 = AREA
     # corners kept for the north arrow and the scale bar
     lab.block([[x1 - 34, y0, x1, y0 + 66], [x0, y1 - 34, x0 + 300, y1]])
@@ -65,7 +65,7 @@ def plan_svg_element(d: Design) -> str:
                     'stroke-width="0.7" '
                     'stroke-dasharray="6,3"/>')
     body.append("</g>")
-    body.append(_alignment_lines(d, v, clip))
+    body.append(alignment_lines(d, v, clip))
 
     offs = np.array([ol.offset for ol in job.staking.offsets] + [0.0])
     left_px, right_px = max(0.0, -offs.min()) * v.scale, max(0.0, offs.max()) * v.scale
@@ -82,17 +82,17 @@ def plan_svg_element(d: Design) -> str:
     stakes = stake_marks(d, v, lab)
     keys = key_points(d, v, lab)
     ctrl, ctrl_labels = control_marks(d, v, lab)
-    body.append(_grid_ticks(v, lab))
+    body.append(grid_ticks(v, lab))
 
     # ---- labels, most important first ----
     place_control_labels(v, ctrl_labels, layer)
     body_eq = _equations(d, v, layer, (right_px + 8.0, left_px + 8.0))
     st_shown = 0
     for _, lines, px_, py_, u, w_ in ticks.labels:  # on the left of the line, else on the right
-        placed = _place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
+        placed = place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
                                   steps=2)
         if placed is not None:
-            _draw_label(layer.texts, placed[0], lines, FONT_LABEL)
+            draw_label(layer.texts, placed[0], lines, FONT_LABEL)
             st_shown += 1
     kp_shown = place_key_point_labels(d, keys, layer, (right_px + 8.0, left_px + 8.0))
     cts = {ct.curve.number: ct for ct in curve_texts(d)}
@@ -110,18 +110,18 @@ def plan_svg_element(d: Design) -> str:
         body.append(f'<path d="{"".join(layer.leaders)}" stroke="#444" stroke-width="0.6" fill="none"/>')
     body.append('<g class="so-num">' + "".join(layer.numbers.items) + "</g>")
     body.append('<g class="so-lab">' + "".join(layer.texts.items) + "</g>")
-    body.append(_north_arrow(x1 - 17, y0 + 6))
-    bar, _ = _scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
+    body.append(north_arrow(x1 - 17, y0 + 6))
+    bar, _ = scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
     body.append(bar)
 
     n_st, keep = len(sp), stakes.keep
     notes = _plan_notes(d, stakes.detail, len(keep), num_shown, kp_shown, len(a.key_points), st_shown,
                         ticks.labelled.size)
     pan = _panel(d, cts, bool(pis), ticks.spacing, notes)
-    block = _title_block([
+    block = title_block([
         ("job", job.info.name),
         ("job file", Path(job.path).name),
-        ("sha256", _short_hash(job.sha256) + "..."),
+        ("sha256", short_hash(job.sha256) + "..."),
         ("units", unit.label),
         ("CRS", d.crs_label or "none: local grid"),
         ("stations", f"{stn.label(a.start_station)} to {stn.label(a.end_station)}, {len(sp):,} stakes"),
@@ -130,7 +130,7 @@ def plan_svg_element(d: Design) -> str:
         ("north", "grid north, up the sheet"),
     ], SHEET_HEIGHT - MARGIN)
     title = f"Plan of {a.name}: {job.info.name}"
-    return (_svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>")
+    return (svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>")
 
 
 def _plan_view(d: Design, pis: list[Any]) -> View:
@@ -145,7 +145,7 @@ def _plan_view(d: Design, pis: list[Any]) -> View:
     mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
     mn, me, _ = a.evaluate(mids, 0.0)
     big_off = max([abs(ol.offset) for ol in job.staking.offsets] + [0.0])
-    ext = _extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
+    ext = extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
                   [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
     pi_e = np.array([c.pi_easting for c in pis], dtype=float)
@@ -154,7 +154,7 @@ def _plan_view(d: Design, pis: list[Any]) -> View:
     bs_n = np.array([o[1].northing for o in occs if o[1] is not None], dtype=float)
     # PIs and backsights far off (a near-half-turn curve's PI, a backsight kilometres away) would
     # shrink the job to a speck: they are drawn toward the frame, clipped, instead
-    ext = _grow(ext, np.concatenate([pi_e, bs_e]), np.concatenate([pi_n, bs_n]), 0.35)
+    ext = grow_extent(ext, np.concatenate([pi_e, bs_e]), np.concatenate([pi_n, bs_n]), 0.35)
     return View.fit(*ext)
 
 
@@ -169,8 +169,8 @@ def _tangents(d: Design, v: View, lab: Labeller, pis: list[Any]) -> tuple[list[s
         tn, te, _ = d.alignment.evaluate(ends, 0.0)
         tx, ty = v.x(te).reshape(-1, 2), v.y(tn).reshape(-1, 2)
         for k in range(len(pis)):
-            tang.append(f"M{_n(tx[k, 0])},{_n(ty[k, 0])}L{_n(px[k])},{_n(py[k])}L{_n(tx[k, 1])},{_n(ty[k, 1])}")
-            pi_marks.append(f"M{_n(px[k])},{_n(py[k] - 5)}l4.5,8h-9z")
+            tang.append(f"M{num(tx[k, 0])},{num(ty[k, 0])}L{num(px[k])},{num(py[k])}L{num(tx[k, 1])},{num(ty[k, 1])}")
+            pi_marks.append(f"M{num(px[k])},{num(py[k] - 5)}l4.5,8h-9z")
         lab.block(np.column_stack([px - 5, py - 6, px + 5, py + 4]))
     return tang, pi_marks, px, py
 
@@ -194,22 +194,22 @@ def _station_ticks(d: Design, v: View, left_px: float, right_px: float) -> _Tick
     tick_lines: list[tuple[F, F]] = []  # vertices with NaN between ticks, for the labeller
     if minor.size:
         mn_, me_, maz = a.evaluate(minor, 0.0)
-        nx, ny = _right_normal(maz)
+        nx, ny = right_normal(maz)
         mx, my = v.x(me_), v.y(mn_)
         h = 3.0
-        ticks.append("".join(f"M{_n(p - h * u)},{_n(q - h * w)}l{_n(2 * h * u)},{_n(2 * h * w)}"
+        ticks.append("".join(f"M{num(p - h * u)},{num(q - h * w)}l{num(2 * h * u)},{num(2 * h * w)}"
                              for p, q, u, w in zip(mx.tolist(), my.tolist(), nx.tolist(), ny.tolist())))
-        tick_lines.append(_tick_vertices(mx, my, nx, ny, h, h))
+        tick_lines.append(tick_vertices(mx, my, nx, ny, h, h))
     station_labels: list[tuple[F, list[str], float, float, float, float]] = []
     if labelled.size:
         ln, le, laz = a.evaluate(labelled, 0.0)
-        nx, ny = _right_normal(laz)
+        nx, ny = right_normal(laz)
         lx, ly = v.x(le), v.y(ln)
         lo, hi = left_px + 4.0, right_px + 4.0
-        ticks.append("".join(f"M{_n(p - lo * u)},{_n(q - lo * w)}L{_n(p + hi * u)},{_n(q + hi * w)}"
+        ticks.append("".join(f"M{num(p - lo * u)},{num(q - lo * w)}L{num(p + hi * u)},{num(q + hi * w)}"
                              for p, q, u, w in zip(lx.tolist(), ly.tolist(), nx.tolist(), ny.tolist())))
-        tick_lines.append(_tick_vertices(lx, ly, nx, ny, lo, hi))
-        texts = [_round_label(t) for t in stn.labels(labelled)]
+        tick_lines.append(tick_vertices(lx, ly, nx, ny, lo, hi))
+        texts = [round_label(t) for t in stn.labels(labelled)]
         for k, t in enumerate(texts):
             station_labels.append((labelled[k:k + 1], [t], float(lx[k]), float(ly[k]), float(nx[k]), float(ny[k])))
     return _Ticks("".join(ticks), station_labels, labelled, spacing, tick_lines)
@@ -223,16 +223,16 @@ def _equations(d: Design, v: View, layer: Layer, reach: tuple[float, float]) -> 
     eq_at = np.array([eq.internal for eq in stn.equations])
     qn, qe, qaz = a.evaluate(eq_at, 0.0)
     eqx, eqy = v.x(qe), v.y(qn)
-    qnx, qny = _right_normal(qaz)
+    qnx, qny = right_normal(qaz)
     lab.block(np.column_stack([eqx - 4, eqy - 4, eqx + 4, eqy + 4]))
     for k, eq in enumerate(stn.equations):
         text = f"EQ {stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH"
-        placed = _place_on_normal(lab, float(eqx[k]), float(eqy[k]), float(qnx[k]), float(qny[k]), [text],
+        placed = place_on_normal(lab, float(eqx[k]), float(eqy[k]), float(qnx[k]), float(qny[k]), [text],
                                   FONT_LABEL, reach)
         if placed is not None:
-            _draw_label(layer.texts, placed[0], [text], FONT_LABEL)
-            layer.leaders.append(f"M{_n(float(eqx[k]))},{_n(float(eqy[k]))}L{_n(placed[1][0])},{_n(placed[1][1])}")
-    eq_marks = "".join(f"M{_n(p - 3.5)},{_n(q)}l3.5,-3.5l3.5,3.5l-3.5,3.5z" for p, q in zip(eqx.tolist(), eqy.tolist()))
+            draw_label(layer.texts, placed[0], [text], FONT_LABEL)
+            layer.leaders.append(f"M{num(float(eqx[k]))},{num(float(eqy[k]))}L{num(placed[1][0])},{num(placed[1][1])}")
+    eq_marks = "".join(f"M{num(p - 3.5)},{num(q)}l3.5,-3.5l3.5,3.5l-3.5,3.5z" for p, q in zip(eqx.tolist(), eqy.tolist()))
     return f'<path class="so-eq" d="{eq_marks}" fill="#fff" stroke="{CL_COLOUR}" stroke-width="1.1"/>'
 
 
@@ -241,26 +241,26 @@ def _place_pi_labels(d: Design, v: View, pis: list[Any], px: F, py: F, cts: dict
     for k, c in enumerate(pis):
         ct = cts[c.number]
         radii = " / ".join(f"{arc.radius:.2f}" for arc, _, _ in ct.arcs)
-        lines = [f"PI {c.number}  {_round_label(ct.pi_label)}", f"I {ct.delta} {'RT' if c.turn > 0 else 'LT'}"]
+        lines = [f"PI {c.number}  {round_label(ct.pi_label)}", f"I {ct.delta} {'RT' if c.turn > 0 else 'LT'}"]
         if radii:
             lines.append(f"R {radii}")
         mid = d.alignment.evaluate(np.array([(c.pc_station + c.pt_station) / 2]), 0.0)
         mx_, my_ = float(v.x(mid.easting)[0]), float(v.y(mid.northing)[0])
         dx, dy = float(px[k]) - mx_, float(py[k]) - my_
         norm = math.hypot(dx, dy) or 1.0
-        w = np.array([max(_text_width(t, FONT_LABEL) for t in lines) + 2.0])
+        w = np.array([max(text_width(t, FONT_LABEL) for t in lines) + 2.0])
         hh = np.array([len(lines) * FONT_LABEL * 1.15 + 1.0])
-        boxes = _around_boxes(np.array([float(px[k])]), np.array([float(py[k])]), w, hh, 6.0,
+        boxes = around_boxes(np.array([float(px[k])]), np.array([float(py[k])]), w, hh, 6.0,
                               np.array([[dx / norm, dy / norm]]))
         j = layer.lab.place(boxes[0])
         if j >= 0:
-            _draw_label(layer.texts, boxes[0, j], lines, FONT_LABEL)
+            draw_label(layer.texts, boxes[0, j], lines, FONT_LABEL)
 
 
-def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes: list[str]) -> _Panel:
+def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes: list[str]) -> Panel:
     """The panel on the right: title, legend, curve data and notes."""
     job, a, sp, stn, unit = d.job, d.alignment, d.stakes, d.stationing, d.unit
-    pan = _Panel.opening("PLAN", 15.0, job.info.name, f"alignment {a.name}")
+    pan = Panel.opening("PLAN", 15.0, job.info.name, f"alignment {a.name}")
     pan.symbol(f'<path d="M0,0h28" stroke="{CL_COLOUR}" stroke-width="1.6"/>', "centreline")
     pan.symbol(f'<path d="M0,0h28" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>', "offset line")
     for j, code in enumerate(sp.codes):
@@ -277,7 +277,7 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
         pan.symbol(f'<path d="M10.5,0l3.5,-3.5l3.5,3.5l-3.5,3.5z" fill="#fff" stroke="{CL_COLOUR}"/>',
                    "station equation (back = ahead)")
     pan.symbol('<path d="M14,-5v10M8,0h12" stroke="#222" stroke-width="0.7"/>',
-               f"station tick; labels every {_g(spacing)} {unit.symbol}")
+               f"station tick; labels every {fmt_short(spacing)} {unit.symbol}")
     if occupations(d):
         pan.symbol(f'<path d="M14,-6l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>', "occupied point")
         pan.symbol(f'<path d="M0,0h28" stroke="{CONTROL_COLOUR}" stroke-dasharray="8,3,2,3"/>'

@@ -11,11 +11,11 @@ import numpy as np
 
 from ...design import Design
 from .canvas import (AREA, F, FONT_STAKE, LABEL_MAX_STAKES, MARGIN, SHEET_HEIGHT, STATUS_COLOURS, THIN_CELL, View,
-                     _circles, _extent, _g, _grow, _inside_frame, _n, _short_hash, _text_width, _thin, _to_frame,
+                     circles_path, extent, fmt_short, grow_extent, inside_frame, num, short_hash, text_width, thin, to_frame,
                      nice_length)
-from .labels import Labeller, PREFILTER_MIN, _Text, _around_boxes
-from .frame import _Panel, _frame, _north_arrow, _scale_bar, _svg_open, _title_block
-from .lines import _alignment_lines
+from .labels import Labeller, PREFILTER_MIN, TextGroup, around_boxes
+from .frame import Panel, frame_rect, north_arrow, scale_bar, svg_open, title_block
+from .lines import alignment_lines
 
 if TYPE_CHECKING:  # pragma: no cover
     from ...check import CheckResult
@@ -66,10 +66,10 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
     # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
     if matched.any():
-        ext = _extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
-        ext = _grow(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
+        ext = extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
+        ext = grow_extent(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
     else:
-        ext = _extent([shots.easting], [shots.northing])
+        ext = extent([shots.easting], [shots.northing])
     size = max(ext[2] - ext[0], ext[3] - ext[1])
     least = max(20.0 * r.horizontal_tolerance, 1.0)
     if size < least:  # one shot, or a few close together: show some room around them
@@ -81,19 +81,19 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     lab = Labeller()
     x0, y0, x1, y1 = AREA
     lab.block([[x1 - 34, y0, x1, y0 + 66], [x0, y1 - 34, x0 + 300, y1]])
-    body = [_frame(), _alignment_lines(d, v, clip, 1.0)]
+    body = [frame_rect(), alignment_lines(d, v, clip, 1.0)]
     # design points: small grey marks
     dx_all, dy_all = v.x(design.easting), v.y(design.northing)
     inside = (dx_all > x0) & (dx_all < x1) & (dy_all > y0) & (dy_all < y1)
     grey = np.where(inside)[0]
     if grey.size > LABEL_MAX_STAKES:
-        grey = grey[_thin(dx_all[grey], dy_all[grey], THIN_CELL)]
-    body.append(f'<g clip-path="url(#{clip})"><path d="{_circles(dx_all[grey], dy_all[grey], 1.2)}" fill="#aaa"/>')
+        grey = grey[thin(dx_all[grey], dy_all[grey], THIN_CELL)]
+    body.append(f'<g clip-path="url(#{clip})"><path d="{circles_path(dx_all[grey], dy_all[grey], 1.2)}" fill="#aaa"/>')
     rad = r.horizontal_tolerance * factor * v.scale
     mx, my = v.x(de_e), v.y(de_n)
     ring = np.flatnonzero(matched)
-    ring = ring[_thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
-    body.append(f'<path d="{_circles(mx[ring], my[ring], rad)}" fill="none" '
+    ring = ring[thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
+    body.append(f'<path d="{circles_path(mx[ring], my[ring], rad)}" fill="none" '
                 'stroke="#9ecae1" stroke-width="0.7"/>')
     status = np.array(r.status, dtype=object)
     dxs = np.where(matched, r.d_easting, 0.0) * factor * v.scale
@@ -115,19 +115,19 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     if cut.any():
         c = np.where(cut & matched)[0]
         ux, uy = (tx[c] - mx[c]) / cap, (ty[c] - my[c]) / cap
-        marks = "".join(f"M{_n(p - 0.55 * cap * a_ + 3 * b_)},{_n(q - 0.55 * cap * b_ - 3 * a_)}l{_n(-6 * b_)},"
-                        f"{_n(6 * a_)}" for p, q, a_, b_ in zip(tx[c].tolist(), ty[c].tolist(), ux.tolist(),
+        marks = "".join(f"M{num(p - 0.55 * cap * a_ + 3 * b_)},{num(q - 0.55 * cap * b_ - 3 * a_)}l{num(-6 * b_)},"
+                        f"{num(6 * a_)}" for p, q, a_, b_ in zip(tx[c].tolist(), ty[c].tolist(), ux.tolist(),
                                                                  uy.tolist()))
         body.append(f'<path d="{marks}" stroke="#000" stroke-width="1.2"/>')
     um = np.where(~matched)[0]
     off_sheet: list[tuple[float, float, str]] = []
     if um.size:
         ux_, uy_ = v.x(shots.easting[um]), v.y(shots.northing[um])
-        crosses = "".join(f"M{_n(p - 4)},{_n(q - 4)}l8,8m0,-8l-8,8" for p, q in zip(ux_.tolist(), uy_.tolist()))
+        crosses = "".join(f"M{num(p - 4)},{num(q - 4)}l8,8m0,-8l-8,8" for p, q in zip(ux_.tolist(), uy_.tolist()))
         body.append(f'<path d="{crosses}" stroke="{STATUS_COLOURS["unmatched"]}" stroke-width="1.4"/>')
         for k, p, q in zip(um.tolist(), ux_.tolist(), uy_.tolist()):
-            if not _inside_frame(p, q, 6.0):
-                fx, fy = _to_frame(v.cx, v.cy, p, q, 12.0)
+            if not inside_frame(p, q, 6.0):
+                fx, fy = to_frame(v.cx, v.cy, p, q, 12.0)
                 dist = math.hypot(p - fx, q - fy) / v.scale
                 off_sheet.append((fx, fy, f"{shots.point[k]} unmatched: {dist:,.1f} {unit.symbol} off the sheet"))
     body.append("</g>")
@@ -146,12 +146,12 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     rank = np.array([0 if s == "out" else 1 if s in ("duplicate", "unmatched") else 3 if s == "ok" else 2
                      for s in r.status], dtype=np.int64)
     order = np.lexsort((np.arange(len(shots)), rank))
-    texts = _Text()
+    texts = TextGroup()
     for fx, fy, text in off_sheet:
-        w1 = np.array([_text_width(text, FONT_STAKE) + 1.5])
+        w1 = np.array([text_width(text, FONT_STAKE) + 1.5])
         h1 = np.array([FONT_STAKE * 0.78 + 1.5])
         toward = np.array([[v.cx - fx, v.cy - fy]]) / (math.hypot(v.cx - fx, v.cy - fy) or 1.0)
-        bx = _around_boxes(np.array([fx]), np.array([fy]), w1, h1, 4.0, toward)
+        bx = around_boxes(np.array([fx]), np.array([fy]), w1, h1, 4.0, toward)
         j = lab.place(bx[0])
         if j >= 0:
             b = bx[0, j]
@@ -159,12 +159,12 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     shown = 0
     names = [p if s == "ok" or not matched[i] or not cut[i] else f"{p} ({r.horizontal_error[i]:.3f})"
              for i, (p, s) in enumerate(zip(shots.point, r.status))]
-    w = np.array([_text_width(t, FONT_STAKE) + 1.5 for t in names])
+    w = np.array([text_width(t, FONT_STAKE) + 1.5 for t in names])
     hh = np.full(len(shots), FONT_STAKE * 0.78 + 1.5)
     out_dir = np.column_stack([tx - mx, ty - my])
     norm = np.hypot(out_dir[:, 0], out_dir[:, 1])
     out_dir = np.where(norm[:, None] > 0, out_dir / np.maximum(norm, 1e-12)[:, None], np.array([1.0, 0.0]))
-    boxes = _around_boxes(px, py, w, hh, 2.0, out_dir)
+    boxes = around_boxes(px, py, w, hh, 2.0, out_dir)
     ok = lab.free(boxes) if boxes.size > PREFILTER_MIN * 4 else np.ones(boxes.shape[:2], dtype=bool)
     for i in order.tolist():
         if not ok[i].any():
@@ -176,11 +176,11 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
             texts.add((b[0] + b[2]) / 2, b[3] - 1.25, names[i], extra=f' fill="{colour}"')
             shown += 1
     body.append('<g class="so-num">' + "".join(texts.items) + "</g>")
-    body.append(_north_arrow(x1 - 17, y0 + 6))
-    bar, _ = _scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
+    body.append(north_arrow(x1 - 17, y0 + 6))
+    bar, _ = scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
     body.append(bar)
 
-    pan = _Panel.opening("STAKED-POINT CHECK", 14.0, job.info.name, f"staked file {staked_name}")
+    pan = Panel.opening("STAKED-POINT CHECK", 14.0, job.info.name, f"staked file {staked_name}")
     counts = r.counts()
     for s in statuses:
         n_s = sum(1 for t in r.status if t == s)
@@ -194,19 +194,19 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
         pan.symbol(sym, f"{s}: {n_s}")
     pan.symbol('<circle cx="14" cy="0" r="1.2" fill="#aaa"/>', "design point")
     pan.symbol('<circle cx="14" cy="0" r="4.5" fill="none" stroke="#9ecae1"/>',
-               f"tolerance {r.horizontal_tolerance:g} {unit.symbol} (x{_g(factor)})")
+               f"tolerance {r.horizontal_tolerance:g} {unit.symbol} (x{fmt_short(factor)})")
     pan.gap()
     pan.heading("EXAGGERATION", 11.0)
-    pan.line(f"arrows: design point to staked point, the residual drawn {_g(factor)} times its length "
-             f"(x{_g(factor)}); positions of points at the scale of the bar")
+    pan.line(f"arrows: design point to staked point, the residual drawn {fmt_short(factor)} times its length "
+             f"(x{fmt_short(factor)}); positions of points at the scale of the bar")
     if cut.any():
         pan.line(f"arrows longer than {ARROW_CAP:g} tolerance circles are cut (marked /) and labelled "
                  "with their horizontal error")
     res_len = nice_length(60.0 / (factor * v.scale))
     res_w = res_len * factor * v.scale
     pan.gap(4)
-    pan.symbol(f'<path d="M0,3v-6M0,0h{_n(res_w)}M{_n(res_w)},3v-6" stroke="#222" stroke-width="1"/>', "")
-    pan.line(f"residual {_g(res_len)} {unit.symbol} drawn x{_g(factor)}")
+    pan.symbol(f'<path d="M0,3v-6M0,0h{num(res_w)}M{num(res_w)},3v-6" stroke="#222" stroke-width="1"/>', "")
+    pan.line(f"residual {fmt_short(res_len)} {unit.symbol} drawn x{fmt_short(factor)}")
     pan.gap()
     pan.heading("NOTES", 11.0)
     pan.line(f"shot numbers: {shown} of {len(shots)} shown" + ("" if shown == len(shots) else
@@ -215,22 +215,22 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     verdict = "ALL WITHIN TOLERANCE" if r.all_ok else "NEEDS ATTENTION"
     tol = f"horizontal {r.horizontal_tolerance:g}" + (f", vertical {r.vertical_tolerance:g}"
                                                       if r.vertical_tolerance is not None else "")
-    block = _title_block([
+    block = title_block([
         ("verdict", verdict),
         ("job", job.info.name),
         ("job file", Path(job.path).name),
-        ("sha256", _short_hash(job.sha256) + "..."),
+        ("sha256", short_hash(job.sha256) + "..."),
         ("staked", staked_name),
         ("tolerance", f"{tol} {unit.symbol}"),
         ("units", unit.label),
         ("CRS", d.crs_label or "none: local grid"),
     ], SHEET_HEIGHT - MARGIN)
     title = f"Residuals of the staked points: {job.info.name}"
-    return _svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>", factor
+    return svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>", factor
 
 
 def _arrows(x0: F, y0: F, x1: F, y1: F) -> str:
-    return "".join(f"M{_n(a)},{_n(b)}L{_n(c)},{_n(e)}"
+    return "".join(f"M{num(a)},{num(b)}L{num(c)},{num(e)}"
                    for a, b, c, e in zip(x0.tolist(), y0.tolist(), x1.tolist(), y1.tolist()))
 
 
@@ -242,6 +242,6 @@ def _heads(x0: F, y0: F, x1: F, y1: F, size: float = 4.5) -> str:
     ux, uy = dx[ok] / ln[ok], dy[ok] / ln[ok]
     bx, by = x1[ok] - ux * size, y1[ok] - uy * size
     w = size * 0.45
-    return "".join(f"M{_n(p)},{_n(q)}L{_n(s + w * v_)},{_n(t - w * u)}L{_n(s - w * v_)},{_n(t + w * u)}z"
+    return "".join(f"M{num(p)},{num(q)}L{num(s + w * v_)},{num(t - w * u)}L{num(s - w * v_)},{num(t + w * u)}z"
                    for p, q, s, t, u, v_ in zip(x1[ok].tolist(), y1[ok].tolist(), bx.tolist(), by.tolist(),
                                                ux.tolist(), uy.tolist()))
