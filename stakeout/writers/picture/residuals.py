@@ -63,19 +63,7 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     matched = np.isfinite(r.d_northing) & np.isfinite(r.d_easting)
     de_e = shots.easting - np.where(matched, r.d_easting, 0.0)
     de_n = shots.northing - np.where(matched, r.d_northing, 0.0)
-    # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
-    # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
-    if matched.any():
-        ext = extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
-        ext = grow_extent(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
-    else:
-        ext = extent([shots.easting], [shots.northing])
-    size = max(ext[2] - ext[0], ext[3] - ext[1])
-    least = max(20.0 * r.horizontal_tolerance, 1.0)
-    if size < least:  # one shot, or a few close together: show some room around them
-        ce, cn = (ext[0] + ext[2]) / 2, (ext[1] + ext[3]) / 2
-        ext = (ce - least / 2, cn - least / 2, ce + least / 2, cn + least / 2)
-    v = View.fit(*ext)
+    v = _residual_view(shots, r, matched, de_e, de_n)
     factor = exaggeration(r.horizontal_tolerance, v.scale)
     clip = "so-check-clip"
     lab = Labeller()
@@ -180,51 +168,7 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     bar, _ = scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
     body.append(bar)
 
-    pan = Panel.opening("STAKED-POINT CHECK", 14.0, job.info.name, f"staked file {staked_name}")
-    counts = r.counts()
-    for s in statuses:
-        n_s = sum(1 for t in r.status if t == s)
-        if s not in counts and n_s == 0:
-            continue
-        colour = STATUS_COLOURS.get(s, "#000")
-        sym = (f'<path d="M4,4l8,-8m0,8l-8,-8" stroke="{colour}" stroke-width="1.4" transform="translate(6,0)"/>'
-               if s == "unmatched" else f'<path d="M2,3L22,-3" stroke="{colour}" stroke-width="1.1"/>'
-               f'<path d="{_heads(np.array([2.0]), np.array([3.0]), np.array([22.0]), np.array([-3.0]))}" '
-               f'fill="{colour}"/>')
-        pan.symbol(sym, f"{s}: {n_s}")
-    pan.symbol('<circle cx="14" cy="0" r="1.2" fill="#aaa"/>', "design point")
-    pan.symbol('<circle cx="14" cy="0" r="4.5" fill="none" stroke="#9ecae1"/>',
-               f"tolerance {r.horizontal_tolerance:g} {unit.symbol} (x{fmt_short(factor)})")
-    pan.gap()
-    pan.heading("EXAGGERATION", 11.0)
-    pan.line(f"arrows: design point to staked point, the residual drawn {fmt_short(factor)} times its length "
-             f"(x{fmt_short(factor)}); positions of points at the scale of the bar")
-    if cut.any():
-        pan.line(f"arrows longer than {ARROW_CAP:g} tolerance circles are cut (marked /) and labelled "
-                 "with their horizontal error")
-    res_len = nice_length(60.0 / (factor * v.scale))
-    res_w = res_len * factor * v.scale
-    pan.gap(4)
-    pan.symbol(f'<path d="M0,3v-6M0,0h{num(res_w)}M{num(res_w)},3v-6" stroke="#222" stroke-width="1"/>', "")
-    pan.line(f"residual {fmt_short(res_len)} {unit.symbol} drawn x{fmt_short(factor)}")
-    pan.gap()
-    pan.heading("NOTES", 11.0)
-    pan.line(f"shot numbers: {shown} of {len(shots)} shown" + ("" if shown == len(shots) else
-                                                               " (attention first; the rest would overprint)"))
-    pan.line(f"design points not staked: {len(r.not_staked)}")
-    verdict = "ALL WITHIN TOLERANCE" if r.all_ok else "NEEDS ATTENTION"
-    tol = f"horizontal {r.horizontal_tolerance:g}" + (f", vertical {r.vertical_tolerance:g}"
-                                                      if r.vertical_tolerance is not None else "")
-    block = title_block([
-        ("verdict", verdict),
-        ("job", job.info.name),
-        ("job file", Path(job.path).name),
-        ("sha256", short_hash(job.sha256) + "..."),
-        ("staked", staked_name),
-        ("tolerance", f"{tol} {unit.symbol}"),
-        ("units", unit.label),
-        ("CRS", d.crs_label or "none: local grid"),
-    ], SHEET_HEIGHT - MARGIN)
+    pan, block = _residual_panel(d, r, statuses, factor, v, bool(cut.any()), shown, len(shots), staked_name)
     title = f"Residuals of the staked points: {job.info.name}"
     return svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>", factor
 
@@ -245,3 +189,74 @@ def _heads(x0: F, y0: F, x1: F, y1: F, size: float = 4.5) -> str:
     return "".join(f"M{num(p)},{num(q)}L{num(s + w * v_)},{num(t - w * u)}L{num(s - w * v_)},{num(t + w * u)}z"
                    for p, q, s, t, u, v_ in zip(x1[ok].tolist(), y1[ok].tolist(), bx.tolist(), by.tolist(),
                                                ux.tolist(), uy.tolist()))
+
+
+def _residual_view(shots: "Shots", r: "CheckResult", matched: np.ndarray, de_e: F, de_n: F) -> View:
+    """The view of the check: the matched shots and their design points (at least twenty
+    tolerances across); an unmatched shot far off is shown at the frame, pointed to.
+    """
+    # the matched shots and their design points set the view; an unmatched shot far off (a blunder,
+    # a point of another job) would shrink it to a speck: it is shown at the frame, pointed to
+    if matched.any():
+        ext = extent([shots.easting[matched], de_e[matched]], [shots.northing[matched], de_n[matched]])
+        ext = grow_extent(ext, shots.easting[~matched], shots.northing[~matched], 0.35)
+    else:
+        ext = extent([shots.easting], [shots.northing])
+    size = max(ext[2] - ext[0], ext[3] - ext[1])
+    least = max(20.0 * r.horizontal_tolerance, 1.0)
+    if size < least:  # one shot, or a few close together: show some room around them
+        ce, cn = (ext[0] + ext[2]) / 2, (ext[1] + ext[3]) / 2
+        ext = (ce - least / 2, cn - least / 2, ce + least / 2, cn + least / 2)
+    return View.fit(*ext)
+
+
+def _residual_panel(d: Design, r: "CheckResult", statuses: list[str], factor: float, v: View, any_cut: bool,
+                    shown: int, n_shots: int, staked_name: str) -> tuple[Panel, str]:
+    """The panel (legend by status, the exaggeration, notes) and the title block of the picture."""
+    job, unit = d.job, d.unit
+    pan = Panel.opening("STAKED-POINT CHECK", 14.0, job.info.name, f"staked file {staked_name}")
+    counts = r.counts()
+    for s in statuses:
+        n_s = sum(1 for t in r.status if t == s)
+        if s not in counts and n_s == 0:
+            continue
+        colour = STATUS_COLOURS.get(s, "#000")
+        sym = (f'<path d="M4,4l8,-8m0,8l-8,-8" stroke="{colour}" stroke-width="1.4" transform="translate(6,0)"/>'
+               if s == "unmatched" else f'<path d="M2,3L22,-3" stroke="{colour}" stroke-width="1.1"/>'
+               f'<path d="{_heads(np.array([2.0]), np.array([3.0]), np.array([22.0]), np.array([-3.0]))}" '
+               f'fill="{colour}"/>')
+        pan.symbol(sym, f"{s}: {n_s}")
+    pan.symbol('<circle cx="14" cy="0" r="1.2" fill="#aaa"/>', "design point")
+    pan.symbol('<circle cx="14" cy="0" r="4.5" fill="none" stroke="#9ecae1"/>',
+               f"tolerance {r.horizontal_tolerance:g} {unit.symbol} (x{fmt_short(factor)})")
+    pan.gap()
+    pan.heading("EXAGGERATION", 11.0)
+    pan.line(f"arrows: design point to staked point, the residual drawn {fmt_short(factor)} times its length "
+             f"(x{fmt_short(factor)}); positions of points at the scale of the bar")
+    if any_cut:
+        pan.line(f"arrows longer than {ARROW_CAP:g} tolerance circles are cut (marked /) and labelled "
+                 "with their horizontal error")
+    res_len = nice_length(60.0 / (factor * v.scale))
+    res_w = res_len * factor * v.scale
+    pan.gap(4)
+    pan.symbol(f'<path d="M0,3v-6M0,0h{num(res_w)}M{num(res_w)},3v-6" stroke="#222" stroke-width="1"/>', "")
+    pan.line(f"residual {fmt_short(res_len)} {unit.symbol} drawn x{fmt_short(factor)}")
+    pan.gap()
+    pan.heading("NOTES", 11.0)
+    pan.line(f"shot numbers: {shown} of {n_shots} shown" + ("" if shown == n_shots else
+                                                               " (attention first; the rest would overprint)"))
+    pan.line(f"design points not staked: {len(r.not_staked)}")
+    verdict = "ALL WITHIN TOLERANCE" if r.all_ok else "NEEDS ATTENTION"
+    tol = f"horizontal {r.horizontal_tolerance:g}" + (f", vertical {r.vertical_tolerance:g}"
+                                                      if r.vertical_tolerance is not None else "")
+    block = title_block([
+        ("verdict", verdict),
+        ("job", job.info.name),
+        ("job file", Path(job.path).name),
+        ("sha256", short_hash(job.sha256) + "..."),
+        ("staked", staked_name),
+        ("tolerance", f"{tol} {unit.symbol}"),
+        ("units", unit.label),
+        ("CRS", d.crs_label or "none: local grid"),
+    ], SHEET_HEIGHT - MARGIN)
+    return pan, block
