@@ -218,15 +218,19 @@ def _setup_groups(d: Design) -> list[tuple[str, list[tuple[str, str]], np.ndarra
     for k, o in enumerate(sd.occupations):
         title = f"Setup {o.number}: setout from" if len(sd.occupations) > 1 else "Setout from"
         out.append((f"{title} {o.occupied.id}",
-                    _setup_facts(d, o.occupied, o.backsight, float(o.backsight_azimuth), o.scale),
+                    _setup_facts(d, o),
                     np.flatnonzero(idx == k)))
     return out
 
 
-def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list[tuple[str, str]]:
+def _setup_facts(d: Design, o: Any) -> list[tuple[str, str]]:
+    """The facts of one setup (an :class:`~stakeout.design.Occupation`): occupied point,
+    backsight, combined factor, convergence, heights.
+    """
     sd = d.setup
     assert sd is not None
     setup = sd.setup
+    occ, bs, bs_az, scale = o.occupied, o.backsight, float(o.backsight_azimuth), o.scale
     occ_text = f"{occ.id}   N {occ.northing:.4f}   E {occ.easting:.4f}"
     if occ.elevation is not None:
         occ_text += f"   elev {occ.elevation:.3f}"
@@ -234,7 +238,7 @@ def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list
     if setup.instrument_height is not None:
         rows.append(("instrument height", f"{setup.instrument_height:.3f}"))
     if bs is not None:
-        dist = math.hypot(bs.northing - occ.northing, bs.easting - occ.easting)
+        dist = o.backsight_distance
         rows.append(("backsight", f"{bs.id}   N {bs.northing:.4f}   E {bs.easting:.4f}"))
         rows.append(("backsight grid azimuth", f"{format_azimuth_dms(bs_az, 1)}   grid distance {dist:.4f}   "
                                                f"ground {dist / scale.combined_factor:.4f}"))
