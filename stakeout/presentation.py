@@ -12,16 +12,18 @@ each writer only formats it.
 Where the writers sit:
 
 * **toolkits** (shared, format only): :mod:`stakeout.writers.text` (numbers,
-  turn words, header block, curve-data lines, ``Column``/``table_lines``,
-  ``paged_parts``, cautions), :mod:`stakeout.writers.rows` (vectorised
-  CSV fields), :mod:`stakeout.writers.folder` (the atomic output folder),
-  :mod:`stakeout.writers.svg` (the SVG canvas, label placement and pieces
-  of the pictures);
-* **renderers** (one output or a family each): ``tables`` (CSV), ``sheets``
-  (``setout.txt``, ``deflections.txt``), ``report`` (the curve report),
-  ``checkreport``, ``html``, ``dxf``, ``picture`` (``plan.svg``, the residual
-  picture), ``profile_picture``, ``exchange`` (``alignment.xml``),
-  ``manifest``.
+  turn words, header block, curve-data lines, deflection titles, setout cells,
+  ``Column``/``table_lines``, ``paged_parts``, cautions),
+  :mod:`stakeout.writers.rows` (vectorised CSV fields),
+  :mod:`stakeout.writers.csvtext` (RFC 4180 text, the point-file layout),
+  :mod:`stakeout.writers.checkwords` (a check's words),
+  :mod:`stakeout.writers.folder` (the atomic output folder);
+* **renderers** (one output or a family each): ``tables`` (CSV, restake.csv),
+  ``control`` (control.csv), ``sheets`` (``setout.txt``, ``deflections.txt``),
+  ``report`` (the curve report), ``checkreport`` (check.csv, check.txt),
+  ``html`` (report.html, check.html: the pictures are handed in), ``dxf``,
+  ``picture`` (a package: ``plan.svg``, the residual picture),
+  ``profile_picture``, ``exchange`` (``alignment.xml``), ``manifest``.
 
 A renderer imports this module, the toolkits and the design's plain
 records; it never imports another renderer or :mod:`stakeout.alignment`
