@@ -128,3 +128,14 @@ def test_external_recomputed_by_every_writer(tmp_path):
     assert d.presentation.curves is d.presentation.curves
     # NH DOT "Spiral Curve Data" (published): Es 92.58 ft
     assert cv.external == pytest.approx(92.58, abs=0.005)
+
+
+def test_element_module_tables_cover_every_class():
+    # the element module's own per-kind tables (keyed by class): the features an element adds at
+    # the POB and the POE, and every class in at least one join
+    from stakeout.alignment.elements import END_FEATURES, JOIN_FEATURES, START_FEATURES
+
+    assert set(START_FEATURES) == set(ELEMENT_CLASSES)
+    assert set(END_FEATURES) == set(ELEMENT_CLASSES)
+    joined = {c for pair in JOIN_FEATURES for c in pair}
+    assert joined == set(ELEMENT_CLASSES)
