@@ -155,38 +155,75 @@ class SpiralView:
 DeflectionRow = tuple[float, float, float, float, float]
 
 
-def _arc_rows(el: Element, s: F) -> F:
-    """Arc: deflection = s / 2R (radians), chord = 2R sin(s / 2R)."""
-    r = float(cast("Arc", el).radius)
-    arc = np.maximum(s - el.start, 0.0)
+def _segments(elements: list[Element], stations: list[F]) -> tuple[F, NDArray[np.int64], NDArray[np.bool_]]:
+    """Every element's stations end to end, each row's element and whether it opens one."""
+    size = np.array([s.size for s in stations], dtype=np.int64)
+    seg = np.repeat(np.arange(len(elements)), size)
+    opens = np.zeros(seg.size, dtype=bool)
+    opens[(np.cumsum(size) - size)[size > 0]] = True
+    return np.concatenate(stations), seg, opens
+
+
+def _per_element(elements: list[Element], seg: NDArray[np.int64], field: str) -> F:
+    """One number of each element, on every row of it."""
+    return np.array([getattr(el, field) for el in elements], dtype=float)[seg]
+
+
+def _arc_rows(elements: list[Element], stations: list[F]) -> F:
+    """Arcs: deflection = s / 2R (radians), chord = 2R sin(s / 2R)."""
+    s, seg, opens = _segments(elements, stations)
+    r = np.array([cast("Arc", el).radius for el in elements], dtype=float)[seg]
+    arc = np.maximum(s - _per_element(elements, seg, "start"), 0.0)
     defl = np.degrees(arc / (2.0 * r))
     chord = 2.0 * r * np.sin(arc / (2.0 * r))
-    inc = np.concatenate([[0.0], 2.0 * r * np.sin(np.diff(arc) / (2.0 * r))])
+    inc = np.concatenate([[0.0], 2.0 * r[1:] * np.sin(np.diff(arc) / (2.0 * r[1:]))])
+    inc[opens] = 0.0
     return np.column_stack([s, arc, defl, chord, inc])
 
 
-def _line_rows(el: Element, s: F) -> F:
-    """Line (no part of a curve; for completeness): no deflection, the chord is the length."""
-    along = np.maximum(s - el.start, 0.0)
-    return np.column_stack([s, along, np.zeros_like(s), along, np.concatenate([[0.0], np.diff(along)])])
+def _line_rows(elements: list[Element], stations: list[F]) -> F:
+    """Lines (no part of a curve; for completeness): no deflection, the chord is the length."""
+    s, seg, opens = _segments(elements, stations)
+    along = np.maximum(s - _per_element(elements, seg, "start"), 0.0)
+    inc = np.concatenate([[0.0], np.diff(along)])
+    inc[opens] = 0.0
+    return np.column_stack([s, along, np.zeros_like(s), along, inc])
 
 
-def _clothoid_rows(el: Element, s: F) -> F:
-    """Spiral: from its start along its start tangent, the
-    point (x, y) there gives deflection = atan(y / x) and chord = hypot(x, y).
+def _clothoid_rows(elements: list[Element], stations: list[F]) -> F:
+    """Spirals: from the start along the start tangent, the point (x, y) there gives
+    deflection = atan(y / x) and chord = hypot(x, y); all spirals in one call.
     """
-    along = np.maximum(s - el.start, 0.0)
-    x, y, _ = clothoid_xy(along, el.curvature_start, el.curvature_end, el.length)
+    s, seg, opens = _segments(elements, stations)
+    along = np.maximum(s - _per_element(elements, seg, "start"), 0.0)
+    x, y, _ = clothoid_xy(along, _per_element(elements, seg, "curvature_start"),
+                          _per_element(elements, seg, "curvature_end"), _per_element(elements, seg, "length"))
     y = np.abs(y)
     defl = np.degrees(np.arctan2(y, x))
     chord = np.hypot(x, y)
     inc = np.concatenate([[0.0], np.hypot(np.diff(x), np.diff(y))])
+    inc[opens] = 0.0
     return np.column_stack([s, along, defl, chord, inc])
 
 
-#: How an element's deflection rows are computed from its start.
+#: How the deflection rows of a kind's elements are computed from each element's start: one call
+#: for all the elements of a kind, their stations end to end.
 DEFLECTION_ROWS: PerKind[Any] = PerKind("deflection rows", {"line": _line_rows, "arc": _arc_rows,
                                                             "spiral": _clothoid_rows})
+
+
+def _rows_by_kind(elements: list[Element], stations: list[F]) -> list[F]:
+    """The deflection rows of every element, each kind's elements in one call, split again."""
+    groups: dict[Any, list[int]] = {}
+    for k, el in enumerate(elements):
+        groups.setdefault(DEFLECTION_ROWS[el], []).append(k)
+    out: list[F] = [np.zeros((0, 5))] * len(elements)
+    for fn, ks in groups.items():
+        rows = fn([elements[k] for k in ks], [stations[k] for k in ks])
+        sizes = np.array([stations[k].size for k in ks])
+        for k, part in zip(ks, np.split(rows, np.cumsum(sizes)[:-1])):
+            out[k] = part
+    return out
 
 
 def _element_stations(alignment: Alignment, stations: F) -> list[tuple[int, int, F]]:
@@ -216,12 +253,10 @@ def deflection_rows(alignment: Alignment, stations: F) -> list[tuple[int, int, l
     spiral) along its start tangent: the point's position (x, y) there gives
     deflection = atan(y / x) and chord = hypot(x, y).
     """
-    out = []
-    for number, i, s in _element_stations(alignment, stations):
-        el = alignment.elements[i]
-        rows = DEFLECTION_ROWS[el](el, s)
-        out.append((number, i, [tuple(r) for r in rows.tolist()]))
-    return out
+    parts = _element_stations(alignment, stations)
+    elements = [alignment.elements[i] for _, i, _ in parts]
+    rows = _rows_by_kind(elements, [s for _, _, s in parts])
+    return [(number, i, [tuple(r) for r in part.tolist()]) for (number, i, _), part in zip(parts, rows)]
 
 
 def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F], o: float) -> list[F]:
@@ -232,10 +267,8 @@ def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F
     """
     if not elements:
         return []
-    size = np.array([s.size for s in stations], dtype=np.int64)
-    first = np.repeat(np.cumsum(size) - size, size)  # each row's first row of its element
-    seg = np.repeat(np.arange(len(elements)), size)
-    st = np.concatenate(stations)
+    st, seg, opens = _segments(elements, stations)
+    first = np.maximum.accumulate(np.where(opens, np.arange(st.size), 0))  # each row's element's first row
     n, e, az = alignment.evaluate(st, o, miter=False)
     dn, de = n - n[first], e - e[first]
     chord = np.hypot(dn, de)
@@ -243,17 +276,15 @@ def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F
     defl = np.abs((chord_az - az[first] + 180.0) % 360.0 - 180.0)
     defl[chord == 0.0] = 0.0
     inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
-    inc[first == np.arange(st.size)] = 0.0
+    inc[opens] = 0.0
     # length along the offset line: the centreline length scaled by the radius there (exact on arcs),
     # the integral of (1 - k(s) o) ds
-    start = np.array([el.start for el in elements])[seg]
-    length = np.array([el.length for el in elements])[seg]
-    k0 = np.array([el.curvature_start for el in elements])[seg]
-    k1 = np.array([el.curvature_end for el in elements])[seg]
-    s = st - start
-    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * length))
+    k0 = _per_element(elements, seg, "curvature_start")
+    k1 = _per_element(elements, seg, "curvature_end")
+    s = st - _per_element(elements, seg, "start")
+    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * _per_element(elements, seg, "length")))
     rows = np.column_stack([st, along, defl, chord, inc])
-    return np.split(rows, np.cumsum(size)[:-1])
+    return np.split(rows, np.flatnonzero(opens)[1:])
 
 
 @dataclass(frozen=True)
@@ -349,7 +380,7 @@ class Presentation:
         a = self.d.alignment
         parts = _element_stations(a, self.d.stakes.stations)
         elements = [a.elements[i] for _, i, _ in parts]
-        rows = [DEFLECTION_ROWS[el](el, s) for el, (_, _, s) in zip(elements, parts)]
+        rows = _rows_by_kind(elements, [s for _, _, s in parts])
         offsets = [(o, code, _offset_rows(a, elements, [r[:, 0] for r in rows], o)) for o, code in self.offset_lines]
         return tuple(DeflectionTable(number, i, el, self.start_features.get(round(el.start, 6), ""), rows[k],
                                      tuple(OffsetDeflections(o, code, off[k]) for o, code, off in offsets))
