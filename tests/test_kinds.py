@@ -89,45 +89,32 @@ def test_unknown_kind_skipped_by_the_deflection_sheet():
         deflection_rows(_alignment_with(Cubic), np.array([110.0, 120.0]))
 
 
-#: New Hampshire DOT, "Spiral Curve Data" (published worked example; also in the spiral tests).
-NH_JOB = """format = 1
-[job]
-name = "NH DOT spiral curve data"
-units = "us_ft"
-[alignment]
-name = "NH"
-[alignment.at_pi]
-station = "23+96.20"
-northing = 405083.92
-easting = 964724.93
-back_tangent_azimuth = "40-00-00"
-ahead_tangent_azimuth = "117-47-44.8"   # back + Delta 77-47-44.8 RT
-radius = 300.0
-spirals = [200.0, 200.0]
-lead_in = 50
-lead_out = 50
-[staking]
-interval = 50
-offsets = [{ offset = -12.0, code = "EPL" }, { offset = 0.0, code = "CL" }, { offset = 12.0, code = "EPR" }]
-"""
-
-
-def test_external_recomputed_by_every_writer(tmp_path):
+def test_external_recomputed_by_every_writer():
     # the external of a curve with spirals was measured by each of five writers building an
     # Alignment and running its inverse; now the alignment measures it once, and a design's
     # presentation model is made once and shared by every writer of the build
+    import math
+    from pathlib import Path
+
+    from stakeout.alignment import SinglePISpec, build_alignment
     from stakeout.design import build_design
     from stakeout.jobfile import load_job
+    from stakeout.presentation import curve_views
 
-    path = tmp_path / "nh.toml"
-    path.write_text(NH_JOB, encoding="utf-8")
-    d = build_design(load_job(path))
-    assert d.presentation is d.presentation
-    assert d.alignment.curve_externals() is d.alignment.curve_externals()
-    (cv,) = d.presentation.curves
-    assert d.presentation.curves is d.presentation.curves
-    # NH DOT "Spiral Curve Data" (published): Es 92.58 ft
+    # New Hampshire DOT, "Spiral Curve Data" (published): Delta 77-47-44.8 RT, Rc 300.00 ft,
+    # Ls 200.00 ft -> Es 92.58 ft
+    delta = 77 + 47 / 60 + 44.8 / 3600
+    a = build_alignment(SinglePISpec("NH", 2396.20, 405083.92, 964724.93, 40.0, 40.0 + delta, (300.0,), (None,),
+                                     50.0, 50.0, spirals=(200.0, 200.0)))
+    assert a.curve_externals() is a.curve_externals()
+    (cv,) = curve_views(a)
     assert cv.external == pytest.approx(92.58, abs=0.005)
+    assert math.isclose(cv.external, float(a.curve_externals()[0]))
+
+    d = build_design(load_job(Path(__file__).resolve().parent.parent / "sample_jobs" / "site_road_metric.toml"))
+    assert d.presentation is d.presentation
+    assert d.presentation.curves is d.presentation.curves
+    assert d.presentation.deflections is d.presentation.deflections
 
 
 def test_element_module_tables_cover_every_class():
