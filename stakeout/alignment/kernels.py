@@ -12,7 +12,7 @@ negative left, positive right; curvature positive turning right.
 
 from __future__ import annotations
 
-from typing import NamedTuple
+from typing import NamedTuple, Protocol
 
 import numpy as np
 from numpy.typing import NDArray
@@ -21,8 +21,25 @@ from ..angles import sincosd
 
 __all__ = ["Kernel", "Nearest", "ConstantCurvature", "CONSTANT_CURVATURE", "Clothoid", "CLOTHOID"]
 
-Arrays = dict[str, NDArray[np.float64]]
 F = NDArray[np.float64]
+
+
+class Arrays(Protocol):
+    """The per-element arrays a kernel reads (one entry per element; the alignment's
+    ``ElementArrays`` holds them): ``n0, e0``/``n1, e1`` the ends, ``az0`` the start azimuth
+    (degrees) with its sine and cosine, ``k0``/``k1`` the curvature at each end, ``length``.
+    """
+
+    n0: F
+    e0: F
+    n1: F
+    e1: F
+    az0: F
+    sin0: F
+    cos0: F
+    k0: F
+    k1: F
+    length: F
 
 
 class Nearest(NamedTuple):
@@ -76,29 +93,29 @@ class ConstantCurvature(Kernel):
     """
 
     def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
-        k = a["k0"][idx]
+        k = a.k0[idx]
         half = 0.5 * k * ds  # half the turn from the element's start, radians
         sh, ch = np.sin(half), np.cos(half)
         # chord = 2 sin(half) / k, and just ds on lines (k = 0)
         chord = np.where(k == 0.0, ds, 2.0 * sh / np.where(k == 0.0, 1.0, k))
-        s0, c0 = a["sin0"][idx], a["cos0"][idx]
+        s0, c0 = a.sin0[idx], a.cos0[idx]
         sm, cm = s0 * ch + c0 * sh, c0 * ch - s0 * sh  # at the chord: start + half
         s2, c2 = 2.0 * sh * ch, 1.0 - 2.0 * sh * sh  # the whole turn
         st, ct = s0 * c2 + c0 * s2, c0 * c2 - s0 * s2
-        az = a["az0"][idx] + np.degrees(2.0 * half)
-        north = a["n0"][idx] + chord * cm - o * st
-        east = a["e0"][idx] + chord * sm + o * ct
+        az = a.az0[idx] + np.degrees(2.0 * half)
+        north = a.n0[idx] + chord * cm - o * st
+        east = a.e0[idx] + chord * sm + o * ct
         return north, east, az
 
     def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
-        k = a["k0"][el]
-        az0, n0, e0 = a["az0"][el], a["n0"][el], a["e0"][el]
+        k = a.k0[el]
+        az0, n0, e0 = a.az0[el], a.n0[el], a.e0[el]
         # lines: along the element's exact start direction
-        s_loc = (e - e0) * a["sin0"][el] + (n - n0) * a["cos0"][el]
+        s_loc = (e - e0) * a.sin0[el] + (n - n0) * a.cos0[el]
         lo, hi = lo.copy(), hi.copy()
         arc = np.flatnonzero(k != 0.0)
         if arc.size:  # arcs: the angle swept from the start radius, about the centre
-            ka, sa, ca = k[arc], a["sin0"][el[arc]], a["cos0"][el[arc]]
+            ka, sa, ca = k[arc], a.sin0[el[arc]], a.cos0[el[arc]]
             r = 1.0 / np.abs(ka)
             turn = np.sign(ka)
             # centre = start + turn * R * right normal; right normal (E, N) = (cos, -sin)
@@ -106,7 +123,7 @@ class ConstantCurvature(Kernel):
             c_n = n0[arc] - turn * r * sa
             phi = np.degrees(np.arctan2(e[arc] - c_e, n[arc] - c_n))
             start_radial = az0[arc] - 90.0 * turn  # direction centre -> start
-            length = a["length"][el[arc]]
+            length = a.length[el[arc]]
             swept_deg = np.degrees(np.abs(ka) * length)
             u = np.mod((phi - start_radial) * turn, 360.0)
             u = np.mod(u - swept_deg / 2.0 + 180.0, 360.0) - 180.0 + swept_deg / 2.0
@@ -116,7 +133,7 @@ class ConstantCurvature(Kernel):
         clamped = s_c != s_loc
         # the element's point at s_c: along the start direction on a line, along the chord on an arc
         chord = s_c.copy()
-        sm, cm = a["sin0"][el], a["cos0"][el]
+        sm, cm = a.sin0[el], a.cos0[el]
         if arc.size:
             sa_c = s_c[arc]
             chord[arc] = sa_c * np.sinc(k[arc] * sa_c / (2.0 * np.pi))
@@ -126,7 +143,7 @@ class ConstantCurvature(Kernel):
         return Nearest(s_c, clamped, qn, qe, np.hypot(n - qn, e - qe))
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
-        return sincosd(a["az0"][idx] + np.degrees(a["k0"][idx] * s))
+        return sincosd(a.az0[idx] + np.degrees(a.k0[idx] * s))
 
 
 CONSTANT_CURVATURE = ConstantCurvature()
@@ -145,27 +162,27 @@ class Clothoid(Kernel):
     def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         from .clothoid import clothoid_points
 
-        n, e, az = clothoid_points(ds, o, a["n0"][idx], a["e0"][idx], a["az0"][idx], a["k0"][idx], a["k1"][idx],
-                                   a["length"][idx])
+        n, e, az = clothoid_points(ds, o, a.n0[idx], a.e0[idx], a.az0[idx], a.k0[idx], a.k1[idx],
+                                   a.length[idx])
         return n, e, az
 
     def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         from .clothoid import clothoid_project
 
-        length = a["length"][el]
-        s, off, dist = clothoid_project(n, e, a["n0"][el], a["e0"][el], a["az0"][el], a["k0"][el], a["k1"][el],
+        length = a.length[el]
+        s, off, dist = clothoid_project(n, e, a.n0[el], a.e0[el], a.az0[el], a.k0[el], a.k1[el],
                                         length)
         # the foot: back from the point along the normal by the offset, or the end it clamped to
         st, ct = self.direction(a, el, s)
         at_start, at_end = s <= 0.0, s >= length
-        qn = np.where(at_start, a["n0"][el], np.where(at_end, a["n1"][el], n + off * st))
-        qe = np.where(at_start, a["e0"][el], np.where(at_end, a["e1"][el], e - off * ct))
+        qn = np.where(at_start, a.n0[el], np.where(at_end, a.n1[el], n + off * st))
+        qe = np.where(at_start, a.e0[el], np.where(at_end, a.e1[el], e - off * ct))
         return Nearest(s, at_start | at_end, qn, qe, dist)
 
     def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
-        k0, k1, length = a["k0"][idx], a["k1"][idx], a["length"][idx]
+        k0, k1, length = a.k0[idx], a.k1[idx], a.length[idx]
         tau = k0 * s + (k1 - k0) * s * s / (2.0 * length)
-        return sincosd(a["az0"][idx] + np.degrees(tau))
+        return sincosd(a.az0[idx] + np.degrees(tau))
 
 
 CLOTHOID = Clothoid()
