@@ -190,7 +190,8 @@ def _dms_parts(
     return neg, deg, rem // (60 * scale), rem % (60 * scale)
 
 
-def _join_dms(neg, deg, mins, secs, decimals: int) -> list[str]:
+def _join_dms(neg: NDArray[np.bool_], deg: NDArray[np.int64], mins: NDArray[np.int64], secs: NDArray[np.int64],
+              decimals: int) -> list[str]:
     scale = 10**decimals
     out = []
     for n, d, m, s in zip(neg.tolist(), deg.tolist(), mins.tolist(), secs.tolist()):

@@ -119,7 +119,8 @@ def const(s: str, n: int) -> Field:
 
 def blank(f: Field, empty: NDArray[np.bool_]) -> Field:
     """The field with the rows where ``empty`` is True left empty (all padding)."""
-    return f * ~np.asarray(empty, dtype=bool)[:, None]
+    out: Field = f * ~np.asarray(empty, dtype=bool)[:, None]
+    return out
 
 
 def repeat_rows(f: Field, m: int) -> Field:

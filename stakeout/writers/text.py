@@ -53,7 +53,8 @@ PAGE_LINES = 60
 # ---- numbers ---------------------------------------------------------------------------
 def rounded(values: ArrayLike, decimals: int) -> list[float]:
     """Round to ``decimals`` by the printing rule and clear negative zeros; a plain list of floats."""
-    return round_to(values, decimals).tolist()
+    out: list[float] = round_to(values, decimals).tolist()
+    return out
 
 
 def fixed(values: ArrayLike, decimals: int) -> list[str]:
