@@ -22,7 +22,7 @@ from ..errors import GeometryError
 from .curves import CompoundTangents
 from .elements import Element
 from .index import ElementGrid, build_grid
-from .kernels import Kernel
+from .kernels import ElementArrays, Kernel
 
 __all__ = ["Alignment", "Curve", "KeyPoint", "Position", "Location", "FEATURE_ORDER", "STATION_TOLERANCE"]
 
@@ -87,40 +87,6 @@ class Curve:
     pi_northing: float | None
     pi_easting: float | None
     tangents: CompoundTangents | None
-
-
-@dataclass
-class ElementArrays:
-    """One entry per element, in order, for the evaluation and the inverse; the inverse's
-    caches (filled on first use).
-
-    ``start``/``length`` internal station and length; ``n0, e0``/``n1, e1`` the ends;
-    ``az0`` the start azimuth (degrees) with its sine and cosine; ``k0``/``k1`` the kernel
-    parameters (the curvature at each end); ``kernel_of`` the index in ``kernels`` of each
-    element's kernel; ``ap_*`` the angle points: station, coordinates and the azimuths back
-    and ahead.
-    """
-
-    start: F
-    length: F
-    n0: F
-    e0: F
-    n1: F
-    e1: F
-    az0: F
-    sin0: F
-    cos0: F
-    k0: F
-    k1: F
-    kernels: list[Kernel]
-    kernel_of: NDArray[np.int64]
-    ap_station: F
-    ap_n: F
-    ap_e: F
-    ap_back: F
-    ap_ahead: F
-    grid: tuple[ElementGrid | None] | None = None  # a tuple, so that "no grid" is cached too
-    middles: tuple[F, F] | None = None
 
 
 @dataclass(frozen=True)

@@ -1,6 +1,6 @@
 """Vectorised kernels: evaluate and project points on whole arrays of elements.
 
-A kernel works on the per-element arrays an :class:`~.alignment.Alignment`
+A kernel works on the per-element arrays (:class:`ElementArrays`) an :class:`~.alignment.Alignment`
 keeps (``n0``, ``e0``, ``az0``, ``sin0``, ``cos0`` at each element's start,
 ``k0``/``k1`` signed curvature at its ends, ``length``) and on numpy arrays
 of points; it never loops over points.  Each element class names its
@@ -12,24 +12,36 @@ negative left, positive right; curvature positive turning right.
 
 from __future__ import annotations
 
-from typing import NamedTuple, Protocol
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 from numpy.typing import NDArray
 
 from ..angles import sincosd
 
-__all__ = ["Kernel", "Nearest", "ConstantCurvature", "CONSTANT_CURVATURE", "Clothoid", "CLOTHOID"]
+if TYPE_CHECKING:  # pragma: no cover - the inverse's cache, typed only
+    from .index import ElementGrid
+
+__all__ = ["ElementArrays", "Kernel", "Nearest", "ConstantCurvature", "CONSTANT_CURVATURE", "Clothoid", "CLOTHOID"]
 
 F = NDArray[np.float64]
 
 
-class Arrays(Protocol):
-    """The per-element arrays a kernel reads (one entry per element; the alignment's
-    ``ElementArrays`` holds them): ``n0, e0``/``n1, e1`` the ends, ``az0`` the start azimuth
-    (degrees) with its sine and cosine, ``k0``/``k1`` the curvature at each end, ``length``.
+@dataclass
+class ElementArrays:
+    """One entry per element, in order, for the evaluation and the inverse; the inverse's
+    caches (filled on first use).
+
+    ``start``/``length`` internal station and length; ``n0, e0``/``n1, e1`` the ends;
+    ``az0`` the start azimuth (degrees) with its sine and cosine; ``k0``/``k1`` the kernel
+    parameters (the curvature at each end); ``kernel_of`` the index in ``kernels`` of each
+    element's kernel; ``ap_*`` the angle points: station, coordinates and the azimuths back
+    and ahead.
     """
 
+    start: F
+    length: F
     n0: F
     e0: F
     n1: F
@@ -39,7 +51,15 @@ class Arrays(Protocol):
     cos0: F
     k0: F
     k1: F
-    length: F
+    kernels: list[Kernel]
+    kernel_of: NDArray[np.int64]
+    ap_station: F
+    ap_n: F
+    ap_e: F
+    ap_back: F
+    ap_ahead: F
+    grid: tuple[ElementGrid | None] | None = None  # a tuple, so that "no grid" is cached too
+    middles: tuple[F, F] | None = None
 
 
 class Nearest(NamedTuple):
@@ -65,20 +85,20 @@ class Kernel:
     #: their exact distances rule out pairs of the dearer ones.
     cost = 1.0
 
-    def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
+    def evaluate(self, a: ElementArrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         """Northing, easting and azimuth (degrees, not normalised) at ``ds``
         along elements ``idx`` and offsets ``o``.
         """
         raise NotImplementedError
 
-    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+    def nearest(self, a: ElementArrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         """Nearest point of element ``el[i]`` to the point ``(n[i], e[i])``,
         the distance along clamped to ``[lo[i], hi[i]]``, for every pair ``i``.
         """
         raise NotImplementedError
 
 
-    def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
+    def direction(self, a: ElementArrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         """Sine and cosine of the tangent azimuth at ``s`` along elements ``idx``."""
         raise NotImplementedError
 
@@ -92,7 +112,7 @@ class ConstantCurvature(Kernel):
     line keeps its direction exactly.
     """
 
-    def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
+    def evaluate(self, a: ElementArrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         k = a.k0[idx]
         half = 0.5 * k * ds  # half the turn from the element's start, radians
         sh, ch = np.sin(half), np.cos(half)
@@ -107,7 +127,7 @@ class ConstantCurvature(Kernel):
         east = a.e0[idx] + chord * sm + o * ct
         return north, east, az
 
-    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+    def nearest(self, a: ElementArrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         k = a.k0[el]
         az0, n0, e0 = a.az0[el], a.n0[el], a.e0[el]
         # lines: along the element's exact start direction
@@ -142,7 +162,7 @@ class ConstantCurvature(Kernel):
         qe = e0 + chord * sm
         return Nearest(s_c, clamped, qn, qe, np.hypot(n - qn, e - qe))
 
-    def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
+    def direction(self, a: ElementArrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         return sincosd(a.az0[idx] + np.degrees(a.k0[idx] * s))
 
 
@@ -159,14 +179,14 @@ class Clothoid(Kernel):
 
     cost = 10.0
 
-    def evaluate(self, a: Arrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
+    def evaluate(self, a: ElementArrays, idx: NDArray[np.int64], ds: F, o: F) -> tuple[F, F, F]:
         from .clothoid import clothoid_points
 
         n, e, az = clothoid_points(ds, o, a.n0[idx], a.e0[idx], a.az0[idx], a.k0[idx], a.k1[idx],
                                    a.length[idx])
         return n, e, az
 
-    def nearest(self, a: Arrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
+    def nearest(self, a: ElementArrays, el: NDArray[np.int64], n: F, e: F, lo: F, hi: F) -> Nearest:
         from .clothoid import clothoid_project
 
         length = a.length[el]
@@ -179,7 +199,7 @@ class Clothoid(Kernel):
         qe = np.where(at_start, a.e0[el], np.where(at_end, a.e1[el], e - off * ct))
         return Nearest(s, at_start | at_end, qn, qe, dist)
 
-    def direction(self, a: Arrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
+    def direction(self, a: ElementArrays, idx: NDArray[np.int64], s: F) -> tuple[F, F]:
         k0, k1, length = a.k0[idx], a.k1[idx], a.length[idx]
         tau = k0 * s + (k1 - k0) * s * s / (2.0 * length)
         return sincosd(a.az0[idx] + np.degrees(tau))
