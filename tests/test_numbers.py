@@ -221,3 +221,11 @@ def test_three_rounding_rules_for_one_number(tmp_path):
         e = Decimal(v) * 1000
         ties3 += abs(e - int(e) - Decimal("0.5")) < Decimal("1e-6")
     assert ties3 > 10  # the sample does exercise ties
+
+
+@pytest.mark.parametrize("n", [2, 3, 4])
+def test_the_round_then_format_idiom_agrees(n):
+    # check.txt, check.html and LandXML's derived values print f"{round(v, n) + 0.0:.{n}f}": Python's
+    # round() is correctly rounded on the exact value too (language reference), so it is the same rule
+    x = np.concatenate([_ties(n, 500), -_ties(n, 500), np.nextafter(_ties(n, 500), 0.0)])
+    assert [f"{round(v, n) + 0.0:.{n}f}" for v in x.tolist()] == numbers.fixed_strings(x, n)
