@@ -29,7 +29,7 @@ from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
-from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
+from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
 from .staking import StakePoints, plan_stakes
 from .stations import Stationing
@@ -347,12 +347,13 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     k = len(stations)
     occ_n = np.array([s.occupied.northing for s in stations])
     occ_e = np.array([s.occupied.easting for s in stations])
-    scales, bs_az = [], []
+    scales, bs_az, radii = [], [], []
     for s in stations:  # one CRS evaluation per setup
         pf = None
         if grid is not None:
             grid.check_in_area(s.occupied.northing, s.occupied.easting, "setup.occupied")
             pf = grid.factors(s.occupied.northing, s.occupied.easting)
+        radii.append(unit.from_metres(MEAN_EARTH_RADIUS_M if pf is None else pf.radius_m))
         scales.append(resolve_scale(job.scale, unit, pf))
         bs_az.append(backsight_azimuth(s, pf.convergence if pf else None, setup.azimuth_reference))
     cf = np.array([sc.combined_factor for sc in scales])
@@ -361,11 +362,11 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     if k == 1:  # one setup: scalars, exactly as a one-setup job always was
         setout = compute_setout(float(occ_n[0]), float(occ_e[0]), bs_az[0], stakes.northing, stakes.easting,
                                 float(cf[0]), elev[0], setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, radii[0])
     else:
         setout = compute_setout(occ_n[index], occ_e[index], np.array(bs_az)[index], stakes.northing,
                                 stakes.easting, cf[index], occ_z, setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, np.array(radii)[index])
     counts = np.bincount(index, minlength=k)
     farthest = np.zeros(k)
     np.maximum.at(farthest, index, setout.grid_distance)

@@ -85,6 +85,10 @@ def _has_spirals(d: "Design") -> bool:
     return any(isinstance(el, Spiral) for el in d.alignment.elements)
 
 
+def _has_control(d: "Design") -> bool:
+    return bool(d.job.control_points())
+
+
 def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
     """A file another output is drawn from, rendered once a build."""
     if filename not in done:
@@ -134,6 +138,8 @@ OUTPUTS: tuple[Output, ...] = (
     Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
            wide=True),
+    Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
+           "control:control_csv", applies=_has_control, absent="the job has no control points"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
            "exchange:alignment_xml"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),

@@ -61,6 +61,10 @@ class Unit:
         """Convert a length in this unit to metres."""
         return value * self.metres
 
+    def from_metres(self, value: float) -> float:
+        """Convert a length in metres to this unit."""
+        return value / self.metres
+
     @property
     def is_feet(self) -> bool:
         """True for either foot."""

@@ -21,7 +21,7 @@ from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
-                   side_text, table_lines, turn_word, wrap_lines)
+                   side_text, table_lines, turn_word, vertical_note, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
 
@@ -190,6 +190,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     head += _DEFINITIONS
     if setup.target_height is not None:
         head.append(f"target height {setup.target_height:.3f}")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)
@@ -260,6 +261,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         heights.append(f"target height {setup.target_height:.3f}")
     if heights:
         head.append("   ".join(heights) + " (every setup)")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)
