@@ -16,7 +16,7 @@ import numpy as np
 from ..alignment import Alignment, Arc, Element, Spiral
 from ..alignment.clothoid import clothoid_xy
 from ..angles import format_azimuth_dms, format_dms
-from ..design import Design, Occupation
+from ..design import Design, Occupation, precision_rules_setups
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
@@ -211,8 +211,10 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
             Column("bs dist", ["" if x is None else f"{x:.3f}" for x in dists]),
             Column("stakes", [str(o.stake_count) for o in occs]),
             Column("farthest", [f"{o.farthest_sight:.3f}" for o in occs]),
-            Column("from sta", [lab(o.first_station) for o in occs]),
-            Column("to sta", [lab(o.last_station) for o in occs], with_previous=True)]
+            # the range a setup serves where the job gives one, else its first and last stake
+            Column("from sta", [lab(o.first_station if o.range_from is None else o.range_from) for o in occs]),
+            Column("to sta", [lab(o.last_station if o.range_to is None else o.range_to) for o in occs],
+                   with_previous=True)]
     prec = sdes.precision
     if prec is not None:
         worst = np.zeros(len(occs))
@@ -224,9 +226,15 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     heads, rows = table_lines(cols, table)
     setup = sdes.setup
     if setup.auto:
-        how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
-               f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
-               f"point within max_backsight {setup.max_backsight:g}")
+        if precision_rules_setups(d.job):
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup and, where any setup can keep it so, its predicted r95 "
+                   "within the tolerance (the chosen setup with the smallest r95), each backsight the farthest "
+                   f"control point within max_backsight {setup.max_backsight:g}")
+        else:
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
+                   f"point within max_backsight {setup.max_backsight:g}")
     elif setup.stations and setup.stations[0].from_station is not None:
         how = "as listed in the job file ([[setup.station]]), each serving its range of stations"
     elif setup.stations:
