@@ -21,6 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from .errors import JobFileError
+from .numbers import scaled
 
 __all__ = ["parse_station", "format_station", "station_text", "check_station_length", "StationRef",
            "Equation", "Stationing"]
@@ -107,7 +108,7 @@ def format_station(values: ArrayLike, station_length: int, decimals: int) -> str
     scale = 10**decimals
     # Round once in units of the last digit so that 12+99.999 never prints
     # as 12+100.00: the carry goes into the full stations.
-    total = np.rint(np.abs(flat) * scale).astype(np.int64)
+    total = scaled(np.abs(flat), scale)
     per = int(station_length) * scale
     neg = (flat < 0) & (total > 0)
     full = total // per
