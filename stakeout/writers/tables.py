@@ -65,7 +65,13 @@ class _PerPoint:
     def label(self) -> rows.Field:
         sp = self.sp
         st = sp.stationing  # every label comes from the stationing: stations in force there
-        return rows.repeat_rows(rows.station(sp.station_values[self.s], st.station_length, st.decimals), self.m)
+        lab = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
+        twice = st.occurs_twice(sp.stations[self.s])
+        if twice.any():  # a station an equation doubles carries its region, as Stationing.labels writes it
+            k = self.k
+            suffix = np.concatenate([rows.const("(", k), rows.integer(sp.regions[self.s]), rows.const(")", k)], axis=1)
+            lab = np.concatenate([lab, rows.blank(suffix, ~twice)], axis=1)
+        return rows.repeat_rows(lab, self.m)
 
     def station(self, decimals: int) -> rows.Field:
         return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)
@@ -346,4 +352,5 @@ def restake_csv(d: Design, r: "CheckResult") -> bytes:
     keep = np.zeros(len(d.stakes) + 1, dtype=bool)
     keep[0] = True
     keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
-    return data[keep[line_of_byte]].tobytes()
+    out: bytes = data[keep[line_of_byte]].tobytes()
+    return out
