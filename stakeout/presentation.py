@@ -36,6 +36,7 @@ rows of an element are one slice of the staked stations, found by
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
 from typing import TYPE_CHECKING, Any, cast
@@ -208,13 +209,14 @@ def _clothoid_rows(elements: list[Element], stations: list[F]) -> F:
 
 #: How the deflection rows of a kind's elements are computed from each element's start: one call
 #: for all the elements of a kind, their stations end to end.
-DEFLECTION_ROWS: PerKind[Any] = PerKind("deflection rows", {"line": _line_rows, "arc": _arc_rows,
-                                                            "spiral": _clothoid_rows})
+RowsOf = Callable[[list[Element], list[F]], F]
+DEFLECTION_ROWS: PerKind[RowsOf] = PerKind("deflection rows", {"line": _line_rows, "arc": _arc_rows,
+                                                              "spiral": _clothoid_rows})
 
 
 def _rows_by_kind(elements: list[Element], stations: list[F]) -> list[F]:
     """The deflection rows of every element, each kind's elements in one call, split again."""
-    groups: dict[Any, list[int]] = {}
+    groups: dict[RowsOf, list[int]] = {}
     for k, el in enumerate(elements):
         groups.setdefault(DEFLECTION_ROWS[el], []).append(k)
     out: list[F] = [np.zeros((0, 5))] * len(elements)

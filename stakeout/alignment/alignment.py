@@ -276,7 +276,7 @@ class Alignment:
         All curves in one vectorised pass of the inverse, each PI against its curve's
         elements only.
         """
-        cached = self._arrays.get("_externals")
+        cached = self._arrays.externals
         if cached is None:
             out = np.full(len(self.curves), np.nan)
             has = [k for k, c in enumerate(self.curves) if c.pi_northing is not None and c.pi_easting is not None]
@@ -285,8 +285,7 @@ class Alignment:
                 e = np.array([self.curves[k].pi_easting for k in has], dtype=float)
                 runs = [self.curves[k].elements for k in has]
                 out[has] = self._curve_distances(n, e, runs)
-            cached = out
-            self._arrays["_externals"] = cached
+            cached = self._arrays.externals = out
         return cached
 
     def _curve_distances(self, n: F, e: F, runs: list[tuple[int, ...]]) -> F:
@@ -296,7 +295,8 @@ class Alignment:
         size = np.array([len(r) for r in runs], dtype=np.int64)
         flat = np.array([i for r in runs for i in r], dtype=np.int64)
         first = np.cumsum(size) - size
-        return self._locate_candidates(n, e, flat, first, size)[2]
+        out: F = self._locate_candidates(n, e, flat, first, size)[2]
+        return out
 
     def _grid(self) -> ElementGrid | None:
         cached = self._arrays.grid

@@ -9,6 +9,7 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
@@ -278,7 +279,7 @@ def _spiral_title(t: DeflectionTable, curve: str, start: str) -> str:
 
 
 #: The title of an element's deflections (a line is never part of a curve; it would read as a spiral).
-_DEFLECTION_TITLES: PerKind[Any] = PerKind("deflection title",
+_DEFLECTION_TITLES: PerKind[Callable[[DeflectionTable, str, str], str]] = PerKind("deflection title",
                                            {"line": _spiral_title, "arc": _arc_title, "spiral": _spiral_title})
 
 
