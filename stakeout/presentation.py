@@ -5,7 +5,8 @@ Every output of a build is drawn from one :class:`Presentation` of the
 kept): the curve data of every curve (with the external measured on the
 alignment), the deflection tables of every curve element with their offset
 lines, the setout table's columns and notes, the spiral figures, the
-profile rows, and the per-kind tables the drawings dispatch on.  It holds
+profile rows, the element ends and samples the drawings trace; and it hands the
+renderers the :class:`PerKind` registry their own per-kind tables are built with.  It holds
 numbers (and the ids, codes and words of the job), never formatted text:
 each writer only formats it.
 
