@@ -111,7 +111,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             if not _has_extra(o.extra):
                 raise JobFileError(f"--only {o.name}: matplotlib is not installed, so there is no {o.filename} "
                                    f"(pip install 'stakeout[{o.extra}]')")
-    folder = OutputFolder(out, force, protect=(job_path,))
+    folder = OutputFolder(out, force, protect=job.inputs())
     d = build_design(job)
     for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
         if chosen is not None:
@@ -184,7 +184,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
                            "horizontal_tolerance in job units (it never guesses a tolerance)")
     cols = parse_columns(columns)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
-    folder = OutputFolder(out, force, protect=(job_path, staked))
+    folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
     d = build_design(job)
     control = job_control_points(job)
     radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance

@@ -15,8 +15,9 @@ Rules for the target (``--out``):
   ("Device or resource busy"), so the outputs cannot be moved onto it;
   write into a folder inside it.  A rename that still fails with that error
   gets the same explanation.
-* ``force`` never replaces a folder that holds an input (the job file, the
-  staked file), the working folder or the home folder.  An input given as
+* ``force`` never replaces a folder that holds an input (every file the
+  job reads, ``Job.inputs()``, and the staked file), the working folder or
+  the home folder.  An input given as
   a symbolic link protects the link's folder, every folder along its chain
   of links, and the folder of the file it finally points to.
 * A target that another program creates (or fills) during the build is
