@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
+
 from .design import Design, build_design
 from .errors import JobFileError
 from .jobfile import load_job
@@ -62,6 +64,16 @@ def setup_notes(d: Design) -> list[str]:
         else:
             out.append(f"precision: r95 up to {worst:.4f}; no [check] horizontal_tolerance, so no stake is flagged")
     return out
+
+
+def stake_factors(d: Design) -> np.ndarray | float:
+    """Grid / ground at each stake: its setup's combined factor; without a setup the
+    job's ``[scale] combined_factor`` (1.0 when it gives none).
+    """
+    if d.setup is not None:
+        return np.array([o.scale.combined_factor for o in d.setup.occupations])[d.setup.setup_index]
+    cf = d.job.scale.combined_factor
+    return 1.0 if cf is None else float(cf)
 
 
 def _has_extra(extra: str | None) -> bool:
@@ -192,7 +204,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, radius, control)
+                         spec.vertical_tolerance, radius, control, stake_factors(d))
     progress.step("shots checked")
 
     with folder:
