@@ -146,6 +146,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    notes[1:1] = folder.litter_notes
     notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:
@@ -218,7 +219,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}",
              f"{result.restake.size} design point(s) to set again in restake.csv "
              f"({result.restake.size - result.not_staked.size} out of tolerance, "
-             f"{result.not_staked.size} not staked)"]
+             f"{result.not_staked.size} not staked)"] + folder.litter_notes
     return result.all_ok, notes
 
 

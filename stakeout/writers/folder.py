@@ -24,6 +24,14 @@ Rules for the target (``--out``):
   never replaced without ``force``: the error says that it appeared and is
   not empty, and the new outputs are discarded.
 
+Killed runs (SIGKILL, out of memory, power loss) cannot clean up: the
+temporary folders carry the process id in their names
+(``.NAME.partial-PID-XXXX``, ``.NAME.old-PID-XXXX``), and the next run
+with the same target removes those of processes that no longer run; a
+target missing after a kill between the two renames of ``force`` is first
+restored from its ``.old-`` folder (:attr:`OutputFolder.litter_notes`
+says what was done).  Folders of running processes are never touched.
+
 Signals: Ctrl-C (and SIGTERM or SIGHUP, which the CLI turns into the same
 interruption) anywhere before the outputs are in place removes the
 temporary folder and leaves the target untouched.  The renames that put
@@ -98,6 +106,29 @@ def committed_targets() -> tuple[Path, ...]:
         The targets, absolute.
     """
     return tuple(_COMMITTED)
+
+
+def _owner_pid(name: str, prefix: str) -> int | None:
+    """The process id in a temporary folder's name (``PREFIX<pid>-XXXX``), None if it is not one."""
+    if not name.startswith(prefix):
+        return None
+    head = name[len(prefix):].split("-", 1)[0]
+    return int(head) if head.isascii() and head.isdigit() and len(head) < 10 else None
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` still runs (this process counts; a process of
+    another user counts as running).
+    """
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:
+        return True
+    return True
 
 
 def _nearest_existing(p: Path) -> Path:
@@ -198,8 +229,41 @@ class OutputFolder:
         self._writer: ThreadPoolExecutor | None = None  # writes files while the next output renders
         self._pending: list[Future[None]] = []
         self._check_protected(protect)
+        self.litter_notes: list[str] = []
+        self._clean_litter()
         self._check_target()
         self._existed = self.target.exists()
+
+    def _clean_litter(self) -> None:
+        """Remove the temporary folders a killed run left beside the target
+        (``.NAME.partial-PID-*``, ``.NAME.old-PID-*`` of a process that no
+        longer runs), restoring a missing target from its ``.old-`` folder.
+        """
+        t = self.target
+        try:
+            entries = sorted(os.scandir(t.parent), key=lambda e: e.name)
+        except OSError:
+            return
+        stale: dict[str, list[os.DirEntry[str]]] = {"partial": [], "old": []}
+        for e in entries:
+            for kind in stale:
+                pid = _owner_pid(e.name, f".{t.name}.{kind}-")
+                if pid is not None and e.is_dir(follow_symlinks=False) and not _alive(pid):
+                    stale[kind].append(e)
+        olds = sorted(stale["old"], key=lambda e: e.stat(follow_symlinks=False).st_mtime_ns)
+        if olds and not t.exists() and not t.is_symlink():
+            keep = olds.pop()  # killed between the two renames: the replaced outputs go back
+            try:
+                os.rename(keep.path, t)
+                self.litter_notes.append(f"{self.option} {str(t)!r} was missing after a killed run: restored it "
+                                         f"from {keep.name}")
+            except OSError as exc:
+                raise OutputError(f"{self.option} {str(t)!r}: missing after a killed run, its earlier outputs are "
+                                  f"in {keep.path!r} and cannot be moved back ({exc.strerror}); move them back "
+                                  "by hand") from None
+        for e in stale["partial"] + olds:
+            shutil.rmtree(e.path, ignore_errors=True)
+            self.litter_notes.append(f"removed {e.name}, left beside {self.option} by a killed run")
 
     def _check_protected(self, protect: tuple[str | Path, ...]) -> None:
         # --force replaces the whole folder: never one that holds the inputs,
@@ -281,7 +345,7 @@ class OutputFolder:
         base = _nearest_existing(self.target.parent)
         try:
             with _signals_held():  # never a temporary folder that nobody will remove
-                self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-", dir=base))
+                self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-{os.getpid()}-", dir=base))
         except OSError as exc:
             raise OutputError(f"{self.option} {str(self.target)!r}: cannot write there ({exc.strerror})") from None
         except BaseException:
@@ -377,7 +441,7 @@ class OutputFolder:
                     committed, self.tmp = True, None
                     _COMMITTED.append(t)
             else:
-                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-", dir=t.parent))
+                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-{os.getpid()}-", dir=t.parent))
                 old.rmdir()
                 with _signals_held():
                     os.rename(t, old)
