@@ -292,19 +292,19 @@ class Stationing:
                          f"the alignment has regions 1 to {self.regions}")
                 raise JobFileError(f"{ref.where} = {{ station = {self.format_value(ref.value)!r}, region = "
                                    f"{ref.region} }}: region {ref.region} does not exist; {there}")
-            x = ref.value - self.shift(ref.region)
+            xr = ref.value - self.shift(ref.region)
             lo, hi = self.region_range(ref.region)
             # the first and last regions run on past the ends (a profile may); the others end at equations
-            low_ok = ref.region == 1 or lo - 1e-9 <= x
-            high_ok = ref.region == self.regions or x <= hi + 1e-9
+            low_ok = ref.region == 1 or lo - 1e-9 <= xr
+            high_ok = ref.region == self.regions or xr <= hi + 1e-9
             if not (low_ok and high_ok):
                 raise JobFileError(f"{ref.where} = {self.format_value(ref.value)!r}: not in region {ref.region}; "
                                    f"{self._region_text(ref.region)}")
-            return x
+            return xr
         if not self.equations:
             return ref.value
         b = self._bounds
-        x = ref.value - self._shifts  # the value read in every region at once
+        x: NDArray[np.float64] = ref.value - self._shifts  # the value read in every region at once
         inside = (b[:-1] - 1e-9 <= x) & (x <= b[1:] + 1e-9)
         hits = np.flatnonzero(inside)
         # a station equal to an equation's back station and its ahead region's start is one point
