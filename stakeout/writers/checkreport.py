@@ -11,7 +11,7 @@ import numpy as np
 from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
-from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
+from .tables import DECIMALS, POINTS_COLUMNS, csv_text, csv_text_field, points_csv
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
@@ -34,11 +34,6 @@ def _f(v: float, d: int = DECIMALS) -> str:
     return finite_or_empty(v, d)
 
 
-def _shot_id(pid: str) -> str:
-    """A shot id from the field as a CSV field that no spreadsheet runs as a formula."""
-    if pid[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        pid = "'" + pid
-    return csv_field(pid)
 
 
 def target_id(d: Design, r: CheckResult, k: int) -> str:
@@ -58,12 +53,12 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     line of the shot that governs its design point.
     """
     station = d.stationing.station
-    name = csv_field(d.alignment.name)
+    name = csv_text_field(d.alignment.name)
     out = []
     for k in range(len(shots)):
         g = int(r.related[k])
         out.append(",".join([
-            _shot_id(shots.point[k]), csv_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
+            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
             _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
             _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
