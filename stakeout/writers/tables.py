@@ -24,7 +24,9 @@ from .text import fixed_or_empty, turn_word
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
-    "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_guard", "csv_text_field", "FORMULA_LEADS", "csv_text", "points_csv", "stations_csv",
+    "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_guard", "csv_text_field", "FORMULA_LEADS",
+    "csv_text",
+    "points_csv", "stations_csv",
     "curves_csv", "setout_csv",
 ]
 
