@@ -11,10 +11,11 @@ from pathlib import Path
 import numpy as np
 
 from .design import Design, build_design
-from .errors import JobFileError
+from .errors import JobFileError, StakedFileError
 from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
+from .textsafety import check_file_name
 
 __all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute", "setup_notes"]
 
@@ -196,6 +197,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
         raise JobFileError("check.horizontal_tolerance: missing; stakeout check needs [check] "
                            "horizontal_tolerance in job units (it never guesses a tolerance)")
     cols = parse_columns(columns)
+    check_file_name(str(staked), "staked file", StakedFileError)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
     d = build_design(job)

@@ -11,6 +11,7 @@ value, and what is allowed.
 from __future__ import annotations
 
 import hashlib
+import re
 import tomllib
 from pathlib import Path
 
@@ -18,7 +19,7 @@ from ..errors import JobFileError
 from ..alignment.specs import AlignmentSpec
 from ..job import DesignFile, Job, JobInfo
 from ..limits import MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
-from ..textsafety import check_free_text
+from ..textsafety import check_file_name, check_free_text, show_value
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment, read_equations
@@ -41,6 +42,7 @@ def load_job(path: str | Path) -> Job:
         If the file is missing, unreadable, not TOML, or not a valid job.
     """
     p = Path(path)
+    check_file_name(str(path), "job file")
     data = read_regular_file(p, "job file", MAX_JOB_FILE_BYTES)
     return parse_job(data, str(p))
 
@@ -52,6 +54,15 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise JobFileError(f"{path}: not valid TOML: {exc}") from None
+    except RecursionError:  # arrays or inline tables nested past the reader's stack
+        raise JobFileError(f"{path}: not valid TOML: nested too deeply (line {_deepest_line(text)}); a job file "
+                           "nests arrays and tables a few levels at most") from None
+    except ValueError as exc:  # an integer past Python's digit limit for text
+        line = _longest_number_line(text)
+        if line is None:
+            raise JobFileError(f"{path}: not valid TOML: {show_value(str(exc))}") from None
+        raise JobFileError(f"{path}: not valid TOML: number too long (line {line}); no value of a job file "
+                           "needs more than a few dozen digits") from None
     top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
                           "instrument"))
     fmt = top.raw("format", required=True)
@@ -119,15 +130,52 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     )
 
 
+def _deepest_line(text: str) -> int:
+    """Line (from 1) where brackets and braces nest deepest, strings and comments skipped roughly."""
+    depth = best = 0
+    line = best_line = 1
+    quote = ""
+    comment = False
+    for ch in text:
+        if ch == "\n":
+            line += 1
+            comment = False
+            continue
+        if comment:
+            continue
+        if quote:
+            if ch == quote:
+                quote = ""
+        elif ch in "\"'":
+            quote = ch
+        elif ch == "#":
+            comment = True
+        elif ch in "[{":
+            depth += 1
+            if depth > best:
+                best, best_line = depth, line
+        elif ch in "]}":
+            depth = max(depth - 1, 0)
+    return best_line
+
+
+def _longest_number_line(text: str) -> int | None:
+    """Line (from 1) of the longest run of digits (None without a run of 50 or more)."""
+    runs = [(len(m.group()), m.start()) for m in re.finditer(r"[0-9_]{50,}", text)]
+    if not runs:
+        return None
+    return text.count("\n", 0, max(runs)[1]) + 1
+
+
 def _job_info(top: Table) -> JobInfo:
     """``[job]``: name, units, CRS, station length."""
     t = top.table("job", ("name", "units", "crs", "station_length"), required=True)
     assert t is not None
     name = check_free_text(t.text("name") or "", "job.name")
     unit = get_unit(t.raw("units", required=True))
-    crs = t.text("crs")
+    crs = t.text("crs", lines=True)  # a WKT may run over several lines
     if crs is not None and not crs.strip():
-        raise JobFileError(f"job.crs = {crs!r}: empty; leave the key out for a local grid")
+        raise JobFileError(f"job.crs = {show_value(crs)}: empty; leave the key out for a local grid")
     sl = t.raw("station_length")
     station_length = int(unit.station_length) if sl is None else check_station_length(sl)
     return JobInfo(name, unit, crs, station_length)

@@ -108,6 +108,21 @@ def committed_targets() -> tuple[Path, ...]:
     return tuple(_COMMITTED)
 
 
+def _umask() -> int:
+    """The process's file-mode creation mask (read without changing it where the system allows)."""
+    try:
+        with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
+    with _signals_held():
+        mask = os.umask(0o022)
+        os.umask(mask)
+    return mask
+
+
 def _owner_pid(name: str, prefix: str) -> int | None:
     """The process id in a temporary folder's name (``PREFIX<pid>-XXXX``), None if it is not one."""
     if not name.startswith(prefix):
@@ -421,7 +436,7 @@ class OutputFolder:
         tmp, t = self.tmp, self.target
         try:
             t.parent.mkdir(parents=True, exist_ok=True)
-            os.chmod(tmp, 0o755)
+            os.chmod(tmp, 0o777 & ~_umask())  # as mkdir would have made it (mkdtemp makes 0700)
         except OSError as exc:
             raise self._move_error(exc) from None
         committed = False
