@@ -259,5 +259,5 @@ def check_file_name(path: str, what: str, error: type[StakeoutError] = JobFileEr
     ch = name[i]
     how = (f"byte 0x{ord(ch) - 0xDC00:02X}, which is not UTF-8" if 0xDC80 <= ord(ch) <= 0xDCFF
            else describe_char(ch))
-    raise error(f"{what} {show_name(path, 120)!r}: its name holds {how} at character {i + 1}; the name is "
+    raise error(f"{what} '{show_name(path, 200)}': its name holds {how} at character {i + 1}; the name is "
                 "printed on the sheets, so rename the file (printable UTF-8 text on one line)")
