@@ -77,6 +77,50 @@ def stake_factors(d: Design) -> np.ndarray | float:
     return 1.0 if cf is None else float(cf)
 
 
+#: A sight longer than this many times the job's extent (the diagonal of its stakes' box), and than
+#: :data:`ABSURD_SIGHT_M`, is refused: a coordinate with a lost decimal point, not a setup.
+ABSURD_SIGHT_EXTENTS = 10.0
+ABSURD_SIGHT_M = 10_000.0
+
+
+def check_design(d: Design) -> None:
+    """What only the built design shows: an id used both by a stake and by a
+    control or setup point, and a setup whose sights are absurd for the job's extent.
+
+    Raises
+    ------
+    JobFileError
+        Naming both uses of the id, or the setup, its point and the sight.
+    """
+    from .check import design_index_of_ids
+
+    job, sp = d.job, d.stakes
+    points = list(job.control)
+    if job.setup is not None:
+        for st in job.setup.explicit():
+            points += [(cp.__class__(cp.id, cp.northing, cp.easting, cp.elevation, cp.where or f"{st.where}.{role}"))
+                       for role, cp in (("occupied", st.occupied), ("backsight", st.backsight)) if cp is not None]
+    if points and len(sp):
+        hit = design_index_of_ids([cp.id for cp in points], sp.prefix, sp.first_point, len(sp))
+        for k in np.flatnonzero(hit >= 0)[:1].tolist():
+            cp, i = points[k], int(hit[k])
+            raise JobFileError(
+                f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point[i]} at "
+                f"{d.stationing.label(float(sp.station[i]))}, offset {float(sp.offset[i]):.3f}); one id names one "
+                "point in the point file and on the sheets: give the control point another id or set staking.point_prefix")
+    if d.setup is None or not len(sp):
+        return
+    extent = float(np.hypot(np.ptp(sp.northing), np.ptp(sp.easting)))
+    limit = max(ABSURD_SIGHT_EXTENTS * extent, ABSURD_SIGHT_M / d.unit.metres)
+    for o in d.setup.occupations:
+        for what, dist in (("farthest sight", o.farthest_sight), ("backsight", o.backsight_distance or 0.0)):
+            if dist > limit:
+                raise JobFileError(
+                    f"{o.where}: setup {o.number} on {o.occupied.id} (N {o.occupied.northing!r} E "
+                    f"{o.occupied.easting!r}) has a {what} of {dist:,.3f}, absurd for a job whose stakes span "
+                    f"{extent:,.3f} (more than {limit:,.0f}); check the coordinates (a decimal point lost?)")
+
+
 def _has_extra(extra: str | None) -> bool:
     """Whether the optional install an output needs is there."""
     if extra is None:
@@ -126,6 +170,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
                                    f"(pip install 'stakeout[{o.extra}]')")
     folder = OutputFolder(out, force, protect=job.inputs())
     d = build_design(job)
+    check_design(d)
     for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
         if chosen is not None:
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
@@ -201,6 +246,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
     d = build_design(job)
+    check_design(d)
     control = job_control_points(job)
     radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
     check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))

@@ -11,14 +11,15 @@ value, and what is allowed.
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 import tomllib
 from pathlib import Path
 
 from ..errors import JobFileError
-from ..alignment.specs import AlignmentSpec
-from ..job import DesignFile, Job, JobInfo
-from ..limits import MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
+from ..alignment.specs import AlignmentSpec, ArcSpec, FixedSpec
+from ..job import ControlPoint, DesignFile, Job, JobInfo, Setup
+from ..limits import MAX_COORDINATE, MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
 from ..textsafety import check_file_name, check_free_text, show_value
 from ..stations import check_station_length
 from ..units import get_unit
@@ -78,12 +79,16 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         assert at is not None
         from_file = read_alignment_file(at, info, base)
         alignment: AlignmentSpec = from_file.spec
+        _check_length(from_file.spec)
         design_files.append(from_file.record)
     else:
         alignment = read_alignment(top, info)
     staking = read_staking(top, info)
     control, control_files = read_control(top, info, base)
+    _check_control_coordinates(control)
     setup = read_setup(top, control, info.station_length)
+    if setup is not None:
+        _check_one_position_per_id(control, setup)
     instrument = read_instrument(top)
     if instrument is not None:
         if setup is None:
@@ -128,6 +133,49 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         control=control,
         instrument=instrument,
     )
+
+
+def _check_length(spec: FixedSpec) -> None:
+    """Refuse a design-file alignment of length zero (every stake would be one point)."""
+    total = 0.0
+    for a in spec.elements:
+        el = a.element
+        if isinstance(el, ArcSpec) and el.length is None:
+            total += el.radius * math.radians(el.delta or 0.0)
+        else:
+            total += float(el.length or 0.0)
+    if not total > 0.0:
+        raise JobFileError(f"alignment.landxml: alignment {spec.name!r} has length 0 (its elements start and end "
+                           "at one point); there is nothing to stake along it")
+
+
+def _check_control_coordinates(control: tuple[ControlPoint, ...]) -> None:
+    """Control coordinates within the bounds of every coordinate (a lost decimal point gives 9e11)."""
+    for cp in control:
+        for what, v in (("northing", cp.northing), ("easting", cp.easting)):
+            if not abs(v) <= MAX_COORDINATE:
+                raise JobFileError(f"{cp.where or cp.id}: {what} {v!r} of control point {cp.id!r} is out of range; "
+                                   f"coordinates must lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} "
+                                   "job units (a decimal point lost?)")
+
+
+def _check_one_position_per_id(control: tuple[ControlPoint, ...], setup: Setup) -> None:
+    """One id names one point: an inline setup point may repeat a control point or another
+    setup's point only at the same coordinates.
+    """
+    seen: dict[str, ControlPoint] = {cp.id: cp for cp in control}
+    for st in setup.explicit():
+        for role, cp in (("occupied", st.occupied), ("backsight", st.backsight)):
+            if cp is None:
+                continue
+            where = cp.where or f"{st.where}.{role}"
+            first = seen.setdefault(cp.id, ControlPoint(cp.id, cp.northing, cp.easting, cp.elevation, where))
+            if (first.northing, first.easting) != (cp.northing, cp.easting) or (
+                    first.elevation is not None and cp.elevation is not None and first.elevation != cp.elevation):
+                raise JobFileError(
+                    f"{where}: id {cp.id!r} at N {cp.northing!r} E {cp.easting!r} is also the point at N "
+                    f"{first.northing!r} E {first.easting!r} ({first.where or first.id}); one id names one point, "
+                    "give the second point an id of its own")
 
 
 def _deepest_line(text: str) -> int:
