@@ -32,7 +32,7 @@ def _read(data: bytes):
 @pytest.mark.parametrize("sample, insunits", [("loop_ramp_usft.toml", 21), ("site_road_metric.toml", 6),
                                               ("pi_list_local_ft.toml", 2), ("curve_table_ramp.toml", 21)])
 def test_readback(sample, insunits, tmp_path):
-    # ezdxf reading back (shared references: $INSUNITS 2 feet, 6 metres, 21 US survey feet)
+    # ezdxf reading back (references.md: $INSUNITS 2 feet, 6 metres, 21 US survey feet)
     out = tmp_path / "o"
     assert runner.invoke(app, ["build", str(SAMPLES / sample), "--out", str(out), "--only", "dxf"]).exit_code == 0
     doc = ezdxf.readfile(out / "plan.dxf")
