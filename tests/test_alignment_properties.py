@@ -6,7 +6,7 @@ import math
 import numpy as np
 import pytest
 import shapely
-from hypothesis import assume, HealthCheck, given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString
 
@@ -28,9 +28,6 @@ from stakeout.staking import plan_stakes
 from stakeout.stations import Stationing
 
 from .helpers import arc_end_by_rotation
-
-settings.register_profile("stakeout", deadline=None, suppress_health_check=[HealthCheck.too_slow])
-settings.load_profile("stakeout")
 
 
 @st.composite

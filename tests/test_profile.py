@@ -13,7 +13,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 from scipy.optimize import brentq
 
@@ -21,9 +21,6 @@ from stakeout.errors import JobFileError
 from stakeout.profile import PROFILE_TOLERANCE, PVISpec, build_profile
 
 from .reference import fhwa_bridge_geometry as fhwa
-
-settings.register_profile("stakeout", deadline=None, suppress_health_check=[HealthCheck.too_slow])
-settings.load_profile("stakeout")
 
 
 # ---- independent constructions -------------------------------------------------------
