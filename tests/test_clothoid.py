@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
+from scipy import integrate, special
 
 from stakeout.alignment.clothoid import (
     SpiralFigures,
@@ -119,7 +120,6 @@ def test_tangent_spiral_against_scipy_fresnel(length, theta, frac, turn):
     # scipy.special.fresnel: S(z) = int_0^z sin(pi t^2 / 2) dt, C likewise; a
     # tangent spiral with heading s^2 / (2 R L) is x = a C(s/a), y = a S(s/a),
     # a = sqrt(pi R L).  Agreement to 1e-9 of the length.
-    special = pytest.importorskip("scipy.special")
     radius = length / (2.0 * theta)
     s = frac * length
     a = math.sqrt(math.pi * radius * length)
@@ -131,7 +131,6 @@ def test_tangent_spiral_against_scipy_fresnel(length, theta, frac, turn):
 
 
 def _quad_xy(s: float, k0: float, k1: float, length: float) -> tuple[float, float]:
-    integrate = pytest.importorskip("scipy.integrate")
 
     def tau(u: float) -> float:
         return k0 * u + (k1 - k0) * u * u / (2.0 * length)

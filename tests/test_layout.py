@@ -107,10 +107,7 @@ def test_ruff_clean():
     import sys
 
     ruff = shutil.which("ruff", path=str(Path(sys.executable).parent)) or shutil.which("ruff")
-    if ruff is None:
-        import pytest
-
-        pytest.skip("ruff is not installed (pip install -e '.[test]' brings it)")
+    assert ruff is not None, "ruff is not installed (pip install -e '.[test]' brings it)"
     r = subprocess.run([ruff, "check", "stakeout", "tests", "benchmarks"], cwd=PKG.parent, capture_output=True,
                        text=True)
     assert r.returncode == 0, r.stdout + r.stderr

@@ -2,7 +2,7 @@
 
 import json
 
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, given, reject, settings
 from hypothesis import strategies as st
 from typer.testing import CliRunner
 
@@ -154,7 +154,7 @@ def test_fuzzed_loader_only_raises_own_errors(doc):
     try:
         text = _toml(doc)
     except TypeError:
-        return
+        reject()  # a value TOML cannot write: not a case (Hypothesis fails if too many are)
     try:
         job = parse_job(text.encode())
         a = build_alignment(job.alignment)
