@@ -161,7 +161,7 @@ def test_chain_elements_close_by_rotation(spec):
        st.floats(5, 200))
 def test_key_points_on_every_offset_line(spec, offsets, interval):
     a = build_alignment(spec)
-    # an offset at or past a curve's centre is refused (test_field_readiness holds that); stay inside it
+    # an offset at or past a curve's centre is refused (test_crew_safeguards holds that); stay inside it
     r_min = min([el.radius_start for el in a.elements if el.radius_start] + [1e9])
     assume(max(abs(o) for o in offsets) < 0.9 * r_min)
     staking = Staking(interval, tuple(sorted((OffsetLine(o, f"C{i}") for i, o in enumerate(offsets)),

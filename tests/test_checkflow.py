@@ -384,7 +384,7 @@ def test_restake_csv_with_design_elevations_and_prefix(tmp_path):
     assert (out / "restake.csv").read_text().splitlines()[1:] == expected
 
 
-# ---- the nearest-point index (issue 17 item 15) -------------------------------------------------------------------
+# ---- the nearest-point index --------------------------------------------------------------------------------------
 def _brute(pn, pe, qn, qe, radius):
     """Reference: every pair (numpy argmin: the lowest index among equal distances)."""
     idx = np.full(qn.size, -1)
