@@ -26,7 +26,7 @@ from .helpers import SAMPLES
 
 _COMMON = {"deadline": None, "suppress_health_check": [HealthCheck.too_slow]}
 settings.register_profile("ci", max_examples=300, derandomize=True, database=None, print_blob=True, **_COMMON)
-settings.register_profile("dev", max_examples=30, **_COMMON)
+settings.register_profile("dev", max_examples=30, derandomize=False, **_COMMON)
 
 
 def hypothesis_profile(environ: Mapping[str, str] = os.environ) -> str:

@@ -252,6 +252,7 @@ def test_single_pi_curve_properties(back, defl, turn, radii, data):
     assert {a.elements[i].turn for i in c.elements} == {turn}
 
 
+@pytest.mark.slow
 def test_grid_inverse_with_spirals_matches_shapely():
     # Reference: shapely's distance to the centreline densified every 0.05 (the chord error of that
     # spacing on these radii is below 1e-6). The inverse on an alignment of tangents, clothoids and

@@ -508,6 +508,7 @@ def _reference_match(ids, sn, se, design_ids, dn, de, control, radius):
     return di, ci, status
 
 
+@pytest.mark.slow
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.data(), nd=st.integers(1, 25), nc=st.integers(0, 3), ns=st.integers(0, 30),
        radius=st.sampled_from([0.5, 3.0, 40.0]))

@@ -132,6 +132,7 @@ def test_offset_arcs_concentric():
     assert radii == want
 
 
+@pytest.mark.slow
 def test_png_preview(tmp_path):
     # matplotlib is in the [test] extra: without it the build fails and so does this test
     out = tmp_path / "o"

@@ -5,6 +5,7 @@ anything else."""
 import json
 import tomllib
 
+import pytest
 from hypothesis import HealthCheck, given, reject, settings
 from hypothesis import strategies as st
 
@@ -77,6 +78,7 @@ def mutated_jobs(draw):
     return base
 
 
+@pytest.mark.slow
 @settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(mutated_jobs())
 def test_fuzzed_loader_only_raises_own_errors(doc):

@@ -87,6 +87,7 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         assert a["elevation"] == b["elevation"]
 
 
+@pytest.mark.slow
 @settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(st.lists(st.tuples(st.floats(150.0, 600.0), st.floats(-1.0, 1.0).filter(lambda v: abs(v) > 0.5),
                           st.sampled_from([0.0, 30.0, 60.0])), min_size=1, max_size=3),

@@ -4,6 +4,8 @@ typer only in the CLI, and the alignment free of all three."""
 import ast
 from pathlib import Path
 
+import pytest
+
 PKG = Path(__file__).resolve().parent.parent / "stakeout"
 
 
@@ -17,6 +19,7 @@ def _imports(path: Path) -> set[str]:
     return out
 
 
+@pytest.mark.slow
 def test_heavy_libraries_stay_in_their_modules():
     owners = {"pyproj": {"crs.py"}, "ezdxf": {"dxf.py"}, "typer": {"cli.py"}, "matplotlib": {"dxf.py"}}
     for path in PKG.rglob("*.py"):

@@ -531,6 +531,7 @@ def test_closure_pi_list_with_spirals(case):
     assert end.end_easting == pytest.approx(spec.pis[-1].easting, abs=1e-6)
 
 
+@pytest.mark.slow
 @settings(max_examples=120, **FREE)
 @given(random_alignments(), st.data())
 def test_round_trip_and_monotone(spec, data):
