@@ -29,7 +29,7 @@ from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
-from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
+from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
 from .staking import StakePoints, plan_stakes
 from .stations import Stationing
@@ -39,7 +39,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
 __all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
-           "build_profile_of"]
+           "build_profile_of", "precision_rules_setups"]
 
 
 @dataclass(frozen=True)
@@ -213,15 +213,32 @@ class _PointIds(Sequence[str]):
         return f"{self._stakes.prefix}{int(self._stakes.number[i])}"
 
 
+def precision_rules_setups(job: Job) -> bool:
+    """Whether automatic setups keep stakes within tolerance: ``[instrument]`` and
+    ``[check] horizontal_tolerance`` both given (job-file contract).
+    """
+    return (job.instrument is not None and job.check is not None
+            and job.check.horizontal_tolerance is not None)
+
+
 def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[SetupStation, ...], NDArray[np.int64]]:
     """Automatic setups among the control points (:func:`stakeout.setups.choose_setups`),
     numbered by the first stake each serves.
     """
     assert setup.max_distance is not None and setup.max_backsight is not None
     ctrl = job.control
+    r95 = tolerance = None
+    if precision_rules_setups(job):
+        assert job.check is not None and job.instrument is not None
+        spec, tolerance = job.instrument, job.check.horizontal_tolerance
+
+        def r95(on: NDArray[np.float64], oe: NDArray[np.float64], bn: NDArray[np.float64], be: NDArray[np.float64],
+                sn: NDArray[np.float64], se: NDArray[np.float64]) -> NDArray[np.float64]:
+            return predict_precision(on, oe, bn, be, sn, se, spec).r95
+
     plan = choose_setups([c.id for c in ctrl], np.array([c.northing for c in ctrl]),
                          np.array([c.easting for c in ctrl]), stakes.northing, stakes.easting, setup.max_distance,
-                         setup.max_backsight, stake_ids=_PointIds(stakes))
+                         setup.max_backsight, stake_ids=_PointIds(stakes), r95=r95, tolerance=tolerance)
     n = len(stakes)
     first = np.full(len(plan.setups), n, dtype=np.int64)
     np.minimum.at(first, plan.setup_index, np.arange(n, dtype=np.int64))
@@ -319,12 +336,13 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     k = len(stations)
     occ_n = np.array([s.occupied.northing for s in stations])
     occ_e = np.array([s.occupied.easting for s in stations])
-    scales, bs_az = [], []
+    scales, bs_az, radii = [], [], []
     for s in stations:  # one CRS evaluation per setup
         pf = None
         if grid is not None:
             grid.check_in_area(s.occupied.northing, s.occupied.easting, "setup.occupied")
             pf = grid.factors(s.occupied.northing, s.occupied.easting)
+        radii.append(unit.from_metres(MEAN_EARTH_RADIUS_M if pf is None else pf.radius_m))
         scales.append(resolve_scale(job.scale, unit, pf))
         bs_az.append(backsight_azimuth(s, pf.convergence if pf else None, setup.azimuth_reference))
     cf = np.array([sc.combined_factor for sc in scales])
@@ -333,11 +351,11 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     if k == 1:  # one setup: scalars, exactly as a one-setup job always was
         setout = compute_setout(float(occ_n[0]), float(occ_e[0]), bs_az[0], stakes.northing, stakes.easting,
                                 float(cf[0]), elev[0], setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, radii[0])
     else:
         setout = compute_setout(occ_n[index], occ_e[index], np.array(bs_az)[index], stakes.northing,
                                 stakes.easting, cf[index], occ_z, setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, np.array(radii)[index])
     counts = np.bincount(index, minlength=k)
     farthest = np.zeros(k)
     np.maximum.at(farthest, index, setout.grid_distance)

@@ -121,6 +121,16 @@ def _deflections(d: "Design", done: Rendered) -> bytes:
     return deflection_sheet(d, wide=done.wide).encode("utf-8")
 
 
+def _control(d: "Design", done: Rendered) -> bytes:
+    from .writers.control import control_csv
+
+    return control_csv(d)
+
+
+def _has_control(d: "Design") -> bool:
+    return bool(d.job.control_points())
+
+
 def _landxml(d: "Design", done: Rendered) -> bytes:
     from .writers.exchange import alignment_xml
 
@@ -169,6 +179,8 @@ OUTPUTS: tuple[Output, ...] = (
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),
+    Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
+           _control, applies=_has_control, absent="the job has no control points"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)", _landxml),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",

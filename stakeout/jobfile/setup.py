@@ -29,9 +29,13 @@ MIN_BACKSIGHT = 1.0
 
 _POINT_KEYS = ("id", "northing", "easting", "elevation")
 _SETUP_KEYS = ("occupied", "backsight", "backsight_azimuth", "azimuth_reference", "instrument_height",
-               "target_height", "max_distance", "max_backsight", "station")
+               "target_height", "max_distance", "max_backsight", "station", "curvature_refraction",
+               "refraction_coefficient")
 _STATION_KEYS = ("occupied", "backsight", "backsight_azimuth", "from_station", "to_station")
 _AUTO = "auto"
+
+#: Refraction coefficient when the job gives none (common practice for daytime sights over land).
+DEFAULT_REFRACTION = 0.13
 
 
 class _Points:
@@ -138,6 +142,7 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
     ref = t.text("azimuth_reference", choices=("grid", "geodetic")) or "grid"
     ih = t.number("instrument_height", nonnegative=True, bound=MAX_HEIGHT)
     th = t.number("target_height", nonnegative=True, bound=MAX_HEIGHT)
+    refr = _refraction(t)
     auto = t.raw("occupied") == _AUTO
     if not auto:
         for k in ("max_distance", "max_backsight"):
@@ -157,7 +162,7 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
             i = ranged.index(not ranged[0])
             raise JobFileError(f"setup.station[{i}]: give from_station/to_station on every [[setup.station]] or "
                                "on none (without ranges each stake goes to the nearest setup)")
-        return Setup(None, None, None, ref, ih, th, stations=stations, by_id=points.used_id)
+        return Setup(None, None, None, ref, ih, th, stations=stations, by_id=points.used_id, refraction=refr)
     if auto:
         for k in ("backsight", "backsight_azimuth"):
             if t.has(k):
@@ -175,11 +180,28 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
         if len(control) < 2:
             raise JobFileError(f'setup.occupied = "auto": needs at least two control points ([control]); the job '
                                f"has {len(control)}")
-        return Setup(None, None, None, ref, ih, th, max_distance=md, max_backsight=2.0 * md if mb is None else mb)
+        return Setup(None, None, None, ref, ih, th, max_distance=md, max_backsight=2.0 * md if mb is None else mb,
+                     refraction=refr)
     occupied = points.resolve(t, "occupied", required=True)
     assert occupied is not None
     backsight, bs_az = _backsight(t, points, occupied, ref, ref_given)
-    return Setup(occupied, backsight, bs_az, ref, ih, th, by_id=points.used_id)
+    return Setup(occupied, backsight, bs_az, ref, ih, th, by_id=points.used_id, refraction=refr)
+
+
+def _refraction(t: Table) -> float | None:
+    """``curvature_refraction = true`` (with an optional ``refraction_coefficient``): k, else None."""
+    on = t.raw("curvature_refraction")
+    if on is not None and not isinstance(on, bool):
+        raise JobFileError(f"setup.curvature_refraction = {show_value(on)}: expected true or false")
+    if not on:
+        if t.has("refraction_coefficient"):
+            raise JobFileError(f"setup.refraction_coefficient = {show_value(t.raw('refraction_coefficient'))}: "
+                               "goes with curvature_refraction = true")
+        return None
+    k = t.number("refraction_coefficient", bound=1.0)
+    if k is not None and not 0.0 <= k < 1.0:
+        raise JobFileError(f"setup.refraction_coefficient = {k!r}: must lie from 0 up to (not including) 1")
+    return DEFAULT_REFRACTION if k is None else k
 
 
 def read_instrument(top: Table) -> InstrumentSpec | None:

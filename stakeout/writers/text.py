@@ -122,6 +122,16 @@ def turn_word(turn: int) -> str:
 
 
 # ---- the job header ------------------------------------------------------------------------
+def vertical_note(d: Design) -> str | None:
+    """What the zenith angles and slope distances allow for; None where none are computed."""
+    if d.setup is None or d.setup.setout.zenith is None:
+        return None
+    k = d.setup.setup.refraction
+    if k is None:
+        return "zenith and slope distance: no curvature or refraction correction (short sights)"
+    return f"zenith and slope distance: corrected for curvature and refraction (k {k:.2f})"
+
+
 def header_lines(title: str, d: Design) -> list[str]:
     """The header block every sheet opens with: job, file and hash, alignment, units, CRS."""
     job = d.job
