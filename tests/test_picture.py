@@ -33,6 +33,7 @@ from stakeout.writers.picture import Labeller, nice_length, plan_svg, station_sp
 
 from .helpers import SAMPLES, build_job, write_job
 from .reference import nhdot_spiral_curve as nh
+from .reference import recalled_figures as recalled
 
 SVG = "{http://www.w3.org/2000/svg}"
 NUM = r"-?\d+(?:\.\d+)?"
@@ -48,7 +49,7 @@ def _font_metrics() -> tuple[float, float]:
         upm = font["head"].unitsPerEm
         return font["hmtx"]["zero"][0] / upm, font["OS/2"].sCapHeight / upm
     except Exception:  # noqa: BLE001 - no font file or no fontTools: the published figures
-        return 1233 / 2048, 0.729  # from memory
+        return recalled.MONO_ADVANCE.value, recalled.MONO_CAP_HEIGHT.value  # from memory
 
 
 ADVANCE, CAP = _font_metrics()
