@@ -14,6 +14,7 @@ Modules:
 - `nist_survey_foot`: NIST & NGS, the definitions of the international and US survey foot;
 - `mahun_surveying`: J. Mahun, Open Access Surveying Library (combined factor, Lambert convergence);
 - `scipy_fresnel`: scipy's own test value of the Fresnel integrals;
+- `dxf_insunits`: the DXF reference's $INSUNITS codes of the three units;
 - `design_notes`: worked examples of the project's design notes (references.md), [computed];
 - `recalled_figures`: figures recalled "from memory", each naming where it is printed.
 """
