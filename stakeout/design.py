@@ -32,7 +32,7 @@ from .profile import PVISpec, Profile, build_profile
 from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
 from .staking import StakePoints, plan_stakes
-from .stations import Stationing
+from .stations import StationRef, Stationing
 from .units import Unit
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -71,6 +71,9 @@ class Occupation:
         Longest grid distance to one of its stakes (job units); 0 with none.
     first_station, last_station : float or None
         Internal stations of its first and last stakes (None with none).
+    range_from, range_to : float or None
+        The station range the job gives the setup (``from_station``,
+        ``to_station``; internal stations), None without one.
     """
 
     number: int
@@ -84,6 +87,9 @@ class Occupation:
     farthest_sight: float
     first_station: float | None
     last_station: float | None
+    #: The station range the job gives the setup (internal stations; "start"/"end" resolved), or None.
+    range_from: float | None = None
+    range_to: float | None = None
 
     @property
     def backsight_distance(self) -> float | None:
@@ -251,6 +257,13 @@ def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[S
     return stations, rank[plan.setup_index]
 
 
+def _range_internal(ref: StationRef, stationing: Stationing) -> float:
+    """Internal station of a range end: ``"start"``/``"end"`` (read as -inf/+inf) are the alignment's ends."""
+    if math.isinf(ref.value):
+        return stationing.start if ref.value < 0 else stationing.end
+    return stationing.to_internal(ref)
+
+
 def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
                   stationing: Stationing) -> NDArray[np.int64]:
     """Each stake's setup by the station ranges the setups serve (inclusive;
@@ -259,7 +272,7 @@ def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
     spans = []
     for s in stations:
         assert s.from_station is not None and s.to_station is not None
-        lo, hi = stationing.to_internal(s.from_station), stationing.to_internal(s.to_station)
+        lo, hi = _range_internal(s.from_station, stationing), _range_internal(s.to_station, stationing)
         if hi < lo:
             raise JobFileError(f"{s.where}.to_station = {stationing.label(hi)!r}: comes before from_station "
                                f"{stationing.label(lo)!r}")
@@ -364,10 +377,13 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     last_st = np.full(k, -np.inf)
     np.minimum.at(first_st, index, st)
     np.maximum.at(last_st, index, st)
+    ranges = [(None, None) if s.from_station is None or s.to_station is None
+              else (_range_internal(s.from_station, stationing), _range_internal(s.to_station, stationing))
+              for s in stations]
     occupations = tuple(
         Occupation(i + 1, s.occupied, s.backsight, s.backsight_azimuth, bs_az[i], scales[i], s.where,
                    int(counts[i]), float(farthest[i]), float(first_st[i]) if counts[i] else None,
-                   float(last_st[i]) if counts[i] else None)
+                   float(last_st[i]) if counts[i] else None, *ranges[i])
         for i, s in enumerate(stations)
     )
     precision = flagged = tolerance = None

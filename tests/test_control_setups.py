@@ -355,6 +355,33 @@ to_station = "1+186.332"
     assert "instrument height 1.600   target height 2.000 (every setup)" in text
 
 
+def test_setup_range_to_the_end_needed_the_end_station_to_the_last_decimal(tmp_path):
+    """Regression: a listed setup's to_station had to repeat the end station exactly
+    (1+186.332 here); "start" and "end" now stand for the alignment's ends, and the
+    setup summary gives each setup's range, not the first and last stake it serves."""
+    job = write_job(tmp_path, LISTED + """[setup]
+[[setup.station]]
+occupied = "CP03"
+backsight = "CP17"
+from_station = "start"
+to_station = "0+410"
+[[setup.station]]
+occupied = "CP14"
+backsight = "CP21"
+from_station = "0+410"
+to_station = "end"
+""")
+    _build(job, tmp_path / "o")
+    setout = read_rows(tmp_path / "o" / "setout.csv")
+    stations = read_rows(tmp_path / "o" / "stations.csv")
+    for r, s in zip(setout, stations):
+        assert int(r["setup"]) == (1 if float(s["station"]) <= 410.0 else 2)
+    assert float(stations[-1]["station"]) == pytest.approx(1186.332, abs=5e-4)  # the end is served
+    _, summary = _sheet_sections((tmp_path / "o" / "setout.txt").read_text())
+    # setup, occupied, backsight, bs azimuth, bs dist, stakes, farthest, from sta, to sta
+    assert [(row[7], row[8]) for row in summary] == [("0+000.000", "0+410.000"), ("0+410.000", "1+186.332")]
+
+
 def test_listed_setups_nearest(tmp_path):
     job = write_job(tmp_path, LISTED + """[setup]
 [[setup.station]]

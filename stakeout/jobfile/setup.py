@@ -18,6 +18,7 @@ from ..job import CheckSpec, ControlPoint, Scale, Setup, SetupStation
 from ..limits import MAX_HEIGHT
 from ..precision import InstrumentSpec
 from ..textsafety import show_value
+from ..stations import StationRef
 from .control import inline_point
 from .reader import Table, direction, station_ref
 
@@ -102,13 +103,25 @@ def _backsight(t: Table, points: _Points, occupied: ControlPoint, reference: str
     return backsight, bs_az
 
 
+#: Words a station range may use for the alignment's ends (its first and last station,
+#: whatever they print as), so a range need not repeat the end station to the last decimal.
+RANGE_ENDS = {"start": -math.inf, "end": math.inf}
+
+
+def _range_end(value: object, station_length: int, where: str) -> StationRef:
+    """``from_station``/``to_station``: a station as everywhere, or ``"start"``/``"end"``."""
+    if isinstance(value, str) and value.strip().lower() in RANGE_ENDS:
+        return StationRef(RANGE_ENDS[value.strip().lower()], None, where)
+    return station_ref(value, station_length, where)
+
+
 def _station(t: Table, points: _Points, reference: str, reference_given: bool,
              station_length: int) -> SetupStation:
     """One ``[[setup.station]]``: occupied, backsight, and the stations it serves."""
     occupied = points.resolve(t, "occupied", required=True)
     assert occupied is not None
     backsight, bs_az = _backsight(t, points, occupied, reference, reference_given)
-    refs = [None if t.raw(k) is None else station_ref(t.raw(k), station_length, t.key(k))
+    refs = [None if t.raw(k) is None else _range_end(t.raw(k), station_length, t.key(k))
             for k in ("from_station", "to_station")]
     if (refs[0] is None) != (refs[1] is None):
         missing = "to_station" if refs[1] is None else "from_station"

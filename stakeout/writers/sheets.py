@@ -211,8 +211,10 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
             Column("bs dist", ["" if x is None else f"{x:.3f}" for x in dists]),
             Column("stakes", [str(o.stake_count) for o in occs]),
             Column("farthest", [f"{o.farthest_sight:.3f}" for o in occs]),
-            Column("from sta", [lab(o.first_station) for o in occs]),
-            Column("to sta", [lab(o.last_station) for o in occs], with_previous=True)]
+            # the range a setup serves where the job gives one, else its first and last stake
+            Column("from sta", [lab(o.first_station if o.range_from is None else o.range_from) for o in occs]),
+            Column("to sta", [lab(o.last_station if o.range_to is None else o.range_to) for o in occs],
+                   with_previous=True)]
     prec = sdes.precision
     if prec is not None:
         worst = np.zeros(len(occs))
