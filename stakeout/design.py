@@ -18,8 +18,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, overload
+from dataclasses import dataclass, fields
+from typing import TYPE_CHECKING, overload
 
 import numpy as np
 from numpy.typing import NDArray
@@ -38,7 +38,7 @@ from .units import Unit
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
-__all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
+__all__ = ["Design", "Factors", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
            "build_profile_of", "precision_rules_setups"]
 
 
@@ -156,6 +156,34 @@ class SetupDesign:
 
 
 @dataclass(frozen=True)
+class Factors:
+    """The factors a build used, as the manifest records them (``None``: not given, left out).
+
+    ``how`` says where the combined factor came from (``default``: none was
+    given); with several setups only what they share is here (each setup's own
+    are listed in the manifest's setups).  Lengths in job units, angles in degrees.
+    """
+
+    how: str | None = None
+    combined_factor: float | None = None
+    scale_factor: float | None = None
+    elevation_factor: float | None = None
+    radius_m: float | None = None
+    height: float | None = None
+    convergence_deg: float | None = None
+    backsight_grid_azimuth_deg: float | None = None
+
+    def as_dict(self) -> dict[str, str | float]:
+        """The factors given, by name (the manifest's ``factors``)."""
+        out: dict[str, str | float] = {}
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if v is not None:
+                out[f.name] = v
+        return out
+
+
+@dataclass(frozen=True)
 class Design:
     """A computed job, read by every writer."""
 
@@ -168,7 +196,7 @@ class Design:
     warnings: tuple[str, ...] = ()
     crs_label: str | None = None
     proj_version: str | None = None
-    factors: dict[str, Any] = field(default_factory=dict)
+    factors: Factors = Factors()
 
     @property
     def unit(self) -> Unit:
@@ -413,7 +441,7 @@ def build_design(job: Job) -> Design:
         crs_label = grid.label
         proj = proj_version()
     setup_design = None
-    factors: dict[str, Any] = {}
+    factors = Factors()
     warnings: list[str] = list(alignment.warnings)
     if job.setup is not None:
         setup_design = build_setups(job, stakes, stationing, grid)
@@ -425,20 +453,13 @@ def build_design(job: Job) -> Design:
                 warnings.append(f"setup {o.number} ({o.where}, occupied {o.occupied.id}) serves no stake")
         first = setup_design.occupations[0]
         scale = first.scale
-        factors = {k: v for k, v in {
-            "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
-            "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
-            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": first.backsight_azimuth,
-        }.items() if v is not None}
-        if len(setup_design.occupations) > 1:  # per-setup factors are listed in the manifest's setups
-            factors = {"how": scale.how}
-            cfs = {o.scale.combined_factor for o in setup_design.occupations}
-            if len(cfs) == 1:
-                factors["combined_factor"] = scale.combined_factor
-            if scale.height is not None:
-                factors["height"] = scale.height
-        if not job.scale.given:
-            factors["how"] = "default"
+        how = scale.how if job.scale.given else "default"
+        if len(setup_design.occupations) == 1:
+            factors = Factors(how, scale.combined_factor, scale.scale_factor, scale.elevation_factor, scale.radius_m,
+                              scale.height, scale.convergence, first.backsight_azimuth)
+        else:  # per-setup factors are listed in the manifest's setups
+            shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
+            factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
                   crs_label=crs_label,
                   proj_version=proj, factors=factors)

@@ -365,7 +365,8 @@ def _offset_rows(alignment: Alignment, el: Element, stations: np.ndarray, o: flo
 def _offset_length(el: Element, s: np.ndarray, o: float) -> np.ndarray:
     """Length along an offset line from the element's start: integral of (1 - k(s) o) ds."""
     k0, k1 = el.curvature_start, el.curvature_end
-    return s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
+    out: np.ndarray = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
+    return out
 
 
 def deflection_sheet(d: Design, wide: bool = False) -> str:
