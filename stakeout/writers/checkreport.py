@@ -12,7 +12,7 @@ from ..check import STATUSES, CheckResult
 from ..design import Design
 from ..shots import Shots
 from .checkwords import cut_fill, move_decimals, move_text, status_text, target_id, what_to_do
-from .csvtext import DECIMALS, csv_field, csv_text
+from .csvtext import DECIMALS, csv_text, csv_text_field
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
@@ -21,7 +21,9 @@ __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
                  # added columns
-                 "matched_by", "northing", "easting", "line", "fails", "governing_line")
+                 "matched_by", "northing", "easting", "line", "fails", "governing_line",
+                 # second set
+                 "d_along", "d_across", "alignment")
 #: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
 NOT_STAKED_LISTED = 400
 _CHUNK_ROWS = 16384
@@ -31,11 +33,6 @@ def _f(v: float, d: int = DECIMALS) -> str:
     return finite_or_empty(v, d)
 
 
-def _shot_id(pid: str) -> str:
-    """A shot id from the field as a CSV field that no spreadsheet runs as a formula."""
-    if pid[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        pid = "'" + pid
-    return csv_field(pid)
 
 
 def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
@@ -47,15 +44,17 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     line of the shot that governs its design point.
     """
     station = d.stationing.station
+    name = csv_text_field(d.alignment.name)
     out = []
     for k in range(len(shots)):
         g = int(r.related[k])
         out.append(",".join([
-            _shot_id(shots.point[k]), csv_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
+            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
             _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
             _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
             str(shots.line[g]) if g >= 0 else "",
+            _f(r.d_along[k]), _f(r.d_across[k]), name if r.design_index[k] >= 0 else "",
         ]))
     return csv_text(CHECK_COLUMNS, out).encode("utf-8")
 
@@ -144,8 +143,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
                 Column("station", [station_label(r.station[k]) for k in ks]),
                 Column("offset", [_fit(r.offset[k], 9, 3) for k in ks]),
                 Column("horiz", [_fit(r.horizontal_error[k], 7, 3) for k in ks]),
-                Column("d along", [_fit(r.d_station[k], 8, 3) for k in ks]),
-                Column("d across", [_fit(r.d_offset[k], 8, 3) for k in ks], with_previous=True)]
+                Column("d along", [_fit(r.d_along[k], 8, 3) for k in ks]),
+                Column("d across", [_fit(r.d_across[k], 8, 3) for k in ks], with_previous=True)]
         if np.isfinite(r.d_elevation[ks]).any():  # no column of blanks where no shot has a height
             cols.append(Column("d elev", [_fit(r.d_elevation[k], 7, 3) for k in ks]))
         if with_grade:
@@ -216,14 +215,14 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         foot.append(f"~: the end of a shot id cut to {ID_PRINTED} characters (check.csv holds it whole)")
     foot += [
         "move: from where the stake was shot to design, looking up-station: ahead/back",
-        "  along the line, right/left square to it, down/up for its top",
-        "  (ahead = design station - shot station)",
+        "  along the line, right/left square to it at the stake (ground distances),",
+        "  down/up for its top",
         "status out (horizontal / vertical / both): which tolerance the shot fails",
         "* matched by position: the shot's number is not a design point (renumbered),",
         "  so it was matched to the nearest design or control point within the search",
         "  radius",
         "control: a shot on a control point of the job, against the control coordinates",
-        "d along / d across: the shot's station / offset minus the design point's;",
+        "d along / d across: the residual along / square to the line at the stake;",
         "  d = staked - design; northing and easting residuals are in check.csv",
     ]
     return paged_parts(out, parts, title, foot, width).encode("utf-8")

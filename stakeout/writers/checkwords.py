@@ -60,21 +60,22 @@ def move_decimals(is_feet: bool, horizontal_tolerance: float) -> int:
     return dec
 
 
-def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal: bool, vertical: bool,
+def move_text(d_along: float, d_across: float, d_elevation: float, horizontal: bool, vertical: bool,
               decimals: int) -> str:
     """The correction of a stake in the crew's terms, looking up-station.
 
-    The stake moves from where it was shot to design: along = design
-    station - shot station (``ahead`` when positive, ``back`` when
-    negative), across = design offset - shot offset (``right``/``left``),
-    and, for a vertical failure, its top ``down`` (shot above design) or
-    ``up``.  Components that round to zero are left out.
+    The stake moves from where it was shot to design, by ground distances
+    along and square to the alignment's direction at the stake (never
+    station differences, which differ on an offset line of a curve):
+    ``ahead`` or ``back``, ``right`` or ``left``, and, for a vertical
+    failure, its top ``down`` (shot above design) or ``up``.  Components
+    that round to zero are left out.
 
     Parameters
     ----------
-    d_station, d_offset, d_elevation : float
-        Shot minus design: station (internal stations), offset (negative
-        left) and elevation, job units.
+    d_along, d_across, d_elevation : float
+        Shot minus design: along and square to the alignment at the stake
+        (ground distances, positive ahead and right) and elevation, job units.
     horizontal, vertical : bool
         Which tolerances the shot fails: only those parts are given.
     decimals : int
@@ -82,13 +83,12 @@ def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal:
     """
     parts = []
     if horizontal:
-        for v, plus, minus in ((-d_station, "ahead", "back"), (-d_offset, "right", "left")):
+        for v, plus, minus in ((-d_along, "ahead", "back"), (-d_across, "right", "left")):
             if math.isfinite(v) and round(abs(v), decimals) > 0:
                 parts.append(f"{abs(v):.{decimals}f} {plus if v > 0 else minus}")
     if vertical and math.isfinite(d_elevation) and round(abs(d_elevation), decimals) > 0:
         parts.append(f"{abs(d_elevation):.{decimals}f} {'down' if d_elevation > 0 else 'up'}")
     return "move " + ", ".join(parts) if parts else ""
-
 
 
 def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
@@ -103,7 +103,7 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
     governor = f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
     if s == "out":
         f = r.fails[k]
-        what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
+        what = move_text(r.ground_along[k], r.ground_across[k], r.d_elevation[k], f in ("horizontal", "both"),
                          f in ("vertical", "both"), move_decimals(d.unit.is_feet, r.horizontal_tolerance))
         return f"{what or 'reset it'}{by_position}"
     if s == "duplicate":
