@@ -18,13 +18,14 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import TYPE_CHECKING, Any, overload
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment, build_alignment
+from .crosssection import SectionPlan, plan_sections
 from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation
 from .precision import Precision, flag_exceeding, predict_precision
@@ -163,6 +164,8 @@ class Design:
     crs_label: str | None = None
     proj_version: str | None = None
     factors: dict[str, Any] = field(default_factory=dict)
+    #: The cross-section: superelevation rows, template lines, widening (None: not computed).
+    sections: SectionPlan | None = None
 
     @property
     def unit(self) -> Unit:
@@ -369,7 +372,9 @@ def build_design(job: Job) -> Design:
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
     profile = build_profile_of(job, stationing)
-    stakes = plan_stakes(alignment, job.staking, stationing, profile)
+    sections = plan_sections(job.staking.offsets, job.superelevation, stationing)
+    staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
+    stakes = plan_stakes(alignment, staking, stationing, profile, sections)
     grid = crs_label = proj = None
     unit = job.info.unit
     if job.info.crs is not None:
@@ -406,5 +411,5 @@ def build_design(job: Job) -> Design:
         if not job.scale.given:
             factors["how"] = "default"
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
-                  crs_label=crs_label,
+                  sections=sections, crs_label=crs_label,
                   proj_version=proj, factors=factors)
