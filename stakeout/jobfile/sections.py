@@ -67,7 +67,7 @@ def _widening(raw: list[Any], where: str, info: JobInfo) -> tuple[WideningRow, .
         if not isinstance(item, dict):
             raise JobFileError(f"{w} = {show_value(item)}: expected {{station = ..., offset = ...}}")
         t = Table(item, w, ("station", "offset"))
-        off = check_length(t.raw("offset", required=True), t.key("offset"), signed=True)
+        off = check_length(t.raw("offset", required=True), t.key("offset"), signed=True, allow_zero=True)
         if off == 0.0:
             raise JobFileError(f"{t.key('offset')} = {show_value(item['offset'])}: a widened line cannot reach "
                                "the centreline (offset 0)")
@@ -116,7 +116,8 @@ def read_offset_line(item: dict[str, Any], where: str, info: JobInfo) -> OffsetL
                                "side and no slope")
     for k, on in (("steepen_with_inner", steepen), ("rollover", rollover is not None)):
         if on and raw_slope is None:
-            raise JobFileError(f"{o.key(k)} = {show_value(o.raw(k))}: needs the line's own `cross_slope`")
+            shown = "true" if o.raw(k) is True else show_value(o.raw(k))
+            raise JobFileError(f"{o.key(k)} = {shown}: needs the line's own `cross_slope`")
     return OffsetLine(off + 0.0, code, dz, slope, superelevation=superelevation, from_code=from_code,
                       steepen_with_inner=steepen, rollover=rollover, widening=widening, where=where)
 
