@@ -103,6 +103,12 @@ def _profile_picture(d: "Design", done: Rendered) -> bytes:
     return profile_svg(d)
 
 
+def _superelevation_picture(d: "Design", done: Rendered) -> bytes:
+    from .writers.sections import superelevation_svg
+
+    return superelevation_svg(d)
+
+
 def _setout(d: "Design", done: Rendered) -> bytes:
     from .writers.tables import setout_csv
 
@@ -166,6 +172,9 @@ OUTPUTS: tuple[Output, ...] = (
     Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
     Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
            _profile_picture, needs_profile=True),
+    Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
+           "against station, key points and SE rows", _superelevation_picture,
+           applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),

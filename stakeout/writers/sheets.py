@@ -20,6 +20,7 @@ from ..design import Design, Occupation
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
+from .sections import slope_column
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
                    side_text, table_lines, turn_word, wrap_lines)
 
@@ -123,6 +124,9 @@ def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
             Column("grnd dist", fixed(so.ground_distance, 3))]
     if stakes.elevation is not None:
         cols.append(Column("design el", fixed(stakes.elevation, 3)))
+        slope = slope_column(d) if width is None else None  # the wide layout only
+        if slope is not None:
+            cols.append(slope)
     if so.zenith is not None and so.slope_distance is not None:
         cols.append(Column("zenith", _texts(format_dms(so.zenith, 0))))
         cols.append(Column("slope dist", fixed(so.slope_distance, 3), with_previous=True))
