@@ -469,3 +469,27 @@ def test_rows_from_a_design_file_period():
         rows_from_design_file([SuperelevationPeriod(1.0, 2.0, None, 4.0, 5.0, 6.0, 4.0, True, "S")], 2.0)
     with pytest.raises(JobFileError, match="out of order"):
         rows_from_design_file([SuperelevationPeriod(1.0, 9.0, 3.0, 4.0, 5.0, 6.0, 4.0, True, "S")], 2.0)
+
+
+def test_pi_list_with_spirals_and_a_full_transition(tmp_path):
+    # a spiralled curve (60 m spirals): slopes and elevations by the hand computation; positions by what any
+    # offset stake must satisfy (common practice: offsets are square to the centreline): every stake of a
+    # station lies on one line through the centreline stake, at its offset's distance, left and right opposite
+    rows = _rows_for(1)
+    text = job_toml(TEMPLATE, rows).replace("radius = 300.0", "radius = 300.0\nspirals = [60.0, 60.0]")
+    out = build_job(write_job(tmp_path, text), tmp_path / "out")
+    hand = Hand(TEMPLATE, rows)
+    by_station: dict[str, dict[str, dict]] = {}
+    for r in read_rows(out / "stations.csv"):
+        off, slope, z = hand.stake(r["code"], float(r["station"]))
+        assert float(r["elevation"]) == pytest.approx(z, abs=TOL), r
+        assert (r["cross_slope"] == "") if slope is None else float(r["cross_slope"]) == pytest.approx(slope, abs=TOL)
+        by_station.setdefault(r["station"], {})[r["code"]] = r
+    assert {"TS", "SC", "CS", "ST"} <= {f for s in by_station.values() for f in s["CL"]["feature"].split()}
+    for stakes in by_station.values():
+        c = complex(float(stakes["CL"]["easting"]), float(stakes["CL"]["northing"]))
+        vec = {k: complex(float(r["easting"]), float(r["northing"])) - c for k, r in stakes.items() if k != "CL"}
+        for k, v in vec.items():
+            assert abs(v) == pytest.approx(abs(float(stakes[k]["offset"])), abs=TOL)
+            assert abs((v.conjugate() * vec["EPR"]).imag) <= TOL * (abs(v) + abs(vec["EPR"]))
+        assert (vec["EPL"].conjugate() * vec["EPR"]).real < 0
