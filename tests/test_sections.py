@@ -493,3 +493,26 @@ def test_pi_list_with_spirals_and_a_full_transition(tmp_path):
             assert abs(v) == pytest.approx(abs(float(stakes[k]["offset"])), abs=TOL)
             assert abs((v.conjugate() * vec["EPR"]).imag) <= TOL * (abs(v) + abs(vec["EPR"]))
         assert (vec["EPL"].conjugate() * vec["EPR"]).real < 0
+
+
+def test_widened_lines_drawn_as_polylines(tmp_path):
+    # ezdxf reading back and shapely measuring: each widened line is one polyline on SO-OFFSET through every
+    # one of its stakes (within a millimetre), not a parallel offset; the plan picture draws it as a path too
+    import ezdxf
+    from shapely.geometry import LineString, Point
+
+    lines = [
+        {"code": "CL", "offset": 0.0},
+        {"code": "EPR", "cross_slope": -2.0, "offset": [("0+120", 3.5), ("0+160", 6.0)]},
+        {"code": "SHR", "from": "EPR", "cross_slope": -4.0, "offset": [("0+120", 5.0), ("0+160", 7.5)]},
+    ]
+    out = build_job(write_job(tmp_path, job_toml(lines, [])), tmp_path / "out")
+    doc = ezdxf.readfile(out / "plan.dxf")
+    polys = [LineString([(p[0], p[1]) for p in e.get_points("xy")])
+             for e in doc.modelspace().query('LWPOLYLINE[layer=="SO-OFFSET"]')]
+    assert len(polys) == 2
+    for r in read_rows(out / "stations.csv"):
+        if r["code"] != "CL":
+            pt = Point(float(r["easting"]), float(r["northing"]))
+            assert min(p.distance(pt) for p in polys) < 0.001, r
+    assert (out / "plan.svg").read_text().count('class="so-offset"') == 2

@@ -14,10 +14,15 @@ from html import escape
 
 import numpy as np
 
+from ..crosssection import section
 from ..design import Design
 from .text import Column
 
-__all__ = ["superelevation_svg", "transition_lines", "slope_column"]
+__all__ = ["superelevation_svg", "transition_lines", "slope_column", "widened_traces", "TRACE_TOLERANCE"]
+
+#: Largest distance (job units) between a drawn widened line and its chords.
+TRACE_TOLERANCE = 0.0005
+_MAX_TRACE_POINTS = 100_000
 
 _W, _H = 1400, 520  # drawing size, pixels
 _LEFT, _RIGHT, _TOP, _BOTTOM = 80, 30, 80, 110
@@ -32,6 +37,33 @@ def slope_column(d: Design) -> Column | None:
     if sl is None or not np.isfinite(sl).any():
         return None
     return Column("slope %", ["" if math.isnan(v) else f"{round(v, 2) + 0.0:.2f}" for v in sl.tolist()])
+
+
+def widened_traces(d: Design) -> list[tuple[str, np.ndarray, np.ndarray]]:
+    """Each widened line as a polyline: (code, northing, easting) through every widening row's
+    station, every element end and enough stations between for chords within
+    :data:`TRACE_TOLERANCE` of the line (the offset is linear between rows).
+    """
+    plan, a = d.sections, d.alignment
+    if plan is None or not plan.widened:
+        return []
+    k = max([abs(el.curvature_start) for el in a.elements] + [abs(el.curvature_end) for el in a.elements])
+    wide = max(abs(o) for off in plan.widen_offsets if off is not None for o in off.tolist())
+    k = k / max(1e-9, 1.0 - k * wide)
+    step = math.sqrt(8.0 * TRACE_TOLERANCE / k) if k > 0 else a.length
+    count = int(min(_MAX_TRACE_POINTS, max(2, math.ceil(a.length / max(step, 1e-12)) + 1)))
+    lo, hi = a.start_station, a.end_station
+    rows = np.concatenate([s for s in plan.widen_stations if s is not None])
+    s = np.unique(np.concatenate([np.linspace(lo, hi, count), [el.start for el in a.elements], [hi],
+                                  rows[(rows > lo) & (rows < hi)]]))
+    offsets = section(plan, s, None).offset
+    out = []
+    for j, ol in enumerate(plan.lines):
+        if plan.widen_stations[j] is None:
+            continue
+        n, e, _ = a.evaluate(s, offsets[:, j], miter=False)
+        out.append((ol.code, n, e))
+    return out
 
 
 def transition_lines(d: Design) -> list[str]:
