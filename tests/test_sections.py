@@ -516,3 +516,30 @@ def test_widened_lines_drawn_as_polylines(tmp_path):
             pt = Point(float(r["easting"]), float(r["northing"]))
             assert min(p.distance(pt) for p in polys) < 0.001, r
     assert (out / "plan.svg").read_text().count('class="so-offset"') == 2
+
+
+def test_outputs_show_the_sections(tmp_path):
+    # lxml (reference parser) reads the diagram: both sides drawn through every row, each SE row marked;
+    # the report holds the table and each stake's slope; `stakeout curve` lists the rows; same bytes twice
+    from lxml import etree
+    from typer.testing import CliRunner
+
+    from stakeout.cli import app
+
+    rows = _rows_for(1)
+    job = write_job(tmp_path, job_toml(TEMPLATE, rows))
+    out = build_job(job, tmp_path / "out")
+    svg = etree.fromstring((out / "superelevation.svg").read_bytes())
+    ns = {"s": "http://www.w3.org/2000/svg"}
+    assert len(svg.findall(".//s:polyline", ns)) == 2
+    left = svg.find('.//s:polyline[@class="left"]', ns).get("points").split()
+    assert len(left) == len(rows) + 2  # the rows and the two ends
+    assert len(svg.findall('.//s:line[@class="se"]', ns)) == len(rows)
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert "<h2>Superelevation</h2>" in html and "slope %" in html
+    assert html.count("<td class=\"n\">6.0000</td>") == 2  # the two full-superelevation rows, left side
+    r = CliRunner().invoke(app, ["curve", str(job)])
+    assert r.exit_code == 0 and "SUPERELEVATION" in r.stdout and "0+160.000    2.0000   -2.0000" in r.stdout
+    again = build_job(job, tmp_path / "again")
+    for name in ("superelevation.svg", "stations.csv", "report.html", "plan.dxf"):
+        assert (out / name).read_bytes() == (again / name).read_bytes()

@@ -18,7 +18,8 @@ from ..crosssection import section
 from ..design import Design
 from .text import Column
 
-__all__ = ["superelevation_svg", "transition_lines", "slope_column", "widened_traces", "TRACE_TOLERANCE"]
+__all__ = ["superelevation_svg", "transition_lines", "slope_column", "slope_texts", "superelevation_table",
+           "uses_sections", "widened_traces", "TRACE_TOLERANCE"]
 
 #: Largest distance (job units) between a drawn widened line and its chords.
 TRACE_TOLERANCE = 0.0005
@@ -29,14 +30,43 @@ _LEFT, _RIGHT, _TOP, _BOTTOM = 80, 30, 80, 110
 _LEFT_COLOUR, _RIGHT_COLOUR = "#1f5fa8", "#b8321f"
 
 
+def _slopes(d: Design) -> list[str] | None:
+    sl = d.stakes.slope
+    if sl is None or not np.isfinite(sl).any():
+        return None
+    return ["" if math.isnan(v) else f"{round(v, 2) + 0.0:.2f}" for v in sl.tolist()]
+
+
+def uses_sections(d: Design) -> bool:
+    """True when the job has a superelevation table or a template line (``from``,
+    ``"superelevation"``, ``steepen_with_inner``, ``rollover``, widening).
+    """
+    plan = d.sections
+    return plan is not None and (plan.has_table or any(ol.template for ol in plan.lines))
+
+
 def slope_column(d: Design) -> Column | None:
     """``slope %``: the cross slope applied to each stake (empty for the centreline and
     ``dz`` lines); None when no stake has one.
     """
-    sl = d.stakes.slope
-    if sl is None or not np.isfinite(sl).any():
-        return None
-    return Column("slope %", ["" if math.isnan(v) else f"{round(v, 2) + 0.0:.2f}" for v in sl.tolist()])
+    texts = _slopes(d)
+    return None if texts is None else Column("slope %", texts)
+
+
+def slope_texts(d: Design) -> list[str] | None:
+    """The slope of each stake (percent, 2 decimals) for the report of a job that uses
+    cross-sections; None otherwise (other jobs' reports are unchanged).
+    """
+    return _slopes(d) if uses_sections(d) else None
+
+
+def superelevation_table(d: Design) -> list[list[str]]:
+    """The superelevation rows: station, left and right slope (percent, 4 decimals)."""
+    plan = d.sections
+    if plan is None or not plan.has_table:
+        return []
+    return [[d.stationing.label(s), f"{left:.4f}", f"{right:.4f}"]
+            for s, left, right in zip(plan.se_stations.tolist(), plan.se_left.tolist(), plan.se_right.tolist())]
 
 
 def widened_traces(d: Design) -> list[tuple[str, np.ndarray, np.ndarray]]:

@@ -376,7 +376,7 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent")
     head.append("(zero on the PI or the back tangent), turn the deflection toward the curve")
     head.append("and tape the chord.")
-    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0]
+    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0 and not ol.widening]
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     spirals = False
     # the sheet in order: a title (str) opens each element and offset line, then its data rows
