@@ -21,17 +21,18 @@ stations as plain numbers.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .errors import JobFileError
-from .job import OffsetLine, SuperelevationRow
+from .alignment import Alignment
+from .job import OffsetLine, SuperelevationFile, SuperelevationPeriod, SuperelevationRow
 from .stations import Stationing
 
 __all__ = ["SectionPlan", "Section", "plan_sections", "section", "side_slopes", "line_slope",
-           "SuperelevationPeriod", "DerivedRow", "rows_from_design_file", "ORDER_TOLERANCE"]
+           "SuperelevationPeriod", "DerivedRow", "rows_from_design_file", "derive_rows", "ORDER_TOLERANCE"]
 
 F = NDArray[np.float64]
 
@@ -109,7 +110,7 @@ def _line_offsets(stations: F, widen_st: F | None, widen_off: F | None, offset: 
     return np.interp(stations, widen_st, widen_off)
 
 
-def plan_sections(lines: Sequence[OffsetLine], rows: Sequence[SuperelevationRow],
+def plan_sections(lines: Sequence[OffsetLine], rows: Sequence[SuperelevationRow | DerivedRow],
                   stationing: Stationing) -> SectionPlan:
     """Resolve rows and lines on the stationing: order them, check what needs the alignment.
 
@@ -120,7 +121,8 @@ def plan_sections(lines: Sequence[OffsetLine], rows: Sequence[SuperelevationRow]
         cross (a line's |offset| leaves the range between its neighbours'),
         or a line measured ``from`` one that is not nearer the centreline.
     """
-    se_st = np.array([stationing.to_internal(r.station) for r in rows], dtype=np.float64)
+    se_st = np.array([r.station if isinstance(r, DerivedRow) else stationing.to_internal(r.station)
+                      for r in rows], dtype=np.float64)  # rows from a design file are at internal stations
     _increasing(se_st, [r.where for r in rows], [stationing.label(float(s)) for s in se_st], "superelevation")
     wst: list[F | None] = []
     woff: list[F | None] = []
@@ -269,28 +271,6 @@ def section(plan: SectionPlan, stations: F, centre: F | None) -> Section:
 
 
 @dataclass(frozen=True)
-class SuperelevationPeriod:
-    """One design file ``<Superelevation>`` element, as plain numbers.
-
-    Stations are internal stations (job units); ``full_superelevation`` is
-    ``FullSuperelev`` in percent; ``outside_left`` says which side is the
-    outside of the curve in force at ``full_super`` (the side away from its
-    centre: the left on a curve turning right).  A station the element does
-    not give is None.  ``where`` names the element in messages.
-    """
-
-    begin_runout: float | None
-    begin_runoff: float | None
-    full_super: float | None
-    runoff: float | None
-    start_of_runout: float | None
-    end_of_runout: float | None
-    full_superelevation: float | None
-    outside_left: bool
-    where: str
-
-
-@dataclass(frozen=True)
 class DerivedRow:
     """A superelevation row derived from a design file: internal station, slopes, its source."""
 
@@ -325,6 +305,8 @@ def rows_from_design_file(periods: Sequence[SuperelevationPeriod], normal_crown:
         for name, v in zip(names, sts):
             if v is None:
                 raise JobFileError(f"{p.where}: {name} missing; every transition station is needed to stake it")
+        if p.outside_left is None:
+            raise JobFileError(f"{p.where}: which side is the outside is not known (see derive_rows)")
         if p.full_superelevation is None:
             raise JobFileError(f"{p.where}: FullSuperelev missing")
         b0, b1, f0, f1, s0, s1 = (float(v) for v in sts)  # type: ignore[arg-type]
@@ -353,3 +335,24 @@ def rows_from_design_file(periods: Sequence[SuperelevationPeriod], normal_crown:
                 raise JobFileError(f"{r.where}: overlaps the transition before it ({out[-1].where})")
             out.append(r)
     return out
+
+
+def derive_rows(source: SuperelevationFile, alignment: Alignment) -> list[DerivedRow]:
+    """The rows of a design file's ``<Superelevation>`` elements, each element's outside taken
+    from the turn of the alignment's element at its ``FullSuperSta`` where the reader left it open.
+
+    Raises
+    ------
+    JobFileError
+        ``FullSuperSta`` on a tangent (no curve, so no outside), or as :func:`rows_from_design_file`.
+    """
+    periods = []
+    for p in source.periods:
+        if p.outside_left is None and p.full_super is not None:
+            el = alignment.elements[int(alignment.element_at(p.full_super))]
+            if not el.turn:
+                raise JobFileError(f"{p.where}: FullSuperSta {p.full_super:.4f} lies on a tangent; the outside of "
+                                   "the curve cannot be told")
+            p = replace(p, outside_left=el.turn > 0)  # a curve turning right has its centre on the right
+        periods.append(p)
+    return rows_from_design_file(periods, source.normal_crown)

@@ -25,9 +25,9 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment, build_alignment
-from .crosssection import SectionPlan, plan_sections
+from .crosssection import DerivedRow, SectionPlan, derive_rows, plan_sections
 from .errors import GeometryError, JobFileError
-from .job import ControlPoint, Job, Setup, SetupStation
+from .job import ControlPoint, Job, Setup, SetupStation, SuperelevationRow
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
 from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
@@ -39,7 +39,7 @@ from .units import Unit
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
-__all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
+__all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing", "build_sections",
            "build_profile_of"]
 
 
@@ -176,6 +176,16 @@ class Design:
     def design_elevation(self) -> np.ndarray | None:
         """Design elevation of every stake, or ``None`` when the job gives none."""
         return self.stakes.elevation
+
+
+def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> SectionPlan:
+    """The job's cross-section: its ``[[superelevation]]`` rows, or the rows of the design
+    file's ``<Superelevation>`` elements (:func:`~stakeout.crosssection.derive_rows`), and its lines.
+    """
+    rows: Sequence[SuperelevationRow | DerivedRow] = job.superelevation
+    if job.superelevation_file is not None:
+        rows = derive_rows(job.superelevation_file, alignment)
+    return plan_sections(job.staking.offsets, rows, stationing)
 
 
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
@@ -372,7 +382,7 @@ def build_design(job: Job) -> Design:
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
     profile = build_profile_of(job, stationing)
-    sections = plan_sections(job.staking.offsets, job.superelevation, stationing)
+    sections = build_sections(job, alignment, stationing)
     staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
     stakes = plan_stakes(alignment, staking, stationing, profile, sections)
     grid = crs_label = proj = None

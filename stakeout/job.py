@@ -15,6 +15,7 @@ from .stations import StationRef
 from .units import Unit
 
 __all__ = ["Job", "JobInfo", "OffsetLine", "WideningRow", "SuperelevationRow", "SuperelevationFile",
+           "SuperelevationPeriod",
             "Staking", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
            "ProfilePVI", "ProfileInput", "DesignFile", "InstrumentSpec"]
 
@@ -50,13 +51,40 @@ class SuperelevationRow:
 
 
 @dataclass(frozen=True)
+class SuperelevationPeriod:
+    """One design file ``<Superelevation>`` element, as plain numbers.
+
+    Stations are internal stations (job units); ``full_superelevation`` is
+    ``FullSuperelev`` in percent; ``outside_left`` says which side is the
+    outside of the curve in force at ``full_super`` (the side away from its
+    centre: the left on a curve turning right), None to take it from the
+    alignment.  A station the element does not give is None.  ``where``
+    names the element in messages.
+    """
+
+    begin_runout: float | None
+    begin_runoff: float | None
+    full_super: float | None
+    runoff: float | None
+    start_of_runout: float | None
+    end_of_runout: float | None
+    full_superelevation: float | None
+    outside_left: bool | None
+    where: str
+
+
+@dataclass(frozen=True)
 class SuperelevationFile:
-    """``[superelevation] landxml = ...``: the design file's ``<Superelevation>`` elements, read
-    with ``normal_crown`` (percent).  Hook for the LandXML reader (not wired yet).
+    """``[superelevation] landxml = ...``: the design file's ``<Superelevation>`` elements
+    (``periods``, read by the LandXML reader) with ``normal_crown`` (percent).
+
+    Hook: the reader does not fill ``periods`` yet (the job file refuses the
+    key); :func:`stakeout.crosssection.derive_rows` turns them into rows.
     """
 
     landxml: str
     normal_crown: float
+    periods: tuple[SuperelevationPeriod, ...] = ()
 
 
 @dataclass(frozen=True)

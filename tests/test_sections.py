@@ -543,3 +543,36 @@ def test_outputs_show_the_sections(tmp_path):
     again = build_job(job, tmp_path / "again")
     for name in ("superelevation.svg", "stations.csv", "report.html", "plan.dxf"):
         assert (out / name).read_bytes() == (again / name).read_bytes()
+
+
+def test_design_file_rows_through_the_design(tmp_path):
+    # the hook for <Superelevation>: periods as the LandXML reader will hand them (outside left open), the
+    # outside taken from the curve's turn at FullSuperSta.  Issue 22's trial figures: 4 % full superelevation,
+    # normal crown 2.5 %, a 3.75 m lane on the outside (the right, the curve turns left): CL + 0.150 at full
+    from dataclasses import replace
+
+    from stakeout.design import build_design
+    from stakeout.jobfile import parse_job
+    from stakeout.job import SuperelevationFile, SuperelevationPeriod
+
+    lines = [{"code": "EPL", "offset": -3.75, "cross_slope": "se"}, {"code": "CL", "offset": 0.0},
+             {"code": "EPR", "offset": 3.75, "cross_slope": "se"}]
+    text = job_toml(lines, [("0+000", -2.5, -2.5)], turn=-1)
+    job = parse_job(text.encode("utf-8"), str(tmp_path / "job.toml"))
+    period = SuperelevationPeriod(100.0, 130.0, 220.0, 300.0, 360.0, 390.0, 4.0, None, "Superelevation[0]")
+    job = replace(job, superelevation=(), superelevation_file=SuperelevationFile("d.xml", 2.5, (period,)))
+    d = build_design(job)
+    assert d.sections is not None
+    # rows: 100 (-2.5, -2.5), 130 outside level, reverse crown at 130 + 90 x 2.5/4, 220 full, 300 full,
+    # reverse crown at 300 + 60 x 1.5/4, 360 outside level, 390 normal crown; the right is the outside
+    assert d.sections.se_stations.tolist() == pytest.approx([100.0, 130.0, 186.25, 220.0, 300.0, 322.5, 360.0,
+                                                             390.0])
+    assert d.sections.se_right.tolist() == [-2.5, 0.0, 2.5, 4.0, 4.0, 2.5, 0.0, -2.5]
+    assert d.sections.se_left.tolist() == [-2.5, -2.5, -2.5, -4.0, -4.0, -2.5, -2.5, -2.5]
+    sp = d.stakes
+    assert sp.elevation is not None
+    k = int(np.flatnonzero(sp.stations == 260.0)[0])
+    z = sp.elevation.reshape(-1, 3)[k]
+    assert z[2] - z[1] == pytest.approx(0.150, abs=1e-12) and z[0] - z[1] == pytest.approx(-0.150, abs=1e-12)
+    feats = dict(zip(sp.stations.tolist(), sp.features))
+    assert all("SE" in feats[s].split() for s in d.sections.se_stations.tolist())
