@@ -17,7 +17,7 @@ from ..errors import JobFileError
 from ..job import JobInfo, OffsetLine, SuperelevationFile, SuperelevationRow, WideningRow
 from ..limits import MAX_CROSS_SLOPE, MAX_HEIGHT, MAX_ROLLOVER, check_length
 from ..textsafety import show_value
-from .reader import Table, check_safe_text, kind_of, station_ref
+from .reader import Table, check_safe_text, station_ref
 
 __all__ = ["OFFSET_KEYS", "read_offset_line", "check_template_lines", "read_superelevation", "percent"]
 
@@ -30,21 +30,15 @@ SUPERELEVATION = "superelevation"
 def percent(t: Table, k: str, bound: float = MAX_CROSS_SLOPE, required: bool = False,
             nonnegative: bool = False) -> float | None:
     """A slope or slope difference in percent, within +-``bound``."""
-    v = t.raw(k, required)
-    if v is None:
+    x = t.number(k, required, bound=math.inf)  # a finite number, named in the error if not
+    if x is None:
         return None
-    if isinstance(v, bool) or not isinstance(v, (int, float)):
-        raise JobFileError(f"{t.key(k)} = {show_value(v)}: expected a number (percent), got {kind_of(v)}")
-    try:
-        x = float(v)
-    except OverflowError:  # a whole number beyond every float
-        x = math.inf
-    if not math.isfinite(x) or abs(x) > bound:
+    if abs(x) > bound:
         lo = "0" if nonnegative else f"-{bound:g}"
-        raise JobFileError(f"{t.key(k)} = {show_value(v)}: out of range; it must lie within {lo} to {bound:g} "
+        raise JobFileError(f"{t.key(k)} = {show_value(t.raw(k))}: out of range; it must lie within {lo} to {bound:g} "
                            "percent")
     if nonnegative and x < 0:
-        raise JobFileError(f"{t.key(k)} = {show_value(v)}: must be 0 or more (percent)")
+        raise JobFileError(f"{t.key(k)} = {show_value(t.raw(k))}: must be 0 or more (percent)")
     return x + 0.0
 
 
