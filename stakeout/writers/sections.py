@@ -164,7 +164,7 @@ def superelevation_svg(d: Design) -> bytes:
         y = py(k)
         parts.append(f'<line x1="{_LEFT}" y1="{_f(y)}" x2="{_W - _RIGHT}" y2="{_f(y)}" stroke="'
                      f'{"#444" if k == 0 else "#ddd"}" stroke-width="{1.2 if k == 0 else 0.6}"/>')
-        parts.append(f'<text x="{_LEFT - 8}" y="{_f(y + 4)}" text-anchor="end">{k:+d} %</text>')
+        parts.append(f'<text x="{_LEFT - 8}" y="{_f(y + 4)}" text-anchor="end">{k:+d} %</text>'.replace("+0 %", "0 %"))
     for kp in al.key_points:  # key points of the alignment along the top
         x = px(kp.station)
         parts.append(f'<line x1="{_f(x)}" y1="{_TOP}" x2="{_f(x)}" y2="{_f(_TOP + plot_h)}" stroke="#999" '
