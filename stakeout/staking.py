@@ -285,18 +285,6 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
             "(shorten the prefix or lower staking.first_point)")
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     check_offsets(alignment, staking)
-    st = np.repeat(stations, offs.size)
-    sec = None
-    if sections is not None and sections.widened:
-        sec = section(sections, stations, None)
-        of = sec.offset.ravel()
-    else:
-        of = np.tile(offs, stations.size)
-    n, e, az = alignment.evaluate(st, of)
-    # Round once to the point file's decimals: every output (points, setout,
-    # plan, check) then works from exactly the coordinates the crew loads.
-    n = round_to(n, COORDINATE_DECIMALS)
-    e = round_to(e, COORDINATE_DECIMALS)
     centre: NDArray[np.float64] | None = None
     if profile is not None:
         off = ~profile.covers(stations)
@@ -308,10 +296,19 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         centre = profile.elevation(stations)
     elif staking.elevation is not None:
         centre = np.full(stations.size, staking.elevation)
+    # the cross-section once: offsets of widened lines, each stake's slope and elevation
+    sec = section(sections, stations, centre) if sections is not None else None
+    st = np.repeat(stations, offs.size)
+    widened = sec is not None and sections is not None and sections.widened
+    of = sec.offset.ravel() if widened and sec is not None else np.tile(offs, stations.size)
+    n, e, az = alignment.evaluate(st, of)
+    # Round once to the point file's decimals: every output (points, setout,
+    # plan, check) then works from exactly the coordinates the crew loads.
+    n = round_to(n, COORDINATE_DECIMALS)
+    e = round_to(e, COORDINATE_DECIMALS)
     elev = slope = None
-    if centre is not None and sections is not None:
-        sec = section(sections, stations, centre)
-        elev, slope = sec.elevation.ravel() if sec.elevation is not None else None, sec.slope.ravel()
+    if sec is not None and sec.elevation is not None:
+        elev, slope = sec.elevation.ravel(), sec.slope.ravel()
     elif centre is not None:
         drop = np.array([ol.elevation_change() for ol in staking.offsets], dtype=np.float64)
         elev = np.repeat(centre, offs.size) + np.tile(drop, stations.size)
@@ -327,6 +324,6 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         easting=e,
         azimuth=az,
         elevation=elev,
-        point_offsets=of if sections is not None and sections.widened else None,
+        point_offsets=of if widened else None,
         slope=slope,
     )
