@@ -894,7 +894,12 @@ def plan_svg_element(d: Design) -> str:
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
         o = float(sp.offsets[j])
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
-        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {abs(o):.2f}{where}")
+        size = f"{abs(o):.2f}"
+        if sp.point_offsets is not None:  # a widened line: the range of its offsets
+            each = np.abs(sp.point_offsets[j::sp.offsets.size])
+            if each.size and each.min() != each.max():
+                size = f"{each.min():.2f}-{each.max():.2f}"
+        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {size}{where}")
     pan.symbol(f'<circle cx="14" cy="0" r="3.2" fill="none" stroke="{CL_COLOUR}" stroke-width="1.2"/>',
                "key point (feature, station)")
     if pis:
