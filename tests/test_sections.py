@@ -576,3 +576,15 @@ def test_design_file_rows_through_the_design(tmp_path):
     assert z[2] - z[1] == pytest.approx(0.150, abs=1e-12) and z[0] - z[1] == pytest.approx(-0.150, abs=1e-12)
     feats = dict(zip(sp.stations.tolist(), sp.features))
     assert all("SE" in feats[s].split() for s in d.sections.se_stations.tolist())
+
+
+def test_cross_slope_of_a_billion_percent_refused(tmp_path):
+    # issue 26 item 11: `cross_slope = 1e9` was read (bounded only as a coordinate) and staked a stake a
+    # billion units high; slopes are now bounded to +-100 % (a dz gives a steeper face)
+    from stakeout.jobfile import parse_job
+
+    text = job_toml([{"code": "CL", "offset": 0.0}, {"code": "E", "offset": 3.0, "cross_slope": 1e9}], [])
+    with pytest.raises(JobFileError, match=r"staking.offsets\[1\].cross_slope = 1000000000.0: out of range"):
+        parse_job(text.encode("utf-8"))
+    ok = job_toml([{"code": "CL", "offset": 0.0}, {"code": "E", "offset": 3.0, "cross_slope": -100.0}], [])
+    assert parse_job(ok.encode("utf-8")).staking.offsets[1].cross_slope == -100.0
