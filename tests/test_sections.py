@@ -588,3 +588,60 @@ def test_cross_slope_of_a_billion_percent_refused(tmp_path):
         parse_job(text.encode("utf-8"))
     ok = job_toml([{"code": "CL", "offset": 0.0}, {"code": "E", "offset": 3.0, "cross_slope": -100.0}], [])
     assert parse_job(ok.encode("utf-8")).staking.offsets[1].cross_slope == -100.0
+
+
+@settings(max_examples=80, deadline=None)
+@given(data=st.data())
+def test_random_templates_against_the_hand_computation(data):
+    # random tables and chained templates: every line at many stations equals the rules written out by hand
+    k = data.draw(st.integers(1, 5))
+    gaps = data.draw(st.lists(st.floats(5.0, 80.0), min_size=k, max_size=k))
+    at = 100.0 + np.cumsum(gaps)
+    rows = [(f"0+{s:07.3f}", data.draw(slopes_), data.draw(slopes_)) for s in at.tolist()]
+    lines = [{"code": "CL", "offset": 0.0}]
+    for side, name in ((-1.0, "L"), (1.0, "R")):
+        w = data.draw(st.floats(2.5, 4.0))
+        sh = {"code": f"SH{name}", "from": f"EP{name}", "cross_slope": data.draw(st.floats(-8.0, 2.0))}
+        if data.draw(st.booleans()):
+            sh["rollover"] = data.draw(st.floats(0.0, 10.0))
+        if data.draw(st.booleans()):
+            sh["steepen"] = True
+        taper = data.draw(st.floats(0.0, 3.0))
+        if name == "R" and taper > 0.5:
+            a, b = float(at[0]), float(at[0]) + 40.0
+            ep = [(f"0+{a:07.3f}", w), (f"0+{b:07.3f}", w + taper)]
+            lines += [{"code": "EPR", "cross_slope": "se", "offset": ep},
+                      {**sh, "offset": [(s, o + 1.5) for s, o in ep]},
+                      {"code": "KBR", "from": "SHR", "dz": -0.1, "offset": [(s, o + 1.6) for s, o in ep]}]
+        else:
+            lines += [{"code": f"EP{name}", "cross_slope": "se", "offset": side * w},
+                      {**sh, "offset": side * (w + 1.5)},
+                      {"code": f"KB{name}", "from": f"SH{name}", "dz": -0.1, "offset": side * (w + 1.6)}]
+    hand = Hand(lines, rows)
+
+    def ref(s):
+        return StationRef(_value(s), None, s)
+
+    ols = []
+    for ln in lines:
+        off = ln["offset"]
+        widening = tuple(WideningRow(ref(s), o) for s, o in off) if isinstance(off, list) else ()
+        cs = ln.get("cross_slope")
+        ols.append(OffsetLine(off[0][1] if widening else off, ln["code"], dz=ln.get("dz"),
+                              cross_slope=None if cs in (None, "se") else cs, superelevation=cs == "se",
+                              from_code=ln.get("from"), steepen_with_inner=bool(ln.get("steepen")),
+                              rollover=ln.get("rollover"), widening=widening, where=ln["code"]))
+    se_rows = [SuperelevationRow(ref(s), left, right, f"r{i}") for i, (s, left, right) in enumerate(rows)]
+    stn = Stationing.with_equations(0.0, 2000.0, 1000, 3, ())
+    plan = plan_sections(ols, se_rows, stn)
+    s = np.linspace(0.0, float(at[-1]) + 60.0, 97)
+    centre = 50.0 + 8.0 * s / 800.0
+    sec = section(plan, s, centre)
+    assert sec.elevation is not None
+    for j, ol in enumerate(plan.lines):
+        for i in range(0, s.size, 8):
+            off, slope, z = hand.stake(ol.code, float(s[i]))
+            assert sec.offset[i, j] == pytest.approx(off, abs=1e-9)
+            assert sec.elevation[i, j] == pytest.approx(z, abs=1e-9)
+            assert (math.isnan(sec.slope[i, j]) if slope is None else sec.slope[i, j] == pytest.approx(slope,
+                                                                                                       abs=1e-9))
