@@ -1482,7 +1482,9 @@ def _check_equations(a: XAlignment, total: float, tolerance: float) -> None:
         if eq.increment not in (1, -1):
             raise GeometryError(f"{where}: increment {eq.increment!r}, expected +1 or -1")
         if eq.sta_back is not None:
-            expected = station_at(a, eq.sta_internal, before=k - 1)
+            # station_at(a, eq.sta_internal, before=k - 1), in constant time: equations are in order
+            expected = (eq.sta_internal if prev is None
+                        else prev.sta_ahead + prev.increment * (eq.sta_internal - prev.sta_internal))
             if not abs(eq.sta_back - expected) <= tolerance + _REL * abs(expected):
                 raise GeometryError(
                     f"{where}: staBack = {_fmt(eq.sta_back)} but the stationing reaches {_fmt(expected)} there"

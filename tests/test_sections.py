@@ -26,6 +26,7 @@ from stakeout.job import OffsetLine, SuperelevationRow, WideningRow
 from stakeout.stations import StationRef, Stationing
 
 from .helpers import build_job, read_rows, write_job
+from .reference import superelevation_exercise, transition_length_rule
 
 TOL = 0.0002  # the acceptance tolerance of issue 22 (job units, percent)
 
@@ -268,21 +269,23 @@ def test_trial_right_edge_at_full_superelevation(tmp_path):
 
 
 def test_published_transition_problem_edge_elevations(tmp_path):
-    # Source: a route-design exercise published at transtutors.com ("Using centerline rotation find the
-    # elevations of the inside pavement edge, the centerline, and the outside pavement edge for stations
-    # 117+50, 118+50 and 121+50"): two 10-ft lanes, normal crown 1 %, PC 120+00 at 600.00 ft, grade +4 %,
-    # e = 3 %, tangent runout 117+00 to 118+00, runoff 118+00 to 121+00, "hinge" (reverse crown) 119+00.
-    # Expected values worked by hand from those figures (edge = centreline + slope x 10 ft):
-    #   117+50: CL 590.00, outside -0.5 % -> 589.95, inside -1 % -> 589.90
-    #   118+50: CL 594.00, outside +0.5 % -> 594.05, inside -1 % -> 593.90
-    #   121+50: CL 606.00, outside +3 % -> 606.30, inside -3 % -> 605.70
+    # Source: the route-design exercise in tests/reference/superelevation_exercise.py (inputs published,
+    # edge elevations worked by hand from them): two 10-ft lanes, crown 1 %, PC 120+00 at 600.00 ft, +4 %,
+    # e = 3 %, runout 117+00 to 118+00, runoff to 121+00, reverse crown ("hinge") at 119+00
+    ex = superelevation_exercise
+    n, e = ex.NORMAL_CROWN.value, ex.SUPERELEVATION.value
+    w = ex.LANE_WIDTH.value
+    start = ex.PC_STATION.value - 500.0
+    z0 = ex.PC_ELEVATION.value - 500.0 * ex.GRADE.value / 100.0
+    rows = [(ex.RUNOUT_START.printed, -n, -n), (ex.RUNOFF_START.printed, 0, -n), (ex.HINGE.printed, n, -n),
+            (ex.RUNOFF_END.printed, e, -e)]
     text = f"""format = 1
 [job]
 name = "Published transition"
 units = "ft"
 [alignment]
 name = "T"
-start = {{ station = "115+00", northing = 5000.0, easting = 5000.0 }}
+start = {{ station = {start}, northing = 5000.0, easting = 5000.0 }}
 azimuth = 0.0
 [[alignment.element]]
 kind = "line"
@@ -294,26 +297,24 @@ length = 300.0
 turn = "right"
 [profile]
 [[profile.pvi]]
-station = "115+00"
-elevation = 580.00
+station = {start}
+elevation = {z0}
 [[profile.pvi]]
-station = "123+00"
-elevation = 612.00
+station = {start + 800.0}
+elevation = {z0 + 800.0 * ex.GRADE.value / 100.0}
 [staking]
 interval = 50.0
-offsets = [{{ offset = -10.0, code = "OUT", cross_slope = "superelevation" }}, {{ offset = 0.0, code = "CL" }},
-           {{ offset = 10.0, code = "IN", cross_slope = "superelevation" }}]
-{_se_rows([("117+00", -1, -1), ("118+00", 0, -1), ("119+00", 1, -1), ("121+00", 3, -3)])}
+offsets = [{{ offset = {-w}, code = "OUT", cross_slope = "superelevation" }}, {{ offset = 0.0, code = "CL" }},
+           {{ offset = {w}, code = "IN", cross_slope = "superelevation" }}]
+{_se_rows(rows)}
 """
     out = build_job(write_job(tmp_path, text), tmp_path / "out")
-    by = {(r["station_label"], r["code"]): float(r["elevation"]) for r in read_rows(out / "stations.csv")}
-    expect = {"117+50.00": (589.95, 590.00, 589.90), "118+50.00": (594.05, 594.00, 593.90),
-              "121+50.00": (606.30, 606.00, 605.70)}
-    for label, (o, c, i) in expect.items():
-        assert (by[(label, "OUT")], by[(label, "CL")], by[(label, "IN")]) == pytest.approx((o, c, i), abs=1e-4)
+    staked = read_rows(out / "stations.csv")
+    by = {(r["station_label"], r["code"]): float(r["elevation"]) for r in staked}
+    for fig in (ex.AT_117_50, ex.AT_118_50, ex.AT_121_50):
+        assert (by[(fig.printed, "OUT")], by[(fig.printed, "CL")], by[(fig.printed, "IN")]) == fig.approx()
     # the reverse-crown ("hinge") station is a row: staked with feature SE
-    feats = {r["station_label"]: r["feature"] for r in read_rows(out / "stations.csv")}
-    assert feats["119+00.00"] == "SE"
+    assert {r["station_label"]: r["feature"] for r in staked}[ex.HINGE.printed + ".00"] == "SE"
 
 
 def _se_rows(rows):
@@ -321,18 +322,21 @@ def _se_rows(rows):
 
 
 def test_published_transition_length_rule(tmp_path):
-    # Source: curioustab.com, "Length of transition required for super-elevation development": a 7 m wide road,
-    # super-elevation 1 in 15, rate of change 1 in 150 -> L = N b e = 70 m.  Rotated about its inner edge
-    # (here the centreline, the edge line 7 m out): over 70 m the edge rises 7/15 m relative to the axis.
-    rows = [("0+100", 0.0, 0.0), ("0+170", 0.0, 100.0 / 15.0)]
-    lines = [{"code": "CL", "offset": 0.0}, {"code": "E", "offset": 7.0, "cross_slope": "se"}]
+    # Source: tests/reference/transition_length_rule.py (L = N b e = 70 m for b = 7 m, e = 1 in 15, N = 150).
+    # Rotated about its inner edge (here the centreline, the edge line b out): over L the edge rises b e
+    # relative to the axis, at 1 in N
+    ref = transition_length_rule
+    b, e, big_n = ref.WIDTH.value, ref.SUPERELEVATION.value, ref.RATE.value
+    assert big_n * b * e == ref.LENGTH.approx()
+    rows = [("0+100", 0.0, 0.0), (f"0+{100.0 + ref.LENGTH.value:07.3f}", 0.0, 100.0 * e)]
+    lines = [{"code": "CL", "offset": 0.0}, {"code": "E", "offset": b, "cross_slope": "se"}]
     out = build_job(write_job(tmp_path, job_toml(lines, rows, interval=10.0)), tmp_path / "out")
     rise = {}
     for r in read_rows(out / "stations.csv"):
         rise.setdefault(float(r["station"]), {})[r["code"]] = float(r["elevation"])
     d = {s: v["E"] - v["CL"] for s, v in rise.items()}
-    assert d[170.0] - d[100.0] == pytest.approx(7.0 / 15.0, abs=1e-4)
-    assert (d[150.0] - d[140.0]) / 10.0 == pytest.approx(1.0 / 150.0, abs=1e-5)
+    assert d[170.0] - d[100.0] == pytest.approx(b * e, abs=1e-4)
+    assert (d[150.0] - d[140.0]) / 10.0 == pytest.approx(1.0 / big_n, abs=1e-5)
 
 
 # ---- hand-derived template values ---------------------------------------------------------------------------
