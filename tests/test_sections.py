@@ -649,3 +649,20 @@ def test_random_templates_against_the_hand_computation(data):
             assert sec.elevation[i, j] == pytest.approx(z, abs=1e-9)
             assert (math.isnan(sec.slope[i, j]) if slope is None else sec.slope[i, j] == pytest.approx(slope,
                                                                                                        abs=1e-9))
+
+
+def test_only_the_diagram_and_its_absence(tmp_path):
+    # --only superelevation-picture writes the diagram alone; a job without rows says why there is none (exit 2)
+    from typer.testing import CliRunner
+
+    from stakeout.cli import app
+
+    from .helpers import SAMPLES
+
+    out = build_job(SAMPLES / "kestrel_rise_superelevation_m.toml", tmp_path / "one", "--only",
+                    "superelevation-picture")
+    assert sorted(p.name for p in out.iterdir()) == ["superelevation.svg"]
+    r = CliRunner().invoke(app, ["build", str(SAMPLES / "hillside_lane_profile_m.toml"), "--out",
+                                 str(tmp_path / "none"), "--only", "superelevation-picture"])
+    assert r.exit_code == 2 and "no [[superelevation]] rows" in r.output
+    assert not (tmp_path / "none").exists()
