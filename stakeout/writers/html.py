@@ -22,6 +22,7 @@ import numpy as np
 from ..alignment import Arc, Spiral
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from .sections import slope_texts, superelevation_table
 from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word, vertical_note
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -286,6 +287,9 @@ def _setout_section(d: Design) -> str:
             ("grid dist", "n"), ("ground dist", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    if cs is not None:
+        cols.append(("slope %", "n"))
     if zen is not None:
         cols += [("zenith", "n"), ("slope dist", "n")]
     if prec is not None:
@@ -301,6 +305,8 @@ def _setout_section(d: Design) -> str:
             r = [point[i], label[i], offs[i], code[i], feat[i], "" if at[i] else angle[i], grid[i], ground[i]]
             if elev is not None:
                 r.append(elev[i])
+            if cs is not None:
+                r.append(cs[i])
             if zen is not None and slope is not None:
                 r += [zen[i], slope[i]]
             if prec is not None:
@@ -328,11 +334,16 @@ def _stakes_section(d: Design) -> str:
             ("easting", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    if cs is not None:
+        cols.append(("slope %", "n"))
     rows = []
     for i in range(n):
         r = [sp.point[i], sp.station_label[i], offs[i], sp.code[i], sp.feature[i], north[i], east[i]]
         if elev is not None:
             r.append(elev[i])
+        if cs is not None:
+            r.append(cs[i])
         rows.append(r)
     return (f"<h2>Stakes</h2><p>The job has no [setup]: the stakes with their grid coordinates "
             f"({n:,}).</p>{_table(cols, rows)}")
@@ -361,7 +372,7 @@ def _deflection_section(d: Design) -> str:
     data = deflection_rows(a, d.stakes.stations)
     if not data:
         return "<h2>Deflections</h2><p>The alignment has no curves.</p>"
-    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0]
+    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0 and not ol.widening]
     total = sum(len(rows) for _, _, rows in data) * (1 + len(offsets))
     if total > REPORT_MAX_ROWS:
         return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
@@ -401,6 +412,16 @@ def _deflection_section(d: Design) -> str:
     return "".join(out)
 
 
+def _superelevation_section(d: Design) -> str:
+    """The superelevation table, when the job has one (empty otherwise)."""
+    rows = superelevation_table(d)
+    if not rows:
+        return ""
+    return ("<h2>Superelevation</h2><p>Cross slopes in percent, outward from the centreline (negative falls away "
+            "from it), linear by distance between rows; every row's station is staked (SE).</p>"
+            + _table([("station", "n"), ("left", "n"), ("right", "n")], rows))
+
+
 def report_html(d: Design, plan_svg: str) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
@@ -424,6 +445,9 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         _signoff(),
         _cautions(),
     ]
+    se = _superelevation_section(d)
+    if se:
+        parts.insert(2, se)
     foot = f"{job.info.name}: staking report, job file sha256 {job.sha256[:16]}"
     return _document(f"Staking report: {job.info.name}", foot, "\n".join(parts))
 
