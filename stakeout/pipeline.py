@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .design import Design, build_design
+from .design import Design, build_design, precision_rules_setups
 from .errors import JobFileError, StakedFileError
 from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
@@ -41,7 +41,8 @@ def setup_notes(d: Design) -> list[str]:
         setup = sd.setup
         if setup.auto:
             how = (f"chosen among {len(d.job.control)} control points (max_distance {setup.max_distance:g}, "
-                   f"max_backsight {setup.max_backsight:g})")
+                   f"max_backsight {setup.max_backsight:g}"
+                   + (", r95 within the tolerance where a setup can keep it)" if precision_rules_setups(d.job) else ")"))
         else:
             how = "as listed in the job file"
         out.append(f"setups: {len(occs)}, {how}")

@@ -102,6 +102,11 @@ class _PerPoint:
         sp = self.sp
         st = sp.stationing  # every label comes from the stationing: stations in force there
         f = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
+        twice = st.occurs_twice(sp.stations[self.s])
+        if twice.any():  # a station an equation doubles carries its region, as Stationing.labels writes it
+            k = self.k
+            suffix = np.concatenate([rows.const("(", k), rows.integer(sp.regions[self.s]), rows.const(")", k)], axis=1)
+            f = np.concatenate([f, rows.blank(suffix, ~twice)], axis=1)
         if guard and f.size:
             f = np.hstack([np.where(f[:, :1] == ord("-"), ord("'"), 0).astype(np.uint8), f])
         return rows.repeat_rows(f, self.m)
