@@ -15,7 +15,7 @@ from .tables import DECIMALS, POINTS_COLUMNS, csv_text, csv_text_field, points_c
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
-           "move_text", "move_decimals", "what_to_do", "target_id"]
+           "move_text", "move_decimals", "what_to_do", "target_id", "listed_shots", "LISTED_SHOTS"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
@@ -96,6 +96,28 @@ def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
         t = f"{abs(v):.{decimals}f}"
         out.append(f"C {t}" if v > 0 and float(t) > 0 else (f"F {t}" if v < 0 and float(t) > 0 else f"0 {t}"))
     return out
+
+
+#: Above this many shots, check.txt and check.html list only the shots that need attention, at
+#: most this many of them, and give the counts of the rest (check.csv lists every shot).
+LISTED_SHOTS = 5000
+
+
+def listed_shots(r: CheckResult) -> tuple[list[int], list[int], list[int], str]:
+    """The shots check.txt and check.html list: needing attention, within tolerance, superseded
+    (file order), and a note of what is left out (empty when everything is listed).
+    """
+    m = len(r.status)
+    attention = [k for k in range(m) if r.needs_attention(k)]
+    if m <= LISTED_SHOTS:
+        fine = [k for k in range(m) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+        superseded = [k for k in range(m) if r.status[k] == "superseded"]
+        return attention, fine, superseded, ""
+    more = len(attention) - LISTED_SHOTS
+    note = (f"{m:,} shots, more than {LISTED_SHOTS:,}: only the shots needing attention are listed"
+            + (f" (the first {LISTED_SHOTS:,}; {more:,} more)" if more > 0 else "")
+            + "; every shot is in check.csv")
+    return attention[:LISTED_SHOTS], [], [], note
 
 
 #: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).
@@ -294,10 +316,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             out.append("\n".join(lines))
         return heads, out
 
-    attention = [k for k in range(len(shots)) if r.needs_attention(k)]
+    attention, fine, superseded, left_out = listed_shots(r)
     notes = {k: what_to_do(d, shots, r, k) for k in attention}
-    fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
+    if left_out:
+        out += textwrap.wrap(left_out, width) + [""]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
         ("NEEDS ATTENTION, with what to do (out, duplicate, unmatched, control off)", attention, True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
@@ -305,10 +327,16 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
          {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
+    shown_counts = {"WITHIN TOLERANCE": sum(1 for k in range(len(shots)) if r.status[k] in ("ok", "control")
+                                            and not r.needs_attention(k)),
+                    "SUPERSEDED": counts["superseded"],
+                    "NEEDS ATTENTION": sum(1 for k in range(len(shots)) if r.needs_attention(k))}
     for name, ks, with_status, extra in sections:
-        if not ks and name.startswith("SUPERSEDED"):
+        total = next(v for key, v in shown_counts.items() if name.startswith(key))
+        if not total and name.startswith("SUPERSEDED"):
             continue
-        head = [f"{name}: {len(ks)}"]
+        head = [f"{name}: {total}" + (" (not listed: see check.csv)" if total and not ks else
+                                      (f" (the first {len(ks)} listed)" if len(ks) < total else ""))]
         if ks:
             cols, records = table(ks, with_status, extra)
             short = name.split(",")[0].split(" (")[0]

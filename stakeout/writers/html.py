@@ -471,7 +471,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     shots, r : Shots, CheckResult
         The shots read and the check's result, in file order.
     """
-    from .checkreport import cut_fill, status_text, target_id, what_to_do
+    from .checkreport import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
     from .picture import residual_svg_element
 
     job, design, unit = d.job, d.stakes, d.unit
@@ -479,12 +479,12 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     n = len(shots)
     counts = r.counts()
     count_text = ", ".join(f"{s} {c}" for s, c in counts.items())
-    attention = [k for k in range(n) if r.needs_attention(k)]
-    fine = [k for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(n) if r.status[k] == "superseded"]
+    attention, fine, superseded, left_out = listed_shots(r)
+    n_attention = sum(1 for k in range(n) if r.needs_attention(k))
+    n_fine = sum(1 for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k))
     verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
-               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {n} shots '
-               "(see the first table)</div>")
+               f'<div class="verdict bad">NEEDS ATTENTION: {n_attention} of {n} shots '
+               "(see the first table)</div>") + (f"<p>{_e(left_out)}</p>" if left_out else "")
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
     dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
@@ -520,17 +520,20 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
         return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
     svg, factor = residual_svg_element(d, shots, r, name)
-    missing = [design.point[i] for i in r.not_staked.tolist()]
+    missing = [design.point[i] for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
+    if r.not_staked.size > NOT_STAKED_LISTED:
+        missing.append(f"... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
     parts = [
         f"<header><h1>Staked-point check</h1><p class=\"sub\">{_e(job.info.name)}</p>{verdict}{_facts(facts)}"
         "</header>",
-        f"<h2>Needs attention: {len(attention)}</h2>"
+        f"<h2>Needs attention: {n_attention}</h2>"
         + (table(attention, "what to do") if attention else "<p>None: every shot is within tolerance.</p>"),
         f'<section class="picture"><h2>Residuals, drawn {factor:g} times their length</h2>{svg}</section>',
-        f"<h2>Within tolerance: {len(fine)}</h2>" + (table(fine) if fine else "<p>None.</p>"),
+        f"<h2>Within tolerance: {n_fine}</h2>" + (table(fine) if fine else
+                                                  "<p>Not listed: see check.csv.</p>" if n_fine else "<p>None.</p>"),
         (f"<h2>Superseded: {len(superseded)}</h2><p>Shot again later in the file: the later shot governs.</p>"
          + table(superseded, "governed by")) if superseded else "",
-        f"<h2>Design points not staked: {len(missing)}</h2>"
+        f"<h2>Design points not staked: {r.not_staked.size}</h2>"
         + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
         "<p>d = staked - design; d along / d across: the residual along and square to the alignment at the "
         "design point (grid; the moves are ground distances); "
