@@ -31,15 +31,6 @@ def _schema():
     pytest.skip("the LandXML 1.2 schema (shared/reference/LandXML-1.2.xsd) is not beside the project")
 
 
-def _has_kinks(rows_elements) -> bool:
-    """An angle point or a curvature jump at a spiral: the export keeps them, but a design file with a
-    kink is refused by the reader (job-file contract), so such a job cannot come back."""
-    for a, b in zip(rows_elements, rows_elements[1:]):
-        if abs((float(b["start_azimuth_deg"]) - float(a["end_azimuth_deg"]) + 180.0) % 360.0 - 180.0) > 1e-6:
-            return True
-    return False
-
-
 def _swap_geometry(text: str, xml: Path, job_dir: Path, has_profile: bool) -> str:
     """The sample's job text with its alignment (and profile) taken from ``xml``."""
     out, skip = [], False
@@ -71,9 +62,6 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         ne = pts[r["point"]]
         assert ne[0] == pytest.approx(float(r["northing"]), abs=5e-5)
         assert ne[1] == pytest.approx(float(r["easting"]), abs=5e-5)
-    elements = read_rows(out / "elements.csv")
-    if _has_kinks(elements):
-        pytest.skip(f"{sample}: an angle point cannot come back through a design file (kinks are refused)")
     text = job.read_text(encoding="utf-8")
     again = write_job(tmp_path, _swap_geometry(text, out / "alignment.xml", job.parent, "[profile]" in text),
                       "again.toml")
@@ -120,3 +108,62 @@ def test_random_alignments_round_trip(tmp_path_factory, curves, units):
                   for a, b in zip(first, second)])
     assert d.max() <= 1e-4
     assert [r["feature"] for r in first] == [r["feature"] for r in second]
+
+
+def _stations_by_label(path: Path) -> dict[tuple[str, str], tuple[float, float]]:
+    return {(r["station_label"], r["offset"]): (float(r["northing"]), float(r["easting"])) for r in read_rows(path)}
+
+
+def _export_and_read_back(tmp_path: Path, alignment: str) -> tuple[Path, Path]:
+    schema = _schema()
+    from lxml import etree
+
+    head = 'format = 1\n[job]\nname = "Turns"\nunits = "m"\n'
+    staking = '[staking]\ninterval = 20.0\noffsets = [{ offset = -3.0, code = "L" }, { offset = 0.0, code = "CL" }]\n'
+    job = write_job(tmp_path, head + alignment + staking)
+    out = build_job(job, tmp_path / "a")
+    doc = etree.parse(str(out / "alignment.xml"))
+    assert schema.validate(doc), schema.error_log.last_error
+    again = write_job(tmp_path, head + f'[alignment]\nlandxml = "{out / "alignment.xml"}"\n' + staking, "again.toml")
+    back = build_job(again, tmp_path / "b")
+    first, second = _stations_by_label(out / "stations.csv"), _stations_by_label(back / "stations.csv")
+    assert first.keys() == second.keys()
+    for key, (n, e) in first.items():
+        assert math.hypot(n - second[key][0], e - second[key][1]) <= 1e-4, key
+    return out, back
+
+
+def test_arc_of_359_9999_degrees_is_exported_and_read_back(tmp_path):
+    # a valid design the export used to refuse ("Curve C2: Start and End coincide"): the arc is written as
+    # pieces of one circle (the schema's <Curve> cannot say more than a half turn by its points alone)
+    alignment = ('[alignment]\nname = "LOOP"\nstart = { station = 0.0, northing = 1000.0, easting = 2000.0 }\n'
+                 'azimuth = 0.0\n[[alignment.element]]\nkind = "line"\nlength = 100.0\n'
+                 '[[alignment.element]]\nkind = "arc"\nradius = 60.0\ndelta = 359.9999\nturn = "right"\n'
+                 '[[alignment.element]]\nkind = "line"\nlength = 100.0\n')
+    out, back = _export_and_read_back(tmp_path, alignment)
+    assert "Curve C2.1" not in (back / "elements.csv").read_text()  # the pieces are one arc again
+    assert len(read_rows(back / "elements.csv")) == 3
+
+
+def test_spiral_turning_215_degrees_is_exported_and_read_back(tmp_path):
+    # theta = L / 2R = 450.3 / 120 rad = 215 degrees: no PI of its end tangents can describe it in one <Spiral>
+    alignment = ('[alignment]\nname = "SPIN"\nstart = { station = 0.0, northing = 1000.0, easting = 2000.0 }\n'
+                 'azimuth = 0.0\n[[alignment.element]]\nkind = "line"\nlength = 100.0\n'
+                 '[[alignment.element]]\nkind = "spiral"\nlength = 450.3\nradius_end = 60.0\nturn = "left"\n'
+                 '[[alignment.element]]\nkind = "arc"\nradius = 60.0\nlength = 30.0\nturn = "left"\n')
+    out, back = _export_and_read_back(tmp_path, alignment)
+    assert len(read_rows(back / "elements.csv")) == 3
+
+
+def test_angle_point_of_a_pi_list_reads_back_from_its_own_export(tmp_path):
+    # the reader used to refuse the kink its own writer wrote; the export now marks the Line that starts at
+    # an angle point (<Feature code="AP">), and an unmarked kink is still refused (test_landxml: broken_kink)
+    job = SAMPLES / "pi_list_local_ft.toml"
+    out = build_job(job, tmp_path / "a")
+    assert 'code="AP"' in (out / "alignment.xml").read_text(encoding="utf-8")
+    text = job.read_text(encoding="utf-8")
+    again = write_job(tmp_path, _swap_geometry(text, out / "alignment.xml", job.parent, "[profile]" in text),
+                      "again.toml")
+    back = build_job(again, tmp_path / "b")
+    assert [r["feature"] for r in read_rows(out / "stations.csv")] == [
+        r["feature"] for r in read_rows(back / "stations.csv")]

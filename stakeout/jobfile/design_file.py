@@ -10,6 +10,8 @@ cross-checks).  The job file stays the one place that says what is staked.
 
 from __future__ import annotations
 
+from dataclasses import replace
+from typing import TYPE_CHECKING
 from pathlib import Path
 
 from ..alignment.specs import AnchoredSpec, ArcSpec, FixedSpec, LineSpec, SpiralSpec
@@ -18,6 +20,9 @@ from ..job import DesignFile, JobInfo, ProfileInput, ProfilePVI
 from ..stations import StationRef
 from ..textsafety import check_free_text
 from .reader import Table
+
+if TYPE_CHECKING:
+    from ..landxml import XElement, XMeasured
 
 __all__ = ["read_alignment_file", "read_profile_file", "LandXMLAlignment"]
 
@@ -38,6 +43,47 @@ def _path(t: Table, base: Path) -> Path:
     return p if p.is_absolute() else base / p
 
 
+_SAME = 1e-6  # relative: radii, centres and rates of curvature change this close are the same curve
+
+
+def _close(a: float, b: float) -> bool:
+    return abs(a - b) <= _SAME * max(abs(a), abs(b))
+
+
+def _curvature(radius: float | None, turn: int) -> float:
+    return 0.0 if radius is None else turn / radius
+
+
+def _continues(x0: XElement, m0: XMeasured, x1: XElement, m1: XMeasured) -> bool:
+    """Whether element 1 is the same arc or clothoid as element 0, carried on (a curve written in pieces)."""
+    if m0.kind != m1.kind or m0.turn != m1.turn or m0.kind == "line":
+        return False
+    if m0.kind == "arc":
+        from ..landxml import XCurve
+
+        assert isinstance(x0, XCurve) and isinstance(x1, XCurve) and m0.radius_start and m1.radius_start
+        tol = _SAME * m0.radius_start  # centres: within a millionth of the radius
+        return (_close(m0.radius_start, m1.radius_start) and abs(x0.center_n - x1.center_n) <= tol
+                and abs(x0.center_e - x1.center_e) <= tol)
+    k0, k1 = _curvature(m0.radius_start, m0.turn), _curvature(m0.radius_end, m0.turn)
+    k2, k3 = _curvature(m1.radius_start, m1.turn), _curvature(m1.radius_end, m1.turn)
+    return k1 != 0.0 and _close(k1, k2) and _close((k1 - k0) / m0.length, (k3 - k2) / m1.length)
+
+
+def _whole(xs: tuple[XElement, ...], ms: tuple[XMeasured, ...]) -> list[tuple[XElement, XMeasured]]:
+    """The elements with a curve written in pieces (one circle, or one clothoid, as the export writes an
+    arc of more than a half turn) taken back as one element: the join of two pieces is no key point.
+    """
+    out: list[tuple[XElement, XMeasured]] = []
+    for x, m in zip(xs, ms, strict=True):
+        if out and _continues(out[-1][0], out[-1][1], x, m):
+            x0, m0 = out[-1]
+            out[-1] = (x0, replace(m0, length=m0.length + m.length, az_end=m.az_end, radius_end=m.radius_end))
+        else:
+            out.append((x, m))
+    return out
+
+
 def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment:
     """``[alignment] landxml``: the chosen ``<Alignment>`` as anchored elements, with its equations."""
     from .. import landxml
@@ -49,7 +95,7 @@ def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment
     xa = landxml.pick_alignment(design, name)
     measured = landxml.validate_geometry(xa)
     elements = []
-    for x, m in zip(xa.elements, measured):
+    for x, m in _whole(xa.elements, measured):
         where = f"alignment.landxml element {m.index}" + (f" ({m.name!r})" if m.name else "")
         spec: LineSpec | ArcSpec | SpiralSpec
         if m.kind == "line":

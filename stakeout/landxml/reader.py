@@ -52,6 +52,7 @@ from defusedxml import DefusedXmlException
 from ..errors import JobFileError
 from ..limits import read_regular_file
 from .records import (
+    ANGLE_POINT_CODE,
     LANDXML_NS,
     MAX_FILE_BYTES,
     UNIT_WORDS,
@@ -453,9 +454,12 @@ class _Reader:
                 unsupported.append(f"element {index} ({_label(local, child)})")
                 continue
             pts: dict[str, tuple[float, float, float | None]] = {}
+            angle_point = False
             for p_local, p_el in self.children(child, where):
                 if p_local in ("Start", "End", "Center", "PI"):
                     pts.setdefault(p_local, self.point(p_el, f"{where} {p_local}"))
+                elif local == "Line" and p_local == "Feature" and p_el.get("code") == ANGLE_POINT_CODE:
+                    angle_point = True
                 else:
                     self.note(where, p_local, p_el)
             for key in _NEEDS[local]:
@@ -464,7 +468,8 @@ class _Reader:
             sta = self.opt_double(child, "staStart", where)
             s, e = pts["Start"], pts["End"]
             if local == "Line":
-                out.append(XLine(index, name, s[0], s[1], e[0], e[1], self.opt_double(child, "length", where), sta))
+                out.append(XLine(index, name, s[0], s[1], e[0], e[1], self.opt_double(child, "length", where), sta,
+                                 angle_point))
                 continue
             rot_txt = child.get("rot")
             if rot_txt not in _ROT:

@@ -37,6 +37,7 @@ __all__ = [
     "kind_of",
     "fmt",
     "UNIT_WORDS",
+    "ANGLE_POINT_CODE",
 ]
 
 LANDXML_NS = "http://www.landxml.org/schema/LandXML-1.2"
@@ -87,6 +88,10 @@ class XLine:
         ``length`` attribute (a cross-check only).
     sta_start_attr : float or None
         ``staStart`` attribute as written (not used by the reader).
+    angle_point : bool
+        The line starts at an angle point (a PI with no curve): it holds a
+        ``<Feature code="AP">``, and may start off the direction of the
+        element before.
     """
 
     index: int
@@ -97,6 +102,7 @@ class XLine:
     end_e: float
     length_attr: float | None = None
     sta_start_attr: float | None = None
+    angle_point: bool = False
 
 
 @dataclass(frozen=True)
@@ -398,6 +404,9 @@ class XMeasured:
     radius_end: float | None
     turn: int
 
+
+#: ``<Feature code>`` of a ``<Line>`` that starts at an angle point (a PI with no curve).
+ANGLE_POINT_CODE = "AP"
 
 UNIT_WORDS = {"m": "metres", "ft": "international feet (0.3048 m)", "us_ft": "US survey feet (1200/3937 m)"}
 

@@ -33,7 +33,8 @@ takes the direction in force where it sits.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
@@ -131,6 +132,246 @@ def _radius_text(curvature: float, radius: float) -> str:
     return f"{fmt(radius)} {'right (cw)' if curvature > 0 else 'left (ccw)'}"
 
 
+_Check = tuple[NDArray[np.bool_], Callable[[int], str]]
+_F = NDArray[np.float64]
+_B = NDArray[np.bool_]
+
+
+@dataclass(frozen=True)
+class _Shape:
+    """Per-element arrays measured from the points (file units, degrees)."""
+
+    is_line: _B
+    is_arc: _B
+    is_spi: _B
+    ok_spi: _B  # spirals whose length could be fitted
+    angle_point: _B  # lines that say they start at an angle point
+    sn: _F
+    se: _F
+    en: _F
+    ee: _F
+    turn: _F
+    chord: _F  # Start -> End
+    r1: _F  # |Start - Center|
+    r2: _F  # |End - Center|
+    sweep: _F  # arc's turn from its points, in the direction of rot
+    t1: _F  # spiral tangents Start->PI and PI->End
+    t2: _F
+    defl: _F  # their signed deflection
+    theta: _F  # the deflection the way of rot, radians
+    rs_attr: _F  # spiral radii as given (INF for a tangent end)
+    re_attr: _F
+    miss: _F  # spiral End from the fitted clothoid
+    end_turn: _F  # PI->End against the fitted clothoid's end direction
+    length: _F
+    az_start: _F
+    az_end: _F
+    rad_start: _F
+    rad_end: _F
+
+
+def _refuse_records(a: XAlignment) -> None:
+    """What is wrong with the records themselves, before anything is measured."""
+    if a.unsupported:
+        raise GeometryError(f"alignment {a.name!r}: {a.unsupported[0]} cannot be staked (Line, Curve, Spiral only)")
+    if not a.elements:
+        raise GeometryError(f"alignment {a.name!r}: <CoordGeom> has no elements")
+    for el in a.elements:
+        kind_of(el)  # an unknown record class fails here
+        if isinstance(el, XSpiral):
+            if el.spi_type != "clothoid":
+                raise GeometryError(
+                    f"{_where(a, el)}: spiType = {el.spi_type!r}; only clothoid spirals can be staked"
+                )
+            for r in (el.radius_start, el.radius_end):
+                if r is not None and not r > 0.0:
+                    raise GeometryError(f"{_where(a, el)}: radius {r!r} must be positive or INF")
+            if el.radius_start is None and el.radius_end is None:
+                raise GeometryError(f"{_where(a, el)}: radiusStart and radiusEnd are both INF (no curvature)")
+            if el.radius_start == el.radius_end:
+                raise GeometryError(f"{_where(a, el)}: radiusStart = radiusEnd = {el.radius_start!r} is an arc")
+        if not isinstance(el, XLine) and el.rot not in (1, -1):
+            raise GeometryError(f"{_where(a, el)}: rot = {el.rot!r}, expected +1 (cw) or -1 (ccw)")
+
+
+def _column(els: Sequence[XElement], name: str, default: float = math.nan) -> _F:
+    vals = [getattr(e, name, None) for e in els]
+    return np.array([default if v is None else v for v in vals], dtype=float)
+
+
+def _measure(els: Sequence[XElement], tolerance: float) -> _Shape:
+    """Lengths, directions and radii of every element from its points (vectorised by kind)."""
+    n = len(els)
+    kind = np.array([kind_of(e).code for e in els])
+    is_line, is_arc, is_spi = kind == KINDS[XLine].code, kind == KINDS[XCurve].code, kind == KINDS[XSpiral].code
+    sn, se, en, ee = (_column(els, k) for k in ("start_n", "start_e", "end_n", "end_e"))
+    cn, ce, pn, pe = (_column(els, k) for k in ("center_n", "center_e", "pi_n", "pi_e"))
+    turn = _column(els, "rot", 0.0)
+    rs_attr = np.where(is_spi, _column(els, "radius_start", math.inf), math.nan)
+    re_attr = np.where(is_spi, _column(els, "radius_end", math.inf), math.nan)
+    angle_point = is_line & np.array([bool(getattr(e, "angle_point", False)) for e in els], dtype=bool)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        chord = np.hypot(en - sn, ee - se)
+        az_chord = _azimuth(en - sn, ee - se)
+        # arcs: radius from Start (the schema's rule), sweep in the direction of rot
+        r1 = np.hypot(sn - cn, se - ce)
+        r2 = np.hypot(en - cn, ee - ce)
+        a1 = _azimuth(sn - cn, se - ce)
+        a2 = _azimuth(en - cn, ee - ce)
+        sweep = np.mod(turn * (a2 - a1), 360.0)
+        # spirals: tangents Start->PI and PI->End
+        t1 = np.hypot(pn - sn, pe - se)
+        t2 = np.hypot(en - pn, ee - pe)
+        b1 = _azimuth(pn - sn, pe - se)
+        b2 = _azimuth(en - pn, ee - pe)
+        defl = _wrap180(b2 - b1)
+        k0 = np.where(np.isinf(rs_attr), 0.0, 1.0 / rs_attr)
+        k1 = np.where(np.isinf(re_attr), 0.0, 1.0 / re_attr)
+        theta = np.radians(turn * defl)
+        defl_len = 2.0 * theta / (k0 + k1)  # L = 2 theta / (1/Rs + 1/Re)
+        spi_len = defl_len.copy()
+        fit_n = np.full(n, math.nan)
+        fit_e = np.full(n, math.nan)
+        ok_spi = is_spi & (theta > 0.0) & (defl_len > 0.0) & np.isfinite(defl_len)
+        if ok_spi.any():
+            i = np.flatnonzero(ok_spi)
+            spi_len[i], fit_n[i], fit_e[i] = _fit_clothoid(
+                sn[i], se[i], en[i], ee[i], b1[i], k0[i], k1[i], defl_len[i], turn[i]
+            )
+        # a spiral's End against the clothoid through Start along Start->PI
+        miss = np.hypot(fit_n - en, fit_e - ee)
+        # and the clothoid's end direction against PI->End
+        end_turn = np.abs(_wrap180(b2 - (b1 + turn * np.degrees(spi_len * (k0 + k1) / 2.0))))
+
+        length = np.select([is_line, is_arc], [chord, r1 * np.radians(sweep)], spi_len)
+        az_start = np.select([is_line, is_arc], [az_chord, np.mod(a1 + 90.0 * turn, 360.0)], b1)
+        az_end = np.select([is_line, is_arc], [az_chord, np.mod(a2 + 90.0 * turn, 360.0)], b2)
+        # a zero-length line (some programs write one between elements) carries no
+        # direction of its own: it takes the direction in force where it sits
+        for j in np.flatnonzero(is_line & ~(chord > tolerance)).tolist():
+            ref = az_end[j - 1] if j > 0 else az_start[j + 1] if n > 1 else 0.0
+            az_start[j] = az_end[j] = ref
+        rad_start = np.select([is_line, is_arc], [np.inf, r1], rs_attr)
+        rad_end = np.select([is_line, is_arc], [np.inf, r1], re_attr)
+    return _Shape(is_line, is_arc, is_spi, ok_spi, angle_point, sn, se, en, ee, turn, chord, r1, r2, sweep, t1, t2,
+                  defl, theta, rs_attr, re_attr, miss, end_turn, length, az_start, az_end, rad_start, rad_end)
+
+
+def _element_checks(els: Sequence[XElement], g: _Shape, tol: float) -> list[_Check]:
+    """Each element against itself and its attributes, in the order a message is preferred at one element."""
+    radius_attr = _column(els, "radius_attr")
+    length_attr = _column(els, "length_attr")
+    delta_attr = _column(els, "delta_attr")
+    chord_attr = _column(els, "chord_attr")
+    is_arc, is_spi, ok_spi = g.is_arc, g.is_spi, g.ok_spi
+    with np.errstate(invalid="ignore", divide="ignore"):
+        arc_chord = 2.0 * g.r1 * np.sin(np.radians(g.sweep) / 2.0)
+        return [
+            (is_arc & ~(g.chord > tol), lambda i: f"Start and End coincide ({fmt(g.chord[i])} apart)"),
+            (is_arc & ~(g.r1 > tol), lambda i: f"Center is on Start (radius {fmt(g.r1[i])})"),
+            (
+                is_arc & ~(np.abs(g.r1 - g.r2) <= tol + _REL * g.r1),
+                lambda i: f"|Start-Center| = {fmt(g.r1[i])} but |End-Center| = {fmt(g.r2[i])}",
+            ),
+            (
+                is_spi & ~((g.t1 > tol) & (g.t2 > tol)),
+                lambda i: f"PI coincides with Start or End (tangents {fmt(g.t1[i])} and {fmt(g.t2[i])})",
+            ),
+            (
+                is_spi & ~(g.theta > 0.0),
+                lambda i: (
+                    f"the tangents Start->PI and PI->End turn {fmt(abs(g.defl[i]))} degrees "
+                    f"{'right' if g.defl[i] > 0 else 'left'}, against rot = {'cw' if g.turn[i] > 0 else 'ccw'}"
+                ),
+            ),
+            (
+                ok_spi & ~(g.miss <= tol),
+                lambda i: (
+                    f"End is {fmt(g.miss[i])} from the clothoid through Start along Start->PI with radiusStart "
+                    f"{fmt(g.rs_attr[i])}, radiusEnd {fmt(g.re_attr[i])} and length {fmt(g.length[i])}"
+                ),
+            ),
+            (
+                ok_spi & ~(g.end_turn <= _ARCSEC),
+                lambda i: (
+                    f"PI->End is {fmt(g.end_turn[i] * 3600.0)} arc-seconds off the end direction of the clothoid "
+                    f"through Start and End with radiusStart {fmt(g.rs_attr[i])} and radiusEnd {fmt(g.re_attr[i])}"
+                ),
+            ),
+            (
+                is_arc & ~np.isnan(radius_attr) & ~(np.abs(radius_attr - g.r1) <= tol + _REL * g.r1),
+                lambda i: f"radius = {fmt(radius_attr[i])} contradicts |Start-Center| = {fmt(g.r1[i])}",
+            ),
+            (
+                ~np.isnan(length_attr) & ~(np.abs(length_attr - g.length) <= tol + _REL * np.abs(g.length)),
+                lambda i: f"length = {fmt(length_attr[i])} contradicts the points, which give {fmt(g.length[i])}",
+            ),
+            (
+                is_arc & ~np.isnan(delta_attr)
+                & ~(np.abs(delta_attr - g.sweep) <= np.maximum(_ARCSEC, np.degrees(tol / g.r1))),
+                lambda i: f"delta = {fmt(delta_attr[i])} degrees contradicts the points, which give {fmt(g.sweep[i])}",
+            ),
+            (
+                is_arc & ~np.isnan(chord_attr) & ~(np.abs(chord_attr - arc_chord) <= tol + _REL * g.r1),
+                lambda i: f"chord = {fmt(chord_attr[i])} contradicts the points, which give {fmt(arc_chord[i])}",
+            ),
+        ]
+
+
+def _junction_checks(g: _Shape, tol: float, joins: bool) -> list[_Check]:
+    """Gaps, kinks and curvature jumps; each check sits on the later element of a join.
+
+    A Line that says it starts at an angle point (``<Feature code="AP">``, as the export writes it) may
+    start off the direction of the element before: it is the PI of a tangent with no curve.
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        gap = np.concatenate([[0.0], np.hypot(g.sn[1:] - g.en[:-1], g.se[1:] - g.ee[:-1])])
+        kink = np.concatenate([[0.0], np.abs(_wrap180(g.az_start[1:] - g.az_end[:-1]))])
+        k_before = np.concatenate([[0.0], np.where(np.isinf(g.rad_end[:-1]), 0.0, g.turn[:-1] / g.rad_end[:-1])])
+        k_here = np.where(np.isinf(g.rad_start), 0.0, g.turn / g.rad_start)
+        r_before = np.concatenate([[np.inf], g.rad_end[:-1]])
+        spiral_joint = np.concatenate([[False], g.is_spi[:-1] | g.is_spi[1:]])
+        inf_a, inf_b = k_before == 0.0, k_here == 0.0
+        same_r = np.abs(r_before - g.rad_start) <= tol + _REL * np.fmin(r_before, g.rad_start)
+        curv_ok = (inf_a & inf_b) | (~inf_a & ~inf_b & (np.sign(k_before) == np.sign(k_here)) & same_r)
+    return [
+        (~(gap <= tol), lambda i: f"starts {fmt(gap[i])} from the end of the element before"),
+        (
+            ~(kink <= _ARCSEC) & ~g.angle_point & joins,
+            lambda i: f"starts {fmt(kink[i] * 3600.0)} arc-seconds off the direction of the element before",
+        ),
+        (
+            spiral_joint & ~curv_ok & joins,
+            lambda i: (
+                f"starts with radius {_radius_text(k_here[i], g.rad_start[i])} where the element before ends "
+                f"with radius {_radius_text(k_before[i], r_before[i])}"
+            ),
+        ),
+    ]
+
+
+def _raise_first(a: XAlignment, checks: list[_Check]) -> None:
+    """The first failed check in element order (checks of one element in list order)."""
+    bad = np.zeros(len(a.elements), dtype=bool)
+    for mask, _ in checks:
+        bad |= mask
+    if bad.any():
+        first = int(np.flatnonzero(bad)[0])
+        for mask, message in checks:
+            if mask[first]:
+                raise GeometryError(f"{_where(a, a.elements[first])}: {message(first)}")
+
+
+def _check_length_attr(a: XAlignment, total: float, tolerance: float) -> None:
+    span = abs(station_at(a, a.sta_start + total) - a.sta_start)  # what some programs write instead
+    if a.length_attr is not None and not min(abs(a.length_attr - total), abs(a.length_attr - span)) <= (
+        tolerance + _REL * total
+    ):
+        raise GeometryError(
+            f"alignment {a.name!r}: length = {fmt(a.length_attr)} contradicts its elements, which add up to {fmt(total)}"
+        )
+
+
 def validate_geometry(alignment: XAlignment, tolerance: float = 0.001, *,
                       joins: bool = True) -> tuple[XMeasured, ...]:
     """Check an alignment's geometry and measure its elements from their points.
@@ -162,210 +403,28 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001, *,
         equations that contradict the stationing.
     """
     a = alignment
-    if a.unsupported:
-        raise GeometryError(f"alignment {a.name!r}: {a.unsupported[0]} cannot be staked (Line, Curve, Spiral only)")
+    _refuse_records(a)
     els = a.elements
-    if not els:
-        raise GeometryError(f"alignment {a.name!r}: <CoordGeom> has no elements")
-    codes = [kind_of(el).code for el in els]  # an unknown record class fails here
-    for el in els:
-        if isinstance(el, XSpiral) and el.spi_type != "clothoid":
-            raise GeometryError(
-                f"{_where(a, el)}: spiType = {el.spi_type!r}; only clothoid spirals can be staked"
-            )
-        if isinstance(el, XSpiral):
-            for r in (el.radius_start, el.radius_end):
-                if r is not None and not r > 0.0:
-                    raise GeometryError(f"{_where(a, el)}: radius {r!r} must be positive or INF")
-            if el.radius_start is None and el.radius_end is None:
-                raise GeometryError(f"{_where(a, el)}: radiusStart and radiusEnd are both INF (no curvature)")
-            if el.radius_start == el.radius_end:
-                raise GeometryError(f"{_where(a, el)}: radiusStart = radiusEnd = {el.radius_start!r} is an arc")
-        if not isinstance(el, XLine) and el.rot not in (1, -1):
-            raise GeometryError(f"{_where(a, el)}: rot = {el.rot!r}, expected +1 (cw) or -1 (ccw)")
-
-    n = len(els)
-    kind = np.array(codes)
-    nan = math.nan
-    sn = np.array([e.start_n for e in els], dtype=float)
-    se = np.array([e.start_e for e in els], dtype=float)
-    en = np.array([e.end_n for e in els], dtype=float)
-    ee = np.array([e.end_e for e in els], dtype=float)
-    cn = np.array([getattr(e, "center_n", nan) for e in els], dtype=float)
-    ce = np.array([getattr(e, "center_e", nan) for e in els], dtype=float)
-    pn = np.array([getattr(e, "pi_n", nan) for e in els], dtype=float)
-    pe = np.array([getattr(e, "pi_e", nan) for e in els], dtype=float)
-    turn = np.array([getattr(e, "rot", 0) for e in els], dtype=float)
-    is_spiral = kind == KINDS[XSpiral].code
-    rs_attr = np.where(is_spiral, [getattr(e, "radius_start", None) or math.inf for e in els], nan)
-    re_attr = np.where(is_spiral, [getattr(e, "radius_end", None) or math.inf for e in els], nan)
-
-    def attr(name: str) -> NDArray[np.float64]:
-        vals = [getattr(e, name, None) for e in els]
-        return np.array([nan if v is None else v for v in vals], dtype=float)
-
-    with np.errstate(invalid="ignore", divide="ignore"):
-        is_line, is_arc, is_spi = kind == KINDS[XLine].code, kind == KINDS[XCurve].code, is_spiral
-        # lines
-        chord = np.hypot(en - sn, ee - se)
-        az_chord = _azimuth(en - sn, ee - se)
-        # arcs: radius from Start (the schema's rule), sweep in the direction of rot
-        r1 = np.hypot(sn - cn, se - ce)
-        r2 = np.hypot(en - cn, ee - ce)
-        a1 = _azimuth(sn - cn, se - ce)
-        a2 = _azimuth(en - cn, ee - ce)
-        sweep = np.mod(turn * (a2 - a1), 360.0)
-        # spirals: tangents Start->PI and PI->End
-        t1 = np.hypot(pn - sn, pe - se)
-        t2 = np.hypot(en - pn, ee - pe)
-        b1 = _azimuth(pn - sn, pe - se)
-        b2 = _azimuth(en - pn, ee - pe)
-        defl = _wrap180(b2 - b1)
-        k0 = np.where(np.isinf(rs_attr), 0.0, 1.0 / rs_attr)
-        k1 = np.where(np.isinf(re_attr), 0.0, 1.0 / re_attr)
-        theta = np.radians(turn * defl)
-        defl_len = 2.0 * theta / (k0 + k1)  # L = 2 theta / (1/Rs + 1/Re)
-        spi_len = defl_len.copy()
-        fit_n = np.full(n, nan)
-        fit_e = np.full(n, nan)
-        ok_spi = is_spi & (theta > 0.0) & (defl_len > 0.0) & np.isfinite(defl_len)
-        if ok_spi.any():
-            i = np.flatnonzero(ok_spi)
-            spi_len[i], fit_n[i], fit_e[i] = _fit_clothoid(
-                sn[i], se[i], en[i], ee[i], b1[i], k0[i], k1[i], defl_len[i], turn[i]
-            )
-        # a spiral's End against the clothoid through Start along Start->PI
-        miss = np.hypot(fit_n - en, fit_e - ee)
-        # and the clothoid's end direction against PI->End
-        end_turn = np.abs(_wrap180(b2 - (b1 + turn * np.degrees(spi_len * (k0 + k1) / 2.0))))
-
-        length = np.select([is_line, is_arc], [chord, r1 * np.radians(sweep)], spi_len)
-        az_start = np.select([is_line, is_arc], [az_chord, np.mod(a1 + 90.0 * turn, 360.0)], b1)
-        az_end = np.select([is_line, is_arc], [az_chord, np.mod(a2 + 90.0 * turn, 360.0)], b2)
-        # a zero-length line (some programs write one between elements) carries no
-        # direction of its own: it takes the direction in force where it sits
-        for j in np.flatnonzero(is_line & ~(chord > tolerance)).tolist():
-            ref = az_end[j - 1] if j > 0 else az_start[j + 1] if n > 1 else 0.0
-            az_start[j] = az_end[j] = ref
-        rad_start = np.select([is_line, is_arc], [np.inf, r1], rs_attr)
-        rad_end = np.select([is_line, is_arc], [np.inf, r1], re_attr)
-
-        # element checks, in the order a message is preferred at one element
-        radius_attr = attr("radius_attr")
-        length_attr = attr("length_attr")
-        delta_attr = attr("delta_attr")
-        chord_attr = attr("chord_attr")
-        arc_chord = 2.0 * r1 * np.sin(np.radians(sweep) / 2.0)
-        tol = tolerance
-        checks: list[tuple[NDArray[np.bool_], Callable[[int], str]]] = [
-            (is_arc & ~(chord > tol), lambda i: f"Start and End coincide ({fmt(chord[i])} apart)"),
-            (is_arc & ~(r1 > tol), lambda i: f"Center is on Start (radius {fmt(r1[i])})"),
-            (
-                is_arc & ~(np.abs(r1 - r2) <= tol + _REL * r1),
-                lambda i: f"|Start-Center| = {fmt(r1[i])} but |End-Center| = {fmt(r2[i])}",
-            ),
-            (
-                is_spi & ~((t1 > tol) & (t2 > tol)),
-                lambda i: f"PI coincides with Start or End (tangents {fmt(t1[i])} and {fmt(t2[i])})",
-            ),
-            (
-                is_spi & ~(theta > 0.0),
-                lambda i: (
-                    f"the tangents Start->PI and PI->End turn {fmt(abs(defl[i]))} degrees "
-                    f"{'right' if defl[i] > 0 else 'left'}, against rot = {'cw' if turn[i] > 0 else 'ccw'}"
-                ),
-            ),
-            (
-                ok_spi & ~(miss <= tol),
-                lambda i: (
-                    f"End is {fmt(miss[i])} from the clothoid through Start along Start->PI with radiusStart "
-                    f"{fmt(rs_attr[i])}, radiusEnd {fmt(re_attr[i])} and length {fmt(length[i])}"
-                ),
-            ),
-            (
-                ok_spi & ~(end_turn <= _ARCSEC),
-                lambda i: (
-                    f"PI->End is {fmt(end_turn[i] * 3600.0)} arc-seconds off the end direction of the clothoid "
-                    f"through Start and End with radiusStart {fmt(rs_attr[i])} and radiusEnd {fmt(re_attr[i])}"
-                ),
-            ),
-            (
-                is_arc & ~np.isnan(radius_attr) & ~(np.abs(radius_attr - r1) <= tol + _REL * r1),
-                lambda i: f"radius = {fmt(radius_attr[i])} contradicts |Start-Center| = {fmt(r1[i])}",
-            ),
-            (
-                ~np.isnan(length_attr) & ~(np.abs(length_attr - length) <= tol + _REL * np.abs(length)),
-                lambda i: f"length = {fmt(length_attr[i])} contradicts the points, which give {fmt(length[i])}",
-            ),
-            (
-                is_arc & ~np.isnan(delta_attr) & ~(np.abs(delta_attr - sweep) <= np.maximum(_ARCSEC, np.degrees(tol / r1))),
-                lambda i: f"delta = {fmt(delta_attr[i])} degrees contradicts the points, which give {fmt(sweep[i])}",
-            ),
-            (
-                is_arc & ~np.isnan(chord_attr) & ~(np.abs(chord_attr - arc_chord) <= tol + _REL * r1),
-                lambda i: f"chord = {fmt(chord_attr[i])} contradicts the points, which give {fmt(arc_chord[i])}",
-            ),
-        ]
-
-        # junctions: the check sits on the later element (i + 1)
-        gap = np.concatenate([[0.0], np.hypot(sn[1:] - en[:-1], se[1:] - ee[:-1])])
-        kink = np.concatenate([[0.0], np.abs(_wrap180(az_start[1:] - az_end[:-1]))])
-        k_before = np.concatenate([[0.0], np.where(np.isinf(rad_end[:-1]), 0.0, turn[:-1] / rad_end[:-1])])
-        k_here = np.where(np.isinf(rad_start), 0.0, turn / rad_start)
-        r_before = np.concatenate([[np.inf], rad_end[:-1]])
-        spiral_joint = np.concatenate([[False], is_spi[:-1] | is_spi[1:]])
-        inf_a, inf_b = k_before == 0.0, k_here == 0.0
-        same_r = np.abs(r_before - rad_start) <= tol + _REL * np.fmin(r_before, rad_start)
-        curv_ok = (inf_a & inf_b) | (~inf_a & ~inf_b & (np.sign(k_before) == np.sign(k_here)) & same_r)
-        checks += [
-            (~(gap <= tol), lambda i: f"starts {fmt(gap[i])} from the end of the element before"),
-            (
-                ~(kink <= _ARCSEC) & joins,
-                lambda i: f"starts {fmt(kink[i] * 3600.0)} arc-seconds off the direction of the element before",
-            ),
-            (
-                spiral_joint & ~curv_ok & joins,
-                lambda i: (
-                    f"starts with radius {_radius_text(k_here[i], rad_start[i])} where the element before ends "
-                    f"with radius {_radius_text(k_before[i], r_before[i])}"
-                ),
-            ),
-        ]
-
-    bad = np.zeros(n, dtype=bool)
-    for mask, _ in checks:
-        bad |= mask
-    if bad.any():
-        first = int(np.flatnonzero(bad)[0])
-        for mask, message in checks:
-            if mask[first]:
-                raise GeometryError(f"{_where(a, els[first])}: {message(first)}")
-
-    total = float(length.sum())
-    span = abs(station_at(a, a.sta_start + total) - a.sta_start)  # what some programs write instead
-    if a.length_attr is not None and not min(abs(a.length_attr - total), abs(a.length_attr - span)) <= (
-        tolerance + _REL * total
-    ):
-        raise GeometryError(
-            f"alignment {a.name!r}: length = {fmt(a.length_attr)} contradicts its elements, which add up to {fmt(total)}"
-        )
+    g = _measure(els, tolerance)
+    _raise_first(a, _element_checks(els, g, tolerance) + _junction_checks(g, tolerance, joins))
+    total = float(g.length.sum())
+    _check_length_attr(a, total, tolerance)
     _check_equations(a, total, tolerance)
-
-    starts = a.sta_start + np.concatenate([[0.0], np.cumsum(length)[:-1]])
+    starts = a.sta_start + np.concatenate([[0.0], np.cumsum(g.length)[:-1]])
     return tuple(
         XMeasured(
-            index=els[i].index,
-            kind=kind_of(els[i]).kind,
-            name=els[i].name,
+            index=el.index,
+            kind=kind_of(el).kind,
+            name=el.name,
             sta_start=float(starts[i]),
-            length=float(length[i]),
-            az_start=float(az_start[i]),
-            az_end=float(az_end[i]),
-            radius_start=None if math.isinf(rad_start[i]) else float(rad_start[i]),
-            radius_end=None if math.isinf(rad_end[i]) else float(rad_end[i]),
-            turn=int(turn[i]),
+            length=float(g.length[i]),
+            az_start=float(g.az_start[i]),
+            az_end=float(g.az_end[i]),
+            radius_start=None if math.isinf(g.rad_start[i]) else float(g.rad_start[i]),
+            radius_end=None if math.isinf(g.rad_end[i]) else float(g.rad_end[i]),
+            turn=int(g.turn[i]),
         )
-        for i in range(n)
+        for i, el in enumerate(els)
     )
 
 

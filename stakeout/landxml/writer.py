@@ -35,6 +35,7 @@ import numpy as np
 
 from ..errors import GeometryError, JobFileError
 from .records import (
+    ANGLE_POINT_CODE,
     LANDXML_NS,
     UNIT_WORDS,
     XPVI,
@@ -401,6 +402,8 @@ def _write_element(geom: _ET.Element, el: XElement, m: XMeasured) -> None:
     x = _ET.SubElement(geom, tag, {**base, **attrs_of(el, m)})
     for p_tag, n, e in points_of(el):
         _pt(x, p_tag, n, e)
+    if getattr(el, "angle_point", False):
+        _ET.SubElement(x, "Feature", {"name": "angle point", "code": ANGLE_POINT_CODE})
 
 
 def _write_pvi(parent: _ET.Element, v: XPVI) -> None:

@@ -15,7 +15,7 @@ from collections.abc import Callable
 from .. import __version__
 from ..alignment import Arc, Element, Line, Spiral
 from ..alignment.curves import intersect_tangents
-from ..angles import sincosd
+from ..angles import angle_difference, sincosd
 from ..design import Design
 from ..errors import OutputError, StakeoutError
 from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
@@ -29,6 +29,7 @@ __all__ = ["alignment_xml", "EXPORT", "MAX_ARC_TURN", "MAX_SPIRAL_TURN"]
 #: of at most this turn (an arc of 359.9999 degrees as three arcs of one circle): exactly the same curve.
 MAX_ARC_TURN = 150.0
 MAX_SPIRAL_TURN = 90.0
+_ANGLE_EPS = 1e-9  # degrees: a smaller change of direction at a join is none (as the alignment counts it)
 
 
 def _spiral_pi(el: Element) -> tuple[float, float]:
@@ -59,11 +60,13 @@ def _pieces(el: Element, most: float) -> list[Element]:
     return out
 
 
-def _line(name: str, el: Element) -> list[XElement]:
-    return [XLine(0, f"L{name}", el.start_northing, el.start_easting, el.end_northing, el.end_easting)]
+def _line(name: str, el: Element, before: Element | None) -> list[XElement]:
+    deflects = before is not None and abs(float(angle_difference(before.end_azimuth, el.start_azimuth))) > _ANGLE_EPS
+    return [XLine(0, f"L{name}", el.start_northing, el.start_easting, el.end_northing, el.end_easting,
+                  angle_point=deflects)]
 
 
-def _arc(name: str, el: Element) -> list[XElement]:
+def _arc(name: str, el: Element, before: Element | None) -> list[XElement]:
     assert isinstance(el, Arc)
     parts = _pieces(el, MAX_ARC_TURN)
     return [XCurve(0, f"C{name}" if len(parts) == 1 else f"C{name}.{k}", p.start_northing, p.start_easting,
@@ -71,7 +74,7 @@ def _arc(name: str, el: Element) -> list[XElement]:
             for k, p in enumerate(parts, start=1)]
 
 
-def _spiral(name: str, el: Element) -> list[XElement]:
+def _spiral(name: str, el: Element, before: Element | None) -> list[XElement]:
     out: list[XElement] = []
     parts = _pieces(el, MAX_SPIRAL_TURN)
     for k, p in enumerate(parts, start=1):
@@ -83,17 +86,19 @@ def _spiral(name: str, el: Element) -> list[XElement]:
 
 #: How each element class of the design is exported: one entry per class of ``alignment/elements.py``
 #: (a test holds this); a class missing here is an error, never a ``<Line>``.
-EXPORT: dict[type[Element], Callable[[str, Element], list[XElement]]] = {Line: _line, Arc: _arc, Spiral: _spiral}
+EXPORT: dict[type[Element], Callable[[str, Element, Element | None], list[XElement]]] = {Line: _line, Arc: _arc, Spiral: _spiral}
 
 
 def _elements(d: Design) -> list[XElement]:
     out: list[XElement] = []
+    before: Element | None = None
     for i, el in enumerate(d.alignment.elements, start=1):
         export = EXPORT.get(type(el))
         if export is None:
             raise OutputError(f"alignment.xml: element {i} of the alignment is a {type(el).__name__!r}, "
                               "which the LandXML export does not know")
-        out.extend(export(str(i), el))
+        out.extend(export(str(i), el, before))
+        before = el
     return out
 
 
