@@ -76,12 +76,13 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         assert a["elevation"] == b["elevation"]
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(st.lists(st.tuples(st.floats(150.0, 600.0), st.floats(-1.0, 1.0).filter(lambda v: abs(v) > 0.5),
-                          st.sampled_from([0.0, 30.0, 60.0])), min_size=1, max_size=3),
+                          st.sampled_from([None, 0.0, 30.0, 60.0])), min_size=1, max_size=3),
        st.sampled_from(["m", "ft", "us_ft"]))
 def test_random_alignments_round_trip(tmp_path_factory, curves, units):
-    # property: a random PI list with (spiralled) curves comes back through its own export with the same stakes
+    # property: a random PI list with (spiralled) curves and angle points (None: a PI with no curve) comes
+    # back through its own export with the same stakes
     tmp = tmp_path_factory.mktemp("rt")
     n = e = 0.0
     az = 0.0
@@ -90,7 +91,8 @@ def test_random_alignments_round_trip(tmp_path_factory, curves, units):
         n += 1500.0 * math.cos(math.radians(az))
         e += 1500.0 * math.sin(math.radians(az))
         spir = f"\nspirals = [{ls}, {ls}]" if ls else ""
-        pis.append(f"[[alignment.pi]]\nnorthing = {n:.4f}\neasting = {e:.4f}\nradius = {r}{spir}")
+        curve = "" if ls is None else f"\nradius = {r}{spir}"
+        pis.append(f"[[alignment.pi]]\nnorthing = {n:.4f}\neasting = {e:.4f}{curve}")
         az += 60.0 * turn
     n += 1500.0 * math.cos(math.radians(az))
     e += 1500.0 * math.sin(math.radians(az))
