@@ -36,12 +36,14 @@
 
 from __future__ import annotations
 
+import codecs
 import gc
 import hashlib
-import itertools
+import io
 import math
 import os
 import re
+import warnings
 import xml.etree.ElementTree as _ET  # the tree's types only: parsing is defusedxml's
 from collections.abc import Iterator, Sequence
 
@@ -50,7 +52,15 @@ import numpy as np
 from defusedxml import DefusedXmlException
 
 from ..errors import JobFileError
-from ..limits import read_regular_file
+from ..limits import (
+    MAX_COORDINATE,
+    MAX_HEIGHT,
+    check_coordinate,
+    check_height,
+    check_length,
+    check_station_value,
+    read_regular_file,
+)
 from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
@@ -67,11 +77,14 @@ from .records import (
     XProfile,
     XSpiral,
     XUnits,
+    fmt,
 )
 
 __all__ = ["read_landxml", "parse_landxml", "pick_alignment", "pick_profile", "check_units"]
 
 _NEWLINE = b"\n"
+# what the stream keeps of an element (see _Reader.stream)
+_KEEP, _CG, _POINT, _SHALLOW_TOP, _SHALLOW, _DROP = range(6)
 _DOUBLE = re.compile(r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?|[+-]?INF")
 _NOT_DOUBLE_CHAR = re.compile(r"[^0-9eE+\-. INF]")
 _DMS_PACKED = re.compile(r"([+-]?)(\d+)(?:\.(\d{0,2})(\d*))?")
@@ -147,9 +160,45 @@ def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
             gc.enable()
 
 
-def _parse(data: bytes, source: str, digest: str) -> XDesign:
+_DECLARED = re.compile(rb"""\A(?:\xef\xbb\xbf)?<\?xml[^>]*?\sencoding\s*=\s*["']([^"']{0,64})["']""")
+_EXPAT_NATIVE = frozenset({"utf-8", "utf-16", "utf-16-le", "utf-16-be", "ascii", "latin-1", "iso8859-1"})
+
+
+def _as_parser_can_read(data: bytes, source: str) -> bytes:
+    """The document in an encoding the parser reads: one it does not (Shift_JIS, another multi-byte
+    encoding, a Windows code page) is decoded by Python's codec and handed on as UTF-8; an encoding
+    Python does not know, or bytes that are not in the declared one, are refused by name.
+    """
+    m = _DECLARED.match(data[:512])
+    if m is None:
+        return data
+    declared = m.group(1).decode("ascii", "replace")
     try:
-        root = _DET.fromstring(data, forbid_dtd=True, forbid_entities=True, forbid_external=True)
+        codec = codecs.lookup(declared).name
+    except LookupError:
+        raise JobFileError(f"{source}: the XML declaration names encoding {declared!r}, which is unknown; "
+                           "save the file as UTF-8") from None
+    if codec in _EXPAT_NATIVE:
+        return data
+    try:
+        text = data.decode(codec)
+    except LookupError:  # a codec that is no text encoding (rot13, base64)
+        raise JobFileError(f"{source}: encoding {declared!r} of the XML declaration is not a text encoding; "
+                           "save the file as UTF-8") from None
+    except UnicodeDecodeError as exc:
+        line = data.count(_NEWLINE, 0, exc.start) + 1
+        raise JobFileError(f"{source}: line {line}: bytes that are not {declared!r}, the encoding the XML "
+                           "declaration names; save the file as UTF-8") from None
+    start, end = m.span(1)
+    head = data[:start].decode("ascii", "replace") + "UTF-8" + data[end:m.end()].decode("ascii", "replace")
+    return (head + text[len(data[:m.end()].decode(codec)):]).encode("utf-8")
+
+
+def _parse(data: bytes, source: str, digest: str) -> XDesign:
+    data = _as_parser_can_read(data, source)
+    reader = _Reader(source)
+    try:
+        root = reader.stream(data)
     except _ET.ParseError as exc:
         line, col = exc.position
         reason = re.sub(r":\s*line \d+, column \d+\s*$", "", str(exc))
@@ -161,7 +210,9 @@ def _parse(data: bytes, source: str, digest: str) -> XDesign:
             f"{source}: refused {type(exc).__name__}{line_txt}: document type declarations, "
             "entities and external references are not accepted"
         ) from None
-    return _Reader(source).read(root, digest)
+    except (ValueError, LookupError) as exc:  # what the parser itself says of an encoding
+        raise JobFileError(f"{source}: cannot be read as XML ({exc}); save the file as UTF-8") from None
+    return reader.read(root, digest)
 
 
 def _split(tag: object) -> tuple[str, str]:
@@ -189,6 +240,92 @@ class _Reader:
         self.angular_declared = True
         self.cg_by_name: dict[str, tuple[float, float, float | None]] = {}
         self.unused: list[tuple[str, str]] = []
+        # per top-level <CgPoints>: its points (name, text, code, desc, pntRef) and what it holds besides
+        self.cg_rows: dict[int, list[tuple[str, str, str, str, str | None]]] = {}
+        self.cg_unused: dict[int, list[tuple[str, str]]] = {}
+
+    # -- streaming ------------------------------------------------------------
+
+    def stream(self, data: bytes) -> _ET.Element:
+        """Parse incrementally, keeping only what the reader needs.
+
+        The points of ``<CgPoints>`` are taken as plain rows when each ends
+        and dropped from the tree; of the content a staking job does not use
+        (surfaces, pipe networks, ...) only the top two levels are kept, for
+        the list of what is not used.  A 250 MB file of points or surfaces
+        is so read in a fraction of the memory its whole tree would take.
+        """
+        stack: list[_ET.Element] = []
+        zones: list[int] = []
+        done: list[int] = []  # children already ended and consumed, at the front of each open element
+        top = 0
+        root: _ET.Element | None = None
+        for event, el in _DET.iterparse(io.BytesIO(data), events=("start", "end"), forbid_dtd=True,
+                                        forbid_entities=True, forbid_external=True):
+            if event == "start":
+                if root is None:
+                    root = el
+                    self.ns = _split(el.tag)[0]
+                    zone = _KEEP
+                else:
+                    zone = self.zone(el, zones[-1], len(stack))
+                    if zone == _CG and len(stack) == 1:
+                        top = id(el)
+                        self.cg_rows[top], self.cg_unused[top] = [], []
+                stack.append(el)
+                zones.append(zone)
+                done.append(0)
+                continue
+            stack.pop()
+            zone = zones.pop()
+            done.pop()
+            if not stack or zones[-1] not in (_CG, _SHALLOW, _DROP):
+                continue
+            parent = stack[-1]
+            if zones[-1] == _CG:
+                self.cg_child(el, zone, parent, top)
+            el.clear()
+            done[-1] += 1
+            if done[-1] >= 4096:  # the front of the parent's children is what has been consumed
+                del parent[: done[-1]]
+                done[-1] = 0
+        assert root is not None
+        return root
+
+    def zone(self, el: _ET.Element, parent_zone: int, depth: int) -> int:
+        """What the stream keeps of an element, from its parent's zone and its depth (the root is 0)."""
+        ns, local = _split(el.tag)
+        mine = ns == self.ns
+        if parent_zone == _KEEP and depth == 1:
+            if mine and local == "CgPoints":
+                return _CG
+            return _KEEP if mine and local in ("Units", "Application", "Alignments") else _SHALLOW_TOP
+        if parent_zone == _CG:
+            if mine and local == "CgPoints":
+                return _CG
+            return _POINT if mine and local == "CgPoint" else _KEEP
+        if parent_zone == _SHALLOW_TOP:
+            return _SHALLOW
+        if parent_zone in (_SHALLOW, _DROP):
+            return _DROP
+        return _KEEP
+
+    def cg_child(self, el: _ET.Element, zone: int, parent: _ET.Element, top: int) -> None:
+        """A child of a ``<CgPoints>`` has ended: a point becomes a row, anything else a note."""
+        if zone == _POINT:
+            self.cg_rows[top].append((el.get("name", ""), el.text or "", el.get("code", ""), el.get("desc", ""),
+                                      el.get("pntRef")))
+        elif zone != _CG:  # a nested collection's content went into the rows already
+            ctx = f"CgPoints {parent.get('name') or ''}".rstrip()
+            holder = _ET.Element("holder")
+            holder.append(el)
+            kept = self.unused
+            self.unused = self.cg_unused[top]
+            try:
+                for local, child in self.children(holder, ctx):
+                    self.note(ctx, local, child)
+            finally:
+                self.unused = kept
 
     # -- helpers ------------------------------------------------------------
 
@@ -225,6 +362,19 @@ class _Reader:
     def opt_double(self, el: _ET.Element, attr: str, what: str) -> float | None:
         v = el.get(attr)
         return None if v is None else self.double(v, f"{what} {attr}")
+
+    # the bounds of typed numbers (stakeout/limits.py) hold for numbers from a design file too
+    def station(self, v: float, what: str) -> float:
+        return check_station_value(v, f"{self.source}: {what}")
+
+    def height(self, v: float, what: str) -> float:
+        return check_height(v, f"{self.source}: {what}")
+
+    def length(self, v: float | None, what: str) -> float | None:
+        return None if v is None else check_length(v, f"{self.source}: {what}", allow_zero=True, signed=True)
+
+    def opt_length(self, el: _ET.Element, attr: str, what: str) -> float | None:
+        return self.length(self.opt_double(el, attr, what), f"{what} {attr}")
 
     def angle_deg(self, el: _ET.Element, attr: str, what: str) -> float | None:
         """An ``angle`` attribute in the file's angularUnit, as unsigned degrees."""
@@ -285,6 +435,8 @@ class _Reader:
         vals = [self.double(p, what) for p in parts]
         if not all(math.isfinite(v) for v in vals):
             raise self.err(f"{what} = {el.text!r}: coordinates must be finite")
+        for v, axis in zip(vals, ("northing", "easting"), strict=False):  # an elevation here is not used
+            check_coordinate(v, f"{self.source}: {what} {axis}")
         return vals[0], vals[1], (vals[2] if len(vals) == 3 else None)
 
     # -- document -------------------------------------------------------------
@@ -310,7 +462,8 @@ class _Reader:
         points: list[XPoint] = []
         for local, el in top:
             if local == "CgPoints":
-                self.cgpoints(el, points)
+                self.unused.extend(self.cg_unused.get(id(el), ()))
+                self.cgpoints(self.cg_rows.get(id(el), []), points)
         alignments: list[XAlignment] = []
         profiles: list[XProfile] = []
         application = ""
@@ -354,42 +507,31 @@ class _Reader:
             raise self.err(f"<{system} angularUnit={ang!r}>: expected one of {', '.join(_ANGULAR)}")
         return XUnits(key, linear or "", ang, dirn)
 
-    def cgpoints(self, el: _ET.Element, out: list[XPoint]) -> None:
-        stack = [el]
-        order: list[_ET.Element] = []
-        tag = f"{{{self.ns}}}CgPoint" if self.ns else "CgPoint"
-        while stack:  # nested collections, iteratively and in document order
-            coll = stack.pop()
-            ctx = f"CgPoints {coll.get('name') or ''}".rstrip()
-            nested: list[_ET.Element] = []
-            order.extend(child for child in coll if child.tag == tag)
-            others = _ET.Element("others")
-            others.extend(child for child in coll if child.tag != tag)
-            for local, child in self.children(others, ctx):
-                if local == "CgPoints":
-                    nested.append(child)
-                else:
-                    self.note(ctx, local, child)
-            stack.extend(reversed(nested))
+    def cgpoints(self, rows: list[tuple[str, str, str, str, str | None]], out: list[XPoint]) -> None:
         # all coordinates at once (a file may hold the million stakes of a build)
-        names = [c.get("name", "") for c in order]
-        split = [(c.text or "").split() for c in order]
-        counts = np.fromiter(map(len, split), dtype=np.int64, count=len(split))
+        names = [r[0] for r in rows]
+        texts = [r[1] for r in rows]
+        counts = np.fromiter((len(t.split()) for t in texts), dtype=np.int64, count=len(texts))
         odd = np.flatnonzero((counts == 1) | (counts > 3))
         if odd.size:
-            c = order[int(odd[0])]
-            raise self.err(f"CgPoint {names[int(odd[0])]!r} = {c.text!r}: expected 'northing easting [elevation]'")
-        tokens = list(itertools.chain.from_iterable(split))
-        try:
-            # xs:double has digits, sign, point, exponent and INF; the conversion refuses malformed numbers
-            if _NOT_DOUBLE_CHAR.search(" ".join(tokens)):
-                raise ValueError
-            numbers = np.array(tokens, dtype=float)
-        except ValueError:
-            for name, parts in zip(names, split, strict=True):  # only to name the culprit
-                for t in parts:
+            text = rows[int(odd[0])][1]
+            raise self.err(f"CgPoint {names[int(odd[0])]!r} = {text!r}: expected 'northing easting [elevation]'")
+        joined = " ".join(texts)  # one string and one array: no Python object per number
+        numbers = None
+        # xs:double has digits, sign, point, exponent and INF; the conversion refuses malformed numbers
+        if not _NOT_DOUBLE_CHAR.search(joined):
+            with warnings.catch_warnings():
+                warnings.simplefilter("error")  # numpy warns (and stops) at text it cannot read
+                try:
+                    numbers = np.fromstring(joined, dtype=float, sep=" ")
+                except (ValueError, DeprecationWarning):
+                    numbers = None
+        if numbers is None or numbers.size != int(counts.sum()):
+            for name, text in zip(names, texts, strict=True):  # only to name the culprit
+                for t in text.split():
                     self.double(t, f"CgPoint {name!r}")
-            raise
+            raise self.err("CgPoints: coordinates that are not numbers")
+        del joined
         vals = np.concatenate([numbers, np.full(3, np.nan)])  # padded for the gathers
         first = np.concatenate([[0], np.cumsum(counts)[:-1]]).astype(np.int64)
         has = counts > 0
@@ -399,26 +541,34 @@ class _Reader:
         finite = np.isfinite(nn) & np.isfinite(ee) & (np.isfinite(zz) | (counts == 2))
         if not finite[has].all():
             i = int(np.flatnonzero(has & ~finite)[0])
-            raise self.err(f"CgPoint {names[i]!r} = {order[i].text!r}: coordinates must be finite")
+            raise self.err(f"CgPoint {names[i]!r} = {rows[i][1]!r}: coordinates must be finite")
+        with np.errstate(invalid="ignore"):
+            far = (np.abs(nn) > MAX_COORDINATE) | (np.abs(ee) > MAX_COORDINATE) | (np.abs(zz) > MAX_HEIGHT)
+        if far[has].any():
+            i = int(np.flatnonzero(has & far)[0])
+            raise self.err(f"CgPoint {names[i]!r} = {rows[i][1]!r}: out of range; coordinates must lie within "
+                           f"-{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} and elevations within "
+                           f"-{MAX_HEIGHT:,.0f} to {MAX_HEIGHT:,.0f} file units")
         # names with coordinates first (the first of a name wins), so a CgPoint may refer to another
         for i in reversed(np.flatnonzero(has & np.array([bool(n) for n in names], dtype=bool)).tolist()):
             self.cg_by_name[names[i]] = (float(nn[i]), float(ee[i]), None if counts[i] == 2 else float(zz[i]))
         for i in np.flatnonzero(~has).tolist():  # pntRef only: rare
-            nn[i], ee[i], z = self.point(order[i], f"CgPoint {names[i]!r}")
+            ref = rows[i][4]
+            stand_in = _ET.Element("CgPoint", {} if ref is None else {"pntRef": ref})
+            stand_in.text = rows[i][1]
+            nn[i], ee[i], z = self.point(stand_in, f"CgPoint {names[i]!r}")
             zz[i] = np.nan if z is None else z
         zs: list[float | None] = [None if math.isnan(z) else z for z in zz.tolist()]
         out.extend(
-            XPoint(name, n, e, z, c.get("code", ""), c.get("desc", ""))
-            for name, n, e, z, c in zip(names, nn.tolist(), ee.tolist(), zs, order, strict=True)
+            XPoint(name, n, e, z, r[2], r[3])
+            for name, n, e, z, r in zip(names, nn.tolist(), ee.tolist(), zs, rows, strict=True)
         )
 
     def alignment(self, el: _ET.Element, position: int, profiles: list[XProfile]) -> XAlignment:
         name = el.get("name", "")
         what = f"alignment {name!r}" if name else f"alignment {position}"
-        sta_start = self.double(el.get("staStart"), f"{what} staStart")
-        if not math.isfinite(sta_start):
-            raise self.err(f"{what} staStart: must be finite")
-        length = self.opt_double(el, "length", what)
+        sta_start = self.station(self.double(el.get("staStart"), f"{what} staStart"), f"{what} staStart")
+        length = self.opt_length(el, "length", what)
         elements: tuple[XElement, ...] = ()
         unsupported: list[str] = []
         equations: list[XEquation] = []
@@ -466,9 +616,11 @@ class _Reader:
                 if key not in pts:
                     raise self.err(f"{where}: no <{key}>")
             sta = self.opt_double(child, "staStart", where)
+            if sta is not None:
+                self.station(sta, f"{where} staStart")
             s, e = pts["Start"], pts["End"]
             if local == "Line":
-                out.append(XLine(index, name, s[0], s[1], e[0], e[1], self.opt_double(child, "length", where), sta,
+                out.append(XLine(index, name, s[0], s[1], e[0], e[1], self.opt_length(child, "length", where), sta,
                                  angle_point))
                 continue
             rot_txt = child.get("rot")
@@ -480,10 +632,10 @@ class _Reader:
                 out.append(
                     XCurve(
                         index, name, s[0], s[1], c[0], c[1], e[0], e[1], rot,
-                        radius_attr=self.opt_double(child, "radius", where),
-                        length_attr=self.opt_double(child, "length", where),
+                        radius_attr=self.opt_length(child, "radius", where),
+                        length_attr=self.opt_length(child, "length", where),
                         delta_attr=self.delta_deg(child, where, s, c, e, rot),
-                        chord_attr=self.opt_double(child, "chord", where),
+                        chord_attr=self.opt_length(child, "chord", where),
                         sta_start_attr=sta,
                     )
                 )
@@ -492,11 +644,11 @@ class _Reader:
                 radii = []
                 for attr in ("radiusStart", "radiusEnd"):
                     r = abs(self.double(child.get(attr), f"{where} {attr}"))
-                    radii.append(None if math.isinf(r) else r)
+                    radii.append(None if math.isinf(r) else self.length(r, f"{where} {attr}"))
                 out.append(
                     XSpiral(
                         index, name, s[0], s[1], pi[0], pi[1], e[0], e[1], radii[0], radii[1], rot,
-                        length_attr=self.opt_double(child, "length", where),
+                        length_attr=self.opt_length(child, "length", where),
                         spi_type=child.get("spiType", ""),
                         sta_start_attr=sta,
                     )
@@ -512,11 +664,17 @@ class _Reader:
         if inc_txt not in ("increasing", "decreasing"):
             raise self.err(f"{where} staIncrement = {inc_txt!r}: expected 'increasing' or 'decreasing'")
         for key, v in (("staInternal", internal), ("staAhead", ahead), ("staBack", back)):
-            if v is not None and not math.isfinite(v):
-                raise self.err(f"{where} {key}: must be finite")
+            if v is not None:
+                self.station(v, f"{where} {key}")
         for local, child in self.children(el, where):
             self.note(where, local, child)
         return XEquation(internal, ahead, back, 1 if inc_txt == "increasing" else -1)
+
+    def pvi_length(self, k: _ET.Element, attr: str, at: str) -> float:
+        v = self.double(k.get(attr), f"{at} {attr}")
+        if math.isfinite(v) and v < 0.0:
+            raise self.err(f"{at}: curve lengths must be finite and not negative ({attr} = {fmt(v)})")
+        return check_length(v, f"{self.source}: {at} {attr}", allow_zero=True)
 
     def profile(self, el: _ET.Element, a_name: str, what: str, out: list[XProfile]) -> None:
         p_what = f"{what} profile {el.get('name')!r}" if el.get("name") else f"{what} profile"
@@ -537,27 +695,52 @@ class _Reader:
                 if len(parts) != 2:
                     raise self.err(f"{at} = {k.text!r}: expected 'station elevation'")
                 sta, elev = (self.double(p, at) for p in parts)
-                if not (math.isfinite(sta) and math.isfinite(elev)):
-                    raise self.err(f"{at} = {k.text!r}: must be finite")
+                self.station(sta, f"{at} station")
+                self.height(elev, f"{at} elevation")
                 if pvis and not sta > pvis[-1].station:
                     raise self.err(f"{at}: station {sta!r} does not increase (previous {pvis[-1].station!r})")
                 if kind == "pvi":
                     pvis.append(XPVI(sta, elev))
                 elif kind == "para":
-                    length = self.double(k.get("length"), f"{at} length")
+                    length = self.pvi_length(k, "length", at)
                     pvis.append(XPVI(sta, elev, "para", length, length / 2.0, length / 2.0))
                 elif kind == "unsym":
-                    lin = self.double(k.get("lengthIn"), f"{at} lengthIn")
-                    lout = self.double(k.get("lengthOut"), f"{at} lengthOut")
+                    lin = self.pvi_length(k, "lengthIn", at)
+                    lout = self.pvi_length(k, "lengthOut", at)
                     pvis.append(XPVI(sta, elev, "unsym", lin + lout, lin, lout))
                 else:
-                    length = self.double(k.get("length"), f"{at} length")
+                    length = self.pvi_length(k, "length", at)
                     radius = self.double(k.get("radius"), f"{at} radius")
+                    check_length(radius, f"{self.source}: {at} radius", signed=True)
                     pvis.append(XPVI(sta, elev, "circ", length, None, None, radius))
                 for bad in (pvis[-1].length, pvis[-1].length_in, pvis[-1].length_out):
                     if bad is not None and not (math.isfinite(bad) and bad >= 0.0):
                         raise self.err(f"{at}: curve lengths must be finite and not negative")
+            self.check_circular_curves(pvis, where)
             out.append(XProfile(name, a_name, tuple(pvis)))
+
+    def check_circular_curves(self, pvis: list[XPVI], where: str) -> None:
+        """A ``CircCurve``'s ``length`` against its radius and the grades on either side.
+
+        The arc turns from the grade in to the grade out: its length along the arc is
+        ``R |atan(g_out) - atan(g_in)|``; its horizontal length ``R |sin(atan g_out) - sin(atan g_in)|``
+        is accepted too (files in use write either), each within 0.001 file units and 1e-9 of the length.
+        """
+        for i in range(1, len(pvis) - 1):
+            v = pvis[i]
+            if v.kind != "circ" or v.radius is None:
+                continue
+            g_in = (v.elevation - pvis[i - 1].elevation) / (v.station - pvis[i - 1].station)
+            g_out = (pvis[i + 1].elevation - v.elevation) / (pvis[i + 1].station - v.station)
+            r = abs(v.radius)
+            along = r * abs(math.atan(g_out) - math.atan(g_in))
+            level = r * abs(math.sin(math.atan(g_out)) - math.sin(math.atan(g_in)))
+            slack = 0.001 + 1e-9 * max(along, v.length)
+            if min(abs(v.length - along), abs(v.length - level)) > slack:
+                grades = " and ".join(f"{'+' if g >= 0 else ''}{fmt(g * 100.0)}%" for g in (g_in, g_out))
+                raise self.err(f"{where}, CircCurve {i + 1} (station {fmt(v.station)}): length = {fmt(v.length)} "
+                               f"contradicts radius {fmt(r)} and the grades {grades}, which give {fmt(along)} "
+                               "along the arc")
 
 
 def _summarise(entries: list[tuple[str, str]]) -> tuple[str, ...]:
