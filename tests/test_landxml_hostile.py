@@ -119,3 +119,76 @@ def test_big_landxml_is_read_in_bounded_memory(tmp_path):
     peak_kb = int(r.stdout.split()[0])
     assert "Surface 'EG'" in r.stdout
     assert peak_kb * 1024 < 6 * big.stat().st_size + 150 * 2**20, peak_kb
+
+
+# --- item 3: text from a design file is shown escaped -----------------------------------------------------
+
+def test_design_file_text_cannot_forge_console_lines(tmp_path):
+    # a namespace URI and an <Application name> with a line feed, a C1 control (U+009B) and a
+    # right-to-left override (U+202E) were printed raw by `build` and `inspect`
+    from typer.testing import CliRunner
+
+    from stakeout.cli import app
+
+    forged = "&#10;stakeout: all checks passed"
+    body = (f'<Application name="Drafter{forged}&#x9b;31m&#x202e;"/>'
+            f'<x:Extra xmlns:x="urn:x{forged}"/>' + line_alignment())
+    path = tmp_path / "road.xml"
+    path.write_text(doc(body), encoding="utf-8")
+    r = CliRunner().invoke(app, ["inspect", str(path)])
+    assert r.exit_code == 0, r.output
+    lines = r.output.splitlines()
+    assert not any(line.startswith("stakeout: all checks passed") for line in lines)
+    assert "\x9b" not in r.output and "\u202e" not in r.output
+    assert "written by: Drafter\\nstakeout: all checks passed\\x9b31m\\u202e" in r.output
+    assert "(urn:x\\nstakeout: all checks passed)" in r.output
+    # the not-used notes of a build come from the same escaped text
+    design = lx.parse_landxml(path.read_bytes(), source="road.xml")
+    assert all("\n" not in item for item in design.not_used)
+
+
+# --- item 7: an alignment of length zero -------------------------------------------------------------------
+
+def test_zero_length_landxml_alignment_is_refused():
+    # one <Line> whose Start is its End built three stakes at one point
+    from stakeout.errors import GeometryError
+
+    a = lx.pick_alignment(parse(doc(line_alignment().replace("<End>1100 2000</End>", "<End>1000 2000</End>")
+                                    .replace('length="100"', 'length="0"'))), None)
+    with pytest.raises(GeometryError, match="alignment 'A': its elements add up to a length of 0"):
+        lx.validate_geometry(a)
+
+
+# --- issue 28 item 12: messages name what the user gave ---------------------------------------------------
+
+def test_landxml_profile_messages_name_the_files_elements_not_profile_pvi(tmp_path):
+    # a LandXML profile's curve past its neighbour was reported as `profile.pvi[...]` with a
+    # curve_length the file does not have; now the ProfAlign, the element and its attribute
+    from stakeout.jobfile.design_file import _check_profile_extents
+
+    prof = parse(doc(line_alignment(extra='<Profile><ProfAlign name="FG"><PVI>0 100</PVI>'
+                                          '<UnsymParaCurve lengthIn="10" lengthOut="90">50 99</UnsymParaCurve>'
+                                          '<PVI>100 100.5</PVI></ProfAlign></Profile>'))).profiles[0]
+    with pytest.raises(JobFileError) as info:
+        _check_profile_extents(prof)
+    msg = str(info.value)
+    assert msg.startswith("profile.landxml <ProfAlign 'FG'> UnsymParaCurve 2 lengthOut = 90: the vertical curve "
+                          "ends at 140, past PVI 3 at 100")
+    assert "profile.pvi" not in msg and "curve_length" not in msg
+
+
+def test_equation_at_the_alignments_end_names_sta_internal_not_a_sta_back():
+    # an equation at the very end passed the file check and was then refused as `...StaEquation 1.back`,
+    # a staBack the file does not have
+    from stakeout.errors import GeometryError
+
+    a = lx.pick_alignment(parse(doc(line_alignment(extra='<StaEquation staInternal="100" staAhead="500"/>'))), None)
+    with pytest.raises(GeometryError, match=r"StaEquation 1 \(staInternal 100\): not inside the alignment"):
+        lx.validate_geometry(a)
+
+
+def test_huge_numbers_in_messages_are_short():
+    # fmt once printed 1e300 with its 301 digits
+    assert lx.records.fmt(1e300) == "1e+300"
+    assert lx.records.fmt(-2.5e16) == "-2.5e+16"
+    assert lx.records.fmt(12.3456789) == "12.345679"

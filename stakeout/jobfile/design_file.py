@@ -22,7 +22,7 @@ from ..textsafety import check_free_text
 from .reader import Table
 
 if TYPE_CHECKING:
-    from ..landxml import XElement, XMeasured
+    from ..landxml import XElement, XMeasured, XProfile
 
 __all__ = ["read_alignment_file", "read_profile_file", "LandXMLAlignment"]
 
@@ -120,6 +120,43 @@ def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment
                                       tuple(elements)), tuple(equations), record)
 
 
+_PVI_TAG = {"pvi": "PVI", "para": "ParaCurve", "unsym": "UnsymParaCurve", "circ": "CircCurve"}
+_PROFILE_SLACK = 1e-6  # file units: as the profile's own check of curve extents
+
+
+def _check_profile_extents(xp: XProfile) -> None:
+    """What the profile builder would refuse, said in the file's terms (its elements and attributes).
+
+    At least two PVIs; no vertical curve at the first or last; a parabola's ``lengthIn``/``lengthOut``
+    (half of ``length``) within its neighbouring PVIs and clear of the curve before.
+    """
+    head = f"profile.landxml <ProfAlign {xp.name!r}>"
+    v = xp.pvis
+    if len(v) < 2:
+        raise JobFileError(f"{head}: {len(v)} PVI; a profile needs at least two (where it starts and ends)")
+    for i in (0, len(v) - 1):
+        if v[i].kind != "pvi":
+            raise JobFileError(f"{head} {_PVI_TAG[v[i].kind]} {i + 1} (station {v[i].station:.6g}): the first "
+                               "and last PVI are the profile's ends and cannot carry a vertical curve")
+    prev_end = v[0].station
+    for i in range(1, len(v) - 1):
+        here = v[i]
+        if here.kind not in ("para", "unsym") or here.length_in is None or here.length_out is None:
+            prev_end = here.station
+            continue
+        key = f"{head} {_PVI_TAG[here.kind]} {i + 1}"
+        lin, lout = ("length", "length") if here.kind == "para" else ("lengthIn", "lengthOut")
+        begin, end = here.station - here.length_in, here.station + here.length_out
+        if begin < prev_end - _PROFILE_SLACK:
+            before = "the curve before ends" if prev_end > v[i - 1].station else f"PVI {i} is"
+            raise JobFileError(f"{key} {lin} = {here.length if lin == 'length' else here.length_in:.6g}: the "
+                               f"vertical curve begins at {begin:.6g}, before {before} at {prev_end:.6g}")
+        if end > v[i + 1].station + _PROFILE_SLACK:
+            raise JobFileError(f"{key} {lout} = {here.length if lout == 'length' else here.length_out:.6g}: the "
+                               f"vertical curve ends at {end:.6g}, past PVI {i + 2} at {v[i + 1].station:.6g}")
+        prev_end = end
+
+
 def read_profile_file(t: Table, alignment_name: str, base: Path) -> tuple[ProfileInput, DesignFile]:
     """``[profile] landxml``: the chosen ``<ProfAlign>``, its PVIs at internal stations."""
     from .. import landxml
@@ -128,9 +165,10 @@ def read_profile_file(t: Table, alignment_name: str, base: Path) -> tuple[Profil
     design = landxml.read_landxml(path)
     name = t.text("name")
     xp = landxml.pick_profile(design, alignment_name, name)
+    _check_profile_extents(xp)
     pvis = []
     for i, v in enumerate(xp.pvis):
-        where = f"profile.landxml {xp.name!r} point {i + 1}"
+        where = f"profile.landxml <ProfAlign {xp.name!r}> {_PVI_TAG[v.kind]} {i + 1}"
         at = StationRef(v.station, None, where)
         if v.kind == "circ":
             assert v.radius is not None

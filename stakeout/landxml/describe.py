@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..errors import GeometryError
-from .records import KINDS, UNIT_WORDS, XDesign, fmt, kind_of
+from .records import KINDS, UNIT_WORDS, XDesign, fmt, kind_of, shown
 from .validation import station_at, validate_geometry
 
 __all__ = ["describe"]
@@ -30,7 +30,7 @@ def describe(design: XDesign) -> str:
         f"sha256: {design.sha256}",
     ]
     if design.application:
-        lines.append(f"written by: {design.application}")
+        lines.append(f"written by: {shown(design.application)}")
     lines.append(f"alignments: {len(design.alignments)}")
     for a in design.alignments:
         counts = {k.tag: 0 for k in KINDS.values()}

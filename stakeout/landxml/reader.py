@@ -78,6 +78,7 @@ from .records import (
     XSpiral,
     XUnits,
     fmt,
+    shown,
 )
 
 __all__ = ["read_landxml", "parse_landxml", "pick_alignment", "pick_profile", "check_units"]
@@ -748,7 +749,7 @@ def _summarise(entries: list[tuple[str, str]]) -> tuple[str, ...]:
     counts: dict[tuple[str, str], int] = {}
     for key in entries:
         counts[key] = counts.get(key, 0) + 1
-    return tuple(f"{ctx}: {lab}" + (f" x{n}" if n > 1 else "") for (ctx, lab), n in counts.items())
+    return tuple(shown(f"{ctx}: {lab}") + (f" x{n}" if n > 1 else "") for (ctx, lab), n in counts.items())
 
 
 # ---------------------------------------------------------------------------

@@ -15,6 +15,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import GeometryError
+from ..textsafety import find_unsafe_char
 
 __all__ = [
     "LANDXML_NS",
@@ -36,6 +37,7 @@ __all__ = [
     "KINDS",
     "kind_of",
     "fmt",
+    "shown",
     "UNIT_WORDS",
     "ANGLE_POINT_CODE",
 ]
@@ -452,6 +454,16 @@ def kind_of(el: object) -> XKind:
         raise GeometryError(
             f"element of kind {type(el).__name__!r}: LandXML knows Line, Curve and Spiral only"
         ) from None
+
+
+def shown(text: str) -> str:
+    """Text from a design file as the console may show it: each control, format or separator character
+    (a line feed, ESC, a C1 control such as U+009B, a right-to-left override) as its escape, the rest as
+    it is, so a file can never forge a line or restyle the terminal.
+    """
+    if find_unsafe_char(text) is None:
+        return text
+    return "".join(repr(ch)[1:-1] if find_unsafe_char(ch) is not None else ch for ch in text)
 
 
 def fmt(v: float) -> str:

@@ -408,6 +408,9 @@ def validate_geometry(alignment: XAlignment, tolerance: float = 0.001, *,
     g = _measure(els, tolerance)
     _raise_first(a, _element_checks(els, g, tolerance) + _junction_checks(g, tolerance, joins))
     total = float(g.length.sum())
+    if not total > tolerance:  # a single <Line> whose Start is its End: every stake at one point
+        raise GeometryError(f"alignment {a.name!r}: its elements add up to a length of {fmt(total)}; "
+                            "an alignment must have a length")
     _check_length_attr(a, total, tolerance)
     _check_equations(a, total, tolerance)
     starts = a.sta_start + np.concatenate([[0.0], np.cumsum(g.length)[:-1]])
@@ -434,9 +437,10 @@ def _check_equations(a: XAlignment, total: float, tolerance: float) -> None:
     prev = None
     for k, eq in enumerate(a.equations, start=1):
         where = f"alignment {a.name!r}, StaEquation {k} (staInternal {fmt(eq.sta_internal)})"
-        if not (a.sta_start - tolerance <= eq.sta_internal <= end + tolerance):
+        if not (a.sta_start < eq.sta_internal < end):  # as the stationing needs it: a region on either side
             raise GeometryError(
-                f"{where}: outside the alignment's internal stations {fmt(a.sta_start)} to {fmt(end)}"
+                f"{where}: not inside the alignment's internal stations {fmt(a.sta_start)} to {fmt(end)} "
+                "(an equation lies after the start and before the end)"
             )
         if prev is not None and not eq.sta_internal > prev.sta_internal:
             raise GeometryError(f"{where}: not after the equation before (staInternal {fmt(prev.sta_internal)})")
