@@ -1,11 +1,25 @@
 """Reading LandXML 1.2: a file into the plain records of :mod:`.records`.
+
 * Hardened parsing: ``defusedxml.ElementTree`` with ``forbid_dtd=True`` (and
   ``forbid_entities``/``forbid_external``), so a document type declaration,
   entity expansion ("billion laughs") and external entities are refused.
   Files larger than :data:`MAX_FILE_BYTES` (256 MiB, room for the export
   of a build of about three million stakes) and anything that is not a
-  regular file are refused before a byte is read.  Malformed XML is a
+  regular file are refused before a byte is read (``limits.read_regular_file``:
+  a FIFO never hangs).  Malformed XML is a
   :class:`~stakeout.errors.JobFileError` naming the line and column.
+* Memory: the parse streams.  Points become plain rows as each ``<CgPoint>``
+  ends and leave the tree; of content a staking job does not use only the
+  top two levels are kept.  Reading takes about 7 times the file's size for a
+  file of points (a 160 MB file of 1.2 million points and 1.2 million surface
+  points: 1.2 GB), so a file at the 256 MiB cap fits in 2 GB.
+* Encodings: UTF-8, UTF-16, US-ASCII and ISO-8859-1 go to the parser as they
+  are; any other encoding Python knows (Shift_JIS, code pages) is decoded
+  first; an unknown one, or bytes not in the declared encoding, are refused
+  naming it.
+* Bounds: every number meets the bound of its typed kind
+  (:mod:`stakeout.limits`: stations and coordinates within 1e9, lengths
+  within 1e9, elevations within 1e5), refused naming element and attribute.
 * The root must be ``<LandXML>`` in the LandXML 1.2 namespace
   (:data:`LANDXML_NS`) or in no namespace at all.  Elements of any other
   namespace are extensions, listed as not used.
