@@ -12,7 +12,7 @@
   ends and leave the tree; of content a staking job does not use only the
   top two levels are kept.  Reading takes about 7 times the file's size for a
   file of points (a 160 MB file of 1.2 million points and 1.2 million surface
-  points: 1.2 GB), so a file at the 256 MiB cap fits in 2 GB.
+  points: 1.2 GB), so a file at the 256 MiB cap takes about 2 GB.
 * Encodings: UTF-8, UTF-16, US-ASCII and ISO-8859-1 go to the parser as they
   are; any other encoding Python knows (Shift_JIS, code pages) is decoded
   first; an unknown one, or bytes not in the declared encoding, are refused
