@@ -135,13 +135,18 @@ def _export_and_read_back(tmp_path: Path, alignment: str) -> tuple[Path, Path]:
     return out, back
 
 
+def _form_a(name: str, *elements: str) -> str:
+    """A form A alignment from (0, 1000, 2000) due north: a 100 line, then ``elements`` (TOML bodies)."""
+    head = (f'[alignment]\nname = "{name}"\nstart = {{ station = 0.0, northing = 1000.0, easting = 2000.0 }}\n'
+            'azimuth = 0.0\n')
+    return head + "".join(f"[[alignment.element]]\n{e}\n" for e in ('kind = "line"\nlength = 100.0', *elements))
+
+
 def test_arc_of_359_9999_degrees_is_exported_and_read_back(tmp_path):
     # a valid design the export used to refuse ("Curve C2: Start and End coincide"): the arc is written as
     # pieces of one circle (the schema's <Curve> cannot say more than a half turn by its points alone)
-    alignment = ('[alignment]\nname = "LOOP"\nstart = { station = 0.0, northing = 1000.0, easting = 2000.0 }\n'
-                 'azimuth = 0.0\n[[alignment.element]]\nkind = "line"\nlength = 100.0\n'
-                 '[[alignment.element]]\nkind = "arc"\nradius = 60.0\ndelta = 359.9999\nturn = "right"\n'
-                 '[[alignment.element]]\nkind = "line"\nlength = 100.0\n')
+    alignment = _form_a("LOOP", 'kind = "arc"\nradius = 60.0\ndelta = 359.9999\nturn = "right"',
+                        'kind = "line"\nlength = 100.0')
     out, back = _export_and_read_back(tmp_path, alignment)
     assert "Curve C2.1" not in (back / "elements.csv").read_text()  # the pieces are one arc again
     assert len(read_rows(back / "elements.csv")) == 3
@@ -149,10 +154,8 @@ def test_arc_of_359_9999_degrees_is_exported_and_read_back(tmp_path):
 
 def test_spiral_turning_215_degrees_is_exported_and_read_back(tmp_path):
     # theta = L / 2R = 450.3 / 120 rad = 215 degrees: no PI of its end tangents can describe it in one <Spiral>
-    alignment = ('[alignment]\nname = "SPIN"\nstart = { station = 0.0, northing = 1000.0, easting = 2000.0 }\n'
-                 'azimuth = 0.0\n[[alignment.element]]\nkind = "line"\nlength = 100.0\n'
-                 '[[alignment.element]]\nkind = "spiral"\nlength = 450.3\nradius_end = 60.0\nturn = "left"\n'
-                 '[[alignment.element]]\nkind = "arc"\nradius = 60.0\nlength = 30.0\nturn = "left"\n')
+    alignment = _form_a("SPIN", 'kind = "spiral"\nlength = 450.3\nradius_end = 60.0\nturn = "left"',
+                        'kind = "arc"\nradius = 60.0\nlength = 30.0\nturn = "left"')
     out, back = _export_and_read_back(tmp_path, alignment)
     assert len(read_rows(back / "elements.csv")) == 3
 
