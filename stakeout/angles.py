@@ -15,6 +15,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from .errors import JobFileError
+from .numbers import scaled
 
 __all__ = [
     "parse_angle",
@@ -180,7 +181,7 @@ def _dms_parts(
     # integer arithmetic: carries into minutes and degrees come out right and
     # the sign is handled apart (-1.5 deg is -1-30-00, never -2-30-00).
     scale = 10**decimals
-    total = np.rint(np.abs(x) * (3600 * scale)).astype(np.int64)
+    total = scaled(np.abs(x), 3600 * scale)
     if wrap360:
         total = total % (360 * 3600 * scale)
     neg = (x < 0) & (total > 0)
@@ -189,7 +190,8 @@ def _dms_parts(
     return neg, deg, rem // (60 * scale), rem % (60 * scale)
 
 
-def _join_dms(neg, deg, mins, secs, decimals: int) -> list[str]:
+def _join_dms(neg: NDArray[np.bool_], deg: NDArray[np.int64], mins: NDArray[np.int64], secs: NDArray[np.int64],
+              decimals: int) -> list[str]:
     scale = 10**decimals
     out = []
     for n, d, m, s in zip(neg.tolist(), deg.tolist(), mins.tolist(), secs.tolist()):

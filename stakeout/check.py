@@ -127,17 +127,7 @@ def job_control_points(job: Job) -> list[ControlRow]:
         Coordinates and elevation in job units; elevation ``None`` where
         the job gives none.  In the job's order, each id once.
     """
-    out: list[ControlRow] = []
-    seen: set[str] = set()
-    points = list(job.control)
-    if job.setup is not None:
-        for st in job.setup.explicit():
-            points += [cp for cp in (st.occupied, st.backsight) if cp is not None]
-    for cp in points:
-        if cp.id not in seen:
-            seen.add(cp.id)
-            out.append((cp.id, cp.northing, cp.easting, cp.elevation))
-    return out
+    return [(cp.id, cp.northing, cp.easting, cp.elevation) for cp in job.control_points()]
 
 
 # ---- nearest point within a radius ----------------------------------------------------------------

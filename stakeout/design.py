@@ -18,8 +18,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Any, overload
+from dataclasses import dataclass, fields
+from typing import TYPE_CHECKING, overload
 
 import numpy as np
 from numpy.typing import NDArray
@@ -29,17 +29,17 @@ from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
-from .setout import ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
+from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
 from .staking import StakePoints, plan_stakes
-from .stations import Stationing
+from .stations import StationRef, Stationing
 from .units import Unit
 
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
-__all__ = ["Design", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
-           "build_profile_of"]
+__all__ = ["Design", "Factors", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
+           "build_profile_of", "precision_rules_setups"]
 
 
 @dataclass(frozen=True)
@@ -71,6 +71,9 @@ class Occupation:
         Longest grid distance to one of its stakes (job units); 0 with none.
     first_station, last_station : float or None
         Internal stations of its first and last stakes (None with none).
+    range_from, range_to : float or None
+        The station range the job gives the setup (``from_station``,
+        ``to_station``; internal stations), None without one.
     """
 
     number: int
@@ -84,6 +87,9 @@ class Occupation:
     farthest_sight: float
     first_station: float | None
     last_station: float | None
+    #: The station range the job gives the setup (internal stations; "start"/"end" resolved), or None.
+    range_from: float | None = None
+    range_to: float | None = None
 
     @property
     def backsight_distance(self) -> float | None:
@@ -150,6 +156,34 @@ class SetupDesign:
 
 
 @dataclass(frozen=True)
+class Factors:
+    """The factors a build used, as the manifest records them (``None``: not given, left out).
+
+    ``how`` says where the combined factor came from (``default``: none was
+    given); with several setups only what they share is here (each setup's own
+    are listed in the manifest's setups).  Lengths in job units, angles in degrees.
+    """
+
+    how: str | None = None
+    combined_factor: float | None = None
+    scale_factor: float | None = None
+    elevation_factor: float | None = None
+    radius_m: float | None = None
+    height: float | None = None
+    convergence_deg: float | None = None
+    backsight_grid_azimuth_deg: float | None = None
+
+    def as_dict(self) -> dict[str, str | float]:
+        """The factors given, by name (the manifest's ``factors``)."""
+        out: dict[str, str | float] = {}
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if v is not None:
+                out[f.name] = v
+        return out
+
+
+@dataclass(frozen=True)
 class Design:
     """A computed job, read by every writer."""
 
@@ -162,7 +196,7 @@ class Design:
     warnings: tuple[str, ...] = ()
     crs_label: str | None = None
     proj_version: str | None = None
-    factors: dict[str, Any] = field(default_factory=dict)
+    factors: Factors = Factors()
 
     @property
     def unit(self) -> Unit:
@@ -213,15 +247,32 @@ class _PointIds(Sequence[str]):
         return f"{self._stakes.prefix}{int(self._stakes.number[i])}"
 
 
+def precision_rules_setups(job: Job) -> bool:
+    """Whether automatic setups keep stakes within tolerance: ``[instrument]`` and
+    ``[check] horizontal_tolerance`` both given (job-file contract).
+    """
+    return (job.instrument is not None and job.check is not None
+            and job.check.horizontal_tolerance is not None)
+
+
 def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[SetupStation, ...], NDArray[np.int64]]:
     """Automatic setups among the control points (:func:`stakeout.setups.choose_setups`),
     numbered by the first stake each serves.
     """
     assert setup.max_distance is not None and setup.max_backsight is not None
     ctrl = job.control
+    r95 = tolerance = None
+    if precision_rules_setups(job):
+        assert job.check is not None and job.instrument is not None
+        spec, tolerance = job.instrument, job.check.horizontal_tolerance
+
+        def r95(on: NDArray[np.float64], oe: NDArray[np.float64], bn: NDArray[np.float64], be: NDArray[np.float64],
+                sn: NDArray[np.float64], se: NDArray[np.float64]) -> NDArray[np.float64]:
+            return predict_precision(on, oe, bn, be, sn, se, spec).r95
+
     plan = choose_setups([c.id for c in ctrl], np.array([c.northing for c in ctrl]),
                          np.array([c.easting for c in ctrl]), stakes.northing, stakes.easting, setup.max_distance,
-                         setup.max_backsight, stake_ids=_PointIds(stakes))
+                         setup.max_backsight, stake_ids=_PointIds(stakes), r95=r95, tolerance=tolerance)
     n = len(stakes)
     first = np.full(len(plan.setups), n, dtype=np.int64)
     np.minimum.at(first, plan.setup_index, np.arange(n, dtype=np.int64))
@@ -234,6 +285,13 @@ def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[S
     return stations, rank[plan.setup_index]
 
 
+def _range_internal(ref: StationRef, stationing: Stationing) -> float:
+    """Internal station of a range end: ``"start"``/``"end"`` (read as -inf/+inf) are the alignment's ends."""
+    if math.isinf(ref.value):
+        return stationing.start if ref.value < 0 else stationing.end
+    return stationing.to_internal(ref)
+
+
 def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
                   stationing: Stationing) -> NDArray[np.int64]:
     """Each stake's setup by the station ranges the setups serve (inclusive;
@@ -242,7 +300,7 @@ def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
     spans = []
     for s in stations:
         assert s.from_station is not None and s.to_station is not None
-        lo, hi = stationing.to_internal(s.from_station), stationing.to_internal(s.to_station)
+        lo, hi = _range_internal(s.from_station, stationing), _range_internal(s.to_station, stationing)
         if hi < lo:
             raise JobFileError(f"{s.where}.to_station = {stationing.label(hi)!r}: comes before from_station "
                                f"{stationing.label(lo)!r}")
@@ -319,12 +377,13 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     k = len(stations)
     occ_n = np.array([s.occupied.northing for s in stations])
     occ_e = np.array([s.occupied.easting for s in stations])
-    scales, bs_az = [], []
+    scales, bs_az, radii = [], [], []
     for s in stations:  # one CRS evaluation per setup
         pf = None
         if grid is not None:
             grid.check_in_area(s.occupied.northing, s.occupied.easting, "setup.occupied")
             pf = grid.factors(s.occupied.northing, s.occupied.easting)
+        radii.append(unit.from_metres(MEAN_EARTH_RADIUS_M if pf is None else pf.radius_m))
         scales.append(resolve_scale(job.scale, unit, pf))
         bs_az.append(backsight_azimuth(s, pf.convergence if pf else None, setup.azimuth_reference))
     cf = np.array([sc.combined_factor for sc in scales])
@@ -333,11 +392,11 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     if k == 1:  # one setup: scalars, exactly as a one-setup job always was
         setout = compute_setout(float(occ_n[0]), float(occ_e[0]), bs_az[0], stakes.northing, stakes.easting,
                                 float(cf[0]), elev[0], setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, radii[0])
     else:
         setout = compute_setout(occ_n[index], occ_e[index], np.array(bs_az)[index], stakes.northing,
                                 stakes.easting, cf[index], occ_z, setup.instrument_height, stakes.elevation,
-                                setup.target_height)
+                                setup.target_height, setup.refraction, np.array(radii)[index])
     counts = np.bincount(index, minlength=k)
     farthest = np.zeros(k)
     np.maximum.at(farthest, index, setout.grid_distance)
@@ -346,10 +405,13 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     last_st = np.full(k, -np.inf)
     np.minimum.at(first_st, index, st)
     np.maximum.at(last_st, index, st)
+    ranges = [(None, None) if s.from_station is None or s.to_station is None
+              else (_range_internal(s.from_station, stationing), _range_internal(s.to_station, stationing))
+              for s in stations]
     occupations = tuple(
         Occupation(i + 1, s.occupied, s.backsight, s.backsight_azimuth, bs_az[i], scales[i], s.where,
                    int(counts[i]), float(farthest[i]), float(first_st[i]) if counts[i] else None,
-                   float(last_st[i]) if counts[i] else None)
+                   float(last_st[i]) if counts[i] else None, *ranges[i])
         for i, s in enumerate(stations)
     )
     precision = flagged = tolerance = None
@@ -379,7 +441,7 @@ def build_design(job: Job) -> Design:
         crs_label = grid.label
         proj = proj_version()
     setup_design = None
-    factors: dict[str, Any] = {}
+    factors = Factors()
     warnings: list[str] = list(alignment.warnings)
     if job.setup is not None:
         setup_design = build_setups(job, stakes, stationing, grid)
@@ -391,20 +453,13 @@ def build_design(job: Job) -> Design:
                 warnings.append(f"setup {o.number} ({o.where}, occupied {o.occupied.id}) serves no stake")
         first = setup_design.occupations[0]
         scale = first.scale
-        factors = {k: v for k, v in {
-            "combined_factor": scale.combined_factor, "how": scale.how, "scale_factor": scale.scale_factor,
-            "elevation_factor": scale.elevation_factor, "radius_m": scale.radius_m, "height": scale.height,
-            "convergence_deg": scale.convergence, "backsight_grid_azimuth_deg": first.backsight_azimuth,
-        }.items() if v is not None}
-        if len(setup_design.occupations) > 1:  # per-setup factors are listed in the manifest's setups
-            factors = {"how": scale.how}
-            cfs = {o.scale.combined_factor for o in setup_design.occupations}
-            if len(cfs) == 1:
-                factors["combined_factor"] = scale.combined_factor
-            if scale.height is not None:
-                factors["height"] = scale.height
-        if not job.scale.given:
-            factors["how"] = "default"
+        how = scale.how if job.scale.given else "default"
+        if len(setup_design.occupations) == 1:
+            factors = Factors(how, scale.combined_factor, scale.scale_factor, scale.elevation_factor, scale.radius_m,
+                              scale.height, scale.convergence, first.backsight_azimuth)
+        else:  # per-setup factors are listed in the manifest's setups
+            shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
+            factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
                   crs_label=crs_label,
                   proj_version=proj, factors=factors)

@@ -118,6 +118,9 @@ class Setup:
     max_backsight: float | None = None  # job units; set with occupied = "auto"
     stations: tuple[SetupStation, ...] = ()
     by_id: bool = False
+    #: The refraction coefficient k when zenith angles and slope distances are corrected for
+    #: the earth's curvature and refraction (``curvature_refraction = true``); None: not corrected.
+    refraction: float | None = None
 
     @property
     def auto(self) -> bool:
@@ -224,3 +227,22 @@ class Job:
     control: tuple[ControlPoint, ...] = ()
     #: ``[instrument]``: standard errors for the predicted precision of every stake.
     instrument: InstrumentSpec | None = None
+
+    def control_points(self) -> tuple[ControlPoint, ...]:
+        """Every control point the job lists or uses, each id once, in the job's order.
+
+        The ``[control]`` points (file rows, LandXML points, then
+        ``[[control.point]]`` entries), then the points of every listed setup
+        (occupied, and a backsight given as a point) not already among them.
+        """
+        points = list(self.control)
+        if self.setup is not None:
+            for st in self.setup.explicit():
+                points += [cp for cp in (st.occupied, st.backsight) if cp is not None]
+        seen: set[str] = set()
+        out: list[ControlPoint] = []
+        for cp in points:
+            if cp.id not in seen:
+                seen.add(cp.id)
+                out.append(cp)
+        return tuple(out)

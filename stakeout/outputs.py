@@ -1,6 +1,7 @@
 """The output registry: one table of every file ``stakeout build`` can write.
 
-Each entry names the ``--only`` name, the file, the writer and what it
+Each entry names the ``--only`` name, the file, the writer (as
+``"module:function"``, imported only when that file is rendered) and what it
 needs.  ``--only``, the help text, the default set of outputs and the
 manifest are all driven from :data:`OUTPUTS`; a new output is one entry
 here plus its writer.
@@ -10,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from importlib import import_module
 from typing import TYPE_CHECKING
 
 from .errors import JobFileError
@@ -32,51 +34,49 @@ class Rendered(dict[str, bytes]):
         self.wide = wide
 
 
+def _writer(target: str) -> Callable[..., bytes | str]:
+    """The writer named ``"module:function"`` (the module under ``stakeout.writers``), imported now."""
+    module, _, function = target.partition(":")
+    fn: Callable[..., bytes | str] = getattr(import_module(f"{__package__}.writers.{module}"), function)
+    return fn
+
+
 @dataclass(frozen=True)
 class Output:
     """One output file.
 
-    ``render(design, done)`` returns the file's bytes; ``needs_setup``
-    outputs exist only for jobs with a ``[setup]``, ``needs_profile`` only
-    for jobs with a ``[profile]``; ``extra`` names the optional install an
-    output needs (``None``: always available); ``default`` outputs are
-    written by a build without ``--only``, the others only when named.
+    ``writer`` is either ``"module:function"``, a writer in
+    ``stakeout.writers`` called as ``function(design)`` (``function(design,
+    wide=...)`` for a ``wide`` text sheet) and imported only when the file is
+    rendered, so a build pays only for the outputs it writes; or a render
+    function ``(design, done) -> bytes`` for an output drawn from another
+    (the report holds plan.svg, the preview is drawn from plan.dxf).  Text
+    comes back as UTF-8 bytes.  ``needs_setup`` outputs exist only for jobs
+    with a ``[setup]``, ``needs_profile`` only for jobs with a ``[profile]``;
+    ``extra`` names the optional install an output needs (``None``: always
+    available); ``default`` outputs are written by a build without ``--only``,
+    the others only when named.
     """
 
     name: str
     filename: str
     what: str
-    render: Callable[["Design", Rendered], bytes]
+    writer: str | Callable[["Design", Rendered], bytes]
     needs_setup: bool = False
     needs_profile: bool = False
     extra: str | None = None
     applies: Callable[["Design"], bool] | None = None  # None: whenever the above allow
     absent: str = ""  # why it was not written where ``applies`` says no
     default: bool = True
+    wide: bool = False  # a text sheet that reads the build's --wide
 
-
-def _points(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import points_csv
-
-    return points_csv(d)
-
-
-def _stations(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import stations_csv
-
-    return stations_csv(d)
-
-
-def _curves(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import curves_csv
-
-    return curves_csv(d)
-
-
-def _spirals(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import spirals_csv
-
-    return spirals_csv(d)
+    def render(self, design: "Design", done: Rendered) -> bytes:
+        """The file's bytes."""
+        if not isinstance(self.writer, str):
+            return self.writer(design, done)
+        fn = _writer(self.writer)
+        out = fn(design, wide=done.wide) if self.wide else fn(design)
+        return out.encode("utf-8") if isinstance(out, str) else out
 
 
 def _has_spirals(d: "Design") -> bool:
@@ -85,91 +85,63 @@ def _has_spirals(d: "Design") -> bool:
     return any(isinstance(el, Spiral) for el in d.alignment.elements)
 
 
-def _elements(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import elements_csv
-
-    return elements_csv(d)
+def _has_control(d: "Design") -> bool:
+    return bool(d.job.control_points())
 
 
-def _profile(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import profile_csv
-
-    return profile_csv(d)
-
-
-def _profile_picture(d: "Design", done: Rendered) -> bytes:
-    from .writers.profile_picture import profile_svg
-
-    return profile_svg(d)
-
-
-def _setout(d: "Design", done: Rendered) -> bytes:
-    from .writers.tables import setout_csv
-
-    return setout_csv(d)
-
-
-def _sheet(d: "Design", done: Rendered) -> bytes:
-    from .writers.sheets import setout_sheet
-
-    return setout_sheet(d, wide=done.wide).encode("utf-8")
-
-
-def _deflections(d: "Design", done: Rendered) -> bytes:
-    from .writers.sheets import deflection_sheet
-
-    return deflection_sheet(d, wide=done.wide).encode("utf-8")
-
-
-def _landxml(d: "Design", done: Rendered) -> bytes:
-    from .writers.exchange import alignment_xml
-
-    return alignment_xml(d)
+def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
+    """A file another output is drawn from, rendered once a build."""
+    if filename not in done:
+        out = _writer(target)(d)
+        assert isinstance(out, bytes)
+        done[filename] = out
+    return done[filename]
 
 
 def _dxf(d: "Design", done: Rendered) -> bytes:
-    if "plan.dxf" not in done:
-        from .writers.dxf import plan_dxf
-
-        done["plan.dxf"] = plan_dxf(d)
-    return done["plan.dxf"]
+    return _once(d, done, "plan.dxf", "dxf:plan_dxf")
 
 
 def _picture(d: "Design", done: Rendered) -> bytes:
-    if "plan.svg" not in done:
-        from .writers.picture import plan_svg
-
-        done["plan.svg"] = plan_svg(d)
-    return done["plan.svg"]
+    return _once(d, done, "plan.svg", "picture:plan_svg")
 
 
 def _report(d: "Design", done: Rendered) -> bytes:
-    from .writers.html import report_html
-
-    return report_html(d, _picture(d, done).decode("utf-8"))
+    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"))
+    assert isinstance(out, bytes)
+    return out
 
 
 def _preview(d: "Design", done: Rendered) -> bytes:
-    from .writers.dxf import plan_png
+    out = _writer("dxf:plan_png")(_dxf(d, done))
+    assert isinstance(out, bytes)
+    return out
 
-    return plan_png(_dxf(d, done))
+
+def _nothing(d: "Design", done: Rendered) -> bytes:
+    return b""  # the manifest is written by the pipeline, after every other file
 
 
 #: Every output, in writing order (the manifest comes last and is written by the pipeline).
 OUTPUTS: tuple[Output, ...] = (
-    Output("points", "points.csv", "the point file for the data collector", _points),
-    Output("stations", "stations.csv", "every stake with its station, offset and feature", _stations),
-    Output("curves", "curves.csv", "one row per arc", _curves),
-    Output("elements", "elements.csv", "one row per element: lines, arcs and spirals", _elements),
-    Output("spirals", "spirals.csv", "one row per spiral with its figures", _spirals, applies=_has_spirals,
-           absent="the alignment has no spirals"),
-    Output("profile", "profile.csv", "one row per PVI of the profile", _profile, needs_profile=True),
+    Output("points", "points.csv", "the point file for the data collector", "tables:points_csv"),
+    Output("stations", "stations.csv", "every stake with its station, offset and feature", "tables:stations_csv"),
+    Output("curves", "curves.csv", "one row per arc", "tables:curves_csv"),
+    Output("elements", "elements.csv", "one row per element: lines, arcs and spirals", "tables:elements_csv"),
+    Output("spirals", "spirals.csv", "one row per spiral with its figures", "tables:spirals_csv",
+           applies=_has_spirals, absent="the alignment has no spirals"),
+    Output("profile", "profile.csv", "one row per PVI of the profile", "tables:profile_csv", needs_profile=True),
     Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
-           _profile_picture, needs_profile=True),
-    Output("setout", "setout.csv", "angle right and distances from the occupied point", _setout, needs_setup=True),
-    Output("sheet", "setout.txt", "the printable setout sheet", _sheet, needs_setup=True),
-    Output("deflections", "deflections.txt", "deflection angles and chords for each arc", _deflections),
-    Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)", _landxml),
+           "profile_picture:profile_svg", needs_profile=True),
+    Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
+           needs_setup=True),
+    Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True),
+    Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
+           wide=True),
+    Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
+           "control:control_csv", applies=_has_control, absent="the job has no control points"),
+    Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
+           "exchange:alignment_xml"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
            _picture),
@@ -177,7 +149,7 @@ OUTPUTS: tuple[Output, ...] = (
            _report),
     Output("preview", "plan.png", "a raster preview of plan.dxf (matplotlib; only when named)", _preview,
            extra="preview", default=False),
-    Output("manifest", "manifest.json", "hashes of the job file and of every output", lambda d, done: b""),
+    Output("manifest", "manifest.json", "hashes of the job file and of every output", _nothing),
 )
 
 BY_NAME: dict[str, Output] = {o.name: o for o in OUTPUTS}

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .design import Design, build_design
+from .design import Design, build_design, precision_rules_setups
 from .errors import JobFileError
 from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
@@ -38,7 +38,8 @@ def setup_notes(d: Design) -> list[str]:
         setup = sd.setup
         if setup.auto:
             how = (f"chosen among {len(d.job.control)} control points (max_distance {setup.max_distance:g}, "
-                   f"max_backsight {setup.max_backsight:g})")
+                   f"max_backsight {setup.max_backsight:g}"
+                   + (", r95 within the tolerance where a setup can keep it)" if precision_rules_setups(d.job) else ")"))
         else:
             how = "as listed in the job file"
         out.append(f"setups: {len(occs)}, {how}")

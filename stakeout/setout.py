@@ -40,6 +40,11 @@ __all__ = ["DEFAULT_FACTOR_NOTE", "AT_INSTRUMENT", "elevation_factor", "ScaleInf
            "resolve_scale", "backsight_azimuth"]
 
 
+#: The earth's mean radius (metres; IUGG mean radius R1 = 6,371,008.8 m, rounded), used for the
+#: curvature and refraction correction where the job has no CRS to give the Gaussian radius.
+MEAN_EARTH_RADIUS_M = 6_371_000.0
+
+
 def elevation_factor(height_m: float, radius_m: float) -> float:
     """Elevation (ellipsoid) factor R / (R + h), both in metres."""
     return radius_m / (radius_m + height_m)
@@ -97,6 +102,8 @@ def compute_setout(
     instrument_height: float | None = None,
     elevation: ArrayLike | None = None,
     target_height: float | None = None,
+    refraction: float | None = None,
+    earth_radius: ArrayLike | None = None,
 ) -> Setout:
     """Azimuth, angle right, grid and ground distance to every point.
 
@@ -115,9 +122,17 @@ def compute_setout(
         one, or one per point.
     occ_elevation, instrument_height, elevation, target_height : optional
         With all four, the zenith angle (degrees, 90 = level) and slope
-        distance (ground) are computed; no curvature or refraction
-        correction is applied (short sights).  ``occ_elevation`` may be
-        given per point.
+        distance (ground) are computed.  ``occ_elevation`` may be given
+        per point.
+    refraction : float, optional
+    earth_radius : float or array, optional
+        With both, the zenith angle and slope distance are corrected for
+        the earth's curvature and refraction: the target is sighted
+        ``(1 - k) D^2 / (2 R)`` lower than its height difference, D the
+        ground distance and R the earth's radius (job units), k the
+        refraction coefficient; the slope distance is the one along that
+        sight, so that slope distance x sin(zenith) is the ground distance.
+        Without them no correction is applied (short sights).
     """
     n = np.asarray(northing, dtype=float)
     e = np.asarray(easting, dtype=float)
@@ -135,6 +150,8 @@ def compute_setout(
         inst = np.asarray(occ_elevation, dtype=float) + float(instrument_height)  # type: ignore[arg-type]
         dz = (np.asarray(elevation, dtype=float) + float(target_height)) - inst  # type: ignore[arg-type]
         dz = np.broadcast_to(dz, ground.shape)
+        if refraction is not None and earth_radius is not None:
+            dz = dz - (1.0 - refraction) * ground * ground / (2.0 * np.asarray(earth_radius, dtype=float))
         zen = np.degrees(np.arctan2(ground, dz))
         slope = np.hypot(ground, dz)
     return Setout(float(bs) if bs.ndim == 0 else np.broadcast_to(bs, grid.shape).copy(), az, ar, grid, ground, zen,

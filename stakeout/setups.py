@@ -16,6 +16,14 @@ The rule (job-file contract, ``[setup] occupied = "auto"``):
 4. Each setup backsights the *farthest* other control point within
    ``max_backsight`` (ties by id).
 
+With a predicted precision and a tolerance (``[instrument]`` and ``[check]
+horizontal_tolerance``) two steps change: in step 2 a candidate reaches a
+stake within ``max_distance`` only when the stake's predicted r95 from it
+(with the backsight step 4 gives that candidate) is within the tolerance —
+except a stake no candidate reaches so, which any candidate within
+``max_distance`` reaches (the sheet flags it); in step 3 each stake goes to
+the chosen setup that reaches it with the smallest r95 (ties by id).
+
 Distances are compared squared (``dN*dN + dE*dE``), so equal distances
 tie exactly wherever the coordinates make the squares exact.  The result
 does not depend on the order in which the control points are listed.  The stakes-by-candidates
@@ -26,7 +34,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -34,7 +42,12 @@ from numpy.typing import ArrayLike, NDArray
 
 from .errors import GeometryError, JobFileError
 
-__all__ = ["Setup", "SetupPlan", "choose_setups"]
+__all__ = ["Setup", "SetupPlan", "choose_setups", "R95"]
+
+#: Predicted r95 of stakes from setups: ``r95(occ_n, occ_e, bs_n, bs_e, stake_n, stake_e)`` on
+#: broadcast arrays (job units), e.g. :func:`stakeout.precision.predict_precision`'s ``r95``.
+R95 = Callable[[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64],
+                NDArray[np.float64], NDArray[np.float64]], NDArray[np.float64]]
 
 _BLOCK = 1 << 22  # distance-matrix elements per block (32 MiB of float64)
 _POPCOUNT = np.array([i.bit_count() for i in range(256)], dtype=np.uint8)  # set bits of a byte
@@ -140,6 +153,19 @@ def _backsight_sq_dist(
     return np.where(((dn != 0) | (de != 0)) & (d2 <= mb2), d2, -1.0)
 
 
+def _backsights(cn: NDArray[np.float64], ce: NDArray[np.float64], occ: NDArray[np.int64],
+                mb2: float) -> NDArray[np.int64]:
+    """Backsight of each occupied point ``occ`` (indices in id order): the farthest other
+    control point within max_backsight; argmax over the id order takes the smallest id of equals.
+    """
+    out = np.empty(occ.size, dtype=np.int64)
+    step = _step(cn.size)
+    for lo in range(0, occ.size, step):
+        o = occ[lo:lo + step]
+        out[lo:lo + step] = np.argmax(_backsight_sq_dist(cn[o], ce[o], cn, ce, mb2), axis=1)
+    return out
+
+
 def choose_setups(
     control_ids: Sequence[str],
     control_n: ArrayLike,
@@ -149,6 +175,8 @@ def choose_setups(
     max_distance: float,
     max_backsight: float,
     stake_ids: Sequence[str] | None = None,
+    r95: R95 | None = None,
+    tolerance: float | None = None,
 ) -> SetupPlan:
     """Choose setups among control points to reach every stake.
 
@@ -167,6 +195,11 @@ def choose_setups(
         Longest backsight (job units, inclusive): ``[setup] max_backsight``.
     stake_ids : sequence of str, optional
         Stake point ids, used only to name a stake in an error.
+    r95, tolerance : optional
+        Both given: the predicted r95 of stakes from setups and the
+        horizontal tolerance (job units); a candidate then reaches a stake
+        only within the tolerance (see the module's rule), and each stake
+        goes to the chosen setup with the smallest r95.
 
     Returns
     -------
@@ -216,15 +249,38 @@ def choose_setups(
         d2 = _backsight_sq_dist(cn[lo : lo + step], ce[lo : lo + step], cn, ce, mb2)
         has_bs[lo : lo + step] = (d2 >= 0).any(axis=1)
     cand = np.flatnonzero(has_bs)  # indices into id order, ascending = id order
+    by_precision = r95 is not None and tolerance is not None
+    # each candidate's backsight (step 4), needed up front when precision decides the reach
+    cand_bs = _backsights(cn, ce, cand, mb2) if by_precision else np.zeros(0, dtype=np.int64)
+
+    def reach_block(rows: NDArray[np.int64], lo: int, hi: int, within: NDArray[np.bool_] | None
+                    ) -> tuple[NDArray[np.bool_], NDArray[np.float64] | None]:
+        """Which of the candidates ``rows`` (positions in cand) reach stakes lo:hi, and their r95."""
+        c = cand[rows]
+        r = _sq_dist(cn[c], ce[c], sn[lo:hi], se[lo:hi]) <= md2
+        if not by_precision:
+            return r, None
+        assert r95 is not None and tolerance is not None
+        b = cand_bs[rows]
+        q = r95(cn[c][:, None], ce[c][:, None], cn[b][:, None], ce[b][:, None], sn[None, lo:hi], se[None, lo:hi])
+        ok = r & (q <= tolerance)
+        keep = np.asarray(ok.any(axis=0) if within is None else within[lo:hi], dtype=bool)
+        return np.where(keep[None, :], ok, r), q
 
     # 2. reach matrix (candidates x stakes) as packed bits, built in blocks of stakes
     n_bytes = (n_stakes + 7) // 8
     reach = np.zeros((cand.size, n_bytes), dtype=np.uint8)
     reachable = np.zeros(n_stakes, dtype=bool)
-    step = _step(cand.size, multiple=8)
+    # stakes some candidate reaches within the tolerance (all of them without a precision rule)
+    within_tol = np.ones(n_stakes, dtype=bool)
+    step = _step(cand.size * (8 if by_precision else 1), multiple=8)
+    all_rows = np.arange(cand.size)
     for lo in range(0, n_stakes, step):
         hi = min(n_stakes, lo + step)
-        r = _sq_dist(cn[cand], ce[cand], sn[lo:hi], se[lo:hi]) <= md2
+        r, q = reach_block(all_rows, lo, hi, None)
+        if q is not None:
+            assert tolerance is not None
+            within_tol[lo:hi] = ((q <= tolerance) & r).any(axis=0)
         reach[:, lo // 8 : (hi + 7) // 8] = np.packbits(r, axis=1)
         reachable[lo:hi] = r.any(axis=0)
     if not reachable.all():
@@ -245,15 +301,22 @@ def choose_setups(
         chosen.append(best)
         unreached &= ~reach[best]
 
-    # 3. nearest chosen setup; ties by id, so scan the chosen setups in id order
+    # 3. nearest chosen setup (with a precision rule: the one reaching it with the
+    # smallest r95); ties by id, so scan the chosen setups in id order
     by_id = sorted(range(len(chosen)), key=lambda k: int(cand[chosen[k]]))
     ctrl_by_id = cand[[chosen[k] for k in by_id]]
+    rows_by_id = np.asarray([chosen[k] for k in by_id], dtype=np.int64)
     nearest = np.empty(n_stakes, dtype=np.int64)
-    step = _step(len(chosen))
+    step = _step(len(chosen) * (8 if by_precision else 1))
     for lo in range(0, n_stakes, step):
         hi = min(n_stakes, lo + step)
-        d2 = _sq_dist(cn[ctrl_by_id], ce[ctrl_by_id], sn[lo:hi], se[lo:hi])
-        nearest[lo:hi] = np.asarray(by_id, dtype=np.int64)[np.argmin(d2, axis=0)]
+        if by_precision:
+            r, q = reach_block(rows_by_id, lo, hi, within_tol)
+            assert q is not None
+            cost = np.where(r, q, np.inf)
+        else:
+            cost = _sq_dist(cn[ctrl_by_id], ce[ctrl_by_id], sn[lo:hi], se[lo:hi])
+        nearest[lo:hi] = np.asarray(by_id, dtype=np.int64)[np.argmin(cost, axis=0)]
     counts_all = np.bincount(nearest, minlength=len(chosen))
     kept = [k for k in range(len(chosen)) if counts_all[k] > 0]  # drop setups nearest to no stake
     renumber = np.full(len(chosen), -1, dtype=np.int64)
@@ -266,9 +329,8 @@ def choose_setups(
     np.maximum.at(farthest, setup_index, dist)
     stake_count = np.bincount(setup_index, minlength=len(kept))
 
-    # 4. backsight: the farthest other control point within max_backsight; argmax
-    # over the id order takes the smallest id of equals
-    bs = np.argmax(_backsight_sq_dist(cn[occ], ce[occ], cn, ce, mb2), axis=1)
+    # 4. backsight: the farthest other control point within max_backsight
+    bs = _backsights(cn, ce, occ, mb2)
 
     setups = tuple(
         Setup(

@@ -18,6 +18,7 @@ from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment
 from .errors import JobFileError
 from .job import Staking
 from .limits import check_point_numbers
+from .numbers import round_to
 from .profile import Profile
 from .stations import Stationing
 
@@ -275,8 +276,8 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
     n, e, az = alignment.evaluate(st, of)
     # Round once to the point file's decimals: every output (points, setout,
     # plan, check) then works from exactly the coordinates the crew loads.
-    n = np.round(n, COORDINATE_DECIMALS) + 0.0
-    e = np.round(e, COORDINATE_DECIMALS) + 0.0
+    n = round_to(n, COORDINATE_DECIMALS)
+    e = round_to(e, COORDINATE_DECIMALS)
     centre: NDArray[np.float64] | None = None
     if profile is not None:
         off = ~profile.covers(stations)

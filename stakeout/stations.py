@@ -21,6 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from .errors import JobFileError
+from .numbers import scaled
 
 __all__ = ["parse_station", "format_station", "station_text", "check_station_length", "StationRef",
            "Equation", "Stationing"]
@@ -107,7 +108,7 @@ def format_station(values: ArrayLike, station_length: int, decimals: int) -> str
     scale = 10**decimals
     # Round once in units of the last digit so that 12+99.999 never prints
     # as 12+100.00: the carry goes into the full stations.
-    total = np.rint(np.abs(flat) * scale).astype(np.int64)
+    total = scaled(np.abs(flat), scale)
     per = int(station_length) * scale
     neg = (flat < 0) & (total > 0)
     full = total // per
@@ -306,17 +307,49 @@ class Stationing:
             out.append(v[keep])
         return np.concatenate(out) if out else np.empty(0)
 
+    def occurs_twice(self, internal: ArrayLike) -> NDArray[np.bool_]:
+        """Whether the station in force at each internal station also lies in another region
+        (after an equation that steps back), to the decimals its label prints.
+        """
+        x = np.asarray(internal, dtype=float)
+        twice = np.zeros(x.shape, dtype=bool)
+        if not self.equations:
+            return twice
+        v, own = self.station(x), self.region(x)
+        tol = 0.5 * 10.0 ** -self.decimals
+        for k in range(1, self.regions + 1):  # one vectorised step per region
+            lo, hi = self.region_range(k)
+            a, b = lo + self.shift(k), hi + self.shift(k)
+            inside = (v >= a - tol) & ((v <= b + tol) if k == self.regions else (v < b - tol))
+            twice |= inside & (own != k)
+        return twice
+
     def labels(self, internal: ArrayLike) -> list[str]:
-        """Station labels (``12+34.56``) of internal stations, in force there."""
-        out = format_station(self.station(np.atleast_1d(np.asarray(internal, dtype=float))),
-                             self.station_length, self.decimals)
-        return out if isinstance(out, list) else [out]
+        """Station labels (``12+34.56``) of internal stations, in force there.
+
+        A station that occurs twice (after an equation that steps back) carries
+        its region, ``11+50.00(2)``; labels that occur once are unchanged.
+        """
+        x = np.atleast_1d(np.asarray(internal, dtype=float))
+        out = format_station(self.station(x), self.station_length, self.decimals)
+        out = out if isinstance(out, list) else [out]
+        twice = self.occurs_twice(x)
+        if twice.any():
+            regions = self.region(x)
+            for i in np.flatnonzero(twice).tolist():  # only the few stations an equation doubles
+                out[i] = f"{out[i]}({int(regions[i])})"
+        return out
 
     def label(self, internal: float | None) -> str:
-        """One station label; empty for ``None`` or a non-finite value."""
+        """One station label (with its region where the station occurs twice); empty for
+        ``None`` or a non-finite value.
+        """
         if internal is None:
             return ""
-        return station_text(float(self.station(internal)), self.station_length, self.decimals)
+        text = station_text(float(self.station(internal)), self.station_length, self.decimals)
+        if text and bool(self.occurs_twice(internal)):
+            text = f"{text}({int(self.region(internal))})"
+        return text
 
     def format_value(self, station: float) -> str:
         """Label of a station value already in force (not an internal station)."""

@@ -30,7 +30,7 @@ from stakeout.cli import app
 from stakeout.design import build_design
 from stakeout.errors import GeometryError, JobFileError
 from stakeout.jobfile import load_job, parse_job
-from stakeout.precision import InstrumentSpec
+from stakeout.precision import InstrumentSpec, predict_precision
 
 from .helpers import read_rows, sheet_records, write_job
 from .test_precision import _monte_carlo
@@ -73,7 +73,7 @@ CONTROL = [
 ]
 MAX_DISTANCE, MAX_BACKSIGHT = 160.0, 420.0
 FACTOR = 0.99975
-TOLERANCE = 0.024
+TOLERANCE = 0.016  # tight enough that some stakes no setup keeps within it (flagged)
 SPEC = InstrumentSpec(angle_sigma_arcsec=5.0, distance_sigma=0.003, distance_ppm=3.0, centering_sigma=0.003,
                       pole_sigma=0.008)
 
@@ -164,25 +164,28 @@ def test_held_out_corridor(tmp_path):
     se = np.array([float(r["easting"]) for r in stations])
     ctrl = {i: (n, e) for i, n, e, _ in CONTROL}
 
-    # contract rule, plain re-implementation (tests/test_setups.py)
+    # contract rule with [instrument] and a tolerance ("Automatic setups that keep stakes
+    # within tolerance"), plain re-implementation (tests/test_setups.py); r95 from the
+    # precision module, itself checked against a Monte Carlo simulation below
     ids = [c[0] for c in CONTROL]
-    want, _ = _plain_rule(ids, [c[1] for c in CONTROL], [c[2] for c in CONTROL], sn.tolist(), se.tolist(),
-                          MAX_DISTANCE, MAX_BACKSIGHT)
+
+    def r95(on, oe, bn, be, pn, pe):
+        return predict_precision(on, oe, bn, be, pn, pe, SPEC).r95
+
+    want, want_index = _plain_rule(ids, [c[1] for c in CONTROL], [c[2] for c in CONTROL], sn.tolist(), se.tolist(),
+                                   MAX_DISTANCE, MAX_BACKSIGHT, r95, TOLERANCE)
     used = {}
     for r in setout:
         used.setdefault(int(r["setup"]), (r["occupied"], r["backsight"]))
     assert sorted(used) == list(range(1, len(used) + 1))
     assert 1 < len(used) <= len(want)  # no more setups than the greedy rule
     assert {o for o, _ in used.values()} == {w[0] for w in want}
-    chosen = sorted({o for o, _ in used.values()})  # id order for the ties
-
     for k, r in enumerate(setout):
         occ = ctrl[r["occupied"]]
         d_occ = math.hypot(sn[k] - occ[0], se[k] - occ[1])
         assert d_occ <= MAX_DISTANCE  # within reach
-        # on its nearest chosen setup, ties by id (contract)
-        nearest = min(chosen, key=lambda c: ((sn[k] - ctrl[c][0]) ** 2 + (se[k] - ctrl[c][1]) ** 2, c))
-        assert r["occupied"] == nearest
+        # on the chosen setup reaching it with the smallest r95, ties by id (contract)
+        assert r["occupied"] == want[want_index[k]][0]
     for occ_id, bs_id in used.values():
         occ = ctrl[occ_id]
         # the farthest other control point within max_backsight, ties by id (contract)
@@ -350,6 +353,33 @@ to_station = "1+186.332"
     assert "backsight grid azimuth 45-00-00.0 (given)" in text
     assert "each serving its range of stations" in " ".join(text.split())  # wrapped to the page
     assert "instrument height 1.600   target height 2.000 (every setup)" in text
+
+
+def test_setup_range_to_the_end_needed_the_end_station_to_the_last_decimal(tmp_path):
+    """Regression: a listed setup's to_station had to repeat the end station exactly
+    (1+186.332 here); "start" and "end" now stand for the alignment's ends, and the
+    setup summary gives each setup's range, not the first and last stake it serves."""
+    job = write_job(tmp_path, LISTED + """[setup]
+[[setup.station]]
+occupied = "CP03"
+backsight = "CP17"
+from_station = "start"
+to_station = "0+410"
+[[setup.station]]
+occupied = "CP14"
+backsight = "CP21"
+from_station = "0+410"
+to_station = "end"
+""")
+    _build(job, tmp_path / "o")
+    setout = read_rows(tmp_path / "o" / "setout.csv")
+    stations = read_rows(tmp_path / "o" / "stations.csv")
+    for r, s in zip(setout, stations):
+        assert int(r["setup"]) == (1 if float(s["station"]) <= 410.0 else 2)
+    assert float(stations[-1]["station"]) == pytest.approx(1186.332, abs=5e-4)  # the end is served
+    _, summary = _sheet_sections((tmp_path / "o" / "setout.txt").read_text())
+    # setup, occupied, backsight, bs azimuth, bs dist, stakes, farthest, from sta, to sta
+    assert [(row[7], row[8]) for row in summary] == [("0+000.000", "0+410.000"), ("0+410.000", "1+186.332")]
 
 
 def test_listed_setups_nearest(tmp_path):

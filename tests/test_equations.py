@@ -62,8 +62,10 @@ def test_backward_and_forward_equations_regions(tmp_path):
     out = build_job(_job(tmp_path), tmp_path / "out")
     rows = read_rows(out / "stations.csv")
     eq = [r for r in rows if "EQ" in r["feature"].split()]
-    # each equation point is staked with the ahead station and the ahead region
-    assert [(r["station_label"], r["region"]) for r in eq] == [("1+100.000", "2"), ("2+000.000", "3")]
+    # each equation point is staked with the ahead station and the ahead region; 1+100
+    # also lies in region 1 (which runs to 1+105), so its label carries the region
+    # (outputs contract, "Stations that occur twice")
+    assert [(r["station_label"], r["region"]) for r in eq] == [("1+100.000(2)", "2"), ("2+000.000", "3")]
     # interval stations are whole multiples of the interval in each region's own stationing
     for r in rows:
         if not r["feature"]:
@@ -109,8 +111,9 @@ ahead = "5+000.000"
 def test_region_qualified_extra_station(tmp_path):
     extra = 'extra_stations = [{ station = "1+102.000", region = 1 }, { station = "1+102.000", region = 2 }]'
     out = build_job(_job(tmp_path, extra=extra), tmp_path / "out")
-    rows = [r for r in read_rows(out / "stations.csv") if r["station_label"] == "1+102.000"]
+    rows = [r for r in read_rows(out / "stations.csv") if r["station_label"].startswith("1+102.000")]
     assert [r["region"] for r in rows] == ["1", "2"]
+    assert [r["station_label"] for r in rows] == ["1+102.000(1)", "1+102.000(2)"]  # a station that occurs twice
     # the two are 7 m apart along the alignment: 1102 in region 1 and 1102 + 5 internal in region 2
     n = [float(r["northing"]) for r in rows]
     e = [float(r["easting"]) for r in rows]
@@ -166,3 +169,29 @@ def test_interval_stations_each_region_property():
     got = st.station(st.interval_stations(25.0))
     want = np.concatenate([np.arange(1000, 1105, 25), np.arange(1100, 1300, 25), np.arange(2000, 2246, 25)])
     assert np.allclose(got, want)
+
+
+def test_stations_that_occur_twice_after_a_backward_equation_looked_identical(tmp_path):
+    """Regression: after an equation that steps back (1+105 BK = 1+100 AH) two laths 5 m
+    apart were both labelled 1+100.000.  Every label of a station that occurs twice now
+    carries its region (outputs contract: ``11+50.00(2)``); labels that occur once do not."""
+    out = build_job(_job(tmp_path, equations=BACKWARD, extra="offsets = [{ offset = -3.0, code = \"EL\" }]\n"
+                         "extra_stations = [{ station = \"1+102\", region = 1 }, { station = \"1+102\", region = 2 }]"),
+                    tmp_path / "o")
+    rows = read_rows(out / "stations.csv")
+    cl = [r for r in rows if r["code"] == "EL"]
+    labels = {(round(float(r["station"]), 3), int(r["region"])): r["station_label"] for r in cl}
+    # 1+100 and 1+102 lie in both regions (region 1 runs to 1+105, region 2 from 1+100)
+    assert labels[(1100.0, 1)] == "1+100.000(1)"
+    assert labels[(1100.0, 2)] == "1+100.000(2)"  # the equation point, by its ahead station
+    assert labels[(1102.0, 1)] == "1+102.000(1)"
+    assert labels[(1102.0, 2)] == "1+102.000(2)"
+    # stations that occur once keep their plain label
+    assert labels[(1075.0, 1)] == "1+075.000"
+    assert labels[(1125.0, 2)] == "1+125.000"
+    # the point file's descriptions say the same (code, features, label, offset)
+    points = {r["point"]: r["description"] for r in read_rows(out / "points.csv")}
+    by_label = {r["station_label"]: r["point"] for r in cl}
+    assert "1+102.000(1)" in points[by_label["1+102.000(1)"]]
+    assert "1+102.000(2)" in points[by_label["1+102.000(2)"]]
+    assert len(set(r["station_label"] for r in cl)) == len(cl)  # no two laths share a label

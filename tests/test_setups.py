@@ -21,9 +21,10 @@ class Unreachable(Exception):
     pass
 
 
-def _plain_rule(ids, cn, ce, sn, se, max_distance, max_backsight):
+def _plain_rule(ids, cn, ce, sn, se, max_distance, max_backsight, r95=None, tolerance=None):
     """The job-file contract's rule, written out literally (squared distances in
-    exact integer arithmetic for integer inputs)."""
+    exact integer arithmetic for integer inputs).  With ``r95`` and ``tolerance``:
+    the rule of "Automatic setups that keep stakes within tolerance"."""
 
     def d2(n1, e1, n2, e2):
         return (n2 - n1) ** 2 + (e2 - e1) ** 2
@@ -36,8 +37,25 @@ def _plain_rule(ids, cn, ce, sn, se, max_distance, max_backsight):
 
     candidates = [c for c in ctrl if others_within(c, max_backsight)]
 
-    def reach(c):
+    def backsight(c):
+        # farthest other control point within max_backsight, ties by id
+        return min(others_within(c, max_backsight), key=lambda o: (-d2(c[1], c[2], o[1], o[2]), o[0]))
+
+    def q(c, j):
+        b = backsight(c)
+        return float(r95(*(np.array([v], dtype=float) for v in (c[1], c[2], b[1], b[2], sn[j], se[j])))[0])
+
+    def in_distance(c):
         return {j for j in stakes if d2(c[1], c[2], sn[j], se[j]) <= max_distance**2}
+
+    by_precision = r95 is not None and tolerance is not None
+    kept_within = {j for c in candidates for j in in_distance(c) if by_precision and q(c, j) <= tolerance}
+
+    def reach(c):
+        if not by_precision:
+            return in_distance(c)
+        # within the tolerance, or by distance alone for a stake no candidate keeps within it
+        return {j for j in in_distance(c) if j not in kept_within or q(c, j) <= tolerance}
 
     reached_by_any = set().union(*(reach(c) for c in candidates)) if candidates else set()
     for j in stakes:
@@ -51,14 +69,15 @@ def _plain_rule(ids, cn, ce, sn, se, max_distance, max_backsight):
         chosen.append(best)
         unreached -= reach(best)
 
-    # nearest chosen setup, ties by id
-    assign = [min(chosen, key=lambda c: (d2(c[1], c[2], sn[j], se[j]), c[0])) for j in stakes]
+    if by_precision:  # the chosen setup reaching it with the smallest r95, ties by id
+        assign = [min((c for c in chosen if j in reach(c)), key=lambda c: (q(c, j), c[0])) for j in stakes]
+    else:  # nearest chosen setup, ties by id
+        assign = [min(chosen, key=lambda c: (d2(c[1], c[2], sn[j], se[j]), c[0])) for j in stakes]
     kept = [c for c in chosen if any(a is c for a in assign)]  # a setup nearest to no stake is not needed
     out = []
     for c in kept:
         mine = [j for j in stakes if assign[j] is c]
-        # farthest other control point within max_backsight, ties by id
-        b = min(others_within(c, max_backsight), key=lambda o: (-d2(c[1], c[2], o[1], o[2]), o[0]))
+        b = backsight(c)
         far = max(math.sqrt(d2(c[1], c[2], sn[j], se[j])) for j in mine)
         out.append((c[0], b[0], len(mine), far))
     index = [next(k for k, c in enumerate(kept) if assign[j] is c) for j in stakes]
@@ -103,6 +122,29 @@ def test_follows_the_greedy_rule(job):
     assert [g[:3] for g in got] == [w[:3] for w in want]
     for g, w in zip(got, want):
         assert g[3] == pytest.approx(w[3], rel=1e-12)
+    assert plan.setup_index.tolist() == want_index
+
+
+def _toy_r95(on, oe, bn, be, sn, se):
+    """A stand-in for the predicted r95 that depends on the sight and the backsight, rounded
+    to a coarse step so that ties (broken by id) are common."""
+    sight = np.hypot(sn - on, se - oe)
+    bs = np.hypot(bn - on, be - oe)
+    return np.round(0.002 + sight * 2e-4 + 0.5 / np.maximum(bs, 1.0), 3)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_jobs(), st.sampled_from([0.004, 0.006, 0.008, 0.012]))
+def test_follows_the_rule_within_tolerance(job, tolerance):
+    # Brute force, as above, for the rule with a predicted precision and a tolerance.
+    ids, cn, ce, sn, se, max_distance, max_backsight = job
+    try:
+        want, want_index = _plain_rule(ids, cn, ce, sn, se, max_distance, max_backsight, _toy_r95, tolerance)
+    except Unreachable:
+        return
+    plan = choose_setups(ids, cn, ce, sn, se, max_distance, max_backsight, r95=_toy_r95, tolerance=tolerance)
+    got = [(s.occupied_id, s.backsight_id, s.stake_count) for s in plan.setups]
+    assert got == [w[:3] for w in want]
     assert plan.setup_index.tolist() == want_index
 
 
@@ -266,3 +308,33 @@ def test_blocks_give_the_same_plan(monkeypatch):
     assert blocked.setups == whole.setups
     assert np.array_equal(blocked.setup_index, whole.setup_index)
     assert isinstance(whole, SetupPlan) and all(isinstance(s, Setup) for s in whole.setups)
+
+
+def test_auto_setups_ignored_precision_now_keep_stakes_within_tolerance(tmp_path):
+    """Regression: with [instrument] and a tolerance, automatic setups were chosen by
+    distance alone and 54 of the Harrow Fen sample's 264 stakes were flagged r95 >
+    tolerance from distant setups although nearer control existed.  Each stake now
+    goes to the chosen setup with the smallest r95 (job-file contract), recomputed
+    here with the precision module for every chosen setup within max_distance."""
+    import csv
+    import io
+
+    from stakeout.design import build_design
+    from stakeout.jobfile import load_job
+    from stakeout.precision import predict_precision
+
+    from .helpers import SAMPLES, build_job
+
+    job_path = SAMPLES / "harrow_fen_bypass_control_m.toml"
+    out = build_job(job_path, tmp_path / "out")
+    rows = list(csv.DictReader(io.StringIO((out / "setout.csv").read_text(encoding="utf-8"))))
+    assert all(float(r["r95"]) <= 0.012 for r in rows)
+    job = load_job(job_path)
+    d = build_design(job)
+    occs = d.setup.occupations
+    sp = d.stakes
+    q = np.array([predict_precision(o.occupied.northing, o.occupied.easting, o.backsight.northing,
+                                    o.backsight.easting, sp.northing, sp.easting, job.instrument).r95 for o in occs])
+    dist = np.array([np.hypot(sp.northing - o.occupied.northing, sp.easting - o.occupied.easting) for o in occs])
+    q = np.where(dist <= job.setup.max_distance, q, np.inf)
+    assert np.allclose(q[d.setup.setup_index, np.arange(len(sp))], q.min(axis=0), rtol=0, atol=1e-12)

@@ -12,7 +12,7 @@ alignment, negative left and positive right looking up-station; ``turn``
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -22,7 +22,7 @@ from ..errors import GeometryError
 from .curves import CompoundTangents
 from .elements import Element
 from .index import ElementGrid, build_grid
-from .kernels import Kernel
+from .kernels import ElementArrays, Kernel
 
 __all__ = ["Alignment", "Curve", "KeyPoint", "Position", "Location", "FEATURE_ORDER", "STATION_TOLERANCE"]
 
@@ -97,7 +97,7 @@ class Alignment:
     elements: tuple[Element, ...]
     key_points: tuple[KeyPoint, ...]
     curves: tuple[Curve, ...]
-    _arrays: dict[str, Any] = field(repr=False, compare=False)
+    _arrays: ElementArrays = field(repr=False, compare=False)
     warnings: tuple[str, ...] = ()
 
     # ---- construction ---------------------------------------------------------
@@ -106,36 +106,37 @@ class Alignment:
                       key_points: tuple[KeyPoint, ...], warnings: tuple[str, ...] = ()) -> "Alignment":
         """Assemble an alignment and its evaluation arrays."""
         params = np.array([el.kernel_params() for el in elements], dtype=np.float64).reshape(len(elements), -1)
-        arr: dict[str, Any] = {
-            "start": np.array([el.start for el in elements]),
-            "length": np.array([el.length for el in elements]),
-            "n0": np.array([el.start_northing for el in elements]),
-            "e0": np.array([el.start_easting for el in elements]),
-            "n1": np.array([el.end_northing for el in elements]),
-            "e1": np.array([el.end_easting for el in elements]),
-            "az0": np.array([el.start_azimuth for el in elements]),
-            "k0": params[:, 0],
-            "k1": params[:, 1],
-        }
-        arr["sin0"], arr["cos0"] = sincosd(arr["az0"])
+        az0 = np.array([el.start_azimuth for el in elements])
+        sin0, cos0 = sincosd(az0)
         kernels: list[Kernel] = []
         for el in elements:
             if el.kernel not in kernels:
                 kernels.append(el.kernel)
-        arr["kernels"] = kernels
-        arr["kernel_of"] = np.array([kernels.index(el.kernel) for el in elements], dtype=np.int64)
+        start = np.array([el.start for el in elements])
         aps = [kp for kp in key_points if "AP" in kp.features]
         ap_back = []
         ap_ahead = []
         for kp in aps:
-            i = int(np.searchsorted(arr["start"], kp.station - STATION_TOLERANCE, side="right")) - 1
+            i = int(np.searchsorted(start, kp.station - STATION_TOLERANCE, side="right")) - 1
             ap_back.append(elements[i].end_azimuth)
             ap_ahead.append(elements[i + 1].start_azimuth)
-        arr["ap_station"] = np.array([kp.station for kp in aps])
-        arr["ap_n"] = np.array([kp.northing for kp in aps])
-        arr["ap_e"] = np.array([kp.easting for kp in aps])
-        arr["ap_back"] = np.array(ap_back)
-        arr["ap_ahead"] = np.array(ap_ahead)
+        arr = ElementArrays(
+            start=start,
+            length=np.array([el.length for el in elements]),
+            n0=np.array([el.start_northing for el in elements]),
+            e0=np.array([el.start_easting for el in elements]),
+            n1=np.array([el.end_northing for el in elements]),
+            e1=np.array([el.end_easting for el in elements]),
+            az0=az0, sin0=sin0, cos0=cos0,
+            k0=params[:, 0], k1=params[:, 1],
+            kernels=kernels,
+            kernel_of=np.array([kernels.index(el.kernel) for el in elements], dtype=np.int64),
+            ap_station=np.array([kp.station for kp in aps]),
+            ap_n=np.array([kp.northing for kp in aps]),
+            ap_e=np.array([kp.easting for kp in aps]),
+            ap_back=np.array(ap_back),
+            ap_ahead=np.array(ap_ahead),
+        )
         return cls(name, tuple(elements), key_points, curves, arr, warnings)
 
     # ---- basic facts ------------------------------------------------------------
@@ -158,7 +159,7 @@ class Alignment:
         """Index of the element each internal station lies on (the later one at a join)."""
         a = self._arrays
         s = np.asarray(stations, dtype=float)
-        return np.clip(np.searchsorted(a["start"], s, side="right") - 1, 0, len(self.elements) - 1)
+        return np.clip(np.searchsorted(a.start, s, side="right") - 1, 0, len(self.elements) - 1)
 
     # ---- evaluation ---------------------------------------------------------------
     def evaluate(self, stations: ArrayLike, offsets: ArrayLike = 0.0, *, miter: bool = True) -> Position:
@@ -195,29 +196,29 @@ class Alignment:
                 f"station {float(s[bad].flat[0]):.4f} is off the alignment ({lo:.4f} to {hi:.4f})"
             )
         idx = self.element_at(s)
-        ds = s - a["start"][idx]
-        kernels: list[Kernel] = a["kernels"]
+        ds = s - a.start[idx]
+        kernels = a.kernels
         if len(kernels) == 1:
             north, east, az = kernels[0].evaluate(a, idx, ds, o)
         else:
             north, east, az = (np.empty(s.shape) for _ in range(3))
-            which = a["kernel_of"][idx]
+            which = a.kernel_of[idx]
             for kj, kern in enumerate(kernels):  # one step per kind of element, vectorised inside
                 m = which == kj
                 north[m], east[m], az[m] = kern.evaluate(a, idx[m], ds[m], o[m])
-        if miter and a["ap_station"].size:
-            j = np.clip(np.searchsorted(a["ap_station"], s), 0, a["ap_station"].size - 1)
-            hit = np.abs(a["ap_station"][j] - s) <= STATION_TOLERANCE
+        if miter and a.ap_station.size:
+            j = np.clip(np.searchsorted(a.ap_station, s), 0, a.ap_station.size - 1)
+            hit = np.abs(a.ap_station[j] - s) <= STATION_TOLERANCE
             if np.any(hit):
                 jj = j[hit]
-                s1, c1 = sincosd(a["ap_back"][jj])
-                s2, c2 = sincosd(a["ap_ahead"][jj])
+                s1, c1 = sincosd(a.ap_back[jj])
+                s2, c2 = sincosd(a.ap_ahead[jj])
                 # right normals (east, north) = (cos az, -sin az); the offset
                 # lines meet at o * (n1 + n2) / (1 + n1.n2)
                 denom = 1.0 + (c1 * c2 + s1 * s2)
                 oh = o[hit]
-                east[hit] = a["ap_e"][jj] + oh * (c1 + c2) / denom
-                north[hit] = a["ap_n"][jj] - oh * (s1 + s2) / denom
+                east[hit] = a.ap_e[jj] + oh * (c1 + c2) / denom
+                north[hit] = a.ap_n[jj] - oh * (s1 + s2) / denom
         return Position(north, east, np.asarray(normalize_azimuth(az)))
 
     # ---- inverse ------------------------------------------------------------------
@@ -269,24 +270,24 @@ class Alignment:
         return Location(out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape))
 
     def _grid(self) -> ElementGrid | None:
-        cached = self._arrays.get("_grid")
+        cached = self._arrays.grid
         if cached is None:
             def sample(s: F) -> tuple[F, F]:
                 p = self.evaluate(s, miter=False)
                 return p.northing, p.easting
 
             cached = (build_grid(self.elements, self.length, sample),)
-            self._arrays["_grid"] = cached
+            self._arrays.grid = cached
         return cached[0]
 
     def _middles(self) -> tuple[F, F]:
         """Northing and easting of every element's middle point (computed once)."""
-        cached = self._arrays.get("_middles")
+        cached = self._arrays.middles
         if cached is None:
             a = self._arrays
-            p = self.evaluate(a["start"] + a["length"] / 2.0, miter=False)
+            p = self.evaluate(a.start + a.length / 2.0, miter=False)
             cached = (p.northing, p.easting)
-            self._arrays["_middles"] = cached
+            self._arrays.middles = cached
         return cached
 
     def _beyond_ends(self, n: F, e: F) -> F:
@@ -297,12 +298,12 @@ class Alignment:
         a = self._arrays
         out = np.full(n.size, np.inf)
         last = len(self.elements) - 1
-        for i, end, sign in ((0, ("n0", "e0"), -1.0), (last, ("n1", "e1"), 1.0)):
-            if a["k0"][i] != 0.0 or a["k1"][i] != 0.0:
+        for i, (end_n, end_e), sign in ((0, (a.n0, a.e0), -1.0), (last, (a.n1, a.e1), 1.0)):
+            if a.k0[i] != 0.0 or a.k1[i] != 0.0:
                 continue
-            dn, de = n - a[end[0]][i], e - a[end[1]][i]
-            along = de * a["sin0"][i] + dn * a["cos0"][i]
-            across = np.abs(de * a["cos0"][i] - dn * a["sin0"][i])
+            dn, de = n - end_n[i], e - end_e[i]
+            along = de * a.sin0[i] + dn * a.cos0[i]
+            across = np.abs(de * a.cos0[i] - dn * a.sin0[i])
             out = np.where(along * sign > 0.0, np.minimum(out, across), out)
         return out
 
@@ -352,8 +353,8 @@ class Alignment:
         """
         a = self._arrays
         nel = len(self.elements)
-        kernels: list[Kernel] = a["kernels"]
-        which = a["kernel_of"][el]
+        kernels = a.kernels
+        which = a.kernel_of[el]
         pn, pe = n[pi], e[pi]
         s = np.zeros(el.size)
         clamped = np.zeros(el.size, dtype=bool)
@@ -366,7 +367,7 @@ class Alignment:
             if step and m.size:  # a dearer kernel: only the pairs that can beat the best so far
                 mn, me = self._middles()
                 dm = np.hypot(pn[m] - mn[el[m]], pe[m] - me[el[m]])
-                half = a["length"][el[m]] / 2.0
+                half = a.length[el[m]] / 2.0
                 bound = dist.copy()
                 bound[m] = dm + half
                 limit = np.minimum.reduceat(bound, start)[pi[m]]
@@ -375,7 +376,7 @@ class Alignment:
                 em = el[m]
                 # the tangents at the very start and end extend beyond the alignment
                 lo = np.where(em == 0, -np.inf, 0.0)
-                hi = np.where(em == nel - 1, np.inf, a["length"][em])
+                hi = np.where(em == nel - 1, np.inf, a.length[em])
                 s[m], clamped[m], qn[m], qe[m], dist[m] = kernels[j].nearest(a, em, pn[m], pe[m], lo, hi)
         # the nearest pair of each point; where several are as near, the lowest (kernel, element)
         chosen = np.flatnonzero(dist == np.minimum.reduceat(dist, start)[pi])
@@ -395,4 +396,4 @@ class Alignment:
         d = dist[chosen]
         sign = np.where(across < 0.0, -1.0, 1.0)
         offset = np.where(clamped[chosen], sign * d, across)
-        return np.stack([a["start"][elb] + sb, offset, d])
+        return np.stack([a.start[elb] + sb, offset, d])

@@ -18,6 +18,7 @@ from ..job import CheckSpec, ControlPoint, Scale, Setup, SetupStation
 from ..limits import MAX_HEIGHT
 from ..precision import InstrumentSpec
 from ..textsafety import show_value
+from ..stations import StationRef
 from .control import inline_point
 from .reader import Table, direction, station_ref
 
@@ -29,9 +30,13 @@ MIN_BACKSIGHT = 1.0
 
 _POINT_KEYS = ("id", "northing", "easting", "elevation")
 _SETUP_KEYS = ("occupied", "backsight", "backsight_azimuth", "azimuth_reference", "instrument_height",
-               "target_height", "max_distance", "max_backsight", "station")
+               "target_height", "max_distance", "max_backsight", "station", "curvature_refraction",
+               "refraction_coefficient")
 _STATION_KEYS = ("occupied", "backsight", "backsight_azimuth", "from_station", "to_station")
 _AUTO = "auto"
+
+#: Refraction coefficient when the job gives none (common practice for daytime sights over land).
+DEFAULT_REFRACTION = 0.13
 
 
 class _Points:
@@ -98,13 +103,25 @@ def _backsight(t: Table, points: _Points, occupied: ControlPoint, reference: str
     return backsight, bs_az
 
 
+#: Words a station range may use for the alignment's ends (its first and last station,
+#: whatever they print as), so a range need not repeat the end station to the last decimal.
+RANGE_ENDS = {"start": -math.inf, "end": math.inf}
+
+
+def _range_end(value: object, station_length: int, where: str) -> StationRef:
+    """``from_station``/``to_station``: a station as everywhere, or ``"start"``/``"end"``."""
+    if isinstance(value, str) and value.strip().lower() in RANGE_ENDS:
+        return StationRef(RANGE_ENDS[value.strip().lower()], None, where)
+    return station_ref(value, station_length, where)
+
+
 def _station(t: Table, points: _Points, reference: str, reference_given: bool,
              station_length: int) -> SetupStation:
     """One ``[[setup.station]]``: occupied, backsight, and the stations it serves."""
     occupied = points.resolve(t, "occupied", required=True)
     assert occupied is not None
     backsight, bs_az = _backsight(t, points, occupied, reference, reference_given)
-    refs = [None if t.raw(k) is None else station_ref(t.raw(k), station_length, t.key(k))
+    refs = [None if t.raw(k) is None else _range_end(t.raw(k), station_length, t.key(k))
             for k in ("from_station", "to_station")]
     if (refs[0] is None) != (refs[1] is None):
         missing = "to_station" if refs[1] is None else "from_station"
@@ -138,6 +155,7 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
     ref = t.text("azimuth_reference", choices=("grid", "geodetic")) or "grid"
     ih = t.number("instrument_height", nonnegative=True, bound=MAX_HEIGHT)
     th = t.number("target_height", nonnegative=True, bound=MAX_HEIGHT)
+    refr = _refraction(t)
     auto = t.raw("occupied") == _AUTO
     if not auto:
         for k in ("max_distance", "max_backsight"):
@@ -157,7 +175,7 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
             i = ranged.index(not ranged[0])
             raise JobFileError(f"setup.station[{i}]: give from_station/to_station on every [[setup.station]] or "
                                "on none (without ranges each stake goes to the nearest setup)")
-        return Setup(None, None, None, ref, ih, th, stations=stations, by_id=points.used_id)
+        return Setup(None, None, None, ref, ih, th, stations=stations, by_id=points.used_id, refraction=refr)
     if auto:
         for k in ("backsight", "backsight_azimuth"):
             if t.has(k):
@@ -175,11 +193,28 @@ def read_setup(top: Table, control: tuple[ControlPoint, ...] = (), station_lengt
         if len(control) < 2:
             raise JobFileError(f'setup.occupied = "auto": needs at least two control points ([control]); the job '
                                f"has {len(control)}")
-        return Setup(None, None, None, ref, ih, th, max_distance=md, max_backsight=2.0 * md if mb is None else mb)
+        return Setup(None, None, None, ref, ih, th, max_distance=md, max_backsight=2.0 * md if mb is None else mb,
+                     refraction=refr)
     occupied = points.resolve(t, "occupied", required=True)
     assert occupied is not None
     backsight, bs_az = _backsight(t, points, occupied, ref, ref_given)
-    return Setup(occupied, backsight, bs_az, ref, ih, th, by_id=points.used_id)
+    return Setup(occupied, backsight, bs_az, ref, ih, th, by_id=points.used_id, refraction=refr)
+
+
+def _refraction(t: Table) -> float | None:
+    """``curvature_refraction = true`` (with an optional ``refraction_coefficient``): k, else None."""
+    on = t.raw("curvature_refraction")
+    if on is not None and not isinstance(on, bool):
+        raise JobFileError(f"setup.curvature_refraction = {show_value(on)}: expected true or false")
+    if not on:
+        if t.has("refraction_coefficient"):
+            raise JobFileError(f"setup.refraction_coefficient = {show_value(t.raw('refraction_coefficient'))}: "
+                               "goes with curvature_refraction = true")
+        return None
+    k = t.number("refraction_coefficient", bound=1.0)
+    if k is not None and not 0.0 <= k < 1.0:
+        raise JobFileError(f"setup.refraction_coefficient = {k!r}: must lie from 0 up to (not including) 1")
+    return DEFAULT_REFRACTION if k is None else k
 
 
 def read_instrument(top: Table) -> InstrumentSpec | None:

@@ -81,7 +81,8 @@ def restake_csv(d: Design, r: CheckResult) -> bytes:
     keep = np.zeros(len(d.stakes) + 1, dtype=bool)
     keep[0] = True
     keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
-    return data[keep[line_of_byte]].tobytes()
+    out: bytes = data[keep[line_of_byte]].tobytes()
+    return out
 
 
 def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:

@@ -85,7 +85,7 @@ def dxf_angle(azimuth_deg: float) -> float:
 ROTATION_DECIMALS = 6
 
 
-def _text(msp, s: str, x: float, y: float, h: float, layer: str, rot: float = 0.0, align: str = "LEFT") -> None:
+def _text(msp: Any, s: str, x: float, y: float, h: float, layer: str, rot: float = 0.0, align: str = "LEFT") -> None:
     rotation = round(rot % 360.0, ROTATION_DECIMALS) % 360.0
     t = msp.add_text(s, height=h, rotation=rotation, dxfattribs={"layer": layer, "style": TEXT_STYLE})
     t.set_placement((x, y), align=ezdxf.enums.TextEntityAlignment[align])

@@ -22,7 +22,7 @@ import numpy as np
 from ..alignment import Arc, Spiral
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
-from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word
+from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word, vertical_note
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -249,6 +249,10 @@ def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list
         rows.append(("convergence", _dms(scale.convergence, 1)))
     if setup.target_height is not None:
         rows.append(("target height", f"{setup.target_height:.3f}"))
+    note = vertical_note(d)
+    if note:
+        what, how = note.split(": ", 1)
+        rows.append((what, how))
     rows.append(("reading", "angle right clockwise from the backsight; ground = grid / combined factor"))
     return rows
 

@@ -29,7 +29,7 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
     """Render the manifest for the given outputs (name -> file bytes)."""
     info = d.job.info
     job_sha256, job_name, units, crs = d.job.sha256, info.name, info.unit.key, info.crs
-    factors: dict[str, Any] = d.factors
+    factors = d.factors.as_dict()
     proj_version = d.proj_version
     doc: dict[str, Any] = {
         "tool": "stakeout",

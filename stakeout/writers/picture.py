@@ -282,7 +282,8 @@ class Labeller:
         i0, i1 = np.clip(i0, 0, self.nx), np.clip(i1, 0, self.nx)
         j0, j1 = np.clip(j0, 0, self.ny), np.clip(j1, 0, self.ny)
         used = sat[j1, i1] - sat[j0, i1] - sat[j1, i0] + sat[j0, i0]
-        return (inside & (used == 0)).reshape(shape)
+        free: NDArray[np.bool_] = (inside & (used == 0)).reshape(shape)
+        return free
 
     def place(self, candidates: F, allowed: NDArray[np.bool_] | None = None) -> int:
         """Take the first free candidate box (rows of ``candidates``), mark it and

@@ -3,9 +3,10 @@ numpy, no Python call per field.
 
 Each field is a ``(N, width)`` ``uint8`` matrix of ASCII codes, padded with
 NUL bytes; :func:`join_rows` lays fields side by side, ends each row with
-``\\n`` and drops the padding.  Numbers are rounded once, half to even, in
-units of their last printed digit, so a value never prints as ``-0.0000``
-and carries are exact.
+``\\n`` and drops the padding.  Numbers are rounded once, in units of their
+last printed digit, by the one rule of :mod:`stakeout.numbers` (the exact
+binary value, half to even: what ``f"{v:.4f}"`` prints), so a value never
+prints as ``-0.0000`` and carries are exact.
 """
 
 from __future__ import annotations
@@ -14,6 +15,8 @@ from collections.abc import Sequence
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+
+from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
            "station"]
@@ -74,7 +77,7 @@ def fixed(values: ArrayLike, decimals: int) -> Field:
     x = np.asarray(values, dtype=float).ravel()
     if not np.all(np.isfinite(x)):
         raise ValueError("cannot format a non-finite number")
-    v = np.rint(np.abs(x) * 10.0**decimals).astype(np.int64)
+    v = scaled(np.abs(x), 10**decimals)
     neg = (x < 0) & (v > 0)
     d = _digits(v, decimals + 1, False)
     parts = [np.where(neg, 45, 0).astype(np.uint8)[:, None]]
@@ -116,7 +119,8 @@ def const(s: str, n: int) -> Field:
 
 def blank(f: Field, empty: NDArray[np.bool_]) -> Field:
     """The field with the rows where ``empty`` is True left empty (all padding)."""
-    return f * ~np.asarray(empty, dtype=bool)[:, None]
+    out: Field = f * ~np.asarray(empty, dtype=bool)[:, None]
+    return out
 
 
 def repeat_rows(f: Field, m: int) -> Field:
@@ -157,7 +161,7 @@ def dms(degrees: ArrayLike, decimals: int = 1, wrap360: bool = True) -> Field:
     if wrap360:
         x = np.mod(x, 360.0)
     scale = 10**decimals
-    total = np.rint(np.abs(x) * (3600 * scale)).astype(np.int64)
+    total = scaled(np.abs(x), 3600 * scale)
     if wrap360:
         total %= 360 * 3600 * scale
     neg = (x < 0) & (total > 0)
@@ -176,7 +180,7 @@ def station(values: ArrayLike, station_length: int, decimals: int) -> Field:
     """Station labels ``12+34.56`` (``-0+25.00`` for negative stations)."""
     x = np.asarray(values, dtype=float).ravel()
     scale = 10**decimals
-    total = np.rint(np.abs(x) * scale).astype(np.int64)
+    total = scaled(np.abs(x), scale)
     per = int(station_length) * scale
     neg = (x < 0) & (total > 0)
     full, rem = total // per, total % per

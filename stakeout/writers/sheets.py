@@ -16,12 +16,12 @@ import numpy as np
 from ..alignment import Alignment, Arc, Element, Spiral
 from ..alignment.clothoid import clothoid_xy
 from ..angles import format_azimuth_dms, format_dms
-from ..design import Design, Occupation
+from ..design import Design, Occupation, precision_rules_setups
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
-                   side_text, table_lines, turn_word, wrap_lines)
+                   side_text, table_lines, turn_word, vertical_note, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
 
@@ -190,6 +190,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     head += _DEFINITIONS
     if setup.target_height is not None:
         head.append(f"target height {setup.target_height:.3f}")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)
@@ -210,8 +211,10 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
             Column("bs dist", ["" if x is None else f"{x:.3f}" for x in dists]),
             Column("stakes", [str(o.stake_count) for o in occs]),
             Column("farthest", [f"{o.farthest_sight:.3f}" for o in occs]),
-            Column("from sta", [lab(o.first_station) for o in occs]),
-            Column("to sta", [lab(o.last_station) for o in occs], with_previous=True)]
+            # the range a setup serves where the job gives one, else its first and last stake
+            Column("from sta", [lab(o.first_station if o.range_from is None else o.range_from) for o in occs]),
+            Column("to sta", [lab(o.last_station if o.range_to is None else o.range_to) for o in occs],
+                   with_previous=True)]
     prec = sdes.precision
     if prec is not None:
         worst = np.zeros(len(occs))
@@ -223,9 +226,15 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     heads, rows = table_lines(cols, table)
     setup = sdes.setup
     if setup.auto:
-        how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
-               f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
-               f"point within max_backsight {setup.max_backsight:g}")
+        if precision_rules_setups(d.job):
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup and, where any setup can keep it so, its predicted r95 "
+                   "within the tolerance (the chosen setup with the smallest r95), each backsight the farthest "
+                   f"control point within max_backsight {setup.max_backsight:g}")
+        else:
+            how = (f"chosen among the {len(d.job.control)} control points: each stake within max_distance "
+                   f"{setup.max_distance:g} of its setup (the nearest chosen), each backsight the farthest control "
+                   f"point within max_backsight {setup.max_backsight:g}")
     elif setup.stations and setup.stations[0].from_station is not None:
         how = "as listed in the job file ([[setup.station]]), each serving its range of stations"
     elif setup.stations:
@@ -260,6 +269,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         heights.append(f"target height {setup.target_height:.3f}")
     if heights:
         head.append("   ".join(heights) + " (every setup)")
+    head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
     cols, rows = _stake_table(d, table)
@@ -355,7 +365,8 @@ def _offset_rows(alignment: Alignment, el: Element, stations: np.ndarray, o: flo
 def _offset_length(el: Element, s: np.ndarray, o: float) -> np.ndarray:
     """Length along an offset line from the element's start: integral of (1 - k(s) o) ds."""
     k0, k1 = el.curvature_start, el.curvature_end
-    return s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
+    out: np.ndarray = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
+    return out
 
 
 def deflection_sheet(d: Design, wide: bool = False) -> str:

@@ -78,7 +78,13 @@ class _PerPoint:
     def label(self) -> rows.Field:
         sp = self.sp
         st = sp.stationing  # every label comes from the stationing: stations in force there
-        return rows.repeat_rows(rows.station(sp.station_values[self.s], st.station_length, st.decimals), self.m)
+        lab = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
+        twice = st.occurs_twice(sp.stations[self.s])
+        if twice.any():  # a station an equation doubles carries its region, as Stationing.labels writes it
+            k = self.k
+            suffix = np.concatenate([rows.const("(", k), rows.integer(sp.regions[self.s]), rows.const(")", k)], axis=1)
+            lab = np.concatenate([lab, rows.blank(suffix, ~twice)], axis=1)
+        return rows.repeat_rows(lab, self.m)
 
     def station(self, decimals: int) -> rows.Field:
         return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)

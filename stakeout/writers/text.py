@@ -13,12 +13,12 @@ from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
 
-import numpy as np
 from numpy.typing import ArrayLike
 
 from ..alignment import Alignment, Arc, Curve, Element, Spiral
 from ..angles import format_dms
 from ..design import Design
+from ..numbers import fixed_string, fixed_strings, round_to
 from ..stations import Stationing
 
 __all__ = [
@@ -52,14 +52,14 @@ PAGE_LINES = 60
 
 # ---- numbers ---------------------------------------------------------------------------
 def rounded(values: ArrayLike, decimals: int) -> list[float]:
-    """Round to ``decimals`` and clear negative zeros; a plain list of floats."""
-    return (np.round(np.asarray(values, dtype=float), decimals) + 0.0).tolist()
+    """Round to ``decimals`` by the printing rule and clear negative zeros; a plain list of floats."""
+    out: list[float] = round_to(values, decimals).tolist()
+    return out
 
 
 def fixed(values: ArrayLike, decimals: int) -> list[str]:
-    """Format numbers with a fixed number of decimals (never ``-0.000``)."""
-    fmt = f"%.{decimals}f"
-    return [fmt % v for v in rounded(values, decimals)]
+    """Format numbers with a fixed number of decimals (never ``-0.000``; NaN as ``nan``)."""
+    return fixed_strings(values, decimals)
 
 
 def fixed_or_empty(value: float | None, decimals: int) -> str:
@@ -73,7 +73,7 @@ def finite_or_empty(value: float, decimals: int) -> str:
     """Format one number, or an empty field for NaN and infinities."""
     if not math.isfinite(value):
         return ""
-    return f"{round(value, decimals) + 0.0:.{decimals}f}"
+    return fixed_string(value, decimals)
 
 
 def clip(text: str, width: int = WIDTH) -> str:
@@ -122,6 +122,16 @@ def turn_word(turn: int) -> str:
 
 
 # ---- the job header ------------------------------------------------------------------------
+def vertical_note(d: Design) -> str | None:
+    """What the zenith angles and slope distances allow for; None where none are computed."""
+    if d.setup is None or d.setup.setout.zenith is None:
+        return None
+    k = d.setup.setup.refraction
+    if k is None:
+        return "zenith and slope distance: no curvature or refraction correction (short sights)"
+    return f"zenith and slope distance: corrected for curvature and refraction (k {k:.2f})"
+
+
 def header_lines(title: str, d: Design) -> list[str]:
     """The header block every sheet opens with: job, file and hash, alignment, units, CRS."""
     job = d.job
