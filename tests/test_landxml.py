@@ -1,4 +1,4 @@
-"""LandXML 1.2 reader and writer (stakeout/landxml.py).
+"""LandXML 1.2 reader and writer (the stakeout/landxml package).
 
 Sources of the expected values, named beside each check:
 - "independent geometry": tests/landxml_data.py, which made the invented

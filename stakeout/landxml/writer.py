@@ -34,6 +34,7 @@ from dataclasses import replace
 import numpy as np
 
 from ..errors import GeometryError, JobFileError
+from ..numbers import fixed_strings
 from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
@@ -260,12 +261,6 @@ _ESCAPES = str.maketrans({"&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;",
                           "\t": "&#9;"})
 
 
-def _fixed(v: float) -> str:
-    """A coordinate with :data:`_POINT_DECIMALS` decimals; no sign on a value that rounds to zero."""
-    text = f"{v:.{_POINT_DECIMALS}f}"
-    return text[1:] if text[0] == "-" and not text.strip("-0.") else text
-
-
 def _attr_texts(strings: Sequence[str], what: str) -> Sequence[str]:
     """Strings checked for characters XML cannot carry and escaped for an attribute."""
     joined = "".join(strings)
@@ -285,7 +280,7 @@ def _optional_attrs(name: str, values: Sequence[str] | None, n: int, what: str) 
 
 
 def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
-    """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals, f-string rounding)."""
+    """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals by the one number formatter)."""
     if not isinstance(points, XPoints):
         points = XPoints(
             [p.name for p in points],
@@ -308,14 +303,15 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
     coords = np.concatenate([nn, ee, elev[~np.isnan(elev)]])
     if not np.isfinite(coords).all() or (np.abs(coords) >= 1e12).any():
         raise JobFileError("points: coordinates must be finite and below 1e12")
-    z_text = [f" {_fixed(z)}" if z == z else "" for z in elev.tolist()]
+    d = _POINT_DECIMALS
+    z_text = [f" {z}" if z != "nan" else "" for z in fixed_strings(elev, d)]
     rows = [
-        f'    <CgPoint name="{name}"{code}{desc}>{_fixed(n_)} {_fixed(e_)}{z}</CgPoint>\n'
+        f'    <CgPoint name="{name}"{code}{desc}>{n_} {e_}{z}</CgPoint>\n'
         for name, code, desc, n_, e_, z in zip(
             _attr_texts(points.names, "point name"),
             _optional_attrs("code", points.codes, n, "point code"),
             _optional_attrs("desc", points.descs, n, "point desc"),
-            nn.tolist(), ee.tolist(), z_text, strict=True,
+            fixed_strings(nn, d), fixed_strings(ee, d), z_text, strict=True,
         )
     ]
     return "  <CgPoints>\n" + "".join(rows) + "  </CgPoints>\n"
