@@ -192,3 +192,16 @@ def test_huge_numbers_in_messages_are_short():
     assert lx.records.fmt(1e300) == "1e+300"
     assert lx.records.fmt(-2.5e16) == "-2.5e+16"
     assert lx.records.fmt(12.3456789) == "12.345679"
+
+
+def test_utf32_and_utf16_with_a_byte_order_mark_are_read():
+    # the parser reads no UTF-32, and took a UTF-16 file declaring Shift_JIS for a multi-byte error (exit 3)
+    for decl, enc in (("UTF-32", "utf-32"), ("Shift_JIS", "utf-16")):
+        text = doc(line_alignment(), decl=f'<?xml version="1.0" encoding="{decl}"?>', app='<Application name="測量"/>')
+        assert lx.parse_landxml(text.encode(enc), source="road.xml").application == "測量"
+
+
+def test_ebcdic_landxml_is_refused_by_name():
+    text = doc(line_alignment(), decl='<?xml version="1.0" encoding="cp500"?>')
+    with pytest.raises(JobFileError, match=r"road.xml: does not begin with '<' .*EBCDIC"):
+        lx.parse_landxml(text.encode("cp500"), source="road.xml")

@@ -74,6 +74,7 @@ from ..limits import (
     check_length,
     check_station_value,
     read_regular_file,
+    unicode_bom,
 )
 from .records import (
     ANGLE_POINT_CODE,
@@ -176,6 +177,7 @@ def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
 
 
 _DECLARED = re.compile(rb"""\A(?:\xef\xbb\xbf)?<\?xml[^>]*?\sencoding\s*=\s*["']([^"']{0,64})["']""")
+_DECLARED_TEXT = re.compile(r"""\A(\ufeff?<\?xml[^>]*?\sencoding\s*=\s*["'])[^"']*(["'])""")
 _EXPAT_NATIVE = frozenset({"utf-8", "utf-16", "utf-16-le", "utf-16-be", "ascii", "latin-1", "iso8859-1"})
 
 
@@ -184,6 +186,17 @@ def _as_parser_can_read(data: bytes, source: str) -> bytes:
     encoding, a Windows code page) is decoded by Python's codec and handed on as UTF-8; an encoding
     Python does not know, or bytes that are not in the declared one, are refused by name.
     """
+    bom = unicode_bom(data)
+    if bom in ("UTF-16", "UTF-32"):  # the mark decides (the parser reads no UTF-32 at all)
+        try:
+            text = data.decode(bom.lower())
+        except UnicodeDecodeError as exc:
+            raise JobFileError(f"{source}: byte {exc.start}: not {bom}, which its byte-order mark announces; "
+                               "save the file as UTF-8") from None
+        return _DECLARED_TEXT.sub(r"\1UTF-8\2", text, count=1).encode("utf-8")
+    if bom is None and data.strip() and not data.lstrip(b" \t\r\n").startswith(b"<"):
+        raise JobFileError(f"{source}: does not begin with '<' as an XML file does (is it in an encoding such as "
+                           "EBCDIC or UTF-32 without a byte-order mark?); save the file as UTF-8")
     m = _DECLARED.match(data[:512])
     if m is None:
         return data
@@ -226,7 +239,7 @@ def _parse(data: bytes, source: str, digest: str) -> XDesign:
             "entities and external references are not accepted"
         ) from None
     except (ValueError, LookupError) as exc:  # what the parser itself says of an encoding
-        raise JobFileError(f"{source}: cannot be read as XML ({exc}); save the file as UTF-8") from None
+        raise JobFileError(f"{source}: cannot be read as XML ({shown(str(exc))}); save the file as UTF-8") from None
     return reader.read(root, digest)
 
 
