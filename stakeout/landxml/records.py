@@ -290,7 +290,7 @@ class XProfile:
     pvis: tuple[XPVI, ...]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)  # slots: a file may hold millions of them
 class XPoint:
     """A ``<CgPoint>``.
 
