@@ -47,7 +47,8 @@ from .shots import Shots
 from .staking import StakePoints
 
 __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_points", "PointIndex",
-           "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots"]
+           "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots",
+           "locate_near", "along_across"]
 
 STATUSES = ("ok", "out", "superseded", "duplicate", "control", "unmatched")
 
@@ -93,6 +94,14 @@ class CheckResult:
     horizontal_tolerance: float
     vertical_tolerance: float | None
     search_radius: float
+    #: Shot minus design point along and square to the alignment's direction at the design point
+    #: (grid units, positive ahead and right); NaN for shots not matched to a design point.
+    d_along: NDArray[np.float64]
+    d_across: NDArray[np.float64]
+    #: ``d_along``/``d_across`` as ground distances (divided by the combined factor at the stake):
+    #: what the crew moves the stake by.
+    ground_along: NDArray[np.float64]
+    ground_across: NDArray[np.float64]
 
     def counts(self) -> dict[str, int]:
         """Number of shots per status."""
@@ -505,9 +514,81 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
                    superseded, dup, related, governor)
 
 
+#: Newton steps of :func:`locate_near` at most (each step on all points at once).
+_NEAR_STEPS = 12
+
+
+def locate_near(alignment: Alignment, northing: NDArray[np.float64], easting: NDArray[np.float64],
+                station: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Internal station and offset of points, each found near a given internal station.
+
+    Unlike :meth:`Alignment.locate` (the nearest element anywhere), the
+    foot of each point's perpendicular is followed from ``station`` along
+    the alignment (Newton steps on the along-component, with the curvature
+    from the change of direction), so a point near a loop's crossing stays
+    on the branch of its design point.  Beyond the ends the end tangent is
+    extended, as :meth:`Alignment.locate` does.
+
+    Parameters
+    ----------
+    alignment : Alignment
+        The alignment.
+    northing, easting : array of float
+        The points, job units (finite).
+    station : array of float
+        Internal station to start from for each point (the design point's).
+
+    Returns
+    -------
+    (station, offset)
+        Internal station and signed offset (negative left), job units.
+    """
+    lo, hi = alignment.start_station, alignment.end_station
+    s = np.clip(np.asarray(station, dtype=np.float64), lo, hi)
+    n = np.asarray(northing, dtype=np.float64)
+    e = np.asarray(easting, dtype=np.float64)
+    h = max(1e-6, 1e-9 * max(abs(lo), abs(hi)))
+    along = across = np.zeros(s.size)
+    for _ in range(_NEAR_STEPS):  # one step on every point at once
+        p = alignment.evaluate(s, miter=False)
+        sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
+        dn, de = n - p.northing, e - p.easting
+        along, across = dn * cs + de * sn, de * cs - dn * sn
+        ahead = np.clip(s + h, lo, hi)
+        behind = np.clip(s - h, lo, hi)
+        turn = (alignment.evaluate(ahead, miter=False).azimuth - alignment.evaluate(behind, miter=False).azimuth
+                + 180.0) % 360.0 - 180.0
+        width = ahead - behind
+        kappa = np.where(width > 0, np.radians(turn) / np.where(width > 0, width, 1.0), 0.0)
+        step = along / np.maximum(1.0 - kappa * across, 0.1)
+        new = np.clip(s + step, lo, hi)
+        moved = np.abs(new - s)
+        s = new
+        if not np.any(moved > 1e-10 * (1.0 + np.abs(s))):
+            break
+    p = alignment.evaluate(s, miter=False)
+    sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
+    dn, de = n - p.northing, e - p.easting
+    along, across = dn * cs + de * sn, de * cs - dn * sn
+    # past an end: along the extended end tangent
+    beyond = ((s <= lo) & (along < 0.0)) | ((s >= hi) & (along > 0.0))
+    return np.where(beyond, s + along, s), across
+
+
+def along_across(azimuth: NDArray[np.float64], d_northing: NDArray[np.float64],
+                 d_easting: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """A residual along and square to a direction (degrees clockwise from grid north):
+    positive ahead and right, in the residual's units.
+    """
+    az = np.radians(azimuth)
+    sn, cs = np.sin(az), np.cos(az)
+    return d_northing * cs + d_easting * sn, d_easting * cs - d_northing * sn
+
+
 def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDArray[np.float64] | None,
                 shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
-                search_radius: float | None = None, control: Sequence[ControlRow] = ()) -> CheckResult:
+                search_radius: float | None = None, control: Sequence[ControlRow] = (),
+                combined_factor: NDArray[np.float64] | float = 1.0) -> CheckResult:
     """Match shots to design and control points; residuals and status.
 
     Parameters
@@ -527,6 +608,9 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     control : sequence of (id, northing, easting, elevation)
         The job's control points (job units; elevation None where unknown),
         e.g. :func:`job_control_points`.
+    combined_factor : float or array of float
+        Grid / ground at each design point (one number for all): the
+        moves are ground distances.
 
     Returns
     -------
@@ -554,10 +638,22 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         tn = np.where(to_control, cn[sc], tn)
         te = np.where(to_control, ce[sc], te)
         tz = np.where(to_control, cz[sc], tz)
+    # a shot of a design point is located near the design point's station (never on another branch of a
+    # loop); a control shot or an unmatched one against the whole alignment
     st, off, _ = alignment.locate(sn, se)
-    dst, doff, _ = alignment.locate(np.where(matched, tn, sn), np.where(matched, te, se))
+    dst, doff, _ = alignment.locate(np.where(to_control, tn, sn), np.where(to_control, te, se))
     nan = np.full(m, np.nan)
     dn, de = sn - tn, se - te
+    d_along, d_across = nan.copy(), nan.copy()
+    ground_along, ground_across = nan.copy(), nan.copy()
+    k = np.flatnonzero(to_design & np.isfinite(sn) & np.isfinite(se))
+    if k.size:
+        ds = design.station[di[k]]
+        st[k], off[k] = locate_near(alignment, sn[k], se[k], ds)
+        dst[k], doff[k] = locate_near(alignment, tn[k], te[k], ds)
+        d_along[k], d_across[k] = along_across(design.azimuth[di[k]], dn[k], de[k])  # its own direction
+        cf = np.broadcast_to(np.asarray(combined_factor, dtype=np.float64), (nd,))[di[k]]
+        ground_along[k], ground_across[k] = d_along[k] / cf, d_across[k] / cf
     hz = np.hypot(dn, de)
     dz = shots.elevation - tz
     with np.errstate(invalid="ignore"):
@@ -582,4 +678,5 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         not_staked=np.flatnonzero(~staked).astype(np.int64),
         restake=np.flatnonzero(~staked | gov_out).astype(np.int64),
         horizontal_tolerance=horizontal_tolerance, vertical_tolerance=vertical_tolerance, search_radius=radius,
+        d_along=d_along, d_across=d_across, ground_along=ground_along, ground_across=ground_across,
     )

@@ -8,6 +8,7 @@ units; angles in decimal degrees; azimuths clockwise from grid north.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import PurePath
 
 from .alignment.specs import AlignmentSpec
 from .precision import InstrumentSpec
@@ -246,3 +247,12 @@ class Job:
                 seen.add(cp.id)
                 out.append(cp)
         return tuple(out)
+
+    def inputs(self) -> tuple[str, ...]:
+        """Every file the job reads: the job file, then each design file
+        (alignment, profile, control, and any input added later as a
+        :class:`DesignFile`), paths relative to the job file resolved
+        against its folder.  ``--force`` never replaces a folder holding one.
+        """
+        base = PurePath(self.path).parent
+        return (self.path,) + tuple(str(base / f.path) for f in self.design_files)

@@ -147,18 +147,6 @@ def test_design_file_text_cannot_forge_console_lines(tmp_path):
     assert all("\n" not in item for item in design.not_used)
 
 
-# --- item 7: an alignment of length zero -------------------------------------------------------------------
-
-def test_zero_length_landxml_alignment_is_refused():
-    # one <Line> whose Start is its End built three stakes at one point
-    from stakeout.errors import GeometryError
-
-    a = lx.pick_alignment(parse(doc(line_alignment().replace("<End>1100 2000</End>", "<End>1000 2000</End>")
-                                    .replace('length="100"', 'length="0"'))), None)
-    with pytest.raises(GeometryError, match="alignment 'A': its elements add up to a length of 0"):
-        lx.validate_geometry(a)
-
-
 # --- issue 28 item 12: messages name what the user gave ---------------------------------------------------
 
 def test_landxml_profile_messages_name_the_files_elements_not_profile_pvi(tmp_path):

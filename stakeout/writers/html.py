@@ -484,7 +484,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
 
     def row(k: int, note: bool) -> list[Cell]:
         out: list[Cell] = [shots.point[k], target_id(d, r, k), label(float(r.station[k])), _f(r.offset[k]),
-                           _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k])]
+                           _f(r.horizontal_error[k]), _f(r.d_along[k]), _f(r.d_across[k]), _f(r.d_elevation[k])]
         if with_grade:
             out.append(marks[k])
         out.append((status_text(r, k), f"status-{r.status[k]}"))
@@ -508,7 +508,8 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
          + table(superseded, "governed by")) if superseded else "",
         f"<h2>Design points not staked: {len(missing)}</h2>"
         + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
-        "<p>d = staked - design; d along / d across: the shot's station / offset minus the design point's; "
+        "<p>d = staked - design; d along / d across: the residual along and square to the alignment at the "
+        "design point (grid; the moves are ground distances); "
         + ("mark: the cut or fill to write on the stake, C where the shot is above design, F below; "
            if with_grade else "")
         + "status out (horizontal / vertical / both): which tolerance the shot fails; moves are looking "
