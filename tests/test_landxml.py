@@ -6,7 +6,7 @@ Sources of the expected values, named beside each check:
   clothoids, a 2x2 solve for each spiral's PI.  The reader measures the same
   elements from the points by other means (azimuths of chords and radii,
   Gauss-Legendre quadrature of the clothoid).
-- "schema": ../shared/reference/LandXML-1.2.xsd, applied by lxml's
+- "schema": tests/data/LandXML-1.2.xsd (landxml.org), applied by lxml's
   XMLSchema (an independent XML implementation); its <Units> documentation
   for the direction convention.
 - lxml as an independent reader of what the writer wrote.
@@ -15,7 +15,6 @@ Sources of the expected values, named beside each check:
 from __future__ import annotations
 
 import dataclasses
-import functools
 import hashlib
 import datetime as dt
 import math
@@ -34,39 +33,13 @@ from stakeout import landxml as lx
 from stakeout.errors import GeometryError, JobFileError
 
 from . import landxml_data as data
+from .helpers import landxml_schema
 
 DATA = data.DATA
 ROOT = Path(__file__).resolve().parent.parent
-# the schema lives in shared/ beside the checkout (../shared/reference); a worktree elsewhere
-# falls back to the workplace's copy
-XSD = next(
-    (
-        p
-        for p in (
-            ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-            Path("/work/shared/reference/LandXML-1.2.xsd"),
-        )
-        if p.is_file()
-    ),
-    ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-)
-
-
-@functools.cache
-def _load_schema():
-    if not XSD.is_file():
-        return None
-    from lxml import etree
-
-    return etree.XMLSchema(etree.parse(str(XSD)))
-
-
 @pytest.fixture(scope="module")
 def schema():
-    loaded = _load_schema()
-    if loaded is None:
-        pytest.skip(f"LandXML schema not found at {XSD} (../shared/reference): schema validation skipped")
-    return loaded
+    return landxml_schema()  # tests/data/LandXML-1.2.xsd
 
 
 def read(name: str) -> lx.XDesign:
@@ -821,10 +794,9 @@ def test_random_alignments_round_trip(case, units):
     segs = data.build(*start, plan)
     elements = [to_x(s, i) for i, s in enumerate(segs, 1)]
     xml = lx.write_landxml(units, "R", sta, elements, [], None, [], "stakeout", "")
-    if _load_schema() is not None:  # schema (lxml); skipped with the schema tests when it is missing
-        from lxml import etree
+    from lxml import etree
 
-        assert _load_schema().validate(etree.fromstring(xml))
+    assert landxml_schema().validate(etree.fromstring(xml))  # schema (lxml)
     a = lx.pick_alignment(lx.parse_landxml(xml), "R")
     # exact round trip of the points; the measured geometry matches the independent design
     assert [dataclasses.replace(e, **{f: None for f in _attrs(e)}) for e in a.elements] == elements

@@ -1,6 +1,6 @@
 """Round trip of the staked design through LandXML: job -> alignment.xml -> job -> the same stakes.
 
-Sources: the LandXML 1.2 schema (``../shared/reference/LandXML-1.2.xsd``,
+Sources: the LandXML 1.2 schema (``tests/data/LandXML-1.2.xsd``,
 landxml.org) through lxml's ``XMLSchema`` validates every export; lxml as an
 independent reader of the CgPoints; the project's own reader for the round trip.
 """
@@ -16,19 +16,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from .helpers import ROOT, SAMPLES, build_job, read_rows, write_job
 
-SCHEMA_PLACES = (ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-                 Path("/work/shared/reference/LandXML-1.2.xsd"))
+from .helpers import SAMPLES, build_job, landxml_schema, read_rows, write_job
+
 NS = "{http://www.landxml.org/schema/LandXML-1.2}"
 
 
-def _schema():
-    lxml = pytest.importorskip("lxml.etree")
-    for p in SCHEMA_PLACES:
-        if p.is_file():
-            return lxml.XMLSchema(lxml.parse(str(p)))
-    pytest.skip("the LandXML 1.2 schema (shared/reference/LandXML-1.2.xsd) is not beside the project")
 
 
 def _swap_geometry(text: str, xml: Path, job_dir: Path, has_profile: bool) -> str:
@@ -49,7 +42,7 @@ def _swap_geometry(text: str, xml: Path, job_dir: Path, has_profile: bool) -> st
 
 @pytest.mark.parametrize("sample", sorted(p.name for p in SAMPLES.glob("*.toml")))
 def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
-    schema = _schema()
+    schema = landxml_schema()
     from lxml import etree
 
     job = SAMPLES / sample
@@ -76,6 +69,7 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         assert a["elevation"] == b["elevation"]
 
 
+@pytest.mark.slow
 @settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(st.lists(st.tuples(st.floats(150.0, 600.0), st.floats(-1.0, 1.0).filter(lambda v: abs(v) > 0.5),
                           st.sampled_from([None, 0.0, 30.0, 60.0])), min_size=1, max_size=3),
@@ -117,7 +111,7 @@ def _stations_by_label(path: Path) -> dict[tuple[str, str], tuple[float, float]]
 
 
 def _export_and_read_back(tmp_path: Path, alignment: str) -> tuple[Path, Path]:
-    schema = _schema()
+    schema = landxml_schema()
     from lxml import etree
 
     head = 'format = 1\n[job]\nname = "Turns"\nunits = "m"\n'

@@ -4,6 +4,8 @@ typer only in the CLI, and the alignment free of all three."""
 import ast
 from pathlib import Path
 
+import pytest
+
 PKG = Path(__file__).resolve().parent.parent / "stakeout"
 
 
@@ -17,6 +19,7 @@ def _imports(path: Path) -> set[str]:
     return out
 
 
+@pytest.mark.slow
 def test_heavy_libraries_stay_in_their_modules():
     owners = {"pyproj": {"crs.py"}, "ezdxf": {"dxf.py"}, "typer": {"cli.py"}, "matplotlib": {"dxf.py"}}
     for path in PKG.rglob("*.py"):
@@ -107,10 +110,7 @@ def test_ruff_clean():
     import sys
 
     ruff = shutil.which("ruff", path=str(Path(sys.executable).parent)) or shutil.which("ruff")
-    if ruff is None:
-        import pytest
-
-        pytest.skip("ruff is not installed (pip install -e '.[test]' brings it)")
+    assert ruff is not None, "ruff is not installed (pip install -e '.[test]' brings it)"
     r = subprocess.run([ruff, "check", "stakeout", "tests", "benchmarks"], cwd=PKG.parent, capture_output=True,
                        text=True)
     assert r.returncode == 0, r.stdout + r.stderr
