@@ -167,6 +167,8 @@ class CheckSpec:
     horizontal_tolerance: float | None
     vertical_tolerance: float | None
     search_radius: float | None
+    #: Description codes of shots on the ground beside a stake (checked horizontally only).
+    ground_codes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -254,7 +254,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, radius, control, stake_factors(d))
+                         spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes)
     progress.step("shots checked")
 
     with folder:

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..check import STATUSES, CheckResult
+from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
 from .tables import DECIMALS, POINTS_COLUMNS, csv_text, csv_text_field, points_csv
@@ -185,6 +185,11 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
         what = move_text(r.ground_along[k], r.ground_across[k], r.d_elevation[k], f in ("horizontal", "both"),
                          f in ("vertical", "both"), move_decimals(d.unit.is_feet, r.horizontal_tolerance))
         return f"{what or 'reset it'}{by_position}"
+    if s == "misnumbered":
+        assert r.stored_as is not None
+        stored = f"{d.stakes.prefix}{d.stakes.first_point + int(r.stored_as[k])}"
+        return (f"stored as {stored} but lies on {target_id(d, r, k)} (within tolerance): confirm which stake it "
+                f"is and correct the number; {stored} is still to set")
     if s == "duplicate":
         return f"design point {target_id(d, r, k)} already has {governor}{by_position}; find which stake is the point"
     if s == "unmatched":
@@ -232,7 +237,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
            f"search radius for renumbered shots {r.search_radius:.4f}",
            clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job"), width),
            "",
-           f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
+           f"shots {len(shots)}:  " + "   ".join(f"{s} {c}" for s, c in counts.items()),
            ]
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
