@@ -50,7 +50,7 @@ __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_
            "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots",
            "locate_near", "along_across"]
 
-STATUSES = ("ok", "out", "superseded", "duplicate", "control", "unmatched")
+STATUSES = ("ok", "out", "misnumbered", "superseded", "duplicate", "control", "unmatched")
 
 #: A control point as the check takes it: id, northing, easting (job units),
 #: elevation (job units) or ``None``.
@@ -102,15 +102,23 @@ class CheckResult:
     #: what the crew moves the stake by.
     ground_along: NDArray[np.float64]
     ground_across: NDArray[np.float64]
+    #: Shots on the ground beside a stake (``[check] ground_codes``): checked horizontally only,
+    #: their cut or fill reported for marking, never a restake for their elevation.
+    ground: NDArray[np.bool_] | None = None
+    #: For a ``misnumbered`` shot the design index of the number it was stored under (-1 otherwise).
+    stored_as: NDArray[np.int64] | None = None
 
     def counts(self) -> dict[str, int]:
-        """Number of shots per status."""
-        return {s: self.status.count(s) for s in STATUSES}
+        """Number of shots per status; ``misnumbered`` only where some shot is (the other statuses always)."""
+        counts = {s: self.status.count(s) for s in STATUSES}
+        if not counts["misnumbered"]:
+            del counts["misnumbered"]
+        return counts
 
     def needs_attention(self, k: int) -> bool:
         """Whether shot ``k`` needs a person: out, duplicate, unmatched, or control beyond tolerance."""
         s = self.status[k]
-        return s in ("out", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
+        return s in ("out", "misnumbered", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
 
     @property
     def all_ok(self) -> bool:
@@ -588,7 +596,8 @@ def along_across(azimuth: NDArray[np.float64], d_northing: NDArray[np.float64],
 def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDArray[np.float64] | None,
                 shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
                 search_radius: float | None = None, control: Sequence[ControlRow] = (),
-                combined_factor: NDArray[np.float64] | float = 1.0) -> CheckResult:
+                combined_factor: NDArray[np.float64] | float = 1.0,
+                ground_codes: Sequence[str] = ()) -> CheckResult:
     """Match shots to design and control points; residuals and status.
 
     Parameters
@@ -611,6 +620,10 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     combined_factor : float or array of float
         Grid / ground at each design point (one number for all): the
         moves are ground distances.
+    ground_codes : sequence of str
+        ``[check] ground_codes``: a shot whose description's first word is
+        one of these (any case) is a shot on the ground beside its stake,
+        checked horizontally only.
 
     Returns
     -------
@@ -622,6 +635,8 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     sn, se = shots.northing, shots.easting
     mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
                      control, radius)
+    mt, stored_as = _misnumbered(mt, sn, se, design.northing, design.easting, horizontal_tolerance)
+    ground = ground_shots(shots.description, ground_codes)
     di, ci = mt.design_index, mt.control_index
     to_design, to_control = di >= 0, ci >= 0
     matched = to_design | to_control
@@ -658,14 +673,16 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     dz = shots.elevation - tz
     with np.errstate(invalid="ignore"):
         h_bad = hz > horizontal_tolerance
-        v_bad = (np.isfinite(dz) & (np.abs(dz) > vertical_tolerance) if vertical_tolerance is not None
-                 else np.zeros(m, dtype=bool))
+        v_bad = (np.isfinite(dz) & (np.abs(dz) > vertical_tolerance) & ~(ground & to_design)
+                 if vertical_tolerance is not None else np.zeros(m, dtype=bool))
     bad = h_bad | v_bad
-    status = np.select([~matched, to_control, mt.superseded, mt.duplicate, bad],
-                       ["unmatched", "control", "superseded", "duplicate", "out"], "ok").tolist()
+    misnumbered = stored_as >= 0
+    status = np.select([~matched, to_control, misnumbered, mt.superseded, mt.duplicate, bad],
+                       ["unmatched", "control", "misnumbered", "superseded", "duplicate", "out"], "ok").tolist()
     word = np.select([h_bad & v_bad, h_bad, v_bad], ["both", "horizontal", "vertical"], "")
     fails = np.where(np.isin(np.array(status), ["out", "control"]), word, "").tolist()
-    how = np.where(~matched, "", np.where(mt.by_number, "number", "nearest")).tolist()
+    how = np.where(~matched, "", np.where(misnumbered, "position",
+                                          np.where(mt.by_number, "number", "nearest"))).tolist()
 
     staked = mt.governor >= 0
     gov_out = np.zeros(nd, dtype=bool)
@@ -679,4 +696,57 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         restake=np.flatnonzero(~staked | gov_out).astype(np.int64),
         horizontal_tolerance=horizontal_tolerance, vertical_tolerance=vertical_tolerance, search_radius=radius,
         d_along=d_along, d_across=d_across, ground_along=ground_along, ground_across=ground_across,
+        ground=ground, stored_as=stored_as,
     )
+
+
+def ground_shots(descriptions: Sequence[str], codes: Sequence[str]) -> NDArray[np.bool_]:
+    """Shots whose description's first whitespace-separated word is one of ``codes`` (any case)."""
+    wanted = {c.casefold() for c in codes}
+    if not wanted:
+        return np.zeros(len(descriptions), dtype=bool)
+    return np.array([bool(d.split()) and d.split()[0].casefold() in wanted for d in descriptions], dtype=bool)
+
+
+def _misnumbered(mt: Matches, sn: NDArray[np.float64], se: NDArray[np.float64], design_n: NDArray[np.float64],
+                 design_e: NDArray[np.float64], tolerance: float) -> tuple[Matches, NDArray[np.int64]]:
+    """Shots keyed with the wrong number (outputs contract, "A shot keyed with the wrong number").
+
+    A shot matched by number to a design point it is out of tolerance of,
+    which lies within the tolerance of another design point no other shot
+    matched, is moved to that point (which then counts as staked); the
+    returned array holds, for each such shot, the design index of the number
+    it was stored under (-1 for every other shot).
+    """
+    m = sn.size
+    stored_as = np.full(m, -1, dtype=np.int64)
+    di = mt.design_index
+    cand = np.flatnonzero(mt.by_number & (di >= 0) & (mt.control_index < 0) & ~mt.superseded & ~mt.duplicate
+                          & np.isfinite(sn) & np.isfinite(se))
+    if cand.size:
+        off = np.hypot(sn[cand] - design_n[di[cand]], se[cand] - design_e[di[cand]]) > tolerance
+        cand = cand[off]
+    if not cand.size:
+        return mt, stored_as
+    near, _ = nearest_within(design_n, design_e, sn[cand], se[cand], tolerance)
+    ok = (near >= 0) & (near != di[cand])
+    cand, near = cand[ok], near[ok]
+    ok = mt.governor[near] < 0  # no other shot matched it
+    cand, near = cand[ok], near[ok]
+    # two shots on one free point: the first (file order) takes it
+    _, first = np.unique(near, return_index=True)
+    cand, near = cand[first], near[first]
+    if not cand.size:
+        return mt, stored_as
+    stored_as[cand] = di[cand]
+    new_di = di.copy()
+    new_di[cand] = near
+    governor = mt.governor.copy()
+    governor[near] = cand
+    # the number it was stored under: governed by it no longer (its earlier shots, if any, are what is left)
+    old = di[cand]
+    still = np.isin(np.arange(governor.size), old)
+    governor[still & np.isin(governor, cand)] = -1
+    by_number = mt.by_number.copy()
+    by_number[cand] = False
+    return Matches(new_di, mt.control_index, by_number, mt.superseded, mt.duplicate, mt.related, governor), stored_as

@@ -205,15 +205,16 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
 def run_curve_report(job_path: str | Path) -> str:
     """``stakeout curve``: the readable curve report of a job's alignment."""
     from .alignment import build_alignment
-    from .design import build_stationing
+    from .design import build_sections, build_stationing
     from .staking import plan_stakes
     from .writers.report import curve_report
 
     job = load_job(job_path)
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
+    sections = build_sections(job, alignment, stationing)
     stakes = plan_stakes(alignment, job.staking, stationing)
-    return curve_report(Design(job, alignment, stationing, stakes))
+    return curve_report(Design(job, alignment, stationing, stakes, sections=sections))
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,
@@ -256,7 +257,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, radius, control, stake_factors(d))
+                         spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes)
     progress.step("shots checked")
 
     with folder:

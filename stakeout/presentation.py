@@ -18,13 +18,14 @@ Where the writers sit:
   :mod:`stakeout.writers.rows` (vectorised CSV fields),
   :mod:`stakeout.writers.csvtext` (RFC 4180 text, the point-file layout),
   :mod:`stakeout.writers.checkwords` (a check's words),
+  :mod:`stakeout.writers.sections` (cross-section pieces: transitions, slopes, widened lines),
   :mod:`stakeout.writers.folder` (the atomic output folder);
 * **renderers** (one output or a family each): ``tables`` (CSV, restake.csv),
   ``control`` (control.csv), ``sheets`` (``setout.txt``, ``deflections.txt``),
   ``report`` (the curve report), ``checkreport`` (check.csv, check.txt),
   ``html`` (report.html, check.html: the pictures are handed in), ``dxf``,
   ``picture`` (a package: ``plan.svg``, the residual picture),
-  ``profile_picture``, ``exchange`` (``alignment.xml``), ``manifest``.
+  ``profile_picture``, ``superelevation``, ``exchange`` (``alignment.xml``), ``manifest``.
 
 A renderer imports this module, the toolkits and the design's plain
 records; it never imports another renderer or :mod:`stakeout.alignment`
@@ -375,7 +376,7 @@ class Presentation:
     @cached_property
     def offset_lines(self) -> list[tuple[float, str]]:
         """(offset, code) of every offset line off the centreline."""
-        return [(ol.offset, ol.code) for ol in self.d.job.staking.offsets if ol.offset != 0.0]
+        return [(ol.offset, ol.code) for ol in self.d.job.staking.offsets if ol.offset != 0.0 and not ol.widening]
 
     @cached_property
     def deflections(self) -> tuple[DeflectionTable, ...]:

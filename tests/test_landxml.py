@@ -1,4 +1,4 @@
-"""LandXML 1.2 reader and writer (stakeout/landxml.py).
+"""LandXML 1.2 reader and writer (the stakeout/landxml package).
 
 Sources of the expected values, named beside each check:
 - "independent geometry": tests/landxml_data.py, which made the invented
@@ -260,7 +260,7 @@ def test_describe_summarises_a_file():
     assert "CgPoints: 4" in text
     assert "not used: nothing" in text
     # the station at the end runs on from the equation's ahead value
-    assert f"to {lx._fmt(1000.0 + (-120.0 + total - 450.0))} (internal -120 to" in text
+    assert f"to {lx.records.fmt(1000.0 + (-120.0 + total - 450.0))} (internal -120 to" in text
     multi = lx.describe(read("site_ft_multi.xml"))
     assert multi.count("  alignment '") == 3 and "international feet" in multi
     broken = lx.describe(read("broken_gap.xml"))
@@ -454,7 +454,7 @@ def test_equations_that_contradict_the_stationing():
     with pytest.raises(GeometryError, match=r"StaEquation 1 .*staBack = 1410 but the stationing reaches 1400"):
         lx.validate_geometry(bad)
     late = dataclasses.replace(a, equations=(lx.XEquation(99999.0, 0.0),))
-    with pytest.raises(GeometryError, match=r"StaEquation 1 .*outside the alignment"):
+    with pytest.raises(GeometryError, match=r"StaEquation 1 .*not inside the alignment"):
         lx.validate_geometry(late)
     unordered = dataclasses.replace(a, equations=(lx.XEquation(2200.0, 5.0), lx.XEquation(1400.0, 1.0)))
     with pytest.raises(GeometryError, match=r"StaEquation 2 .*not after"):
@@ -499,15 +499,15 @@ def test_oversized_and_non_regular_files_are_refused_unread(tmp_path):
     big = tmp_path / "big.xml"
     with open(big, "wb") as fh:  # sparse: no disk is used
         fh.truncate(lx.MAX_FILE_BYTES + 1)
-    with pytest.raises(JobFileError, match=rf"over the limit of {lx.MAX_FILE_BYTES} bytes"):
+    with pytest.raises(JobFileError, match="the limit is 256 MiB"):
         lx.read_landxml(big)
-    with pytest.raises(JobFileError, match="not a regular file"):
+    with pytest.raises(JobFileError, match="is a folder, not a file"):
         lx.read_landxml(tmp_path)
     fifo = tmp_path / "pipe.xml"
     os.mkfifo(fifo)
     with pytest.raises(JobFileError, match="not a regular file"):
         lx.read_landxml(fifo)  # would block if it were opened
-    with pytest.raises(JobFileError, match="cannot read"):
+    with pytest.raises(JobFileError, match="missing.xml': not found"):
         lx.read_landxml(tmp_path / "missing.xml")
 
 
@@ -805,3 +805,39 @@ def test_random_alignments_round_trip(case, units):
 
 def _attrs(el) -> list[str]:
     return [f.name for f in dataclasses.fields(el) if f.name.endswith("_attr")]
+
+
+def test_unknown_element_kind_is_refused_not_written_as_a_line():
+    # an element record the package does not know fails loudly in the per-kind table, in the writer
+    # and in the export of a design
+    from dataclasses import dataclass
+
+    from stakeout.errors import GeometryError
+
+    @dataclass(frozen=True)
+    class XBloss(lx.XLine):
+        pass
+
+    with pytest.raises(GeometryError, match="XBloss"):
+        lx.kind_of(XBloss(1, "", 0.0, 0.0, 10.0, 0.0))
+    with pytest.raises(GeometryError, match="XBloss"):
+        lx.write_landxml("m", "A", 0.0, [XBloss(1, "", 0.0, 0.0, 10.0, 0.0)], [], None, [], "t", "")
+
+
+def test_export_refuses_an_element_kind_it_does_not_know(monkeypatch):
+    from dataclasses import dataclass
+
+    from stakeout.alignment import Line
+    from stakeout.errors import OutputError
+    from stakeout.writers import exchange
+
+    @dataclass(frozen=True)
+    class Bloss(Line):
+        pass
+
+    class FakeDesign:
+        class alignment:  # noqa: N801 - a stand-in for Design.alignment
+            elements = (Bloss.follow(0.0, 0.0, 0.0, 0.0, 10.0),)
+
+    with pytest.raises(OutputError, match="alignment.xml: element 1 .*'Bloss'"):
+        exchange._elements(FakeDesign())  # type: ignore[arg-type]

@@ -29,6 +29,7 @@ from .profile import read_profile
 from .control import read_control
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_instrument, read_scale, read_setup
+from .sections import check_template_lines, read_superelevation
 from .staking import read_staking
 
 __all__ = ["load_job", "parse_job", "SAFE_TEXT", "check_safe_text"]
@@ -65,7 +66,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(f"{path}: not valid TOML: number too long (line {line}); no value of a job file "
                            "needs more than a few dozen digits") from None
     top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
-                          "instrument"))
+                          "instrument", "superelevation"))
     fmt = top.raw("format", required=True)
     if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
@@ -118,6 +119,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     if profile is not None and staking.elevation is not None:
         raise JobFileError(f"staking.elevation = {staking.elevation!r}: cannot be given together with [profile] "
                            "(the profile gives the elevations)")
+    se_rows, se_file = read_superelevation(top, info, profile is not None or staking.elevation is not None)
+    check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
     return Job(
         path=path,
         sha256=hashlib.sha256(data).hexdigest(),
@@ -132,6 +135,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         design_files=tuple(design_files) + control_files,
         control=control,
         instrument=instrument,
+        superelevation=se_rows,
+        superelevation_file=se_file,
     )
 
 

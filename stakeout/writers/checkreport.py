@@ -8,15 +8,16 @@ from pathlib import Path
 
 import numpy as np
 
-from ..check import STATUSES, CheckResult
+from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
-from .checkwords import cut_fill, move_decimals, move_text, status_text, target_id, what_to_do
+from .checkwords import (LISTED_SHOTS, NOT_STAKED_LISTED, cut_fill, listed_shots, move_decimals, move_text,
+                         status_text, target_id, what_to_do)
 from .csvtext import DECIMALS, csv_text, csv_text_field
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
-           "move_text", "move_decimals", "what_to_do", "target_id"]
+           "move_text", "move_decimals", "what_to_do", "target_id", "listed_shots", "LISTED_SHOTS", "NOT_STAKED_LISTED"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
@@ -24,8 +25,6 @@ CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_
                  "matched_by", "northing", "easting", "line", "fails", "governing_line",
                  # second set
                  "d_along", "d_across", "alignment")
-#: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
-NOT_STAKED_LISTED = 400
 _CHUNK_ROWS = 16384
 
 
@@ -112,7 +111,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
            f"search radius for renumbered shots {r.search_radius:.4f}",
            clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job"), width),
            "",
-           f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
+           f"shots {len(shots)}:  " + "   ".join(f"{s} {c}" for s, c in counts.items()),
            ]
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
@@ -169,10 +168,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             out.append("\n".join(lines))
         return heads, out
 
-    attention = [k for k in range(len(shots)) if r.needs_attention(k)]
+    attention, fine, superseded, left_out = listed_shots(r)
     notes = {k: what_to_do(d, shots, r, k) for k in attention}
-    fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
+    if left_out:
+        out += textwrap.wrap(left_out, width) + [""]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
         ("NEEDS ATTENTION, with what to do (out, duplicate, unmatched, control off)", attention, True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
@@ -180,10 +179,16 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
          {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
+    shown_counts = {"WITHIN TOLERANCE": sum(1 for k in range(len(shots)) if r.status[k] in ("ok", "control")
+                                            and not r.needs_attention(k)),
+                    "SUPERSEDED": counts["superseded"],
+                    "NEEDS ATTENTION": sum(1 for k in range(len(shots)) if r.needs_attention(k))}
     for name, ks, with_status, extra in sections:
-        if not ks and name.startswith("SUPERSEDED"):
+        total = next(v for key, v in shown_counts.items() if name.startswith(key))
+        if not total and name.startswith("SUPERSEDED"):
             continue
-        head = [f"{name}: {len(ks)}"]
+        head = [f"{name}: {total}" + (" (not listed: see check.csv)" if total and not ks else
+                                      (f" (the first {len(ks)} listed)" if len(ks) < total else ""))]
         if ks:
             cols, records = table(ks, with_status, extra)
             short = name.split(",")[0].split(" (")[0]

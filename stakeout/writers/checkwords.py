@@ -13,7 +13,8 @@ from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
 
-__all__ = ["target_id", "cut_fill", "status_text", "move_decimals", "move_text", "what_to_do"]
+__all__ = ["target_id", "cut_fill", "status_text", "move_decimals", "move_text", "what_to_do", "listed_shots",
+           "LISTED_SHOTS", "NOT_STAKED_LISTED"]
 
 
 def target_id(d: Design, r: CheckResult, k: int) -> str:
@@ -106,6 +107,11 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
         what = move_text(r.ground_along[k], r.ground_across[k], r.d_elevation[k], f in ("horizontal", "both"),
                          f in ("vertical", "both"), move_decimals(d.unit.is_feet, r.horizontal_tolerance))
         return f"{what or 'reset it'}{by_position}"
+    if s == "misnumbered":
+        assert r.stored_as is not None
+        stored = f"{d.stakes.prefix}{d.stakes.first_point + int(r.stored_as[k])}"
+        return (f"stored as {stored} but lies on {target_id(d, r, k)} (within tolerance): confirm which stake it "
+                f"is and correct the number; {stored} is still to set")
     if s == "duplicate":
         return f"design point {target_id(d, r, k)} already has {governor}{by_position}; find which stake is the point"
     if s == "unmatched":
@@ -116,3 +122,29 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
         return (f"control point {target_id(d, r, k)} is off{by_position}; check the setup (occupied point, "
                 "backsight, heights) before staking on")
     return ""
+
+
+#: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
+NOT_STAKED_LISTED = 400
+
+
+#: Above this many shots, check.txt and check.html list only the shots that need attention, at
+#: most this many of them, and give the counts of the rest (check.csv lists every shot).
+LISTED_SHOTS = 5000
+
+
+def listed_shots(r: CheckResult) -> tuple[list[int], list[int], list[int], str]:
+    """The shots check.txt and check.html list: needing attention, within tolerance, superseded
+    (file order), and a note of what is left out (empty when everything is listed).
+    """
+    m = len(r.status)
+    attention = [k for k in range(m) if r.needs_attention(k)]
+    if m <= LISTED_SHOTS:
+        fine = [k for k in range(m) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+        superseded = [k for k in range(m) if r.status[k] == "superseded"]
+        return attention, fine, superseded, ""
+    more = len(attention) - LISTED_SHOTS
+    note = (f"{m:,} shots, more than {LISTED_SHOTS:,}: only the shots needing attention are listed"
+            + (f" (the first {LISTED_SHOTS:,}; {more:,} more)" if more > 0 else "")
+            + "; every shot is in check.csv")
+    return attention[:LISTED_SHOTS], [], [], note

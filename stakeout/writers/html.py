@@ -22,7 +22,8 @@ import numpy as np
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
-from .checkwords import cut_fill, status_text, target_id, what_to_do
+from .checkwords import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
+from .sections import slope_texts, superelevation_table
 from .text import CAUTION_LINES, curve_texts, deflection_title, end_radii, fixed, offset_side, setout_cells, vertical_note
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -273,6 +274,12 @@ def _setout_section(d: Design) -> str:
     text_keys = {"point", "code", "feature", "note"}
     cols = [(SETOUT_HEADERS[c.key][1], "t" if c.key in text_keys else "n") for c, _ in cells]
     columns = [texts for _, texts in cells]
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
+    if cs is not None:
+        keys = [c.key for c, _ in cells]
+        at = keys.index("design_elevation" if "design_elevation" in keys else "ground_distance") + 1
+        cols.insert(at, ("slope %", "n"))
+        columns.insert(at, cs)
     out = []
     for heading, facts, idx in _setup_groups(d):
         rows = [[texts[i] for texts in columns] for i in idx.tolist()]
@@ -296,11 +303,16 @@ def _stakes_section(d: Design) -> str:
             ("easting", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    if cs is not None:
+        cols.append(("slope %", "n"))
     rows = []
     for i in range(n):
         r = [sp.point[i], sp.station_label[i], offs[i], sp.code[i], sp.feature[i], north[i], east[i]]
         if elev is not None:
             r.append(elev[i])
+        if cs is not None:
+            r.append(cs[i])
         rows.append(r)
     return (f"<h2>Stakes</h2><p>The job has no [setup]: the stakes with their grid coordinates "
             f"({n:,}).</p>{_table(cols, rows)}")
@@ -338,6 +350,16 @@ def _deflection_section(d: Design) -> str:
     return "".join(out)
 
 
+def _superelevation_section(d: Design) -> str:
+    """The superelevation table, when the job has one (empty otherwise)."""
+    rows = superelevation_table(d)
+    if not rows:
+        return ""
+    return ("<h2>Superelevation</h2><p>Cross slopes in percent, outward from the centreline (negative falls away "
+            "from it), linear by distance between rows; every row's station is staked (SE).</p>"
+            + _table([("station", "n"), ("left", "n"), ("right", "n")], rows))
+
+
 def report_html(d: Design, plan_svg: str) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
@@ -361,6 +383,9 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         _signoff(),
         _cautions(),
     ]
+    se = _superelevation_section(d)
+    if se:
+        parts.insert(2, se)
     foot = f"{job.info.name}: staking report, job file sha256 {job.sha256[:16]}"
     return _document(f"Staking report: {job.info.name}", foot, "\n".join(parts))
 
@@ -392,12 +417,12 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
     n = len(shots)
     counts = r.counts()
     count_text = ", ".join(f"{s} {c}" for s, c in counts.items())
-    attention = [k for k in range(n) if r.needs_attention(k)]
-    fine = [k for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(n) if r.status[k] == "superseded"]
+    attention, fine, superseded, left_out = listed_shots(r)
+    n_attention = sum(1 for k in range(n) if r.needs_attention(k))
+    n_fine = sum(1 for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k))
     verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
-               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {n} shots '
-               "(see the first table)</div>")
+               f'<div class="verdict bad">NEEDS ATTENTION: {n_attention} of {n} shots '
+               "(see the first table)</div>") + (f"<p>{_e(left_out)}</p>" if left_out else "")
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
     dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
@@ -433,17 +458,20 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
         return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
     svg, factor = residuals
-    missing = [design.point[i] for i in r.not_staked.tolist()]
+    missing = [design.point[i] for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
+    if r.not_staked.size > NOT_STAKED_LISTED:
+        missing.append(f"... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
     parts = [
         f"<header><h1>Staked-point check</h1><p class=\"sub\">{_e(job.info.name)}</p>{verdict}{_facts(facts)}"
         "</header>",
-        f"<h2>Needs attention: {len(attention)}</h2>"
+        f"<h2>Needs attention: {n_attention}</h2>"
         + (table(attention, "what to do") if attention else "<p>None: every shot is within tolerance.</p>"),
         f'<section class="picture"><h2>Residuals, drawn {factor:g} times their length</h2>{svg}</section>',
-        f"<h2>Within tolerance: {len(fine)}</h2>" + (table(fine) if fine else "<p>None.</p>"),
+        f"<h2>Within tolerance: {n_fine}</h2>" + (table(fine) if fine else
+                                                  "<p>Not listed: see check.csv.</p>" if n_fine else "<p>None.</p>"),
         (f"<h2>Superseded: {len(superseded)}</h2><p>Shot again later in the file: the later shot governs.</p>"
          + table(superseded, "governed by")) if superseded else "",
-        f"<h2>Design points not staked: {len(missing)}</h2>"
+        f"<h2>Design points not staked: {r.not_staked.size}</h2>"
         + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
         "<p>d = staked - design; d along / d across: the residual along and square to the alignment at the "
         "design point (grid; the moves are ground distances); "

@@ -11,6 +11,7 @@ from typing import Any
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..presentation import degree_of_curve_arc
+from .sections import transition_lines
 from .text import CAUTION_LINES, curve_texts, spiral_line, turn_word
 
 __all__ = ["curve_report"]
@@ -73,6 +74,7 @@ def curve_report(d: Design) -> str:
             out.extend(_spiral_lines(n, sp, figures[id(sp)], a0, a1))
         if ct.external is not None:
             out.append(f"  external (PI to the curve)  {ct.external:.4f}")
+    out.extend(transition_lines(d))
     out.append("")
     out.extend(CAUTION_LINES)
     return "\n".join(out) + "\n"

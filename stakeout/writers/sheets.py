@@ -19,6 +19,7 @@ from ..job import Setup
 from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
+from .sections import slope_column
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_title, fixed, header_lines, offset_side,
                    paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
 
@@ -107,6 +108,11 @@ def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
     left = {"point", "code", "feature", "note"}
     cols = [Column(SETOUT_HEADERS[c.key][0], texts, "<" if c.key in left else ">", with_previous=c.grouped)
             for c, texts in setout_cells(d, sided=True)]
+    if width is None:  # the wide layout only: the slope applied to each stake, after its design elevation
+        slope = slope_column(d) if d.stakes.elevation is not None else None
+        if slope is not None:
+            at = next(k for k, c in enumerate(cols) if c.header == SETOUT_HEADERS["design_elevation"][0]) + 1
+            cols.insert(at, slope)
     return table_lines(cols, width)
 
 

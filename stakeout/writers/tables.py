@@ -35,7 +35,9 @@ __all__ = [
 STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "easting",
                     "elevation", "feature", "code",
                     # added columns
-                    "region")
+                    "region",
+                    # second set: cross-sections (ground columns stay empty until a ground is read)
+                    "alignment", "cross_slope", "ground_elevation", "cut_fill")
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
@@ -82,6 +84,8 @@ class _PerPoint:
         return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)
 
     def offset(self, decimals: int) -> rows.Field:
+        if self.sp.point_offsets is not None:  # widened lines: each point's own offset
+            return rows.fixed(self.sp.point_offsets[self.p], decimals)
         return rows.tile_rows(rows.fixed(self.sp.offsets, decimals), self.k)
 
     def code(self) -> rows.Field:
@@ -98,6 +102,9 @@ class _PerPoint:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
         offs = self.sp.offsets
         side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in offs.tolist()])
+        if self.sp.point_offsets is not None:  # widened lines: each point's own offset, the line's side
+            return np.concatenate([rows.fixed(np.abs(self.sp.point_offsets[self.p]), decimals),
+                                   rows.tile_rows(side, self.k)], axis=1)
         both = np.concatenate([rows.fixed(np.abs(offs), decimals), side], axis=1)
         return rows.tile_rows(both, self.k)
 
@@ -107,6 +114,15 @@ class _PerPoint:
     def elevation(self) -> rows.Field:
         e = self.sp.elevation
         return rows.const("", self.n) if e is None else rows.fixed(e[self.p], DECIMALS)
+
+    def cross_slope(self) -> rows.Field:
+        """The slope applied to each point (percent, 4 decimals), empty where none."""
+        sl = self.sp.slope
+        if sl is None:
+            return rows.const("", self.n)
+        v = sl[self.p]
+        none = np.isnan(v)
+        return rows.blank(rows.fixed(np.where(none, 0.0, v), DECIMALS), none)
 
     def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
         return rows.fixed(values[self.p], decimals)
@@ -150,11 +166,13 @@ def stations_csv(design: Design) -> bytes:
     """``stations.csv``: every staked point with where it sits on the alignment."""
     d = DECIMALS
     sp = design.stakes
+    name = np.frombuffer(csv_text_field(design.alignment.name).encode("utf-8"), dtype=np.uint8)
 
     def layout(p: _PerPoint) -> list[rows.Field]:
         return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(guard=True), p.sep(), p.offset(d), p.sep(),
                 p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(), p.elevation(), p.sep(),
-                p.feature(), p.sep(), p.code(), p.sep(), p.region()]
+                p.feature(), p.sep(), p.code(), p.sep(), p.region(),
+                p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(), p.sep()]
 
     return _csv(STATIONS_COLUMNS, sp, layout)
 

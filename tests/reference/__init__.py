@@ -16,7 +16,9 @@ Modules:
 - `scipy_fresnel`: scipy's own test value of the Fresnel integrals;
 - `dxf_insunits`: the DXF reference's $INSUNITS codes of the three units;
 - `design_notes`: worked examples of the project's design notes (references.md), [computed];
-- `recalled_figures`: figures recalled "from memory", each naming where it is printed.
+- `recalled_figures`: figures recalled "from memory", each naming where it is printed;
+- `superelevation_exercise`: a published transition exercise (runout, runoff, reverse crown), edge elevations [computed];
+- `transition_length_rule`: a published worked example of the transition length L = N b e.
 """
 
 from __future__ import annotations

@@ -12,6 +12,7 @@ import numpy as np
 
 from ...design import Design
 from ...presentation import Element, PerKind
+from ..sections import widened_traces
 from .canvas import CL_COLOUR, F, OFFSET_COLOUR, View, fmt_short, num
 
 __all__ = [
@@ -81,9 +82,12 @@ def _path_d(d: Design, offset: float, v: View) -> str:
 def alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) -> str:
     parts = [f'<g clip-path="url(#{clip_id})" fill="none" stroke-linejoin="round">']
     for ol in d.job.staking.offsets:
-        if ol.offset != 0.0:
+        if ol.offset != 0.0 and not ol.widening:
             parts.append(f'<path class="so-offset" d="{_path_d(d, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
                          'stroke-width="0.8"/>')
+    for _code, tn, te in widened_traces(d):  # a widened line: a polyline along its taper
+        xy = " ".join(f"{num(p)},{num(q)}" for p, q in zip(v.x(te).tolist(), v.y(tn).tolist()))
+        parts.append(f'<path class="so-offset" d="M{xy}" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>')
     parts.append(f'<path class="so-cl" d="{_path_d(d, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{fmt_short(width_cl)}"/>')
     parts.append("</g>")
     return "".join(parts)

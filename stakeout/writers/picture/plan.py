@@ -67,7 +67,7 @@ def plan_svg_element(d: Design) -> str:
     body.append("</g>")
     body.append(alignment_lines(d, v, clip))
 
-    offs = np.array([ol.offset for ol in job.staking.offsets] + [0.0])
+    offs = np.array([o for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
     left_px, right_px = max(0.0, -offs.min()) * v.scale, max(0.0, offs.max()) * v.scale
     ticks = _station_ticks(d, v, left_px, right_px)
     body.append(f'<path d="{ticks.path}" stroke="#222" stroke-width="0.7" fill="none"/>')
@@ -144,7 +144,7 @@ def _plan_view(d: Design, pis: list[Any]) -> View:
     # the elements' bounding samples (arcs bulge beyond their ends)
     mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
     mn, me, _ = a.evaluate(mids, 0.0)
-    big_off = max([abs(ol.offset) for ol in job.staking.offsets] + [0.0])
+    big_off = max([abs(o) for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
     ext = extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
                   [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
@@ -267,7 +267,12 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
         o = float(sp.offsets[j])
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
-        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {abs(o):.2f}{where}")
+        size = f"{abs(o):.2f}"
+        if sp.point_offsets is not None:  # a widened line: the range of its offsets
+            each = np.abs(sp.point_offsets[j::sp.offsets.size])
+            if each.size and each.min() != each.max():
+                size = f"{each.min():.2f}-{each.max():.2f}"
+        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {size}{where}")
     pan.symbol(f'<circle cx="14" cy="0" r="3.2" fill="none" stroke="{CL_COLOUR}" stroke-width="1.2"/>',
                "key point (feature, station)")
     if has_pis:

@@ -80,7 +80,8 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     rad = r.horizontal_tolerance * factor * v.scale
     mx, my = v.x(de_e), v.y(de_n)
     ring = np.flatnonzero(matched)
-    ring = ring[thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
+    ring = ring[thin(mx[ring], my[ring], 0.05 if ring.size <= LABEL_MAX_STAKES else THIN_CELL)] if ring.size \
+        else ring  # one circle per point shot (thinned at corridor scale)
     body.append(f'<path d="{circles_path(mx[ring], my[ring], rad)}" fill="none" '
                 'stroke="#9ecae1" stroke-width="0.7"/>')
     status = np.array(r.status, dtype=object)
@@ -94,6 +95,8 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     statuses = list(dict.fromkeys(list(STATUS_COLOURS) + sorted(set(r.status))))
     for s in statuses:
         sel = np.where((status == s) & matched)[0]
+        if sel.size > LABEL_MAX_STAKES and s not in ("out", "duplicate"):  # corridor scale: thinned, as the plan
+            sel = sel[thin(mx[sel], my[sel], THIN_CELL)]  # (shots needing attention are all drawn)
         if sel.size == 0:
             continue
         colour = STATUS_COLOURS.get(s, "#000")
