@@ -235,6 +235,61 @@ class XAlignment:
     equations: tuple[XEquation, ...] = ()
     length_attr: float | None = None
     unsupported: tuple[str, ...] = ()
+    superelevations: tuple[XSuperelevation, ...] = ()
+
+
+@dataclass(frozen=True)
+class XSuperelevation:
+    """A ``<Superelevation>`` of an alignment (LandXML 1.2: its stations are child elements
+    ``BeginRunoutSta``, ``BeginRunoffSta``, ``FullSuperSta``, ``RunoffSta``, ``StartofRunoutSta``,
+    ``EndofRunoutSta`` and the rate ``FullSuperelev``, percent; ``staStart``/``staEnd`` attributes).
+
+    Attributes
+    ----------
+    index : int
+        Position among the alignment's ``<Superelevation>`` elements, from 1.
+    sta_start, sta_end : float or None
+        ``staStart`` and ``staEnd`` attributes (internal stations).
+    begin_runout, begin_runoff, full_super, runoff, start_of_runout, end_of_runout : float or None
+        The stations (internal stations, file units); None where absent or nil.
+    full_superelev : float or None
+        ``FullSuperelev`` in percent.
+    adverse : bool
+        ``AdverseSE`` is ``adverse``.
+    """
+
+    index: int
+    sta_start: float | None
+    sta_end: float | None
+    begin_runout: float | None
+    begin_runoff: float | None
+    full_super: float | None
+    runoff: float | None
+    start_of_runout: float | None
+    end_of_runout: float | None
+    full_superelev: float | None
+    adverse: bool = False
+
+    @property
+    def first(self) -> float | None:
+        """The first station the element gives (for messages: where it starts)."""
+        given = [v for v in (self.begin_runout, self.begin_runoff, self.full_super, self.sta_start) if v is not None]
+        return given[0] if given else None
+
+    @property
+    def last(self) -> float | None:
+        """The last station the element gives."""
+        given = [v for v in (self.end_of_runout, self.start_of_runout, self.runoff, self.sta_end) if v is not None]
+        return given[0] if given else None
+
+
+@dataclass(frozen=True)
+class XCoordinateSystem:
+    """The file's ``<CoordinateSystem>``: ``epsgCode``, ``name`` and ``ogcWktCode`` as given ("" when absent)."""
+
+    epsg_code: str = ""
+    name: str = ""
+    ogc_wkt: str = ""
 
 
 @dataclass(frozen=True)
@@ -359,6 +414,11 @@ class XDesign:
         Hex SHA-256 of the file's bytes.
     application : str
         ``<Application name>`` of the software that wrote the file, if given.
+    unused_kinds : tuple of (str, int)
+        The same content counted per element name, in first-seen order
+        (``("Feature", 15), ("Cant", 1)``): what a job reports once per file.
+    coordinate_system : XCoordinateSystem or None
+        The file's ``<CoordinateSystem>``, if it has one.
     """
 
     units: XUnits
@@ -368,6 +428,8 @@ class XDesign:
     not_used: tuple[str, ...]
     sha256: str
     application: str = ""
+    unused_kinds: tuple[tuple[str, int], ...] = ()
+    coordinate_system: XCoordinateSystem | None = None
 
 
 @dataclass(frozen=True)
