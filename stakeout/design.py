@@ -231,8 +231,8 @@ def unapplied_superelevation_warnings(job: Job, stationing: Stationing) -> list[
         given = [v for v in (p.begin_runout, p.begin_runoff, p.full_super, p.runoff, p.start_of_runout,
                              p.end_of_runout) if v is not None]
         span = f" from {stationing.label(min(given))} to {stationing.label(max(given))}" if given else ""
-        out.append(f"offset elevations ignore the design file's superelevation{span} ({p.where}); apply it with "
-                   "[superelevation] landxml and normal_crown")
+        out.append(f"offset elevations ignore the design file's superelevation{span} (apply it with "
+                   "[superelevation] landxml and normal_crown)")
     return out
 
 
