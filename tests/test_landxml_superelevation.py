@@ -177,3 +177,41 @@ def test_superelevation_stations_missing_or_contradictory_named(tmp_path, old, n
     r = runner.invoke(app, ["build", str(_job(tmp_path, xml=text.replace(old, new))), "--out", str(tmp_path / "o")])
     assert r.exit_code == 2, r.output
     assert expect in r.output and len(r.output.strip().splitlines()) == 1, r.output
+
+
+# ---- alignment.xml: float noise and its date (issue 25 item 11) ---------------------------------------------
+
+def _export(tmp_path: Path, name: str, env: dict[str, str] | None = None) -> bytes:
+    job = _job(tmp_path, superelevation=False, offsets='offsets = [{ offset = 3.75, code = "EPR" }]')
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / name), "--only", "landxml"], env=env)
+    assert r.exit_code == 0, r.output
+    return (tmp_path / name / "alignment.xml").read_bytes()
+
+
+def test_alignment_xml_carried_float_noise_and_an_epoch_date(tmp_path, monkeypatch):
+    import re
+
+    from lxml import etree
+
+    monkeypatch.delenv("SOURCE_DATE_EPOCH", raising=False)
+    xml = _export(tmp_path, "a")
+    doc = etree.fromstring(xml)
+    schema = landxml_schema()
+    assert schema.validate(doc), schema.error_log  # LandXML 1.2 schema (lxml): date and time are required
+    ns = "{http://www.landxml.org/schema/LandXML-1.2}"
+    # derived lengths, stations, radii and chords: the CSVs' 4 decimals (what f"{v:.4f}" prints)
+    derived = [(el.tag, a, el.get(a)) for el in doc.iter(f"{ns}Line", f"{ns}Curve", f"{ns}Spiral")
+               for a in ("length", "staStart") + (("chord",) if el.tag != f"{ns}Line" else ())
+               + (("radius",) if el.tag == f"{ns}Curve" else ())]
+    assert len(derived) == 5 * 2 + 3 + 1
+    for tag, a, v in derived:
+        assert v is not None and re.fullmatch(r"\d+\.\d{4}", v), (tag, a, v)
+    assert doc.find(f"{ns}Alignments/{ns}Alignment").get("length") == "624.7198"  # 200 + 60 + 104.7198 + 60 + 200
+    # without SOURCE_DATE_EPOCH: the fixed documented date, the same bytes every run
+    assert (doc.get("date"), doc.get("time")) == ("1970-01-01", "00:00:00")
+    assert _export(tmp_path, "b") == xml
+    # with it (reproducible-builds convention, seconds since 1970-01-01 UTC): that date, in UTC
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1764806400")  # 2025-12-04 00:00:00 UTC (hand conversion)
+    dated = etree.fromstring(_export(tmp_path, "c"))
+    assert (dated.get("date"), dated.get("time")) == ("2025-12-04", "00:00:00")
+    assert schema.validate(dated), schema.error_log
