@@ -215,3 +215,22 @@ def test_alignment_xml_carried_float_noise_and_an_epoch_date(tmp_path, monkeypat
     dated = etree.fromstring(_export(tmp_path, "c"))
     assert (dated.get("date"), dated.get("time")) == ("2025-12-04", "00:00:00")
     assert schema.validate(dated), schema.error_log
+
+
+def test_superelevation_from_a_file_of_several_alignments_named_the_wrong_key(tmp_path):
+    # an inline alignment and a design file of two alignments: which one's superelevation is meant is
+    # not known; the message names the superelevation key (it named [alignment] name before)
+    text = TRIAL.read_text()
+    two = text.replace("  </Alignments>", text[text.index("    <Alignment "):text.index("  </Alignments>")]
+                       .replace('name="TRIAL"', 'name="OTHER"', 1) + "  </Alignments>")
+    (tmp_path / "two.xml").write_text(two, encoding="utf-8")
+    job = write_job(tmp_path, "\n".join([
+        "format = 1", "[job]", 'name = "x"', 'units = "m"', "[alignment]", 'name = "CL"',
+        'start = { station = 1000.0, northing = 5500100.0, easting = 500200.0 }', "azimuth = 15.0",
+        "[[alignment.element]]", 'kind = "line"', "length = 600.0",
+        "[profile]", "[[profile.pvi]]", "station = 1000.0", "elevation = 100.0", "[[profile.pvi]]",
+        "station = 1600.0", "elevation = 106.0", "[staking]", "interval = 20.0", EDGES,
+        "[superelevation]", 'landxml = "two.xml"', "normal_crown = 2.0"]) + "\n")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "o")])
+    assert r.exit_code == 2, r.output
+    assert "superelevation.landxml = 'two.xml': the file holds 2 alignments ('TRIAL', 'OTHER')" in r.output

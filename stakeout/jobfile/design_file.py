@@ -301,6 +301,10 @@ def read_superelevation_file(given: str, info: JobInfo, alignment_name: str | No
     design = files.read(given, key)
     landxml.check_units(design, info.unit.key, key)
     names = [a.name for a in design.alignments]
+    if alignment_name not in names and len(names) != 1:
+        shown = ", ".join(repr(n) for n in names) or "none"
+        raise JobFileError(f"{key} = {given!r}: the file holds {len(names)} alignments ({shown}) and none is the "
+                           f"job's alignment {alignment_name or ''!r}; take the alignment from that file too")
     xa = landxml.pick_alignment(design, alignment_name if alignment_name in names else None)
     if not xa.superelevations:
         raise JobFileError(f"{key} = {given!r}: alignment {xa.name!r} has no <Superelevation>; give the rows as "
