@@ -85,7 +85,7 @@ def test_superelevation_from_the_design_file_was_not_read(tmp_path):
     at = {s: i for i, s in enumerate(sp.stations.tolist())}
     # Full superelevation at 1280 and 1340: right edge (high side) = CL + 0.04 x 3.75 = CL + 0.150,
     # left edge = CL - 0.150 (issue 22: "the centreline elevation + 0.150 (4 % of 3.75 m)").
-    for s in (1280.0, 1340.0):
+    for s in (1280.0, 1320.0, 1340.0):
         left, right = z[at[s]]
         assert right == pytest.approx(_cl(s) + 0.150, abs=2e-4)
         assert left == pytest.approx(_cl(s) - 0.150, abs=2e-4)
@@ -101,6 +101,19 @@ def test_superelevation_from_the_design_file_was_not_read(tmp_path):
     left, right = z[at[1100.0]]
     assert (left, right) == pytest.approx((_cl(1100.0) - 0.075, _cl(1100.0) - 0.075), abs=2e-4)
     assert d.warnings == () or not any("superelevation" in w for w in d.warnings)
+
+
+def test_trial_right_edge_at_1_320_was_low(tmp_path):
+    # issue 22's check, through the command and stations.csv: at 1+320 (full superelevation) the right
+    # edge, the high side of this left-hand curve, is CL 103.2000 + 0.0400 x 3.75 = 103.3500 (hand value)
+    from .helpers import build_job, read_rows
+
+    out = build_job(_job(tmp_path), tmp_path / "o")
+    rows = {(r["station_label"], r["offset"]): r for r in read_rows(out / "stations.csv")}
+    right = rows[("1+320.000", "3.7500")]
+    assert (right["elevation"], right["cross_slope"]) == ("103.3500", "4.0000")
+    left = rows[("1+320.000", "-3.7500")]
+    assert (left["elevation"], left["cross_slope"]) == ("103.0500", "-4.0000")
 
 
 def test_design_file_was_parsed_once_per_use(tmp_path, monkeypatch):
