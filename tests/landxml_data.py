@@ -456,10 +456,12 @@ TRIAL_SE = {
 TRIAL_PVIS = [("pvi", 1000.0, 100.0, {}), ("pvi", 1700.0, 107.0, {})]
 
 
-def trial_superelevation() -> str:
+def trial_superelevation(turn: int = -1) -> str:
     """The issue-22 trial: alignment, profile and <Superelevation> in one file, with a coordinate
-    system and content a staking job does not use (three Feature, one CrossSects)."""
-    segs = build(*TRIAL_START[:2], 15.0, TRIAL_PLAN)
+    system and content a staking job does not use (three Feature, one CrossSects).  ``turn`` +1 makes
+    the curve right-hand (its outside, the high side, on the left)."""
+    plan = [step if step[0] == "line" else (*step[:-1], turn) for step in TRIAL_PLAN]
+    segs = build(*TRIAL_START[:2], 15.0, plan)
     feature = '          <Feature code="sign"><Property label="sign" value="S1"/></Feature>\n'
     stations = "".join(f"        <{k}>{num(v)}</{k}>\n" for k, v in TRIAL_SE.items())
     tail = (

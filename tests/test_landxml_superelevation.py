@@ -103,6 +103,18 @@ def test_superelevation_from_the_design_file_was_not_read(tmp_path):
     assert d.warnings == () or not any("superelevation" in w for w in d.warnings)
 
 
+def test_right_hand_trial_puts_the_high_side_on_the_left(tmp_path):
+    # the same trial turning right: the outside, away from the centre, is the left (job-file.md), so at
+    # 1+320 the left edge is CL + 0.150 and the right CL - 0.150 (hand values as above)
+    from .helpers import build_job, read_rows
+    from .landxml_data import trial_superelevation
+
+    out = build_job(_job(tmp_path, xml=trial_superelevation(turn=1)), tmp_path / "o")
+    rows = {(r["station_label"], r["offset"]): r for r in read_rows(out / "stations.csv")}
+    assert rows[("1+320.000", "-3.7500")]["elevation"] == "103.3500"
+    assert rows[("1+320.000", "3.7500")]["elevation"] == "103.0500"
+
+
 def test_trial_right_edge_at_1_320_was_low(tmp_path):
     # issue 22's check, through the command and stations.csv: at 1+320 (full superelevation) the right
     # edge, the high side of this left-hand curve, is CL 103.2000 + 0.0400 x 3.75 = 103.3500 (hand value)
