@@ -195,6 +195,7 @@ def test_design_file_crs_that_cannot_be_compared_is_listed(tmp_path):
     ("<BeginRunoffSta>1200.0</BeginRunoffSta>", "<BeginRunoffSta>1e12</BeginRunoffSta>", "BeginRunoffSta"),
     ('staStart="1170.0"', 'staStart="1180.0"', "BeginRunoutSta 1170 lies outside the element's staStart"),
     ("<BeginRunoffSta>1200.0</BeginRunoffSta>", "<BeginRunoffSta>1300.0</BeginRunoffSta>", "stations out of order"),
+    ("<AdverseSE>non-adverse</AdverseSE>", "<AdverseSE>adverse</AdverseSE>", "<AdverseSE>adverse</AdverseSE>"),
 ])
 def test_superelevation_stations_missing_or_contradictory_named(tmp_path, old, new, expect):
     text = TRIAL.read_text()

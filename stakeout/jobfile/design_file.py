@@ -265,7 +265,8 @@ def periods_of(xa: XAlignment, key: str) -> tuple[SuperelevationPeriod, ...]:
     Raises
     ------
     JobFileError
-        A transition station outside the element's own ``staStart``/``staEnd``, naming the element.
+        A transition station outside the element's own ``staStart``/``staEnd``, or an adverse
+        superelevation, naming the element.
     """
     from ..crosssection import ORDER_TOLERANCE
 
@@ -274,6 +275,9 @@ def periods_of(xa: XAlignment, key: str) -> tuple[SuperelevationPeriod, ...]:
         where = f"{key} <Superelevation> {se.index} of alignment {xa.name!r}"
         sts = {"BeginRunoutSta": se.begin_runout, "BeginRunoffSta": se.begin_runoff, "FullSuperSta": se.full_super,
                "RunoffSta": se.runoff, "StartofRunoutSta": se.start_of_runout, "EndofRunoutSta": se.end_of_runout}
+        if se.adverse:  # the contract's rows bank toward the curve's centre; an adverse one would be wrong
+            raise JobFileError(f"{where}: <AdverseSE>adverse</AdverseSE> (banked away from the curve's centre) is "
+                               "not derived from a design file; give its rows as [[superelevation]]")
         lo = -float("inf") if se.sta_start is None else se.sta_start - ORDER_TOLERANCE
         hi = float("inf") if se.sta_end is None else se.sta_end + ORDER_TOLERANCE
         for name, v in sts.items():
