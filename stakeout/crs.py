@@ -193,9 +193,9 @@ def _resolve(text: str) -> pyproj.CRS | None:
         return None
 
 
-def compare_crs(job_crs: str, epsg_code: str, name: str) -> tuple[bool, str] | None:
-    """Compare the job's ``crs`` with a design file's ``<CoordinateSystem>`` (``epsgCode``, or a ``name``
-    pyproj resolves).
+def compare_crs(job_crs: str, epsg_code: str, name: str, wkt: str = "") -> tuple[bool, str] | None:
+    """Compare the job's ``crs`` with a design file's ``<CoordinateSystem>`` (``epsgCode``, else a ``name``
+    pyproj resolves, else its ``ogcWktCode``).
 
     Returns
     -------
@@ -218,6 +218,9 @@ def compare_crs(job_crs: str, epsg_code: str, name: str) -> tuple[bool, str] | N
     if other is None and name.strip():
         other = _resolve(name.strip())
         shown = show_value(name.strip())
+    if other is None and wkt.strip():
+        other = _resolve(wkt.strip())
+        shown = "its ogcWktCode"
     if other is None:
         return None
     same = other.equals(job, ignore_axis_order=True)

@@ -175,6 +175,22 @@ def test_design_file_crs_was_not_compared(tmp_path):
     assert not (tmp_path / "o").exists()
 
 
+def test_design_file_crs_given_by_name_or_wkt_is_compared(tmp_path):
+    # pyproj (reference library) resolves the name, and the WKT of EPSG:25832, to the job's CRS or not
+    from pyproj import CRS
+
+    by_name = TRIAL.read_text().replace(' epsgCode="25832"', "")
+    r = runner.invoke(app, ["build", str(_job(tmp_path, crs="EPSG:25833", xml=by_name)), "--out", str(tmp_path / "o")])
+    assert r.exit_code == 2 and "'ETRS89 / UTM zone 32N'" in r.output and "EPSG:25833" in r.output, r.output
+    wkt = CRS.from_epsg(25832).to_wkt().replace('"', "&quot;")
+    by_wkt = TRIAL.read_text().replace('name="ETRS89 / UTM zone 32N" epsgCode="25832"', f'ogcWktCode="{wkt}"')
+    sub = tmp_path / "w"
+    sub.mkdir()
+    r = runner.invoke(app, ["build", str(_job(sub, xml=by_wkt)), "--out", str(sub / "o")])
+    assert r.exit_code == 0, r.output  # the same CRS: compared, so not listed
+    assert "CoordinateSystem" not in r.output
+
+
 def test_design_file_crs_that_cannot_be_compared_is_listed(tmp_path):
     r = runner.invoke(app, ["build", str(_job(tmp_path, crs=None)), "--out", str(tmp_path / "o")])
     assert r.exit_code == 0, r.output

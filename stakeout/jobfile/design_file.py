@@ -85,10 +85,10 @@ class DesignFiles:
             return
         job_crs = self.info.crs
         compared = None
-        if job_crs is not None and (cs.epsg_code or cs.name):
+        if job_crs is not None and (cs.epsg_code or cs.name or cs.ogc_wkt):
             from ..crs import compare_crs  # pyproj only when there is something to compare
 
-            compared = compare_crs(job_crs, cs.epsg_code, cs.name)
+            compared = compare_crs(job_crs, cs.epsg_code, cs.name, cs.ogc_wkt)
         if compared is None:
             self.crs_unused[design.sha256] = True
             return

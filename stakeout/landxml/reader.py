@@ -515,7 +515,8 @@ class _Reader:
                 application = application or el.get("name", "")
             elif local == "CoordinateSystem" and crs is None:  # the schema allows one
                 # compared with the job's crs by the job-file reader, or listed there as not used
-                crs = XCoordinateSystem(*(shown(el.get(a, "").strip()) for a in ("epsgCode", "name", "ogcWktCode")))
+                crs = XCoordinateSystem(shown(el.get("epsgCode", "").strip()), shown(el.get("name", "").strip()),
+                                        el.get("ogcWktCode", "").strip())  # the WKT goes to pyproj, never shown
             elif local == "Alignments":
                 for a_local, a_el in self.children(el, "Alignments"):
                     if a_local == "Alignment":

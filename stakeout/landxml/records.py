@@ -285,7 +285,9 @@ class XSuperelevation:
 
 @dataclass(frozen=True)
 class XCoordinateSystem:
-    """The file's ``<CoordinateSystem>``: ``epsgCode``, ``name`` and ``ogcWktCode`` as given ("" when absent)."""
+    """The file's ``<CoordinateSystem>``: ``epsgCode`` and ``name`` (control characters escaped for
+    showing) and ``ogcWktCode`` as given; "" when absent.
+    """
 
     epsg_code: str = ""
     name: str = ""
