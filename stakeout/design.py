@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, fields, replace
+from functools import cached_property
 from typing import TYPE_CHECKING, overload
 
 import numpy as np
@@ -38,6 +39,7 @@ from .units import Unit
 
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
+    from .presentation import Presentation
 
 __all__ = ["Design", "Factors", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
            "build_profile_of", "precision_rules_setups", "build_sections"]
@@ -210,6 +212,15 @@ class Design:
     def design_elevation(self) -> np.ndarray | None:
         """Design elevation of every stake, or ``None`` when the job gives none."""
         return self.stakes.elevation
+
+    @cached_property
+    def presentation(self) -> "Presentation":
+        """What the outputs show, as numbers (:mod:`stakeout.presentation`), made on first use
+        and shared by every writer of the build.
+        """
+        from .presentation import Presentation
+
+        return Presentation(self)
 
 
 def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> SectionPlan:

@@ -142,6 +142,11 @@ class StationRef(NamedTuple):
     where: str
 
 
+#: Relative distance from an equation point within which an internal station is taken to be
+#: on it (the ahead station; the back station for what ends there).
+EQUATION_SNAP = 1e-10
+
+
 @dataclass(frozen=True)
 class Equation:
     """A station equation at internal station ``internal``: the station
@@ -220,6 +225,14 @@ class Stationing:
         return np.array([eq.internal for eq in self.equations], dtype=np.float64)
 
     @cached_property
+    def _snap(self) -> NDArray[np.float64]:
+        """How near an equation point counts as on it: a few units in the last place of the
+        station (a length summed along the elements, or a staInternal written with fewer
+        digits, lands within this of the equation it is meant to sit on).
+        """
+        return EQUATION_SNAP * np.maximum(1.0, np.abs(self._breaks))
+
+    @cached_property
     def _shifts(self) -> NDArray[np.float64]:
         return np.array([0.0] + [eq.ahead - eq.internal for eq in self.equations], dtype=np.float64)
 
@@ -233,7 +246,7 @@ class Stationing:
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return np.ones(x.shape, dtype=np.int64)
-        return np.searchsorted(self._breaks, x, side="right").astype(np.int64) + 1
+        return np.searchsorted(self._breaks - self._snap, x, side="right").astype(np.int64) + 1
 
     def station(self, internal: ArrayLike) -> NDArray[np.float64]:
         """The station in force at each internal station (the ahead station at an equation)."""
@@ -249,7 +262,7 @@ class Stationing:
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return x
-        r = np.searchsorted(self._breaks, x, side="left")
+        r = np.searchsorted(self._breaks + self._snap, x, side="left")
         return x + self._shifts[r]
 
     def region_range(self, region: int) -> tuple[float, float]:
