@@ -269,12 +269,12 @@ def periods_of(xa: XAlignment, key: str) -> tuple[SuperelevationPeriod, ...]:
         superelevation, naming the element.
     """
     from ..crosssection import ORDER_TOLERANCE
+    from ..landxml.records import SE_STATION_ELEMENTS
 
     out = []
     for se in xa.superelevations:
         where = f"{key} <Superelevation> {se.index} of alignment {xa.name!r}"
-        sts = {"BeginRunoutSta": se.begin_runout, "BeginRunoffSta": se.begin_runoff, "FullSuperSta": se.full_super,
-               "RunoffSta": se.runoff, "StartofRunoutSta": se.start_of_runout, "EndofRunoutSta": se.end_of_runout}
+        sts = dict(zip(SE_STATION_ELEMENTS, se.stations, strict=True))
         if se.adverse:  # the contract's rows bank toward the curve's centre; an adverse one would be wrong
             raise JobFileError(f"{where}: <AdverseSE>adverse</AdverseSE> (banked away from the curve's centre) is "
                                "not derived from a design file; give its rows as [[superelevation]]")
@@ -284,8 +284,8 @@ def periods_of(xa: XAlignment, key: str) -> tuple[SuperelevationPeriod, ...]:
             if v is not None and not lo <= v <= hi:
                 raise JobFileError(f"{where}: {name} {v:.6g} lies outside the element's staStart {se.sta_start!r} "
                                    f"to staEnd {se.sta_end!r}; the stations contradict each other")
-        out.append(SuperelevationPeriod(se.begin_runout, se.begin_runoff, se.full_super, se.runoff,
-                                        se.start_of_runout, se.end_of_runout, se.full_superelev, None, where))
+        b0, b1, f0, f1, s0, s1 = se.stations
+        out.append(SuperelevationPeriod(b0, b1, f0, f1, s0, s1, se.full_superelev, None, where))
     return tuple(out)
 
 

@@ -85,6 +85,7 @@ from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
     MAX_FILE_BYTES,
+    SE_STATION_ELEMENTS,
     UNIT_WORDS,
     XPVI,
     XAlignment,
@@ -121,9 +122,6 @@ _LINEAR = {
 _ANGULAR = ("radians", "grads", "decimal degrees", "decimal dd.mm.ss")
 _PVI_KIND = {"PVI": "pvi", "ParaCurve": "para", "UnsymParaCurve": "unsym", "CircCurve": "circ"}
 _NEEDS = {"Line": ("Start", "End"), "Curve": ("Start", "Center", "End"), "Spiral": ("Start", "PI", "End")}
-# the station elements of a <Superelevation>, in the order of a transition (LandXML 1.2 schema)
-_SE_STATIONS = ("BeginRunoutSta", "BeginRunoffSta", "FullSuperSta", "RunoffSta", "StartofRunoutSta",
-                "EndofRunoutSta")
 _XSI_NIL = "{http://www.w3.org/2001/XMLSchema-instance}nil"
 _COLLECTIONS = frozenset(
     {"Surfaces", "PipeNetworks", "Parcels", "PlanFeatures", "Monuments", "Roadways", "GradeModel", "Survey"}
@@ -658,7 +656,7 @@ class _Reader:
             if local == "AdverseSE":
                 adverse = (child.text or "").strip() == "adverse"
                 continue
-            if local not in _SE_STATIONS and local != "FullSuperelev":
+            if local not in SE_STATION_ELEMENTS and local != "FullSuperelev":
                 self.note(where, local, child)
                 continue
             text = (child.text or "").strip()
@@ -674,9 +672,8 @@ class _Reader:
             if local in got and got[local] != v:
                 raise self.err(f"{where}: two <{local}> that differ ({fmt(got[local])} and {fmt(v)})")
             got[local] = v
-        b0, b1, f0, f1, s0, s1 = (got.get(k) for k in _SE_STATIONS)
-        return XSuperelevation(position, attrs["staStart"], attrs["staEnd"], b0, b1, f0, f1, s0, s1,
-                               got.get("FullSuperelev"), adverse)
+        return XSuperelevation(position, attrs["staStart"], attrs["staEnd"],
+                               tuple(got.get(k) for k in SE_STATION_ELEMENTS), got.get("FullSuperelev"), adverse)
 
     def coordgeom(self, el: _ET.Element, what: str, unsupported: list[str]) -> tuple[XElement, ...]:
         out: list[XElement] = []

@@ -238,11 +238,16 @@ class XAlignment:
     superelevations: tuple[XSuperelevation, ...] = ()
 
 
+#: The station elements of a ``<Superelevation>`` in the order of a transition (LandXML 1.2 schema).
+SE_STATION_ELEMENTS = ("BeginRunoutSta", "BeginRunoffSta", "FullSuperSta", "RunoffSta", "StartofRunoutSta",
+                       "EndofRunoutSta")
+
+
 @dataclass(frozen=True)
 class XSuperelevation:
-    """A ``<Superelevation>`` of an alignment (LandXML 1.2: its stations are child elements
-    ``BeginRunoutSta``, ``BeginRunoffSta``, ``FullSuperSta``, ``RunoffSta``, ``StartofRunoutSta``,
-    ``EndofRunoutSta`` and the rate ``FullSuperelev``, percent; ``staStart``/``staEnd`` attributes).
+    """A ``<Superelevation>`` of an alignment (LandXML 1.2: its stations are child elements, named in
+    :data:`SE_STATION_ELEMENTS`, and the rate ``FullSuperelev``, percent; ``staStart``/``staEnd``
+    attributes).
 
     Attributes
     ----------
@@ -250,8 +255,9 @@ class XSuperelevation:
         Position among the alignment's ``<Superelevation>`` elements, from 1.
     sta_start, sta_end : float or None
         ``staStart`` and ``staEnd`` attributes (internal stations).
-    begin_runout, begin_runoff, full_super, runoff, start_of_runout, end_of_runout : float or None
-        The stations (internal stations, file units); None where absent or nil.
+    stations : tuple of (float or None)
+        The six transition stations in the order of :data:`SE_STATION_ELEMENTS` (internal stations,
+        file units); None where absent or nil.
     full_superelev : float or None
         ``FullSuperelev`` in percent.
     adverse : bool
@@ -261,25 +267,20 @@ class XSuperelevation:
     index: int
     sta_start: float | None
     sta_end: float | None
-    begin_runout: float | None
-    begin_runoff: float | None
-    full_super: float | None
-    runoff: float | None
-    start_of_runout: float | None
-    end_of_runout: float | None
+    stations: tuple[float | None, ...]
     full_superelev: float | None
     adverse: bool = False
 
     @property
     def first(self) -> float | None:
         """The first station the element gives (for messages: where it starts)."""
-        given = [v for v in (self.begin_runout, self.begin_runoff, self.full_super, self.sta_start) if v is not None]
+        given = [v for v in (*self.stations, self.sta_start) if v is not None]
         return given[0] if given else None
 
     @property
     def last(self) -> float | None:
         """The last station the element gives."""
-        given = [v for v in (self.end_of_runout, self.start_of_runout, self.runoff, self.sta_end) if v is not None]
+        given = [v for v in (*reversed(self.stations), self.sta_end) if v is not None]
         return given[0] if given else None
 
 
