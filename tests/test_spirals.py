@@ -850,7 +850,7 @@ def test_elements_csv_against_reference(metric_out):
     rows = read_rows(metric_out / "elements.csv")
     assert list(rows[0]) == ["element", "kind", "start_station", "end_station", "length", "start_northing",
                              "start_easting", "end_northing", "end_easting", "start_azimuth_deg",
-                             "end_azimuth_deg", "radius_start", "radius_end", "turn"]
+                             "end_azimuth_deg", "radius_start", "radius_end", "turn", "alignment"]
     assert len(rows) == len(chain)
     q = 6e-5
     for k, (row, ref, sp) in enumerate(zip(rows, chain, METRIC_SPEC.elements), start=1):

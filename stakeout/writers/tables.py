@@ -41,7 +41,9 @@ STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
-                  "arc", "center_northing", "center_easting", "degree_of_curve")
+                  "arc", "center_northing", "center_easting", "degree_of_curve",
+                  # second set: the alignment's name
+                  "alignment")
 
 _CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cache and are reused
 
@@ -186,6 +188,7 @@ def curves_csv(design: Design) -> bytes:
     unit, station = design.unit, design.stationing.station
     rows = []
     d = DECIMALS
+    name = csv_text_field(design.alignment.name)
     for cv in design.presentation.curves:
         curve = cv.curve
         for arc_no, (_, el) in enumerate(cv.arcs, start=1):
@@ -210,6 +213,7 @@ def curves_csv(design: Design) -> bytes:
                 fixed_or_empty(el.center_northing, d),
                 fixed_or_empty(el.center_easting, d),
                 f"{degree_of_curve_arc(p.radius):.8f}" if unit.is_feet else "",
+                name,
             ]
             rows.append(",".join(fields))
     return csv_text(CURVES_COLUMNS, rows).encode("utf-8")
@@ -278,7 +282,9 @@ PROFILE_COLUMNS = ("pvi", "station", "station_label", "elevation", "grade_in", "
                    "curve_length_ahead", "pvc_station", "pvc_elevation", "pvt_station", "pvt_elevation", "k_value",
                    "high_low_station", "high_low_elevation",
                    # added columns
-                   "high_low", "radius")
+                   "high_low", "radius",
+                   # second set: the alignment's name; the vertical curve's whole length (back + ahead)
+                   "alignment", "curve_length")
 
 #: Decimals of grades in percent.
 GRADE_DECIMALS = 6
@@ -297,7 +303,9 @@ def profile_csv(design: Design) -> bytes:
         return "" if g is None else fixed_or_empty(100.0 * g, GRADE_DECIMALS)
 
     lines = []
+    name = csv_text_field(design.alignment.name)
     for i, r in enumerate(design.presentation.profile_rows, start=1):
+        whole = (r.curve_length_back or 0.0) + (r.curve_length_ahead or 0.0)
         lines.append(",".join([
             str(i), station(r.station), csv_text_field(st.label(r.station)), fixed_or_empty(r.elevation, d),
             grade(r.grade_in), grade(r.grade_out),
@@ -305,14 +313,16 @@ def profile_csv(design: Design) -> bytes:
             station(r.pvc_station), fixed_or_empty(r.pvc_elevation, d),
             station(r.pvt_station), fixed_or_empty(r.pvt_elevation, d),
             fixed_or_empty(r.k_value, d), station(r.high_low_station), fixed_or_empty(r.high_low_elevation, d),
-            r.high_low_kind or "", fixed_or_empty(r.radius, d),
+            r.high_low_kind or "", fixed_or_empty(r.radius, d), name, fixed_or_empty(whole or None, d),
         ]))
     return csv_text(PROFILE_COLUMNS, lines).encode("utf-8")
 
 
 ELEMENTS_COLUMNS = ("element", "kind", "start_station", "end_station", "length", "start_northing", "start_easting",
                     "end_northing", "end_easting", "start_azimuth_deg", "end_azimuth_deg", "radius_start",
-                    "radius_end", "turn")
+                    "radius_end", "turn",
+                    # second set: the alignment's name
+                    "alignment")
 
 
 def elements_csv(design: Design) -> bytes:
@@ -324,6 +334,7 @@ def elements_csv(design: Design) -> bytes:
     st = design.stationing
     d = DECIMALS
     lines = []
+    name = csv_text_field(design.alignment.name)
     for i, el in enumerate(design.alignment.elements, start=1):
         lines.append(",".join([
             str(i), el.kind, fixed_or_empty(float(st.station(el.start)), d),
@@ -331,7 +342,7 @@ def elements_csv(design: Design) -> bytes:
             fixed_or_empty(el.start_northing, d), fixed_or_empty(el.start_easting, d),
             fixed_or_empty(el.end_northing, d), fixed_or_empty(el.end_easting, d),
             f"{el.start_azimuth % 360.0:.8f}", f"{el.end_azimuth % 360.0:.8f}",
-            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn),
+            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn), name,
         ]))
     return csv_text(ELEMENTS_COLUMNS, lines).encode("utf-8")
 
@@ -339,7 +350,9 @@ def elements_csv(design: Design) -> bytes:
 SPIRALS_COLUMNS = ("spiral", "start_station", "end_station", "length", "radius_start", "radius_end", "theta_deg",
                    "x", "y", "p", "k", "long_tangent", "short_tangent", "turn",
                    # added columns
-                   "element")
+                   "element",
+                   # second set: the alignment's name
+                   "alignment")
 
 
 def spirals_csv(design: Design) -> bytes:
@@ -347,6 +360,7 @@ def spirals_csv(design: Design) -> bytes:
     st = design.stationing
     d = DECIMALS
     lines = []
+    name = csv_text_field(design.alignment.name)
     for sv in design.presentation.spirals:
         el, f, i = sv.element, sv.figures, sv.index + 1
         lines.append(",".join([
@@ -355,6 +369,7 @@ def spirals_csv(design: Design) -> bytes:
             fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), f"{f.theta_deg:.8f}",
             fixed_or_empty(f.x, d), fixed_or_empty(f.y, d), fixed_or_empty(f.p, d), fixed_or_empty(f.k, d),
             fixed_or_empty(f.long_tangent, d), fixed_or_empty(f.short_tangent, d), turn_word(el.turn), str(i),
+            name,
         ]))
     return csv_text(SPIRALS_COLUMNS, lines).encode("utf-8")
 
