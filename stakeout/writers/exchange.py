@@ -20,6 +20,8 @@ import math
 import os
 from collections.abc import Callable
 
+import numpy as np
+
 from .. import __version__
 from ..alignment import Arc, Element, Line, Spiral
 from ..alignment.curves import intersect_tangents
@@ -150,11 +152,31 @@ def source_date() -> _dt.datetime | None:
     return _dt.datetime.fromtimestamp(int(text), _dt.timezone.utc).replace(tzinfo=None)
 
 
+#: The ``code`` of a control point's CgPoint (outputs contract, "Control points in the outputs").
+CONTROL_CODE = "control"
+
+
+def _points(d: Design) -> XPoints:
+    """Every stake, then every control point the job lists or uses (code ``control``), as CgPoints."""
+    sp = d.stakes
+    ctrl = d.job.control_points()
+    if not ctrl:
+        return XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
+    nan = np.nan
+    stake_z = sp.elevation if sp.elevation is not None else np.full(len(sp), nan)
+    ctrl_z = np.array([nan if c.elevation is None else c.elevation for c in ctrl], dtype=float)
+    elevation = np.concatenate([stake_z, ctrl_z])
+    return XPoints([*sp.point, *(c.id for c in ctrl)],
+                   np.concatenate([sp.northing, [c.northing for c in ctrl]]),
+                   np.concatenate([sp.easting, [c.easting for c in ctrl]]),
+                   None if np.isnan(elevation).all() else elevation,
+                   [*sp.code, *(CONTROL_CODE for _ in ctrl)])
+
+
 def alignment_xml(d: Design) -> bytes:
     """Render ``alignment.xml`` (LandXML 1.2, the same bytes for the same design)."""
-    sp = d.stakes
     eqs = [XEquation(eq.internal, eq.ahead, eq.back) for eq in d.stationing.equations]
-    points = XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
+    points = _points(d)
     name = d.job.info.name or d.alignment.name
     try:
         return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs,
