@@ -1,0 +1,556 @@
+"""The existing ground: a TIN (triangulated irregular network), its elevation
+at any point and its profile along a horizontal ray (numpy, no I/O but the
+ground CSV reader).
+
+The ground is the TIN's triangles, planar inside each face and undefined
+outside them: a face left out (an invisible LandXML face) is a hole.  Faces
+are index triples into the points; northings, eastings and elevations are in
+job units.  Two look-ups, both on whole arrays:
+
+* :meth:`Ground.elevation` - the ground elevation at points: each point is
+  compared only with the faces whose bounding box reaches its cell of a
+  uniform grid (as the alignment inverse's :mod:`stakeout.alignment.index`),
+  and interpolated exactly on the plane of the face holding it (a point on a
+  shared edge or vertex takes either face: the same value, the TIN being
+  continuous there); NaN outside the TIN or in a hole;
+* :meth:`Ground.sections` - the ground along rays (a vertical plane through
+  a point in a horizontal direction): the polyline through the ray's
+  crossings of triangle edges, exact, no sampling, up to where the ray leaves
+  the TIN (reported) or a given distance.
+
+A ground from points (:meth:`Ground.from_points`) is triangulated by
+Delaunay (``scipy.spatial.Delaunay``): a point cloud carries no breaklines,
+so a ridge or a ditch between points is only as sharp as the points give it,
+and the hull is convex (a concave edge of the survey is bridged by long
+triangles).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+from numpy.typing import NDArray
+
+from .errors import JobFileError, StakedFileError
+from .limits import MAX_COORDINATE, MAX_HEIGHT
+
+__all__ = ["Ground", "Sections", "Section", "read_ground_csv", "EDGE_TOL"]
+
+#: A point this close to a face (job units) is on it: the TIN's edges are shared
+#: to rounding, and 1e-9 is far below the 4th decimal printed.
+EDGE_TOL = 1e-9
+#: Faces with an area under this fraction of their longest edge squared are slivers
+#: of zero area (Delaunay hull slivers, collapsed faces): they cover no ground.
+SLIVER = 1e-12
+#: Most (cell, face) entries of the grid, per face (the cell grows until they fit).
+_ENTRIES_PER_FACE = 16
+#: Most grid cells, per face.
+_CELLS_PER_FACE = 4
+
+F64 = NDArray[np.float64]
+I64 = NDArray[np.int64]
+
+
+@dataclass(frozen=True)
+class Section:
+    """The ground along one ray: ``dist`` (job units from the ray's start,
+    increasing) and ``z`` at the section's breakpoints; ``end`` is how far
+    the ground was found (the ray's length, or where it leaves the TIN) and
+    ``left_tin`` says whether it left the TIN (or a hole) before its length.
+    A ray starting off the ground has no breakpoints, ``end`` 0, ``left_tin``.
+    """
+
+    dist: F64
+    z: F64
+    end: float
+    left_tin: bool
+
+
+@dataclass(frozen=True)
+class Sections:
+    """The ground along many rays at once, laid end to end: ray ``i``'s
+    breakpoints are ``dist[first[i]:first[i + 1]]`` and ``z[...]`` (distances
+    from the ray's origin, increasing, the first at the ray's start distance
+    when the ground is there); ``end[i]`` is how far the ground reaches along
+    the ray (its end, or where it leaves the TIN), ``left_tin[i]`` whether it
+    left the TIN before the ray's end.
+    """
+
+    first: I64
+    dist: F64
+    z: F64
+    end: F64
+    left_tin: NDArray[np.bool_]
+
+    def __len__(self) -> int:
+        return len(self.first) - 1
+
+    def ray(self, i: int) -> Section:
+        """The section of ray ``i``."""
+        a, b = int(self.first[i]), int(self.first[i + 1])
+        return Section(self.dist[a:b], self.z[a:b], float(self.end[i]), bool(self.left_tin[i]))
+
+
+@dataclass(frozen=True)
+class _Grid:
+    g: float
+    e0: float
+    n0: float
+    nx: int
+    ny: int
+    start: I64  # cell c's faces: faces[start[c]:start[c + 1]]
+    faces: I64
+
+
+@dataclass(frozen=True, eq=False)
+class Ground:
+    """A TIN: points (``n``, ``e``, ``z``, job units) and faces (index
+    triples, counter-clockwise in plan after construction).  Build it with
+    :meth:`from_faces` or :meth:`from_points`; ``name`` says where it came
+    from in messages.
+    """
+
+    n: F64
+    e: F64
+    z: F64
+    faces: I64
+    name: str = "ground"
+    dropped: int = 0  # zero-area faces left out
+    _grid: _Grid = field(repr=False, default=None)  # type: ignore[assignment]
+    _plane: F64 = field(repr=False, default=None)  # type: ignore[assignment]  # per face: e0, n0, z0, gx, gy
+
+    # ------------------------------------------------------------------ construction
+    @classmethod
+    def from_faces(cls, n: F64, e: F64, z: F64, faces: I64, name: str = "ground") -> "Ground":
+        """A TIN from points and faces (holes are faces not given).
+
+        Parameters
+        ----------
+        n, e, z : array of float
+            Northing, easting, elevation of each point, job units.
+        faces : array of int, shape (m, 3)
+            Indices into the points, in either orientation.
+        name : str
+            The source as named in errors (a file, a key).
+
+        Raises
+        ------
+        JobFileError
+            No face, an index out of range, a face naming a point twice,
+            non-finite or out-of-range numbers.
+        """
+        n = np.ascontiguousarray(n, dtype=np.float64)
+        e = np.ascontiguousarray(e, dtype=np.float64)
+        z = np.ascontiguousarray(z, dtype=np.float64)
+        f = np.ascontiguousarray(faces, dtype=np.int64).reshape(-1, 3)
+        if not (len(n) == len(e) == len(z)):
+            raise JobFileError(f"{name}: northing, easting and elevation arrays differ in length")
+        for arr, what, bound in ((n, "northing", MAX_COORDINATE), (e, "easting", MAX_COORDINATE),
+                                 (z, "elevation", MAX_HEIGHT)):
+            bad = np.flatnonzero(~np.isfinite(arr) | (np.abs(arr) > bound))
+            if bad.size:
+                raise JobFileError(f"{name}: point {bad[0] + 1} has {what} {arr[bad[0]]!r}; "
+                                   f"it must be finite and within -{bound:,.0f} to {bound:,.0f} job units")
+        if len(f) == 0:
+            raise JobFileError(f"{name}: no triangles; a ground needs at least one face of three points")
+        bad = np.flatnonzero((f < 0).any(axis=1) | (f >= len(n)).any(axis=1))
+        if bad.size:
+            raise JobFileError(f"{name}: face {bad[0] + 1} names point index {f[bad[0]].tolist()} but there are "
+                               f"{len(n)} points")
+        bad = np.flatnonzero((f[:, 0] == f[:, 1]) | (f[:, 1] == f[:, 2]) | (f[:, 0] == f[:, 2]))
+        if bad.size:
+            raise JobFileError(f"{name}: face {bad[0] + 1} names a point twice ({f[bad[0]].tolist()})")
+        # plan orientation and size, in coordinates relative to the face's first vertex
+        de1, dn1 = e[f[:, 1]] - e[f[:, 0]], n[f[:, 1]] - n[f[:, 0]]
+        de2, dn2 = e[f[:, 2]] - e[f[:, 0]], n[f[:, 2]] - n[f[:, 0]]
+        det = de1 * dn2 - de2 * dn1
+        longest = np.maximum(np.maximum(de1 * de1 + dn1 * dn1, de2 * de2 + dn2 * dn2),
+                             (de2 - de1) ** 2 + (dn2 - dn1) ** 2)
+        keep = np.abs(det) > SLIVER * longest
+        dropped = int(len(f) - np.count_nonzero(keep))
+        if not keep.any():
+            raise JobFileError(f"{name}: every face has zero area in plan (points in a line); not a ground surface")
+        f = f[keep]
+        cw = det[keep] < 0
+        f[cw] = f[cw][:, [0, 2, 1]]
+        return cls._built(n, e, z, f, name, dropped)
+
+    @classmethod
+    def from_points(cls, n: F64, e: F64, z: F64, name: str = "ground",
+                    ids: list[str] | None = None, lines: list[int] | None = None) -> "Ground":
+        """A TIN by Delaunay triangulation of ground points (no breaklines).
+
+        Parameters
+        ----------
+        n, e, z : array of float
+            The points, job units.
+        name : str
+            The source as named in errors.
+        ids, lines : list, optional
+            Point ids and line numbers, to name a duplicate in the error.
+
+        Raises
+        ------
+        JobFileError
+            Fewer than three points, two points at the same northing and
+            easting, or points that do not span an area (all in a line).
+        """
+        from scipy.spatial import Delaunay, QhullError
+
+        n = np.asarray(n, dtype=np.float64)
+        e = np.asarray(e, dtype=np.float64)
+        z = np.asarray(z, dtype=np.float64)
+        if len(n) < 3:
+            raise JobFileError(f"{name}: {len(n)} ground point(s); a ground needs at least three")
+
+        def who(i: int) -> str:
+            s = f"point {ids[i]!r}" if ids is not None else f"point {i + 1}"
+            return s + (f" (line {lines[i]})" if lines is not None else "")
+
+        order = np.lexsort((e, n))
+        same = np.flatnonzero((n[order][1:] == n[order][:-1]) & (e[order][1:] == e[order][:-1]))
+        if same.size:
+            i, j = sorted((int(order[same[0]]), int(order[same[0] + 1])))
+            raise JobFileError(f"{name}: {who(j)} lies at the same northing and easting as {who(i)}; "
+                               "a ground has one elevation at each place (remove one)")
+        xy = np.column_stack((e - e.mean(), n - n.mean()))  # centred: qhull works near the origin
+        try:
+            tri = Delaunay(xy)
+        except QhullError:
+            raise JobFileError(f"{name}: the ground points do not span an area (all in a line?); "
+                               "cannot triangulate them") from None
+        if len(tri.coplanar):
+            i = int(tri.coplanar[0, 0])
+            raise JobFileError(f"{name}: {who(i)} is left out of the triangulation (it nearly coincides with "
+                               "another point); remove one of them")
+        return cls.from_faces(n, e, z, tri.simplices.astype(np.int64), name)
+
+    @classmethod
+    def _built(cls, n: F64, e: F64, z: F64, f: I64, name: str, dropped: int) -> "Ground":
+        e0, n0, z0 = e[f[:, 0]], n[f[:, 0]], z[f[:, 0]]
+        de1, dn1, dz1 = e[f[:, 1]] - e0, n[f[:, 1]] - n0, z[f[:, 1]] - z0
+        de2, dn2, dz2 = e[f[:, 2]] - e0, n[f[:, 2]] - n0, z[f[:, 2]] - z0
+        det = de1 * dn2 - de2 * dn1
+        gx = (dz1 * dn2 - dz2 * dn1) / det  # dz/de
+        gy = (de1 * dz2 - de2 * dz1) / det  # dz/dn
+        plane = np.column_stack((e0, n0, z0, gx, gy))
+        grid = _build_grid(n, e, f)
+        return cls(n, e, z, f, name, dropped, grid, plane)
+
+    # ------------------------------------------------------------------ facts
+    @property
+    def cell_size(self) -> float:
+        """Side of the locator's grid cells, job units (about one face's size)."""
+        return self._grid.g
+
+    @property
+    def face_count(self) -> int:
+        """Number of faces (holes and zero-area faces not counted)."""
+        return len(self.faces)
+
+    def extent(self) -> tuple[float, float, float, float]:
+        """``(n_min, e_min, n_max, e_max)`` of the points used by faces."""
+        used = np.unique(self.faces)
+        return (float(self.n[used].min()), float(self.e[used].min()),
+                float(self.n[used].max()), float(self.e[used].max()))
+
+    def elevation_range(self) -> tuple[float, float]:
+        """Lowest and highest elevation of the points used by faces."""
+        used = np.unique(self.faces)
+        return float(self.z[used].min()), float(self.z[used].max())
+
+    # ------------------------------------------------------------------ look-ups
+    def _candidates(self, cells: I64) -> tuple[I64, I64]:
+        """(index into ``cells``, face) of every face registered in each cell (-1: none)."""
+        gr = self._grid
+        ok = cells >= 0
+        c = np.where(ok, cells, 0)
+        cnt = np.where(ok, gr.start[c + 1] - gr.start[c], 0)
+        owner = np.repeat(np.arange(len(cells), dtype=np.int64), cnt)
+        pos = np.arange(int(cnt.sum()), dtype=np.int64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+        return owner, gr.faces[np.repeat(gr.start[c], cnt) + pos]
+
+    def _cell(self, n: F64, e: F64) -> I64:
+        gr = self._grid
+        ix = np.floor((e - gr.e0) / gr.g)
+        iy = np.floor((n - gr.n0) / gr.g)
+        ok = (ix >= 0) & (ix < gr.nx) & (iy >= 0) & (iy < gr.ny)
+        return np.where(ok, iy * gr.nx + ix, -1).astype(np.int64)
+
+    def face_at(self, n: F64, e: F64) -> I64:
+        """Index of a face holding each point (on its edge included), -1 off the ground."""
+        n = np.atleast_1d(np.asarray(n, dtype=np.float64))
+        e = np.atleast_1d(np.asarray(e, dtype=np.float64))
+        out = np.full(n.shape, -1, dtype=np.int64)
+        flat_n, flat_e = n.ravel(), e.ravel()
+        fin = np.isfinite(flat_n) & np.isfinite(flat_e)
+        cells = np.where(fin, self._cell(np.where(fin, flat_n, 0.0), np.where(fin, flat_e, 0.0)), -1)
+        pt, fc = self._candidates(cells)
+        inside = self._inside(fc, flat_n[pt], flat_e[pt])
+        pt, fc = pt[inside], fc[inside]
+        first = np.ones(len(pt), dtype=bool)
+        first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
+        res = out.ravel()
+        res[pt[first]] = fc[first]
+        return res.reshape(n.shape)
+
+    def _inside(self, fc: I64, pn: F64, pe: F64) -> NDArray[np.bool_]:
+        """Whether each point lies in (or within EDGE_TOL of) its face."""
+        f = self.faces[fc]
+        ok = np.ones(len(fc), dtype=bool)
+        for k in range(3):  # the three edges of every face at once
+            a, b = f[:, k], f[:, (k + 1) % 3]
+            ee, en = self.e[b] - self.e[a], self.n[b] - self.n[a]
+            cross = ee * (pn - self.n[a]) - en * (pe - self.e[a])  # > 0: left of the edge (inside, CCW)
+            ok &= cross >= -EDGE_TOL * np.hypot(ee, en)
+        return ok
+
+    def _plane_z(self, fc: I64, pn: F64, pe: F64) -> F64:
+        p = self._plane[fc]
+        return p[:, 2] + p[:, 3] * (pe - p[:, 0]) + p[:, 4] * (pn - p[:, 1])
+
+    def elevation(self, n: F64, e: F64) -> F64:
+        """Ground elevation at points (job units); NaN outside the TIN or in a hole.
+
+        Parameters
+        ----------
+        n, e : array of float
+            Northings and eastings, job units (any shape, the same).
+
+        Returns
+        -------
+        array of float
+            The elevation on the plane of the face holding each point.
+        """
+        n = np.asarray(n, dtype=np.float64)
+        e = np.asarray(e, dtype=np.float64)
+        fc = self.face_at(n, e)
+        out = np.full(fc.shape, np.nan)
+        hit = fc >= 0
+        out[hit] = self._plane_z(fc[hit], np.broadcast_to(n, fc.shape)[hit], np.broadcast_to(e, fc.shape)[hit])
+        return out
+
+    def section(self, n0: float, e0: float, dn: float, de: float, max_dist: float) -> Section:
+        """The ground along one ray (see :meth:`sections`)."""
+        s = self.sections(np.array([n0]), np.array([e0]), np.array([dn]), np.array([de]), np.array([max_dist]))
+        return s.ray(0)
+
+    def sections(self, n0: F64, e0: F64, dn: F64, de: F64, max_dist: F64,
+                 start: F64 | None = None) -> Sections:
+        """The ground along rays: exact polylines through the rays' crossings of triangle edges.
+
+        Parameters
+        ----------
+        n0, e0 : array of float
+            Origin of each ray, job units.
+        dn, de : array of float
+            Horizontal unit direction of each ray (northing, easting parts).
+        max_dist : array of float
+            How far along each ray, job units.
+        start : array of float, optional
+            Where along each ray to begin (default 0): the section covers
+            ``start`` to ``max_dist``, distances still counted from the origin.
+
+        Returns
+        -------
+        Sections
+            Per ray the breakpoints (distance, elevation) from ``start`` up to
+            ``max_dist`` or to where the ray leaves the TIN (``left_tin``).
+        """
+        n0, e0, dn, de = (np.atleast_1d(np.asarray(v, dtype=np.float64)) for v in (n0, e0, dn, de))
+        t1 = np.broadcast_to(np.asarray(max_dist, dtype=np.float64), n0.shape).copy()
+        t0 = np.zeros_like(t1) if start is None else np.broadcast_to(np.asarray(start, dtype=np.float64),
+                                                                      n0.shape).copy()
+        r = len(n0)
+        ray, cell = self._ray_cells(n0 + t0 * dn, e0 + t0 * de, dn, de, t1 - t0)
+        own, fc = self._candidates(cell)
+        ray = ray[own]
+        # clip each (ray, face) pair's segment [t0, t1] to the face: three half-planes
+        f = self.faces[fc]
+        lo, hi = t0[ray].copy(), t1[ray].copy()
+        ok = np.ones(len(fc), dtype=bool)
+        on, oe, rn, re = n0[ray], e0[ray], dn[ray], de[ray]
+        for k in range(3):
+            a, b = f[:, k], f[:, (k + 1) % 3]
+            ee, en = self.e[b] - self.e[a], self.n[b] - self.n[a]
+            alpha = ee * (on - self.n[a]) - en * (oe - self.e[a])
+            beta = ee * rn - en * re
+            tol = EDGE_TOL * np.hypot(ee, en)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                tcut = -alpha / beta  # exact: neighbouring faces meet at the same distance
+            lo = np.where(beta > 0, np.maximum(lo, tcut), lo)
+            hi = np.where(beta < 0, np.minimum(hi, tcut), hi)
+            ok &= (beta != 0) | (alpha >= -tol)
+        ok &= lo <= hi
+        ray, fc, lo, hi = ray[ok], fc[ok], lo[ok], hi[ok]
+        lo = np.maximum(lo, t0[ray])
+        hi = np.minimum(hi, t1[ray])
+        # coverage: sort the intervals by ray and entry; the ground ends at the first gap
+        o = np.lexsort((lo, ray))
+        ray, fc, lo, hi = ray[o], fc[o], lo[o], hi[o]
+        end = t0.copy()  # rays with no face at their start: the ground ends at once
+        left = np.ones(r, dtype=bool)
+        if len(ray):
+            grp = np.ones(len(ray), dtype=bool)
+            grp[1:] = ray[1:] != ray[:-1]
+            gstart = np.flatnonzero(grp)
+            # running maximum of the exits within each ray (offset by ray so groups do not mix)
+            big = (np.abs(t1).max() + np.abs(t0).max() + 1.0) * 4.0
+            key = hi + ray * big
+            runmax = np.maximum.accumulate(key) - ray * big
+            prev = np.empty_like(runmax)
+            prev[1:] = runmax[:-1]
+            prev[gstart] = t0[ray[gstart]]  # the first face of a ray must reach its start
+            gap = lo > prev + EDGE_TOL
+            gidx = np.flatnonzero(gap)
+            # end of each ray's ground: the first gap's prev, else the ray's last running maximum
+            last = np.r_[gstart[1:], len(ray)] - 1
+            end[ray[gstart]] = runmax[last]
+            fg_ray, fg_at = np.unique(ray[gidx], return_index=True)
+            end[fg_ray] = prev[gidx[fg_at]]
+            left[:] = True
+            left[ray[gstart]] = False
+            left[fg_ray] = True
+            left |= end < t1 - EDGE_TOL
+            keep = lo <= end[ray] + EDGE_TOL
+            ray, fc, lo, hi = ray[keep], fc[keep], lo[keep], np.minimum(hi[keep], end[ray[keep]])
+        end = np.where(left, end, t1)
+        # breakpoints: every entry and exit, on its face's plane; one per distance
+        bray = np.concatenate((ray, ray))
+        bt = np.concatenate((lo, hi))
+        bf = np.concatenate((fc, fc))
+        bz = self._plane_z(bf, n0[bray] + bt * dn[bray], e0[bray] + bt * de[bray])
+        o = np.lexsort((bt, bray))
+        bray, bt, bz = bray[o], bt[o], bz[o]
+        new = np.ones(len(bt), dtype=bool)
+        new[1:] = (bray[1:] != bray[:-1]) | (bt[1:] - bt[:-1] > EDGE_TOL)
+        bray, bt, bz = bray[new], bt[new], bz[new]
+        first = np.searchsorted(bray, np.arange(r + 1))
+        return Sections(first.astype(np.int64), bt, bz, end, left)
+
+    def _ray_cells(self, n0: F64, e0: F64, dn: F64, de: F64, length: F64) -> tuple[I64, I64]:
+        """(ray, cell) of every grid cell each ray segment passes through (exact traversal).
+
+        The cell boundaries a segment crosses split it into pieces; the cell of
+        each piece's middle is a cell it passes through.
+        """
+        gr = self._grid
+        x0, y0 = (e0 - gr.e0) / gr.g, (n0 - gr.n0) / gr.g
+        lx, ly = de * length / gr.g, dn * length / gr.g
+        x1, y1 = x0 + lx, y0 + ly
+        r = len(n0)
+        rid = np.arange(r, dtype=np.int64)
+        parts_t = [np.zeros(r), np.ones(r)]
+        parts_r = [rid, rid]
+        for a, b, d in ((x0, x1, lx), (y0, y1, ly)):
+            k0 = np.ceil(np.minimum(a, b))
+            k1 = np.floor(np.maximum(a, b))
+            cnt = np.maximum(k1 - k0 + 1, 0).astype(np.int64)
+            cnt = np.where(d != 0, cnt, 0)
+            rr = np.repeat(rid, cnt)
+            pos = np.arange(int(cnt.sum()), dtype=np.float64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+            line = np.repeat(k0, cnt) + pos
+            with np.errstate(divide="ignore", invalid="ignore"):
+                parts_t.append((line - a[rr]) / d[rr])
+            parts_r.append(rr)
+        t = np.concatenate(parts_t)
+        rr = np.concatenate(parts_r)
+        o = np.lexsort((t, rr))
+        t, rr = np.clip(t[o], 0.0, 1.0), rr[o]
+        same = rr[1:] == rr[:-1]
+        pr, tm = rr[:-1][same], 0.5 * (t[1:] + t[:-1])[same]
+        # the cell of each piece's middle (faces are registered EDGE_TOL beyond their boxes, so a
+        # segment along a cell boundary also meets the faces on the other side of it)
+        ix = np.floor(x0[pr] + tm * lx[pr])
+        iy = np.floor(y0[pr] + tm * ly[pr])
+        ok = (ix >= 0) & (ix < gr.nx) & (iy >= 0) & (iy < gr.ny)
+        return pr[ok], (iy * gr.nx + ix)[ok].astype(np.int64)
+
+
+def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
+    """A uniform grid over the faces' bounding boxes: each cell lists the faces reaching it."""
+    fe, fn = e[f], n[f]
+    x0, x1 = fe.min(axis=1), fe.max(axis=1)
+    y0, y1 = fn.min(axis=1), fn.max(axis=1)
+    m = len(f)
+    emin, nmin = float(x0.min()), float(y0.min())
+    w = max(float(x1.max()) - emin, 1e-9)
+    h = max(float(y1.max()) - nmin, 1e-9)
+    # about one face's box a cell: a point meets a few candidates
+    g = max(float(np.mean(np.maximum(x1 - x0, y1 - y0))), math.sqrt(w * h / m) * 0.5, 1e-9)
+    while True:
+        nx, ny = int(w / g) + 1, int(h / g) + 1
+        ix0 = np.floor((x0 - EDGE_TOL - emin) / g).clip(0, nx - 1).astype(np.int64)
+        ix1 = np.floor((x1 + EDGE_TOL - emin) / g).clip(0, nx - 1).astype(np.int64)
+        iy0 = np.floor((y0 - EDGE_TOL - nmin) / g).clip(0, ny - 1).astype(np.int64)
+        iy1 = np.floor((y1 + EDGE_TOL - nmin) / g).clip(0, ny - 1).astype(np.int64)
+        cols, rows = ix1 - ix0 + 1, iy1 - iy0 + 1
+        cnt = cols * rows
+        total = int(cnt.sum())
+        if (total <= _ENTRIES_PER_FACE * m + 4096 and nx * ny <= _CELLS_PER_FACE * m + 4096) or g > 1e12:
+            break
+        g *= 1.5
+    fid = np.repeat(np.arange(m, dtype=np.int64), cnt)
+    k = np.arange(total, dtype=np.int64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
+    cw = cols[fid]
+    cell = (iy0[fid] + k // cw) * nx + ix0[fid] + k % cw
+    o = np.argsort(cell, kind="stable")
+    start = np.zeros(nx * ny + 1, dtype=np.int64)
+    np.cumsum(np.bincount(cell, minlength=nx * ny), out=start[1:])
+    return _Grid(g, emin, nmin, nx, ny, start, fid[o])
+
+
+def read_ground_csv(path: str | Path, key: str = "ground.file") -> Ground:
+    """Read ground points ``point,northing,easting,elevation[,description]`` and triangulate them.
+
+    The file is read by the staked-file reader's rules
+    (:func:`stakeout.shots.read_shots`: a header row detected by its column
+    names, encodings, delimiters, plain-ASCII numbers, line numbers in
+    errors, at most 256 MiB); every row needs an elevation, coordinates lie
+    within ``MAX_COORDINATE`` and elevations within ``MAX_HEIGHT`` (job units).
+
+    Parameters
+    ----------
+    path : str or Path
+        The CSV file.
+    key : str
+        The job-file key that named it, for messages.
+
+    Returns
+    -------
+    Ground
+        The Delaunay triangulation of the points (no breaklines).
+
+    Raises
+    ------
+    JobFileError
+        Unreadable file, a malformed row (by line number), a missing
+        elevation, an out-of-range coordinate, duplicate points, or points
+        that do not span an area.
+    """
+    from .shots import read_shots
+
+    p = Path(path)
+    head = f"{key} = {str(path)!r}"
+    try:
+        shots = read_shots(p)
+    except StakedFileError as exc:
+        msg, sf = str(exc), f"staked file {str(p)!r}"
+        msg = msg[len(sf):] if msg.startswith(sf) else f": {msg}"
+        raise JobFileError(head + msg.replace("staked file", "ground file").replace("no shots", "no ground points")
+                           .replace("shots", "ground points").replace("staked-points", "ground-points")) from None
+    missing = np.flatnonzero(np.isnan(shots.elevation))
+    if missing.size:
+        i = int(missing[0])
+        raise JobFileError(f"{head} line {shots.line[i]}: point {shots.point[i]!r} has no elevation; every ground "
+                           "point needs one")
+    for arr, what in ((shots.northing, "northing"), (shots.easting, "easting")):
+        bad = np.flatnonzero(np.abs(arr) > MAX_COORDINATE)
+        if bad.size:
+            i = int(bad[0])
+            raise JobFileError(f"{head} line {shots.line[i]}: {what} {arr[i]!r} is out of range; coordinates must "
+                               f"lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} job units")
+    return Ground.from_points(shots.northing, shots.easting, shots.elevation, head, shots.point, shots.line)
