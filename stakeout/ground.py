@@ -152,7 +152,7 @@ class Ground:
                                  (z, "elevation", MAX_HEIGHT)):
             bad = np.flatnonzero(~np.isfinite(arr) | (np.abs(arr) > bound))
             if bad.size:
-                raise JobFileError(f"{name}: point {bad[0] + 1} has {what} {arr[bad[0]]!r}; "
+                raise JobFileError(f"{name}: point {bad[0] + 1} has {what} {float(arr[bad[0]])!r}; "
                                    f"it must be finite and within -{bound:,.0f} to {bound:,.0f} job units")
         if len(f) == 0:
             raise JobFileError(f"{name}: no triangles; a ground needs at least one face of three points")
@@ -551,6 +551,6 @@ def read_ground_csv(path: str | Path, key: str = "ground.file") -> Ground:
         bad = np.flatnonzero(np.abs(arr) > MAX_COORDINATE)
         if bad.size:
             i = int(bad[0])
-            raise JobFileError(f"{head} line {shots.line[i]}: {what} {arr[i]!r} is out of range; coordinates must "
+            raise JobFileError(f"{head} line {shots.line[i]}: {what} {float(arr[i])!r} is out of range; coordinates must "
                                f"lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} job units")
     return Ground.from_points(shots.northing, shots.easting, shots.elevation, head, shots.point, shots.line)
