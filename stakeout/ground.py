@@ -117,10 +117,10 @@ class Ground:
     e: F64
     z: F64
     faces: I64
-    name: str = "ground"
-    dropped: int = 0  # zero-area faces left out
-    _grid: _Grid = field(repr=False, default=None)  # type: ignore[assignment]
-    _plane: F64 = field(repr=False, default=None)  # type: ignore[assignment]  # per face: e0, n0, z0, gx, gy
+    name: str
+    dropped: int  # zero-area faces left out
+    _grid: _Grid = field(repr=False)
+    _plane: F64 = field(repr=False)  # per face: e0, n0, z0, dz/de, dz/dn
 
     # ------------------------------------------------------------------ construction
     @classmethod

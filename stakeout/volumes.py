@@ -96,7 +96,7 @@ def areas_between(first_d: I64, x_d: F64, z_d: F64, first_g: I64, x_g: F64, z_g:
     ps = s[:-1][pair]
     fill = _positive_part(f1, f2, h)
     cut = _positive_part(-f1, -f2, h)
-    return np.bincount(ps, cut, minlength=k), np.bincount(ps, fill, minlength=k)
+    return np.bincount(ps, cut, minlength=k).astype(np.float64), np.bincount(ps, fill, minlength=k).astype(np.float64)
 
 
 def _positive_part(f1: F64, f2: F64, h: F64) -> F64:
@@ -197,7 +197,8 @@ def cross_sections(ground: Ground, tmpl_station: I64, tmpl_offset: F64, tmpl_z: 
 
 def _compact(first: I64, idx: I64) -> I64:
     """The ``first`` array of the polylines ``idx`` alone (they are the only non-empty ones, in order)."""
-    return np.r_[first[idx], first[idx[-1] + 1]].astype(np.int64)
+    out: I64 = np.r_[first[idx], first[idx[-1] + 1]].astype(np.int64)
+    return out
 
 
 @dataclass(frozen=True)

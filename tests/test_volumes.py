@@ -94,6 +94,7 @@ def test_cross_sections_on_planar_ground_match_shapely():
         xg = cs.ground_offset[cs.ground_first[i]:cs.ground_first[i + 1]]
         zg = cs.ground_z[cs.ground_first[i]:cs.ground_first[i + 1]]
         assert xd[0] == pytest.approx(xg[0], abs=1e-9) and xd[-1] == pytest.approx(xg[-1], abs=1e-9)
+        assert np.max(np.abs(zg - zf(n[i], E0 + 100.0 + xg))) < 1e-9  # the ground section lies on the plane
         # reference: the ground as the plane itself (independent of the TIN), polygons by shapely
         xs = np.linspace(xd[0], xd[-1], 3)
         c, f = _shapely_cut_fill(xd, zd, xs, zf(n[i], E0 + 100.0 + xs))

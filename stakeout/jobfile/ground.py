@@ -85,8 +85,8 @@ def read_ground(top: Table, base: Path) -> tuple[Ground, DesignFile] | None:
 
 
 def _slope(t: Table, k: str, required: bool) -> float | None:
-    v = t.number(k, required=required, positive=True, bound=MAX_SLOPE)
-    return v
+    """A slope, run per unit rise: greater than 0, at most MAX_SLOPE."""
+    return t.number(k, required=required, positive=True, bound=MAX_SLOPE)
 
 
 def _side(top: Table, side: str, codes: Collection[str] | None) -> SideSlopes | None:
