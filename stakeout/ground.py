@@ -121,6 +121,7 @@ class Ground:
     dropped: int  # zero-area faces left out
     _grid: _Grid = field(repr=False)
     _plane: F64 = field(repr=False)  # per face: e0, n0, z0, dz/de, dz/dn
+    _tri: F64 = field(repr=False)  # per face: e0, n0, e1, n1, e2, n2 (one gather a face)
 
     # ------------------------------------------------------------------ construction
     @classmethod
@@ -238,7 +239,8 @@ class Ground:
         gy = (de1 * dz2 - de2 * dz1) / det  # dz/dn
         plane = np.column_stack((e0, n0, z0, gx, gy))
         grid = _build_grid(n, e, f)
-        return cls(n, e, z, f, name, dropped, grid, plane)
+        tri = np.column_stack((e[f[:, 0]], n[f[:, 0]], e[f[:, 1]], n[f[:, 1]], e[f[:, 2]], n[f[:, 2]]))
+        return cls(n, e, z, f, name, dropped, grid, plane, tri)
 
     # ------------------------------------------------------------------ facts
     @property
@@ -368,22 +370,27 @@ class Ground:
         ray, cell = self._ray_cells(n0 + t0 * dn, e0 + t0 * de, dn, de, t1 - t0)
         own, fc = self._candidates(cell)
         ray = ray[own]
+        # faces the ray's line crosses: vertices not all on one side of it (cheap; most candidates go)
+        on, oe, rn, re = n0[ray], e0[ray], dn[ray], de[ray]
+        tri = self._tri[fc]
+        side = [rn * (tri[:, 2 * j] - oe) - re * (tri[:, 2 * j + 1] - on) for j in range(3)]
+        keep = ((np.minimum(np.minimum(side[0], side[1]), side[2]) <= EDGE_TOL)
+                & (np.maximum(np.maximum(side[0], side[1]), side[2]) >= -EDGE_TOL))
+        ray, fc, tri = ray[keep], fc[keep], tri[keep]
+        on, oe, rn, re = on[keep], oe[keep], rn[keep], re[keep]
         # clip each (ray, face) pair's segment [t0, t1] to the face: three half-planes
-        f = self.faces[fc]
         lo, hi = t0[ray].copy(), t1[ray].copy()
         ok = np.ones(len(fc), dtype=bool)
-        on, oe, rn, re = n0[ray], e0[ray], dn[ray], de[ray]
         for k in range(3):
-            a, b = f[:, k], f[:, (k + 1) % 3]
-            ee, en = self.e[b] - self.e[a], self.n[b] - self.n[a]
-            alpha = ee * (on - self.n[a]) - en * (oe - self.e[a])
+            ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
+            ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
+            alpha = ee * (on - an) - en * (oe - ae)
             beta = ee * rn - en * re
-            tol = EDGE_TOL * np.hypot(ee, en)
             with np.errstate(divide="ignore", invalid="ignore"):
                 tcut = -alpha / beta  # exact: neighbouring faces meet at the same distance
             lo = np.where(beta > 0, np.maximum(lo, tcut), lo)
             hi = np.where(beta < 0, np.minimum(hi, tcut), hi)
-            ok &= (beta != 0) | (alpha >= -tol)
+            ok &= (beta != 0) | (alpha >= -EDGE_TOL * np.hypot(ee, en))
         ok &= lo <= hi
         ray, fc, lo, hi = ray[ok], fc[ok], lo[ok], hi[ok]
         lo = np.maximum(lo, t0[ray])

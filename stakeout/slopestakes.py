@@ -39,7 +39,7 @@ F64 = NDArray[np.float64]
 NOTE_NO_CATCH = "no catch within max_width"
 NOTE_OUTSIDE = "outside the ground surface"
 #: First round's reach, in grid cells of the ground (then four times longer a round).
-_FIRST_ROUND_CELLS = 48.0
+_FIRST_ROUND_CELLS = 16.0
 
 
 @dataclass(frozen=True)
