@@ -122,6 +122,7 @@ class Ground:
     _grid: _Grid = field(repr=False)
     _plane: F64 = field(repr=False)  # per face: e0, n0, z0, dz/de, dz/dn
     _tri: F64 = field(repr=False)  # per face: e0, n0, e1, n1, e2, n2 (one gather a face)
+    _nb: I64 = field(repr=False)  # per face and edge k (vertex k to k + 1): the face across it, -1 none
 
     # ------------------------------------------------------------------ construction
     @classmethod
@@ -240,7 +241,7 @@ class Ground:
         plane = np.column_stack((e0, n0, z0, gx, gy))
         grid = _build_grid(n, e, f)
         tri = np.column_stack((e[f[:, 0]], n[f[:, 0]], e[f[:, 1]], n[f[:, 1]], e[f[:, 2]], n[f[:, 2]]))
-        return cls(n, e, z, f, name, dropped, grid, plane, tri)
+        return cls(n, e, z, f, name, dropped, grid, plane, tri, _neighbours(f, len(n)))
 
     # ------------------------------------------------------------------ facts
     @property
@@ -366,6 +367,93 @@ class Ground:
         t1 = np.broadcast_to(np.asarray(max_dist, dtype=np.float64), n0.shape).copy()
         t0 = np.zeros_like(t1) if start is None else np.broadcast_to(np.asarray(start, dtype=np.float64),
                                                                       n0.shape).copy()
+        ray, bt, bz, end, left, failed = self._walk(n0, e0, dn, de, t0, t1)
+        if failed.any():  # a walk that circled a vertex: these rays by the grid instead
+            idx = np.flatnonzero(failed)
+            g = self._sections_grid(n0[idx], e0[idx], dn[idx], de[idx], t1[idx], t0[idx])
+            keep = ~failed[ray]
+            gr = idx[np.repeat(np.arange(len(idx)), np.diff(g.first))]
+            ray, bt, bz = np.r_[ray[keep], gr], np.r_[bt[keep], g.dist], np.r_[bz[keep], g.z]
+            end[idx], left[idx] = g.end, g.left_tin
+        return _assemble(len(n0), ray, bt, bz, end, left)
+
+    def _walk(self, n0: F64, e0: F64, dn: F64, de: F64, t0: F64, t1: F64
+              ) -> tuple[I64, F64, F64, F64, NDArray[np.bool_], NDArray[np.bool_]]:
+        """Walk every ray from face to face across shared edges (all rays a step at a time).
+
+        Returns the breakpoints (ray, distance, elevation), each ray's end and
+        whether it left the TIN, and the rays whose walk stalled (circling a
+        vertex the ray passes exactly through), to be done by the grid.
+        """
+        r = len(n0)
+        f = self.face_at(n0 + t0 * dn, e0 + t0 * de)
+        end = t0.copy()
+        left = np.ones(r, dtype=bool)
+        failed = np.zeros(r, dtype=bool)
+        idx = np.flatnonzero(f >= 0)
+        cur = t0.copy()
+        stall = np.zeros(r, dtype=np.int64)
+        rays = [idx]
+        ts = [t0[idx]]
+        zs = [self._plane_z(f[idx], n0[idx] + t0[idx] * dn[idx], e0[idx] + t0[idx] * de[idx])]
+        while idx.size:
+            ff = f[idx]
+            tri = self._tri[ff]
+            on, oe, rn, re = n0[idx], e0[idx], dn[idx], de[idx]
+            texit = np.full(len(idx), np.inf)
+            kexit = np.full(len(idx), -1, dtype=np.int64)
+            best = np.full(len(idx), np.inf)
+            nbs = self._nb[ff]
+            for k in range(3):
+                ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
+                ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
+                alpha = ee * (on - an) - en * (oe - ae)
+                beta = ee * rn - en * re
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    tk = np.where(beta < 0, -alpha / np.where(beta < 0, beta, -1.0), np.inf)
+                # through a vertex (two edges at once) the edge with a face beyond wins: a ray along
+                # the border of the TIN or of a hole stays on the ground, as the border is
+                key = tk + np.where(nbs[:, k] < 0, 16 * EDGE_TOL, 0.0)
+                better = key < best
+                best = np.where(better, key, best)
+                texit = np.where(better, tk, texit)
+                kexit = np.where(better, k, kexit)
+            texit = np.maximum(texit, cur[idx])  # never back along the ray
+            done = texit >= t1[idx]
+            texit = np.minimum(texit, t1[idx])
+            rays.append(idx)
+            ts.append(texit)
+            zs.append(self._plane_z(ff, on + texit * rn, oe + texit * re))
+            nxt = np.where(done | (kexit < 0), -1, nbs[np.arange(len(idx)), np.maximum(kexit, 0)])
+            fin = done | (nxt < 0)
+            end[idx[fin]] = texit[fin]
+            left[idx[done]] = False
+            # leaving through a vertex onto the border: another face at that vertex may carry the ray
+            # on (along the border of a hole): the grid decides those
+            kk = np.maximum(kexit, 0)
+            rows = np.arange(len(idx))
+            ae, an = tri[rows, 2 * kk], tri[rows, 2 * kk + 1]
+            be, bn = tri[rows, (2 * kk + 2) % 6], tri[rows, (2 * kk + 3) % 6]
+            el = np.hypot(be - ae, bn - an)
+            u = ((oe + texit * re - ae) * (be - ae) + (on + texit * rn - an) * (bn - an)) / el
+            corner = ~done & (nxt < 0) & ((u < 1e3 * EDGE_TOL) | (el - u < 1e3 * EDGE_TOL))
+            bad = (kexit < 0) | corner
+            moved = texit > cur[idx] + EDGE_TOL
+            stall[idx] = np.where(moved, 0, stall[idx] + 1)
+            failed[idx[bad | (stall[idx] > 8)]] = True
+            cur[idx] = texit
+            go = ~fin & ~bad & (stall[idx] <= 8)
+            f[idx[go]] = nxt[go]
+            idx = idx[go]
+        return np.concatenate(rays), np.concatenate(ts), np.concatenate(zs), end, left, failed
+
+    def _sections_grid(self, n0: F64, e0: F64, dn: F64, de: F64, max_dist: F64,
+                       start: F64 | None = None) -> Sections:
+        """:meth:`sections` by the grid: every face near each ray clipped to it (robust, slower)."""
+        n0, e0, dn, de = (np.atleast_1d(np.asarray(v, dtype=np.float64)) for v in (n0, e0, dn, de))
+        t1 = np.broadcast_to(np.asarray(max_dist, dtype=np.float64), n0.shape).copy()
+        t0 = np.zeros_like(t1) if start is None else np.broadcast_to(np.asarray(start, dtype=np.float64),
+                                                                      n0.shape).copy()
         r = len(n0)
         ray, cell = self._ray_cells(n0 + t0 * dn, e0 + t0 * de, dn, de, t1 - t0)
         own, fc = self._candidates(cell)
@@ -425,18 +513,12 @@ class Ground:
             keep = lo <= end[ray] + EDGE_TOL
             ray, fc, lo, hi = ray[keep], fc[keep], lo[keep], np.minimum(hi[keep], end[ray[keep]])
         end = np.where(left, end, t1)
-        # breakpoints: every entry and exit, on its face's plane; one per distance
+        # breakpoints: every entry and exit, on its face's plane
         bray = np.concatenate((ray, ray))
         bt = np.concatenate((lo, hi))
         bf = np.concatenate((fc, fc))
         bz = self._plane_z(bf, n0[bray] + bt * dn[bray], e0[bray] + bt * de[bray])
-        o = np.lexsort((bt, bray))
-        bray, bt, bz = bray[o], bt[o], bz[o]
-        new = np.ones(len(bt), dtype=bool)
-        new[1:] = (bray[1:] != bray[:-1]) | (bt[1:] - bt[:-1] > EDGE_TOL)
-        bray, bt, bz = bray[new], bt[new], bz[new]
-        first = np.searchsorted(bray, np.arange(r + 1))
-        return Sections(first.astype(np.int64), bt, bz, end, left)
+        return _assemble(r, bray, bt, bz, end, left)
 
     def _ray_cells(self, n0: F64, e0: F64, dn: F64, de: F64, length: F64) -> tuple[I64, I64]:
         """(ray, cell) of every grid cell each ray segment passes through (exact traversal).
@@ -475,6 +557,35 @@ class Ground:
         iy = np.floor(y0[pr] + tm * ly[pr])
         ok = (ix >= 0) & (ix < gr.nx) & (iy >= 0) & (iy < gr.ny)
         return pr[ok], (iy * gr.nx + ix)[ok].astype(np.int64)
+
+
+def _assemble(r: int, ray: I64, t: F64, z: F64, end: F64, left: NDArray[np.bool_]) -> Sections:
+    """Sections from breakpoints in any order: sorted by ray and distance, one per distance."""
+    o = np.lexsort((t, ray))
+    ray, t, z = ray[o], t[o], z[o]
+    new = np.ones(len(t), dtype=bool)
+    new[1:] = (ray[1:] != ray[:-1]) | (t[1:] - t[:-1] > EDGE_TOL)
+    ray, t, z = ray[new], t[new], z[new]
+    first = np.searchsorted(ray, np.arange(r + 1))
+    return Sections(first.astype(np.int64), t, z, end, left)
+
+
+def _neighbours(f: I64, npts: int) -> I64:
+    """For each face and edge ``k`` (vertex ``k`` to ``k + 1``) the face sharing that edge, -1 on the border.
+
+    An edge shared by more than two faces (not a proper TIN) pairs its faces in
+    sort order; a walk that goes astray there stalls and falls back to the grid.
+    """
+    a = f.ravel()
+    b = f[:, [1, 2, 0]].ravel()
+    key = np.minimum(a, b) * np.int64(npts) + np.maximum(a, b)
+    o = np.argsort(key, kind="stable")
+    ks = key[o]
+    pair = np.flatnonzero(ks[1:] == ks[:-1])
+    nb = np.full(len(a), -1, dtype=np.int64)
+    nb[o[pair]] = o[pair + 1] // 3
+    nb[o[pair + 1]] = o[pair] // 3
+    return nb.reshape(-1, 3)
 
 
 def _build_grid(n: F64, e: F64, f: I64) -> _Grid:

@@ -185,3 +185,21 @@ def test_facts():
     assert g.extent() == (N0, E0, N0 + 6.0, E0 + 4.0)
     assert g.elevation_range() == (7.0, 11.0)
     assert g.face_count == 12
+
+
+def test_walk_and_grid_sections_agree_through_vertices_and_along_edges():
+    # the walk (face to face) against the grid clipping of every nearby face: the same polylines,
+    # on a regular grid whose rays along rows, columns and diagonals pass through vertices
+    g = grid_tin(21, 21, 1.0, lambda n, e: 3.0 + np.sin(e - E0) + 0.1 * (n - N0), drop=[55, 255, 300])
+    rng = np.random.default_rng(17)
+    m = 300
+    n0 = N0 + np.r_[rng.integers(0, 21, m // 2).astype(float), rng.uniform(0, 20, m // 2)]
+    e0 = E0 + np.r_[rng.integers(0, 21, m // 2).astype(float), rng.uniform(0, 20, m // 2)]
+    ang = np.r_[rng.integers(0, 8, m // 2) * np.pi / 4, rng.uniform(0, 2 * np.pi, m // 2)]
+    dn, de = np.cos(ang), np.sin(ang)
+    length = rng.uniform(1, 30, m)
+    a = g.sections(n0, e0, dn, de, length)
+    b = g._sections_grid(n0, e0, dn, de, length)
+    assert np.allclose(a.end, b.end, atol=1e-9) and np.array_equal(a.left_tin, b.left_tin)
+    assert np.array_equal(a.first, b.first)
+    assert np.allclose(a.dist, b.dist, atol=1e-9) and np.allclose(a.z, b.z, atol=1e-9)
