@@ -71,6 +71,32 @@ class SlopeStaking:
         """``(side, slopes)`` of the sides given, left first."""
         return tuple((s, v) for s, v in (("left", self.left), ("right", self.right)) if v is not None)
 
+    def solve(self, ground: Ground, left: NDArray[np.bool_], n: F64, e: F64, z: F64, dn: F64, de: F64
+              ) -> "SlopeStakes":
+        """:func:`slope_stakes` of hinge stakes on either side, each with its side's slopes.
+
+        Parameters
+        ----------
+        ground : Ground
+            The existing ground.
+        left : array of bool
+            True for a left-side hinge (its side must be given), False for a right one.
+        n, e, z, dn, de : arrays
+            Hinge stakes and outward unit directions, as :func:`slope_stakes` takes them.
+
+        Returns
+        -------
+        SlopeStakes
+            Per hinge, in the order given.
+        """
+        cols = []
+        for name in ("fill_slope", "cut_slope", "foreslope", "ditch_depth", "ditch_width"):
+            vals = [0.0 if sd is None or getattr(sd, name) is None else float(getattr(sd, name))
+                    for sd in (self.left, self.right)]
+            cols.append(np.where(left, vals[0], vals[1]))
+        fs, cs, fore, dd, dw = cols
+        return slope_stakes(ground, n, e, z, dn, de, fs, cs, fore, dd, dw, self.max_width, self.reference_offset)
+
 
 @dataclass(frozen=True)
 class DesignLines:

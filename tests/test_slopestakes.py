@@ -169,3 +169,17 @@ def test_slope_vertices_list_the_ditch_then_the_catch():
     ray, t, z = slope_vertices(res)
     # hinge 47, ditch bottom 46 at 4..6, back slope up 4 at 2:1: catch at 6 + 8 = 14
     assert ray.tolist() == [0, 0, 0] and np.allclose(t, [4.0, 6.0, 14.0]) and np.allclose(z, [46.0, 46.0, 50.0])
+
+
+def test_slope_staking_solves_each_side_with_its_own_slopes():
+    from stakeout.slopestakes import SideSlopes, SlopeStaking
+
+    g = grid_tin(21, 21, 5.0, plane(50.0, 0.0, 0.0))
+    spec = SlopeStaking(SideSlopes("SHL", 4.0, 3.0, 4.0, 1.0, 2.0), SideSlopes("SHR", 2.0, 2.0), 10.0, 300.0)
+    # level ground 2 below (fill) on the left, 1.5 above (cut) on the right
+    res = spec.solve(g, np.array([True, False, True, False]), np.full(4, N0 + 50), np.r_[E0 + 44, E0 + 56, E0 + 44,
+                     E0 + 56], np.array([52.0, 52.0, 48.5, 48.5]), 0.0, np.array([-1.0, 1.0, -1.0, 1.0]))
+    # common practice (level section): fill 2 at 4:1 -> 8, at 2:1 -> 4; cut 1.5: left through the ditch
+    # (4 to the ditch 1 down, 2 level, then 2.5 up at 3:1 -> 7.5: 13.5), right at 2:1 -> 3
+    assert np.allclose(res.catch_dist, [8.0, 4.0, 13.5, 3.0], atol=1e-12)
+    assert np.allclose(res.ref_dist, res.catch_dist + 10.0)
