@@ -35,6 +35,8 @@ __all__ = ["SideSlopes", "SlopeStaking", "SlopeStakes", "DesignLines", "slope_st
            "NOTE_NO_CATCH", "NOTE_OUTSIDE"]
 
 F64 = NDArray[np.float64]
+#: An array, or one number for every ray.
+Num = NDArray[np.float64] | float
 
 NOTE_NO_CATCH = "no catch within max_width"
 NOTE_OUTSIDE = "outside the ground surface"
@@ -163,9 +165,9 @@ def _design_lines(z: F64, cut: NDArray[np.bool_], fill_slope: F64, cut_slope: F6
     return DesignLines(z, r1, t1, t2, s3)
 
 
-def slope_stakes(ground: Ground, n: F64, e: F64, z: F64, dn: F64, de: F64, fill_slope: F64, cut_slope: F64,
-                 foreslope: F64, ditch_depth: F64, ditch_width: F64, max_width: F64,
-                 reference_offset: F64) -> SlopeStakes:
+def slope_stakes(ground: Ground, n: Num, e: Num, z: Num, dn: Num, de: Num, fill_slope: Num, cut_slope: Num,
+                 foreslope: Num, ditch_depth: Num, ditch_width: Num, max_width: Num,
+                 reference_offset: Num) -> SlopeStakes:
     """Catch points and reference stakes of many rays (one per station and side).
 
     Parameters
