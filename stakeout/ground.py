@@ -658,6 +658,9 @@ def read_ground_csv(path: str | Path, key: str = "ground.file") -> Ground:
     except StakedFileError as exc:
         msg, sf = str(exc), f"staked file {str(p)!r}"
         msg = msg[len(sf):] if msg.startswith(sf) else f": {msg}"
+        if "; give the order with --columns" in msg:  # the job file has no --columns: name them instead
+            msg = msg[:msg.index("; give the order with --columns")] + (
+                "; name the columns in the header instead: point,northing,easting,elevation")
         raise JobFileError(head + msg.replace("staked file", "ground file").replace("no shots", "no ground points")
                            .replace("shots", "ground points").replace("staked-points", "ground-points")) from None
     missing = np.flatnonzero(np.isnan(shots.elevation))

@@ -170,6 +170,7 @@ def test_read_ground_csv_with_and_without_header(tmp_path):
     ("1,100,200,5\n2,100,200,6\n3,110,200,5\n", "point '2' \\(line 2\\) lies at the same northing and easting"),
     ("1,100,200,5\n2,100,210,5e6\n3,110,200,5\n", "line 2: elevation '5e6' is out of range"),
     ("", "empty"),
+    ("id,X,Y,Z\n1,100,200,5\n", "line 1: the header names 'X' and 'Y', .* name the columns in the header instead"),
 ])
 def test_read_ground_csv_errors_name_the_key_and_line(tmp_path, text, expect):
     p = tmp_path / "g.csv"
@@ -177,7 +178,7 @@ def test_read_ground_csv_errors_name_the_key_and_line(tmp_path, text, expect):
     with pytest.raises(JobFileError, match=expect) as info:
         read_ground_csv(p)
     assert str(info.value).startswith(f"ground.file = {str(p)!r}")
-    assert "staked" not in str(info.value) and "shots" not in str(info.value)
+    assert "staked" not in str(info.value) and "shots" not in str(info.value) and "--columns" not in str(info.value)
 
 
 def test_facts():
