@@ -285,8 +285,7 @@ class Ground:
 
     def face_at(self, n: F64, e: F64) -> I64:
         """Index of a face holding each point (on its edge included), -1 off the ground."""
-        n = np.atleast_1d(np.asarray(n, dtype=np.float64))
-        e = np.atleast_1d(np.asarray(e, dtype=np.float64))
+        n, e = np.broadcast_arrays(np.asarray(n, dtype=np.float64), np.asarray(e, dtype=np.float64))
         out = np.full(n.shape, -1, dtype=np.int64)
         flat_n, flat_e = n.ravel(), e.ravel()
         fin = np.isfinite(flat_n) & np.isfinite(flat_e)
@@ -298,7 +297,7 @@ class Ground:
         first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
         res = out.ravel()
         res[pt[first]] = fc[first]
-        return res.reshape(n.shape)
+        return res.reshape(n.shape)  # a single point gives a 0-d array
 
     def _inside(self, fc: I64, pn: F64, pe: F64) -> NDArray[np.bool_]:
         """Whether each point lies in (or within EDGE_TOL of) its face."""

@@ -183,3 +183,34 @@ def test_slope_staking_solves_each_side_with_its_own_slopes():
     # (4 to the ditch 1 down, 2 level, then 2.5 up at 3:1 -> 7.5: 13.5), right at 2:1 -> 3
     assert np.allclose(res.catch_dist, [8.0, 4.0, 13.5, 3.0], atol=1e-12)
     assert np.allclose(res.ref_dist, res.catch_dist + 10.0)
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_FOLDED = grid_tin(41, 41, 3.0, _fold)
+
+
+@settings(max_examples=60, deadline=None)
+@given(n=st.floats(20, 100), e=st.floats(20, 100), ang=st.floats(0, 6.283), dz=st.floats(-5, 5),
+       fs=st.floats(1, 5), cs=st.floats(0.5, 4), ditch=st.booleans(), dw=st.floats(0, 3))
+def test_property_catch_lies_on_the_ground_and_on_the_design_line(n, e, ang, dz, fs, cs, ditch, dw):
+    # property: wherever a catch is found on the folded ground, it is on both lines (to 1e-9), and
+    # design minus ground keeps the hinge's sign everywhere before it (checked at the ground's own
+    # breakpoints and the design's corners, where both are straight between)
+    n, e = N0 + n, E0 + e
+    zh = float(_FOLDED.elevation(n, e)) + dz
+    res = slope_stakes(_FOLDED, n, e, zh, np.cos(ang), np.sin(ang), fs, cs, 4.0, 1.0 if ditch else 0.0, dw,
+                       150.0, 5.0)
+    if np.isnan(res.catch_dist[0]):
+        assert res.note[0] in (NOTE_NO_CATCH, NOTE_OUTSIDE)
+        return
+    t = res.catch_dist[0]
+    assert abs(float(_FOLDED.elevation(res.catch_n[0], res.catch_e[0])) - res.catch_z[0]) < 1e-9
+    assert abs(res.lines.at(np.array([t]), np.array([0]))[0] - res.catch_z[0]) < 1e-9
+    sec = _FOLDED.section(n, e, np.cos(ang), np.sin(ang), t)
+    ts = np.unique(np.r_[sec.dist, [x for x in (res.lines.t1[0], res.lines.t2[0]) if 0 < x < t]])[:-1]
+    gz = np.interp(ts, sec.dist, sec.z)
+    diff = res.lines.at(ts, np.zeros(len(ts), dtype=np.int64)) - gz
+    sign = 1.0 if res.kind[0] == "fill" else -1.0
+    assert np.all(diff * sign > -1e-9)
