@@ -6,10 +6,41 @@ from pathlib import Path
 
 OFFSETS = ((-7.5, "L2"), (-3.5, "L1"), (0.0, "CL"), (3.5, "R1"), (7.5, "R2"))
 
+#: Normal crown and full superelevation of the corridor's curves, percent.
+CROWN, FULL = -2.0, 6.0
 
-def corridor_job(path: Path, points: int, elements: int = 200, interval: float = 1.0, setup: bool = True) -> Path:
+
+def _sections(per: float, elements: int) -> tuple[str, str]:
+    """The corridor's cross-section: offset lines (lanes from the superelevation table, shoulders
+    measured from the lanes with a rollover and steepening, the right side widening over a 50 m
+    taper on the first tangent) and a superelevation row at each end of each curve's transitions.
+    """
+    a, b = per * 0.25, per * 0.25 + 50.0
+    offs = ('{offset = -7.5, code = "L2", from = "L1", cross_slope = -4.0, rollover = 8.0, steepen_with_inner = true}, '
+            '{offset = -3.5, code = "L1", cross_slope = "superelevation"}, {offset = 0.0, code = "CL"}, '
+            f'{{code = "R1", cross_slope = "superelevation", offset = [{{station = {a:.6f}, offset = 3.5}}, '
+            f'{{station = {b:.6f}, offset = 7.0}}]}}, '
+            f'{{code = "R2", from = "R1", cross_slope = -4.0, rollover = 8.0, steepen_with_inner = true, '
+            f'offset = [{{station = {a:.6f}, offset = 7.5}}, {{station = {b:.6f}, offset = 11.0}}]}}')
+    run = min(per / 4.0, 60.0)
+    rows = []
+    for i in range(1, elements, 2):  # the arcs
+        right = (i // 2) % 2 == 0
+        out_, in_ = (FULL, -FULL)
+        full = (out_, in_) if right else (in_, out_)  # a right turn lifts the left side
+        s0, s1 = i * per, (i + 1) * per
+        for st, (left, rgt) in ((s0 - run, (CROWN, CROWN)), (s0 + run, full), (s1 - run, full),
+                                (s1 + run, (CROWN, CROWN))):
+            rows.append(f"[[superelevation]]\nstation = {st:.6f}\nleft = {left}\nright = {rgt}\n")
+    return offs, "".join(rows)
+
+
+def corridor_job(path: Path, points: int, elements: int = 200, interval: float = 1.0, setup: bool = True,
+                 sections: bool = True) -> Path:
     """Write a metric corridor of ``elements`` alternating tangents and 800 m arcs,
-    staked every ``interval`` on five offset lines, long enough for ``points`` stakes."""
+    staked every ``interval`` on five offset lines, long enough for ``points`` stakes;
+    with ``sections`` a level centreline at 100.0, a superelevation table and a template
+    with chained lines and a taper (the plain loop computes the same)."""
     length = points / len(OFFSETS) * interval - interval
     per = length / elements
     parts = [f'''format = 1
@@ -29,7 +60,13 @@ azimuth = 60.0
             turn = "right" if (i // 2) % 2 == 0 else "left"
             parts.append(f'[[alignment.element]]\nkind = "arc"\nradius = 800.0\nlength = {per:.6f}\nturn = "{turn}"\n')
     offs = ", ".join(f'{{offset = {o}, code = "{c}"}}' for o, c in OFFSETS)
+    rows = ""
+    if sections:
+        offs, rows = _sections(per, elements)
     parts.append(f"[staking]\ninterval = {interval}\noffsets = [{offs}]\n")
+    if sections:
+        parts.append("elevation = 100.0\n")
+    parts.append(rows)
     if setup:
         parts.append('[setup]\noccupied = { id = "CP1", northing = 5000100.0, easting = 500100.0 }\n'
                      "backsight_azimuth = 10.0\n")

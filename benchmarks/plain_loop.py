@@ -33,6 +33,42 @@ def main(job_path: str, out: str) -> None:
     end = station
     step = job["staking"]["interval"]
     offsets = job["staking"]["offsets"]
+    centre_z = job["staking"].get("elevation")
+    se_rows = [(float(r["station"]), r["left"], r["right"]) for r in job.get("superelevation", [])]
+    by_code = {off["code"]: off for off in offsets}
+
+    def interp(s: float, rows: list[tuple[float, ...]], k: int) -> float:
+        if s <= rows[0][0]:  # per point: scan the rows
+            return rows[0][k]
+        for a, b in zip(rows, rows[1:]):
+            if s <= b[0]:
+                return a[k] + (b[k] - a[k]) * (s - a[0]) / (b[0] - a[0])
+        return rows[-1][k]
+
+    def offset_at(off: dict, s: float) -> float:
+        o = off["offset"]
+        if isinstance(o, list):
+            return interp(s, [(float(r["station"]), r["offset"]) for r in o], 1)
+        return o
+
+    def line_at(off: dict, s: float) -> tuple[float, float | None, float]:
+        """(offset, slope, elevation) of a line at station s, its inner line first."""
+        o = offset_at(off, s)
+        if "from" in off:
+            o_in, s_in, z_in = line_at(by_code[off["from"]], s)
+        else:
+            o_in, s_in, z_in = 0.0, None, centre_z
+        cs = off.get("cross_slope")
+        if o == 0.0 or cs is None:
+            return o, None, z_in + off.get("dz", 0.0)
+        own = interp(s, se_rows, 1 if o < 0 else 2) if cs == "superelevation" else cs
+        if s_in is not None:
+            if off.get("steepen_with_inner") and s_in < own:
+                own = s_in
+            r = off.get("rollover")
+            if r is not None and abs(own - s_in) > r:
+                own = s_in + math.copysign(r, own - s_in)
+        return o, own, z_in + (abs(o) - abs(o_in)) * own / 100.0
     occ = job["setup"]["occupied"]
     bs = job["setup"]["backsight_azimuth"]
 
@@ -45,7 +81,8 @@ def main(job_path: str, out: str) -> None:
         return f"{t // 1000000}+{t % 1000000 // 1000:03d}.{t % 1000:03d}"
 
     pts = ["point,northing,easting,elevation,description"]
-    sts = ["point,station,station_label,offset,northing,easting,elevation,feature,code"]
+    sts = ["point,station,station_label,offset,northing,easting,elevation,feature,code,region,alignment,cross_slope,"
+           "ground_elevation,cut_fill"]
     sos = ["point,station,offset,azimuth_deg,azimuth_dms,angle_right_deg,angle_right_dms,grid_distance,ground_distance"]
     number = 1
     i = 0
@@ -62,12 +99,17 @@ def main(job_path: str, out: str) -> None:
         mid = math.radians(a0) + d / 2
         cn, ce = n0 + chord * math.cos(mid), e0 + chord * math.sin(mid)
         t = math.radians(a0) + d
-        for off in offsets:
-            o = off["offset"]
+        for off in sorted(offsets, key=lambda f: offset_at(f, s)):
+            if centre_z is None:
+                o, slope, z = offset_at(off, s), None, None
+            else:
+                o, slope, z = line_at(off, s)
             pn, pe = cn - o * math.sin(t), ce + o * math.cos(t)
             lab = label(s)
-            pts.append(f"{number},{pn:.4f},{pe:.4f},,{off['code']} {lab} {o:.3f}")
-            sts.append(f"{number},{s:.4f},{lab},{o:.4f},{pn:.4f},{pe:.4f},,,{off['code']}")
+            zt = "" if z is None else f"{z:.4f}"
+            st = "" if slope is None else f"{slope:.4f}"
+            pts.append(f"{number},{pn:.4f},{pe:.4f},{zt},{off['code']} {lab} {o:.3f}")
+            sts.append(f"{number},{s:.4f},{lab},{o:.4f},{pn:.4f},{pe:.4f},{zt},,{off['code']},1,CORR,{st},,")
             azp = math.degrees(math.atan2(pe - occ["easting"], pn - occ["northing"])) % 360
             ar = (azp - bs) % 360
             dist = math.hypot(pn - occ["northing"], pe - occ["easting"])

@@ -47,9 +47,10 @@ from .shots import Shots
 from .staking import StakePoints
 
 __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_points", "PointIndex",
-           "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots"]
+           "nearest_within", "design_index_of_ids", "check_column_order", "Matches", "match_shots",
+           "locate_near", "along_across"]
 
-STATUSES = ("ok", "out", "superseded", "duplicate", "control", "unmatched")
+STATUSES = ("ok", "out", "misnumbered", "superseded", "duplicate", "control", "unmatched")
 
 #: A control point as the check takes it: id, northing, easting (job units),
 #: elevation (job units) or ``None``.
@@ -93,15 +94,31 @@ class CheckResult:
     horizontal_tolerance: float
     vertical_tolerance: float | None
     search_radius: float
+    #: Shot minus design point along and square to the alignment's direction at the design point
+    #: (grid units, positive ahead and right); NaN for shots not matched to a design point.
+    d_along: NDArray[np.float64]
+    d_across: NDArray[np.float64]
+    #: ``d_along``/``d_across`` as ground distances (divided by the combined factor at the stake):
+    #: what the crew moves the stake by.
+    ground_along: NDArray[np.float64]
+    ground_across: NDArray[np.float64]
+    #: Shots on the ground beside a stake (``[check] ground_codes``): checked horizontally only,
+    #: their cut or fill reported for marking, never a restake for their elevation.
+    ground: NDArray[np.bool_] | None = None
+    #: For a ``misnumbered`` shot the design index of the number it was stored under (-1 otherwise).
+    stored_as: NDArray[np.int64] | None = None
 
     def counts(self) -> dict[str, int]:
-        """Number of shots per status."""
-        return {s: self.status.count(s) for s in STATUSES}
+        """Number of shots per status; ``misnumbered`` only where some shot is (the other statuses always)."""
+        counts = {s: self.status.count(s) for s in STATUSES}
+        if not counts["misnumbered"]:
+            del counts["misnumbered"]
+        return counts
 
     def needs_attention(self, k: int) -> bool:
         """Whether shot ``k`` needs a person: out, duplicate, unmatched, or control beyond tolerance."""
         s = self.status[k]
-        return s in ("out", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
+        return s in ("out", "misnumbered", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
 
     @property
     def all_ok(self) -> bool:
@@ -505,9 +522,82 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
                    superseded, dup, related, governor)
 
 
+#: Newton steps of :func:`locate_near` at most (each step on all points at once).
+_NEAR_STEPS = 12
+
+
+def locate_near(alignment: Alignment, northing: NDArray[np.float64], easting: NDArray[np.float64],
+                station: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Internal station and offset of points, each found near a given internal station.
+
+    Unlike :meth:`Alignment.locate` (the nearest element anywhere), the
+    foot of each point's perpendicular is followed from ``station`` along
+    the alignment (Newton steps on the along-component, with the curvature
+    from the change of direction), so a point near a loop's crossing stays
+    on the branch of its design point.  Beyond the ends the end tangent is
+    extended, as :meth:`Alignment.locate` does.
+
+    Parameters
+    ----------
+    alignment : Alignment
+        The alignment.
+    northing, easting : array of float
+        The points, job units (finite).
+    station : array of float
+        Internal station to start from for each point (the design point's).
+
+    Returns
+    -------
+    (station, offset)
+        Internal station and signed offset (negative left), job units.
+    """
+    lo, hi = alignment.start_station, alignment.end_station
+    s = np.clip(np.asarray(station, dtype=np.float64), lo, hi)
+    n = np.asarray(northing, dtype=np.float64)
+    e = np.asarray(easting, dtype=np.float64)
+    h = max(1e-6, 1e-9 * max(abs(lo), abs(hi)))
+    along = across = np.zeros(s.size)
+    for _ in range(_NEAR_STEPS):  # one step on every point at once
+        p = alignment.evaluate(s, miter=False)
+        sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
+        dn, de = n - p.northing, e - p.easting
+        along, across = dn * cs + de * sn, de * cs - dn * sn
+        ahead = np.clip(s + h, lo, hi)
+        behind = np.clip(s - h, lo, hi)
+        turn = (alignment.evaluate(ahead, miter=False).azimuth - alignment.evaluate(behind, miter=False).azimuth
+                + 180.0) % 360.0 - 180.0
+        width = ahead - behind
+        kappa = np.where(width > 0, np.radians(turn) / np.where(width > 0, width, 1.0), 0.0)
+        step = along / np.maximum(1.0 - kappa * across, 0.1)
+        new = np.clip(s + step, lo, hi)
+        moved = np.abs(new - s)
+        s = new
+        if not np.any(moved > 1e-10 * (1.0 + np.abs(s))):
+            break
+    p = alignment.evaluate(s, miter=False)
+    sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
+    dn, de = n - p.northing, e - p.easting
+    along, across = dn * cs + de * sn, de * cs - dn * sn
+    # past an end: along the extended end tangent
+    beyond = ((s <= lo) & (along < 0.0)) | ((s >= hi) & (along > 0.0))
+    return np.where(beyond, s + along, s), across
+
+
+def along_across(azimuth: NDArray[np.float64], d_northing: NDArray[np.float64],
+                 d_easting: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """A residual along and square to a direction (degrees clockwise from grid north):
+    positive ahead and right, in the residual's units.
+    """
+    az = np.radians(azimuth)
+    sn, cs = np.sin(az), np.cos(az)
+    return d_northing * cs + d_easting * sn, d_easting * cs - d_northing * sn
+
+
 def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDArray[np.float64] | None,
                 shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
-                search_radius: float | None = None, control: Sequence[ControlRow] = ()) -> CheckResult:
+                search_radius: float | None = None, control: Sequence[ControlRow] = (),
+                combined_factor: NDArray[np.float64] | float = 1.0,
+                ground_codes: Sequence[str] = ()) -> CheckResult:
     """Match shots to design and control points; residuals and status.
 
     Parameters
@@ -527,6 +617,13 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     control : sequence of (id, northing, easting, elevation)
         The job's control points (job units; elevation None where unknown),
         e.g. :func:`job_control_points`.
+    combined_factor : float or array of float
+        Grid / ground at each design point (one number for all): the
+        moves are ground distances.
+    ground_codes : sequence of str
+        ``[check] ground_codes``: a shot whose description's first word is
+        one of these (any case) is a shot on the ground beside its stake,
+        checked horizontally only.
 
     Returns
     -------
@@ -538,6 +635,8 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     sn, se = shots.northing, shots.easting
     mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
                      control, radius)
+    mt, stored_as = _misnumbered(mt, sn, se, design.northing, design.easting, horizontal_tolerance)
+    ground = ground_shots(shots.description, ground_codes)
     di, ci = mt.design_index, mt.control_index
     to_design, to_control = di >= 0, ci >= 0
     matched = to_design | to_control
@@ -554,22 +653,36 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         tn = np.where(to_control, cn[sc], tn)
         te = np.where(to_control, ce[sc], te)
         tz = np.where(to_control, cz[sc], tz)
+    # a shot of a design point is located near the design point's station (never on another branch of a
+    # loop); a control shot or an unmatched one against the whole alignment
     st, off, _ = alignment.locate(sn, se)
-    dst, doff, _ = alignment.locate(np.where(matched, tn, sn), np.where(matched, te, se))
+    dst, doff, _ = alignment.locate(np.where(to_control, tn, sn), np.where(to_control, te, se))
     nan = np.full(m, np.nan)
     dn, de = sn - tn, se - te
+    d_along, d_across = nan.copy(), nan.copy()
+    ground_along, ground_across = nan.copy(), nan.copy()
+    k = np.flatnonzero(to_design & np.isfinite(sn) & np.isfinite(se))
+    if k.size:
+        ds = design.station[di[k]]
+        st[k], off[k] = locate_near(alignment, sn[k], se[k], ds)
+        dst[k], doff[k] = locate_near(alignment, tn[k], te[k], ds)
+        d_along[k], d_across[k] = along_across(design.azimuth[di[k]], dn[k], de[k])  # its own direction
+        cf = np.broadcast_to(np.asarray(combined_factor, dtype=np.float64), (nd,))[di[k]]
+        ground_along[k], ground_across[k] = d_along[k] / cf, d_across[k] / cf
     hz = np.hypot(dn, de)
     dz = shots.elevation - tz
     with np.errstate(invalid="ignore"):
         h_bad = hz > horizontal_tolerance
-        v_bad = (np.isfinite(dz) & (np.abs(dz) > vertical_tolerance) if vertical_tolerance is not None
-                 else np.zeros(m, dtype=bool))
+        v_bad = (np.isfinite(dz) & (np.abs(dz) > vertical_tolerance) & ~(ground & to_design)
+                 if vertical_tolerance is not None else np.zeros(m, dtype=bool))
     bad = h_bad | v_bad
-    status = np.select([~matched, to_control, mt.superseded, mt.duplicate, bad],
-                       ["unmatched", "control", "superseded", "duplicate", "out"], "ok").tolist()
+    misnumbered = stored_as >= 0
+    status = np.select([~matched, to_control, misnumbered, mt.superseded, mt.duplicate, bad],
+                       ["unmatched", "control", "misnumbered", "superseded", "duplicate", "out"], "ok").tolist()
     word = np.select([h_bad & v_bad, h_bad, v_bad], ["both", "horizontal", "vertical"], "")
     fails = np.where(np.isin(np.array(status), ["out", "control"]), word, "").tolist()
-    how = np.where(~matched, "", np.where(mt.by_number, "number", "nearest")).tolist()
+    how = np.where(~matched, "", np.where(misnumbered, "position",
+                                          np.where(mt.by_number, "number", "nearest"))).tolist()
 
     staked = mt.governor >= 0
     gov_out = np.zeros(nd, dtype=bool)
@@ -582,4 +695,58 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         not_staked=np.flatnonzero(~staked).astype(np.int64),
         restake=np.flatnonzero(~staked | gov_out).astype(np.int64),
         horizontal_tolerance=horizontal_tolerance, vertical_tolerance=vertical_tolerance, search_radius=radius,
+        d_along=d_along, d_across=d_across, ground_along=ground_along, ground_across=ground_across,
+        ground=ground, stored_as=stored_as,
     )
+
+
+def ground_shots(descriptions: Sequence[str], codes: Sequence[str]) -> NDArray[np.bool_]:
+    """Shots whose description's first whitespace-separated word is one of ``codes`` (any case)."""
+    wanted = {c.casefold() for c in codes}
+    if not wanted:
+        return np.zeros(len(descriptions), dtype=bool)
+    return np.array([bool(d.split()) and d.split()[0].casefold() in wanted for d in descriptions], dtype=bool)
+
+
+def _misnumbered(mt: Matches, sn: NDArray[np.float64], se: NDArray[np.float64], design_n: NDArray[np.float64],
+                 design_e: NDArray[np.float64], tolerance: float) -> tuple[Matches, NDArray[np.int64]]:
+    """Shots keyed with the wrong number (outputs contract, "A shot keyed with the wrong number").
+
+    A shot matched by number to a design point it is out of tolerance of,
+    which lies within the tolerance of another design point no other shot
+    matched, is moved to that point (which then counts as staked); the
+    returned array holds, for each such shot, the design index of the number
+    it was stored under (-1 for every other shot).
+    """
+    m = sn.size
+    stored_as = np.full(m, -1, dtype=np.int64)
+    di = mt.design_index
+    cand = np.flatnonzero(mt.by_number & (di >= 0) & (mt.control_index < 0) & ~mt.superseded & ~mt.duplicate
+                          & np.isfinite(sn) & np.isfinite(se))
+    if cand.size:
+        off = np.hypot(sn[cand] - design_n[di[cand]], se[cand] - design_e[di[cand]]) > tolerance
+        cand = cand[off]
+    if not cand.size:
+        return mt, stored_as
+    near, _ = nearest_within(design_n, design_e, sn[cand], se[cand], tolerance)
+    ok = (near >= 0) & (near != di[cand])
+    cand, near = cand[ok], near[ok]
+    ok = mt.governor[near] < 0  # no other shot matched it
+    cand, near = cand[ok], near[ok]
+    # two shots on one free point: the first (file order) takes it
+    _, first = np.unique(near, return_index=True)
+    cand, near = cand[first], near[first]
+    if not cand.size:
+        return mt, stored_as
+    stored_as[cand] = di[cand]
+    new_di = di.copy()
+    new_di[cand] = near
+    governor = mt.governor.copy()
+    governor[near] = cand
+    # the number it was stored under: governed by it no longer (its earlier shots, if any, are what is left)
+    old = di[cand]
+    still = np.isin(np.arange(governor.size), old)
+    governor[still & np.isin(governor, cand)] = -1
+    by_number = mt.by_number.copy()
+    by_number[cand] = False
+    return Matches(new_di, mt.control_index, by_number, mt.superseded, mt.duplicate, mt.related, governor), stored_as

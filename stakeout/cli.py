@@ -13,7 +13,9 @@ new outputs were moved into place says so: they are complete.
 
 from __future__ import annotations
 
+import errno
 import signal
+import sys
 import threading
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -23,6 +25,7 @@ import typer
 
 from .errors import StakeoutError
 from .outputs import only_help
+from .textsafety import escape_text
 
 __all__ = ["app", "main", "Terminated"]
 
@@ -101,6 +104,51 @@ def _main(
 T = TypeVar("T")
 
 
+class _StdoutFailed(Exception):
+    """Standard output cannot be written (a full disk, a closed pipe)."""
+
+    def __init__(self, exc: OSError):
+        super().__init__(exc.strerror or str(exc))
+        self.errno = exc.errno
+
+
+def _say(text: str, err: bool = False, nl: bool = True) -> None:
+    """Print to the console: control characters escaped (nothing printed can
+    drive the terminal or forge a line), what the console's encoding cannot
+    show replaced (``?``).  A failure to write stderr is ignored (nothing
+    more can be said there); one of stdout raises :class:`_StdoutFailed`.
+    """
+    stream = sys.stderr if err else sys.stdout
+    if stream is None:
+        return
+    text = escape_text(text, keep="\n") + ("\n" if nl else "")
+    enc = getattr(stream, "encoding", None) or "utf-8"
+    try:
+        text = text.encode(enc, errors="replace").decode(enc, errors="replace")
+    except LookupError:
+        text = text.encode("ascii", errors="replace").decode("ascii")
+    try:
+        stream.write(text)
+        stream.flush()
+    except (OSError, ValueError) as exc:
+        if err:
+            return
+        raise _StdoutFailed(exc if isinstance(exc, OSError) else OSError(errno.EBADF, str(exc))) from None
+
+
+def _print_result(text: str) -> None:
+    """Print a command's report on stdout; a full disk or closed stdout is exit 2 with a line
+    (a reader that stopped reading, as ``| head``, ends it quietly).
+    """
+    try:
+        _say(text, nl=False)
+    except _StdoutFailed as exc:
+        if exc.errno == errno.EPIPE:
+            raise typer.Exit(0) from None
+        _say(f"stakeout: error: cannot write to standard output ({exc}); nothing more was printed", err=True)
+        raise typer.Exit(2) from None
+
+
 def _guard(debug: bool, fn: Callable[[], T]) -> T:
     from .writers.folder import InterruptedAfterCommit, committed_targets
 
@@ -111,7 +159,7 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
     except StakeoutError as exc:
         if debug:
             raise
-        typer.echo(f"stakeout: error: {exc}", err=True)
+        _say(f"stakeout: error: {exc}", err=True)
         raise typer.Exit(2) from None
     except InterruptedAfterCommit as exc:
         how = "interrupted" if exc.signum == signal.SIGINT else f"terminated ({_signal_name(exc.signum)})"
@@ -119,24 +167,24 @@ def _guard(debug: bool, fn: Callable[[], T]) -> T:
         if exc.remains is not None:
             msg += (f"; the replaced folder was not fully deleted: its remains ({exc.remains.name}) are "
                     "deleted by the next run with the same --out")
-        typer.echo(msg, err=True)
+        _say(msg, err=True)
         raise typer.Exit(128 + exc.signum) from None
     except KeyboardInterrupt as exc:  # Ctrl-C, or Terminated (SIGTERM, SIGHUP)
         signum = int(getattr(exc, "signum", signal.SIGINT))
         how = "interrupted" if signum == signal.SIGINT else f"terminated ({_signal_name(signum)})"
         done = committed_targets()[before:]
         if done:
-            typer.echo(f"stakeout: {how} after the outputs were written; {done[-1]} is complete", err=True)
+            _say(f"stakeout: {how} after the outputs were written; {done[-1]} is complete", err=True)
         else:
-            typer.echo(f"stakeout: {how}; nothing was written", err=True)
+            _say(f"stakeout: {how}; nothing was written", err=True)
         raise typer.Exit(128 + signum) from None
     except typer.Exit:
         raise
     except Exception as exc:  # a bug, not bad input: say so in one line
         if debug:
             raise
-        typer.echo(f"stakeout: internal error ({type(exc).__name__}: {exc}); nothing was written. "
-                   "Please report it with the job file; --debug shows the traceback", err=True)
+        _say(f"stakeout: internal error ({type(exc).__name__}: {exc}); nothing was written. "
+             "Please report it with the job file; --debug shows the traceback", err=True)
         raise typer.Exit(3) from None
 
 
@@ -157,7 +205,7 @@ def build(
     from .pipeline import run_build
 
     for note in _guard(debug, lambda: run_build(job, out, only, force, wide)):
-        typer.echo(note, err=True)
+        _say(note, err=True)
 
 
 @app.command()
@@ -168,7 +216,7 @@ def curve(
     """Print the alignment's elements, key points and curve data."""
     from .pipeline import run_curve_report
 
-    typer.echo(_guard(debug, lambda: run_curve_report(job)), nl=False)
+    _print_result(_guard(debug, lambda: run_curve_report(job)))
 
 
 @app.command()
@@ -189,7 +237,7 @@ def check(
 
     ok, notes = _guard(debug, lambda: run_check(job, staked, out, force, columns, delimiter, wide))
     for note in notes:
-        typer.echo(note, err=True)
+        _say(note, err=True)
     if not ok:
         raise typer.Exit(1)
 
@@ -202,7 +250,7 @@ def inspect(
     """Show what a LandXML design file holds: units, alignments, profiles, points."""
     from .pipeline import run_inspect
 
-    typer.echo(_guard(debug, lambda: run_inspect(design_file)), nl=False)
+    _print_result(_guard(debug, lambda: run_inspect(design_file)))
 
 
 def main() -> None:

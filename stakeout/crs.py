@@ -17,6 +17,7 @@ import numpy as np
 import pyproj
 from numpy.typing import ArrayLike, NDArray
 
+from .textsafety import find_unsafe_char, show_name, show_value
 from .errors import CRSError
 from .units import Unit
 
@@ -63,12 +64,12 @@ class GridCRS:
         self.crs = crs
         self.text = text
         self.unit = unit
-        self.name = crs.name
+        self.name = show_name(crs.name)  # a WKT carries its own name: checked and escaped before any sheet shows it
         self._to_geo = pyproj.Transformer.from_crs(crs, crs.geodetic_crs, always_xy=True)
         self._proj = pyproj.Proj(crs)
         ell = crs.ellipsoid
         if ell is None:
-            raise CRSError(f"{text!r}: the CRS names no ellipsoid")
+            raise CRSError(f"{show_value(text)}: the CRS names no ellipsoid")
         self._a = float(ell.semi_major_metre)
         inv_f = float(ell.inverse_flattening)
         f = 0.0 if inv_f == 0 else 1.0 / inv_f
@@ -80,7 +81,7 @@ class GridCRS:
         authority code when it has one), with the CRS's own name.
         """
         text = self.text.strip()
-        if len(text) > 40 or "\n" in text or text.startswith(("{", "+")) or "[" in text:
+        if len(text) > 40 or find_unsafe_char(text) is not None or text.startswith(("{", "+")) or "[" in text:
             auth = self.crs.to_authority(min_confidence=90)
             text = f"{auth[0]}:{auth[1]}" if auth else "as given"
         return f"{text} ({self.name})"
@@ -129,11 +130,11 @@ class GridCRS:
             lon, lat = self.lonlat(northing, easting)
             f = self._proj.get_factors(float(lon), float(lat), errcheck=True)
         except pyproj.exceptions.ProjError as exc:
-            raise CRSError(f"point N {northing} E {easting}: outside what {self.text} can project ({exc})") from None
+            raise CRSError(f"point N {northing} E {easting}: outside what {self.label} can project ({exc})") from None
         k = 0.5 * (f.meridional_scale + f.parallel_scale)
         gamma = float(f.meridian_convergence)
         if not (math.isfinite(k) and math.isfinite(gamma)):
-            raise CRSError(f"point N {northing} E {easting}: {self.text} gives no scale factor there")
+            raise CRSError(f"point N {northing} E {easting}: {self.label} gives no scale factor there")
         return PointFactors(float(lon), float(lat), float(k), gamma, self.gaussian_radius(float(lat)))
 
 
@@ -165,20 +166,21 @@ def load_crs(text: str, unit: Unit, where: str = "job.crs") -> GridCRS:
     try:
         crs = pyproj.CRS.from_user_input(text)
     except pyproj.exceptions.CRSError:
-        raise CRSError(f"{where} = {text!r}: unknown CRS; give e.g. \"EPSG:2229\" or another code pyproj knows") from None
+        raise CRSError(f"{where} = {show_value(text)}: unknown CRS; give e.g. \"EPSG:2229\" or another code pyproj "
+                       "knows") from None
     if not crs.is_projected:
         kind = "geographic" if crs.is_geographic else ("geocentric" if crs.is_geocentric else "not projected")
         raise CRSError(
-            f"{where} = {text!r}: {crs.name} is {kind}; stakeout needs a projected CRS "
+            f"{where} = {show_value(text)}: {show_name(crs.name)} is {kind}; stakeout needs a projected CRS "
             "(a state plane or UTM zone, say)"
         )
     axes = [a for a in crs.axis_info if a.direction in ("north", "east", "south", "west")]
     if not axes:
-        raise CRSError(f"{where} = {text!r}: has no northing/easting axes")
+        raise CRSError(f"{where} = {show_value(text)}: has no northing/easting axes")
     factor = float(axes[0].unit_conversion_factor)
     if not math.isclose(factor, unit.metres, rel_tol=1e-12):
         raise CRSError(
-            f"{where} = {text!r}: its unit is the {axes[0].unit_name} ({factor:.12g} m) but job.units = "
+            f"{where} = {show_value(text)}: its unit is the {axes[0].unit_name} ({factor:.12g} m) but job.units = "
             f"{unit.key!r} ({unit.label}); the two must agree"
         )
     return GridCRS(crs, text, unit)

@@ -18,15 +18,16 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from typing import TYPE_CHECKING, overload
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment, build_alignment
+from .crosssection import DerivedRow, SectionPlan, derive_rows, plan_sections
 from .errors import GeometryError, JobFileError
-from .job import ControlPoint, Job, Setup, SetupStation
+from .job import ControlPoint, Job, Setup, SetupStation, SuperelevationRow
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
 from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
@@ -39,7 +40,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
 
 __all__ = ["Design", "Factors", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
-           "build_profile_of", "precision_rules_setups"]
+           "build_profile_of", "precision_rules_setups", "build_sections"]
 
 
 @dataclass(frozen=True)
@@ -197,6 +198,8 @@ class Design:
     crs_label: str | None = None
     proj_version: str | None = None
     factors: Factors = Factors()
+    #: The cross-section: superelevation rows, template lines, widening (None: not computed).
+    sections: SectionPlan | None = None
 
     @property
     def unit(self) -> Unit:
@@ -207,6 +210,16 @@ class Design:
     def design_elevation(self) -> np.ndarray | None:
         """Design elevation of every stake, or ``None`` when the job gives none."""
         return self.stakes.elevation
+
+
+def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> SectionPlan:
+    """The job's cross-section: its ``[[superelevation]]`` rows, or the rows of the design
+    file's ``<Superelevation>`` elements (:func:`~stakeout.crosssection.derive_rows`), and its lines.
+    """
+    rows: Sequence[SuperelevationRow | DerivedRow] = job.superelevation
+    if job.superelevation_file is not None:
+        rows = derive_rows(job.superelevation_file, alignment)
+    return plan_sections(job.staking.offsets, rows, stationing)
 
 
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
@@ -431,7 +444,9 @@ def build_design(job: Job) -> Design:
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
     profile = build_profile_of(job, stationing)
-    stakes = plan_stakes(alignment, job.staking, stationing, profile)
+    sections = build_sections(job, alignment, stationing)
+    staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
+    stakes = plan_stakes(alignment, staking, stationing, profile, sections)
     grid = crs_label = proj = None
     unit = job.info.unit
     if job.info.crs is not None:
@@ -461,5 +476,5 @@ def build_design(job: Job) -> Design:
             shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
             factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
-                  crs_label=crs_label,
+                  sections=sections, crs_label=crs_label,
                   proj_version=proj, factors=factors)

@@ -8,13 +8,16 @@ units; angles in decimal degrees; azimuths clockwise from grid north.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import PurePath
 
 from .alignment.specs import AlignmentSpec
 from .precision import InstrumentSpec
 from .stations import StationRef
 from .units import Unit
 
-__all__ = ["Job", "JobInfo", "OffsetLine", "Staking", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
+__all__ = ["Job", "JobInfo", "OffsetLine", "WideningRow", "SuperelevationRow", "SuperelevationFile",
+           "SuperelevationPeriod",
+            "Staking", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
            "ProfilePVI", "ProfileInput", "DesignFile", "InstrumentSpec"]
 
 
@@ -29,13 +32,100 @@ class JobInfo:
 
 
 @dataclass(frozen=True)
+class WideningRow:
+    """One row of a widened offset line: station as given and the offset there (job units)."""
+
+    station: StationRef
+    offset: float
+
+
+@dataclass(frozen=True)
+class SuperelevationRow:
+    """One ``[[superelevation]]`` row: station as given, left and right cross slopes (percent,
+    negative falls away from the centreline); ``where`` is its key (``superelevation[2]``).
+    """
+
+    station: StationRef
+    left: float
+    right: float
+    where: str = ""
+
+
+@dataclass(frozen=True)
+class SuperelevationPeriod:
+    """One design file ``<Superelevation>`` element, as plain numbers.
+
+    Stations are internal stations (job units); ``full_superelevation`` is
+    ``FullSuperelev`` in percent; ``outside_left`` says which side is the
+    outside of the curve in force at ``full_super`` (the side away from its
+    centre: the left on a curve turning right), None to take it from the
+    alignment.  A station the element does not give is None.  ``where``
+    names the element in messages.
+    """
+
+    begin_runout: float | None
+    begin_runoff: float | None
+    full_super: float | None
+    runoff: float | None
+    start_of_runout: float | None
+    end_of_runout: float | None
+    full_superelevation: float | None
+    outside_left: bool | None
+    where: str
+
+
+@dataclass(frozen=True)
+class SuperelevationFile:
+    """``[superelevation] landxml = ...``: the design file's ``<Superelevation>`` elements
+    (``periods``, read by the LandXML reader) with ``normal_crown`` (percent).
+
+    Hook: the reader does not fill ``periods`` yet (the job file refuses the
+    key); :func:`stakeout.crosssection.derive_rows` turns them into rows.
+    """
+
+    landxml: str
+    normal_crown: float
+    periods: tuple[SuperelevationPeriod, ...] = ()
+
+
+@dataclass(frozen=True)
 class OffsetLine:
-    """One offset line: offset (job units, negative left) and its code."""
+    """One offset line: offset (job units, negative left) and its code.
+
+    Template lines (job-file contract, second set): ``from_code`` names the
+    line its elevation is measured from (None: the centreline);
+    ``superelevation`` takes the slope from the ``[[superelevation]]``
+    table on its side; ``steepen_with_inner`` and ``rollover`` (percent)
+    bend the slope toward the inner line's; ``widening`` holds the rows of
+    an offset that changes along the alignment (``offset`` is then the
+    first row's, used only for ordering before the design resolves them).
+    """
 
     offset: float
     code: str
     dz: float | None = None  # elevation difference from the centreline (job units)
     cross_slope: float | None = None  # percent, per unit of distance out from the centreline
+    superelevation: bool = False
+    from_code: str | None = None
+    steepen_with_inner: bool = False
+    rollover: float | None = None
+    widening: tuple[WideningRow, ...] = ()
+    where: str = field(default="", compare=False)
+
+    @property
+    def template(self) -> bool:
+        """True when the line uses any key of the second set (its elevation needs the section model)."""
+        return (self.superelevation or self.from_code is not None or self.steepen_with_inner
+                or self.rollover is not None or bool(self.widening))
+
+    @property
+    def has_slope(self) -> bool:
+        """True when the line has a cross slope (a number or the superelevation table)."""
+        return self.cross_slope is not None or self.superelevation
+
+    def all_offsets(self) -> tuple[float, ...]:
+        """Every offset the line takes: its one offset, or each widening row's."""
+        return tuple(r.offset for r in self.widening) if self.widening else (self.offset,)
 
     def elevation_change(self) -> float:
         """Elevation of this line's stakes relative to the centreline (job units)."""
@@ -166,6 +256,8 @@ class CheckSpec:
     horizontal_tolerance: float | None
     vertical_tolerance: float | None
     search_radius: float | None
+    #: Description codes of shots on the ground beside a stake (checked horizontally only).
+    ground_codes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -227,6 +319,10 @@ class Job:
     control: tuple[ControlPoint, ...] = ()
     #: ``[instrument]``: standard errors for the predicted precision of every stake.
     instrument: InstrumentSpec | None = None
+    #: ``[[superelevation]]`` rows, as given (stations in the job's stationing).
+    superelevation: tuple[SuperelevationRow, ...] = ()
+    #: ``[superelevation] landxml``: rows to come from the design file (hook, not wired yet).
+    superelevation_file: SuperelevationFile | None = None
 
     def control_points(self) -> tuple[ControlPoint, ...]:
         """Every control point the job lists or uses, each id once, in the job's order.
@@ -246,3 +342,12 @@ class Job:
                 seen.add(cp.id)
                 out.append(cp)
         return tuple(out)
+
+    def inputs(self) -> tuple[str, ...]:
+        """Every file the job reads: the job file, then each design file
+        (alignment, profile, control, and any input added later as a
+        :class:`DesignFile`), paths relative to the job file resolved
+        against its folder.  ``--force`` never replaces a folder holding one.
+        """
+        base = PurePath(self.path).parent
+        return (self.path,) + tuple(str(base / f.path) for f in self.design_files)

@@ -89,6 +89,8 @@ __all__ = [
     "check_station_length",
     "check_length",
     "check_height",
+    "MAX_CROSS_SLOPE",
+    "MAX_ROLLOVER",
     "check_first_point",
     "check_point_numbers",
     "read_regular_file",
@@ -108,6 +110,10 @@ MAX_LENGTH = 1e9
 MAX_HEIGHT = 1e5
 #: Largest point number (15 digits).
 MAX_POINT_NUMBER = 10**15 - 1
+#: Largest absolute cross slope, percent (1:1; steeper faces are given with ``dz``).
+MAX_CROSS_SLOPE = 100.0
+#: Largest rollover (algebraic difference of two cross slopes), percent.
+MAX_ROLLOVER = 2 * MAX_CROSS_SLOPE
 
 #: Largest job file, bytes (16 MiB).
 MAX_JOB_FILE_BYTES = 16 * 2**20

@@ -133,6 +133,9 @@ OUTPUTS: tuple[Output, ...] = (
     Output("profile", "profile.csv", "one row per PVI of the profile", "tables:profile_csv", needs_profile=True),
     Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
            "profile_picture:profile_svg", needs_profile=True),
+    Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
+           "against station, key points and SE rows", "sections:superelevation_svg",
+           applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
            needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True),

@@ -8,11 +8,14 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
+
 from .design import Design, build_design, precision_rules_setups
-from .errors import JobFileError
+from .errors import JobFileError, StakedFileError
 from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
+from .textsafety import check_file_name
 
 __all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute", "setup_notes"]
 
@@ -65,6 +68,60 @@ def setup_notes(d: Design) -> list[str]:
     return out
 
 
+def stake_factors(d: Design) -> np.ndarray | float:
+    """Grid / ground at each stake: its setup's combined factor; without a setup the
+    job's ``[scale] combined_factor`` (1.0 when it gives none).
+    """
+    if d.setup is not None:
+        return np.array([o.scale.combined_factor for o in d.setup.occupations])[d.setup.setup_index]
+    cf = d.job.scale.combined_factor
+    return 1.0 if cf is None else float(cf)
+
+
+#: A sight longer than this many times the job's extent (the diagonal of its stakes' box), and than
+#: :data:`ABSURD_SIGHT_M`, is refused: a coordinate with a lost decimal point, not a setup.
+ABSURD_SIGHT_EXTENTS = 10.0
+ABSURD_SIGHT_M = 10_000.0
+
+
+def check_design(d: Design) -> None:
+    """What only the built design shows: an id used both by a stake and by a
+    control or setup point, and a setup whose sights are absurd for the job's extent.
+
+    Raises
+    ------
+    JobFileError
+        Naming both uses of the id, or the setup, its point and the sight.
+    """
+    from .check import design_index_of_ids
+
+    job, sp = d.job, d.stakes
+    points = list(job.control)
+    if job.setup is not None:
+        for st in job.setup.explicit():
+            points += [(cp.__class__(cp.id, cp.northing, cp.easting, cp.elevation, cp.where or f"{st.where}.{role}"))
+                       for role, cp in (("occupied", st.occupied), ("backsight", st.backsight)) if cp is not None]
+    if points and len(sp):
+        hit = design_index_of_ids([cp.id for cp in points], sp.prefix, sp.first_point, len(sp))
+        for k in np.flatnonzero(hit >= 0)[:1].tolist():
+            cp, i = points[k], int(hit[k])
+            raise JobFileError(
+                f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point[i]} at "
+                f"{d.stationing.label(float(sp.station[i]))}, offset {float(sp.offset[i]):.3f}); one id names one "
+                "point in the point file and on the sheets: give the control point another id or set staking.point_prefix")
+    if d.setup is None or not len(sp):
+        return
+    extent = float(np.hypot(np.ptp(sp.northing), np.ptp(sp.easting)))
+    limit = max(ABSURD_SIGHT_EXTENTS * extent, ABSURD_SIGHT_M / d.unit.metres)
+    for o in d.setup.occupations:
+        for what, dist in (("farthest sight", o.farthest_sight), ("backsight", o.backsight_distance or 0.0)):
+            if dist > limit:
+                raise JobFileError(
+                    f"{o.where}: setup {o.number} on {o.occupied.id} (N {o.occupied.northing!r} E "
+                    f"{o.occupied.easting!r}) has a {what} of {dist:,.3f}, absurd for a job whose stakes span "
+                    f"{extent:,.3f} (more than {limit:,.0f}); check the coordinates (a decimal point lost?)")
+
+
 def _has_extra(extra: str | None) -> bool:
     """Whether the optional install an output needs is there."""
     if extra is None:
@@ -112,8 +169,9 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             if not _has_extra(o.extra):
                 raise JobFileError(f"--only {o.name}: matplotlib is not installed, so there is no {o.filename} "
                                    f"(pip install 'stakeout[{o.extra}]')")
-    folder = OutputFolder(out, force, protect=(job_path,))
+    folder = OutputFolder(out, force, protect=job.inputs())
     d = build_design(job)
+    check_design(d)
     for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
         if chosen is not None:
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
@@ -135,6 +193,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    notes[1:1] = folder.litter_notes
     notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:
@@ -146,15 +205,16 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
 def run_curve_report(job_path: str | Path) -> str:
     """``stakeout curve``: the readable curve report of a job's alignment."""
     from .alignment import build_alignment
-    from .design import build_stationing
+    from .design import build_sections, build_stationing
     from .staking import plan_stakes
     from .writers.report import curve_report
 
     job = load_job(job_path)
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
+    sections = build_sections(job, alignment, stationing)
     stakes = plan_stakes(alignment, job.staking, stationing)
-    return curve_report(Design(job, alignment, stationing, stakes))
+    return curve_report(Design(job, alignment, stationing, stakes, sections=sections))
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,
@@ -184,16 +244,18 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
         raise JobFileError("check.horizontal_tolerance: missing; stakeout check needs [check] "
                            "horizontal_tolerance in job units (it never guesses a tolerance)")
     cols = parse_columns(columns)
+    check_file_name(str(staked), "staked file", StakedFileError)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
-    folder = OutputFolder(out, force, protect=(job_path, staked))
+    folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
     d = build_design(job)
+    check_design(d)
     control = job_control_points(job)
     radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
     check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))
     progress = Progress(3, max(len(shots), len(d.stakes)))
     progress.step("design computed")
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, radius, control)
+                         spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes)
     progress.step("shots checked")
 
     with folder:
@@ -207,7 +269,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     notes = [f"checked {len(shots)} shots: " + ", ".join(f"{k} {v}" for k, v in counts.items()) + f"; wrote {out}",
              f"{result.restake.size} design point(s) to set again in restake.csv "
              f"({result.restake.size - result.not_staked.size} out of tolerance, "
-             f"{result.not_staked.size} not staked)"]
+             f"{result.not_staked.size} not staked)"] + folder.litter_notes
     return result.all_ok, notes
 
 

@@ -26,8 +26,11 @@ the chosen setup that reaches it with the smallest r95 (ties by id).
 
 Distances are compared squared (``dN*dN + dE*dE``), so equal distances
 tie exactly wherever the coordinates make the squares exact.  The result
-does not depend on the order in which the control points are listed.  The stakes-by-candidates
-reach matrix is built in blocks of stakes and kept as packed bits.
+does not depend on the order in which the control points are listed.  Only control points within
+``max_distance`` of a stake can serve one, so only they are candidates; they and their
+backsights are found by a grid of cells (each point looks into its cell and the eight
+around it), never by all pairs of control points.  The stakes-by-candidates reach matrix
+is built in blocks of stakes and kept as packed bits.
 """
 
 from __future__ import annotations
@@ -138,31 +141,108 @@ def _sq_dist(
     return dn * dn + de * de
 
 
-def _backsight_sq_dist(
-    n1: NDArray[np.float64], e1: NDArray[np.float64], n2: NDArray[np.float64], e2: NDArray[np.float64], mb2: float
-) -> NDArray[np.float64]:
-    """Squared distances from set 1 to set 2 where set 2 can be a backsight, else -1.
+def _ranges(lo: NDArray[np.int64], cnt: NDArray[np.int64]) -> NDArray[np.int64]:
+    """``lo[i], ..., lo[i] + cnt[i] - 1`` for every ``i``, concatenated."""
+    before = np.cumsum(cnt) - cnt
+    return (np.repeat(lo - before, cnt) + np.arange(int(cnt.sum()))).astype(np.int64)
 
-    A point can be a backsight when it is within ``sqrt(mb2)`` and not on the very
-    same spot (equal coordinates give no direction; compared exactly, not by a
-    squared distance that could underflow to 0).
+
+#: Query points handled at once by :func:`_pairs_within` (bounds memory).
+_QUERIES_AT_ONCE = 1 << 14
+
+
+def _pairs_within(qn: NDArray[np.float64], qe: NDArray[np.float64], pn: NDArray[np.float64],
+                  pe: NDArray[np.float64], radius: float, r2: float,
+                  first_only: bool = False) -> tuple[NDArray[np.int64], NDArray[np.int64], NDArray[np.float64]]:
+    """Every (query, point) pair within ``radius`` (squared distance at most ``r2``, the square
+    as the caller compares it), by a grid of cells of side at least ``radius``: each query
+    looks only into its cell and the eight around it.
+
+    Returns
+    -------
+    (q, p, d2)
+        Query index, point index and squared distance of each pair, grouped by query in
+        query order (``first_only``: one pair per query that has any).
     """
-    dn = n2[None, :] - n1[:, None]
-    de = e2[None, :] - e1[:, None]
-    d2 = dn * dn + de * de
-    return np.where(((dn != 0) | (de != 0)) & (d2 <= mb2), d2, -1.0)
+    empty = (np.zeros(0, dtype=np.int64), np.zeros(0, dtype=np.int64), np.zeros(0))
+    if qn.size == 0 or pn.size == 0:
+        return empty
+    n0, e0 = float(min(pn.min(), qn.min())), float(min(pe.min(), qe.min()))
+    extent = max(float(max(pn.max(), qn.max())) - n0, float(max(pe.max(), qe.max())) - e0, radius)
+    g = max(radius * (1.0 + 1e-9), extent / 2.0**24)  # 2**24 cells a side at most: keys fit in int64
+    px = np.floor((pe - e0) / g).astype(np.int64)
+    py = np.floor((pn - n0) / g).astype(np.int64)
+    rows = int(py.max()) + 3
+    key = (px + 1) * rows + (py + 1)
+    order = np.argsort(key, kind="stable")
+    skey = key[order]
+    qx = np.floor((qe - e0) / g).astype(np.int64)
+    qy = np.floor((qn - n0) / g).astype(np.int64)
+    out_q, out_p, out_d = [], [], []
+    for c in range(0, qn.size, _QUERIES_AT_ONCE):  # chunks bound memory; each is vectorised
+        sl = slice(c, c + _QUERIES_AT_ONCE)
+        parts_q, parts_p = [], []
+        for dx in (-1, 0, 1):
+            for dy in (-1, 0, 1):
+                k = (qx[sl] + dx + 1) * rows + (qy[sl] + dy + 1)
+                lo = np.searchsorted(skey, k, side="left")
+                cnt = np.searchsorted(skey, k, side="right") - lo
+                parts_q.append(np.repeat(np.arange(c, c + k.size, dtype=np.int64), cnt))
+                parts_p.append(order[_ranges(lo, cnt)])
+        q = np.concatenate(parts_q)
+        p = np.concatenate(parts_p)
+        dn, de = pn[p] - qn[q], pe[p] - qe[q]
+        d2 = dn * dn + de * de
+        keep = d2 <= r2
+        q, p, d2 = q[keep], p[keep], d2[keep]
+        o = np.argsort(q, kind="stable")
+        q, p, d2 = q[o], p[o], d2[o]
+        if first_only and q.size:
+            head = np.r_[True, q[1:] != q[:-1]]
+            q, p, d2 = q[head], p[head], d2[head]
+        out_q.append(q)
+        out_p.append(p)
+        out_d.append(d2)
+    return np.concatenate(out_q), np.concatenate(out_p), np.concatenate(out_d)
+
+
+def _shares_a_small_cell(n: NDArray[np.float64], e: NDArray[np.float64], radius: float) -> NDArray[np.bool_]:
+    """Points whose square cell of diagonal just under ``radius`` holds another point at another
+    spot: that point is within ``radius`` of them.  (False everywhere when the extent would
+    need more than 2**24 cells a side.)
+    """
+    out = np.zeros(n.size, dtype=bool)
+    side = radius / math.sqrt(2.0) * (1.0 - 1e-9)
+    if n.size < 2 or not side > 0:
+        return out
+    n0, e0 = float(n.min()), float(e.min())
+    if max(float(n.max()) - n0, float(e.max()) - e0) / side >= 2.0**24:
+        return out
+    ix = np.floor((e - e0) / side).astype(np.int64)
+    iy = np.floor((n - n0) / side).astype(np.int64)
+    key = ix * (int(iy.max()) + 1) + iy
+    o = np.lexsort((e, n, key))
+    k, sn_, se_ = key[o], n[o], e[o]
+    new_spot = np.r_[True, (k[1:] != k[:-1]) | (sn_[1:] != sn_[:-1]) | (se_[1:] != se_[:-1])]
+    starts = np.flatnonzero(np.r_[True, k[1:] != k[:-1]])
+    spots = np.add.reduceat(new_spot.astype(np.int64), starts)
+    size = np.diff(np.r_[starts, k.size])
+    out[o] = np.repeat(spots >= 2, size)
+    return out
 
 
 def _backsights(cn: NDArray[np.float64], ce: NDArray[np.float64], occ: NDArray[np.int64],
                 mb2: float) -> NDArray[np.int64]:
     """Backsight of each occupied point ``occ`` (indices in id order): the farthest other
-    control point within max_backsight; argmax over the id order takes the smallest id of equals.
+    control point within max_backsight, the smallest id of equals; each has one (a candidate).
     """
-    out = np.empty(occ.size, dtype=np.int64)
-    step = _step(cn.size)
-    for lo in range(0, occ.size, step):
-        o = occ[lo:lo + step]
-        out[lo:lo + step] = np.argmax(_backsight_sq_dist(cn[o], ce[o], cn, ce, mb2), axis=1)
+    q, p, d2 = _pairs_within(cn[occ], ce[occ], cn, ce, math.sqrt(mb2), mb2)
+    ok = ((cn[occ][q] != cn[p]) | (ce[occ][q] != ce[p])) & (d2 <= mb2)
+    q, p, d2 = q[ok], p[ok], d2[ok]
+    first = np.lexsort((p, -d2, q))  # per occupied point: farthest first, then the smallest id
+    first = first[np.r_[True, q[first][1:] != q[first][:-1]]] if first.size else first
+    out = np.zeros(occ.size, dtype=np.int64)
+    out[q[first]] = p[first]
     return out
 
 
@@ -242,13 +322,20 @@ def choose_setups(
     cn, ce = cn_in[order], ce_in[order]
     n_ctrl = cn.size
 
-    # 1. candidates: another control point within max_backsight (not on the same spot)
-    has_bs = np.zeros(n_ctrl, dtype=bool)
-    step = _step(n_ctrl)
-    for lo in range(0, n_ctrl, step):
-        d2 = _backsight_sq_dist(cn[lo : lo + step], ce[lo : lo + step], cn, ce, mb2)
-        has_bs[lo : lo + step] = (d2 >= 0).any(axis=1)
+    # 1. candidates: the control points within max_distance of some stake (no other can serve one) that
+    # have another control point within max_backsight (not on the same spot); both found by a grid of
+    # cells, so the cost grows with the points near each one, not with the square of their number
+    near_stake = np.zeros(n_ctrl, dtype=bool)
+    _, p, _ = _pairs_within(sn, se, cn, ce, math.sqrt(md2), md2)  # stakes are few: they do the looking
+    near_stake[p] = True
+    has_bs = _shares_a_small_cell(cn, ce, math.sqrt(mb2)) & near_stake  # dense areas: no pairs needed
+    rel = np.flatnonzero(near_stake & ~has_bs)
+    qi, p, d2 = _pairs_within(cn[rel], ce[rel], cn, ce, math.sqrt(mb2), mb2)
+    ok = ((cn[rel][qi] != cn[p]) | (ce[rel][qi] != ce[p])) & (d2 <= mb2)
+    has_bs[rel[qi[ok]]] = True
     cand = np.flatnonzero(has_bs)  # indices into id order, ascending = id order
+    if cand.size == 0:
+        cand = np.zeros(0, dtype=np.int64)
     by_precision = r95 is not None and tolerance is not None
     # each candidate's backsight (step 4), needed up front when precision decides the reach
     cand_bs = _backsights(cn, ce, cand, mb2) if by_precision else np.zeros(0, dtype=np.int64)

@@ -15,6 +15,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment
+from .crosssection import SectionPlan, section
 from .errors import JobFileError
 from .job import Staking
 from .limits import check_point_numbers
@@ -62,6 +63,10 @@ class StakePoints:
     easting: NDArray[np.float64]
     azimuth: NDArray[np.float64]
     elevation: NDArray[np.float64] | None  # design elevation of each point, None when the job gives none
+    #: Offset of each point where some line is widened (None: ``offsets`` tiled).
+    point_offsets: NDArray[np.float64] | None = None
+    #: Cross slope applied to each point (percent; NaN: none), None without design elevations.
+    slope: NDArray[np.float64] | None = None
 
     def __len__(self) -> int:
         return int(self.northing.size)
@@ -89,6 +94,8 @@ class StakePoints:
     @cached_property
     def offset(self) -> NDArray[np.float64]:
         """Offset of each point (negative left)."""
+        if self.point_offsets is not None:
+            return self.point_offsets
         return np.tile(self.offsets, self.stations.size)
 
     @cached_property
@@ -209,12 +216,12 @@ def check_offsets(alignment: Alignment, staking: Staking) -> None:
         radii = [r for r in (el.radius_start, el.radius_end) if r is not None]
         r_min = min(radii)
         for ol in staking.offsets:
-            inside = ol.offset * el.turn  # positive: on the side of the centre
-            if inside >= r_min:
-                raise JobFileError(
-                    f"{_offset_key(staking, ol.offset)}: lies {abs(ol.offset):g} inside element {i} ({el.kind}, "
-                    f"smallest radius {r_min:.4f}), at or past its centre; no stake can follow the curve there")
-    worst = max((abs(ol.offset) for ol in staking.offsets), default=0.0)
+            for off in ol.all_offsets():  # a widened line: each of its rows' offsets
+                if off * el.turn >= r_min:  # positive: on the side of the centre
+                    raise JobFileError(
+                        f"{_offset_key(staking, ol.offset)}: lies {abs(off):g} inside element {i} ({el.kind}, "
+                        f"smallest radius {r_min:.4f}), at or past its centre; no stake can follow the curve there")
+    worst = max((abs(off) for ol in staking.offsets for off in ol.all_offsets()), default=0.0)
     if worst == 0.0:
         return
     for kp in alignment.key_points:
@@ -233,7 +240,7 @@ def check_offsets(alignment: Alignment, staking: Staking) -> None:
 
 
 def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
-                profile: Profile | None = None) -> StakePoints:
+                profile: Profile | None = None, sections: SectionPlan | None = None) -> StakePoints:
     """Compute every stake point of a job.
 
     Parameters
@@ -248,6 +255,10 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         The vertical alignment: design elevations (plus each offset line's
         ``dz`` or ``cross_slope``), and with ``staking.profile_points``
         (default true) its PVI, PVC, PVT, HP and LP staked too.
+    sections : SectionPlan, optional
+        The cross-section (:mod:`stakeout.crosssection`): superelevation,
+        template lines and widening; its ``SE`` and ``WC`` stations staked
+        as key points.  ``staking.offsets`` must be in its line order.
 
     Raises
     ------
@@ -257,6 +268,9 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
     more = None
     if profile is not None and staking.profile_points is not False:
         more = profile.feature_points()
+    if sections is not None and sections.key_stations.size:
+        more = (sections.key_stations, sections.key_features) if more is None else (
+            np.concatenate([more[0], sections.key_stations]), more[1] + sections.key_features)
     stations, feats = _stations(alignment, staking, stationing, more)
     count = stations.size * len(staking.offsets)
     if count > MAX_POINTS:
@@ -271,13 +285,6 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
             "(shorten the prefix or lower staking.first_point)")
     offs = np.array([ol.offset for ol in staking.offsets], dtype=np.float64)
     check_offsets(alignment, staking)
-    st = np.repeat(stations, offs.size)
-    of = np.tile(offs, stations.size)
-    n, e, az = alignment.evaluate(st, of)
-    # Round once to the point file's decimals: every output (points, setout,
-    # plan, check) then works from exactly the coordinates the crew loads.
-    n = round_to(n, COORDINATE_DECIMALS)
-    e = round_to(e, COORDINATE_DECIMALS)
     centre: NDArray[np.float64] | None = None
     if profile is not None:
         off = ~profile.covers(stations)
@@ -289,8 +296,20 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         centre = profile.elevation(stations)
     elif staking.elevation is not None:
         centre = np.full(stations.size, staking.elevation)
-    elev = None
-    if centre is not None:
+    # the cross-section once: offsets of widened lines, each stake's slope and elevation
+    sec = section(sections, stations, centre) if sections is not None else None
+    st = np.repeat(stations, offs.size)
+    widened = sec is not None and sections is not None and sections.widened
+    of = sec.offset.ravel() if widened and sec is not None else np.tile(offs, stations.size)
+    n, e, az = alignment.evaluate(st, of)
+    # Round once to the point file's decimals: every output (points, setout,
+    # plan, check) then works from exactly the coordinates the crew loads.
+    n = round_to(n, COORDINATE_DECIMALS)
+    e = round_to(e, COORDINATE_DECIMALS)
+    elev = slope = None
+    if sec is not None and sec.elevation is not None:
+        elev, slope = sec.elevation.ravel(), sec.slope.ravel()
+    elif centre is not None:
         drop = np.array([ol.elevation_change() for ol in staking.offsets], dtype=np.float64)
         elev = np.repeat(centre, offs.size) + np.tile(drop, stations.size)
     return StakePoints(
@@ -305,4 +324,6 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         easting=e,
         azimuth=az,
         elevation=elev,
+        point_offsets=of if widened else None,
+        slope=slope,
     )

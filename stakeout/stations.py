@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
+from functools import cached_property
 from typing import NamedTuple
 
 import numpy as np
@@ -141,6 +142,11 @@ class StationRef(NamedTuple):
     where: str
 
 
+#: Relative distance from an equation point within which an internal station is taken to be
+#: on it (the ahead station; the back station for what ends there).
+EQUATION_SNAP = 1e-10
+
+
 @dataclass(frozen=True)
 class Equation:
     """A station equation at internal station ``internal``: the station
@@ -214,20 +220,33 @@ class Stationing:
         """Number of stationing regions."""
         return len(self.equations) + 1
 
-    @property
+    @cached_property
     def _breaks(self) -> NDArray[np.float64]:
         return np.array([eq.internal for eq in self.equations], dtype=np.float64)
 
-    @property
+    @cached_property
+    def _snap(self) -> NDArray[np.float64]:
+        """How near an equation point counts as on it: a few units in the last place of the
+        station (a length summed along the elements, or a staInternal written with fewer
+        digits, lands within this of the equation it is meant to sit on).
+        """
+        return EQUATION_SNAP * np.maximum(1.0, np.abs(self._breaks))
+
+    @cached_property
     def _shifts(self) -> NDArray[np.float64]:
         return np.array([0.0] + [eq.ahead - eq.internal for eq in self.equations], dtype=np.float64)
+
+    @cached_property
+    def _bounds(self) -> NDArray[np.float64]:
+        """Internal stations where each region starts, then the end (regions + 1 values)."""
+        return np.concatenate([[self.start], self._breaks, [self.end]])
 
     def region(self, internal: ArrayLike) -> NDArray[np.int64]:
         """Region (from 1) of each internal station; an equation point is in the region ahead."""
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return np.ones(x.shape, dtype=np.int64)
-        return np.searchsorted(self._breaks, x, side="right").astype(np.int64) + 1
+        return np.searchsorted(self._breaks - self._snap, x, side="right").astype(np.int64) + 1
 
     def station(self, internal: ArrayLike) -> NDArray[np.float64]:
         """The station in force at each internal station (the ahead station at an equation)."""
@@ -243,69 +262,106 @@ class Stationing:
         x = np.asarray(internal, dtype=float)
         if not self.equations:
             return x
-        r = np.searchsorted(self._breaks, x, side="left")
+        r = np.searchsorted(self._breaks + self._snap, x, side="left")
         return x + self._shifts[r]
 
     def region_range(self, region: int) -> tuple[float, float]:
         """Internal stations where ``region`` starts and ends."""
-        bounds = [self.start] + [eq.internal for eq in self.equations] + [self.end]
-        return bounds[region - 1], bounds[region]
+        b = self._bounds
+        return float(b[region - 1]), float(b[region])
 
     def shift(self, region: int) -> float:
         """Station minus internal station in ``region``."""
         return float(self._shifts[region - 1])
+
+    def _region_text(self, r: int) -> str:
+        lo, hi = self.region_range(r)
+        return f"region {r} runs from {self.format_value(lo + self.shift(r))} to {self.format_value(hi + self.shift(r))}"
+
+    def _regions_text(self, near: list[int]) -> str:
+        """What the regions are, for a message: all of them when few, else those in ``near``."""
+        rs = list(range(1, self.regions + 1)) if self.regions <= 6 else sorted(set(near))
+        text = "; ".join(self._region_text(r) for r in rs)
+        return text if self.regions <= 6 else f"{text} (of {self.regions} regions)"
 
     def to_internal(self, ref: StationRef) -> float:
         """The internal station of a station given in the job file.
 
         The station is read in the region where it lies; one that lies in
         two regions (after an equation that steps back) must name its
-        region, or it is an error naming both.  A station in no region
-        (off the alignment) is read in the first region, or in the last if
-        it lies beyond the end, so the caller's range check names it.
+        region, or it is an error naming both.  A station before the first
+        region or beyond the last is read there, so the caller's range
+        check names it; one between regions (inside the gap of an
+        equation that steps ahead) exists nowhere and is an error naming
+        the regions, as is a ``region`` that does not exist.
+
+        Raises
+        ------
+        JobFileError
+            Naming the key, the value and the regions there are.
         """
-        if not self.equations:
-            return ref.value
         if ref.region is not None:
             if not 1 <= ref.region <= self.regions:
-                raise JobFileError(f"{ref.where}: region {ref.region} does not exist; the alignment has regions "
-                                   f"1 to {self.regions}")
-            return ref.value - self.shift(ref.region)
-        hits = []
-        for r in range(1, self.regions + 1):
-            lo, hi = self.region_range(r)
-            x = ref.value - self.shift(r)
-            if lo - 1e-9 <= x <= hi + 1e-9:
-                hits.append((r, x))
+                there = ("the alignment has one region (no station equations)" if self.regions == 1 else
+                         f"the alignment has regions 1 to {self.regions}")
+                raise JobFileError(f"{ref.where} = {{ station = {self.format_value(ref.value)!r}, region = "
+                                   f"{ref.region} }}: region {ref.region} does not exist; {there}")
+            xr = ref.value - self.shift(ref.region)
+            lo, hi = self.region_range(ref.region)
+            # the first and last regions run on past the ends (a profile may); the others end at equations
+            low_ok = ref.region == 1 or lo - 1e-9 <= xr
+            high_ok = ref.region == self.regions or xr <= hi + 1e-9
+            if not (low_ok and high_ok):
+                raise JobFileError(f"{ref.where} = {self.format_value(ref.value)!r}: not in region {ref.region}; "
+                                   f"{self._region_text(ref.region)}")
+            return xr
+        if not self.equations:
+            return ref.value
+        b = self._bounds
+        x: NDArray[np.float64] = ref.value - self._shifts  # the value read in every region at once
+        inside = (b[:-1] - 1e-9 <= x) & (x <= b[1:] + 1e-9)
+        hits = np.flatnonzero(inside)
         # a station equal to an equation's back station and its ahead region's start is one point
-        if len(hits) == 2 and abs(hits[0][1] - hits[1][1]) <= 1e-9:
+        if hits.size == 2 and abs(x[hits[0]] - x[hits[1]]) <= 1e-9:
             hits = hits[1:]
-        if len(hits) > 1:
-            names = " and ".join(str(r) for r, _ in hits)
+        if hits.size > 1:
+            names = " and ".join(str(int(r) + 1) for r in hits[:6]) + (" and more" if hits.size > 6 else "")
             raise JobFileError(
                 f"{ref.where} = {self.format_value(ref.value)!r}: lies in regions {names} (an equation steps "
                 f"back there); write {{ station = ..., region = N }}"
             )
-        if hits:
-            return hits[0][1]
-        last = self.regions if ref.value - self.shift(self.regions) > self.end else 1
-        return ref.value - self.shift(last)
+        if hits.size:
+            return float(x[hits[0]])
+        first_lo = b[0]
+        last_hi = b[-1] + self._shifts[-1]
+        if ref.value < first_lo or ref.value > last_hi:  # off the alignment: the caller's range check names it
+            return float(x[-1] if ref.value > last_hi else x[0])
+        # in a gap: name the regions on either side of it
+        starts = b[:-1] + self._shifts
+        ends = b[1:] + self._shifts
+        below = np.flatnonzero(ends < ref.value)
+        above = np.flatnonzero(starts > ref.value)
+        near = [int(below[np.argmax(ends[below])]) + 1] if below.size else []
+        near += [int(above[np.argmin(starts[above])]) + 1] if above.size else []
+        raise JobFileError(
+            f"{ref.where} = {self.format_value(ref.value)!r}: no such station; it lies in the gap of a station "
+            f"equation, in no region ({self._regions_text(near)})")
 
     def interval_stations(self, interval: float) -> NDArray[np.float64]:
         """Internal stations of every whole multiple of ``interval`` in each region's own stationing."""
-        out = []
-        for r in range(1, self.regions + 1):  # one step per region, vectorised inside
-            lo, hi = self.region_range(r)
-            shift = self.shift(r)
-            k0 = int(np.ceil((lo + shift) / interval - 1e-9))
-            k1 = int(np.floor((hi + shift) / interval + 1e-9))
-            v = np.arange(k0, k1 + 1, dtype=np.float64) * interval
-            if shift:
-                v = v - shift
-            last = r == self.regions
-            keep = (v >= lo - 1e-6) & ((v <= hi + 1e-6) if last else (v < hi - 1e-6))
-            out.append(v[keep])
-        return np.concatenate(out) if out else np.empty(0)
+        b, sh = self._bounds, self._shifts
+        lo, hi = b[:-1], b[1:]
+        k0 = np.ceil((lo + sh) / interval - 1e-9).astype(np.int64)
+        k1 = np.floor((hi + sh) / interval + 1e-9).astype(np.int64)
+        cnt = np.maximum(k1 - k0 + 1, 0)
+        region = np.repeat(np.arange(self.regions), cnt)
+        k = np.repeat(k0 - (np.cumsum(cnt) - cnt), cnt) + np.arange(int(cnt.sum()))
+        v = k.astype(np.float64) * interval
+        if self.equations:
+            v = v - sh[region]
+        last = region == self.regions - 1
+        keep = (v >= lo[region] - 1e-6) & np.where(last, v <= hi[region] + 1e-6, v < hi[region] - 1e-6)
+        return v[keep]
 
     def occurs_twice(self, internal: ArrayLike) -> NDArray[np.bool_]:
         """Whether the station in force at each internal station also lies in another region

@@ -28,7 +28,7 @@ from __future__ import annotations
 import re
 import unicodedata
 
-from .errors import JobFileError
+from .errors import JobFileError, StakeoutError
 
 __all__ = [
     "SAFE_ID",
@@ -39,6 +39,9 @@ __all__ = [
     "find_unsafe_char",
     "describe_char",
     "show_value",
+    "escape_text",
+    "show_name",
+    "check_file_name",
 ]
 
 #: Ids, codes and prefixes: the same characters as ``jobfile.SAFE_TEXT``,
@@ -190,3 +193,71 @@ def check_free_text(value: object, where: str, max_len: int = MAX_FREE_TEXT_CHAR
     if len(value) > max_len:
         raise JobFileError(f"{where} = {show_value(value)}: {len(value)} characters; the limit is {max_len}")
     return value
+
+
+def escape_text(text: str, keep: str = "") -> str:
+    """``text`` with every control, format or separator character (and a lone
+    surrogate: a byte of a file name that is not UTF-8) written as a Python
+    escape (``\\x1b``, ``\\u202e``, ``\\xff``), so that it can neither drive a
+    terminal nor split or reorder a line.
+
+    Parameters
+    ----------
+    text : str
+        Any text.
+    keep : str
+        Characters left as they are (``"\\n"`` for a text of several lines).
+
+    Returns
+    -------
+    str
+        The text, unchanged when it holds no such character.
+    """
+    if find_unsafe_char(text) is None:
+        return text
+    out = []
+    for ch in text:
+        if ch in keep or unicodedata.category(ch) not in _BAD_CATEGORIES:
+            out.append(ch)
+        elif 0xDC80 <= ord(ch) <= 0xDCFF:  # a byte that is not UTF-8, kept by the file system's decoding
+            out.append(f"\\x{ord(ch) - 0xDC00:02x}")
+        else:
+            out.append(repr(ch)[1:-1] if len(repr(ch)) > 3 else f"\\u{ord(ch):04x}")
+    return "".join(out)
+
+
+def show_name(name: str, limit: int = 80) -> str:
+    """A name from a file or the system (a CRS's, a file's) as free text: escaped
+    (:func:`escape_text`) and cut to ``limit`` characters with an ellipsis.
+    """
+    text = escape_text(name)
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+def check_file_name(path: str, what: str, error: type[StakeoutError] = JobFileError) -> None:
+    """Refuse a file whose name (printed on the sheets) holds a control,
+    format or separator character or a byte that is not UTF-8.
+
+    Parameters
+    ----------
+    path : str
+        The file as given on the command line.
+    what : str
+        How the message names it (``job file``, ``staked file``).
+    error : type
+        The exception raised.
+
+    Raises
+    ------
+    StakeoutError
+        (``error``) Naming the file (escaped) and the character.
+    """
+    name = path.replace("\\", "/").rsplit("/", 1)[-1]
+    i = find_unsafe_char(name)
+    if i is None:
+        return
+    ch = name[i]
+    how = (f"byte 0x{ord(ch) - 0xDC00:02X}, which is not UTF-8" if 0xDC80 <= ord(ch) <= 0xDCFF
+           else describe_char(ch))
+    raise error(f"{what} '{show_name(path, 200)}': its name holds {how} at character {i + 1}; the name is "
+                "printed on the sheets, so rename the file (printable UTF-8 text on one line)")

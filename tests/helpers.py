@@ -2,12 +2,24 @@
 
 from __future__ import annotations
 
+import functools
 import math
 from pathlib import Path
 
 
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_jobs"
+#: The LandXML 1.2 schema from landxml.org ("Date Posted: 7/29/2008"), an unchanged copy of the
+#: design notes' reference/LandXML-1.2.xsd kept in the repository (tests/data/README.md).
+LANDXML_SCHEMA = ROOT / "tests" / "data" / "LandXML-1.2.xsd"
+
+
+@functools.cache
+def landxml_schema():
+    """The LandXML 1.2 schema as an lxml ``XMLSchema`` (read once)."""
+    from lxml import etree
+
+    return etree.XMLSchema(etree.parse(str(LANDXML_SCHEMA)))
 
 
 def write_job(tmp_path: Path, text: str, name: str = "job.toml") -> Path:

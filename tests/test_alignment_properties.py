@@ -6,7 +6,7 @@ import math
 import numpy as np
 import pytest
 import shapely
-from hypothesis import assume, HealthCheck, given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 from shapely.geometry import LineString
 
@@ -28,9 +28,6 @@ from stakeout.staking import plan_stakes
 from stakeout.stations import Stationing
 
 from .helpers import arc_end_by_rotation
-
-settings.register_profile("stakeout", deadline=None, suppress_health_check=[HealthCheck.too_slow])
-settings.load_profile("stakeout")
 
 
 @st.composite
@@ -164,7 +161,7 @@ def test_chain_elements_close_by_rotation(spec):
        st.floats(5, 200))
 def test_key_points_on_every_offset_line(spec, offsets, interval):
     a = build_alignment(spec)
-    # an offset at or past a curve's centre is refused (test_field_readiness holds that); stay inside it
+    # an offset at or past a curve's centre is refused (test_crew_safeguards holds that); stay inside it
     r_min = min([el.radius_start for el in a.elements if el.radius_start] + [1e9])
     assume(max(abs(o) for o in offsets) < 0.9 * r_min)
     staking = Staking(interval, tuple(sorted((OffsetLine(o, f"C{i}") for i, o in enumerate(offsets)),
@@ -255,6 +252,7 @@ def test_single_pi_curve_properties(back, defl, turn, radii, data):
     assert {a.elements[i].turn for i in c.elements} == {turn}
 
 
+@pytest.mark.slow
 def test_grid_inverse_with_spirals_matches_shapely():
     # Reference: shapely's distance to the centreline densified every 0.05 (the chord error of that
     # spacing on these radii is below 1e-6). The inverse on an alignment of tangents, clothoids and

@@ -28,6 +28,8 @@ from stakeout.cli import app
 
 from .helpers import SAMPLES, build_job, read_rows
 
+pytestmark = pytest.mark.slow  # a headless browser prints each page: several seconds
+
 BROWSERS = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable")
 SIZES = {"letter": ("", (612, 792)), "a4": ("@page { size: A4; } @page picture { size: A4 landscape; }", (595, 842))}
 

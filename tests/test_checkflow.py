@@ -72,7 +72,7 @@ def _restake_ids(out: Path) -> list[str]:
     return [r["point"] for r in csv.DictReader(open(out / "restake.csv"))]
 
 
-# ---- 8. re-stakes ------------------------------------------------------------------------------------------
+# ---- re-stakes ---------------------------------------------------------------------------------------------
 def test_restake_later_shot_governs_earlier_is_superseded_not_a_failure(tmp_path):
     # Stake 1002, check it (0.20 out), reset it and shoot again: the later shot governs.
     d = _design()
@@ -132,7 +132,7 @@ def test_two_renumbered_shots_on_one_point_the_first_governs(tmp_path):
     assert got[1]["governing_line"] == "1"
 
 
-# ---- 9. control check shots ------------------------------------------------------------------------------------
+# ---- control check shots ---------------------------------------------------------------------------------------
 def test_control_check_shot_by_id_within_tolerance_is_not_unmatched(tmp_path):
     # CF101 is the occupied point of the loop ramp (1840350.0, 6485420.0, elevation 312.40).
     r, got, out = _check(tmp_path, [_shot("CF101", 1840350.006, 6485419.992), _shot("1000", *_xy(_design(), "1000"))])
@@ -195,7 +195,7 @@ def test_more_control_points_can_be_fed_in():
     assert m.by_number.tolist() == [True, True, True, False]
 
 
-# ---- 10. swapped columns, X and Y -----------------------------------------------------------------------------
+# ---- swapped columns, X and Y ---------------------------------------------------------------------------------
 def _sample_rows():
     return [r.split(",") for r in (SAMPLES / "staked" / "loop_ramp_shots.csv").read_text().splitlines()]
 
@@ -258,7 +258,7 @@ def test_xy_header_with_columns_given_is_skipped(tmp_path):
     assert len(got) == 1 and got[0]["status"] == "ok"
 
 
-# ---- 11. what to do -----------------------------------------------------------------------------------------------
+# ---- what to do ---------------------------------------------------------------------------------------------------
 def _displaced(d, pid: str, along: float, across: float) -> tuple[float, float]:
     """The design point moved ``along`` up-station and ``across`` to the right, by its azimuth
     (common practice: up-station unit vector (cos az, sin az) in (N, E), right normal (-sin az, cos az))."""
@@ -338,7 +338,7 @@ def test_check_txt_fits_the_page_with_long_ids_grade_and_wild_residuals(tmp_path
     assert "    control out (horizontal): control point HL-CP4 is off" in text
 
 
-# ---- 12. the re-stake list ----------------------------------------------------------------------------------
+# ---- the re-stake list --------------------------------------------------------------------------------------
 def test_restake_csv_holds_out_superseded_by_out_and_not_staked_in_point_order(tmp_path):
     # Reference: points.csv of a build of the same job -- restake.csv rows are its rows.
     d = _design()
@@ -384,7 +384,7 @@ def test_restake_csv_with_design_elevations_and_prefix(tmp_path):
     assert (out / "restake.csv").read_text().splitlines()[1:] == expected
 
 
-# ---- the nearest-point index (issue 17 item 15) -------------------------------------------------------------------
+# ---- the nearest-point index --------------------------------------------------------------------------------------
 def _brute(pn, pe, qn, qe, radius):
     """Reference: every pair (numpy argmin: the lowest index among equal distances)."""
     idx = np.full(qn.size, -1)
@@ -508,6 +508,7 @@ def _reference_match(ids, sn, se, design_ids, dn, de, control, radius):
     return di, ci, status
 
 
+@pytest.mark.slow
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.data(), nd=st.integers(1, 25), nc=st.integers(0, 3), ns=st.integers(0, 30),
        radius=st.sampled_from([0.5, 3.0, 40.0]))

@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
+from scipy import integrate, special
 
 from stakeout.alignment.clothoid import (
     SpiralFigures,
@@ -22,16 +23,14 @@ from stakeout.alignment.clothoid import (
 from stakeout.errors import GeometryError
 
 from .helpers import arc_end_by_rotation
+from .reference import nhdot_spiral_curve as nh
+from .reference import scipy_fresnel as fresnel
 
 SLOW = settings(deadline=None, max_examples=100)
 
 
-def dms(d: float, m: float, s: float) -> float:
-    return d + m / 60.0 + s / 3600.0
-
-
 def series_xy(s, radius: float, ls: float, terms: int = 14):
-    """Tangent spiral by the route-surveying series (shared references), with
+    """Tangent spiral by the route-surveying series (references.md), with
     the general term X = l sum (-1)^n t^2n / ((4n+1)(2n)!),
     Y = l sum (-1)^n t^(2n+1) / ((4n+3)(2n+1)!), t = l^2 / (2 R Ls) the
     heading at arc length l (integrating the Taylor series of cos and sin).
@@ -51,38 +50,39 @@ def test_nh_dot_spiral_curve_data():
     # theta_s = 19-05-54.9, Delta_c = 39-35-54.9, Ts = 346.15, Es = 92.58,
     # Lc = 207.34, LT = 134.12, ST = 67.38, p = 5.53, k = 99.63,
     # Xc = 197.79, Yc = 22.05; [computed] TS 20+50.05, SC 22+50.05,
-    # CS 24+57.39, ST 26+57.39.  Each figure to half its last printed digit.
-    big_i = dms(77, 47, 44.8)
-    f = spiral_figures(200.0, None, 300.0)
-    assert f.theta_deg == pytest.approx(dms(19, 5, 54.9), abs=0.05 / 3600)
-    assert big_i - 2 * f.theta_deg == pytest.approx(dms(39, 35, 54.9), abs=0.05 / 3600)
-    assert f.x == pytest.approx(197.79, abs=0.005)
-    assert f.y == pytest.approx(22.05, abs=0.005)
-    assert f.p == pytest.approx(5.53, abs=0.005)
-    assert f.k == pytest.approx(99.63, abs=0.005)
-    assert f.long_tangent == pytest.approx(134.12, abs=0.005)
-    assert f.short_tangent == pytest.approx(67.38, abs=0.005)
-    t = spiral_curve_tangents(300.0, big_i, 200.0, 200.0)
-    assert t.t_back == pytest.approx(346.15, abs=0.005)
-    assert t.t_ahead == pytest.approx(346.15, abs=0.005)
-    assert t.external == pytest.approx(92.58, abs=0.005)
-    lc = 300.0 * math.radians(big_i - 2 * f.theta_deg)
-    assert lc == pytest.approx(207.34, abs=0.005)
-    ts = 2396.20 - t.t_back
-    assert ts == pytest.approx(2050.05, abs=0.005)
-    assert ts + 200.0 == pytest.approx(2250.05, abs=0.005)
-    assert ts + 200.0 + lc == pytest.approx(2457.39, abs=0.01)  # two rounded figures summed
-    assert ts + 200.0 + lc + 200.0 == pytest.approx(2657.39, abs=0.01)
+    # CS 24+57.39, ST 26+57.39.  Each figure to half its last printed digit
+    # (tests/reference/nhdot_spiral_curve.py).
+    big_i, radius, ls = nh.DELTA.value, nh.RADIUS.value, nh.SPIRAL_LENGTH.value
+    f = spiral_figures(ls, None, radius)
+    assert f.theta_deg == nh.THETA_S.approx()
+    assert big_i - 2 * f.theta_deg == nh.DELTA_C.approx()
+    assert f.x == nh.XC.approx()
+    assert f.y == nh.YC.approx()
+    assert f.p == nh.P.approx()
+    assert f.k == nh.K.approx()
+    assert f.long_tangent == nh.LT.approx()
+    assert f.short_tangent == nh.ST.approx()
+    t = spiral_curve_tangents(radius, big_i, ls, ls)
+    assert t.t_back == nh.TS.approx()
+    assert t.t_ahead == nh.TS.approx()
+    assert t.external == nh.ES.approx()
+    lc = radius * math.radians(big_i - 2 * f.theta_deg)
+    assert lc == nh.LC.approx()
+    ts = nh.PI_STATION.value - t.t_back
+    assert ts == nh.TS_STATION.approx()
+    assert ts + ls == nh.SC_STATION.approx()
+    assert ts + ls + lc == nh.CS_STATION.approx()  # two rounded figures summed
+    assert ts + ls + lc + ls == nh.ST_STATION.approx()
 
 
 def test_exit_spiral_figures_are_measured_from_its_tangent_end():
     # outputs contract, spirals.csv: x, y from the tangent end along and square
     # to that tangent; an exit spiral read backwards is the entry spiral
     # (NH DOT example values: Xc 197.79, Yc 22.05 on both spirals) [published]
-    entry = spiral_figures(200.0, None, 300.0)
-    exit_ = spiral_figures(200.0, 300.0, None)
+    entry = spiral_figures(nh.SPIRAL_LENGTH.value, None, nh.RADIUS.value)
+    exit_ = spiral_figures(nh.SPIRAL_LENGTH.value, nh.RADIUS.value, None)
     assert exit_ == entry
-    assert exit_.x == pytest.approx(197.79, abs=0.005) and exit_.y == pytest.approx(22.05, abs=0.005)
+    assert exit_.x == nh.XC.approx() and exit_.y == nh.YC.approx()
 
 
 def test_spiral_between_arcs_has_no_tangent_figures():
@@ -97,12 +97,12 @@ def test_spiral_between_arcs_has_no_tangent_figures():
 
 
 def test_scipy_fresnel_test_value():
-    # scipy's own tests (shared references): fresnel(0.5) = (S 0.064732432859999287,
+    # scipy's own tests (tests/reference/scipy_fresnel.py): fresnel(0.5) = (S 0.064732432859999287,
     # C 0.49234422587144644).  With pi R L = 1 the spiral is x = C(s), y = S(s).
     r = 1.0 / math.pi
-    x, y, tau = clothoid_xy(0.5, 0.0, 1.0 / r, 1.0)
-    assert float(x) == pytest.approx(0.49234422587144644, abs=1e-13)
-    assert float(y) == pytest.approx(0.064732432859999287, abs=1e-13)
+    x, y, tau = clothoid_xy(fresnel.ARGUMENT.value, 0.0, 1.0 / r, 1.0)
+    assert float(x) == pytest.approx(fresnel.C.value, abs=1e-13)
+    assert float(y) == pytest.approx(fresnel.S.value, abs=1e-13)
     assert float(tau) == pytest.approx(math.pi * 0.25 / 2, rel=1e-15)  # pi s^2 / 2
 
 
@@ -120,7 +120,6 @@ def test_tangent_spiral_against_scipy_fresnel(length, theta, frac, turn):
     # scipy.special.fresnel: S(z) = int_0^z sin(pi t^2 / 2) dt, C likewise; a
     # tangent spiral with heading s^2 / (2 R L) is x = a C(s/a), y = a S(s/a),
     # a = sqrt(pi R L).  Agreement to 1e-9 of the length.
-    special = pytest.importorskip("scipy.special")
     radius = length / (2.0 * theta)
     s = frac * length
     a = math.sqrt(math.pi * radius * length)
@@ -132,7 +131,6 @@ def test_tangent_spiral_against_scipy_fresnel(length, theta, frac, turn):
 
 
 def _quad_xy(s: float, k0: float, k1: float, length: float) -> tuple[float, float]:
-    integrate = pytest.importorskip("scipy.integrate")
 
     def tau(u: float) -> float:
         return k0 * u + (k1 - k0) * u * u / (2.0 * length)
@@ -187,7 +185,7 @@ def test_full_turn_and_more_against_scipy_quad():
 
 @given(st.floats(1.0, 1000.0), st.floats(1e-6, 0.5), st.floats(0.0, 1.0))
 def test_small_theta_series(length, theta, frac):
-    # route-surveying series (shared references): X = L(1 - t^2/10 + t^4/216 -
+    # route-surveying series (references.md): X = L(1 - t^2/10 + t^4/216 -
     # t^6/9360 ...), Y = L(t/3 - t^3/42 + t^5/1320 ...), to 1e-9 of the length
     radius = length / (2 * theta)
     s = frac * length
@@ -438,7 +436,7 @@ def _curve_by_series(radius: float, big_i_deg: float, ls1: float, ls2: float, sa
     st.one_of(st.just(0.0), st.floats(0.01, 1.0)), st.one_of(st.just(0.0), st.floats(0.01, 1.0)),
 )
 def test_unequal_spiral_tangents_against_a_construction(radius, big_i, f1, f2):
-    # the published relations T1, T2 (shared references) against a curve built
+    # the published relations T1, T2 (references.md) against a curve built
     # here (series spirals, arc by rotation) whose end tangents are intersected;
     # the external against the nearest of dense samples of that curve
     big_i_rad = math.radians(big_i)

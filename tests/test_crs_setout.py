@@ -17,6 +17,8 @@ from stakeout.setout import compute_setout, elevation_factor
 from stakeout.units import UNITS
 from stakeout.writers.sheets import deflection_rows
 
+from .reference import design_notes, mahun_surveying as mahun, navedtra_simple_curve as navedtra
+
 M, FT, USFT = UNITS["m"], UNITS["ft"], UNITS["us_ft"]
 
 
@@ -27,13 +29,13 @@ def _grid_point(crs_text, lon, lat):
 
 
 def test_utm_convergence_reference():
-    # [computed, pyproj] (shared references): EPSG:32633 at 16E 45N, gamma = +0.707143 deg,
-    # so geodetic north has grid azimuth 359.292857 deg.
+    # [computed, pyproj] (references.md, tests/reference/design_notes.py): EPSG:32633 at 16E 45N,
+    # gamma = +0.707143 deg, so geodetic north has grid azimuth 359.292857 deg.
     g = load_crs("EPSG:32633", M)
-    n, e = _grid_point("EPSG:32633", 16.0, 45.0)
+    n, e = _grid_point("EPSG:32633", *design_notes.UTM_POINT.value)
     f = g.factors(n, e)
-    assert f.convergence == pytest.approx(0.707143, abs=5e-7)
-    assert (0.0 - f.convergence) % 360 == pytest.approx(359.292857, abs=5e-7)
+    assert f.convergence == design_notes.UTM_CONVERGENCE.approx()
+    assert (0.0 - f.convergence) % 360 == design_notes.UTM_GRID_AZIMUTH_OF_NORTH.approx()
 
 
 @pytest.mark.parametrize("crs, unit, lon, lat", [("EPSG:32633", M, 16.0, 45.0), ("EPSG:2229", USFT, -118.3, 34.1),
@@ -52,14 +54,16 @@ def test_convergence_by_geodesic_construction(crs, unit, lon, lat):
 
 
 def test_lambert_convergence_identity():
-    # A Lambert conformal zone has gamma = n (lambda - lambda0) exactly (shared references).
+    # A Lambert conformal zone has gamma = n (lambda - lambda0) exactly (references.md).
     # [computed] EPSG:32154 at longitude 89-43-53.76413 W: gamma = +0-11-03.904;
     # [published, Mahun] +0-11-03.9.
     g = load_crs("EPSG:32154", M)
-    lon = -(89 + 43 / 60 + 53.76413 / 3600)
+    lon = mahun.LAMBERT_LONGITUDE.value
     for lat in (42.5, 43.0, 44.0):
         n, e = _grid_point("EPSG:32154", lon, lat)
-        assert g.factors(n, e).convergence * 3600 == pytest.approx(11 * 60 + 3.904, abs=0.001)
+        gamma = g.factors(n, e).convergence
+        assert gamma == design_notes.LAMBERT_CONVERGENCE.approx()  # [computed]
+        assert gamma == mahun.LAMBERT_CONVERGENCE.approx()  # [published, Mahun]
 
 
 def test_scale_factor_against_geographiclib():
@@ -80,10 +84,11 @@ def test_combined_factor_mahun_example():
     # J. Mahun, Open Access Surveying Library, "Reduction Example: SPC / UTM":
     # [published] H = 358.6 m, N = -33.902 m, k = 1.00021177 -> CF = 1.00016082;
     # [computed] with R = 6,372,200 m: 1.00016081.  NGS 5: h = H + N, EF = R/(R+h), CF = k EF.
-    h = 358.6 + (-33.902)
-    cf = 1.00021177 * elevation_factor(h, 6_372_200.0)
-    assert cf == pytest.approx(1.00016081, abs=5e-9)
-    assert cf == pytest.approx(1.00016082, abs=2e-8)
+    h = mahun.ORTHOMETRIC_HEIGHT.value + mahun.GEOID_HEIGHT.value
+    cf = mahun.SCALE_FACTOR.value * elevation_factor(h, mahun.EARTH_RADIUS.value)
+    assert cf == mahun.COMBINED_FACTOR_R.approx()  # [computed]
+    # [published]: the source's own R is not stated; a unit of its last digit either way
+    assert cf == mahun.COMBINED_FACTOR.approx(2e-8)
 
 
 def test_gaussian_radius():
@@ -112,11 +117,14 @@ def test_crs_checks():
 
 
 def test_setout_worked_example():
-    # [computed] shared references: occupy N 5000 E 5000, backsight N 5300 E 5000,
-    # target N 5100 E 5173.205 -> angle right 60-00-00, distance 200.000.
-    so = compute_setout(5000.0, 5000.0, 0.0, np.array([5100.0]), np.array([5173.205]), 1.0)
-    assert so.angle_right[0] == pytest.approx(60.0, abs=1 / 3600)
-    assert so.grid_distance[0] == pytest.approx(200.000, abs=0.0005)
+    # [computed] references.md "Setout" (tests/reference/design_notes.py): occupy N 5000 E 5000,
+    # backsight N 5300 E 5000 (due north: azimuth 0), target N 5100 E 5173.205 -> angle right
+    # 60-00-00, distance 200.000.
+    (on, oe), (tn, te) = design_notes.OCCUPIED.value, design_notes.TARGET.value
+    assert design_notes.BACKSIGHT.value[1] == oe  # the backsight azimuth 0.0 below
+    so = compute_setout(on, oe, 0.0, np.array([tn]), np.array([te]), 1.0)
+    assert so.angle_right[0] == design_notes.ANGLE_RIGHT.approx()
+    assert so.grid_distance[0] == design_notes.DISTANCE.approx()
 
 
 def test_zenith_and_slope():
@@ -143,18 +151,13 @@ def test_setout_properties(on, oe, bs, cf, pts):
 def test_navedtra_deflections():
     # NAVEDTRA 14070 "Solving a Simple Curve": PC 18+07.80, D = 15 deg, 50-ft stations,
     # deflection per full 50-ft station 3-45, at the PT = I/2. [computed] 18+50 -> 3-09-54,
-    # 19+00 -> 6-54-54, 23+00 -> 36-54-54, PT -> 37-30.
-    r = 18000.0 / (math.pi * 15.0)
-    a = build_alignment(ChainSpec("N", 1807.80, 0.0, 0.0, 0.0, (ArcSpec(r, 1, delta=75.0),)))
-    stations = np.concatenate([[1807.80], np.arange(1850.0, 2307.0, 50.0), [2307.80]])
+    # 19+00 -> 6-54-54, 23+00 -> 36-54-54, PT -> 37-30 (tests/reference/navedtra_simple_curve.py).
+    r = 18000.0 / (math.pi * navedtra.DEGREE_OF_CURVE.value)
+    pc, pt, step = navedtra.PC_STATION.value, navedtra.PT_STATION.value, navedtra.STATION_INTERVAL.value
+    a = build_alignment(ChainSpec("N", pc, 0.0, 0.0, 0.0, (ArcSpec(r, 1, delta=navedtra.DELTA.value),)))
+    stations = np.concatenate([[pc], np.arange(1850.0, pt - 0.8, step), [pt]])
     (_, _, rows), = deflection_rows(a, stations)
     got = {round(s, 2): d for s, _, d, _, _ in rows}
-
-    def dms(d, m, s=0.0):
-        return d + m / 60 + s / 3600
-
-    assert got[1850.0] == pytest.approx(dms(3, 9, 54), abs=0.5 / 3600)
-    assert got[1900.0] == pytest.approx(dms(6, 54, 54), abs=0.5 / 3600)
-    assert got[2300.0] == pytest.approx(dms(36, 54, 54), abs=0.5 / 3600)
-    assert got[2307.8] == pytest.approx(37.5, abs=0.5 / 3600)
-    assert got[1950.0] - got[1900.0] == pytest.approx(3.75, abs=1e-9)
+    for station, deflection in navedtra.DEFLECTIONS.value.items():
+        assert got[station] == pytest.approx(deflection, abs=navedtra.DEFLECTIONS.tol), station
+    assert got[1950.0] - got[1900.0] == pytest.approx(navedtra.DEFLECTION_PER_STATION.value, abs=1e-9)

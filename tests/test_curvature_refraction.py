@@ -17,6 +17,7 @@ from stakeout.jobfile import load_job
 from stakeout.design import build_design
 
 from .helpers import build_job, write_job
+from .reference import recalled_figures as recalled
 
 JOB = """
 format = 1
@@ -54,7 +55,10 @@ def test_curvature_and_refraction_lower_the_sight_by_the_textbook_amount(tmp_pat
     d = float(far["ground_distance"])
     dz = 120.0 + 2.0 - (100.0 + 1.5)
     h = (1 - 0.14) * d * d / (2 * 6_371_000.0)
-    assert h == pytest.approx(0.0675, abs=1e-4)  # the textbook figure at 1 km
+    # the textbook figure at 1 km (from memory; tests/reference/recalled_figures.py)
+    k, r = recalled.REFRACTION_COEFFICIENT.value, recalled.EARTH_RADIUS.value
+    assert (1 - k) * 1000.0**2 / (2 * r) == recalled.CURVATURE_REFRACTION_1KM.approx()
+    assert d == pytest.approx(1000.0, abs=0.5) and h == recalled.CURVATURE_REFRACTION_1KM.approx()
     zen = math.degrees(math.atan2(d, dz - h))
     assert float(far["zenith_deg"]) == pytest.approx(zen, abs=2e-6)
     assert float(far["slope_distance"]) == pytest.approx(math.hypot(d, dz - h), abs=1e-4)

@@ -16,6 +16,7 @@ from stakeout.design import build_design as compute
 from stakeout.writers.dxf import dxf_angle, plan_dxf
 
 from .helpers import SAMPLES, arc_end_by_rotation
+from .reference import dxf_insunits
 
 runner = CliRunner()
 
@@ -29,10 +30,15 @@ def _read(data: bytes):
     return doc
 
 
-@pytest.mark.parametrize("sample, insunits", [("loop_ramp_usft.toml", 21), ("site_road_metric.toml", 6),
-                                              ("pi_list_local_ft.toml", 2), ("curve_table_ramp.toml", 21)])
-def test_readback(sample, insunits, tmp_path):
-    # ezdxf reading back (shared references: $INSUNITS 2 feet, 6 metres, 21 US survey feet)
+@pytest.mark.parametrize("sample, units", [("loop_ramp_usft.toml", "us_ft"), ("site_road_metric.toml", "m"),
+                                           ("pi_list_local_ft.toml", "ft"), ("curve_table_ramp.toml", "us_ft")])
+def test_readback(sample, units, tmp_path):
+    # ezdxf reading back; DXF reference: $INSUNITS 2 feet, 6 metres, 21 US survey feet
+    # (tests/reference/dxf_insunits.py)
+    insunits = dxf_insunits.BY_UNIT[units].value
+    assert load_job(SAMPLES / sample).info.unit.key == units
+    # ezdxf's own table of unit names agrees (a reference library)
+    assert ezdxf.units.unit_name(insunits) == {"ft": "Feet", "m": "Meters", "us_ft": "USSurveyFeet"}[units]
     out = tmp_path / "o"
     assert runner.invoke(app, ["build", str(SAMPLES / sample), "--out", str(out), "--only", "dxf"]).exit_code == 0
     doc = ezdxf.readfile(out / "plan.dxf")
@@ -132,8 +138,9 @@ def test_offset_arcs_concentric():
     assert radii == want
 
 
+@pytest.mark.slow
 def test_png_preview(tmp_path):
-    pytest.importorskip("matplotlib")
+    # matplotlib is in the [test] extra: without it the build fails and so does this test
     out = tmp_path / "o"
     assert runner.invoke(app, ["build", str(SAMPLES / "site_road_metric.toml"), "--out", str(out),
                                "--only", "preview"]).exit_code == 0

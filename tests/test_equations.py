@@ -195,3 +195,42 @@ def test_stations_that_occur_twice_after_a_backward_equation_looked_identical(tm
     assert "1+102.000(1)" in points[by_label["1+102.000(1)"]]
     assert "1+102.000(2)" in points[by_label["1+102.000(2)"]]
     assert len(set(r["station_label"] for r in cl)) == len(cl)  # no two laths share a label
+
+
+def test_element_starting_at_an_equation_printed_its_back_station(tmp_path):
+    """Regression: an element starting at an equation point started at the back station in
+    elements.csv (a public exchange file's element 10: 876.2721 instead of 5350) when the
+    lengths summed along the elements put its start a few units in the last place short
+    of the equation (here 100.3 + 100.6 = 200.89999999999998).  The contract: an element
+    starting at an equation starts at the ahead station; one ending there ends at the back."""
+    job = write_job(tmp_path, """format = 1
+[job]
+name = "snap"
+units = "m"
+[alignment]
+name = "S"
+start = { station = "0+000", northing = 5000.0, easting = 2000.0 }
+azimuth = 30.0
+[[alignment.element]]
+kind = "line"
+length = 100.3
+[[alignment.element]]
+kind = "arc"
+radius = 300.0
+length = 100.6
+turn = "right"
+[[alignment.element]]
+kind = "line"
+length = 50.0
+[[alignment.station_equation]]
+back = "0+200.900"
+ahead = "1+000.000"
+[staking]
+interval = 25.0
+""")
+    out = build_job(job, tmp_path / "out")
+    el = read_rows(out / "elements.csv")
+    assert el[1]["end_station"] == "200.9000"  # the arc ends at the back station
+    assert el[2]["start_station"] == "1000.0000"  # the line starts at the ahead station
+    eq = [r for r in read_rows(out / "stations.csv") if "EQ" in r["feature"].split()]
+    assert [(r["station_label"], r["region"]) for r in eq] == [("1+000.000", "2")]

@@ -1,4 +1,9 @@
-"""The job-file reader against the contract (shared/design/job-file.md)."""
+"""The job-file reader against the contract (design notes, design/job-file.md).
+
+The contract's example job is kept in the repository as
+tests/data/contract/job-file-example.toml (an unchanged copy of the first
+TOML block of job-file.md; tests/data/README.md).
+"""
 
 import re
 from pathlib import Path
@@ -10,16 +15,14 @@ from stakeout.errors import JobFileError
 from stakeout.jobfile import load_job, parse_job
 
 ROOT = Path(__file__).resolve().parent.parent
+CONTRACT_EXAMPLE = ROOT / "tests" / "data" / "contract" / "job-file-example.toml"
+#: the design notes, when they are checked out beside the repository
+CONTRACT = ROOT.parent / "shared" / "design" / "job-file.md"
 
 
-def _contract_block() -> str:
-    text = (ROOT.parent / "shared" / "design" / "job-file.md").read_text(encoding="utf-8")
-    return re.search(r"```toml\n(.*?)```", text, re.S).group(1)
-
-
-@pytest.mark.skipif(not (ROOT.parent / "shared" / "design" / "job-file.md").exists(), reason="no shared/")
 def test_contract_example_reads():
-    job = parse_job(_contract_block().encode())
+    # job-file contract: its example job reads, with the values it gives
+    job = parse_job(CONTRACT_EXAMPLE.read_bytes())
     assert isinstance(job.alignment, ChainSpec)
     assert job.info.unit.key == "us_ft" and job.info.crs == "EPSG:2229"
     assert job.staking.first_point == 1000
@@ -28,6 +31,14 @@ def test_contract_example_reads():
     a = build_alignment(job.alignment)
     assert a.start_station == 1000.0
     assert a.end_station == pytest.approx(1000 + 250 + 600 * 35 * 3.141592653589793 / 180)
+
+
+@pytest.mark.skipif(not CONTRACT.is_file(), reason="the design notes (../shared) are not beside this checkout: "
+                    "nothing to compare tests/data/contract/job-file-example.toml with")
+def test_contract_example_copy_is_the_contract():
+    # the copy kept in the repository is still the contract's first TOML block
+    block = re.search(r"```toml\n(.*?)```", CONTRACT.read_text(encoding="utf-8"), re.S).group(1)
+    assert CONTRACT_EXAMPLE.read_text(encoding="utf-8") == block
 
 
 BASE = """

@@ -1,4 +1,4 @@
-"""LandXML 1.2 reader and writer (stakeout/landxml.py).
+"""LandXML 1.2 reader and writer (the stakeout/landxml package).
 
 Sources of the expected values, named beside each check:
 - "independent geometry": tests/landxml_data.py, which made the invented
@@ -6,7 +6,7 @@ Sources of the expected values, named beside each check:
   clothoids, a 2x2 solve for each spiral's PI.  The reader measures the same
   elements from the points by other means (azimuths of chords and radii,
   Gauss-Legendre quadrature of the clothoid).
-- "schema": ../shared/reference/LandXML-1.2.xsd, applied by lxml's
+- "schema": tests/data/LandXML-1.2.xsd (landxml.org), applied by lxml's
   XMLSchema (an independent XML implementation); its <Units> documentation
   for the direction convention.
 - lxml as an independent reader of what the writer wrote.
@@ -15,7 +15,6 @@ Sources of the expected values, named beside each check:
 from __future__ import annotations
 
 import dataclasses
-import functools
 import hashlib
 import datetime as dt
 import math
@@ -34,39 +33,13 @@ from stakeout import landxml as lx
 from stakeout.errors import GeometryError, JobFileError
 
 from . import landxml_data as data
+from .helpers import landxml_schema
 
 DATA = data.DATA
 ROOT = Path(__file__).resolve().parent.parent
-# the schema lives in shared/ beside the checkout (../shared/reference); a worktree elsewhere
-# falls back to the workplace's copy
-XSD = next(
-    (
-        p
-        for p in (
-            ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-            Path("/work/shared/reference/LandXML-1.2.xsd"),
-        )
-        if p.is_file()
-    ),
-    ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-)
-
-
-@functools.cache
-def _load_schema():
-    if not XSD.is_file():
-        return None
-    from lxml import etree
-
-    return etree.XMLSchema(etree.parse(str(XSD)))
-
-
 @pytest.fixture(scope="module")
 def schema():
-    loaded = _load_schema()
-    if loaded is None:
-        pytest.skip(f"LandXML schema not found at {XSD} (../shared/reference): schema validation skipped")
-    return loaded
+    return landxml_schema()  # tests/data/LandXML-1.2.xsd
 
 
 def read(name: str) -> lx.XDesign:
@@ -287,7 +260,7 @@ def test_describe_summarises_a_file():
     assert "CgPoints: 4" in text
     assert "not used: nothing" in text
     # the station at the end runs on from the equation's ahead value
-    assert f"to {lx._fmt(1000.0 + (-120.0 + total - 450.0))} (internal -120 to" in text
+    assert f"to {lx.records.fmt(1000.0 + (-120.0 + total - 450.0))} (internal -120 to" in text
     multi = lx.describe(read("site_ft_multi.xml"))
     assert multi.count("  alignment '") == 3 and "international feet" in multi
     broken = lx.describe(read("broken_gap.xml"))
@@ -481,7 +454,7 @@ def test_equations_that_contradict_the_stationing():
     with pytest.raises(GeometryError, match=r"StaEquation 1 .*staBack = 1410 but the stationing reaches 1400"):
         lx.validate_geometry(bad)
     late = dataclasses.replace(a, equations=(lx.XEquation(99999.0, 0.0),))
-    with pytest.raises(GeometryError, match=r"StaEquation 1 .*outside the alignment"):
+    with pytest.raises(GeometryError, match=r"StaEquation 1 .*not inside the alignment"):
         lx.validate_geometry(late)
     unordered = dataclasses.replace(a, equations=(lx.XEquation(2200.0, 5.0), lx.XEquation(1400.0, 1.0)))
     with pytest.raises(GeometryError, match=r"StaEquation 2 .*not after"):
@@ -526,15 +499,15 @@ def test_oversized_and_non_regular_files_are_refused_unread(tmp_path):
     big = tmp_path / "big.xml"
     with open(big, "wb") as fh:  # sparse: no disk is used
         fh.truncate(lx.MAX_FILE_BYTES + 1)
-    with pytest.raises(JobFileError, match=rf"over the limit of {lx.MAX_FILE_BYTES} bytes"):
+    with pytest.raises(JobFileError, match="the limit is 256 MiB"):
         lx.read_landxml(big)
-    with pytest.raises(JobFileError, match="not a regular file"):
+    with pytest.raises(JobFileError, match="is a folder, not a file"):
         lx.read_landxml(tmp_path)
     fifo = tmp_path / "pipe.xml"
     os.mkfifo(fifo)
     with pytest.raises(JobFileError, match="not a regular file"):
         lx.read_landxml(fifo)  # would block if it were opened
-    with pytest.raises(JobFileError, match="cannot read"):
+    with pytest.raises(JobFileError, match="missing.xml': not found"):
         lx.read_landxml(tmp_path / "missing.xml")
 
 
@@ -821,10 +794,9 @@ def test_random_alignments_round_trip(case, units):
     segs = data.build(*start, plan)
     elements = [to_x(s, i) for i, s in enumerate(segs, 1)]
     xml = lx.write_landxml(units, "R", sta, elements, [], None, [], "stakeout", "")
-    if _load_schema() is not None:  # schema (lxml); skipped with the schema tests when it is missing
-        from lxml import etree
+    from lxml import etree
 
-        assert _load_schema().validate(etree.fromstring(xml))
+    assert landxml_schema().validate(etree.fromstring(xml))  # schema (lxml)
     a = lx.pick_alignment(lx.parse_landxml(xml), "R")
     # exact round trip of the points; the measured geometry matches the independent design
     assert [dataclasses.replace(e, **{f: None for f in _attrs(e)}) for e in a.elements] == elements
@@ -833,3 +805,39 @@ def test_random_alignments_round_trip(case, units):
 
 def _attrs(el) -> list[str]:
     return [f.name for f in dataclasses.fields(el) if f.name.endswith("_attr")]
+
+
+def test_unknown_element_kind_is_refused_not_written_as_a_line():
+    # an element record the package does not know fails loudly in the per-kind table, in the writer
+    # and in the export of a design
+    from dataclasses import dataclass
+
+    from stakeout.errors import GeometryError
+
+    @dataclass(frozen=True)
+    class XBloss(lx.XLine):
+        pass
+
+    with pytest.raises(GeometryError, match="XBloss"):
+        lx.kind_of(XBloss(1, "", 0.0, 0.0, 10.0, 0.0))
+    with pytest.raises(GeometryError, match="XBloss"):
+        lx.write_landxml("m", "A", 0.0, [XBloss(1, "", 0.0, 0.0, 10.0, 0.0)], [], None, [], "t", "")
+
+
+def test_export_refuses_an_element_kind_it_does_not_know(monkeypatch):
+    from dataclasses import dataclass
+
+    from stakeout.alignment import Line
+    from stakeout.errors import OutputError
+    from stakeout.writers import exchange
+
+    @dataclass(frozen=True)
+    class Bloss(Line):
+        pass
+
+    class FakeDesign:
+        class alignment:  # noqa: N801 - a stand-in for Design.alignment
+            elements = (Bloss.follow(0.0, 0.0, 0.0, 0.0, 10.0),)
+
+    with pytest.raises(OutputError, match="alignment.xml: element 1 .*'Bloss'"):
+        exchange._elements(FakeDesign())  # type: ignore[arg-type]

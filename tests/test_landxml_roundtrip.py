@@ -1,6 +1,6 @@
 """Round trip of the staked design through LandXML: job -> alignment.xml -> job -> the same stakes.
 
-Sources: the LandXML 1.2 schema (``../shared/reference/LandXML-1.2.xsd``,
+Sources: the LandXML 1.2 schema (``tests/data/LandXML-1.2.xsd``,
 landxml.org) through lxml's ``XMLSchema`` validates every export; lxml as an
 independent reader of the CgPoints; the project's own reader for the round trip.
 """
@@ -16,28 +16,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from .helpers import ROOT, SAMPLES, build_job, read_rows, write_job
 
-SCHEMA_PLACES = (ROOT.parent / "shared" / "reference" / "LandXML-1.2.xsd",
-                 Path("/work/shared/reference/LandXML-1.2.xsd"))
+from .helpers import SAMPLES, build_job, landxml_schema, read_rows, write_job
+
 NS = "{http://www.landxml.org/schema/LandXML-1.2}"
 
 
-def _schema():
-    lxml = pytest.importorskip("lxml.etree")
-    for p in SCHEMA_PLACES:
-        if p.is_file():
-            return lxml.XMLSchema(lxml.parse(str(p)))
-    pytest.skip("the LandXML 1.2 schema (shared/reference/LandXML-1.2.xsd) is not beside the project")
-
-
-def _has_kinks(rows_elements) -> bool:
-    """An angle point or a curvature jump at a spiral: the export keeps them, but a design file with a
-    kink is refused by the reader (job-file contract), so such a job cannot come back."""
-    for a, b in zip(rows_elements, rows_elements[1:]):
-        if abs((float(b["start_azimuth_deg"]) - float(a["end_azimuth_deg"]) + 180.0) % 360.0 - 180.0) > 1e-6:
-            return True
-    return False
 
 
 def _swap_geometry(text: str, xml: Path, job_dir: Path, has_profile: bool) -> str:
@@ -58,7 +42,7 @@ def _swap_geometry(text: str, xml: Path, job_dir: Path, has_profile: bool) -> st
 
 @pytest.mark.parametrize("sample", sorted(p.name for p in SAMPLES.glob("*.toml")))
 def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
-    schema = _schema()
+    schema = landxml_schema()
     from lxml import etree
 
     job = SAMPLES / sample
@@ -71,9 +55,6 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         ne = pts[r["point"]]
         assert ne[0] == pytest.approx(float(r["northing"]), abs=5e-5)
         assert ne[1] == pytest.approx(float(r["easting"]), abs=5e-5)
-    elements = read_rows(out / "elements.csv")
-    if _has_kinks(elements):
-        pytest.skip(f"{sample}: an angle point cannot come back through a design file (kinks are refused)")
     text = job.read_text(encoding="utf-8")
     again = write_job(tmp_path, _swap_geometry(text, out / "alignment.xml", job.parent, "[profile]" in text),
                       "again.toml")
@@ -88,12 +69,14 @@ def test_every_sample_exports_valid_landxml_and_reads_back(tmp_path, sample):
         assert a["elevation"] == b["elevation"]
 
 
-@settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@pytest.mark.slow
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(st.lists(st.tuples(st.floats(150.0, 600.0), st.floats(-1.0, 1.0).filter(lambda v: abs(v) > 0.5),
-                          st.sampled_from([0.0, 30.0, 60.0])), min_size=1, max_size=3),
+                          st.sampled_from([None, 0.0, 30.0, 60.0])), min_size=1, max_size=3),
        st.sampled_from(["m", "ft", "us_ft"]))
 def test_random_alignments_round_trip(tmp_path_factory, curves, units):
-    # property: a random PI list with (spiralled) curves comes back through its own export with the same stakes
+    # property: a random PI list with (spiralled) curves and angle points (None: a PI with no curve) comes
+    # back through its own export with the same stakes
     tmp = tmp_path_factory.mktemp("rt")
     n = e = 0.0
     az = 0.0
@@ -102,7 +85,8 @@ def test_random_alignments_round_trip(tmp_path_factory, curves, units):
         n += 1500.0 * math.cos(math.radians(az))
         e += 1500.0 * math.sin(math.radians(az))
         spir = f"\nspirals = [{ls}, {ls}]" if ls else ""
-        pis.append(f"[[alignment.pi]]\nnorthing = {n:.4f}\neasting = {e:.4f}\nradius = {r}{spir}")
+        curve = "" if ls is None else f"\nradius = {r}{spir}"
+        pis.append(f"[[alignment.pi]]\nnorthing = {n:.4f}\neasting = {e:.4f}{curve}")
         az += 60.0 * turn
     n += 1500.0 * math.cos(math.radians(az))
     e += 1500.0 * math.sin(math.radians(az))
@@ -120,3 +104,65 @@ def test_random_alignments_round_trip(tmp_path_factory, curves, units):
                   for a, b in zip(first, second)])
     assert d.max() <= 1e-4
     assert [r["feature"] for r in first] == [r["feature"] for r in second]
+
+
+def _stations_by_label(path: Path) -> dict[tuple[str, str], tuple[float, float]]:
+    return {(r["station_label"], r["offset"]): (float(r["northing"]), float(r["easting"])) for r in read_rows(path)}
+
+
+def _export_and_read_back(tmp_path: Path, alignment: str) -> tuple[Path, Path]:
+    schema = landxml_schema()
+    from lxml import etree
+
+    head = 'format = 1\n[job]\nname = "Turns"\nunits = "m"\n'
+    staking = '[staking]\ninterval = 20.0\noffsets = [{ offset = -3.0, code = "L" }, { offset = 0.0, code = "CL" }]\n'
+    job = write_job(tmp_path, head + alignment + staking)
+    out = build_job(job, tmp_path / "a")
+    doc = etree.parse(str(out / "alignment.xml"))
+    assert schema.validate(doc), schema.error_log.last_error
+    again = write_job(tmp_path, head + f'[alignment]\nlandxml = "{out / "alignment.xml"}"\n' + staking, "again.toml")
+    back = build_job(again, tmp_path / "b")
+    first, second = _stations_by_label(out / "stations.csv"), _stations_by_label(back / "stations.csv")
+    assert first.keys() == second.keys()
+    for key, (n, e) in first.items():
+        assert math.hypot(n - second[key][0], e - second[key][1]) <= 1e-4, key
+    return out, back
+
+
+def _form_a(name: str, *elements: str) -> str:
+    """A form A alignment from (0, 1000, 2000) due north: a 100 line, then ``elements`` (TOML bodies)."""
+    head = (f'[alignment]\nname = "{name}"\nstart = {{ station = 0.0, northing = 1000.0, easting = 2000.0 }}\n'
+            'azimuth = 0.0\n')
+    return head + "".join(f"[[alignment.element]]\n{e}\n" for e in ('kind = "line"\nlength = 100.0', *elements))
+
+
+def test_arc_of_359_9999_degrees_is_exported_and_read_back(tmp_path):
+    # a valid design the export used to refuse ("Curve C2: Start and End coincide"): the arc is written as
+    # pieces of one circle (the schema's <Curve> cannot say more than a half turn by its points alone)
+    alignment = _form_a("LOOP", 'kind = "arc"\nradius = 60.0\ndelta = 359.9999\nturn = "right"',
+                        'kind = "line"\nlength = 100.0')
+    out, back = _export_and_read_back(tmp_path, alignment)
+    assert "Curve C2.1" not in (back / "elements.csv").read_text()  # the pieces are one arc again
+    assert len(read_rows(back / "elements.csv")) == 3
+
+
+def test_spiral_turning_215_degrees_is_exported_and_read_back(tmp_path):
+    # theta = L / 2R = 450.3 / 120 rad = 215 degrees: no PI of its end tangents can describe it in one <Spiral>
+    alignment = _form_a("SPIN", 'kind = "spiral"\nlength = 450.3\nradius_end = 60.0\nturn = "left"',
+                        'kind = "arc"\nradius = 60.0\nlength = 30.0\nturn = "left"')
+    out, back = _export_and_read_back(tmp_path, alignment)
+    assert len(read_rows(back / "elements.csv")) == 3
+
+
+def test_angle_point_of_a_pi_list_reads_back_from_its_own_export(tmp_path):
+    # the reader used to refuse the kink its own writer wrote; the export now marks the Line that starts at
+    # an angle point (<Feature code="AP">), and an unmarked kink is still refused (test_landxml: broken_kink)
+    job = SAMPLES / "pi_list_local_ft.toml"
+    out = build_job(job, tmp_path / "a")
+    assert 'code="AP"' in (out / "alignment.xml").read_text(encoding="utf-8")
+    text = job.read_text(encoding="utf-8")
+    again = write_job(tmp_path, _swap_geometry(text, out / "alignment.xml", job.parent, "[profile]" in text),
+                      "again.toml")
+    back = build_job(again, tmp_path / "b")
+    assert [r["feature"] for r in read_rows(out / "stations.csv")] == [
+        r["feature"] for r in read_rows(back / "stations.csv")]

@@ -4,6 +4,8 @@ typer only in the CLI, and the alignment free of all three."""
 import ast
 from pathlib import Path
 
+import pytest
+
 PKG = Path(__file__).resolve().parent.parent / "stakeout"
 
 
@@ -17,6 +19,7 @@ def _imports(path: Path) -> set[str]:
     return out
 
 
+@pytest.mark.slow
 def test_heavy_libraries_stay_in_their_modules():
     owners = {"pyproj": {"crs.py"}, "ezdxf": {"dxf.py"}, "typer": {"cli.py"}, "matplotlib": {"dxf.py"}}
     for path in PKG.rglob("*.py"):
@@ -107,10 +110,34 @@ def test_ruff_clean():
     import sys
 
     ruff = shutil.which("ruff", path=str(Path(sys.executable).parent)) or shutil.which("ruff")
-    if ruff is None:
-        import pytest
-
-        pytest.skip("ruff is not installed (pip install -e '.[test]' brings it)")
+    assert ruff is not None, "ruff is not installed (pip install -e '.[test]' brings it)"
     r = subprocess.run([ruff, "check", "stakeout", "tests", "benchmarks"], cwd=PKG.parent, capture_output=True,
                        text=True)
     assert r.returncode == 0, r.stdout + r.stderr
+
+
+def test_xml_only_in_the_landxml_package():
+    # the LandXML package (stakeout/landxml/) is the only place that parses or writes XML
+    for path in PKG.rglob("*.py"):
+        rel = path.relative_to(PKG).as_posix()
+        names = set()
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.Import):
+                names |= {a.name for a in node.names}
+            elif isinstance(node, ast.ImportFrom) and node.level == 0 and node.module:
+                names.add(node.module)
+        xml = {n for n in names if n.split(".")[0] in ("xml", "defusedxml", "lxml")}
+        assert not xml or rel.startswith("landxml/"), f"{rel} imports {sorted(xml)}"
+
+
+def test_every_element_class_has_an_export_entry():
+    # writers/exchange.py writes each kind by a table keyed by class; a kind missing there must not
+    # become a LandXML <Line>
+    import inspect
+
+    from stakeout.alignment import elements
+    from stakeout.writers.exchange import EXPORT
+
+    classes = {c for _, c in inspect.getmembers(elements, inspect.isclass)
+               if issubclass(c, elements.Element) and c is not elements.Element}
+    assert classes and classes <= set(EXPORT), classes - set(EXPORT)

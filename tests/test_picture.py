@@ -32,6 +32,8 @@ from stakeout.writers import picture
 from stakeout.writers.picture import Labeller, nice_length, plan_svg, station_spacing
 
 from .helpers import SAMPLES, build_job, write_job
+from .reference import nhdot_spiral_curve as nh
+from .reference import recalled_figures as recalled
 
 SVG = "{http://www.w3.org/2000/svg}"
 NUM = r"-?\d+(?:\.\d+)?"
@@ -47,7 +49,7 @@ def _font_metrics() -> tuple[float, float]:
         upm = font["head"].unitsPerEm
         return font["hmtx"]["zero"][0] / upm, font["OS/2"].sCapHeight / upm
     except Exception:  # noqa: BLE001 - no font file or no fontTools: the published figures
-        return 1233 / 2048, 0.729  # from memory
+        return recalled.MONO_ADVANCE.value, recalled.MONO_CAP_HEIGHT.value  # from memory
 
 
 ADVANCE, CAP = _font_metrics()
@@ -127,34 +129,12 @@ def test_arcs_keep_their_radius(loop):
     assert radii == pytest.approx([300.0, 700.0], abs=0.02)
 
 
-NH_JOB = """format = 1
-[job]
-name = "a spiralled curve"
-units = "us_ft"
-[alignment]
-name = "NH"
-[alignment.at_pi]
-station = "23+96.20"
-northing = 405083.92
-easting = 964724.93
-back_tangent_azimuth = "40-00-00"
-ahead_tangent_azimuth = "117-47-44.8"
-radius = 300.0
-spirals = [200.0, 200.0]
-lead_in = 50
-lead_out = 50
-[staking]
-interval = 50
-offsets = [{ offset = -12.0, code = "EPL" }, { offset = 0.0, code = "CL" }, { offset = 12.0, code = "EPR" }]
-"""
-
-
 def test_spirals_are_drawn_within_the_chord_tolerance(tmp_path):
     # the chords drawn for each spiral stay within CHORD_TOLERANCE (0.25 units of the sheet) of
     # the clothoid: shapely's distance from dense points of the true curve to the drawn polyline
     from stakeout.alignment import Spiral
 
-    d = compute(write_job(tmp_path, NH_JOB))
+    d = compute(write_job(tmp_path, nh.JOB))  # the NH DOT spiralled curve as a job
     root = _root(plan_svg(d))
     a0, b0, s, _ = _fit(d, root)
     cl = next(p for p in root.iter(f"{SVG}path") if p.get("class") == "so-cl").get("d")

@@ -20,6 +20,8 @@ from hypothesis import strategies as st
 from stakeout.errors import GeometryError, JobFileError
 from stakeout.precision import InstrumentSpec, Precision, flag_exceeding, predict_precision
 
+from .reference import design_notes
+
 ARCSEC = math.pi / 648000.0
 DRAWS = 250_000  # relative standard error of a sample sigma ~ 1/sqrt(2 N) = 0.14 %
 
@@ -169,7 +171,8 @@ def test_worked_setout_example():
     #            + 0.001^2 * 200^2 / 300^2                        = 4.4444e-7  (target)
     #            + 0.003^2                                        = 9.0000e-6  (pole)
     #            = 1.77436e-5 -> 0.0042123;  r95 = 2.4477 * 0.0042123 = 0.0103105
-    got = predict_precision(5000.0, 5000.0, 5300.0, 5000.0, [5100.0], [5173.205], CONTRACT)
+    (on, oe), (bn, be), (tn, te) = design_notes.OCCUPIED.value, design_notes.BACKSIGHT.value, design_notes.TARGET.value
+    got = predict_precision(on, oe, bn, be, [tn], [te], CONTRACT)
     assert isinstance(got, Precision)
     assert got.sigma_along[0] == pytest.approx(0.0037630, abs=5e-8)
     assert got.sigma_across[0] == pytest.approx(0.0042123, abs=5e-8)

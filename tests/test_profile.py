@@ -1,7 +1,7 @@
 """The profile (vertical alignment) against outside references.
 
 Sources: the FHWA Bridge Geometry Manual's worked vertical curve (Table 3.2,
-see /work/shared/design/references.md); independent constructions written
+in tests/reference/fhwa_bridge_geometry.py); independent constructions written
 here (quadratic Bezier curves solved with scipy's brentq, a circle whose
 centre is found on the angle bisector of the two grades); hypothesis
 properties on random valid profiles.
@@ -13,15 +13,14 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 from scipy.optimize import brentq
 
 from stakeout.errors import JobFileError
 from stakeout.profile import PROFILE_TOLERANCE, PVISpec, build_profile
 
-settings.register_profile("stakeout", deadline=None, suppress_health_check=[HealthCheck.too_slow])
-settings.load_profile("stakeout")
+from .reference import fhwa_bridge_geometry as fhwa
 
 
 # ---- independent constructions -------------------------------------------------------
@@ -117,15 +116,17 @@ def three_pvis(xv, yv, g1, g2, *, back=0.0, ahead=0.0, radius=None, reach=1000.0
 def test_fhwa_table_3_2_crest_curve():
     # FHWA Bridge Geometry Manual (HIF-22-034, April 2022), Table 3.2 [published]:
     # PVI 120+00 elev 135.00, g1 = +1.75 %, g2 = -1.00 %, L = 1600 ft
-    prof = build_profile(three_pvis(12000.0, 135.0, 0.0175, -0.01, back=800.0, ahead=800.0))
-    x = 11200.0 + 160.0 * np.arange(11)  # every 160 ft from the BVC 112+00
-    printed = [121.00, 123.58, 125.72, 127.42, 128.68, 129.50, 129.88, 129.82, 129.32, 128.38, 127.00]
-    np.testing.assert_array_equal(np.round(prof.elevation(x), 2), printed)  # FHWA Table 3.2 [published]
+    half = fhwa.CURVE_LENGTH.value / 2
+    prof = build_profile(three_pvis(fhwa.PVI_STATION.value, fhwa.PVI_ELEVATION.value, fhwa.GRADE_IN.value,
+                                    fhwa.GRADE_OUT.value, back=half, ahead=half))
+    x = np.array(fhwa.table_stations())  # every 160 ft from the BVC 112+00
+    np.testing.assert_array_equal(np.round(prof.elevation(x), 2), fhwa.ELEVATIONS.value)  # FHWA Table 3.2 [published]
     row = prof.rows()[1]
-    assert row.pvc_station == pytest.approx(11200.0) and row.pvc_elevation == pytest.approx(121.00)  # FHWA BVC
-    assert row.pvt_elevation == pytest.approx(127.00)  # FHWA Table 3.2, last row [published]
-    assert round(row.high_low_station, 2) == 12218.18  # references.md [computed] high point 122+18.18
-    assert round(row.high_low_elevation, 3) == 129.909  # references.md [computed] elev 129.909
+    assert row.pvc_station == pytest.approx(fhwa.BVC_STATION.value)  # FHWA BVC
+    assert row.pvc_elevation == pytest.approx(fhwa.BVC_ELEVATION.value)  # FHWA BVC (exact: 135 - 0.0175 x 800)
+    assert row.pvt_elevation == pytest.approx(fhwa.EVC_ELEVATION.value)  # FHWA Table 3.2, last row [published]
+    assert round(row.high_low_station, 2) == fhwa.HIGH_POINT_STATION.value  # references.md [computed] high point 122+18.18
+    assert round(row.high_low_elevation, 3) == fhwa.HIGH_POINT_ELEVATION.value  # references.md [computed] elev 129.909
     assert row.high_low_kind == "HP"
     # K = L / |A| with A in percent (references.md, route-surveying parabola): 1600 / 2.75
     assert row.k_value == pytest.approx(1600.0 / 2.75, rel=1e-12)

@@ -4,7 +4,7 @@
 Sources (each named again beside its check):
 - FHWA Bridge Geometry Manual (HIF-22-034, April 2022), Table 3.2: a
   1600-ft crest curve tabulated every 160 ft [published], and its high point
-  [computed] (/work/shared/design/references.md, "Vertical curves");
+  [computed] (references.md, "Vertical curves"; both in tests/reference/fhwa_bridge_geometry.py);
 - the route-surveying parabola y = y_PVC + g1 x + (g2 - g1) x^2 / (2L), its
   high/low point x = g1 L / (g1 - g2), K = L / |A| and the unsymmetrical
   middle ordinate e = (g2 - g1) l1 l2 / (2 (l1 + l2)) (references.md);
@@ -33,6 +33,7 @@ from typer.testing import CliRunner
 from stakeout.cli import app
 
 from .helpers import SAMPLES, build_job, check_row, read_rows, sheet_records, write_job
+from .reference import fhwa_bridge_geometry as fhwa
 
 runner = CliRunner()
 
@@ -196,9 +197,9 @@ name = "FG"
 station = "100+00"
 elevation = 100.00
 [[profile.pvi]]
-station = "120+00"
-elevation = 135.00
-curve_length = 1600.0
+station = "%s"
+elevation = %.2f
+curve_length = %.1f
 [[profile.pvi]]
 station = "140+00"
 elevation = 115.00
@@ -215,12 +216,9 @@ target_height = 6.5
 [check]
 horizontal_tolerance = 0.05
 vertical_tolerance = 0.10
-"""
+""" % (fhwa.PVI_STATION.printed, fhwa.PVI_ELEVATION.value, fhwa.CURVE_LENGTH.value)
+# the end PVIs lie on the table's grades: 135 - 1.75 % x 2000 = 100, 135 - 1.00 % x 2000 = 115
 
-# FHWA Bridge Geometry Manual (HIF-22-034, April 2022), Table 3.2 [published]:
-# PVI 120+00 elev 135.00, g1 = +1.75 %, g2 = -1.00 %, L = 1600 ft; elevations
-# every 160 ft from the BVC 112+00.
-FHWA_TABLE_3_2 = [121.00, 123.58, 125.72, 127.42, 128.68, 129.50, 129.88, 129.82, 129.32, 128.38, 127.00]
 
 
 @pytest.fixture(scope="module")
@@ -232,16 +230,15 @@ def fhwa_out(tmp_path_factory) -> Path:
 def test_fhwa_table_3_2_stations_csv(fhwa_out):
     rows = read_rows(fhwa_out / "stations.csv")
     by_station = {round(float(r["station"]), 2): r for r in rows}
-    for k, published in enumerate(FHWA_TABLE_3_2):
-        st = 11200.0 + 160.0 * k
+    for st, published in zip(fhwa.table_stations(), fhwa.ELEVATIONS.value):
         r = by_station[st]
         # FHWA Bridge Geometry Manual (HIF-22-034), Table 3.2 [published], printed to 0.01
-        assert float(r["elevation"]) == pytest.approx(published, abs=0.005), r["station_label"]
-    assert by_station[11200.0]["feature"] == "PVC"
-    assert by_station[12000.0]["feature"] == "PVI"
-    assert by_station[12800.0]["feature"] == "PVT"
+        assert float(r["elevation"]) == pytest.approx(published, abs=fhwa.ELEVATIONS.tol), r["station_label"]
+    assert by_station[fhwa.BVC_STATION.value]["feature"] == "PVC"
+    assert by_station[fhwa.PVI_STATION.value]["feature"] == "PVI"
+    assert by_station[fhwa.EVC_STATION.value]["feature"] == "PVT"
     # the stations are those of the table, in US survey feet: 112+00, 113+60, ... 128+00
-    assert [by_station[11200.0 + 160.0 * k]["station_label"] for k in (0, 1, 10)] == \
+    assert [by_station[fhwa.table_stations()[k]]["station_label"] for k in (0, 1, 10)] == \
         ["112+00.00", "113+60.00", "128+00.00"]
 
 
@@ -251,9 +248,9 @@ def test_fhwa_high_point_stake(fhwa_out):
     assert len(hp) == 1
     # FHWA Table 3.2 curve, high point [computed] in references.md: 122+18.18, elev 129.909;
     # handbook x = g1 L / (g1 - g2) = 1.75 x 1600 / 2.75 from the BVC 112+00
-    assert hp[0]["station_label"] == "122+18.18"
+    assert hp[0]["station_label"] == fhwa.HIGH_POINT_STATION.printed
     assert float(hp[0]["station"]) == pytest.approx(11200.0 + 1.75 * 1600.0 / 2.75, abs=1e-4)
-    assert float(hp[0]["elevation"]) == pytest.approx(129.909, abs=0.0005)
+    assert float(hp[0]["elevation"]) == fhwa.HIGH_POINT_ELEVATION.approx()
 
 
 def test_fhwa_profile_csv(fhwa_out):
@@ -262,18 +259,19 @@ def test_fhwa_profile_csv(fhwa_out):
     r = rows[1]
     assert r["station_label"] == "120+00.00" and float(r["station"]) == 12000.0
     # FHWA Table 3.2 [published]: BVC 112+00 elev 121.00, EVC 128+00 elev 127.00, g1 +1.75 %, g2 -1.00 %
-    assert float(r["pvc_station"]) == pytest.approx(11200.0, abs=1e-4)
-    assert float(r["pvc_elevation"]) == pytest.approx(121.00, abs=1e-4)
-    assert float(r["pvt_station"]) == pytest.approx(12800.0, abs=1e-4)
-    assert float(r["pvt_elevation"]) == pytest.approx(127.00, abs=1e-4)
-    assert float(r["grade_in"]) == pytest.approx(1.75, abs=1e-6)
-    assert float(r["grade_out"]) == pytest.approx(-1.00, abs=1e-6)
+    # (exact on this job: the table's figures are whole cents of its inputs)
+    assert float(r["pvc_station"]) == fhwa.BVC_STATION.approx(1e-4)
+    assert float(r["pvc_elevation"]) == fhwa.BVC_ELEVATION.approx(1e-4)
+    assert float(r["pvt_station"]) == fhwa.EVC_STATION.approx(1e-4)
+    assert float(r["pvt_elevation"]) == fhwa.EVC_ELEVATION.approx(1e-4)
+    assert float(r["grade_in"]) == pytest.approx(100 * fhwa.GRADE_IN.value, abs=1e-6)
+    assert float(r["grade_out"]) == pytest.approx(100 * fhwa.GRADE_OUT.value, abs=1e-6)
     assert float(r["curve_length_back"]) == pytest.approx(800.0) and float(r["curve_length_ahead"]) == pytest.approx(800.0)
     # K = L / |A|, A in percent (references.md): 1600 / 2.75
     assert float(r["k_value"]) == pytest.approx(1600.0 / 2.75, abs=1e-4)
     # high point [computed] in references.md
-    assert float(r["high_low_station"]) == pytest.approx(12218.18, abs=0.005)
-    assert float(r["high_low_elevation"]) == pytest.approx(129.909, abs=0.0005)
+    assert float(r["high_low_station"]) == fhwa.HIGH_POINT_STATION.approx()
+    assert float(r["high_low_elevation"]) == fhwa.HIGH_POINT_ELEVATION.approx()
     # the ends: grades in percent, curve columns empty (outputs.md)
     assert rows[0]["grade_in"] == "" and float(rows[0]["grade_out"]) == pytest.approx(1.75, abs=1e-6)
     assert rows[2]["grade_out"] == "" and float(rows[2]["grade_in"]) == pytest.approx(-1.0, abs=1e-6)

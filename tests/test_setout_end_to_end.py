@@ -10,6 +10,7 @@ from typer.testing import CliRunner
 from stakeout.cli import app
 
 from .helpers import SAMPLES, build_job, read_rows
+from .reference import nist_survey_foot as nist
 
 runner = CliRunner()
 
@@ -37,7 +38,7 @@ def test_geodetic_backsight_and_auto_factor(tmp_path):
     e2 = fl * (2 - fl)
     s2 = math.sin(math.radians(lat)) ** 2
     r = math.sqrt(a * (1 - e2) / (1 - e2 * s2) ** 1.5 * a / math.sqrt(1 - e2 * s2))
-    h = (288.0 - 115.0) * 1200 / 3937
+    h = (288.0 - 115.0) * float(nist.US_SURVEY_FOOT.value)
     cf = f.meridional_scale * r / (r + h)
     man = json.loads((out / "manifest.json").read_text())
     assert man["factors"]["combined_factor"] == pytest.approx(cf, abs=1e-9)

@@ -3,8 +3,9 @@
 Sources, named again beside each check:
 
 - New Hampshire DOT, "Spiral Curve Data" (CADD help page), the published
-  example listed in ``shared/design/references.md``;
-- scipy as the reference library: ``scipy.special.fresnel`` for spirals that
+  example kept in ``tests/reference/nhdot_spiral_curve.py``;
+- scipy as the reference library (its own test value in
+  ``tests/reference/scipy_fresnel.py``): ``scipy.special.fresnel`` for spirals that
   start from a tangent, ``scipy.integrate.quad`` on the cosine and sine of the
   heading for the others (a clothoid's heading is quadratic in its length);
 - the series for X, Y and the relations p, k, LT, ST common to route-surveying
@@ -52,6 +53,8 @@ from stakeout.stations import Stationing
 from stakeout.writers.sheets import deflection_rows
 
 from .helpers import build_job, read_rows, write_job
+from .reference import nhdot_spiral_curve as nh
+from .reference import scipy_fresnel
 
 #: Hypothesis settings of every property here (no deadline: scipy's quad runs per point).
 FREE = {"deadline": None, "suppress_health_check": [HealthCheck.too_slow]}
@@ -186,51 +189,29 @@ def dms(text: str) -> float:
 
 # ==== 1. published: NH DOT "Spiral Curve Data" =============================================
 
-NH_JOB = """format = 1
-[job]
-name = "NH DOT spiral curve data"
-units = "us_ft"
-[alignment]
-name = "NH"
-[alignment.at_pi]
-station = "23+96.20"
-northing = 405083.92
-easting = 964724.93
-back_tangent_azimuth = "40-00-00"
-ahead_tangent_azimuth = "117-47-44.8"   # back + Delta 77-47-44.8 RT
-radius = 300.0
-spirals = [200.0, 200.0]
-lead_in = 50
-lead_out = 50
-[staking]
-interval = 50
-offsets = [{ offset = -12.0, code = "EPL" }, { offset = 0.0, code = "CL" }, { offset = 12.0, code = "EPR" }]
-"""
-
 
 @pytest.fixture(scope="module")
 def nh_out(tmp_path_factory) -> Path:
     tmp = tmp_path_factory.mktemp("nh")
-    return build_job(write_job(tmp, NH_JOB), tmp / "out")
+    return build_job(write_job(tmp, nh.JOB), tmp / "out")
 
 
 def test_nh_dot_spiral_curve_data(nh_out):
     # New Hampshire DOT, "Spiral Curve Data" (CADD help page), [published]: PI 23+96.20
     # (N 405083.92, E 964724.93), Delta 77-47-44.8 RT, Rc 300.00, Ls 200.00 -> theta_s 19-05-54.9,
     # Delta_c 39-35-54.9, Ts 346.15, Es 92.58, Lc 207.34, LT 134.12, ST 67.38, p 5.53, k 99.63,
-    # Xc 197.79, Yc 22.05.  Printed precision: 0.01 ft, 0.1 second.
-    sec = 0.05 / 3600.0
+    # Xc 197.79, Yc 22.05.  Printed precision: 0.01 ft, 0.1 second (tests/reference/nhdot_spiral_curve.py).
     spirals = read_rows(nh_out / "spirals.csv")
     assert len(spirals) == 2
     for row in spirals:
-        assert float(row["length"]) == pytest.approx(200.00, abs=0.005)
-        assert abs(float(row["theta_deg"]) - dms("19-05-54.9")) <= sec  # NH DOT theta_s
-        assert float(row["long_tangent"]) == pytest.approx(134.12, abs=0.005)  # NH DOT LT
-        assert float(row["short_tangent"]) == pytest.approx(67.38, abs=0.005)  # NH DOT ST
-        assert float(row["p"]) == pytest.approx(5.53, abs=0.005)  # NH DOT p
-        assert float(row["k"]) == pytest.approx(99.63, abs=0.005)  # NH DOT k
-        assert float(row["x"]) == pytest.approx(197.79, abs=0.005)  # NH DOT Xc
-        assert float(row["y"]) == pytest.approx(22.05, abs=0.005)  # NH DOT Yc
+        assert float(row["length"]) == nh.SPIRAL_LENGTH.approx()
+        assert float(row["theta_deg"]) == nh.THETA_S.approx()  # NH DOT theta_s
+        assert float(row["long_tangent"]) == nh.LT.approx()  # NH DOT LT
+        assert float(row["short_tangent"]) == nh.ST.approx()  # NH DOT ST
+        assert float(row["p"]) == nh.P.approx()  # NH DOT p
+        assert float(row["k"]) == nh.K.approx()  # NH DOT k
+        assert float(row["x"]) == nh.XC.approx()  # NH DOT Xc
+        assert float(row["y"]) == nh.YC.approx()  # NH DOT Yc
         assert row["turn"] == "right"
     assert (spirals[0]["radius_start"], spirals[0]["radius_end"]) == ("", "300.0000")
     assert (spirals[1]["radius_start"], spirals[1]["radius_end"]) == ("300.0000", "")
@@ -238,14 +219,14 @@ def test_nh_dot_spiral_curve_data(nh_out):
     elements = read_rows(nh_out / "elements.csv")
     assert [r["kind"] for r in elements] == ["line", "spiral", "arc", "spiral", "line"]
     arc = elements[2]
-    assert float(arc["length"]) == pytest.approx(207.34, abs=0.005)  # NH DOT Lc
+    assert float(arc["length"]) == nh.LC.approx()  # NH DOT Lc
     delta_c = float(arc["end_azimuth_deg"]) - float(arc["start_azimuth_deg"])
-    assert abs(delta_c - dms("39-35-54.9")) <= sec  # NH DOT Delta_c
+    assert delta_c == nh.DELTA_C.approx()  # NH DOT Delta_c
     (curve,) = read_rows(nh_out / "curves.csv")
-    assert abs(float(curve["delta_deg"]) - dms("39-35-54.9")) <= sec  # NH DOT Delta_c
-    assert curve["delta_dms"] == "39-35-54.9"
-    assert float(curve["length"]) == pytest.approx(207.34, abs=0.005)  # NH DOT Lc
-    assert float(curve["pi_station"]) == pytest.approx(2396.20, abs=0.005)  # NH DOT PI station
+    assert float(curve["delta_deg"]) == nh.DELTA_C.approx()  # NH DOT Delta_c
+    assert curve["delta_dms"] == nh.DELTA_C.printed
+    assert float(curve["length"]) == nh.LC.approx()  # NH DOT Lc
+    assert float(curve["pi_station"]) == nh.PI_STATION.approx()  # NH DOT PI station
 
     # key points: NH DOT [computed] TS 20+50.05, SC 22+50.05, CS 24+57.39, ST 26+57.39
     rows = read_rows(nh_out / "stations.csv")
@@ -253,15 +234,15 @@ def test_nh_dot_spiral_curve_data(nh_out):
     for r in rows:
         if r["feature"]:
             by_feature.setdefault(r["feature"], []).append(r)
-    for feature, label in (("TS", "20+50.05"), ("SC", "22+50.05"), ("CS", "24+57.39"), ("ST", "26+57.39")):
+    for feature, fig in (("TS", nh.TS_STATION), ("SC", nh.SC_STATION), ("CS", nh.CS_STATION), ("ST", nh.ST_STATION)):
         hits = by_feature[feature]
         assert len(hits) == 3  # one per offset line
-        assert {r["station_label"] for r in hits} == {label}
+        assert {r["station_label"] for r in hits} == {fig.printed}
     # Ts = distance PI -> TS and PI -> ST (NH DOT Ts 346.15), from the stakes' coordinates
     for feature in ("TS", "ST"):
         cl = [r for r in by_feature[feature] if r["code"] == "CL"][0]
-        ts = math.hypot(float(cl["northing"]) - 405083.92, float(cl["easting"]) - 964724.93)
-        assert ts == pytest.approx(346.15, abs=0.005)  # NH DOT Ts
+        ts = math.hypot(float(cl["northing"]) - nh.PI_NORTHING.value, float(cl["easting"]) - nh.PI_EASTING.value)
+        assert ts == nh.TS.approx()  # NH DOT Ts
 
     # the curve report (stakeout curve): Ts both sides and Es
     r = runner.invoke(app, ["curve", str(nh_out.parent / "job.toml")])
@@ -269,26 +250,26 @@ def test_nh_dot_spiral_curve_data(nh_out):
     back = float(re.search(r"tangent PI to start \(back\)\s+([\d.]+)", r.output).group(1))
     ahead = float(re.search(r"tangent PI to end \(ahead\)\s+([\d.]+)", r.output).group(1))
     external = float(re.search(r"external \(PI to the curve\)\s+([\d.]+)", r.output).group(1))
-    assert back == pytest.approx(346.15, abs=0.005)  # NH DOT Ts
-    assert ahead == pytest.approx(346.15, abs=0.005)  # NH DOT Ts
-    assert external == pytest.approx(92.58, abs=0.005)  # NH DOT Es
-    assert "19-05-54.9" in r.output  # NH DOT theta_s
-    assert "39-35-54.9" in r.output  # NH DOT Delta_c
+    assert back == nh.TS.approx()  # NH DOT Ts
+    assert ahead == nh.TS.approx()  # NH DOT Ts
+    assert external == nh.ES.approx()  # NH DOT Es
+    assert nh.THETA_S.printed in r.output  # NH DOT theta_s
+    assert nh.DELTA_C.printed in r.output  # NH DOT Delta_c
 
 
 def test_nh_dot_relations_of_the_source():
     # The relations of references.md (route-surveying texts) applied by hand to the NH DOT
     # inputs give the NH DOT printed values: ties the published data to the formulas used below.
-    r, ls, big_i = 300.0, 200.0, math.radians(dms("77-47-44.8"))
+    r, ls, big_i = nh.RADIUS.value, nh.SPIRAL_LENGTH.value, math.radians(nh.DELTA.value)
     th = ls / (2 * r)
     x, y = series_xy(ls, th)
     p = y - r * (1 - math.cos(th))
     k = x - r * math.sin(th)
-    assert (x, y, p, k) == pytest.approx((197.79, 22.05, 5.53, 99.63), abs=0.005)
-    assert (r + p) * math.tan(big_i / 2) + k == pytest.approx(346.15, abs=0.005)  # Ts
-    assert (r + p) / math.cos(big_i / 2) - r == pytest.approx(92.58, abs=0.005)  # Es
-    assert x - y / math.tan(th) == pytest.approx(134.12, abs=0.005)  # LT
-    assert y / math.sin(th) == pytest.approx(67.38, abs=0.005)  # ST
+    assert (x, y, p, k) == pytest.approx((nh.XC.value, nh.YC.value, nh.P.value, nh.K.value), abs=nh.XC.tol)
+    assert (r + p) * math.tan(big_i / 2) + k == nh.TS.approx()  # Ts
+    assert (r + p) / math.cos(big_i / 2) - r == nh.ES.approx()  # Es
+    assert x - y / math.tan(th) == nh.LT.approx()  # LT
+    assert y / math.sin(th) == nh.ST.approx()  # ST
 
 
 # ==== random spiralled alignments ==========================================================
@@ -451,9 +432,9 @@ def test_series_xy(length, theta):
 def test_scipy_fresnel_value():
     # scipy's own tests give fresnel(0.5) = (S 0.064732432859999287, C 0.49234422587144644)
     # (references.md): the reference library behaves as the reference says.
-    s, c = special.fresnel(0.5)
-    assert s == pytest.approx(0.064732432859999287, rel=1e-15)
-    assert c == pytest.approx(0.49234422587144644, rel=1e-15)
+    s, c = special.fresnel(scipy_fresnel.ARGUMENT.value)
+    assert s == pytest.approx(scipy_fresnel.S.value, rel=1e-15)
+    assert c == pytest.approx(scipy_fresnel.C.value, rel=1e-15)
 
 
 @st.composite
@@ -550,6 +531,7 @@ def test_closure_pi_list_with_spirals(case):
     assert end.end_easting == pytest.approx(spec.pis[-1].easting, abs=1e-6)
 
 
+@pytest.mark.slow
 @settings(max_examples=120, **FREE)
 @given(random_alignments(), st.data())
 def test_round_trip_and_monotone(spec, data):

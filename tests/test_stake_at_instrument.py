@@ -1,4 +1,4 @@
-"""Field readiness (issue 16): a stake at the instrument, and offsets on the
+"""A stake at the instrument, and offsets on the
 setout sheet with their side."""
 
 from __future__ import annotations

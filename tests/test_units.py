@@ -1,19 +1,20 @@
-from fractions import Fraction
-
 import pytest
 
 from stakeout.errors import JobFileError
 from stakeout.units import INTERNATIONAL_FOOT, UNITS, US_SURVEY_FOOT, get_unit
 
+from .reference import nist_survey_foot as nist
+
 
 def test_foot_definitions_nist():
     # NIST & NGS, Federal Register Vol. 85 No. 193 (2020) and 24 FR 5348 (1959):
-    # international foot = 0.3048 m exactly; US survey foot = 1200/3937 m.
-    assert INTERNATIONAL_FOOT == 0.3048
-    assert US_SURVEY_FOOT == 1200 / 3937
+    # international foot = 0.3048 m exactly; US survey foot = 1200/3937 m
+    # (tests/reference/nist_survey_foot.py, exact fractions).
+    assert INTERNATIONAL_FOOT == float(nist.INTERNATIONAL_FOOT.value)
+    assert US_SURVEY_FOOT == float(nist.US_SURVEY_FOOT.value)
     # 1 international ft = 0.999998 US survey ft exactly (same source)
-    assert Fraction(3048, 10000) / Fraction(1200, 3937) == Fraction(999998, 1000000)
-    assert INTERNATIONAL_FOOT / US_SURVEY_FOOT == pytest.approx(0.999998, abs=1e-15)
+    assert nist.INTERNATIONAL_FOOT.value / nist.US_SURVEY_FOOT.value == nist.INTERNATIONAL_IN_SURVEY_FEET.value
+    assert INTERNATIONAL_FOOT / US_SURVEY_FOOT == pytest.approx(float(nist.INTERNATIONAL_IN_SURVEY_FEET.value), abs=1e-15)
 
 
 def test_two_ppm_difference_is_a_hundredth_in_a_mile():

@@ -27,7 +27,7 @@ from .kernels import ElementArrays, Kernel
 __all__ = ["Alignment", "Curve", "KeyPoint", "Position", "Location", "FEATURE_ORDER", "STATION_TOLERANCE"]
 
 #: Order in which coinciding key-point features are listed (outputs contract).
-FEATURE_ORDER = ("POB", "AP", "PT", "ST", "PC", "TS", "PCC", "PRC", "SC", "CS", "EQ",
+FEATURE_ORDER = ("POB", "AP", "PT", "ST", "PC", "TS", "PCC", "PRC", "SC", "CS", "EQ", "SE", "WC",
                  "PVC", "PVI", "PVT", "HP", "LP", "POE")
 
 #: Stations closer than this (job units) are the same station.

@@ -11,14 +11,16 @@ value, and what is allowed.
 from __future__ import annotations
 
 import hashlib
+import math
+import re
 import tomllib
 from pathlib import Path
 
 from ..errors import JobFileError
-from ..alignment.specs import AlignmentSpec
-from ..job import DesignFile, Job, JobInfo
-from ..limits import MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
-from ..textsafety import check_free_text
+from ..alignment.specs import AlignmentSpec, ArcSpec, FixedSpec
+from ..job import ControlPoint, DesignFile, Job, JobInfo, Setup
+from ..limits import MAX_COORDINATE, MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
+from ..textsafety import check_file_name, check_free_text, show_value
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment, read_equations
@@ -27,6 +29,7 @@ from .profile import read_profile
 from .control import read_control
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_instrument, read_scale, read_setup
+from .sections import check_template_lines, read_superelevation
 from .staking import read_staking
 
 __all__ = ["load_job", "parse_job", "SAFE_TEXT", "check_safe_text"]
@@ -41,6 +44,7 @@ def load_job(path: str | Path) -> Job:
         If the file is missing, unreadable, not TOML, or not a valid job.
     """
     p = Path(path)
+    check_file_name(str(path), "job file")
     data = read_regular_file(p, "job file", MAX_JOB_FILE_BYTES)
     return parse_job(data, str(p))
 
@@ -52,8 +56,17 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         doc = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise JobFileError(f"{path}: not valid TOML: {exc}") from None
+    except RecursionError:  # arrays or inline tables nested past the reader's stack
+        raise JobFileError(f"{path}: not valid TOML: nested too deeply (line {_deepest_line(text)}); a job file "
+                           "nests arrays and tables a few levels at most") from None
+    except ValueError as exc:  # an integer past Python's digit limit for text
+        line = _longest_number_line(text)
+        if line is None:
+            raise JobFileError(f"{path}: not valid TOML: {show_value(str(exc))}") from None
+        raise JobFileError(f"{path}: not valid TOML: number too long (line {line}); no value of a job file "
+                           "needs more than a few dozen digits") from None
     top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
-                          "instrument"))
+                          "instrument", "superelevation"))
     fmt = top.raw("format", required=True)
     if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
@@ -67,12 +80,16 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         assert at is not None
         from_file = read_alignment_file(at, info, base)
         alignment: AlignmentSpec = from_file.spec
+        _check_length(from_file.spec)
         design_files.append(from_file.record)
     else:
         alignment = read_alignment(top, info)
     staking = read_staking(top, info)
     control, control_files = read_control(top, info, base)
+    _check_control_coordinates(control)
     setup = read_setup(top, control, info.station_length)
+    if setup is not None:
+        _check_one_position_per_id(control, setup)
     instrument = read_instrument(top)
     if instrument is not None:
         if setup is None:
@@ -102,6 +119,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     if profile is not None and staking.elevation is not None:
         raise JobFileError(f"staking.elevation = {staking.elevation!r}: cannot be given together with [profile] "
                            "(the profile gives the elevations)")
+    se_rows, se_file = read_superelevation(top, info, profile is not None or staking.elevation is not None)
+    check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
     return Job(
         path=path,
         sha256=hashlib.sha256(data).hexdigest(),
@@ -116,7 +135,89 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         design_files=tuple(design_files) + control_files,
         control=control,
         instrument=instrument,
+        superelevation=se_rows,
+        superelevation_file=se_file,
     )
+
+
+def _check_length(spec: FixedSpec) -> None:
+    """Refuse a design-file alignment of length zero (every stake would be one point)."""
+    total = 0.0
+    for a in spec.elements:
+        el = a.element
+        if isinstance(el, ArcSpec) and el.length is None:
+            total += el.radius * math.radians(el.delta or 0.0)
+        else:
+            total += float(el.length or 0.0)
+    if not total > 0.0:
+        raise JobFileError(f"alignment.landxml: alignment {spec.name!r} has length 0 (its elements start and end "
+                           "at one point); there is nothing to stake along it")
+
+
+def _check_control_coordinates(control: tuple[ControlPoint, ...]) -> None:
+    """Control coordinates within the bounds of every coordinate (a lost decimal point gives 9e11)."""
+    for cp in control:
+        for what, v in (("northing", cp.northing), ("easting", cp.easting)):
+            if not abs(v) <= MAX_COORDINATE:
+                raise JobFileError(f"{cp.where or cp.id}: {what} {v!r} of control point {cp.id!r} is out of range; "
+                                   f"coordinates must lie within -{MAX_COORDINATE:,.0f} to {MAX_COORDINATE:,.0f} "
+                                   "job units (a decimal point lost?)")
+
+
+def _check_one_position_per_id(control: tuple[ControlPoint, ...], setup: Setup) -> None:
+    """One id names one point: an inline setup point may repeat a control point or another
+    setup's point only at the same coordinates.
+    """
+    seen: dict[str, ControlPoint] = {cp.id: cp for cp in control}
+    for st in setup.explicit():
+        for role, cp in (("occupied", st.occupied), ("backsight", st.backsight)):
+            if cp is None:
+                continue
+            where = cp.where or f"{st.where}.{role}"
+            first = seen.setdefault(cp.id, ControlPoint(cp.id, cp.northing, cp.easting, cp.elevation, where))
+            if (first.northing, first.easting) != (cp.northing, cp.easting) or (
+                    first.elevation is not None and cp.elevation is not None and first.elevation != cp.elevation):
+                raise JobFileError(
+                    f"{where}: id {cp.id!r} at N {cp.northing!r} E {cp.easting!r} is also the point at N "
+                    f"{first.northing!r} E {first.easting!r} ({first.where or first.id}); one id names one point, "
+                    "give the second point an id of its own")
+
+
+def _deepest_line(text: str) -> int:
+    """Line (from 1) where brackets and braces nest deepest, strings and comments skipped roughly."""
+    depth = best = 0
+    line = best_line = 1
+    quote = ""
+    comment = False
+    for ch in text:
+        if ch == "\n":
+            line += 1
+            comment = False
+            continue
+        if comment:
+            continue
+        if quote:
+            if ch == quote:
+                quote = ""
+        elif ch in "\"'":
+            quote = ch
+        elif ch == "#":
+            comment = True
+        elif ch in "[{":
+            depth += 1
+            if depth > best:
+                best, best_line = depth, line
+        elif ch in "]}":
+            depth = max(depth - 1, 0)
+    return best_line
+
+
+def _longest_number_line(text: str) -> int | None:
+    """Line (from 1) of the longest run of digits (None without a run of 50 or more)."""
+    runs = [(len(m.group()), m.start()) for m in re.finditer(r"[0-9_]{50,}", text)]
+    if not runs:
+        return None
+    return text.count("\n", 0, max(runs)[1]) + 1
 
 
 def _job_info(top: Table) -> JobInfo:
@@ -125,9 +226,9 @@ def _job_info(top: Table) -> JobInfo:
     assert t is not None
     name = check_free_text(t.text("name") or "", "job.name")
     unit = get_unit(t.raw("units", required=True))
-    crs = t.text("crs")
+    crs = t.text("crs", lines=True)  # a WKT may run over several lines
     if crs is not None and not crs.strip():
-        raise JobFileError(f"job.crs = {crs!r}: empty; leave the key out for a local grid")
+        raise JobFileError(f"job.crs = {show_value(crs)}: empty; leave the key out for a local grid")
     sl = t.raw("station_length")
     station_length = int(unit.station_length) if sl is None else check_station_length(sl)
     return JobInfo(name, unit, crs, station_length)

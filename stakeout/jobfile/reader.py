@@ -13,7 +13,7 @@ from ..angles import parse_angle, parse_direction
 from ..errors import JobFileError
 from ..limits import MAX_COORDINATE, check_station_value
 from ..stations import StationRef, parse_station
-from ..textsafety import check_safe_id, show_value
+from ..textsafety import check_safe_id, describe_char, find_unsafe_char, show_value
 
 __all__ = ["Table", "kind_of", "SAFE_TEXT", "check_safe_text", "angle", "direction", "station", "station_ref"]
 
@@ -21,6 +21,12 @@ __all__ = ["Table", "kind_of", "SAFE_TEXT", "check_safe_text", "angle", "directi
 #: starting with a character a spreadsheet or data collector would misread.
 SAFE_TEXT = re.compile(r"^[A-Za-z0-9_#./][A-Za-z0-9_#./-]{0,19}$")
 _SAFE_HELP = "1 to 20 of letters, digits, _ # . / - (not starting with -)"
+
+
+#: A TOML bare key: shown as it is; any other key name is shown as an escaped literal.
+_BARE_KEY = re.compile(r"[A-Za-z0-9_-]{1,60}")
+#: Line breaks and tabs read as spaces where text may have several lines.
+_LINES = str.maketrans("\n\r\t", "   ")
 
 
 def check_safe_text(value: object, where: str, allow_empty: bool = False) -> str:
@@ -50,7 +56,8 @@ class Table:
         self.path = path
         unknown = [k for k in data if k not in allowed]
         if unknown:
-            where = f"{path}.{unknown[0]}" if path else unknown[0]
+            name = unknown[0] if _BARE_KEY.fullmatch(unknown[0]) else show_value(unknown[0])
+            where = f"{path}.{name}" if path else name
             raise JobFileError(f"{where}: unknown key; allowed here: {', '.join(allowed)}")
 
     def key(self, k: str) -> str:
@@ -89,15 +96,24 @@ class Table:
             raise JobFileError(f"{self.key(k)} = {v!r}: must be 0 or more")
         return v
 
-    def text(self, k: str, required: bool = False, choices: tuple[str, ...] | None = None) -> str | None:
+    def text(self, k: str, required: bool = False, choices: tuple[str, ...] | None = None,
+             lines: bool = False) -> str | None:
+        """Text: no control, format or separator character (ESC, NUL, a
+        bidirectional override...; ``lines``: line breaks and tabs allowed,
+        as in a WKT), so nothing read here can drive a terminal or forge a line.
+        """
         v = self.raw(k, required)
         if v is None:
             return None
         if not isinstance(v, str):
-            raise JobFileError(f"{self.key(k)} = {v!r}: expected text, got {kind_of(v)}")
+            raise JobFileError(f"{self.key(k)} = {show_value(v)}: expected text, got {kind_of(v)}")
+        i = find_unsafe_char(v.translate(_LINES) if lines else v)
+        if i is not None:
+            raise JobFileError(f"{self.key(k)} = {show_value(v)}: character {i + 1} is {describe_char(v[i])}, a "
+                               "control or format character; use printable text")
         if choices is not None and v not in choices:
             allowed = " | ".join(f'"{c}"' for c in choices)
-            raise JobFileError(f"{self.key(k)} = {v!r}: use {allowed}")
+            raise JobFileError(f"{self.key(k)} = {show_value(v)}: use {allowed}")
         return v
 
     def table(self, k: str, allowed: tuple[str, ...], required: bool = False) -> "Table | None":

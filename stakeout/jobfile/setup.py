@@ -20,7 +20,7 @@ from ..precision import InstrumentSpec
 from ..textsafety import show_value
 from ..stations import StationRef
 from .control import inline_point
-from .reader import Table, direction, station_ref
+from .reader import Table, check_safe_text, direction, station_ref
 
 __all__ = ["read_setup", "read_instrument", "read_scale", "read_check", "MIN_BACKSIGHT"]
 
@@ -283,11 +283,17 @@ def read_scale(top: Table) -> Scale:
 
 def read_check(top: Table) -> CheckSpec | None:
     """``[check]``: tolerances for checking staked points."""
-    t = top.table("check", ("horizontal_tolerance", "vertical_tolerance", "search_radius"))
+    t = top.table("check", ("horizontal_tolerance", "vertical_tolerance", "search_radius", "ground_codes"))
     if t is None:
         return None
+    codes = t.array("ground_codes") or []
+    for i, c in enumerate(codes):
+        if not isinstance(c, str) or not c.strip() or len(c.split()) != 1:
+            raise JobFileError(f"check.ground_codes[{i}] = {show_value(c)}: expected a code, one word of text")
+        check_safe_text(c, f"check.ground_codes[{i}]")
     return CheckSpec(
         horizontal_tolerance=t.number("horizontal_tolerance", positive=True),
         vertical_tolerance=t.number("vertical_tolerance", positive=True),
         search_radius=t.number("search_radius", positive=True),
+        ground_codes=tuple(codes),
     )

@@ -6,6 +6,7 @@ from ..errors import JobFileError
 from ..job import JobInfo, OffsetLine, Staking
 from ..limits import MAX_HEIGHT, check_first_point
 from .reader import Table, check_safe_text, station_ref
+from .sections import read_offset_line
 
 __all__ = ["read_staking"]
 
@@ -27,15 +28,11 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
             where = f"staking.offsets[{i}]"
             if not isinstance(item, dict):
                 raise JobFileError(f"{where} = {item!r}: expected {{offset = ..., code = \"...\"}}")
-            o = Table(item, where, ("offset", "code", "dz", "cross_slope"))
-            off = float(o.number("offset", required=True) or 0.0)
-            code = check_safe_text(o.raw("code", required=True), o.key("code"))
-            dz, slope = o.number("dz"), o.number("cross_slope")
-            if dz is not None and slope is not None:
-                raise JobFileError(f"{where}: give `dz` or `cross_slope`, not both")
-            offsets.append(OffsetLine(off + 0.0, code, dz, slope))
+            offsets.append(read_offset_line(item, where, info))
     seen: dict[float, int] = {}
     for i, ol in enumerate(offsets):
+        if ol.widening:  # widened lines: their order and crossings are checked on the alignment
+            continue
         if ol.offset in seen:
             raise JobFileError(
                 f"staking.offsets[{i}].offset = {ol.offset!r}: same offset as staking.offsets[{seen[ol.offset]}]"

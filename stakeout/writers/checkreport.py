@@ -8,19 +8,21 @@ from pathlib import Path
 
 import numpy as np
 
-from ..check import STATUSES, CheckResult
+from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
-from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text, points_csv
+from .tables import DECIMALS, POINTS_COLUMNS, csv_text, csv_text_field, points_csv
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "RESTAKE_COLUMNS", "check_csv", "check_txt", "restake_csv", "cut_fill", "status_text",
-           "move_text", "move_decimals", "what_to_do", "target_id"]
+           "move_text", "move_decimals", "what_to_do", "target_id", "listed_shots", "LISTED_SHOTS"]
 
 CHECK_COLUMNS = ("point", "design_point", "station", "offset", "d_northing", "d_easting", "horizontal_error",
                  "d_station", "d_offset", "d_elevation", "status",
                  # added columns
-                 "matched_by", "northing", "easting", "line", "fails", "governing_line")
+                 "matched_by", "northing", "easting", "line", "fails", "governing_line",
+                 # second set
+                 "d_along", "d_across", "alignment")
 #: ``restake.csv`` is laid out as ``points.csv``, so a crew loads it the same way.
 RESTAKE_COLUMNS = POINTS_COLUMNS
 #: Ids of design points not staked listed in ``check.txt`` (all are in ``restake.csv``).
@@ -32,11 +34,6 @@ def _f(v: float, d: int = DECIMALS) -> str:
     return finite_or_empty(v, d)
 
 
-def _shot_id(pid: str) -> str:
-    """A shot id from the field as a CSV field that no spreadsheet runs as a formula."""
-    if pid[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        pid = "'" + pid
-    return csv_field(pid)
 
 
 def target_id(d: Design, r: CheckResult, k: int) -> str:
@@ -56,15 +53,17 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     line of the shot that governs its design point.
     """
     station = d.stationing.station
+    name = csv_text_field(d.alignment.name)
     out = []
     for k in range(len(shots)):
         g = int(r.related[k])
         out.append(",".join([
-            _shot_id(shots.point[k]), csv_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
+            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
             _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
             _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
             str(shots.line[g]) if g >= 0 else "",
+            _f(r.d_along[k]), _f(r.d_across[k]), name if r.design_index[k] >= 0 else "",
         ]))
     return csv_text(CHECK_COLUMNS, out).encode("utf-8")
 
@@ -97,6 +96,28 @@ def cut_fill(d_elevation: np.ndarray, decimals: int) -> list[str]:
         t = f"{abs(v):.{decimals}f}"
         out.append(f"C {t}" if v > 0 and float(t) > 0 else (f"F {t}" if v < 0 and float(t) > 0 else f"0 {t}"))
     return out
+
+
+#: Above this many shots, check.txt and check.html list only the shots that need attention, at
+#: most this many of them, and give the counts of the rest (check.csv lists every shot).
+LISTED_SHOTS = 5000
+
+
+def listed_shots(r: CheckResult) -> tuple[list[int], list[int], list[int], str]:
+    """The shots check.txt and check.html list: needing attention, within tolerance, superseded
+    (file order), and a note of what is left out (empty when everything is listed).
+    """
+    m = len(r.status)
+    attention = [k for k in range(m) if r.needs_attention(k)]
+    if m <= LISTED_SHOTS:
+        fine = [k for k in range(m) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+        superseded = [k for k in range(m) if r.status[k] == "superseded"]
+        return attention, fine, superseded, ""
+    more = len(attention) - LISTED_SHOTS
+    note = (f"{m:,} shots, more than {LISTED_SHOTS:,}: only the shots needing attention are listed"
+            + (f" (the first {LISTED_SHOTS:,}; {more:,} more)" if more > 0 else "")
+            + "; every shot is in check.csv")
+    return attention[:LISTED_SHOTS], [], [], note
 
 
 #: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).
@@ -139,21 +160,22 @@ def move_decimals(is_feet: bool, horizontal_tolerance: float) -> int:
     return dec
 
 
-def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal: bool, vertical: bool,
+def move_text(d_along: float, d_across: float, d_elevation: float, horizontal: bool, vertical: bool,
               decimals: int) -> str:
     """The correction of a stake in the crew's terms, looking up-station.
 
-    The stake moves from where it was shot to design: along = design
-    station - shot station (``ahead`` when positive, ``back`` when
-    negative), across = design offset - shot offset (``right``/``left``),
-    and, for a vertical failure, its top ``down`` (shot above design) or
-    ``up``.  Components that round to zero are left out.
+    The stake moves from where it was shot to design, by ground distances
+    along and square to the alignment's direction at the stake (never
+    station differences, which differ on an offset line of a curve):
+    ``ahead`` or ``back``, ``right`` or ``left``, and, for a vertical
+    failure, its top ``down`` (shot above design) or ``up``.  Components
+    that round to zero are left out.
 
     Parameters
     ----------
-    d_station, d_offset, d_elevation : float
-        Shot minus design: station (internal stations), offset (negative
-        left) and elevation, job units.
+    d_along, d_across, d_elevation : float
+        Shot minus design: along and square to the alignment at the stake
+        (ground distances, positive ahead and right) and elevation, job units.
     horizontal, vertical : bool
         Which tolerances the shot fails: only those parts are given.
     decimals : int
@@ -161,7 +183,7 @@ def move_text(d_station: float, d_offset: float, d_elevation: float, horizontal:
     """
     parts = []
     if horizontal:
-        for v, plus, minus in ((-d_station, "ahead", "back"), (-d_offset, "right", "left")):
+        for v, plus, minus in ((-d_along, "ahead", "back"), (-d_across, "right", "left")):
             if math.isfinite(v) and round(abs(v), decimals) > 0:
                 parts.append(f"{abs(v):.{decimals}f} {plus if v > 0 else minus}")
     if vertical and math.isfinite(d_elevation) and round(abs(d_elevation), decimals) > 0:
@@ -182,9 +204,14 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
     governor = f"shot {shots.point[g]} on line {shots.line[g]}" if g >= 0 else "another shot"
     if s == "out":
         f = r.fails[k]
-        what = move_text(r.d_station[k], r.d_offset[k], r.d_elevation[k], f in ("horizontal", "both"),
+        what = move_text(r.ground_along[k], r.ground_across[k], r.d_elevation[k], f in ("horizontal", "both"),
                          f in ("vertical", "both"), move_decimals(d.unit.is_feet, r.horizontal_tolerance))
         return f"{what or 'reset it'}{by_position}"
+    if s == "misnumbered":
+        assert r.stored_as is not None
+        stored = f"{d.stakes.prefix}{d.stakes.first_point + int(r.stored_as[k])}"
+        return (f"stored as {stored} but lies on {target_id(d, r, k)} (within tolerance): confirm which stake it "
+                f"is and correct the number; {stored} is still to set")
     if s == "duplicate":
         return f"design point {target_id(d, r, k)} already has {governor}{by_position}; find which stake is the point"
     if s == "unmatched":
@@ -232,7 +259,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
            f"search radius for renumbered shots {r.search_radius:.4f}",
            clip("control points " + (", ".join(r.control_ids) if r.control_ids else "none in the job"), width),
            "",
-           f"shots {len(shots)}:  " + "   ".join(f"{s} {counts[s]}" for s in STATUSES),
+           f"shots {len(shots)}:  " + "   ".join(f"{s} {c}" for s, c in counts.items()),
            ]
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
@@ -263,8 +290,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
                 Column("station", [station_label(r.station[k]) for k in ks]),
                 Column("offset", [_fit(r.offset[k], 9, 3) for k in ks]),
                 Column("horiz", [_fit(r.horizontal_error[k], 7, 3) for k in ks]),
-                Column("d along", [_fit(r.d_station[k], 8, 3) for k in ks]),
-                Column("d across", [_fit(r.d_offset[k], 8, 3) for k in ks], with_previous=True)]
+                Column("d along", [_fit(r.d_along[k], 8, 3) for k in ks]),
+                Column("d across", [_fit(r.d_across[k], 8, 3) for k in ks], with_previous=True)]
         if np.isfinite(r.d_elevation[ks]).any():  # no column of blanks where no shot has a height
             cols.append(Column("d elev", [_fit(r.d_elevation[k], 7, 3) for k in ks]))
         if with_grade:
@@ -289,10 +316,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             out.append("\n".join(lines))
         return heads, out
 
-    attention = [k for k in range(len(shots)) if r.needs_attention(k)]
+    attention, fine, superseded, left_out = listed_shots(r)
     notes = {k: what_to_do(d, shots, r, k) for k in attention}
-    fine = [k for k in range(len(shots)) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(len(shots)) if r.status[k] == "superseded"]
+    if left_out:
+        out += textwrap.wrap(left_out, width) + [""]
     sections: tuple[tuple[str, list[int], bool, dict[int, str]], ...] = (
         ("NEEDS ATTENTION, with what to do (out, duplicate, unmatched, control off)", attention, True, notes),
         ("WITHIN TOLERANCE", fine, True, {}),
@@ -300,10 +327,16 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
          {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
+    shown_counts = {"WITHIN TOLERANCE": sum(1 for k in range(len(shots)) if r.status[k] in ("ok", "control")
+                                            and not r.needs_attention(k)),
+                    "SUPERSEDED": counts["superseded"],
+                    "NEEDS ATTENTION": sum(1 for k in range(len(shots)) if r.needs_attention(k))}
     for name, ks, with_status, extra in sections:
-        if not ks and name.startswith("SUPERSEDED"):
+        total = next(v for key, v in shown_counts.items() if name.startswith(key))
+        if not total and name.startswith("SUPERSEDED"):
             continue
-        head = [f"{name}: {len(ks)}"]
+        head = [f"{name}: {total}" + (" (not listed: see check.csv)" if total and not ks else
+                                      (f" (the first {len(ks)} listed)" if len(ks) < total else ""))]
         if ks:
             cols, records = table(ks, with_status, extra)
             short = name.split(",")[0].split(" (")[0]
@@ -335,14 +368,14 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         foot.append(f"~: the end of a shot id cut to {ID_PRINTED} characters (check.csv holds it whole)")
     foot += [
         "move: from where the stake was shot to design, looking up-station: ahead/back",
-        "  along the line, right/left square to it, down/up for its top",
-        "  (ahead = design station - shot station)",
+        "  along the line, right/left square to it at the stake (ground distances),",
+        "  down/up for its top",
         "status out (horizontal / vertical / both): which tolerance the shot fails",
         "* matched by position: the shot's number is not a design point (renumbered),",
         "  so it was matched to the nearest design or control point within the search",
         "  radius",
         "control: a shot on a control point of the job, against the control coordinates",
-        "d along / d across: the shot's station / offset minus the design point's;",
+        "d along / d across: the residual along / square to the line at the stake;",
         "  d = staked - design; northing and easting residuals are in check.csv",
     ]
     return paged_parts(out, parts, title, foot, width).encode("utf-8")

@@ -41,6 +41,7 @@ from ..alignment import Alignment, Arc, Element, Line, Spiral
 from ..angles import format_dms, sincosd
 from ..design import Design
 from . import rows
+from .sections import widened_traces
 from .text import CAUTION_LINES, curve_texts
 
 __all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
@@ -244,8 +245,10 @@ def _build(c: Design) -> Any:
 
     _draw_path(msp, a, 0.0, "SO-CL")
     for ol in job.staking.offsets:
-        if ol.offset != 0.0:
+        if ol.offset != 0.0 and not ol.widening:
             _draw_path(msp, a, ol.offset, "SO-OFFSET")
+    for _code, tn_, te_ in widened_traces(c):  # a widened line is what it is: a polyline along its taper
+        msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
     detail = len(sp) <= DETAIL_MAX_STAKES
     for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)

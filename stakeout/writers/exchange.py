@@ -10,15 +10,26 @@ module; this writer only turns the design into its plain records.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 from .. import __version__
-from ..alignment import Arc, Element, Spiral
+from ..alignment import Arc, Element, Line, Spiral
 from ..alignment.curves import intersect_tangents
-from ..angles import sincosd
+from ..angles import angle_difference, sincosd
 from ..design import Design
+from ..errors import OutputError, StakeoutError
 from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
 
-__all__ = ["alignment_xml"]
+__all__ = ["alignment_xml", "EXPORT", "MAX_ARC_TURN", "MAX_SPIRAL_TURN"]
+
+
+#: Largest turn of one exported element, degrees.  LandXML describes an arc by its Start, Center and End,
+#: which say nothing of the sweep when Start and End (nearly) meet; a spiral by the PI of its end tangents,
+#: which runs off to infinity as its turn nears 180 degrees.  A longer element is written as equal pieces
+#: of at most this turn (an arc of 359.9999 degrees as three arcs of one circle): exactly the same curve.
+MAX_ARC_TURN = 150.0
+MAX_SPIRAL_TURN = 90.0
+_ANGLE_EPS = 1e-9  # degrees: a smaller change of direction at a join is none (as the alignment counts it)
 
 
 def _spiral_pi(el: Element) -> tuple[float, float]:
@@ -29,19 +40,65 @@ def _spiral_pi(el: Element) -> tuple[float, float]:
     return el.start_northing + t * c0, el.start_easting + t * s0
 
 
+def _pieces(el: Element, most: float) -> list[Element]:
+    """``el`` as equal pieces turning at most ``most`` degrees each (itself when it turns less)."""
+    count = math.ceil(el.central_angle / most - 1e-9)
+    if count <= 1:
+        return [el]
+    k0, k1 = el.curvature_start, el.curvature_end
+    step = el.length / count
+    out: list[Element] = []
+    n, e, az = el.start_northing, el.start_easting, el.start_azimuth
+    for k in range(count):  # each piece starts where the one before ends
+        start = (el.start + k * step, n, e, az, step)
+        if isinstance(el, Arc):
+            piece: Element = Arc.follow(*start, el.radius, el.turn)
+        else:
+            piece = Spiral.follow(*start, k0 + (k1 - k0) * k / count, k0 + (k1 - k0) * (k + 1) / count)
+        out.append(piece)
+        n, e, az = piece.end_northing, piece.end_easting, piece.end_azimuth
+    return out
+
+
+def _line(name: str, el: Element, before: Element | None) -> list[XElement]:
+    deflects = before is not None and abs(float(angle_difference(before.end_azimuth, el.start_azimuth))) > _ANGLE_EPS
+    return [XLine(0, f"L{name}", el.start_northing, el.start_easting, el.end_northing, el.end_easting,
+                  angle_point=deflects)]
+
+
+def _arc(name: str, el: Element, before: Element | None) -> list[XElement]:
+    assert isinstance(el, Arc)
+    parts = _pieces(el, MAX_ARC_TURN)
+    return [XCurve(0, f"C{name}" if len(parts) == 1 else f"C{name}.{k}", p.start_northing, p.start_easting,
+                   el.center_northing, el.center_easting, p.end_northing, p.end_easting, el.turn)
+            for k, p in enumerate(parts, start=1)]
+
+
+def _spiral(name: str, el: Element, before: Element | None) -> list[XElement]:
+    out: list[XElement] = []
+    parts = _pieces(el, MAX_SPIRAL_TURN)
+    for k, p in enumerate(parts, start=1):
+        pn, pe = _spiral_pi(p)
+        out.append(XSpiral(0, f"S{name}" if len(parts) == 1 else f"S{name}.{k}", p.start_northing, p.start_easting,
+                           pn, pe, p.end_northing, p.end_easting, p.radius_start, p.radius_end, el.turn))
+    return out
+
+
+#: How each element class of the design is exported: one entry per class of ``alignment/elements.py``
+#: (a test holds this); a class missing here is an error, never a ``<Line>``.
+EXPORT: dict[type[Element], Callable[[str, Element, Element | None], list[XElement]]] = {Line: _line, Arc: _arc, Spiral: _spiral}
+
+
 def _elements(d: Design) -> list[XElement]:
     out: list[XElement] = []
+    before: Element | None = None
     for i, el in enumerate(d.alignment.elements, start=1):
-        ends = (el.start_northing, el.start_easting)
-        if isinstance(el, Arc):
-            out.append(XCurve(i, f"C{i}", *ends, el.center_northing, el.center_easting, el.end_northing,
-                              el.end_easting, el.turn))
-        elif isinstance(el, Spiral):
-            pn, pe = _spiral_pi(el)
-            out.append(XSpiral(i, f"S{i}", *ends, pn, pe, el.end_northing, el.end_easting, el.radius_start,
-                               el.radius_end, el.turn))
-        else:
-            out.append(XLine(i, f"L{i}", *ends, el.end_northing, el.end_easting))
+        export = EXPORT.get(type(el))
+        if export is None:
+            raise OutputError(f"alignment.xml: element {i} of the alignment is a {type(el).__name__!r}, "
+                              "which the LandXML export does not know")
+        out.extend(export(str(i), el, before))
+        before = el
     return out
 
 
@@ -68,7 +125,10 @@ def alignment_xml(d: Design) -> bytes:
     eqs = [XEquation(eq.internal, eq.ahead, eq.back) for eq in d.stationing.equations]
     points = XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
     name = d.job.info.name or d.alignment.name
-    return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs, _profile(d),
-                         points, "stakeout", f"staked design of {name}"[:200],
-                         profile_name=d.profile.name or None if d.profile is not None else None,
-                         application_version=__version__)
+    try:
+        return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs,
+                             _profile(d), points, "stakeout", f"staked design of {name}"[:200],
+                             profile_name=d.profile.name or None if d.profile is not None else None,
+                             application_version=__version__)
+    except StakeoutError as exc:  # name the output and the part of the job it comes from
+        raise type(exc)(f"alignment.xml (the LandXML export of [alignment] and [profile]): {exc}") from None

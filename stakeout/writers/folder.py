@@ -15,13 +15,22 @@ Rules for the target (``--out``):
   ("Device or resource busy"), so the outputs cannot be moved onto it;
   write into a folder inside it.  A rename that still fails with that error
   gets the same explanation.
-* ``force`` never replaces a folder that holds an input (the job file, the
-  staked file), the working folder or the home folder.  An input given as
+* ``force`` never replaces a folder that holds an input (every file the
+  job reads, ``Job.inputs()``, and the staked file), the working folder or
+  the home folder.  An input given as
   a symbolic link protects the link's folder, every folder along its chain
   of links, and the folder of the file it finally points to.
 * A target that another program creates (or fills) during the build is
   never replaced without ``force``: the error says that it appeared and is
   not empty, and the new outputs are discarded.
+
+Killed runs (SIGKILL, out of memory, power loss) cannot clean up: the
+temporary folders carry the process id in their names
+(``.NAME.partial-PID-XXXX``, ``.NAME.old-PID-XXXX``), and the next run
+with the same target removes those of processes that no longer run; a
+target missing after a kill between the two renames of ``force`` is first
+restored from its ``.old-`` folder (:attr:`OutputFolder.litter_notes`
+says what was done).  Folders of running processes are never touched.
 
 Signals: Ctrl-C (and SIGTERM or SIGHUP, which the CLI turns into the same
 interruption) anywhere before the outputs are in place removes the
@@ -97,6 +106,44 @@ def committed_targets() -> tuple[Path, ...]:
         The targets, absolute.
     """
     return tuple(_COMMITTED)
+
+
+def _umask() -> int:
+    """The process's file-mode creation mask (read without changing it where the system allows)."""
+    try:
+        with open("/proc/self/status", encoding="ascii", errors="replace") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError, IndexError):
+        pass
+    with _signals_held():
+        mask = os.umask(0o022)
+        os.umask(mask)
+    return mask
+
+
+def _owner_pid(name: str, prefix: str) -> int | None:
+    """The process id in a temporary folder's name (``PREFIX<pid>-XXXX``), None if it is not one."""
+    if not name.startswith(prefix):
+        return None
+    head = name[len(prefix):].split("-", 1)[0]
+    return int(head) if head.isascii() and head.isdigit() and len(head) < 10 else None
+
+
+def _alive(pid: int) -> bool:
+    """Whether process ``pid`` still runs (this process counts; a process of
+    another user counts as running).
+    """
+    if pid == os.getpid():
+        return True
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:
+        return True
+    return True
 
 
 def _nearest_existing(p: Path) -> Path:
@@ -197,8 +244,41 @@ class OutputFolder:
         self._writer: ThreadPoolExecutor | None = None  # writes files while the next output renders
         self._pending: list[Future[None]] = []
         self._check_protected(protect)
+        self.litter_notes: list[str] = []
+        self._clean_litter()
         self._check_target()
         self._existed = self.target.exists()
+
+    def _clean_litter(self) -> None:
+        """Remove the temporary folders a killed run left beside the target
+        (``.NAME.partial-PID-*``, ``.NAME.old-PID-*`` of a process that no
+        longer runs), restoring a missing target from its ``.old-`` folder.
+        """
+        t = self.target
+        try:
+            entries = sorted(os.scandir(t.parent), key=lambda e: e.name)
+        except OSError:
+            return
+        stale: dict[str, list[os.DirEntry[str]]] = {"partial": [], "old": []}
+        for e in entries:
+            for kind in stale:
+                pid = _owner_pid(e.name, f".{t.name}.{kind}-")
+                if pid is not None and e.is_dir(follow_symlinks=False) and not _alive(pid):
+                    stale[kind].append(e)
+        olds = sorted(stale["old"], key=lambda e: e.stat(follow_symlinks=False).st_mtime_ns)
+        if olds and not t.exists() and not t.is_symlink():
+            keep = olds.pop()  # killed between the two renames: the replaced outputs go back
+            try:
+                os.rename(keep.path, t)
+                self.litter_notes.append(f"{self.option} {str(t)!r} was missing after a killed run: restored it "
+                                         f"from {keep.name}")
+            except OSError as exc:
+                raise OutputError(f"{self.option} {str(t)!r}: missing after a killed run, its earlier outputs are "
+                                  f"in {keep.path!r} and cannot be moved back ({exc.strerror}); move them back "
+                                  "by hand") from None
+        for e in stale["partial"] + olds:
+            shutil.rmtree(e.path, ignore_errors=True)
+            self.litter_notes.append(f"removed {e.name}, left beside {self.option} by a killed run")
 
     def _check_protected(self, protect: tuple[str | Path, ...]) -> None:
         # --force replaces the whole folder: never one that holds the inputs,
@@ -280,7 +360,7 @@ class OutputFolder:
         base = _nearest_existing(self.target.parent)
         try:
             with _signals_held():  # never a temporary folder that nobody will remove
-                self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-", dir=base))
+                self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-{os.getpid()}-", dir=base))
         except OSError as exc:
             raise OutputError(f"{self.option} {str(self.target)!r}: cannot write there ({exc.strerror})") from None
         except BaseException:
@@ -356,7 +436,7 @@ class OutputFolder:
         tmp, t = self.tmp, self.target
         try:
             t.parent.mkdir(parents=True, exist_ok=True)
-            os.chmod(tmp, 0o755)
+            os.chmod(tmp, 0o777 & ~_umask())  # as mkdir would have made it (mkdtemp makes 0700)
         except OSError as exc:
             raise self._move_error(exc) from None
         committed = False
@@ -376,7 +456,7 @@ class OutputFolder:
                     committed, self.tmp = True, None
                     _COMMITTED.append(t)
             else:
-                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-", dir=t.parent))
+                old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-{os.getpid()}-", dir=t.parent))
                 old.rmdir()
                 with _signals_held():
                     os.rename(t, old)

@@ -22,6 +22,7 @@ import numpy as np
 from ..alignment import Arc, Spiral
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from .sections import slope_texts, superelevation_table
 from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word, vertical_note
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -286,6 +287,9 @@ def _setout_section(d: Design) -> str:
             ("grid dist", "n"), ("ground dist", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    if cs is not None:
+        cols.append(("slope %", "n"))
     if zen is not None:
         cols += [("zenith", "n"), ("slope dist", "n")]
     if prec is not None:
@@ -301,6 +305,8 @@ def _setout_section(d: Design) -> str:
             r = [point[i], label[i], offs[i], code[i], feat[i], "" if at[i] else angle[i], grid[i], ground[i]]
             if elev is not None:
                 r.append(elev[i])
+            if cs is not None:
+                r.append(cs[i])
             if zen is not None and slope is not None:
                 r += [zen[i], slope[i]]
             if prec is not None:
@@ -328,11 +334,16 @@ def _stakes_section(d: Design) -> str:
             ("easting", "n")]
     if elev is not None:
         cols.append(("design el", "n"))
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    if cs is not None:
+        cols.append(("slope %", "n"))
     rows = []
     for i in range(n):
         r = [sp.point[i], sp.station_label[i], offs[i], sp.code[i], sp.feature[i], north[i], east[i]]
         if elev is not None:
             r.append(elev[i])
+        if cs is not None:
+            r.append(cs[i])
         rows.append(r)
     return (f"<h2>Stakes</h2><p>The job has no [setup]: the stakes with their grid coordinates "
             f"({n:,}).</p>{_table(cols, rows)}")
@@ -361,7 +372,7 @@ def _deflection_section(d: Design) -> str:
     data = deflection_rows(a, d.stakes.stations)
     if not data:
         return "<h2>Deflections</h2><p>The alignment has no curves.</p>"
-    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0]
+    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0 and not ol.widening]
     total = sum(len(rows) for _, _, rows in data) * (1 + len(offsets))
     if total > REPORT_MAX_ROWS:
         return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
@@ -401,6 +412,16 @@ def _deflection_section(d: Design) -> str:
     return "".join(out)
 
 
+def _superelevation_section(d: Design) -> str:
+    """The superelevation table, when the job has one (empty otherwise)."""
+    rows = superelevation_table(d)
+    if not rows:
+        return ""
+    return ("<h2>Superelevation</h2><p>Cross slopes in percent, outward from the centreline (negative falls away "
+            "from it), linear by distance between rows; every row's station is staked (SE).</p>"
+            + _table([("station", "n"), ("left", "n"), ("right", "n")], rows))
+
+
 def report_html(d: Design, plan_svg: str) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
@@ -424,6 +445,9 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         _signoff(),
         _cautions(),
     ]
+    se = _superelevation_section(d)
+    if se:
+        parts.insert(2, se)
     foot = f"{job.info.name}: staking report, job file sha256 {job.sha256[:16]}"
     return _document(f"Staking report: {job.info.name}", foot, "\n".join(parts))
 
@@ -447,7 +471,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     shots, r : Shots, CheckResult
         The shots read and the check's result, in file order.
     """
-    from .checkreport import cut_fill, status_text, target_id, what_to_do
+    from .checkreport import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
     from .picture import residual_svg_element
 
     job, design, unit = d.job, d.stakes, d.unit
@@ -455,12 +479,12 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     n = len(shots)
     counts = r.counts()
     count_text = ", ".join(f"{s} {c}" for s, c in counts.items())
-    attention = [k for k in range(n) if r.needs_attention(k)]
-    fine = [k for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
-    superseded = [k for k in range(n) if r.status[k] == "superseded"]
+    attention, fine, superseded, left_out = listed_shots(r)
+    n_attention = sum(1 for k in range(n) if r.needs_attention(k))
+    n_fine = sum(1 for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k))
     verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
-               f'<div class="verdict bad">NEEDS ATTENTION: {len(attention)} of {n} shots '
-               "(see the first table)</div>")
+               f'<div class="verdict bad">NEEDS ATTENTION: {n_attention} of {n} shots '
+               "(see the first table)</div>") + (f"<p>{_e(left_out)}</p>" if left_out else "")
     governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
     hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
     dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
@@ -484,7 +508,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
 
     def row(k: int, note: bool) -> list[Cell]:
         out: list[Cell] = [shots.point[k], target_id(d, r, k), label(float(r.station[k])), _f(r.offset[k]),
-                           _f(r.horizontal_error[k]), _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k])]
+                           _f(r.horizontal_error[k]), _f(r.d_along[k]), _f(r.d_across[k]), _f(r.d_elevation[k])]
         if with_grade:
             out.append(marks[k])
         out.append((status_text(r, k), f"status-{r.status[k]}"))
@@ -496,19 +520,23 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
         return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
     svg, factor = residual_svg_element(d, shots, r, name)
-    missing = [design.point[i] for i in r.not_staked.tolist()]
+    missing = [design.point[i] for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
+    if r.not_staked.size > NOT_STAKED_LISTED:
+        missing.append(f"... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
     parts = [
         f"<header><h1>Staked-point check</h1><p class=\"sub\">{_e(job.info.name)}</p>{verdict}{_facts(facts)}"
         "</header>",
-        f"<h2>Needs attention: {len(attention)}</h2>"
+        f"<h2>Needs attention: {n_attention}</h2>"
         + (table(attention, "what to do") if attention else "<p>None: every shot is within tolerance.</p>"),
         f'<section class="picture"><h2>Residuals, drawn {factor:g} times their length</h2>{svg}</section>',
-        f"<h2>Within tolerance: {len(fine)}</h2>" + (table(fine) if fine else "<p>None.</p>"),
+        f"<h2>Within tolerance: {n_fine}</h2>" + (table(fine) if fine else
+                                                  "<p>Not listed: see check.csv.</p>" if n_fine else "<p>None.</p>"),
         (f"<h2>Superseded: {len(superseded)}</h2><p>Shot again later in the file: the later shot governs.</p>"
          + table(superseded, "governed by")) if superseded else "",
-        f"<h2>Design points not staked: {len(missing)}</h2>"
+        f"<h2>Design points not staked: {r.not_staked.size}</h2>"
         + (f'<p class="ids">{_e(" ".join(missing))}</p>' if missing else "<p>None.</p>"),
-        "<p>d = staked - design; d along / d across: the shot's station / offset minus the design point's; "
+        "<p>d = staked - design; d along / d across: the residual along and square to the alignment at the "
+        "design point (grid; the moves are ground distances); "
         + ("mark: the cut or fill to write on the stake, C where the shot is above design, F below; "
            if with_grade else "")
         + "status out (horizontal / vertical / both): which tolerance the shot fails; moves are looking "

@@ -29,6 +29,7 @@ from numpy.typing import NDArray
 from ..alignment import Alignment, Arc, Element, Line
 from ..angles import format_dms
 from ..design import Design
+from .sections import widened_traces
 from .text import curve_texts, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -598,9 +599,12 @@ def _alignment_lines(d: Design, v: View, clip_id: str, width_cl: float = 1.6) ->
     a = d.alignment
     parts = [f'<g clip-path="url(#{clip_id})" fill="none" stroke-linejoin="round">']
     for ol in d.job.staking.offsets:
-        if ol.offset != 0.0:
+        if ol.offset != 0.0 and not ol.widening:
             parts.append(f'<path class="so-offset" d="{_path_d(a, ol.offset, v)}" stroke="{OFFSET_COLOUR}" '
                          'stroke-width="0.8"/>')
+    for _code, tn, te in widened_traces(d):  # a widened line: a polyline along its taper
+        xy = " ".join(f"{_n(p)},{_n(q)}" for p, q in zip(v.x(te).tolist(), v.y(tn).tolist()))
+        parts.append(f'<path class="so-offset" d="M{xy}" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>')
     parts.append(f'<path class="so-cl" d="{_path_d(a, 0.0, v)}" stroke="{CL_COLOUR}" stroke-width="{_g(width_cl)}"/>')
     parts.append("</g>")
     return "".join(parts)
@@ -624,7 +628,7 @@ def plan_svg_element(d: Design) -> str:
     # the elements' bounding samples (arcs bulge beyond their ends)
     mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
     mn, me, _ = a.evaluate(mids, 0.0)
-    big_off = max([abs(ol.offset) for ol in job.staking.offsets] + [0.0])
+    big_off = max([abs(o) for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
     ext = _extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
                   [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
@@ -677,7 +681,7 @@ def plan_svg_element(d: Design) -> str:
     labelled = labelled[(labelled >= a.start_station - 1e-9) & (labelled <= a.end_station + 1e-9)]
     staked = np.unique(sp.stations)
     minor = staked if staked.size <= TICK_MAX_STATIONS else np.zeros(0)
-    offs = np.array([ol.offset for ol in job.staking.offsets] + [0.0])
+    offs = np.array([o for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
     left_px, right_px = max(0.0, -offs.min()) * v.scale, max(0.0, offs.max()) * v.scale
     ticks: list[str] = []
     tick_lines: list[tuple[F, F]] = []  # vertices with NaN between ticks, for the labeller
@@ -890,7 +894,12 @@ def plan_svg_element(d: Design) -> str:
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
         o = float(sp.offsets[j])
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
-        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {abs(o):.2f}{where}")
+        size = f"{abs(o):.2f}"
+        if sp.point_offsets is not None:  # a widened line: the range of its offsets
+            each = np.abs(sp.point_offsets[j::sp.offsets.size])
+            if each.size and each.min() != each.max():
+                size = f"{each.min():.2f}-{each.max():.2f}"
+        pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {size}{where}")
     pan.symbol(f'<circle cx="14" cy="0" r="3.2" fill="none" stroke="{CL_COLOUR}" stroke-width="1.2"/>',
                "key point (feature, station)")
     if pis:
@@ -1127,7 +1136,8 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     rad = r.horizontal_tolerance * factor * v.scale
     mx, my = v.x(de_e), v.y(de_n)
     ring = np.flatnonzero(matched)
-    ring = ring[_thin(mx[ring], my[ring], 0.05)] if ring.size else ring  # one circle per point shot
+    ring = ring[_thin(mx[ring], my[ring], 0.05 if ring.size <= LABEL_MAX_STAKES else THIN_CELL)] if ring.size \
+        else ring  # one circle per point shot (thinned at corridor scale)
     body.append(f'<path d="{_circles(mx[ring], my[ring], rad)}" fill="none" '
                 'stroke="#9ecae1" stroke-width="0.7"/>')
     status = np.array(r.status, dtype=object)
@@ -1141,6 +1151,8 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     statuses = list(dict.fromkeys(list(STATUS_COLOURS) + sorted(set(r.status))))
     for s in statuses:
         sel = np.where((status == s) & matched)[0]
+        if sel.size > LABEL_MAX_STAKES and s not in ("out", "duplicate"):  # corridor scale: thinned, as the plan
+            sel = sel[_thin(mx[sel], my[sel], THIN_CELL)]  # (shots needing attention are all drawn)
         if sel.size == 0:
             continue
         colour = STATUS_COLOURS.get(s, "#000")

@@ -10,6 +10,7 @@ from ..alignment import Arc, Spiral, degree_of_curve_arc
 from ..alignment.clothoid import spiral_figures
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from .sections import transition_lines
 from .text import CAUTION_LINES, curve_texts, spiral_line, turn_word
 
 __all__ = ["curve_report"]
@@ -71,6 +72,7 @@ def curve_report(d: Design) -> str:
             out.extend(_spiral_lines(n, sp, a0, a1))
         if ct.external is not None:
             out.append(f"  external (PI to the curve)  {ct.external:.4f}")
+    out.extend(transition_lines(d))
     out.append("")
     out.extend(CAUTION_LINES)
     return "\n".join(out) + "\n"

@@ -20,6 +20,7 @@ from ..design import Design, Occupation, precision_rules_setups
 from ..job import Setup
 from ..precision import R95_FACTOR
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
+from .sections import slope_column
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
                    side_text, table_lines, turn_word, vertical_note, wrap_lines)
 
@@ -123,6 +124,9 @@ def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
             Column("grnd dist", fixed(so.ground_distance, 3))]
     if stakes.elevation is not None:
         cols.append(Column("design el", fixed(stakes.elevation, 3)))
+        slope = slope_column(d) if width is None else None  # the wide layout only
+        if slope is not None:
+            cols.append(slope)
     if so.zenith is not None and so.slope_distance is not None:
         cols.append(Column("zenith", _texts(format_dms(so.zenith, 0))))
         cols.append(Column("slope dist", fixed(so.slope_distance, 3), with_previous=True))
@@ -383,7 +387,7 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent")
     head.append("(zero on the PI or the back tangent), turn the deflection toward the curve")
     head.append("and tape the chord.")
-    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0]
+    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0 and not ol.widening]
     kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
     spirals = False
     # the sheet in order: a title (str) opens each element and offset line, then its data rows

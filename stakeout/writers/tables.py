@@ -24,7 +24,9 @@ from .text import fixed_or_empty, turn_word
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
-    "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_text", "points_csv", "stations_csv",
+    "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_guard", "csv_text_field", "FORMULA_LEADS",
+    "csv_text",
+    "points_csv", "stations_csv",
     "curves_csv", "setout_csv",
 ]
 
@@ -32,7 +34,9 @@ POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "easting",
                     "elevation", "feature", "code",
                     # added columns
-                    "region")
+                    "region",
+                    # second set: cross-sections (ground columns stay empty until a ground is read)
+                    "alignment", "cross_slope", "ground_elevation", "cut_fill")
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
@@ -46,6 +50,24 @@ def csv_field(value: str) -> str:
     if any(c in value for c in ',"\r\n'):
         return '"' + value.replace('"', '""') + '"'
     return value
+
+
+#: First characters that make a spreadsheet take a field as a formula (common practice: the usual
+#: CSV-injection guidance names these six).
+FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def csv_guard(value: str) -> str:
+    """A text field that no spreadsheet runs as a formula: one starting with
+    ``= + - @``, tab or CR gets a leading apostrophe (``'-0+120.000``);
+    numbers are never text fields and are written as they are.
+    """
+    return "'" + value if value[:1] in FORMULA_LEADS else value
+
+
+def csv_text_field(value: str) -> str:
+    """:func:`csv_guard`, then :func:`csv_field`: how every text field of every CSV is written."""
+    return csv_field(csv_guard(value))
 
 
 def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
@@ -75,21 +97,28 @@ class _PerPoint:
         first = self.sp.first_point + self.p.start
         return [rows.const(self.sp.prefix, self.n), rows.integer(np.arange(first, first + self.n, dtype=np.int64))]
 
-    def label(self) -> rows.Field:
+    def label(self, guard: bool = False) -> rows.Field:
+        """Station labels; ``guard``: a label that is a whole field (``-0+120.000``) gets the
+        :func:`csv_guard` apostrophe.
+        """
         sp = self.sp
         st = sp.stationing  # every label comes from the stationing: stations in force there
-        lab = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
+        f = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
         twice = st.occurs_twice(sp.stations[self.s])
         if twice.any():  # a station an equation doubles carries its region, as Stationing.labels writes it
             k = self.k
             suffix = np.concatenate([rows.const("(", k), rows.integer(sp.regions[self.s]), rows.const(")", k)], axis=1)
-            lab = np.concatenate([lab, rows.blank(suffix, ~twice)], axis=1)
-        return rows.repeat_rows(lab, self.m)
+            f = np.concatenate([f, rows.blank(suffix, ~twice)], axis=1)
+        if guard and f.size:
+            f = np.hstack([np.where(f[:, :1] == ord("-"), ord("'"), 0).astype(np.uint8), f])
+        return rows.repeat_rows(f, self.m)
 
     def station(self, decimals: int) -> rows.Field:
         return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)
 
     def offset(self, decimals: int) -> rows.Field:
+        if self.sp.point_offsets is not None:  # widened lines: each point's own offset
+            return rows.fixed(self.sp.point_offsets[self.p], decimals)
         return rows.tile_rows(rows.fixed(self.sp.offsets, decimals), self.k)
 
     def code(self) -> rows.Field:
@@ -106,6 +135,9 @@ class _PerPoint:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
         offs = self.sp.offsets
         side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in offs.tolist()])
+        if self.sp.point_offsets is not None:  # widened lines: each point's own offset, the line's side
+            return np.concatenate([rows.fixed(np.abs(self.sp.point_offsets[self.p]), decimals),
+                                   rows.tile_rows(side, self.k)], axis=1)
         both = np.concatenate([rows.fixed(np.abs(offs), decimals), side], axis=1)
         return rows.tile_rows(both, self.k)
 
@@ -115,6 +147,15 @@ class _PerPoint:
     def elevation(self) -> rows.Field:
         e = self.sp.elevation
         return rows.const("", self.n) if e is None else rows.fixed(e[self.p], DECIMALS)
+
+    def cross_slope(self) -> rows.Field:
+        """The slope applied to each point (percent, 4 decimals), empty where none."""
+        sl = self.sp.slope
+        if sl is None:
+            return rows.const("", self.n)
+        v = sl[self.p]
+        none = np.isnan(v)
+        return rows.blank(rows.fixed(np.where(none, 0.0, v), DECIMALS), none)
 
     def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
         return rows.fixed(values[self.p], decimals)
@@ -158,11 +199,13 @@ def stations_csv(design: Design) -> bytes:
     """``stations.csv``: every staked point with where it sits on the alignment."""
     d = DECIMALS
     sp = design.stakes
+    name = np.frombuffer(csv_text_field(design.alignment.name).encode("utf-8"), dtype=np.uint8)
 
     def layout(p: _PerPoint) -> list[rows.Field]:
-        return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(), p.sep(), p.offset(d), p.sep(),
+        return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(guard=True), p.sep(), p.offset(d), p.sep(),
                 p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(), p.elevation(), p.sep(),
-                p.feature(), p.sep(), p.code(), p.sep(), p.region()]
+                p.feature(), p.sep(), p.code(), p.sep(), p.region(),
+                p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(), p.sep()]
 
     return _csv(STATIONS_COLUMNS, sp, layout)
 
@@ -289,7 +332,7 @@ def profile_csv(design: Design) -> bytes:
     lines = []
     for i, r in enumerate(design.profile.rows(), start=1):
         lines.append(",".join([
-            str(i), station(r.station), st.label(r.station), fixed_or_empty(r.elevation, d),
+            str(i), station(r.station), csv_text_field(st.label(r.station)), fixed_or_empty(r.elevation, d),
             grade(r.grade_in), grade(r.grade_out),
             fixed_or_empty(r.curve_length_back, d), fixed_or_empty(r.curve_length_ahead, d),
             station(r.pvc_station), fixed_or_empty(r.pvc_elevation, d),

@@ -1,4 +1,5 @@
-"""Issue 17 item 1: ids and free text that could split rows or drive a terminal.
+"""Safe ids and free text (stakeout/textsafety.py): nothing that could split
+rows or drive a terminal.
 
 References: Python's ``re`` documentation ("$ matches at the end of the
 string or just before the newline at the end of the string"; fullmatch

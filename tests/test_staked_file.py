@@ -1,5 +1,5 @@
-"""Issue 17 items 3, 5/11, 12, 13, 21, 22, 24 and 25: the staked-file reader
-under careless and hostile exports.
+"""The staked-file reader (stakeout/shots.py) under careless and hostile
+exports.
 
 References: RFC 4180 (CSV; quoted fields may hold line breaks) read by Python's
 ``csv`` module as an independent reader of the same text; the ``codecs``
@@ -84,7 +84,7 @@ def test_corpus_lists_every_file():
     assert set(EXPECT) == {p.name for p in BAD.iterdir() if p.name != "expect.txt"}
 
 
-# ---- item 3: a first row is a header only if it names the columns ------------------------
+# ---- a first row is a header only if it names the columns --------------------------------
 def test_check_drops_first_shot_typo(tmp_path):
     with pytest.raises(StakedFileError, match=r"line 1: northing '18400O5\.811' is not a number"):
         _read(tmp_path, "1000,18400O5.811,6484985.080,,STK\n1001,1840004.343,6484988.826,,STK\n")
@@ -102,7 +102,7 @@ def test_header_skipped_with_columns_option(tmp_path):
     assert s.northing[2] == 1840000.004 and len(s) == 3
 
 
-# ---- item 25 --------------------------------------------------------------------------
+# ---- a header naming a column twice ---------------------------------------------------
 def test_duplicate_header_columns(tmp_path):
     with pytest.raises(StakedFileError, match=r"line 1: the header names 'northing' twice \(columns 2, 4: "
                                               r"'northing', 'Northing'\); name each column once, or give --columns"):
@@ -115,7 +115,7 @@ def test_duplicate_header_columns(tmp_path):
     assert s.northing[0] == 1.0
 
 
-# ---- item 12: line ends and field length ------------------------------------------------
+# ---- line ends and field length ---------------------------------------------------------
 @pytest.mark.parametrize("eol", ["\n", "\r\n", "\r"])
 @pytest.mark.parametrize("delim", [",", ";", "\t"])
 def test_cr_only_line_ends(tmp_path, eol, delim):
@@ -155,7 +155,7 @@ def test_field_over_limit_line_number(tmp_path):
     assert r.exit_code == 0, r.output  # read fine: both are real design points, staked within tolerance
 
 
-# ---- item 13 ---------------------------------------------------------------------------
+# ---- files that are not regular, or too large ------------------------------------------
 def test_staked_dev_zero(tmp_path):
     r = runner.invoke(app, ["check", str(JOB), "/dev/zero", "--out", str(tmp_path / "o")])
     assert r.exit_code == 2
@@ -179,7 +179,7 @@ def test_staked_file_over_size_limit(tmp_path):
         read_shots(big)
 
 
-# ---- item 21: encodings ----------------------------------------------------------------
+# ---- encodings -------------------------------------------------------------------------
 @pytest.mark.parametrize("codec", ["utf-16", "utf-16-le", "utf-16-be"])
 def test_utf16_staked_file(tmp_path, codec):
     text = _csv(ROWS, header=["point", "northing", "easting", "elevation", "description"])
@@ -204,7 +204,7 @@ def test_utf8_bom_and_latin1(tmp_path):
     assert win.point == ["1000€"]
 
 
-# ---- item 22 ---------------------------------------------------------------------------
+# ---- a quoted line break in the first record -------------------------------------------
 def test_quoted_newline_first_record(tmp_path):
     text = '"Point\nNo",Northing,Easting\n1000,1840005.811,6484985.080\n1001,1840004.343,6484988.826\n'
     # the defect: the raw first line holds no comma, so counting on it chose space
@@ -222,7 +222,7 @@ def test_semicolon_file_with_decimal_commas_detected(tmp_path):
     assert s.point == ["1000"] and s.description == ["STK,1"]
 
 
-# ---- item 24 (shots) ---------------------------------------------------------------------
+# ---- digits other than ASCII in shots ----------------------------------------------------
 @pytest.mark.parametrize("text", ["١٨٤٠٠٠٥.٨١١", "۱۸۴۰۰۰۵.۸۱۱", "１８４０００５.８１１", "१८४०००५.८११", "1_840_005.811"])
 def test_non_ascii_digits_in_shots(tmp_path, text):
     assert float(text) == 1840005.811  # Python's float() reads these (the hole); the reader must not
@@ -239,7 +239,7 @@ def test_plain_ascii_numbers_still_read(tmp_path):
             _read(tmp_path, f'1,"{bad}",2\n')
 
 
-# ---- items 5/11 (shots) --------------------------------------------------------------------
+# ---- numeric bounds of shots ---------------------------------------------------------------
 @pytest.mark.parametrize("row, key", [("1,1e15,2", "northing"), ("1,1,-1e13", "easting"),
                                       ("1,1,2,1e300", "elevation"), ("1,1,2,-100001", "elevation")])
 def test_huge_shot_values(tmp_path, row, key):

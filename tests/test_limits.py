@@ -1,5 +1,5 @@
-"""Issue 17 items 5, 11, 13 and 20: numeric bounds, file size and kind, job-file
-encodings.
+"""The documented bounds (stakeout/limits.py): numeric bounds, file size and
+kind, job-file encodings.
 
 References: IEEE 754 binary64 has a 53-bit significand (the standard; Python's
 ``math.ulp`` and ``sys.float_info.mant_dig`` report it); the ``decimal`` module
@@ -135,7 +135,7 @@ def test_first_point_past_int64():
         check_point_numbers(MAX_POINT_NUMBER - 9, 11)
 
 
-# ---- item 13: files that are not regular, or too large ---------------------------------
+# ---- files that are not regular, or too large ------------------------------------------
 def test_dev_zero_job_file_refused():
     with pytest.raises(JobFileError, match="job file '/dev/zero': is not a regular file"):
         read_regular_file("/dev/zero", "job file", MAX_JOB_FILE_BYTES)
@@ -196,7 +196,7 @@ def test_file_growing_while_read_refused(tmp_path, monkeypatch):
         read_regular_file(f, "job file", 25)
 
 
-# ---- item 20: byte-order marks in the job file ------------------------------------------
+# ---- byte-order marks in the job file ---------------------------------------------------
 def test_bom_in_job_file():
     text = (SAMPLES / "loop_ramp_usft.toml").read_text(encoding="utf-8")
     data = codecs.BOM_UTF8 + text.encode("utf-8")

@@ -1,4 +1,4 @@
-"""Issue 17 items 2, 17, 18, 19 and 23: the output folder under links, races,
+"""The output folder (stakeout/writers/folder.py) under links, races,
 interruptions and mount points.
 
 The expected outcomes are those of POSIX ``rename(2)``/``rmdir(2)``
@@ -39,7 +39,7 @@ def _tree(p: Path) -> dict:
             for q in sorted(p.rglob("*"))}
 
 
-# ---- item 2 ----------------------------------------------------------------------------
+# ---- a linked job file and --force -----------------------------------------------------
 def test_force_with_symlinked_job_file(tmp_path):
     a, b, c = tmp_path / "a", tmp_path / "b", tmp_path / "c"
     for d in (a, b, c):
@@ -65,7 +65,7 @@ def test_protection_unit():
         OutputFolder(Path(JOB).parent, force=True, protect=(JOB,))
 
 
-# ---- item 17 ---------------------------------------------------------------------------
+# ---- interrupts while --force clears and swaps -----------------------------------------
 @pytest.mark.parametrize("exc, code", [(KeyboardInterrupt(), 130), (Terminated(signal.SIGTERM), 143)])
 def test_interrupt_during_force_cleanup(tmp_path, monkeypatch, exc, code):
     out = tmp_path / "out"
@@ -133,7 +133,7 @@ def test_remains_of_earlier_run_removed_only_ours(tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == [".other.remains-zzz", ".out.old-keep", "out"]
 
 
-# ---- item 18 ---------------------------------------------------------------------------
+# ---- --out through symbolic links ------------------------------------------------------
 def test_out_is_symlink(tmp_path):
     real = tmp_path / "real"
     real.mkdir()
@@ -176,7 +176,7 @@ def test_symlink_appearing_during_build(tmp_path, monkeypatch):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["elsewhere", "out"]
 
 
-# ---- item 19 ---------------------------------------------------------------------------
+# ---- the target appearing during the build ---------------------------------------------
 @pytest.mark.parametrize("existed", [False, True])
 def test_target_created_during_build(tmp_path, monkeypatch, existed):
     out = tmp_path / "out"
@@ -218,7 +218,7 @@ def test_target_appearing_in_the_rename_race(tmp_path, monkeypatch):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out"]
 
 
-# ---- item 23 ---------------------------------------------------------------------------
+# ---- mount points and EBUSY ------------------------------------------------------------
 def test_empty_mount_point_as_out(tmp_path, monkeypatch):
     out = tmp_path / "mnt"
     out.mkdir()
@@ -256,6 +256,7 @@ def test_ebusy_from_the_move_explained(tmp_path, monkeypatch, force):
     assert [p.name for p in out.iterdir()] == (["old.csv"] if force else [])
 
 
+# ---- interrupts after the commit and during the cleanup ---------------------------------
 def test_interrupt_after_commit_not_reported_as_nothing_written(tmp_path, monkeypatch):
     # Ctrl-C after the folder is in place but before the command returns
     # (here: while the final progress step runs) must not claim "nothing was written".

@@ -1,7 +1,7 @@
-"""Regression tests named after the field-readiness and hardening defects.
+"""Safeguards against a wrong stake or a wrong decision in the field.
 
-Each test reproduces one way a crew could end up with a wrong stake or a wrong
-decision, and holds the fix.  Geometry references are plane trigonometry
+Each test, named after the defect it holds, reproduces one way a crew could
+end up with a wrong stake or a wrong decision, and holds the fix.  Geometry references are plane trigonometry
 written here (tangent T = R tan(I/2), common practice of route surveying).
 """
 
@@ -58,7 +58,7 @@ offsets = [{{ offset = -10.0, code = "L" }}, {{ offset = 0.0, code = "CL" }}]
 
 
 def test_default_combined_factor_is_announced_not_given(tmp_path):
-    # defect 1: a CRS job with no [scale] said "given in the job file"; ground = grid silently
+    # regression: a CRS job with no [scale] said "given in the job file"; ground = grid silently
     job = write_job(tmp_path, """format = 1
 [job]
 name = "UTM job without a factor"
@@ -88,7 +88,7 @@ backsight = { id = "B", northing = 5000400.0, easting = 500000.0 }
 
 
 def test_offset_line_past_an_arcs_centre_is_refused(tmp_path):
-    # defect 2: an inside offset larger than the radius put stakes through the centre
+    # regression: an inside offset larger than the radius put stakes through the centre
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Tight arc"
@@ -113,7 +113,7 @@ offsets = [{ offset = -5.0, code = "L" }, { offset = 20.0, code = "R" }]
 
 
 def test_near_touching_reverse_curves_meet_at_one_prc(tmp_path):
-    # defect 3: a 0.0014-ft tangent gave two stakes 0.0014 apart labelled PT and PC
+    # regression: a 0.0014-ft tangent gave two stakes 0.0014 apart labelled PT and PC
     r = _build(_reverse_job(tmp_path, 0.0014), tmp_path / "out")
     assert r.exit_code == 0, r.output
     assert "alignment.pi[1] and alignment.pi[2]" in r.output and "0.0014 tangent" in r.output
@@ -146,7 +146,7 @@ def test_reverse_curves_beyond_the_join_tolerance(tmp_path):
 
 @pytest.mark.parametrize("text, units", [("46+6", "ft"), ("3+00.5", "m")])
 def test_loose_station_text_is_refused(tmp_path, text, units):
-    # defect 4: "46+6" was read as 46+06.00 and, in metres, "3+00.5" as 3+000.500
+    # regression: "46+6" was read as 46+06.00 and, in metres, "3+00.5" as 3+000.500
     job = write_job(tmp_path, f"""format = 1
 [job]
 name = "Loose station"
@@ -166,7 +166,7 @@ interval = 10.0
 
 
 def test_ids_over_the_limit_are_refused(tmp_path):
-    # defect 5: prefix + the largest number could exceed the documented 20 characters
+    # regression: prefix + the largest number could exceed the documented 20 characters
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Long ids"
@@ -188,7 +188,7 @@ first_point = 99995
 
 
 def test_overlap_message_names_the_curves_not_the_pob(tmp_path):
-    # defect 7: an overlap next to the POB named the POB as a curve
+    # regression: an overlap next to the POB named the POB as a curve
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Overlap at the start"
@@ -214,7 +214,7 @@ interval = 10.0
 
 
 def test_extra_stations_count_against_the_point_limit(tmp_path, monkeypatch):
-    # hardening 4: extra stations bypassed the 10-million-point limit
+    # regression: extra stations bypassed the 10-million-point limit
     import stakeout.staking as staking
 
     monkeypatch.setattr(staking, "MAX_POINTS", 20)
@@ -239,7 +239,7 @@ extra_stations = [{extras}]
 
 
 def test_hairpin_angle_point_is_refused(tmp_path):
-    # hardening 7: PIs turning back by nearly 180 degrees put miter stakes a million feet away
+    # regression: PIs turning back by nearly 180 degrees put miter stakes a million feet away
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Hairpin"
@@ -269,7 +269,7 @@ offsets = [{ offset = -10.0, code = "L" }, { offset = 0.0, code = "CL" }]
     ("azimuth", '"４５"', "not an angle"),
 ])
 def test_nonsense_directions_refused(tmp_path, key, value, expect):
-    # hardening 24: azimuths outside 0-360 and full-width digits were accepted
+    # regression: azimuths outside 0-360 and full-width digits were accepted
     job = write_job(tmp_path, f"""format = 1
 [job]
 name = "Directions"
@@ -324,7 +324,7 @@ def test_deflections_for_offset_lines_and_left_readings(samples, tmp_path):
 
 
 def test_sheet_layout_from_content_never_crashes(tmp_path):
-    # hardening 10: the 100-character assertion fired on a long job name, a CRS given as WKT, a tall
+    # regression: the 100-character assertion fired on a long job name, a CRS given as WKT, a tall
     # ellipsoid height and a curve deflecting a hair under 180 degrees (exit 3)
     import pyproj  # the WKT comes from the reference library itself
 
@@ -360,7 +360,7 @@ ellipsoid_height = 10500.0
 
 
 def test_occupied_point_outside_the_crs_area_is_refused(tmp_path):
-    # hardening 8: "auto" took a factor far outside the zone (1.113) without a word
+    # regression: "auto" took a factor far outside the zone (1.113) without a word
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Far outside the zone"
@@ -400,7 +400,7 @@ def test_version_and_help_texts():
 
 
 def test_tiny_curve_is_refused(tmp_path):
-    # hardening 9: radius 1e-9 and I = 1e-7 degrees lost the PT
+    # regression: radius 1e-9 and I = 1e-7 degrees lost the PT
     job = write_job(tmp_path, """format = 1
 [job]
 name = "Tiny curve"
@@ -428,7 +428,7 @@ interval = 10.0
 
 
 def test_dxf_of_a_large_job_is_bounded(tmp_path):
-    # hardening 14: 978,542 points took 452 s and 3.3 GB for the DXF; above the detail limit the stakes are
+    # regression: 978,542 points took 452 s and 3.3 GB for the DXF; above the detail limit the stakes are
     # written in bulk as POINTs (checked by reading the file back with ezdxf and auditing it)
     import sys
 
@@ -456,7 +456,7 @@ def test_dxf_of_a_large_job_is_bounded(tmp_path):
 
 
 def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
-    # issue 15: sheets split pages on common printer defaults; every page now holds at most 60 lines,
+    # regression: sheets split pages on common printer defaults; every page now holds at most 60 lines,
     # with the column header repeated on each
     out = build_job(samples / "loop_ramp_usft.toml", tmp_path / "out")
     for name in ("setout.txt", "deflections.txt"):
@@ -470,7 +470,7 @@ def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
 
 
 def test_shot_keyed_without_decimals_is_reported(samples, tmp_path):
-    # hardening 10: a shot keyed without its decimal point (the blunder the check exists to catch)
+    # regression: a shot keyed without its decimal point (the blunder the check exists to catch)
     # crashed the check sheet; it is reported out of tolerance, with exit 1
     staked = tmp_path / "shots.csv"
     staked.write_text("1000,1840005.7991,6484985.0879\n1001,1840004811,6484988.8159\n", encoding="utf-8")

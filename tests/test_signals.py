@@ -1,4 +1,4 @@
-"""Issue 17 item 16: SIGTERM and SIGHUP mid-build, in a real process.
+"""SIGTERM and SIGHUP mid-build, in a real process: nothing is left behind.
 
 The process is the real command line (``python -m stakeout.cli``); the
 signal is sent with ``os.kill`` once the hidden temporary folder holds a

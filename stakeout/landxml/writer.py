@@ -1,0 +1,421 @@
+"""Writing LandXML 1.2: the plain records of :mod:`.records` as a document.
+
+Writing (:func:`write_landxml`)
+-------------------------------
+Units declare ``angularUnit`` and ``directionUnit`` ``"decimal degrees"``.
+``delta`` and a spiral's ``theta`` are unsigned decimal degrees.  Directions
+(``dir``, ``dirStart``, ``dirEnd``) follow the schema's ``<Units>``
+documentation ("Horizontal directions ... are measured counter-clockwise
+from 0 degrees = north"): decimal degrees, ``(360 - azimuth) mod 360`` of
+a survey azimuth.  No reader should rely on them (this one does not).  The
+schema requires the root's ``date`` and ``time``: they come from the
+``created`` argument (the epoch, 1970-01-01 00:00:00, when not given),
+never from the clock, so the same input gives the same bytes.  Given
+numbers (coordinates, stations, elevations, spiral radii, curve lengths of
+the profile) are written in Python's shortest round-trip form, so reading
+the file back gives the same floats; attributes derived from the points
+(lengths, stations of elements, arc radius, chord, delta, theta,
+directions) are rounded to 1e-9 units and 1e-10 degrees.
+
+Angle conventions in the dataclasses: azimuths in degrees clockwise from
+grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
+(left).
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import math
+import re
+import xml.etree.ElementTree as _ET  # building and serialising only
+from collections.abc import Callable, Sequence
+from dataclasses import replace
+
+import numpy as np
+
+from ..errors import GeometryError, JobFileError
+from ..numbers import fixed_strings
+from .records import (
+    ANGLE_POINT_CODE,
+    LANDXML_NS,
+    UNIT_WORDS,
+    XPVI,
+    XAlignment,
+    XCurve,
+    XElement,
+    XEquation,
+    XLine,
+    XMeasured,
+    XPoint,
+    XPoints,
+    XSpiral,
+    fmt,
+    kind_of,
+)
+from .validation import station_at, validate_geometry
+
+__all__ = ["write_landxml"]
+_BAD_XML_CHAR = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
+
+
+def _num(v: float, decimals: int | None = None) -> str:
+    """xs:double text: shortest round trip (after rounding, if asked), INF for infinity."""
+    v = float(v)
+    if decimals is not None and math.isfinite(v):
+        v = round(v, decimals)
+    if math.isnan(v):
+        raise GeometryError("a NaN cannot be written to LandXML")
+    if math.isinf(v):
+        return "INF" if v > 0 else "-INF"
+    if v == 0.0:
+        return "0.0"
+    return repr(v)
+
+
+def _text(v: str, what: str) -> str:
+    if _BAD_XML_CHAR.search(v):
+        raise JobFileError(f"{what} = {v!r}: holds a character XML cannot carry")
+    return v
+
+
+_LEN_DEC = 9  # decimals of derived lengths (file units): they are cross-checks, not geometry
+_ANG_DEC = 10  # decimals of derived angles (degrees)
+
+
+def _len(v: float) -> str:
+    return _num(v, _LEN_DEC)
+
+
+def _ang(v: float) -> str:
+    return _num(v, _ANG_DEC)
+
+
+def _dir(az: float) -> str:
+    """A survey azimuth as a LandXML direction: degrees counter-clockwise from north."""
+    d = round((360.0 - az) % 360.0, _ANG_DEC)
+    return _num(0.0 if d >= 360.0 else d)
+
+
+def write_landxml(
+    units_key: str,
+    alignment_name: str,
+    sta_start: float,
+    elements: Sequence[XElement],
+    equations: Sequence[XEquation],
+    profile_pvis: Sequence[XPVI] | None,
+    points: Sequence[XPoint] | XPoints,
+    application_name: str,
+    source_note: str,
+    *,
+    profile_name: str | None = None,
+    created: _dt.datetime | None = None,
+    application_version: str = "",
+    tolerance: float = 0.001,
+) -> bytes:
+    """Write a design as a LandXML 1.2 document.
+
+    Parameters
+    ----------
+    units_key : str
+        ``"m"`` (``<Metric linearUnit="meter">``), ``"ft"`` (``<Imperial
+        linearUnit="foot">``, the international foot) or ``"us_ft"``
+        (``<Imperial linearUnit="USSurveyFoot">``).
+    alignment_name : str
+        ``<Alignment name>``.
+    sta_start : float
+        Start station (file units); also the first element's internal
+        station.
+    elements : sequence of XLine, XCurve, XSpiral
+        In order; their points (file units) are written as given, their
+        attributes (``length``, ``radius``, ``delta``, ``chord``, ``dir``,
+        ``dirStart``, ``dirEnd``, spiral ``theta``, ``staStart``) computed
+        from the points.  ``index`` is ignored; ``*_attr`` fields must not
+        contradict the points.
+    equations : sequence of XEquation
+        Written with ``staInternal``, ``staAhead``, ``staBack`` (computed
+        from the stationing when None) and ``staIncrement``.
+    profile_pvis : sequence of XPVI or None
+        The design profile at internal stations; None or empty for none.
+    points : sequence of XPoint, or XPoints
+        Written as ``<CgPoint name code desc>northing easting [elevation]``
+        with 6 decimals (laid out by numpy: a build's million stakes need
+        no Python object each when given as :class:`XPoints`); names must
+        be unique (the schema says so).
+    application_name : str
+        ``<Application name>``.
+    source_note : str
+        ``<Application desc>``: where the design came from.
+    profile_name : str or None
+        ``<ProfAlign name>``; default ``"<alignment_name> profile"``.
+    created : datetime or None
+        The root's ``date`` and ``time`` (required by the schema); the epoch
+        1970-01-01 00:00:00 when None.  Never the clock.
+    application_version : str
+        ``<Application version>``, omitted when empty.
+    tolerance : float
+        Position tolerance (file units) of the geometry check run first.
+
+    Returns
+    -------
+    bytes
+        UTF-8 XML, the same bytes for the same arguments.
+
+    Raises
+    ------
+    GeometryError
+        The elements do not form a continuous alignment (see
+        :func:`validate_geometry`).
+    JobFileError
+        Unknown units, duplicate point names, or text XML cannot carry.
+    """
+    if units_key not in UNIT_WORDS:
+        raise JobFileError(f"units = {units_key!r}: expected 'm', 'ft' or 'us_ft'")
+    numbered = tuple(
+        _renumber(el, i) for i, el in enumerate(elements, start=1)
+    )
+    al = XAlignment(alignment_name, float(sta_start), numbered, tuple(equations))
+    # the staked design may have angle points and curvature jumps (PT TS): export them as they are
+    measured = validate_geometry(al, tolerance, joins=False)
+    total = sum(m.length for m in measured)
+
+    stamp = created or _dt.datetime(1970, 1, 1)
+    root = _ET.Element(
+        "LandXML",
+        {
+            "xmlns": LANDXML_NS,
+            "date": stamp.strftime("%Y-%m-%d"),
+            "time": stamp.strftime("%H:%M:%S"),
+            "version": "1.2",
+            "language": "English",
+            "readOnly": "false",
+        },
+    )
+    unit_attrs = {
+        "m": ("Metric", "squareMeter", "meter", "cubicMeter", "celsius", "milliBars", "meter"),
+        "ft": ("Imperial", "squareFoot", "foot", "cubicFeet", "fahrenheit", "inHG", "feet"),
+        "us_ft": ("Imperial", "squareFoot", "USSurveyFoot", "cubicFeet", "fahrenheit", "inHG", "feet"),
+    }[units_key]
+    units = _ET.SubElement(root, "Units")
+    _ET.SubElement(
+        units,
+        unit_attrs[0],
+        {
+            "areaUnit": unit_attrs[1],
+            "linearUnit": unit_attrs[2],
+            "volumeUnit": unit_attrs[3],
+            "temperatureUnit": unit_attrs[4],
+            "pressureUnit": unit_attrs[5],
+            "angularUnit": "decimal degrees",
+            "directionUnit": "decimal degrees",
+            "elevationUnit": unit_attrs[6],
+        },
+    )
+    app = {"name": _text(application_name, "application name")}
+    if source_note:
+        app["desc"] = _text(source_note, "source note")
+    if application_version:
+        app["version"] = _text(application_version, "application version")
+    _ET.SubElement(root, "Application", app)
+
+    aligns = _ET.SubElement(root, "Alignments")
+    a_el = _ET.SubElement(
+        aligns,
+        "Alignment",
+        {"name": _text(alignment_name, "alignment name"), "length": _len(total), "staStart": _num(sta_start)},
+    )
+    geom = _ET.SubElement(a_el, "CoordGeom")
+    for el, m in zip(numbered, measured, strict=True):
+        _write_element(geom, el, m)
+    for k, eq in enumerate(equations, start=1):
+        back = eq.sta_back if eq.sta_back is not None else station_at(al, eq.sta_internal, before=k - 1)
+        _ET.SubElement(
+            a_el,
+            "StaEquation",
+            {
+                "staAhead": _num(eq.sta_ahead),
+                "staBack": _num(back),
+                "staInternal": _num(eq.sta_internal),
+                "staIncrement": "increasing" if eq.increment == 1 else "decreasing",
+            },
+        )
+    if profile_pvis:
+        pname = profile_name if profile_name is not None else f"{alignment_name} profile"
+        prof = _ET.SubElement(a_el, "Profile", {"name": _text(pname, "profile name")})
+        palign = _ET.SubElement(prof, "ProfAlign", {"name": _text(pname, "profile name")})
+        for v in profile_pvis:
+            _write_pvi(palign, v)
+
+    _ET.indent(root, space="  ")
+    body = _ET.tostring(root, encoding="unicode")
+    assert body.endswith("</LandXML>")
+    # the points as text: a build may stake a million of them, too many for a tree
+    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else ""
+    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")] + cg + "</LandXML>\n").encode(
+        "utf-8"
+    )
+
+
+_POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
+_NEEDS_ESCAPE = re.compile('[&<>"\n\r\t]')
+_ESCAPES = str.maketrans({"&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "\n": "&#10;", "\r": "&#13;",
+                          "\t": "&#9;"})
+
+
+def _attr_texts(strings: Sequence[str], what: str) -> Sequence[str]:
+    """Strings checked for characters XML cannot carry and escaped for an attribute."""
+    joined = "".join(strings)
+    if _BAD_XML_CHAR.search(joined):
+        culprit = next(v for v in strings if _BAD_XML_CHAR.search(v))
+        raise JobFileError(f"{what} = {culprit!r}: holds a character XML cannot carry")
+    if _NEEDS_ESCAPE.search(joined):
+        return [v.translate(_ESCAPES) for v in strings]  # rare: most names are plain
+    return strings
+
+
+def _optional_attrs(name: str, values: Sequence[str] | None, n: int, what: str) -> Sequence[str]:
+    """`` name="value"`` where a value is given, "" where it is empty (or none is given)."""
+    if values is None:
+        return [""] * n
+    return [f' {name}="{v}"' if v else "" for v in _attr_texts(values, what)]
+
+
+def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
+    """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals by the one number formatter)."""
+    if not isinstance(points, XPoints):
+        points = XPoints(
+            [p.name for p in points],
+            np.array([p.northing for p in points], dtype=float),
+            np.array([p.easting for p in points], dtype=float),
+            np.array([np.nan if p.elevation is None else p.elevation for p in points], dtype=float),
+            [p.code for p in points],
+            [p.desc for p in points],
+        )
+    n = len(points.names)
+    if not (len(points.northing) == len(points.easting) == n):
+        raise JobFileError(f"points: {n} names but {len(points.northing)} northings and {len(points.easting)} eastings")
+    if len(set(points.names)) != n:
+        seen: set[str] = set()
+        dup = next(v for v in points.names if v in seen or seen.add(v))  # type: ignore[func-returns-value]
+        raise JobFileError(f"point {dup!r}: written twice; CgPoint names must be unique")
+    elev = np.full(n, np.nan) if points.elevation is None else np.asarray(points.elevation, dtype=float)
+    nn = np.asarray(points.northing, dtype=float)
+    ee = np.asarray(points.easting, dtype=float)
+    coords = np.concatenate([nn, ee, elev[~np.isnan(elev)]])
+    if not np.isfinite(coords).all() or (np.abs(coords) >= 1e12).any():
+        raise JobFileError("points: coordinates must be finite and below 1e12")
+    d = _POINT_DECIMALS
+    z_text = [f" {z}" if z != "nan" else "" for z in fixed_strings(elev, d)]
+    rows = [
+        f'    <CgPoint name="{name}"{code}{desc}>{n_} {e_}{z}</CgPoint>\n'
+        for name, code, desc, n_, e_, z in zip(
+            _attr_texts(points.names, "point name"),
+            _optional_attrs("code", points.codes, n, "point code"),
+            _optional_attrs("desc", points.descs, n, "point desc"),
+            fixed_strings(nn, d), fixed_strings(ee, d), z_text, strict=True,
+        )
+    ]
+    return "  <CgPoints>\n" + "".join(rows) + "  </CgPoints>\n"
+
+
+def _renumber(el: XElement, index: int) -> XElement:
+    return replace(el, index=index)
+
+
+def _pt(parent: _ET.Element, tag: str, n: float, e: float) -> None:
+    _ET.SubElement(parent, tag).text = f"{_num(n)} {_num(e)}"
+
+
+def _line_attrs(el: XElement, m: XMeasured) -> dict[str, str]:
+    return {"dir": _dir(m.az_start), "length": _len(m.length), "staStart": _len(m.sta_start)}
+
+
+def _curve_attrs(el: XElement, m: XMeasured) -> dict[str, str]:
+    assert isinstance(el, XCurve)
+    r = float(m.radius_start or 0.0)
+    delta = math.degrees(m.length / r)
+    chord = 2.0 * r * math.sin(m.length / r / 2.0)
+    return {
+        "rot": "cw" if el.rot == 1 else "ccw",
+        "chord": _len(chord),
+        "crvType": "arc",
+        "delta": _ang(delta),
+        "dirEnd": _dir(m.az_end),
+        "dirStart": _dir(m.az_start),
+        "length": _len(m.length),
+        "radius": _len(r),
+        "staStart": _len(m.sta_start),
+    }
+
+
+def _spiral_attrs(el: XElement, m: XMeasured) -> dict[str, str]:
+    assert isinstance(el, XSpiral)
+    curvatures = sum(1.0 / r for r in (el.radius_start, el.radius_end) if r is not None)
+    theta = math.degrees(m.length * curvatures / 2.0)  # the clothoid's deflection
+    chord = math.hypot(el.end_n - el.start_n, el.end_e - el.start_e)
+    return {
+        "length": _len(m.length),
+        "radiusEnd": _num(math.inf if el.radius_end is None else el.radius_end),
+        "radiusStart": _num(math.inf if el.radius_start is None else el.radius_start),
+        "rot": "cw" if el.rot == 1 else "ccw",
+        "spiType": "clothoid",
+        "chord": _len(chord),
+        "dirEnd": _dir(m.az_end),
+        "dirStart": _dir(m.az_start),
+        "theta": _ang(theta),
+        "staStart": _len(m.sta_start),
+    }
+
+
+def _line_points(el: XElement) -> tuple[tuple[str, float, float], ...]:
+    return (("Start", el.start_n, el.start_e), ("End", el.end_n, el.end_e))
+
+
+def _curve_points(el: XElement) -> tuple[tuple[str, float, float], ...]:
+    assert isinstance(el, XCurve)
+    return (("Start", el.start_n, el.start_e), ("Center", el.center_n, el.center_e), ("End", el.end_n, el.end_e))
+
+
+def _spiral_points(el: XElement) -> tuple[tuple[str, float, float], ...]:
+    assert isinstance(el, XSpiral)
+    return (("Start", el.start_n, el.start_e), ("PI", el.pi_n, el.pi_e), ("End", el.end_n, el.end_e))
+
+
+_AttrFn = Callable[[XElement, XMeasured], dict[str, str]]
+_PointsFn = Callable[[XElement], tuple[tuple[str, float, float], ...]]
+
+#: How each record class is written: its attributes and its points (the tag comes from ``KINDS``).
+WRITE: dict[type, tuple[_AttrFn, _PointsFn]] = {
+    XLine: (_line_attrs, _line_points),
+    XCurve: (_curve_attrs, _curve_points),
+    XSpiral: (_spiral_attrs, _spiral_points),
+}
+
+
+def _write_element(geom: _ET.Element, el: XElement, m: XMeasured) -> None:
+    tag = kind_of(el).tag  # an unknown class fails here, before anything is written
+    attrs_of, points_of = WRITE[type(el)]
+    base = {"name": _text(el.name, "element name")} if el.name else {}
+    x = _ET.SubElement(geom, tag, {**base, **attrs_of(el, m)})
+    for p_tag, n, e in points_of(el):
+        _pt(x, p_tag, n, e)
+    if getattr(el, "angle_point", False):
+        _ET.SubElement(x, "Feature", {"name": "angle point", "code": ANGLE_POINT_CODE})
+
+
+def _write_pvi(parent: _ET.Element, v: XPVI) -> None:
+    text = f"{_num(v.station)} {_num(v.elevation)}"
+    if v.kind == "pvi":
+        x = _ET.SubElement(parent, "PVI")
+    elif v.kind == "para":
+        x = _ET.SubElement(parent, "ParaCurve", {"length": _num(v.length)})
+    elif v.kind == "unsym":
+        if v.length_in is None or v.length_out is None:
+            raise GeometryError(f"PVI at station {fmt(v.station)}: an unsymmetrical curve needs length_in and length_out")
+        x = _ET.SubElement(parent, "UnsymParaCurve", {"lengthIn": _num(v.length_in), "lengthOut": _num(v.length_out)})
+    elif v.kind == "circ":
+        if v.radius is None:
+            raise GeometryError(f"PVI at station {fmt(v.station)}: a circular vertical curve needs its radius")
+        x = _ET.SubElement(parent, "CircCurve", {"length": _num(v.length), "radius": _num(v.radius)})
+    else:
+        raise GeometryError(f"PVI at station {fmt(v.station)}: kind {v.kind!r}, expected pvi, para, unsym or circ")
+    x.text = text
