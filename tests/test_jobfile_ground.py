@@ -95,7 +95,7 @@ def test_ground_file_is_read_and_recorded(tmp_path):
     ('file = ""', "ground.file = '': empty"),
     ('file = 3', "ground.file = 3: expected text"),
     ('files = "a.csv"', "ground.files: unknown key"),
-    ('landxml = "eg.xml"', "ground.landxml = 'eg.xml': LandXML surfaces are not read yet"),
+    ('landxml = "eg.xml"', "eg.xml': not found"),
 ])
 def test_bad_ground_names_the_key(tmp_path, body, expect):
     with pytest.raises(JobFileError) as info:

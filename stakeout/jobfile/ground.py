@@ -41,7 +41,7 @@ def _path(given: str, base: Path) -> Path:
     return p if p.is_absolute() else base / p
 
 
-def read_ground(top: Table, base: Path) -> tuple[Ground, DesignFile] | None:
+def read_ground(top: Table, base: Path, unit_key: str = "m") -> tuple[Ground, DesignFile] | None:
     """``[ground]``: the existing ground, read and triangulated, and its file's record.
 
     Parameters
@@ -50,6 +50,8 @@ def read_ground(top: Table, base: Path) -> tuple[Ground, DesignFile] | None:
         The whole job file (``[ground]`` may be absent: None).
     base : Path
         The job file's folder: ``file`` and ``landxml`` are relative to it.
+    unit_key : str
+        The job's ``units`` (``m``, ``ft``, ``us_ft``): a LandXML surface's must match.
 
     Returns
     -------
@@ -79,9 +81,14 @@ def read_ground(top: Table, base: Path) -> tuple[Ground, DesignFile] | None:
         ground = read_ground_csv(path, "ground.file")
         data = read_regular_file(path, "ground.file =", MAX_STAKED_FILE_BYTES)
         return ground, DesignFile("ground", given, hashlib.sha256(data).hexdigest())
+    from ..landxml.surface import read_surface
+
     given = t.text("landxml", required=True)
-    raise JobFileError(f"ground.landxml = {given!r}: LandXML surfaces are not read yet by this version; "
-                       "give the ground points as `file = \"ground.csv\"`")
+    assert given is not None
+    key = f"ground.landxml = {given!r}"
+    surf = read_surface(_path(given, base), t.text("name"), unit_key, key)
+    ground = Ground.from_faces(surf.n, surf.e, surf.z, surf.faces, f"{key} <Surface name={surf.name!r}>")
+    return ground, DesignFile("ground", given, surf.sha256, chosen=surf.name)
 
 
 def _slope(t: Table, k: str, required: bool) -> float | None:
