@@ -9,8 +9,9 @@ wide with hinges at -6 and +6, its grade wandering 0-5 units above and below
 the ground so that both cut (with a ditch) and fill occur.  Measured, each
 step on its own: the triangulation, the locator's grid, the ground
 elevation at every stake (3 a station), the slope stakes of both sides
-(20,000 rays), the cross sections and their areas, the volumes; then the
-peak resident memory of the process.  ``--quick`` runs a 100,000-triangle
+(20,000 rays), the cross sections and their areas, the volumes; the peak
+resident memory of the process; then the same TIN written as a LandXML
+``<Surface>`` and read back (:mod:`stakeout.landxml.surface`).  ``--quick`` runs a 100,000-triangle
 ground and 1,000 stations.  Nothing here is a test: speed is measured,
 never asserted.
 """
@@ -44,7 +45,7 @@ def _rss_mib() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
-def run(side: int = 707, stations: int = 10_000, seed: int = 1) -> dict[str, float]:
+def run(side: int = 707, stations: int = 10_000, seed: int = 1, landxml: bool = True) -> dict[str, float]:
     """Time each step; return the figures (seconds, counts, MiB)."""
     out: dict[str, float] = {"rss_start_mib": _rss_mib()}
     rng = np.random.default_rng(seed)
@@ -102,7 +103,41 @@ def run(side: int = 707, stations: int = 10_000, seed: int = 1) -> dict[str, flo
     out["work_after_ground_s"] = (out["elevation_stakes_s"] + out["slope_stakes_s"] + out["cross_sections_s"]
                                   + out["volumes_s"])
     out["peak_rss_mib"] = _rss_mib()
+    if landxml:
+        out.update(_landxml_round(g))
     return out
+
+
+def _landxml_round(g: Ground) -> dict[str, float]:
+    """Write the TIN as a LandXML <Surface> (plain text, here) and time reading it back."""
+    import tempfile
+
+    from stakeout.landxml.surface import read_surface
+
+    with tempfile.TemporaryDirectory() as tmp:
+        path = Path(tmp) / "eg.xml"
+        with open(path, "w", encoding="utf-8") as fh:
+            fh.write('<?xml version="1.0" encoding="UTF-8"?>\n<LandXML xmlns="http://www.landxml.org/schema/'
+                     'LandXML-1.2" version="1.2"><Units><Metric linearUnit="meter"/></Units><Surfaces>'
+                     '<Surface name="EG"><Definition surfType="TIN"><Pnts>\n')
+            for k in range(0, len(g.n), 100_000):
+                sl = slice(k, k + 100_000)
+                fh.writelines(f'<P id="{i + 1}">{a:.4f} {b:.4f} {c:.4f}</P>\n' for i, a, b, c in zip(
+                    range(k, k + len(g.n[sl])), g.n[sl].tolist(), g.e[sl].tolist(), g.z[sl].tolist()))
+            fh.write("</Pnts><Faces>\n")
+            f1 = g.faces + 1
+            for k in range(0, len(f1), 100_000):
+                fh.writelines(f"<F>{a} {b} {c}</F>\n" for a, b, c in f1[k:k + 100_000].tolist())
+            fh.write("</Faces></Definition></Surface></Surfaces></LandXML>\n")
+        size = path.stat().st_size
+        t = time.perf_counter()
+        surf = read_surface(path, "EG", "m", "benchmark")
+        read_s = time.perf_counter() - t
+        t = time.perf_counter()
+        Ground.from_faces(surf.n, surf.e, surf.z, surf.faces, "benchmark surface")
+        build_s = time.perf_counter() - t
+    return {"landxml_mib": size / 2**20, "landxml_read_s": read_s, "landxml_ground_s": build_s,
+            "peak_rss_after_landxml_mib": _rss_mib()}
 
 
 def main() -> None:
