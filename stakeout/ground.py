@@ -404,10 +404,7 @@ class Ground:
             best = np.full(len(idx), np.inf)
             nbs = self._nb[ff]
             for k in range(3):
-                ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
-                ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
-                alpha = ee * (on - an) - en * (oe - ae)
-                beta = ee * rn - en * re
+                _, _, alpha, beta = _edge_terms(tri, k, on, oe, rn, re)
                 with np.errstate(divide="ignore", invalid="ignore"):
                     tk = np.where(beta < 0, -alpha / np.where(beta < 0, beta, -1.0), np.inf)
                 # through a vertex (two edges at once) the edge with a face beyond wins: a ray along
@@ -469,10 +466,7 @@ class Ground:
         lo, hi = t0[ray].copy(), t1[ray].copy()
         ok = np.ones(len(fc), dtype=bool)
         for k in range(3):
-            ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
-            ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
-            alpha = ee * (on - an) - en * (oe - ae)
-            beta = ee * rn - en * re
+            ee, en, alpha, beta = _edge_terms(tri, k, on, oe, rn, re)
             with np.errstate(divide="ignore", invalid="ignore"):
                 tcut = -alpha / beta  # exact: neighbouring faces meet at the same distance
             lo = np.where(beta > 0, np.maximum(lo, tcut), lo)
@@ -556,6 +550,18 @@ class Ground:
         iy = np.floor(y0[pr] + tm * ly[pr])
         ok = (ix >= 0) & (ix < gr.nx) & (iy >= 0) & (iy < gr.ny)
         return pr[ok], (iy * gr.nx + ix)[ok].astype(np.int64)
+
+
+def _edge_terms(tri: F64, k: int, on: F64, oe: F64, rn: F64, re: F64) -> tuple[F64, F64, F64, F64]:
+    """Edge ``k`` of faces ``tri`` against rays from (on, oe) heading (rn, re).
+
+    Returns the edge vector (east, north) and ``alpha + t beta``: twice the
+    signed area of the edge and the ray's point at distance ``t``, positive
+    on the face's side (inside, the faces being counter-clockwise).
+    """
+    ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
+    ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
+    return ee, en, ee * (on - an) - en * (oe - ae), ee * rn - en * re
 
 
 def _assemble(r: int, ray: I64, t: F64, z: F64, end: F64, left: NDArray[np.bool_]) -> Sections:
