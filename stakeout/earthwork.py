@@ -124,6 +124,12 @@ def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None) ->
     if spec.left is None or spec.right is None:
         return Earthwork(gz, cf, rows, None, np.zeros(0, dtype=np.int64), None)
     li, ri = np.flatnonzero(left), np.flatnonzero(~left)  # one of each a station, in station order
+    crossed = np.flatnonzero(h_off[li] >= h_off[ri])
+    if crossed.size:
+        i = int(st[li[crossed[0]]])
+        raise JobFileError(f"slope_stakes.left.hinge = {spec.left.hinge!r}: lies at or right of the right hinge "
+                           f"{spec.right.hinge!r} at {stakes.labels[i]} (offsets {h_off[li[crossed[0]]]:.4f} and "
+                           f"{h_off[ri[crossed[0]]]:.4f}); the left hinge must lie left of the right one")
     lres, rres = _take(res, li), _take(res, ri)
     cs = cross_sections(ground, np.repeat(np.arange(k, dtype=np.int64), m), stakes.offset, stakes.elevation,
                         lres, h_off[li], rres, h_off[ri])

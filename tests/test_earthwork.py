@@ -82,3 +82,10 @@ def test_one_side_has_no_volumes_and_a_bad_hinge_is_refused(stakes):
 def test_without_slope_stakes_only_cut_fill(stakes):
     ew = earthwork(stakes, _level_ground(53.25), None)
     assert np.allclose(ew.cut_fill, -1.25) and ew.slopes is None
+
+
+def test_swapped_hinges_are_refused(stakes):
+    with pytest.raises(JobFileError, match=r"slope_stakes.left.hinge = 'SHR': lies at or right of the right hinge 'SHL' "
+                                           r"at 0\+000\.000 \(offsets 6\.0000 and -6\.0000\)"):
+        earthwork(stakes, _level_ground(50.0), SlopeStaking(SideSlopes("SHR", 2.0, 2.0), SideSlopes("SHL", 2.0, 2.0),
+                                                            5.0, 100.0))
