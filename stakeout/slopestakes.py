@@ -30,9 +30,10 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .ground import Ground, Sections
+from .numbers import fixed_strings
 
 __all__ = ["SideSlopes", "SlopeStaking", "SlopeStakes", "DesignLines", "slope_stakes", "slope_vertices",
-           "NOTE_NO_CATCH", "NOTE_OUTSIDE"]
+           "lath_marking", "NOTE_NO_CATCH", "NOTE_OUTSIDE"]
 
 F64 = NDArray[np.float64]
 #: An array, or one number for every ray.
@@ -314,3 +315,29 @@ def slope_vertices(res: SlopeStakes) -> tuple[NDArray[np.int64], F64, F64]:
     last = np.r_[ray[1:] != ray[:-1], True] if len(ray) else np.zeros(0, dtype=bool)
     z[last] = res.catch_z[ray[last]]  # the catch lies on the ground: its elevation from the ground
     return ray, t, z
+
+
+def lath_marking(vertical: F64, horizontal: F64, decimals: int = 2) -> list[str]:
+    """What a crew writes on a slope or reference stake's lath: ``C 3.42 @ 26.40``.
+
+    Parameters
+    ----------
+    vertical : array of float
+        Hinge elevation minus the ground at the stake (``catch_cut_fill`` or
+        ``vd_to_hinge``), job units: positive is fill (``F``), negative cut (``C``).
+    horizontal : array of float
+        Horizontal distance from the stake to the hinge, job units.
+    decimals : int
+        Decimals printed (rounded as every printed number, :mod:`stakeout.numbers`).
+
+    Returns
+    -------
+    list of str
+        One marking per stake; empty where either number is missing (NaN).
+    """
+    v = np.asarray(vertical, dtype=np.float64).ravel()
+    h = np.asarray(horizontal, dtype=np.float64).ravel()
+    vs = fixed_strings(np.abs(v), decimals)
+    hs = fixed_strings(h, decimals)
+    return ["" if np.isnan(a) or np.isnan(b) else f"{'C' if a < 0 else 'F'} {x} @ {y}"
+            for a, b, x, y in zip(v.tolist(), h.tolist(), vs, hs)]

@@ -214,3 +214,11 @@ def test_property_catch_lies_on_the_ground_and_on_the_design_line(n, e, ang, dz,
     diff = res.lines.at(ts, np.zeros(len(ts), dtype=np.int64)) - gz
     sign = 1.0 if res.kind[0] == "fill" else -1.0
     assert np.all(diff * sign > -1e-9)
+
+
+def test_lath_marking():
+    from stakeout.slopestakes import lath_marking
+
+    # common practice: C for cut, F for fill, then the distance to the hinge
+    assert lath_marking(np.array([-3.4249, 1.005, 0.0, np.nan]), np.array([26.4, 7.0, 3.0, 2.0])) == [
+        "C 3.42 @ 26.40", "F 1.00 @ 7.00", "F 0.00 @ 3.00", ""]
