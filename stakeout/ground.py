@@ -405,7 +405,7 @@ class Ground:
             nbs = self._nb[ff]
             for k in range(3):
                 _, _, alpha, beta = _edge_terms(tri, k, on, oe, rn, re)
-                with np.errstate(divide="ignore", invalid="ignore"):
+                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                     tk = np.where(beta < 0, -alpha / np.where(beta < 0, beta, -1.0), np.inf)
                 # through a vertex (two edges at once) the edge with a face beyond wins: a ray along
                 # the border of the TIN or of a hole stays on the ground, as the border is
@@ -417,21 +417,27 @@ class Ground:
             texit = np.maximum(texit, cur[idx])  # never back along the ray
             done = texit >= t1[idx]
             texit = np.minimum(texit, t1[idx])
-            rays.append(idx)
-            ts.append(texit)
-            zs.append(self._plane_z(ff, on + texit * rn, oe + texit * re))
-            nxt = np.where(done | (kexit < 0), -1, nbs[np.arange(len(idx)), np.maximum(kexit, 0)])
-            fin = done | (nxt < 0)
-            end[idx[fin]] = texit[fin]
-            left[idx[done]] = False
-            # leaving through a vertex onto the border: another face at that vertex may carry the ray
-            # on (along the border of a hole): the grid decides those
             kk = np.maximum(kexit, 0)
             rows = np.arange(len(idx))
             ae, an = tri[rows, 2 * kk], tri[rows, 2 * kk + 1]
             be, bn = tri[rows, (2 * kk + 2) % 6], tri[rows, (2 * kk + 3) % 6]
             el = np.hypot(be - ae, bn - an)
             u = ((oe + texit * re - ae) * (be - ae) + (on + texit * rn - an) * (bn - an)) / el
+            # the exit point's elevation along its edge (the same from the faces on both sides, and
+            # well conditioned on a sliver, where a face's plane is not); the ray's end on its face's plane
+            za, zb = self.z[self.faces[ff, kk]], self.z[self.faces[ff, (kk + 1) % 3]]
+            w = np.clip(u / el, 0.0, 1.0)
+            zexit = np.where(done | (kexit < 0), self._plane_z(ff, on + texit * rn, oe + texit * re),
+                             za + w * (zb - za))
+            rays.append(idx)
+            ts.append(texit)
+            zs.append(zexit)
+            nxt = np.where(done | (kexit < 0), -1, nbs[rows, kk])
+            fin = done | (nxt < 0)
+            end[idx[fin]] = texit[fin]
+            left[idx[done]] = False
+            # leaving through a vertex onto the border: another face at that vertex may carry the ray
+            # on (along the border of a hole): the grid decides those
             corner = ~done & (nxt < 0) & ((u < 1e3 * EDGE_TOL) | (el - u < 1e3 * EDGE_TOL))
             bad = (kexit < 0) | corner
             moved = texit > cur[idx] + EDGE_TOL
@@ -467,7 +473,7 @@ class Ground:
         ok = np.ones(len(fc), dtype=bool)
         for k in range(3):
             ee, en, alpha, beta = _edge_terms(tri, k, on, oe, rn, re)
-            with np.errstate(divide="ignore", invalid="ignore"):
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 tcut = -alpha / beta  # exact: neighbouring faces meet at the same distance
             lo = np.where(beta > 0, np.maximum(lo, tcut), lo)
             hi = np.where(beta < 0, np.minimum(hi, tcut), hi)
@@ -510,8 +516,28 @@ class Ground:
         bray = np.concatenate((ray, ray))
         bt = np.concatenate((lo, hi))
         bf = np.concatenate((fc, fc))
-        bz = self._plane_z(bf, n0[bray] + bt * dn[bray], e0[bray] + bt * de[bray])
+        bz = self._point_z(bf, n0[bray] + bt * dn[bray], e0[bray] + bt * de[bray])
         return _assemble(r, bray, bt, bz, end, left)
+
+    def _point_z(self, fc: I64, pn: F64, pe: F64) -> F64:
+        """Elevation of points of faces ``fc``: along the nearest edge where a point lies on one
+        (as the walk takes it: the same from both faces, well conditioned on a sliver), else on
+        the face's plane.
+        """
+        tri = self._tri[fc]
+        best = np.full(len(fc), np.inf)
+        zedge = np.zeros(len(fc))
+        for k in range(3):
+            ae, an = tri[:, 2 * k], tri[:, 2 * k + 1]
+            ee, en = tri[:, (2 * k + 2) % 6] - ae, tri[:, (2 * k + 3) % 6] - an
+            el2 = ee * ee + en * en
+            dist = np.abs(ee * (pn - an) - en * (pe - ae)) / np.sqrt(el2)
+            w = np.clip(((pe - ae) * ee + (pn - an) * en) / el2, 0.0, 1.0)
+            za, zb = self.z[self.faces[fc, k]], self.z[self.faces[fc, (k + 1) % 3]]
+            closer = dist < best
+            best = np.where(closer, dist, best)
+            zedge = np.where(closer, za + w * (zb - za), zedge)
+        return np.where(best <= 16 * EDGE_TOL, zedge, self._plane_z(fc, pn, pe))
 
     def _ray_cells(self, n0: F64, e0: F64, dn: F64, de: F64, length: F64) -> tuple[I64, I64]:
         """(ray, cell) of every grid cell each ray segment passes through (exact traversal).
@@ -535,7 +561,7 @@ class Ground:
             rr = np.repeat(rid, cnt)
             pos = np.arange(int(cnt.sum()), dtype=np.float64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
             line = np.repeat(k0, cnt) + pos
-            with np.errstate(divide="ignore", invalid="ignore"):
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 parts_t.append((line - a[rr]) / d[rr])
             parts_r.append(rr)
         t = np.concatenate(parts_t)
