@@ -204,3 +204,21 @@ def test_walk_and_grid_sections_agree_through_vertices_and_along_edges():
     assert np.allclose(a.end, b.end, atol=1e-9) and np.array_equal(a.left_tin, b.left_tin)
     assert np.array_equal(a.first, b.first)
     assert np.allclose(a.dist, b.dist, atol=1e-9) and np.allclose(a.z, b.z, atol=1e-9)
+
+
+def test_walk_and_grid_sections_agree_on_a_random_tin_with_holes():
+    # the same comparison on a Delaunay TIN of random points with random elevations (slivers on the hull)
+    rng = np.random.default_rng(23)
+    m = 800
+    n, e = N0 + rng.uniform(0, 100, m), E0 + rng.uniform(0, 100, m)
+    full = Ground.from_points(n, e, rng.uniform(0, 5, m))
+    drop = rng.choice(full.face_count, full.face_count // 20, replace=False)
+    g = Ground.from_faces(n, e, full.z, np.delete(full.faces, drop, axis=0))
+    r = 1500
+    on, oe, a = N0 + rng.uniform(0, 100, r), E0 + rng.uniform(0, 100, r), rng.uniform(0, 2 * np.pi, r)
+    length = rng.uniform(0, 60, r)
+    w = g.sections(on, oe, np.cos(a), np.sin(a), length)
+    b = g._sections_grid(on, oe, np.cos(a), np.sin(a), length)
+    assert np.array_equal(w.first, b.first) and np.array_equal(w.left_tin, b.left_tin)
+    assert np.allclose(w.end, b.end, atol=1e-8) and np.allclose(w.dist, b.dist, atol=1e-8)
+    assert np.max(np.abs(w.z - b.z)) < 1e-7
