@@ -107,13 +107,14 @@ class _Surfaces:
     def __init__(self, where: str, name: str | None) -> None:
         self.where = where
         self.want = name
-        self.names: list[str] = []
+        self.surfaces: list[str] = []
 
     def err(self, what: str) -> JobFileError:
         return JobFileError(f"{self.where}: {what}")
 
     def read(self, data: bytes, job_unit_key: str, digest: str) -> XSurface:
-        stack: list[tuple[str, _ET.Element]] = []
+        stack: list[_ET.Element] = []
+        names: list[str] = []  # the open elements' local names ("#other" outside the namespace)
         units: list[tuple[str, str]] = []
         taking = False  # inside the surface chosen
         chosen: str | None = None
@@ -132,37 +133,37 @@ class _Surfaces:
                         shown_tag = f"{{{e_ns}}}{local}" if e_ns else local
                         raise self.err(f"root element {shown_tag!r} is not <LandXML> of LandXML 1.2 ({LANDXML_NS})")
                     ns = e_ns
-                path = [p for p, _ in stack]
-                if e_ns == ns and local == "Surface" and path[-1:] == ["Surfaces"] and len(path) == 2:
+                if e_ns == ns and local == "Surface" and names[-1:] == ["Surfaces"] and len(names) == 2:
                     nm = el.get("name", "")
-                    self.names.append(nm)
+                    self.surfaces.append(nm)
                     taking = (nm == self.want) if self.want is not None else chosen is None
                     if taking:
                         if chosen is not None and self.want is not None:
                             raise self.err(f"two <Surface name={shown(nm)!r}>; name the one to read uniquely")
                         chosen = nm
-                if taking and e_ns == ns and local == "Definition" and path[-1:] == ["Surface"]:
+                if taking and e_ns == ns and local == "Definition" and names[-1:] == ["Surface"]:
                     surf_type = el.get("surfType", "")
-                stack.append((local if e_ns == ns else "#other", el))
+                stack.append(el)
+                names.append(local if e_ns == ns else "#other")
                 continue
             stack.pop()
-            parent = stack[-1][1] if stack else None
-            where_in = [p for p, _ in stack]
-            if e_ns == ns and local in ("Metric", "Imperial") and where_in[-1:] == ["Units"] and len(where_in) == 2:
+            names.pop()
+            parent = stack[-1] if stack else None
+            if e_ns == ns and local in ("Metric", "Imperial") and names[-1:] == ["Units"] and len(names) == 2:
                 units.append((local, el.get("linearUnit", "")))
-            elif taking and e_ns == ns and local == "P" and where_in[-2:] == ["Definition", "Pnts"]:
+            elif taking and e_ns == ns and local == "P" and names[-2:] == ["Definition", "Pnts"]:
                 pid.append(el.get("id", ""))
                 ptxt.append(el.text or "")
-            elif taking and e_ns == ns and local == "F" and where_in[-2:] == ["Definition", "Faces"]:
+            elif taking and e_ns == ns and local == "F" and names[-2:] == ["Definition", "Faces"]:
                 if el.get("i", "0").strip() in ("1", "true"):
                     invisible += 1
                 else:
                     ftxt.append(el.text or "")
-            elif e_ns == ns and local == "Surface" and where_in[-1:] == ["Surfaces"]:
+            elif e_ns == ns and local == "Surface" and names[-1:] == ["Surfaces"]:
                 taking = False
             if parent is not None and len(stack) >= 2:
                 el.clear()
-                if where_in[-1:] in (["Pnts"], ["Faces"]) and len(parent) > 4096:
+                if names[-1:] in (["Pnts"], ["Faces"]) and len(parent) > 4096:
                     del parent[:]  # every point or face so far has ended and been taken: they leave the tree
         return self.build(units, job_unit_key, chosen, surf_type, pid, ptxt, ftxt, invisible, digest)
 
@@ -183,13 +184,13 @@ class _Surfaces:
             system, linear = units[0]
             raise self.err(f'the file\'s units are <{system} linearUnit="{linear}"> ({UNIT_WORDS[key]}) but the '
                            f"job's units = {job_unit_key!r}; they must match")
-        listed = ", ".join(repr(shown(n)) for n in self.names) or "none"
+        listed = ", ".join(repr(shown(n)) for n in self.surfaces) or "none"
         if chosen is None:
             if self.want is not None:
                 raise self.err(f"no <Surface name={shown(self.want)!r}>; the file has {listed}")
             raise self.err("no <Surface>: the file holds no ground surface")
-        if self.want is None and len(self.names) > 1:
-            raise self.err(f"{len(self.names)} surfaces ({listed}); say which with `name = ...`")
+        if self.want is None and len(self.surfaces) > 1:
+            raise self.err(f"{len(self.surfaces)} surfaces ({listed}); say which with `name = ...`")
         label = f"<Surface name={shown(chosen)!r}>"
         if surf_type != "TIN":
             raise self.err(f"{label}: surfType = {shown(surf_type or '')!r}; only a TIN surface "
