@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, fields, replace
+from functools import cached_property
 from typing import TYPE_CHECKING, overload
 
 import numpy as np
@@ -38,6 +39,7 @@ from .units import Unit
 
 if TYPE_CHECKING:  # pragma: no cover
     from .crs import GridCRS
+    from .presentation import Presentation
 
 __all__ = ["Design", "Factors", "SetupDesign", "Occupation", "build_design", "build_setups", "build_stationing",
            "build_profile_of", "precision_rules_setups", "build_sections"]
@@ -211,6 +213,15 @@ class Design:
         """Design elevation of every stake, or ``None`` when the job gives none."""
         return self.stakes.elevation
 
+    @cached_property
+    def presentation(self) -> "Presentation":
+        """What the outputs show, as numbers (:mod:`stakeout.presentation`), made on first use
+        and shared by every writer of the build.
+        """
+        from .presentation import Presentation
+
+        return Presentation(self)
+
 
 def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> SectionPlan:
     """The job's cross-section: its ``[[superelevation]]`` rows, or the rows of the design
@@ -220,6 +231,20 @@ def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> Se
     if job.superelevation_file is not None:
         rows = derive_rows(job.superelevation_file, alignment)
     return plan_sections(job.staking.offsets, rows, stationing)
+
+
+def unapplied_superelevation_warnings(job: Job, stationing: Stationing) -> list[str]:
+    """One warning per ``<Superelevation>`` of the alignment's design file that the job does not apply
+    (outputs.md, "Content not used": never only a list entry), over the stations it spans.
+    """
+    out = []
+    for p in job.unapplied_superelevation:
+        given = [v for v in (p.begin_runout, p.begin_runoff, p.full_super, p.runoff, p.start_of_runout,
+                             p.end_of_runout) if v is not None]
+        span = f" from {stationing.label(min(given))} to {stationing.label(max(given))}" if given else ""
+        out.append(f"offset elevations ignore the design file's superelevation{span} (apply it with "
+                   "[superelevation] landxml and normal_crown)")
+    return out
 
 
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
@@ -458,6 +483,7 @@ def build_design(job: Job) -> Design:
     setup_design = None
     factors = Factors()
     warnings: list[str] = list(alignment.warnings)
+    warnings.extend(unapplied_superelevation_warnings(job, stationing))
     if job.setup is not None:
         setup_design = build_setups(job, stakes, stationing, grid)
         if not job.scale.given and grid is not None:

@@ -80,9 +80,7 @@ class Output:
 
 
 def _has_spirals(d: "Design") -> bool:
-    from .alignment import Spiral
-
-    return any(isinstance(el, Spiral) for el in d.alignment.elements)
+    return d.presentation.has_spirals
 
 
 def _has_control(d: "Design") -> bool:
@@ -134,7 +132,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
            "profile_picture:profile_svg", needs_profile=True),
     Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
-           "against station, key points and SE rows", "sections:superelevation_svg",
+           "against station, key points and SE rows", "superelevation:superelevation_svg",
            applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
            needs_setup=True),

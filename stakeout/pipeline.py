@@ -196,9 +196,9 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     notes[1:1] = folder.litter_notes
     notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
-    for f in job.design_files:
-        for item in f.not_used:
-            notes.append(f"{f.role} file {Path(f.path).name}: not used by a staking job: {item}")
+    for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
+        if f.not_used:
+            notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")
     return notes
 
 
@@ -234,9 +234,11 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     """
     from .check import check_column_order, check_shots, job_control_points
     from .shots import parse_columns, read_shots
-    from .writers.checkreport import check_csv, check_txt, restake_csv
+    from .writers.checkreport import check_csv, check_txt
     from .writers.folder import OutputFolder
     from .writers.html import check_html
+    from .writers.picture import residual_svg_element
+    from .writers.tables import restake_csv
 
     job = load_job(job_path)
     spec = job.check
@@ -261,7 +263,8 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     with folder:
         folder.write_bytes("check.csv", check_csv(d, shots, result))
         folder.write_bytes("check.txt", check_txt(d, str(staked), shots, result, wide))
-        folder.write_bytes("check.html", check_html(d, str(staked), shots, result))
+        residuals = residual_svg_element(d, shots, result, Path(staked).name)
+        folder.write_bytes("check.html", check_html(d, str(staked), shots, result, residuals))
         folder.write_bytes("restake.csv", restake_csv(d, result))
         folder.commit()
     progress.step("check.csv, check.txt, check.html, restake.csv")

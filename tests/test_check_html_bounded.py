@@ -14,7 +14,7 @@ from typer.testing import CliRunner
 from stakeout.cli import app
 from stakeout.design import build_design
 from stakeout.jobfile import load_job
-from stakeout.writers import checkreport
+from stakeout.writers import checkwords  # the listing rule of check.txt and check.html
 
 from .helpers import SAMPLES
 
@@ -39,7 +39,7 @@ def test_check_html_unbounded_at_a_million_shots(tmp_path, monkeypatch):
     lines = [f"{sp.point[i]},{sp.northing[i] + off[i]:.4f},{sp.easting[i]:.4f},," for i in k.tolist()]
     staked = tmp_path / "shots.csv"
     staked.write_text("point,northing,easting,elevation,description\n" + "\n".join(lines) + "\n")
-    monkeypatch.setattr(checkreport, "LISTED_SHOTS", 10)
+    monkeypatch.setattr(checkwords, "LISTED_SHOTS", 10)
     out = tmp_path / "chk"
     r = runner.invoke(app, ["check", str(JOB), str(staked), "--out", str(out)])
     assert r.exit_code == 1, r.output

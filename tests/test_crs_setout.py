@@ -15,7 +15,7 @@ from stakeout.crs import load_crs
 from stakeout.errors import CRSError
 from stakeout.setout import compute_setout, elevation_factor
 from stakeout.units import UNITS
-from stakeout.writers.sheets import deflection_rows
+from stakeout.presentation import deflection_rows
 
 from .reference import design_notes, mahun_surveying as mahun, navedtra_simple_curve as navedtra
 

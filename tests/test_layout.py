@@ -62,6 +62,7 @@ def test_imports_flow_one_way():
         "jobfile": ("design", "writers", "pipeline", "outputs", "cli", "staking"),
         "design.py": ("writers", "pipeline", "cli", "jobfile"),
         "outputs.py": ("pipeline", "cli"),
+        "presentation.py": ("writers", "pipeline", "outputs", "cli", "jobfile"),
     }
     for path, src in _sources():
         rel = path.relative_to(PKG).as_posix()
@@ -141,3 +142,57 @@ def test_every_element_class_has_an_export_entry():
     classes = {c for _, c in inspect.getmembers(elements, inspect.isclass)
                if issubclass(c, elements.Element) and c is not elements.Element}
     assert classes and classes <= set(EXPORT), classes - set(EXPORT)
+
+
+#: The writers that render outputs; the others (text, rows, folder, checkwords) are toolkits
+#: any writer may use.  A renderer never imports another renderer, nor stakeout.alignment: what it
+#: shows comes from stakeout.presentation (see its docstring).
+RENDERERS = {"tables", "sheets", "report", "checkreport", "html", "dxf", "picture", "profile_picture", "exchange",
+             "manifest", "control", "superelevation"}
+#: Owned by the LandXML work, which moves it off the element classes (issue 21); until then exempt.
+PENDING_ALIGNMENT_IMPORTS = {"exchange"}
+
+
+def _writer_imports(path: Path) -> set[tuple[str, ...]]:
+    """Modules a file under writers/ imports, as package paths (``("writers", "text")``)."""
+    rel = path.relative_to(PKG).with_suffix("").parts
+    out = set()
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.ImportFrom) and node.level:
+            base = list(rel[:len(rel) - node.level])
+            mod = tuple(base + (node.module.split(".") if node.module else []))
+            out.add(mod)
+            if not node.module:  # from . import rows
+                out |= {mod + (a.name,) for a in node.names}
+        elif isinstance(node, ast.ImportFrom) and node.module and node.module.startswith("stakeout."):
+            out.add(tuple(node.module.split(".")[1:]))
+        elif isinstance(node, ast.Import):
+            out |= {tuple(a.name.split(".")[1:]) for a in node.names if a.name.startswith("stakeout.")}
+    return out
+
+
+def test_no_renderer_imports_another_renderer_or_the_alignment():
+    for path in (PKG / "writers").rglob("*.py"):
+        rel = path.relative_to(PKG / "writers").with_suffix("").parts
+        own = rel[0]
+        for mod in _writer_imports(path):
+            if mod[:1] == ("writers",) and len(mod) > 1:
+                assert mod[1] == own or mod[1] not in RENDERERS, f"writers/{'/'.join(rel)} imports {'.'.join(mod)}"
+            if mod[:1] == ("alignment",) and own not in PENDING_ALIGNMENT_IMPORTS:
+                raise AssertionError(f"writers/{'/'.join(rel)} imports stakeout.{'.'.join(mod)}: use "
+                                     "stakeout.presentation")
+
+
+def test_no_isinstance_on_element_classes_outside_the_alignment():
+    # an element kind is dispatched through a PerKind table (stakeout/alignment/kinds.py), which
+    # fails loudly on a kind it does not know; isinstance(x, Arc) elsewhere would not
+    kinds = {"Line", "Arc", "Spiral", "Element"}
+    for path, src in _sources():
+        rel = path.relative_to(PKG).as_posix()
+        if rel.startswith("alignment/") or path.stem in PENDING_ALIGNMENT_IMPORTS:
+            continue
+        for node in ast.walk(ast.parse(src)):
+            if isinstance(node, ast.Call) and isinstance(node.func, ast.Name) and node.func.id == "isinstance":
+                names = {n.id for n in ast.walk(node.args[1]) if isinstance(n, ast.Name)} | \
+                        {n.attr for n in ast.walk(node.args[1]) if isinstance(n, ast.Attribute)}
+                assert not names & kinds, f"{rel}:{node.lineno} branches on an element class: use a PerKind table"

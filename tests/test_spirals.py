@@ -50,7 +50,7 @@ from stakeout.cli import app
 from stakeout.job import OffsetLine, Staking
 from stakeout.staking import plan_stakes
 from stakeout.stations import Stationing
-from stakeout.writers.sheets import deflection_rows
+from stakeout.presentation import deflection_rows
 
 from .helpers import build_job, read_rows, write_job
 from .reference import nhdot_spiral_curve as nh
@@ -850,7 +850,7 @@ def test_elements_csv_against_reference(metric_out):
     rows = read_rows(metric_out / "elements.csv")
     assert list(rows[0]) == ["element", "kind", "start_station", "end_station", "length", "start_northing",
                              "start_easting", "end_northing", "end_easting", "start_azimuth_deg",
-                             "end_azimuth_deg", "radius_start", "radius_end", "turn"]
+                             "end_azimuth_deg", "radius_start", "radius_end", "turn", "alignment"]
     assert len(rows) == len(chain)
     q = 6e-5
     for k, (row, ref, sp) in enumerate(zip(rows, chain, METRIC_SPEC.elements), start=1):
@@ -1129,7 +1129,7 @@ def test_unequal_spirals_tangents_and_external(radius, big_i, f1, f2, turn, back
     # brute-force search on the scipy reference walk, refined with scipy.optimize.minimize_scalar.
     from scipy.optimize import minimize_scalar
 
-    from stakeout.writers.text import curve_texts
+    from stakeout.presentation import curve_views
 
     ii = math.radians(big_i)
     ls1, ls2 = 2 * radius * ii * f1, 2 * radius * ii * f2  # theta_i = Ls_i / 2R = f_i I
@@ -1169,5 +1169,5 @@ def test_unequal_spirals_tangents_and_external(radius, big_i, f1, f2, turn, back
     j = int(np.argmin([dist(float(s)) for s in grid]))
     lo, hi = grid[max(j - 1, 0)], grid[min(j + 1, grid.size - 1)]
     best = minimize_scalar(dist, bounds=(lo, hi), method="bounded", options={"xatol": 1e-10}).fun
-    (ct,) = curve_texts(a, Stationing(a.start_station, a.end_station, 100, 2))
+    (ct,) = curve_views(a)
     assert ct.external == pytest.approx(best, abs=1e-6)

@@ -269,6 +269,35 @@ class Alignment:
             out[:, todo] = self._locate_all(n[todo], e[todo])
         return Location(out[0].reshape(shape), out[1].reshape(shape), out[2].reshape(shape))
 
+    def curve_externals(self) -> F:
+        """Distance from each curve's PI to the nearest point of the curve's own elements
+        (job units; NaN for a curve without a PI), one entry per curve, computed once.
+
+        All curves in one vectorised pass of the inverse, each PI against its curve's
+        elements only.
+        """
+        cached = self._arrays.externals
+        if cached is None:
+            out = np.full(len(self.curves), np.nan)
+            has = [k for k, c in enumerate(self.curves) if c.pi_northing is not None and c.pi_easting is not None]
+            if has:
+                n = np.array([self.curves[k].pi_northing for k in has], dtype=float)
+                e = np.array([self.curves[k].pi_easting for k in has], dtype=float)
+                runs = [self.curves[k].elements for k in has]
+                out[has] = self._curve_distances(n, e, runs)
+            cached = self._arrays.externals = out
+        return cached
+
+    def _curve_distances(self, n: F, e: F, runs: list[tuple[int, ...]]) -> F:
+        """Distance from point ``k`` to the nearest point of the elements ``runs[k]`` (one pass
+        of the inverse over every (point, element) pair).
+        """
+        size = np.array([len(r) for r in runs], dtype=np.int64)
+        flat = np.array([i for r in runs for i in r], dtype=np.int64)
+        first = np.cumsum(size) - size
+        out: F = self._locate_candidates(n, e, flat, first, size)[2]
+        return out
+
     def _grid(self) -> ElementGrid | None:
         cached = self._arrays.grid
         if cached is None:

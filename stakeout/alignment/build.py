@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 
@@ -18,6 +19,7 @@ from ..angles import angle_difference, azimuth_between, sincosd
 from ..errors import GeometryError
 from .alignment import FEATURE_ORDER, STATION_TOLERANCE, Alignment, Curve, KeyPoint
 from .curves import CompoundTangents, compound_tangents, intersect_tangents
+from .kinds import IS_CIRCULAR_ARC
 from .elements import Arc, Element, Line, Spiral, end_features, join_features, join_problem, start_features
 from .specs import AlignmentSpec, ArcSpec, ChainSpec, FixedSpec, LineSpec, PIListSpec, SinglePISpec, SpiralSpec
 
@@ -141,8 +143,8 @@ def _run_tangents(run: list[Element]) -> CompoundTangents:
     """Tangents from the PI of a curve: the published relations for a run of
     arcs; for a curve with spirals, the intersection of its end tangents.
     """
-    if all(isinstance(a, Arc) for a in run):
-        return compound_tangents(tuple(a.radius for a in run if isinstance(a, Arc)),
+    if all(IS_CIRCULAR_ARC[a] for a in run):
+        return compound_tangents(tuple(cast(Arc, a).radius for a in run),
                                  tuple(a.central_angle for a in run))
     first, last = run[0], run[-1]
     return intersect_tangents(first.start_northing, first.start_easting, first.start_azimuth,

@@ -60,6 +60,7 @@ class ElementArrays:
     ap_ahead: F
     grid: tuple[ElementGrid | None] | None = None  # a tuple, so that "no grid" is cached too
     middles: tuple[F, F] | None = None
+    externals: F | None = None  # per curve, PI to the curve (Alignment.curve_externals)
 
 
 class Nearest(NamedTuple):

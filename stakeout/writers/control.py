@@ -9,7 +9,7 @@ same build instead of keying occupied and backsight coordinates from a sheet.
 from __future__ import annotations
 
 from ..design import Design
-from .tables import DECIMALS, POINTS_COLUMNS, csv_field, csv_text
+from .csvtext import DECIMALS, POINTS_COLUMNS, csv_field, csv_text
 
 __all__ = ["control_csv", "DESCRIPTION"]
 

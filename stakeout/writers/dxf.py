@@ -37,9 +37,9 @@ from typing import Any
 import ezdxf
 import numpy as np
 
-from ..alignment import Alignment, Arc, Element, Line, Spiral
 from ..angles import format_dms, sincosd
 from ..design import Design
+from ..presentation import Element, PerKind
 from . import rows
 from .sections import widened_traces
 from .text import CAUTION_LINES, curve_texts
@@ -92,22 +92,16 @@ def _text(msp: Any, s: str, x: float, y: float, h: float, layer: str, rot: float
     t.set_placement((x, y), align=ezdxf.enums.TextEntityAlignment[align])
 
 
-Ends = tuple[tuple[float, float], tuple[float, float]]
+Ends = tuple[tuple[float, float], tuple[float, float]]  # (northing, easting) at the start and at the end
 
 
-def _ends(alignment: Alignment, el: Element, offset: float) -> Ends:
-    (n0, n1), (e0, e1), _ = alignment.evaluate(np.array([el.start, el.end]), offset)
-    return (float(n0), float(e0)), (float(n1), float(e1))
-
-
-def _draw_line(msp: Any, el: Element, alignment: Alignment, offset: float, layer: str) -> None:
-    (n0, e0), (n1, e1) = _ends(alignment, el, offset)
+def _draw_line(msp: Any, el: Element, ends: Ends, d: Design, offset: float, layer: str) -> None:
+    (n0, e0), (n1, e1) = ends
     msp.add_line((e0, n0), (e1, n1), dxfattribs={"layer": layer})
 
 
-def _draw_arc(msp: Any, el: Element, alignment: Alignment, offset: float, layer: str) -> None:
-    assert isinstance(el, Arc)
-    (n0, e0), (n1, e1) = _ends(alignment, el, offset)
+def _draw_arc(msp: Any, el: Any, ends: Ends, d: Design, offset: float, layer: str) -> None:
+    (n0, e0), (n1, e1) = ends
     r = el.radius - el.turn * offset
     if r <= 1e-9:
         return
@@ -125,59 +119,60 @@ def _draw_arc(msp: Any, el: Element, alignment: Alignment, offset: float, layer:
 SPLINE_STEP = 0.02
 
 
-def spiral_fit_points(el: Element, alignment: Alignment, offset: float) -> tuple[np.ndarray, np.ndarray]:
+def spiral_fit_points(el: Element, d: Design, offset: float) -> tuple[np.ndarray, np.ndarray]:
     """Fit points (easting, northing) and the unit end tangents of a spiral's spline."""
     k = max(abs(el.curvature_start), abs(el.curvature_end))
     count = max(8, int(math.ceil(el.length * k / SPLINE_STEP)) + 1, int(math.ceil(el.length / 50.0)) + 1)
-    s = np.linspace(el.start, el.end, count)
-    n, e, az = alignment.evaluate(s, offset, miter=False)
+    n, e, az = d.presentation.element_samples(el, count, offset)
     pts = np.column_stack([e, n])
     sa, ca = sincosd(np.array([az[0], az[-1]]))
     return pts, np.column_stack([sa, ca])
 
 
-def _draw_spiral(msp: Any, el: Element, alignment: Alignment, offset: float, layer: str) -> None:
+def _draw_spiral(msp: Any, el: Element, ends: Ends, d: Design, offset: float, layer: str) -> None:
     from ezdxf.math import fit_points_to_cad_cv
 
-    pts, tangents = spiral_fit_points(el, alignment, offset)
+    pts, tangents = spiral_fit_points(el, d, offset)
     spline = fit_points_to_cad_cv(pts.tolist(), tangents=tangents.tolist())
     msp.add_spline(dxfattribs={"layer": layer}).apply_construction_tool(spline)
 
 
-#: How each kind of element is drawn, with true entities (keyed by class).
-DRAW: dict[type[Element], Callable[..., None]] = {Line: _draw_line, Arc: _draw_arc, Spiral: _draw_spiral}
+#: How each kind of element is drawn, with true entities.
+DRAW: PerKind[Callable[..., None]] = PerKind("DXF drawing", {"line": _draw_line, "arc": _draw_arc,
+                                                              "spiral": _draw_spiral})
 
 
-def _draw_path(msp: Any, alignment: Alignment, offset: float, layer: str) -> None:
+def _draw_path(msp: Any, d: Design, offset: float, layer: str) -> None:
     """Draw the centreline (offset 0) or an offset line with true entities."""
-    for el in alignment.elements:
-        DRAW[type(el)](msp, el, alignment, offset, layer)
+    n0, e0, n1, e1 = (v.tolist() for v in d.presentation.element_ends(offset))
+    for k, el in enumerate(d.alignment.elements):
+        DRAW[el](msp, el, ((n0[k], e0[k]), (n1[k], e1[k])), d, offset, layer)
 
 
-def _extent(c: Design) -> tuple[float, float, float, float]:
-    e = np.concatenate([c.stakes.easting, [el.start_easting for el in c.alignment.elements],
-                        [c.alignment.elements[-1].end_easting]])
-    n = np.concatenate([c.stakes.northing, [el.start_northing for el in c.alignment.elements],
-                        [c.alignment.elements[-1].end_northing]])
-    if c.setup is not None:
-        for o in c.setup.occupations:
+def _extent(d: Design) -> tuple[float, float, float, float]:
+    e = np.concatenate([d.stakes.easting, [el.start_easting for el in d.alignment.elements],
+                        [d.alignment.elements[-1].end_easting]])
+    n = np.concatenate([d.stakes.northing, [el.start_northing for el in d.alignment.elements],
+                        [d.alignment.elements[-1].end_northing]])
+    if d.setup is not None:
+        for o in d.setup.occupations:
             e = np.append(e, o.occupied.easting)
             n = np.append(n, o.occupied.northing)
             if o.backsight is not None:
                 e = np.append(e, o.backsight.easting)
                 n = np.append(n, o.backsight.northing)
-    if c.job.control:
-        e = np.append(e, [p.easting for p in c.job.control])
-        n = np.append(n, [p.northing for p in c.job.control])
+    if d.job.control:
+        e = np.append(e, [p.easting for p in d.job.control])
+        n = np.append(n, [p.northing for p in d.job.control])
     return float(e.min()), float(n.min()), float(e.max()), float(n.max())
 
 
-def _draw_setups(msp: Any, c: Design, h: float, size: float) -> None:
+def _draw_setups(msp: Any, d: Design, h: float, size: float) -> None:
     """Every setup: occupied point (triangle), backsight (circle) and backsight line, and
     radial lines from each occupied point to its own stakes (up to RADIAL_MAX_STAKES stakes).
     """
-    assert c.setup is not None
-    sd, sp = c.setup, c.stakes
+    assert d.setup is not None
+    sd, sp = d.setup, d.stakes
     listed = sd.listed
     radials = len(sp) <= RADIAL_MAX_STAKES
     groups = sd.groups() if radials else [np.zeros(0, dtype=np.int64)] * len(sd.occupations)
@@ -211,25 +206,25 @@ def _draw_setups(msp: Any, c: Design, h: float, size: float) -> None:
             msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
 
-def _draw_control(msp: Any, c: Design, h: float) -> None:
+def _draw_control(msp: Any, d: Design, h: float) -> None:
     """The job's other control points: a point and its id."""
     used: set[str] = set()
-    if c.setup is not None:
-        for o in c.setup.occupations:
+    if d.setup is not None:
+        for o in d.setup.occupations:
             used.add(o.occupied.id)
             if o.backsight is not None:
                 used.add(o.backsight.id)
-    for p in c.job.control:
+    for p in d.job.control:
         if p.id not in used:
             msp.add_point((p.easting, p.northing), dxfattribs={"layer": "SO-CONTROL"})
             msp.add_circle((p.easting, p.northing), 0.6 * h, dxfattribs={"layer": "SO-CONTROL"})
             _text(msp, p.id, p.easting + 2 * h, p.northing + h, h, "SO-CONTROL")
 
 
-def _build(c: Design) -> Any:
-    job, a, sp = c.job, c.alignment, c.stakes
+def _build(d: Design) -> Any:
+    job, a, sp = d.job, d.alignment, d.stakes
     unit = job.info.unit
-    stn = c.stationing
+    stn = d.stationing
     sl = stn.station_length
     doc = ezdxf.new("R2013", setup=False)
     doc.header["$INSUNITS"] = INSUNITS[unit.key]
@@ -239,15 +234,15 @@ def _build(c: Design) -> Any:
         doc.layers.add(name, color=colour)
     doc.layers.get("SO-RADIAL").off()  # there for whoever wants it; off so it hides nothing
     msp = doc.modelspace()
-    x0, y0, x1, y1 = _extent(c)
+    x0, y0, x1, y1 = _extent(d)
     size = max(x1 - x0, y1 - y0, 1.0)
     h = size / 250.0  # text height: legible at full-extent zoom
 
-    _draw_path(msp, a, 0.0, "SO-CL")
+    _draw_path(msp, d, 0.0, "SO-CL")
     for ol in job.staking.offsets:
         if ol.offset != 0.0 and not ol.widening:
-            _draw_path(msp, a, ol.offset, "SO-OFFSET")
-    for _code, tn_, te_ in widened_traces(c):  # a widened line is what it is: a polyline along its taper
+            _draw_path(msp, d, ol.offset, "SO-OFFSET")
+    for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
         msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
     detail = len(sp) <= DETAIL_MAX_STAKES
@@ -286,20 +281,20 @@ def _build(c: Design) -> Any:
             _text(msp, f"{stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH", e + 1.2 * h,
                   n - 1.5 * h, h, "SO-KEYPOINT")
 
-    if c.setup is not None:
-        _draw_setups(msp, c, h, size)
-    _draw_control(msp, c, h)
+    if d.setup is not None:
+        _draw_setups(msp, d, h, size)
+    _draw_control(msp, d, h)
 
     # title block and curve table, above the top-left corner of the job
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
              f"alignment {a.name}   units {unit.label}",
-             f"CRS {c.crs_label or 'none: local grid'}", ""]
+             f"CRS {d.crs_label or 'none: local grid'}", ""]
     if not detail:
         lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at full stations "
                      f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
         lines.append("")
     lines.append("CURVE DATA")
-    for ct in curve_texts(a, stn):
+    for ct in curve_texts(d):
         cv, t = ct.curve, ct.curve.tangents
         head = f"curve {cv.number}: {ct.turn}, I {ct.delta}"
         if cv.pi_station is not None and t is not None:
@@ -328,17 +323,17 @@ def _build(c: Design) -> Any:
     return doc
 
 
-def plan_dxf(c: Design) -> bytes:
+def plan_dxf(d: Design) -> bytes:
     """Render ``plan.dxf`` as bytes, identical for the same job and version."""
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
     try:
-        doc = _build(c)
-        bulk = len(c.stakes) > DETAIL_MAX_STAKES
+        doc = _build(d)
+        bulk = len(d.stakes) > DETAIL_MAX_STAKES
         first = 0
         if bulk:  # reserve one handle per stake before the header's $HANDSEED is written
             first = int(doc.entitydb.handles.next(), 16)
-            doc.entitydb.handles.reset("%X" % (first + len(c.stakes)))
+            doc.entitydb.handles.reset("%X" % (first + len(d.stakes)))
         # The CLASSES section can come out in set order, which follows the hash
         # seed: add the required classes now and put them in a fixed order.
         doc.classes.add_required_classes(doc.dxfversion)
@@ -350,7 +345,7 @@ def plan_dxf(c: Design) -> bytes:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
     data = stream.getvalue().encode(doc.output_encoding)
     if bulk:
-        data = _splice_points(data, c, first, owner)
+        data = _splice_points(data, d, first, owner)
     return data
 
 
@@ -366,11 +361,11 @@ def _hex(values: np.ndarray) -> rows.Field:
     return np.where(lead, 0, text).astype(np.uint8)
 
 
-def _splice_points(data: bytes, c: Design, first: int, owner: str) -> bytes:
+def _splice_points(data: bytes, d: Design, first: int, owner: str) -> bytes:
     """Put one POINT entity per stake at the end of the ENTITIES section, written in bulk
     with numpy (the same group codes ezdxf writes for a POINT on layer SO-STAKE).
     """
-    sp = c.stakes
+    sp = d.stakes
     at = data.index(b"\n  0\nENDSEC\n", data.index(b"\n  2\nENTITIES\n")) + 1
     z = np.zeros(len(sp)) if sp.elevation is None else sp.elevation
     parts = []

@@ -5,11 +5,19 @@ station and the station equations), the profile, and every stake as a
 ``CgPoint`` (name = point number, code, northing easting elevation).  The
 XML itself is written by :mod:`stakeout.landxml`, the project's only XML
 module; this writer only turns the design into its plain records.
+
+The root's ``date`` and ``time`` (the schema requires both) are those of
+``SOURCE_DATE_EPOCH`` (seconds since 1970-01-01 UTC, the reproducible-builds
+convention) when it is set, else the fixed 1970-01-01 00:00:00 (the same as
+``SOURCE_DATE_EPOCH=0``): never the clock, so the same input gives the same
+bytes.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
+import os
 from collections.abc import Callable
 
 from .. import __version__
@@ -18,6 +26,7 @@ from ..alignment.curves import intersect_tangents
 from ..angles import angle_difference, sincosd
 from ..design import Design
 from ..errors import OutputError, StakeoutError
+from ..numbers import round_to
 from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
 
 __all__ = ["alignment_xml", "EXPORT", "MAX_ARC_TURN", "MAX_SPIRAL_TURN"]
@@ -108,7 +117,8 @@ def _profile(d: Design) -> list[XPVI] | None:
     out = []
     for spec, row in zip(d.profile.pvis, d.profile.rows()):
         if spec.radius is not None and row.grade_in is not None and row.grade_out is not None:
-            arc = spec.radius * abs(math.atan(row.grade_out) - math.atan(row.grade_in))
+            # derived (a cross-check on reading): rounded as the CSVs round lengths
+            arc = float(round_to(spec.radius * abs(math.atan(row.grade_out) - math.atan(row.grade_in)), 4))
             out.append(XPVI(spec.station, spec.elevation, "circ", arc, None, None, spec.radius))
         elif spec.curve_length_back or spec.curve_length_ahead:
             kind = "para" if spec.curve_length_back == spec.curve_length_ahead else "unsym"
@@ -117,6 +127,27 @@ def _profile(d: Design) -> list[XPVI] | None:
         else:
             out.append(XPVI(spec.station, spec.elevation))
     return out
+
+
+#: Largest SOURCE_DATE_EPOCH taken (9999-12-31 UTC: xs:date has four-digit years here).
+_MAX_EPOCH = 253402300799
+
+
+def source_date() -> _dt.datetime | None:
+    """The date of ``SOURCE_DATE_EPOCH`` (UTC), None when unset or empty.
+
+    Raises
+    ------
+    OutputError
+        A value that is not a whole number of seconds from 0 to 253402300799.
+    """
+    text = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if not text:
+        return None
+    if not text.isdigit() or int(text) > _MAX_EPOCH:
+        raise OutputError(f"SOURCE_DATE_EPOCH = {text[:40]!r}: expected whole seconds since 1970-01-01 UTC "
+                          f"(0 to {_MAX_EPOCH}); it dates alignment.xml")
+    return _dt.datetime.fromtimestamp(int(text), _dt.timezone.utc).replace(tzinfo=None)
 
 
 def alignment_xml(d: Design) -> bytes:
@@ -129,6 +160,6 @@ def alignment_xml(d: Design) -> bytes:
         return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs,
                              _profile(d), points, "stakeout", f"staked design of {name}"[:200],
                              profile_name=d.profile.name or None if d.profile is not None else None,
-                             application_version=__version__)
+                             application_version=__version__, created=source_date())
     except StakeoutError as exc:  # name the output and the part of the job it comes from
         raise type(exc)(f"alignment.xml (the LandXML export of [alignment] and [profile]): {exc}") from None

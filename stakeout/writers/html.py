@@ -19,11 +19,12 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..alignment import Arc, Spiral
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
+from .checkwords import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
 from .sections import slope_texts, superelevation_table
-from .text import CAUTION_LINES, curve_texts, end_radii, fixed, turn_word, vertical_note
+from .text import CAUTION_LINES, curve_texts, deflection_title, end_radii, fixed, offset_side, setout_cells, vertical_note
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -174,7 +175,7 @@ def _job_facts(d: Design) -> list[tuple[str, str]]:
 
 # ---- report.html ------------------------------------------------------------------------------
 def _curve_section(d: Design) -> str:
-    cts = curve_texts(d.alignment, d.stationing)
+    cts = curve_texts(d)
     if not cts:
         return "<h2>Curve data</h2><p>The alignment has no curves.</p>"
     out = ["<h2>Curve data</h2>"]
@@ -218,15 +219,19 @@ def _setup_groups(d: Design) -> list[tuple[str, list[tuple[str, str]], np.ndarra
     for k, o in enumerate(sd.occupations):
         title = f"Setup {o.number}: setout from" if len(sd.occupations) > 1 else "Setout from"
         out.append((f"{title} {o.occupied.id}",
-                    _setup_facts(d, o.occupied, o.backsight, float(o.backsight_azimuth), o.scale),
+                    _setup_facts(d, o),
                     np.flatnonzero(idx == k)))
     return out
 
 
-def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list[tuple[str, str]]:
+def _setup_facts(d: Design, o: Any) -> list[tuple[str, str]]:
+    """The facts of one setup (an :class:`~stakeout.design.Occupation`): occupied point,
+    backsight, combined factor, convergence, heights.
+    """
     sd = d.setup
     assert sd is not None
     setup = sd.setup
+    occ, bs, bs_az, scale = o.occupied, o.backsight, float(o.backsight_azimuth), o.scale
     occ_text = f"{occ.id}   N {occ.northing:.4f}   E {occ.easting:.4f}"
     if occ.elevation is not None:
         occ_text += f"   elev {occ.elevation:.3f}"
@@ -234,7 +239,7 @@ def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list
     if setup.instrument_height is not None:
         rows.append(("instrument height", f"{setup.instrument_height:.3f}"))
     if bs is not None:
-        dist = math.hypot(bs.northing - occ.northing, bs.easting - occ.easting)
+        dist = o.backsight_distance
         rows.append(("backsight", f"{bs.id}   N {bs.northing:.4f}   E {bs.easting:.4f}"))
         rows.append(("backsight grid azimuth", f"{format_azimuth_dms(bs_az, 1)}   grid distance {dist:.4f}   "
                                                f"ground {dist / scale.combined_factor:.4f}"))
@@ -261,59 +266,23 @@ def _setup_facts(d: Design, occ: Any, bs: Any, bs_az: float, scale: Any) -> list
 def _setout_section(d: Design) -> str:
     sd = d.setup
     assert sd is not None
-    sp, so = d.stakes, sd.setout
-    n = len(sp)
+    n = len(d.stakes)
     if n > REPORT_MAX_ROWS:
         return (f"<h2>Setout</h2><p>{n:,} stakes: the setout table is in setout.csv and setout.txt (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    sd_ = d.unit.station_decimals
-    offs = fixed(sp.offset, sd_)
-    angle = format_azimuth_dms(so.angle_right, 0)
-    grid, ground = fixed(so.grid_distance, 3), fixed(so.ground_distance, 3)
-    elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
-    zen = format_dms(so.zenith, 0) if so.zenith is not None and so.slope_distance is not None else None
-    slope = fixed(so.slope_distance, 3) if zen is not None and so.slope_distance is not None else None
-    from .sheets import AT_INSTRUMENT_NOTE, FLAG
-
-    prec = sd.precision
-    at = so.at_instrument
-    notes = [""] * n  # as on setout.txt: no angle at the instrument, r95 over the tolerance flagged
-    for i in np.flatnonzero(at).tolist():
-        notes[i] = AT_INSTRUMENT_NOTE
-    if sd.flagged is not None:
-        for i in np.flatnonzero(sd.flagged).tolist():
-            notes[i] = f"{notes[i]}; {FLAG}" if notes[i] else FLAG
-    cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("angle right", "n"),
-            ("grid dist", "n"), ("ground dist", "n")]
-    if elev is not None:
-        cols.append(("design el", "n"))
-    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake
+    cells = setout_cells(d, sided=False)
+    text_keys = {"point", "code", "feature", "note"}
+    cols = [(SETOUT_HEADERS[c.key][1], "t" if c.key in text_keys else "n") for c, _ in cells]
+    columns = [texts for _, texts in cells]
+    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
     if cs is not None:
-        cols.append(("slope %", "n"))
-    if zen is not None:
-        cols += [("zenith", "n"), ("slope dist", "n")]
-    if prec is not None:
-        cols += [("sd along", "n"), ("sd across", "n"), ("r95", "n")]
-        s_al, s_ac, r95 = fixed(prec.sigma_along, 4), fixed(prec.sigma_across, 4), fixed(prec.r95, 4)
-    if any(notes):
-        cols.append(("note", "t"))
-    point, label, code, feat = sp.point, sp.station_label, sp.code, sp.feature
+        keys = [c.key for c, _ in cells]
+        at = keys.index("design_elevation" if "design_elevation" in keys else "ground_distance") + 1
+        cols.insert(at, ("slope %", "n"))
+        columns.insert(at, cs)
     out = []
     for heading, facts, idx in _setup_groups(d):
-        rows = []
-        for i in idx.tolist():
-            r = [point[i], label[i], offs[i], code[i], feat[i], "" if at[i] else angle[i], grid[i], ground[i]]
-            if elev is not None:
-                r.append(elev[i])
-            if cs is not None:
-                r.append(cs[i])
-            if zen is not None and slope is not None:
-                r += [zen[i], slope[i]]
-            if prec is not None:
-                r += [s_al[i], s_ac[i], r95[i]]
-            if any(notes):
-                r.append(notes[i])
-            rows.append(r)
+        rows = [[texts[i] for texts in columns] for i in idx.tolist()]
         out.append(f'<section class="setup"><h2>{_e(heading)}</h2>{_facts(facts)}'
                    f"<p>{len(rows):,} stakes; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
                    f"{_table(cols, rows)}</section>")
@@ -349,66 +318,35 @@ def _stakes_section(d: Design) -> str:
             f"({n:,}).</p>{_table(cols, rows)}")
 
 
-def _offset_deflections(d: Design, el: Any, stations: np.ndarray, offset: float) -> list[tuple[float, ...]]:
-    """Deflections on an offset line from its point opposite the element's start, along its tangent there:
-    (station, length along the offset line, deflection, chord from start, chord from previous).
-    """
-    n, e, az = d.alignment.evaluate(stations, offset, miter=False)
-    dn, de = n - n[0], e - e[0]
-    chord = np.hypot(dn, de)
-    defl = np.abs((np.degrees(np.arctan2(de, dn)) - az[0] + 180.0) % 360.0 - 180.0)
-    defl[chord == 0.0] = 0.0
-    inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
-    s = stations - el.start
-    k0, k1 = el.curvature_start, el.curvature_end
-    along = s - offset * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))  # integral of (1 - k o) ds
-    return list(zip(stations.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
-
-
 def _deflection_section(d: Design) -> str:
-    from .sheets import deflection_rows
-
-    a, lab = d.alignment, d.stationing.label
-    data = deflection_rows(a, d.stakes.stations)
-    if not data:
+    lab = d.stationing.label
+    tables = d.presentation.deflections
+    if not tables:
         return "<h2>Deflections</h2><p>The alignment has no curves.</p>"
-    offsets = [(ol.offset, ol.code) for ol in d.job.staking.offsets if ol.offset != 0.0 and not ol.widening]
-    total = sum(len(rows) for _, _, rows in data) * (1 + len(offsets))
+    total = sum(t.row_count for t in tables)
     if total > REPORT_MAX_ROWS:
         return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    kp = {round(k.station, 6): " ".join(k.features) for k in a.key_points}
     out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or the CS of an exit "
            "spiral), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
            "the curve and tape the chord. Reading: the horizontal circle reading for a left deflection "
            "(360 - d) with zero on the tangent.</p>"]
-    cols = [("station", "n"), ("from start", "n"), ("deflection", "n"), ("chord from start", "n"),
-            ("chord from prev", "n"), ("reading", "n")]
+    cols = [(h[1], "n") for h in DEFLECTION_HEADERS]
 
-    def rows_of(data_rows: Sequence[tuple[float, ...]], turn: int) -> list[list[Cell]]:
+    def rows_of(data_rows: np.ndarray, turn: int) -> list[list[Cell]]:
         out_rows: list[list[Cell]] = []
-        for st, along, defl, chord, inc in data_rows:
+        for st, along, defl, chord, inc in data_rows.tolist():
             reading = _dms(360.0 - defl, 0) if turn < 0 and defl != 0.0 else ""
             out_rows.append([lab(st), f"{along:.4f}", _dms(defl, 0), f"{chord:.4f}", f"{inc:.4f}", reading])
         return out_rows
 
-    for curve_no, i, rows in data:
-        el = a.elements[i]
-        start = f"{kp.get(round(el.start, 6), '')} {lab(el.start)}".strip()
-        if isinstance(el, Spiral):
-            r0, r1 = end_radii(el)
-            head = (f"Curve {curve_no}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
-                    f"theta {_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
-        else:
-            assert isinstance(el, Arc)
-            head = (f"Curve {curve_no}, arc from {start}: R {el.radius:.4f}, delta {_dms(el.delta, 1)}, "
-                    f"deflect {turn_word(el.turn)}")
-        out.append(f"<h3>{_e(head)}</h3>{_table(cols, rows_of(rows, el.turn))}")
-        stations = np.array([r[0] for r in rows])
-        for o, code in offsets:
-            side = f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
-            out.append(f"<h3>{_e(f'Offset line {code} {side}: from its point opposite {start}')}</h3>"
-                       f"{_table(cols, rows_of(_offset_deflections(d, el, stations, o), el.turn))}")
+    for t in tables:
+        el = t.element
+        start = f"{t.start_feature} {lab(el.start)}".strip()
+        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
+        for off in t.offsets:
+            out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
+                       f"{_table(cols, rows_of(off.rows, el.turn))}")
     return "".join(out)
 
 
@@ -457,7 +395,7 @@ def _f(v: float, decimals: int = 3) -> str:
     return f"{round(v, decimals) + 0.0:.{decimals}f}" if math.isfinite(v) else ""
 
 
-def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") -> bytes:
+def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", residuals: tuple[str, float]) -> bytes:
     """Render ``check.html``: the verdict first, the shots needing attention with what to
     do, the picture of the residuals, the shots within tolerance, the superseded shots,
     the design points to set again, a sign-off block (the same reading as ``check.txt``).
@@ -470,10 +408,10 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
         The staked file as given (its name is printed).
     shots, r : Shots, CheckResult
         The shots read and the check's result, in file order.
+    residuals : (str, float)
+        The residual picture as an ``<svg>`` element and its exaggeration
+        (:func:`stakeout.writers.picture.residual_svg_element`).
     """
-    from .checkreport import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
-    from .picture import residual_svg_element
-
     job, design, unit = d.job, d.stakes, d.unit
     name = Path(staked_path).name
     n = len(shots)
@@ -519,7 +457,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult") ->
     def table(ks: list[int], note: str = "") -> str:
         return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
-    svg, factor = residual_svg_element(d, shots, r, name)
+    svg, factor = residuals
     missing = [design.point[i] for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
     if r.not_staked.size > NOT_STAKED_LISTED:
         missing.append(f"... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")

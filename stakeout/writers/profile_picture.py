@@ -43,7 +43,7 @@ def profile_svg(d: Design) -> bytes:
     x0, x1 = prof.start, prof.end
     xs = np.linspace(x0, x1, 1200)
     ys = prof.elevation(xs)
-    rows = prof.rows()
+    rows = d.presentation.profile_rows
     pvi_x = np.array([r.station for r in rows])
     pvi_y = np.array([r.elevation for r in rows])
     lo = float(min(ys.min(), pvi_y.min()))

@@ -6,10 +6,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from ..alignment import Arc, Spiral, degree_of_curve_arc
-from ..alignment.clothoid import spiral_figures
+from typing import Any
+
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
+from ..presentation import degree_of_curve_arc
 from .sections import transition_lines
 from .text import CAUTION_LINES, curve_texts, spiral_line, turn_word
 
@@ -47,7 +48,8 @@ def curve_report(d: Design) -> str:
     out.append(f"{'station':>12}  {'feature':<10}  {'northing':>15}  {'easting':>15}")
     for kp in alignment.key_points:
         out.append(f"{st(kp.station):>12}  {' '.join(kp.features):<10}  {kp.northing:15.4f}  {kp.easting:15.4f}")
-    for ct in curve_texts(alignment, d.stationing):
+    figures = {id(sv.element): sv.figures for sv in d.presentation.spirals}
+    for ct in curve_texts(d):
         c = ct.curve
         out.append("")
         out.append(f"CURVE {c.number}  ({ct.kind}, turning {ct.turn})")
@@ -69,7 +71,7 @@ def curve_report(d: Design) -> str:
         for n, (arc, a0, a1) in enumerate(ct.arcs, start=1):
             out.extend(_arc_lines(n, arc, a0, a1, unit.is_feet))
         for n, (sp, a0, a1) in enumerate(ct.spirals, start=1):
-            out.extend(_spiral_lines(n, sp, a0, a1))
+            out.extend(_spiral_lines(n, sp, figures[id(sp)], a0, a1))
         if ct.external is not None:
             out.append(f"  external (PI to the curve)  {ct.external:.4f}")
     out.extend(transition_lines(d))
@@ -78,7 +80,7 @@ def curve_report(d: Design) -> str:
     return "\n".join(out) + "\n"
 
 
-def _arc_lines(n: int, el: Arc, a0: str, a1: str, feet: bool) -> list[str]:
+def _arc_lines(n: int, el: Any, a0: str, a1: str, feet: bool) -> list[str]:
     p = el.props
     assert p is not None
     tan = f"{p.tangent:.4f}" if p.tangent is not None else "-"
@@ -91,8 +93,7 @@ def _arc_lines(n: int, el: Arc, a0: str, a1: str, feet: bool) -> list[str]:
             f"         centre N {el.center_northing:.4f}  E {el.center_easting:.4f}"]
 
 
-def _spiral_lines(n: int, sp: Spiral, a0: str, a1: str) -> list[str]:
-    f = spiral_figures(sp.length, sp.radius_start, sp.radius_end)
+def _spiral_lines(n: int, sp: Any, f: Any, a0: str, a1: str) -> list[str]:
     out = [f"  spiral {n}: {spiral_line(sp, a0, a1)}"]
     if f.p is not None and f.k is not None and f.long_tangent is not None and f.short_tangent is not None:
         out.append(f"         X {f.x:.4f}   Y {f.y:.4f}   p {f.p:.4f}   k {f.k:.4f}")

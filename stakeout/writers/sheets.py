@@ -13,18 +13,17 @@ import textwrap
 
 import numpy as np
 
-from ..alignment import Alignment, Arc, Element, Spiral
-from ..alignment.clothoid import clothoid_xy
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design, Occupation, precision_rules_setups
 from ..job import Setup
 from ..precision import R95_FACTOR
+from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, end_radii, fixed, header_lines, paged, paged_parts,
-                   side_text, table_lines, turn_word, vertical_note, wrap_lines)
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_title, fixed, header_lines, offset_side,
+                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
 
-__all__ = ["setout_sheet", "deflection_sheet", "deflection_rows", "FLAG", "AT_INSTRUMENT_NOTE"]
+__all__ = ["setout_sheet", "deflection_sheet"]
 
 
 def _point_lines(o: Occupation, setup: Setup, scale: ScaleInfo, inst: bool = True) -> list[str]:
@@ -97,10 +96,6 @@ def _instrument_lines(d: Design) -> list[str]:
 #: What the distances and the angle of the sheet are.
 _DEFINITIONS = ["ground distance = grid distance / combined factor",
                 "angle right = clockwise from the backsight"]
-#: The mark of a stake whose predicted 95 % radius exceeds the tolerance.
-FLAG = "r95>tol"
-#: What the sheet says of a stake at the occupied point, in place of an angle.
-AT_INSTRUMENT_NOTE = "at the instrument"
 
 
 def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
@@ -110,39 +105,14 @@ def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
     not fit ``width`` run on to a second line under their own header
     (``None``: one line per stake).
     """
-    assert d.setup is not None
-    stakes, so, sdes = d.stakes, d.setup.setout, d.setup
-    at = so.at_instrument
-    angles = _texts(format_azimuth_dms(so.angle_right, 0))
-    cols = [Column("point", list(stakes.point), "<"),
-            Column("station", list(stakes.station_label)),
-            Column("offset", side_text(stakes.offset, d.unit.station_decimals)),
-            Column("code", list(stakes.code), "<"),
-            Column("feature", list(stakes.feature), "<"),
-            Column("ang right", ["" if at[i] else angles[i] for i in range(len(stakes))]),
-            Column("grid dist", fixed(so.grid_distance, 3)),
-            Column("grnd dist", fixed(so.ground_distance, 3))]
-    if stakes.elevation is not None:
-        cols.append(Column("design el", fixed(stakes.elevation, 3)))
-        slope = slope_column(d) if width is None else None  # the wide layout only
+    left = {"point", "code", "feature", "note"}
+    cols = [Column(SETOUT_HEADERS[c.key][0], texts, "<" if c.key in left else ">", with_previous=c.grouped)
+            for c, texts in setout_cells(d, sided=True)]
+    if width is None:  # the wide layout only: the slope applied to each stake, after its design elevation
+        slope = slope_column(d) if d.stakes.elevation is not None else None
         if slope is not None:
-            cols.append(slope)
-    if so.zenith is not None and so.slope_distance is not None:
-        cols.append(Column("zenith", _texts(format_dms(so.zenith, 0))))
-        cols.append(Column("slope dist", fixed(so.slope_distance, 3), with_previous=True))
-    prec = sdes.precision
-    if prec is not None:
-        cols.append(Column("sd along", fixed(prec.sigma_along, 4)))
-        cols.append(Column("sd across", fixed(prec.sigma_across, 4), with_previous=True))
-        cols.append(Column("r95", fixed(prec.r95, 4), with_previous=True))
-    notes = [""] * len(stakes)
-    for i in np.flatnonzero(at).tolist():
-        notes[i] = AT_INSTRUMENT_NOTE
-    if sdes.flagged is not None:
-        for i in np.flatnonzero(sdes.flagged).tolist():
-            notes[i] = f"{notes[i]}; {FLAG}" if notes[i] else FLAG
-    if any(notes):
-        cols.append(Column("note", notes, "<"))
+            at = next(k for k, c in enumerate(cols) if c.header == SETOUT_HEADERS["design_elevation"][0]) + 1
+            cols.insert(at, slope)
     return table_lines(cols, width)
 
 
@@ -156,11 +126,6 @@ def _stake_foot(d: Design) -> list[str]:
                     f"{unit.symbol}); no angle to turn")
     foot.append("")
     return foot + curve_lines(d)
-
-
-def _texts(formatted: str | list[str]) -> list[str]:
-    """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
-    return [formatted] if isinstance(formatted, str) else formatted
 
 
 def _widths(wide: bool) -> tuple[int, int | None]:
@@ -300,79 +265,6 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-DeflectionRow = tuple[float, float, float, float, float]
-
-
-def deflection_rows(alignment: Alignment, stations: np.ndarray) -> list[tuple[int, int, list[DeflectionRow]]]:
-    """Deflections from each arc's start to the staked stations on it.
-
-    Returns, per arc or spiral, ``(curve number, element index, rows)`` with
-    each row ``(internal station, length from the element's start, deflection
-    in degrees from the tangent there, chord from the start, chord from the
-    previous row)``.  On an arc, deflection = s / 2R (radians) and chord =
-    2R sin(s / 2R); on a spiral, from its start (the TS, or the CS of an exit
-    spiral) along its start tangent: the point's position (x, y) there gives
-    deflection = atan(y / x) and chord = hypot(x, y).
-    """
-    out = []
-    for c in alignment.curves:
-        for i in c.elements:
-            el = alignment.elements[i]
-            on = stations[(stations >= el.start - 1e-9) & (stations <= el.end + 1e-9)]
-            s = np.concatenate([[el.start], on, [el.end]])
-            s = np.unique(np.clip(s, el.start, el.end))
-            if isinstance(el, Spiral):
-                out.append((c.number, i, _spiral_rows(el, s)))
-                continue
-            if not isinstance(el, Arc):
-                continue
-            r = float(el.radius)
-            arc = np.maximum(s - el.start, 0.0)
-            defl = np.degrees(arc / (2.0 * r))
-            chord = 2.0 * r * np.sin(arc / (2.0 * r))
-            inc = np.concatenate([[0.0], 2.0 * r * np.sin(np.diff(arc) / (2.0 * r))])
-            out.append((c.number, i, list(zip(s.tolist(), arc.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))))
-    return out
-
-
-def _spiral_rows(el: Spiral, s: np.ndarray) -> list[DeflectionRow]:
-    """Deflection rows of a spiral from its start (see :func:`deflection_rows`)."""
-    along = np.maximum(s - el.start, 0.0)
-    x, y, _ = clothoid_xy(along, el.k_start, el.k_end, el.length)
-    y = np.abs(y)
-    defl = np.degrees(np.arctan2(y, x))
-    chord = np.hypot(x, y)
-    inc = np.concatenate([[0.0], np.hypot(np.diff(x), np.diff(y))])
-    return list(zip(s.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
-
-
-def _side(o: float) -> str:
-    return f"{abs(o):.2f} {'LT' if o < 0 else 'RT'}"
-
-
-def _offset_rows(alignment: Alignment, el: Element, stations: np.ndarray, o: float) -> list[DeflectionRow]:
-    """Deflections on an offset line, from the offset point at the element's start along the
-    offset line's tangent there: the chord's direction minus that tangent, from the points.
-    """
-    n, e, az = alignment.evaluate(stations, o, miter=False)
-    dn, de = n - n[0], e - e[0]
-    chord = np.hypot(dn, de)
-    chord_az = np.degrees(np.arctan2(de, dn))
-    defl = np.abs((chord_az - az[0] + 180.0) % 360.0 - 180.0)
-    defl[chord == 0.0] = 0.0
-    inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
-    # length along the offset line: the centreline length scaled by the radius there (exact on arcs)
-    along = _offset_length(el, stations - el.start, o)
-    return list(zip(stations.tolist(), along.tolist(), defl.tolist(), chord.tolist(), inc.tolist()))
-
-
-def _offset_length(el: Element, s: np.ndarray, o: float) -> np.ndarray:
-    """Length along an offset line from the element's start: integral of (1 - k(s) o) ds."""
-    k0, k1 = el.curvature_start, el.curvature_end
-    out: np.ndarray = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * el.length))
-    return out
-
-
 def deflection_sheet(d: Design, wide: bool = False) -> str:
     """Render ``deflections.txt``: deflection angles and chords from the curve points.
 
@@ -380,51 +272,37 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     its first row; lines of at most :data:`WIDTH` characters (``wide``:
     :data:`WIDE`).
     """
-    job, alignment, lab = d.job, d.alignment, d.stationing.label
+    job, lab = d.job, d.stationing.label
     page, table = _widths(wide)
     title = "CURVE DEFLECTIONS"
     head = header_lines(title, d)
     head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent")
     head.append("(zero on the PI or the back tangent), turn the deflection toward the curve")
     head.append("and tape the chord.")
-    offsets = [(ol.offset, ol.code) for ol in job.staking.offsets if ol.offset != 0.0 and not ol.widening]
-    kp = {round(k.station, 6): " ".join(k.features) for k in alignment.key_points}
-    spirals = False
+    spirals = d.presentation.has_spirals
     # the sheet in order: a title (str) opens each element and offset line, then its data rows
     # (internal station, length, deflection, chord, sub-chord, turn)
     items: list[str | tuple[float, float, float, float, float, int]] = []
 
-    def data(rows: list[DeflectionRow], turn: int) -> None:
-        items.extend((*row, turn) for row in rows)
+    def data(rows: np.ndarray, turn: int) -> None:
+        items.extend((*row, turn) for row in rows.tolist())
 
-    for curve_no, i, rows in deflection_rows(alignment, d.stakes.stations):
-        el = alignment.elements[i]
-        start_name = kp.get(round(el.start, 6), "")
-        if isinstance(el, Spiral):
-            spirals = True
-            r0, r1 = end_radii(el)
-            items.append(f"curve {curve_no}, spiral from {start_name} {lab(el.start)}: L {el.length:.4f}, "
-                         f"R {r0} to {r1}, theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
-        else:
-            assert isinstance(el, Arc)
-            items.append(f"curve {curve_no}, arc from {start_name} {lab(el.start)}: "
-                         f"R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, deflect {turn_word(el.turn)}")
-        data(rows, el.turn)
-        stations = np.array([row[0] for row in rows])
-        for o, code in offsets:  # the offset line from its own start point, along its own start tangent
-            items.append(f"  offset line {code} {_side(o)}: from its point opposite {start_name} {lab(el.start)}")
-            data(_offset_rows(alignment, el, stations, o), el.turn)
+    for t in d.presentation.deflections:
+        el = t.element
+        items.append(deflection_title(t, "curve", f"{t.start_feature} {lab(el.start)}"))
+        data(t.rows, el.turn)
+        for off in t.offsets:  # the offset line from its own start point, along its own start tangent
+            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {t.start_feature} "
+                         f"{lab(el.start)}")
+            data(off.rows, el.turn)
     v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
     defl = v[:, 2]
     # the circle reading for a left deflection (360 - d), blank for a right one
     left = (v[:, 5] < 0) & (defl != 0.0)
-    readings = _texts(format_dms(360.0 - defl, 0))
-    cols = [Column("station", d.stationing.labels(v[:, 0]) if v.size else []),
-            Column("length", fixed(v[:, 1], 4)),
-            Column("deflection", _texts(format_dms(defl, 0))),
-            Column("chord", fixed(v[:, 3], 4)),
-            Column("sub-chord", fixed(v[:, 4], 4)),
-            Column("reading", [r if lt else "" for r, lt in zip(readings, left.tolist())])]
+    readings = texts_of(format_dms(360.0 - defl, 0))
+    values = [d.stationing.labels(v[:, 0]) if v.size else [], fixed(v[:, 1], 4), texts_of(format_dms(defl, 0)),
+              fixed(v[:, 3], 4), fixed(v[:, 4], 4), [r if lt else "" for r, lt in zip(readings, left.tolist())]]
+    cols = [Column(h[0], texts) for h, texts in zip(DEFLECTION_HEADERS, values)]
     heads, records = table_lines(cols, table)
     out: list[str] = []
     pending: list[str] = []  # title lines waiting for their first data row

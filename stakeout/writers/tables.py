@@ -8,29 +8,30 @@ needs quoting; :func:`csv_field` quotes anything else per RFC 4180.
 from __future__ import annotations
 
 import os
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
 
-from ..alignment import Arc, Spiral, degree_of_curve_arc
-from ..alignment.clothoid import spiral_figures
 from ..angles import format_dms
 from ..design import Design
+from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
+from .csvtext import DECIMALS, FORMULA_LEADS, POINTS_COLUMNS, csv_field, csv_guard, csv_text, csv_text_field
 from .text import fixed_or_empty, turn_word
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..check import CheckResult
 
 __all__ = [
     "POINTS_COLUMNS", "STATIONS_COLUMNS", "CURVES_COLUMNS",
     "SETOUT_COLUMNS", "SETUP_COLUMNS", "PRECISION_COLUMNS", "csv_field", "csv_guard", "csv_text_field", "FORMULA_LEADS",
-    "csv_text",
-    "points_csv", "stations_csv",
-    "curves_csv", "setout_csv",
+    "csv_text", "points_csv", "stations_csv", "curves_csv", "setout_csv", "restake_csv", "RESTAKE_COLUMNS", "DECIMALS",
 ]
 
-POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "easting",
                     "elevation", "feature", "code",
                     # added columns
@@ -40,41 +41,9 @@ STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
                   # added columns (allowed after the contract's)
-                  "arc", "center_northing", "center_easting", "degree_of_curve")
-
-DECIMALS = 4  # coordinates, stations, offsets and distances in CSV
-
-
-def csv_field(value: str) -> str:
-    """Quote a field per RFC 4180 when it holds a comma, quote or line break."""
-    if any(c in value for c in ',"\r\n'):
-        return '"' + value.replace('"', '""') + '"'
-    return value
-
-
-#: First characters that make a spreadsheet take a field as a formula (common practice: the usual
-#: CSV-injection guidance names these six).
-FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
-
-
-def csv_guard(value: str) -> str:
-    """A text field that no spreadsheet runs as a formula: one starting with
-    ``= + - @``, tab or CR gets a leading apostrophe (``'-0+120.000``);
-    numbers are never text fields and are written as they are.
-    """
-    return "'" + value if value[:1] in FORMULA_LEADS else value
-
-
-def csv_text_field(value: str) -> str:
-    """:func:`csv_guard`, then :func:`csv_field`: how every text field of every CSV is written."""
-    return csv_field(csv_guard(value))
-
-
-def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
-    """Join a header and already formatted lines into CSV text."""
-    body = "\n".join(lines)
-    return ",".join(header) + "\n" + (body + "\n" if body else "")
-
+                  "arc", "center_northing", "center_easting", "degree_of_curve",
+                  # second set: the alignment's name
+                  "alignment")
 
 _CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cache and are reused
 
@@ -216,12 +185,13 @@ def curves_csv(design: Design) -> bytes:
     ``pc_station``/``pt_station`` are the arc's own start and end (PC or
     PCC/PRC, PCC/PRC or PT); ``pi_station`` is the PI of the whole curve.
     """
-    alignment, unit, station = design.alignment, design.unit, design.stationing.station
+    unit, station = design.unit, design.stationing.station
     rows = []
     d = DECIMALS
-    for curve in alignment.curves:
-        arcs = [alignment.elements[i] for i in curve.elements]
-        for arc_no, el in enumerate((a for a in arcs if isinstance(a, Arc)), start=1):
+    name = csv_text_field(design.alignment.name)
+    for cv in design.presentation.curves:
+        curve = cv.curve
+        for arc_no, (_, el) in enumerate(cv.arcs, start=1):
             p = el.props
             assert p is not None
             fields = [
@@ -243,6 +213,7 @@ def curves_csv(design: Design) -> bytes:
                 fixed_or_empty(el.center_northing, d),
                 fixed_or_empty(el.center_easting, d),
                 f"{degree_of_curve_arc(p.radius):.8f}" if unit.is_feet else "",
+                name,
             ]
             rows.append(",".join(fields))
     return csv_text(CURVES_COLUMNS, rows).encode("utf-8")
@@ -311,7 +282,9 @@ PROFILE_COLUMNS = ("pvi", "station", "station_label", "elevation", "grade_in", "
                    "curve_length_ahead", "pvc_station", "pvc_elevation", "pvt_station", "pvt_elevation", "k_value",
                    "high_low_station", "high_low_elevation",
                    # added columns
-                   "high_low", "radius")
+                   "high_low", "radius",
+                   # second set: the alignment's name; the vertical curve's whole length (back + ahead)
+                   "alignment", "curve_length")
 
 #: Decimals of grades in percent.
 GRADE_DECIMALS = 6
@@ -330,7 +303,9 @@ def profile_csv(design: Design) -> bytes:
         return "" if g is None else fixed_or_empty(100.0 * g, GRADE_DECIMALS)
 
     lines = []
-    for i, r in enumerate(design.profile.rows(), start=1):
+    name = csv_text_field(design.alignment.name)
+    for i, r in enumerate(design.presentation.profile_rows, start=1):
+        whole = (r.curve_length_back or 0.0) + (r.curve_length_ahead or 0.0)
         lines.append(",".join([
             str(i), station(r.station), csv_text_field(st.label(r.station)), fixed_or_empty(r.elevation, d),
             grade(r.grade_in), grade(r.grade_out),
@@ -338,14 +313,16 @@ def profile_csv(design: Design) -> bytes:
             station(r.pvc_station), fixed_or_empty(r.pvc_elevation, d),
             station(r.pvt_station), fixed_or_empty(r.pvt_elevation, d),
             fixed_or_empty(r.k_value, d), station(r.high_low_station), fixed_or_empty(r.high_low_elevation, d),
-            r.high_low_kind or "", fixed_or_empty(r.radius, d),
+            r.high_low_kind or "", fixed_or_empty(r.radius, d), name, fixed_or_empty(whole or None, d),
         ]))
     return csv_text(PROFILE_COLUMNS, lines).encode("utf-8")
 
 
 ELEMENTS_COLUMNS = ("element", "kind", "start_station", "end_station", "length", "start_northing", "start_easting",
                     "end_northing", "end_easting", "start_azimuth_deg", "end_azimuth_deg", "radius_start",
-                    "radius_end", "turn")
+                    "radius_end", "turn",
+                    # second set: the alignment's name
+                    "alignment")
 
 
 def elements_csv(design: Design) -> bytes:
@@ -357,6 +334,7 @@ def elements_csv(design: Design) -> bytes:
     st = design.stationing
     d = DECIMALS
     lines = []
+    name = csv_text_field(design.alignment.name)
     for i, el in enumerate(design.alignment.elements, start=1):
         lines.append(",".join([
             str(i), el.kind, fixed_or_empty(float(st.station(el.start)), d),
@@ -364,7 +342,7 @@ def elements_csv(design: Design) -> bytes:
             fixed_or_empty(el.start_northing, d), fixed_or_empty(el.start_easting, d),
             fixed_or_empty(el.end_northing, d), fixed_or_empty(el.end_easting, d),
             f"{el.start_azimuth % 360.0:.8f}", f"{el.end_azimuth % 360.0:.8f}",
-            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn),
+            fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), turn_word(el.turn), name,
         ]))
     return csv_text(ELEMENTS_COLUMNS, lines).encode("utf-8")
 
@@ -372,7 +350,9 @@ def elements_csv(design: Design) -> bytes:
 SPIRALS_COLUMNS = ("spiral", "start_station", "end_station", "length", "radius_start", "radius_end", "theta_deg",
                    "x", "y", "p", "k", "long_tangent", "short_tangent", "turn",
                    # added columns
-                   "element")
+                   "element",
+                   # second set: the alignment's name
+                   "alignment")
 
 
 def spirals_csv(design: Design) -> bytes:
@@ -380,14 +360,35 @@ def spirals_csv(design: Design) -> bytes:
     st = design.stationing
     d = DECIMALS
     lines = []
-    spirals = [(i, el) for i, el in enumerate(design.alignment.elements, start=1) if isinstance(el, Spiral)]
-    for number, (i, el) in enumerate(spirals, start=1):
-        f = spiral_figures(el.length, el.radius_start, el.radius_end, name=f"element {i}")
+    name = csv_text_field(design.alignment.name)
+    for sv in design.presentation.spirals:
+        el, f, i = sv.element, sv.figures, sv.index + 1
         lines.append(",".join([
-            str(number), fixed_or_empty(float(st.station(el.start)), d),
+            str(sv.number), fixed_or_empty(float(st.station(el.start)), d),
             fixed_or_empty(float(st.station_back(el.end)), d), fixed_or_empty(el.length, d),
             fixed_or_empty(el.radius_start, d), fixed_or_empty(el.radius_end, d), f"{f.theta_deg:.8f}",
             fixed_or_empty(f.x, d), fixed_or_empty(f.y, d), fixed_or_empty(f.p, d), fixed_or_empty(f.k, d),
             fixed_or_empty(f.long_tangent, d), fixed_or_empty(f.short_tangent, d), turn_word(el.turn), str(i),
+            name,
         ]))
     return csv_text(SPIRALS_COLUMNS, lines).encode("utf-8")
+
+
+#: ``restake.csv`` is laid out as ``points.csv``, so a crew loads it the same way.
+RESTAKE_COLUMNS = POINTS_COLUMNS
+
+
+def restake_csv(d: Design, r: "CheckResult") -> bytes:
+    """``restake.csv``: the design points still to set, in point order.
+
+    Out of tolerance (by the shot that governs them, so also a point whose
+    good shot was superseded by one out of tolerance) or not staked; every
+    row exactly as in ``points.csv`` (the rows are taken from it).
+    """
+    data = np.frombuffer(points_csv(d), dtype=np.uint8)
+    line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
+    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
+    keep[0] = True
+    keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
+    out: bytes = data[keep[line_of_byte]].tobytes()
+    return out

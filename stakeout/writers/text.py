@@ -9,22 +9,24 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
+from typing import Any
 
 from numpy.typing import ArrayLike
 
-from ..alignment import Alignment, Arc, Curve, Element, Spiral
-from ..angles import format_dms
+from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..numbers import fixed_string, fixed_strings, round_to
-from ..stations import Stationing
+from ..presentation import CurveView, DeflectionTable, Element, PerKind
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
-    "turn_word", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts", "curve_lines",
-    "paged", "paged_parts", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
+    "curve_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "texts_of", "SheetPart",
+    "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -116,6 +118,11 @@ def side_text(offsets: ArrayLike, decimals: int) -> list[str]:
     return [fmt % abs(v) + (" LT" if v < 0 else " RT" if v > 0 else "") for v in r]
 
 
+def offset_side(offset: float) -> str:
+    """An offset line's size and side in its title, ``3.50 LT`` (two decimals, never on the line)."""
+    return f"{abs(offset):.2f} {'LT' if offset < 0 else 'RT'}"
+
+
 def turn_word(turn: int) -> str:
     """``right``, ``left``, or empty for a straight element."""
     return "right" if turn > 0 else ("left" if turn < 0 else "")
@@ -153,22 +160,40 @@ def header_lines(title: str, d: Design) -> list[str]:
 # ---- curve data ------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class CurveText:
-    """A curve's data as text pieces, shared by the sheets, the report and the plan.
+    """A curve's data (:class:`~stakeout.presentation.CurveView`) with its words and station
+    labels, shared by the sheets, the reports and the drawings.
 
     ``back_side``/``ahead_side`` name the two-centred tangents:
     ``("T_A", "R1", radius)`` on the larger-radius side, ``("T_B", "R2",
     radius)`` on the smaller; ``None`` for other curves.
     """
 
-    curve: Curve
+    view: CurveView
     turn: str
     delta: str
     pi_label: str
-    back_side: tuple[str, str, float] | None
-    ahead_side: tuple[str, str, float] | None
-    arcs: tuple[tuple[Arc, str, str], ...]  # (arc, start label, end label)
-    spirals: tuple[tuple[Spiral, str, str], ...] = ()  # (spiral, start label, end label)
-    external: float | None = None  # PI to the nearest point of a curve with spirals
+    arcs: tuple[tuple[Any, str, str], ...]  # (arc, start label, end label)
+    spirals: tuple[tuple[Any, str, str], ...] = ()  # (spiral, start label, end label)
+
+    @property
+    def curve(self) -> Any:
+        """The alignment's curve."""
+        return self.view.curve
+
+    @property
+    def back_side(self) -> tuple[str, str, float] | None:
+        """The back tangent's name and side on a two-centred curve."""
+        return self.view.back_side
+
+    @property
+    def ahead_side(self) -> tuple[str, str, float] | None:
+        """The ahead tangent's name and side on a two-centred curve."""
+        return self.view.ahead_side
+
+    @property
+    def external(self) -> float | None:
+        """PI to the nearest point of a curve with spirals."""
+        return self.view.external
 
     @property
     def kind(self) -> str:
@@ -185,42 +210,19 @@ def end_radii(el: Element) -> tuple[str, str]:
     return r0, r1
 
 
-def spiral_line(sp: Spiral, a0: str, a1: str) -> str:
+def spiral_line(sp: Element, a0: str, a1: str) -> str:
     """One line of a spiral's data: stations, length, radii, central angle."""
     r0, r1 = end_radii(sp)
     return f"{a0} to {a1}  L {sp.length:.4f}  R {r0} to {r1}  theta {format_dms(sp.central_angle, 1)}"
 
 
-def curve_texts(alignment: Alignment, stationing: Stationing) -> list[CurveText]:
-    """Text pieces of every curve of the alignment."""
-    out = []
-    for c in alignment.curves:
-        arcs = [alignment.elements[i] for i in c.elements]
-        radii = [a.radius for a in arcs if isinstance(a, Arc)]
-        back = ahead = None
-        t = c.tangents
-        if t is not None and t.t_a_side is not None:
-            big, small = ("T_A", "R1", max(radii)), ("T_B", "R2", min(radii))
-            back, ahead = (big, small) if t.t_a_side == "back" else (small, big)
-        spirals = tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs
-                        if isinstance(a, Spiral))
-        external = None
-        if spirals and c.pi_northing is not None and c.pi_easting is not None:
-            external = _external(arcs, c.pi_northing, c.pi_easting)
-        out.append(CurveText(
-            c, turn_word(c.turn), str(format_dms(c.delta, 1)), stationing.label(c.pi_station), back, ahead,
-            tuple((a, stationing.label(a.start), stationing.label(a.end)) for a in arcs if isinstance(a, Arc)),
-            spirals, external,
-        ))
-    return out
-
-
-def _external(run: list[Element], pi_n: float, pi_e: float) -> float:
-    """Distance from the PI to the nearest point of a curve (dense samples refined on the elements)."""
-    from ..alignment import Alignment
-
-    part = Alignment.from_elements("", list(run), (), ())
-    return float(part.locate(pi_n, pi_e).distance)
+def curve_texts(d: Design) -> list[CurveText]:
+    """Words and station labels of every curve's data (:attr:`Presentation.curves`)."""
+    label = d.stationing.label
+    return [CurveText(cv, turn_word(cv.curve.turn), str(format_dms(cv.curve.delta, 1)), label(cv.curve.pi_station),
+                      tuple((a, label(a.start), label(a.end)) for _, a in cv.arcs),
+                      tuple((sp, label(sp.start), label(sp.end)) for _, sp in cv.spirals))
+            for cv in d.presentation.curves]
 
 
 def curve_lines(d: Design) -> list[str]:
@@ -230,7 +232,7 @@ def curve_lines(d: Design) -> list[str]:
     out = ["CURVE DATA"]
     if not d.alignment.curves:
         out.append("  (no curves)")
-    for ct in curve_texts(d.alignment, d.stationing):
+    for ct in curve_texts(d):
         c, t = ct.curve, ct.curve.tangents
         head = f"  curve {c.number}  {ct.turn}  I {ct.delta}"
         if c.pi_station is None or t is None:
@@ -253,6 +255,62 @@ def curve_lines(d: Design) -> list[str]:
         if ct.external is not None:
             out.append(f"    external (PI to the curve)  {ct.external:.4f}")
     return out
+
+
+# ---- deflection tables ---------------------------------------------------------------------------
+def deflection_title(t: DeflectionTable, curve: str, start: str) -> str:
+    """The line that opens an element's deflections: ``curve`` (the word, as the output
+    capitalises it), the element's kind and data, ``start`` (its start feature and station).
+    """
+    return _DEFLECTION_TITLES[t.element](t, curve, start)
+
+
+def _arc_title(t: DeflectionTable, curve: str, start: str) -> str:
+    el: Any = t.element
+    return (f"{curve} {t.curve}, arc from {start}: R {el.radius:.4f}, delta {format_dms(el.delta, 1)}, "
+            f"deflect {turn_word(el.turn)}")
+
+
+def _spiral_title(t: DeflectionTable, curve: str, start: str) -> str:
+    el = t.element
+    r0, r1 = end_radii(el)
+    return (f"{curve} {t.curve}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
+            f"theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+
+
+#: The title of an element's deflections (a line is never part of a curve; it would read as a spiral).
+_DEFLECTION_TITLES: PerKind[Callable[[DeflectionTable, str, str], str]] = PerKind("deflection title",
+                                           {"line": _spiral_title, "arc": _arc_title, "spiral": _spiral_title})
+
+
+# ---- the setout table ---------------------------------------------------------------------------
+def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
+    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, shared by
+    ``setout.txt`` and ``report.html``: angles in D-M-S to the second (none at the
+    instrument), offsets with their side (``sided``) or signed, numbers to their decimals.
+    """
+    assert d.setup is not None
+    at = d.setup.setout.at_instrument
+    out: list[tuple[Any, list[str]]] = []
+    for c in d.presentation.setout_columns:
+        if c.decimals is None:
+            texts = list(c.values)
+        elif c.key == "angle_right":
+            angles = texts_of(format_azimuth_dms(c.values, 0))
+            texts = ["" if at[i] else angles[i] for i in range(len(angles))]
+        elif c.key == "zenith":
+            texts = texts_of(format_dms(c.values, 0))
+        elif c.key == "offset" and sided:
+            texts = side_text(c.values, c.decimals)
+        else:
+            texts = fixed(c.values, c.decimals)
+        out.append((c, texts))
+    return out
+
+
+def texts_of(formatted: str | list[str]) -> list[str]:
+    """The texts of an array formatted by :mod:`stakeout.angles` (always a list)."""
+    return [formatted] if isinstance(formatted, str) else formatted
 
 
 # ---- tables ----------------------------------------------------------------------------------
