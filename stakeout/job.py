@@ -11,7 +11,9 @@ from dataclasses import dataclass, field
 from pathlib import PurePath
 
 from .alignment.specs import AlignmentSpec
+from .ground import Ground
 from .precision import InstrumentSpec
+from .slopestakes import SlopeStaking
 from .stations import StationRef
 from .units import Unit
 
@@ -324,6 +326,10 @@ class Job:
     superelevation_file: SuperelevationFile | None = None
     #: the alignment design file's ``<Superelevation>`` elements the job does not apply (a warning)
     unapplied_superelevation: tuple[SuperelevationPeriod, ...] = ()
+    #: ``[ground]``: the existing ground as a TIN (its file is among ``design_files``, role ``ground``).
+    ground: Ground | None = None
+    #: ``[slope_stakes]``: hinges, slopes, reference offset and farthest catch per side.
+    slope_stakes: SlopeStaking | None = None
 
     def control_points(self) -> tuple[ControlPoint, ...]:
         """Every control point the job lists or uses, each id once, in the job's order.

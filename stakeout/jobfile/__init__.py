@@ -29,6 +29,7 @@ from .design_file import (DesignFiles, periods_of, read_alignment_file, read_pro
                           summarise_not_used)
 from .profile import read_profile
 from .control import read_control
+from .ground import read_ground, read_slope_stakes
 from .reader import SAFE_TEXT, Table, check_safe_text
 from .setup import read_check, read_instrument, read_scale, read_setup
 from .sections import check_template_lines, read_superelevation
@@ -68,7 +69,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(f"{path}: not valid TOML: number too long (line {line}); no value of a job file "
                            "needs more than a few dozen digits") from None
     top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
-                          "instrument", "superelevation"))
+                          "instrument", "superelevation", "ground", "slope_stakes"))
     fmt = top.raw("format", required=True)
     if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
@@ -134,6 +135,18 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         unapplied = periods_of(from_file.source, "alignment.landxml")
     all_files = _not_used_once(tuple(design_files) + control_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
+    ground_read = read_ground(top, base, info.unit.key)
+    ground = None
+    if ground_read is not None:
+        ground, ground_record = ground_read
+        all_files += (ground_record,)
+    slope_stakes = read_slope_stakes(top, [ol.code for ol in staking.offsets])
+    if slope_stakes is not None:
+        if ground is None:
+            raise JobFileError("slope_stakes: needs [ground] (the catch points lie on the existing ground)")
+        if profile is None and staking.elevation is None:
+            raise JobFileError("slope_stakes: needs design elevations at the hinges ([profile] or "
+                               "staking.elevation)")
     return Job(
         path=path,
         sha256=hashlib.sha256(data).hexdigest(),
@@ -151,6 +164,8 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         superelevation=se_rows,
         superelevation_file=se_file,
         unapplied_superelevation=unapplied,
+        ground=ground,
+        slope_stakes=slope_stakes,
     )
 
 
