@@ -27,6 +27,7 @@ from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment, build_alignment
 from .crosssection import DerivedRow, SectionPlan, derive_rows, plan_sections
+from .earthwork import Earthwork, earthwork
 from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation, SuperelevationRow
 from .precision import Precision, flag_exceeding, predict_precision
@@ -202,6 +203,9 @@ class Design:
     factors: Factors = Factors()
     #: The cross-section: superelevation rows, template lines, widening (None: not computed).
     sections: SectionPlan | None = None
+    #: With ``[ground]``: each stake's ground elevation and cut/fill; with ``[slope_stakes]`` the catch
+    #: and reference stakes per station and side, the sections and the volumes (None without a ground).
+    earthwork: Earthwork | None = None
 
     @property
     def unit(self) -> Unit:
@@ -501,6 +505,7 @@ def build_design(job: Job) -> Design:
         else:  # per-setup factors are listed in the manifest's setups
             shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
             factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
+    ew = None if job.ground is None else earthwork(stakes, job.ground, job.slope_stakes)
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
                   sections=sections, crs_label=crs_label,
-                  proj_version=proj, factors=factors)
+                  proj_version=proj, factors=factors, earthwork=ew)

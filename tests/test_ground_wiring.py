@@ -18,6 +18,7 @@ import json
 from pathlib import Path
 
 import numpy as np
+import pytest
 from typer.testing import CliRunner
 
 from stakeout.cli import app
@@ -98,3 +99,36 @@ def test_force_keeps_a_folder_holding_the_ground(tmp_path):
     r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path), "--force"])
     assert r.exit_code == 2, r.output
     assert (tmp_path / "ground.csv").exists()
+
+
+def _build(job: Path, out: Path, only: str) -> dict[str, str]:
+    r = runner.invoke(app, ["build", str(job), "--out", str(out), "--only", only])
+    assert r.exit_code == 0, r.output
+    return {p.name: p.read_text(encoding="utf-8") for p in out.iterdir()}
+
+
+def test_stations_csv_ground_and_cut_fill_on_a_plane(tmp_path):
+    # planar ground, closed form: z = 50 + 0.02 (n - 1000) - 0.01 (e - 2000)
+    def plane(n, e):
+        return 50.0 + 0.02 * (np.asarray(n) - 1000.0) - 0.01 * (np.asarray(e) - 2000.0)
+
+    files = _build(_job(tmp_path, plane, hi=(1100.0, 2050.0)), tmp_path / "out", "stations")
+    rows = _rows(files["stations.csv"])
+    assert len(rows) == 18
+    for r in rows:
+        n, e = float(r["northing"]), float(r["easting"])
+        if e > 2050.0:  # off the ground: both empty
+            assert r["ground_elevation"] == "" and r["cut_fill"] == ""
+            continue
+        gz = float(plane(n, e))
+        assert float(r["ground_elevation"]) == pytest.approx(gz, abs=1e-4)
+        assert float(r["cut_fill"]) == pytest.approx(52.0 - gz, abs=1e-4)  # design - ground: positive fill
+        assert len(r["cut_fill"].split(".")[1]) == 4
+    assert any(r["ground_elevation"] == "" for r in rows) and any(r["ground_elevation"] for r in rows)
+
+
+def test_stations_csv_ground_columns_empty_without_ground(tmp_path):
+    job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0))
+    job.write_text(job.read_text(encoding="utf-8").replace('[ground]\nfile = "ground.csv"\n', ""), encoding="utf-8")
+    rows = _rows(_build(job, tmp_path / "out", "stations")["stations.csv"])
+    assert rows and all(r["ground_elevation"] == "" and r["cut_fill"] == "" for r in rows)

@@ -36,7 +36,7 @@ STATIONS_COLUMNS = ("point", "station", "station_label", "offset", "northing", "
                     "elevation", "feature", "code",
                     # added columns
                     "region",
-                    # second set: cross-sections (ground columns stay empty until a ground is read)
+                    # second set: cross-sections and the ground (empty without a ground or outside it)
                     "alignment", "cross_slope", "ground_elevation", "cut_fill")
 CURVES_COLUMNS = ("curve", "pi_station", "pc_station", "pt_station", "radius", "delta_deg", "delta_dms",
                   "length", "tangent_back", "tangent_ahead", "chord", "external", "middle_ordinate", "turn",
@@ -119,12 +119,15 @@ class _PerPoint:
 
     def cross_slope(self) -> rows.Field:
         """The slope applied to each point (percent, 4 decimals), empty where none."""
-        sl = self.sp.slope
-        if sl is None:
+        return self.optional(self.sp.slope, DECIMALS)
+
+    def optional(self, values: NDArray[np.float64] | None, decimals: int) -> rows.Field:
+        """Per-point numbers, empty where NaN (or all empty without ``values``)."""
+        if values is None:
             return rows.const("", self.n)
-        v = sl[self.p]
+        v = values[self.p]
         none = np.isnan(v)
-        return rows.blank(rows.fixed(np.where(none, 0.0, v), DECIMALS), none)
+        return rows.blank(rows.fixed(np.where(none, 0.0, v), decimals), none)
 
     def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
         return rows.fixed(values[self.p], decimals)
@@ -169,12 +172,15 @@ def stations_csv(design: Design) -> bytes:
     d = DECIMALS
     sp = design.stakes
     name = np.frombuffer(csv_text_field(design.alignment.name).encode("utf-8"), dtype=np.uint8)
+    ew = design.earthwork
+    gz, cf = (None, None) if ew is None else (ew.ground_elevation, ew.cut_fill)
 
     def layout(p: _PerPoint) -> list[rows.Field]:
         return [*p.point(), p.sep(), p.station(d), p.sep(), p.label(guard=True), p.sep(), p.offset(d), p.sep(),
                 p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(), p.elevation(), p.sep(),
                 p.feature(), p.sep(), p.code(), p.sep(), p.region(),
-                p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(), p.sep()]
+                p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(),
+                p.optional(gz, d), p.sep(), p.optional(cf, d)]
 
     return _csv(STATIONS_COLUMNS, sp, layout)
 
