@@ -87,6 +87,10 @@ def _has_control(d: "Design") -> bool:
     return bool(d.job.control_points())
 
 
+def _has_slope_stakes(d: "Design") -> bool:
+    return d.earthwork is not None and d.earthwork.slopes is not None
+
+
 def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
     """A file another output is drawn from, rendered once a build."""
     if filename not in done:
@@ -134,6 +138,10 @@ OUTPUTS: tuple[Output, ...] = (
     Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
            "against station, key points and SE rows", "superelevation:superelevation_svg",
            applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
+    Output("slopestakes", "slopestakes.csv", "one row per staked station and side: hinge, catch point, reference "
+           "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
+    Output("volumes", "volumes.csv", "cut and fill areas at each station with both catch points, average-end-area "
+           "volumes", "earthwork:volumes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
            needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True),

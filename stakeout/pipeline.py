@@ -28,6 +28,20 @@ def compute(job_path: str | Path) -> Design:
     return build_design(load_job(job_path))
 
 
+def slope_stake_notes(d: Design) -> list[str]:
+    """What the console says of the slope stakes: how many station sides have no catch point, and why."""
+    ew = d.earthwork
+    if ew is None or ew.slopes is None:
+        return []
+    notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
+    total = len(ew.slopes.side)
+    if not notes:
+        return [f"slope stakes: every one of {total} station side(s) has a catch point"]
+    why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
+    return [f"slope stakes: {len(notes)} of {total} station side(s) without a catch point ({why}); "
+            "see slopestakes.csv"]
+
+
 def setup_notes(d: Design) -> list[str]:
     """What the console says of the setups: a summary of each (numbered setups
     only), stakes at the instrument, and the predicted precision.
@@ -195,6 +209,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
     notes[1:1] = folder.litter_notes
     notes.extend(setup_notes(d))
+    notes.extend(slope_stake_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
         if f.not_used:

@@ -343,6 +343,30 @@ class Presentation:
         self._ends: dict[float, tuple[F, F, F, F]] = {}
 
     @cached_property
+    def slope_stake_ids(self) -> tuple[list[str], list[str]]:
+        """Point ids of the catch and reference stakes, per slope-stake row ('' without a catch).
+
+        Provisional numbering: after every stake of the job (the first free
+        number after the last stake), station by station in the order left
+        ``REF``, left ``CATCH``, right ``CATCH``, right ``REF``.  The contract
+        numbers them among their station's stakes, which needs the stake
+        table itself to grow; until then they follow the last stake.
+        """
+        ew = self.d.earthwork
+        if ew is None or ew.slopes is None:
+            return [], []
+        sp, rows = self.d.stakes, ew.slopes
+        has = ~np.isnan(rows.result.catch_n)
+        first = int(sp.number.max()) + 1 if len(sp) else sp.first_point
+        base = first + 2 * (np.cumsum(has) - has)
+        left = np.array([s == "left" for s in rows.side], dtype=bool)
+        catch = np.where(left, base + 1, base)
+        ref = np.where(left, base, base + 1)
+        pre = sp.prefix
+        return ([f"{pre}{c}" if h else "" for c, h in zip(catch.tolist(), has.tolist())],
+                [f"{pre}{r}" if h else "" for r, h in zip(ref.tolist(), has.tolist())])
+
+    @cached_property
     def curves(self) -> tuple[CurveView, ...]:
         """The curve data of every curve."""
         return curve_views(self.d.alignment)

@@ -132,3 +132,70 @@ def test_stations_csv_ground_columns_empty_without_ground(tmp_path):
     job.write_text(job.read_text(encoding="utf-8").replace('[ground]\nfile = "ground.csv"\n', ""), encoding="utf-8")
     rows = _rows(_build(job, tmp_path / "out", "stations")["stations.csv"])
     assert rows and all(r["ground_elevation"] == "" and r["cut_fill"] == "" for r in rows)
+
+
+def _level(n, e):
+    return np.full(np.shape(n), 50.0)
+
+
+def test_slopestakes_csv_level_fill_closed_form(tmp_path):
+    files = _build(_job(tmp_path, _level, SLOPES), tmp_path / "out", "slopestakes,volumes")
+    head = files["slopestakes.csv"].splitlines()[0]
+    assert head == ("alignment,station,station_label,side,hinge_point,hinge_offset,hinge_elevation,ground_at_hinge,"
+                    "kind,catch_point,catch_offset,catch_northing,catch_easting,catch_elevation,catch_cut_fill,"
+                    "reference_point,reference_offset,reference_northing,reference_easting,reference_ground,"
+                    "hd_to_hinge,vd_to_hinge,note")
+    rows = _rows(files["slopestakes.csv"])
+    assert [r["side"] for r in rows[:4]] == ["left", "right", "left", "right"] and len(rows) == 12
+    assert [float(r["station"]) for r in rows] == sorted(float(r["station"]) for r in rows)
+    for r in rows:
+        left = r["side"] == "left"
+        # level section, 2 of fill: catch at slope x 2 beyond the hinge (common practice)
+        assert r["kind"] == "fill" and r["note"] == ""
+        assert float(r["catch_offset"]) == pytest.approx(-12.0 if left else 10.0, abs=1e-4)
+        assert float(r["reference_offset"]) == pytest.approx(-17.0 if left else 15.0, abs=1e-4)
+        assert float(r["catch_elevation"]) == pytest.approx(50.0, abs=1e-4)
+        assert float(r["catch_cut_fill"]) == pytest.approx(2.0, abs=1e-4)
+        assert float(r["hd_to_hinge"]) == pytest.approx(11.0 if left else 9.0, abs=1e-4)
+        assert float(r["vd_to_hinge"]) == pytest.approx(2.0, abs=1e-4)
+        # alignment due east: left is north of it
+        assert float(r["catch_northing"]) == pytest.approx(1000.0 - float(r["catch_offset"]), abs=1e-4)
+    # catch and reference ids after the 18 stakes: left REF, left CATCH, right CATCH, right REF per station
+    assert [(r["reference_point"], r["catch_point"]) for r in rows[:2]] == [("19", "20"), ("22", "21")]
+    assert rows[-1]["reference_point"] == "42" and rows[0]["hinge_point"] == "1" and rows[1]["hinge_point"] == "3"
+
+
+def test_volumes_csv_against_shapely_and_average_end_areas(tmp_path):
+    from shapely.geometry import Polygon
+
+    files = _build(_job(tmp_path, _level, SLOPES), tmp_path / "out", "volumes")
+    rows = _rows(files["volumes.csv"])
+    assert list(rows[0]) == ["alignment", "station", "station_label", "cut_area", "fill_area", "cut_volume",
+                             "fill_volume", "cumulative_cut", "cumulative_fill"]
+    # the fill section: template catch to catch over level ground (shapely polygon area)
+    area = Polygon([(-12.0, 50.0), (-6.0, 52.0), (6.0, 52.0), (10.0, 50.0)]).area
+    assert len(rows) == 6
+    for k, r in enumerate(rows):
+        assert float(r["fill_area"]) == pytest.approx(area, rel=1e-4) and float(r["cut_area"]) == 0.0
+        # average end areas over 20 m: V = L (A1 + A2) / 2
+        vol = 0.0 if k == 0 else 20.0 * (area + area) / 2
+        assert float(r["fill_volume"]) == pytest.approx(vol, rel=1e-4)
+        assert float(r["cumulative_fill"]) == pytest.approx(k * 20.0 * area, rel=1e-4)
+
+
+def test_stations_without_catch_reported(tmp_path):
+    job = _job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0))
+    out = tmp_path / "out"
+    r = runner.invoke(app, ["build", str(job), "--out", str(out), "--only", "slopestakes"])
+    assert r.exit_code == 0, r.output
+    rows = _rows((out / "slopestakes.csv").read_text(encoding="utf-8"))
+    off = [x for x in rows if float(x["station"]) > 50.0]
+    assert len(off) == 6 and all(x["note"] == "outside the ground surface" and x["kind"] == "" and
+                                 x["catch_point"] == "" and x["catch_offset"] == "" for x in off)
+    assert "6 of 12 station side(s) without a catch point (6 outside the ground surface)" in r.output
+
+
+def test_only_slopestakes_without_slope_stakes_refused(tmp_path):
+    r = runner.invoke(app, ["build", str(_job(tmp_path, _level)), "--out", str(tmp_path / "o"),
+                            "--only", "slopestakes"])
+    assert r.exit_code == 2 and "[slope_stakes]" in r.output
