@@ -294,5 +294,12 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
 def run_inspect(path: str | Path) -> str:
     """``stakeout inspect``: what a LandXML design file holds, to choose ``name`` keys."""
     from .landxml import describe, read_landxml
+    from .landxml.surface import describe_surfaces
+    from .limits import read_regular_file
+    from .landxml.records import MAX_FILE_BYTES
 
-    return describe(read_landxml(path))
+    design = read_landxml(path)
+    text = describe(design)
+    surfaces = describe_surfaces(read_regular_file(str(path), "LandXML file", MAX_FILE_BYTES),
+                                 design.units.unit_key, str(path))
+    return "\n".join([text.rstrip("\n"), *surfaces]) + ("\n" if text.endswith("\n") else "")

@@ -199,3 +199,17 @@ def test_only_slopestakes_without_slope_stakes_refused(tmp_path):
     r = runner.invoke(app, ["build", str(_job(tmp_path, _level)), "--out", str(tmp_path / "o"),
                             "--only", "slopestakes"])
     assert r.exit_code == 2 and "[slope_stakes]" in r.output
+
+
+def test_inspect_lists_surfaces(tmp_path):
+    from .test_landxml_surface import _surface_xml
+
+    p = tmp_path / "eg.xml"
+    p.write_bytes(_surface_xml(nx=8, ny=6, spacing=2.0, hidden=(1, 2)))
+    r = runner.invoke(app, ["inspect", str(p)])
+    assert r.exit_code == 0, r.output
+    # 8 x 6 grid points, two faces a square (2 x 7 x 5 = 70) less the two invisible; the plane
+    # z = 30 + 0.04 (e - E0) - 0.02 (n - N0) over 14 x 10 has its extremes at the corners (closed form)
+    assert "surfaces: 1" in r.output
+    assert ("surface 'EG': TIN, 48 points, 68 faces (2 invisible: holes); northing 1840000 to 1840010, "
+            "easting 6485000 to 6485014; elevation 29.8 to 30.56") in r.output

@@ -34,7 +34,7 @@ from ..limits import MAX_COORDINATE, MAX_HEIGHT, read_regular_file
 from .reader import _DOUBLE, _LINEAR, _as_parser_can_read, _split
 from .records import LANDXML_NS, MAX_FILE_BYTES, UNIT_WORDS, shown
 
-__all__ = ["XSurface", "read_surface", "parse_surface"]
+__all__ = ["XSurface", "read_surface", "parse_surface", "describe_surfaces"]
 
 _NEWLINE = b"\n"
 
@@ -101,6 +101,48 @@ def parse_surface(data: bytes, name: str | None, job_unit_key: str, where: str) 
         if isinstance(exc, JobFileError):
             raise
         raise JobFileError(f"{where}: cannot be read as XML ({shown(str(exc))}); save the file as UTF-8") from None
+
+
+def describe_surfaces(data: bytes, unit_key: str, where: str = "LandXML file") -> list[str]:
+    """What ``stakeout inspect`` prints of a file's ``<Surface>`` elements: for each, its
+    points, visible and invisible faces, extent and elevation range (file units), or
+    why it cannot be read as a ground, in place.
+
+    Parameters
+    ----------
+    data : bytes
+        The file's bytes.
+    unit_key : str
+        The file's own units (``m``, ``ft``, ``us_ft``).
+    where : str
+        The file, for messages.
+
+    Returns
+    -------
+    list of str
+        ``surfaces: N`` and a line per surface (nothing without surfaces).
+    """
+    from .records import fmt
+
+    names = _Surfaces(where, "\x00")  # a name no surface has: one pass collects the names
+    try:
+        names.read(_as_parser_can_read(data, where), unit_key, "")
+    except (JobFileError, _ET.ParseError, DefusedXmlException, ValueError, LookupError):
+        pass
+    if not names.surfaces:
+        return []
+    lines = [f"surfaces: {len(names.surfaces)}"]
+    for nm in names.surfaces:
+        try:
+            s = parse_surface(data, nm, unit_key, where)
+        except JobFileError as exc:
+            lines.append(f"  surface {shown(nm)!r}: cannot be read as a ground: {exc}")
+            continue
+        holes = f" ({s.invisible} invisible: holes)" if s.invisible else ""
+        lines.append(f"  surface {shown(nm)!r}: TIN, {s.n.size} points, {len(s.faces)} faces{holes}; "
+                     f"northing {fmt(s.n.min())} to {fmt(s.n.max())}, easting {fmt(s.e.min())} to "
+                     f"{fmt(s.e.max())}; elevation {fmt(s.z.min())} to {fmt(s.z.max())}")
+    return lines
 
 
 class _Surfaces:
