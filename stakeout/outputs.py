@@ -140,6 +140,8 @@ OUTPUTS: tuple[Output, ...] = (
            applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
     Output("slopestakes", "slopestakes.csv", "one row per staked station and side: hinge, catch point, reference "
            "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
+    Output("slopestakes-sheet", "slopestakes.txt", "the printable slope-stake sheet with the lath markings",
+           "earthwork:slopestakes_sheet", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True),
     Output("volumes", "volumes.csv", "cut and fill areas at each station with both catch points, average-end-area "
            "volumes", "earthwork:volumes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",

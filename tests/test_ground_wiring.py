@@ -213,3 +213,19 @@ def test_inspect_lists_surfaces(tmp_path):
     assert "surfaces: 1" in r.output
     assert ("surface 'EG': TIN, 48 points, 68 faces (2 invisible: holes); northing 1840000 to 1840010, "
             "easting 6485000 to 6485014; elevation 29.8 to 30.56") in r.output
+
+
+def test_slopestakes_sheet_pages_and_lath(tmp_path):
+    job = _job(tmp_path, _level, SLOPES.replace("left = { hinge = \"SHL\", fill_slope = 3.0, cut_slope = 2.0 }",
+                                                'left = { hinge = "SHL", fill_slope = 3.0, cut_slope = 2.0, '
+                                                'foreslope = 4.0, ditch_depth = 1.0, ditch_width = 2.0 }'),
+               hi=(1100.0, 2050.0))
+    text = _build(job, tmp_path / "out", "slopestakes-sheet")["slopestakes.txt"]
+    pages = text.split("\f")
+    assert all(len(line) <= 80 for line in text.splitlines())
+    assert all(len(p.strip("\n").splitlines()) <= 60 for p in pages)
+    # level fill 2 below a level hinge: the catch stake reads F 2.00 at slope x 2 from the hinge,
+    # the reference stake F 2.00 at that plus reference_offset (level-section relation, common practice)
+    assert "F 2.00 @ 6.00" in text and "F 2.00 @ 11.00" in text
+    assert "F 2.00 @ 4.00" in text and "F 2.00 @ 9.00" in text
+    assert "outside the ground surface" in text and "ditch 1 deep at 4:1, 2 wide" in text

@@ -1,4 +1,5 @@
-"""``slopestakes.csv`` and ``volumes.csv``: the slope stakes and earthwork volumes of a job with ``[slope_stakes]``.
+"""``slopestakes.csv``, ``slopestakes.txt`` and ``volumes.csv``: the slope stakes and earthwork volumes
+of a job with ``[slope_stakes]``.
 
 Both read the design's :class:`~stakeout.earthwork.Earthwork` (one row per
 staked station and side; one row per station with both catch points) and
@@ -13,9 +14,14 @@ from numpy.typing import NDArray
 
 from ..design import Design
 from ..numbers import fixed_strings
+from ..slopestakes import lath_marking
 from .csvtext import DECIMALS, csv_field, csv_guard, csv_text, csv_text_field
+from .text import WIDE, WIDTH, Column, SheetPart, header_lines, paged_parts, table_lines, wrap_lines
 
-__all__ = ["SLOPESTAKES_COLUMNS", "VOLUMES_COLUMNS", "slopestakes_csv", "volumes_csv"]
+__all__ = ["SLOPESTAKES_COLUMNS", "VOLUMES_COLUMNS", "slopestakes_csv", "slopestakes_sheet", "volumes_csv"]
+
+#: Decimals of the sheet's offsets and elevations.
+SHEET_DECIMALS = 3
 
 SLOPESTAKES_COLUMNS = ("alignment", "station", "station_label", "side", "hinge_point", "hinge_offset",
                        "hinge_elevation", "ground_at_hinge", "kind", "catch_point", "catch_offset", "catch_northing",
@@ -93,3 +99,56 @@ def volumes_csv(design: Design) -> bytes:
     ]
     lines = (",".join((name, *row)) for row in zip(*cols))
     return csv_text(VOLUMES_COLUMNS, lines).encode("utf-8")
+
+
+def _side_words(design: Design) -> list[str]:
+    """One line per staked side: its hinge and slopes, as the job gives them (run per unit rise)."""
+    spec = design.job.slope_stakes
+    assert spec is not None
+    out = []
+    for side, sd in spec.sides():
+        ditch = ("" if sd.ditch_depth is None else
+                 f", ditch {sd.ditch_depth:g} deep at {sd.foreslope:g}:1, {sd.ditch_width:g} wide")
+        out.append(f"{side}: hinge {sd.hinge}, fill {sd.fill_slope:g}:1, cut {sd.cut_slope:g}:1{ditch}")
+    out.append(f"reference stakes {spec.reference_offset:g} beyond the catch; no catch farther than "
+               f"{spec.max_width:g} from the hinge")
+    return out
+
+
+def slopestakes_sheet(design: Design, wide: bool = False) -> str:
+    """``slopestakes.txt``: per staked station and side the hinge, the catch stake and the
+    reference stake, each with what the crew writes on its lath (``C 3.42 @ 26.40``: cut or
+    fill to the hinge, at the horizontal distance to it); 80 columns (``wide``: one line
+    per record) and 60 lines a page.
+    """
+    ew = design.earthwork
+    assert ew is not None and ew.slopes is not None
+    page, table = (WIDE, None) if wide else (WIDTH, WIDTH)
+    r, sp = ew.slopes, design.stakes
+    res = r.result
+    catch_ids, ref_ids = design.presentation.slope_stake_ids
+    labels = sp.labels
+    dec = SHEET_DECIMALS
+    title = "SLOPE STAKES"
+    head = header_lines(title, design) + [""] + wrap_lines(_side_words(design), page)
+    cols = [
+        Column("Station", [labels[i] for i in r.station.tolist()], "<"),
+        Column("Side", [s[0].upper() for s in r.side], "<"),
+        Column("Hinge", [f"{sp.prefix}{k}" for k in sp.number[r.hinge].tolist()], "<"),
+        Column("Elev", _numbers(res.lines.z, dec)),
+        Column("Kind", [str(k) for k in res.kind.tolist()], "<"),
+        Column("Catch", catch_ids, "<"),
+        Column("Offset", _numbers(r.catch_offset, dec)),
+        Column("Lath (catch)", lath_marking(res.catch_cut_fill, res.catch_dist), "<"),
+        Column("Ref", ref_ids, "<"),
+        Column("Offset", _numbers(r.reference_offset, dec), with_previous=True),
+        Column("Lath (reference)", lath_marking(res.vd_to_hinge, res.ref_dist), "<", with_previous=True),
+        Column("Note", [str(t) for t in res.note.tolist()], "<", with_previous=True),
+    ]
+    heads, records = table_lines(cols, table)
+    missing = int(np.count_nonzero(res.note != ""))
+    foot = ["Lath: C (cut) or F (fill) from the ground at the stake up or down to the hinge,",
+            "@ the horizontal distance from the stake to the hinge; offsets negative left.",
+            f"{missing} of {len(r.side)} station side(s) without a catch point (see Note).",
+            "Catch and reference point ids are numbered after the last stake of the job."]
+    return paged_parts(head, [SheetPart([], heads, records)], f"{title}   {design.job.info.name}", foot, page)
