@@ -25,7 +25,7 @@ Where the writers sit:
   ``report`` (the curve report), ``checkreport`` (check.csv, check.txt),
   ``html`` (report.html, check.html: the pictures are handed in), ``dxf``,
   ``picture`` (a package: ``plan.svg``, the residual picture),
-  ``profile_picture``, ``superelevation``, ``exchange`` (``alignment.xml``), ``manifest``.
+  ``profile_picture``, ``superelevation``, ``earthwork`` (slope stakes, volumes), ``exchange`` (``alignment.xml``), ``manifest``.
 
 A renderer imports this module, the toolkits and the design's plain
 records; it never imports another renderer or :mod:`stakeout.alignment`
