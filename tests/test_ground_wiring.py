@@ -229,3 +229,61 @@ def test_slopestakes_sheet_pages_and_lath(tmp_path):
     assert "F 2.00 @ 6.00" in text and "F 2.00 @ 11.00" in text
     assert "F 2.00 @ 4.00" in text and "F 2.00 @ 9.00" in text
     assert "outside the ground surface" in text and "ditch 1 deep at 4:1, 2 wide" in text
+
+
+@pytest.mark.parametrize("base", [50.0, 55.0], ids=["fill", "cut-with-ditch"])
+def test_catch_on_a_sloping_plane_against_shapely(tmp_path, base):
+    from shapely.geometry import LineString
+
+    g = 0.05  # ground rises 5 % to the north (left of an alignment running east)
+
+    def plane(n, e):
+        return base + g * (np.asarray(n) - 1000.0)
+
+    spec = SLOPES.replace('left = { hinge = "SHL", fill_slope = 3.0, cut_slope = 2.0 }',
+                          'left = { hinge = "SHL", fill_slope = 3.0, cut_slope = 2.0, foreslope = 4.0, '
+                          'ditch_depth = 1.0, ditch_width = 2.0 }')
+    rows = _rows(_build(_job(tmp_path, plane, spec), tmp_path / "out", "slopestakes")["slopestakes.csv"])
+    for r in rows[:2]:
+        left = r["side"] == "left"
+        sign = -1.0 if left else 1.0
+        # the section in (distance out from the hinge, elevation): the ground a straight line, the
+        # design the template of the job-file contract; their first crossing by shapely
+        ground = LineString([(0.0, float(plane(1000.0 - sign * 6.0, 0.0))),
+                             (200.0, float(plane(1000.0 - sign * 206.0, 0.0)))])
+        if base == 50.0:
+            design = LineString([(0.0, 52.0), (200.0, 52.0 - 200.0 / (3.0 if left else 2.0))])
+        elif left:
+            design = LineString([(0.0, 52.0), (4.0, 51.0), (6.0, 51.0), (200.0, 51.0 + 194.0 / 2.0)])
+        else:
+            design = LineString([(0.0, 52.0), (200.0, 52.0 + 100.0)])
+        hit = design.intersection(ground)
+        t, z = hit.x, hit.y
+        assert r["kind"] == ("fill" if base == 50.0 else "cut")
+        assert float(r["catch_offset"]) == pytest.approx(sign * (6.0 + t), abs=5e-4)
+        assert float(r["catch_elevation"]) == pytest.approx(z, abs=5e-4)
+        assert float(r["catch_cut_fill"]) == pytest.approx(52.0 - z, abs=5e-4)
+        ref_ground = float(plane(1000.0 - sign * (6.0 + t + 5.0), 0.0))
+        assert float(r["reference_ground"]) == pytest.approx(ref_ground, abs=5e-4)
+        assert float(r["vd_to_hinge"]) == pytest.approx(52.0 - ref_ground, abs=5e-4)
+        assert float(r["hd_to_hinge"]) == pytest.approx(t + 5.0, abs=5e-4)
+
+
+def test_ground_from_a_landxml_surface(tmp_path):
+    from .ground_data import E0, N0
+    from .test_landxml_surface import ZF, _surface_xml
+
+    (tmp_path / "eg.xml").write_bytes(_surface_xml(nx=8, ny=6, spacing=2.0))
+    job = tmp_path / "job.toml"
+    text = JOB.format(extra="").replace('file = "ground.csv"', 'landxml = "eg.xml"\nname = "EG"')
+    text = text.replace("northing = 1000.0, easting = 2000.0", f"northing = {N0 + 5.0}, easting = {E0 + 1.0}")
+    job.write_text(text.replace("length = 100.0", "length = 12.0").replace("interval = 20.0", "interval = 4.0")
+                   .replace("offset = -6.0", "offset = -2.0").replace("offset = 6.0", "offset = 2.0"),
+                   encoding="utf-8")
+    files = _build(job, tmp_path / "out", "stations,manifest")
+    for r in _rows(files["stations.csv"]):
+        # the TIN's points lie on one plane: the ground at a stake is that plane (closed form)
+        assert float(r["ground_elevation"]) == pytest.approx(float(ZF(float(r["northing"]), float(r["easting"]))),
+                                                             abs=5e-4)
+    man = json.loads(files["manifest.json"])
+    assert [(f["role"], f["chosen"]) for f in man["design_files"]] == [("ground", "EG")]
