@@ -287,3 +287,13 @@ def test_ground_from_a_landxml_surface(tmp_path):
                                                              abs=5e-4)
     man = json.loads(files["manifest.json"])
     assert [(f["role"], f["chosen"]) for f in man["design_files"]] == [("ground", "EG")]
+
+
+def test_report_has_the_earthwork(tmp_path):
+    from shapely.geometry import Polygon
+
+    html = _build(_job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0)), tmp_path / "out", "report")["report.html"]
+    assert "<h2>Earthwork</h2>" in html and "6 of 12 station sides have no catch point" in html
+    area = Polygon([(-12.0, 50.0), (-6.0, 52.0), (6.0, 52.0), (10.0, 50.0)]).area  # shapely: the fill section
+    assert f"<td class=\"n\">{area:.2f}</td>" in html
+    assert f"{20.0 * area:.2f}" in html  # average end areas over 20 m (Wikibooks, as above)

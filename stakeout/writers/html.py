@@ -360,6 +360,34 @@ def _superelevation_section(d: Design) -> str:
             + _table([("station", "n"), ("left", "n"), ("right", "n")], rows))
 
 
+def _earthwork_section(d: Design) -> str:
+    """With ``[slope_stakes]``: the station sides without a catch point, and the volume table
+    (areas at each station with both catch points, average-end-area volumes, running totals).
+    """
+    ew = d.earthwork
+    if ew is None or ew.slopes is None:
+        return ""
+    notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
+    total = len(ew.slopes.side)
+    why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
+    missing = (f"{len(notes)} of {total} station sides have no catch point ({why}); slopestakes.csv and "
+               "slopestakes.txt say which." if notes else f"Every one of {total} station sides has a catch point.")
+    head = f"<h2>Earthwork</h2><p>{_e(missing)}</p>"
+    st = ew.volume_stations
+    if ew.sections is None or ew.volumes is None or st.size == 0:
+        return head + "<p>No station has both catch points: no volumes.</p>"
+    u = d.unit.label
+    labels = d.stakes.labels
+    v = ew.volumes
+    cols = [fixed(x, 2) for x in (ew.sections.cut_area[st], ew.sections.fill_area[st], v.cut, v.fill,
+                                  v.cumulative_cut, v.cumulative_fill)]
+    rows = [[labels[i], *(c[k] for c in cols)] for k, i in enumerate(st.tolist())]
+    return (head + "<p>Areas (square job units) between the ground and the template from catch to catch; "
+            f"volumes (cubic job units) by average end areas from the station above; units {_e(u)}.</p>"
+            + _table([("station", "t"), ("cut area", "n"), ("fill area", "n"), ("cut", "n"), ("fill", "n"),
+                      ("total cut", "n"), ("total fill", "n")], rows))
+
+
 def report_html(d: Design, plan_svg: str) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
@@ -383,6 +411,9 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         _signoff(),
         _cautions(),
     ]
+    ew = _earthwork_section(d)
+    if ew:
+        parts.insert(4, ew)  # after the setout (or stakes)
     se = _superelevation_section(d)
     if se:
         parts.insert(2, se)
