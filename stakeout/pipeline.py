@@ -30,15 +30,12 @@ def compute(job_path: str | Path) -> Design:
 
 def slope_stake_notes(d: Design) -> list[str]:
     """What the console says of the slope stakes: how many station sides have no catch point, and why."""
-    ew = d.earthwork
-    if ew is None or ew.slopes is None:
+    if d.earthwork is None or d.earthwork.slopes is None:
         return []
-    notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
-    total = len(ew.slopes.side)
-    if not notes:
+    missing, total, why = d.presentation.catch_gaps
+    if not missing:
         return [f"slope stakes: every one of {total} station side(s) has a catch point"]
-    why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
-    return [f"slope stakes: {len(notes)} of {total} station side(s) without a catch point ({why}); "
+    return [f"slope stakes: {missing} of {total} station side(s) without a catch point ({why}); "
             "see slopestakes.csv"]
 
 

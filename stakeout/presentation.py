@@ -343,6 +343,18 @@ class Presentation:
         self._ends: dict[float, tuple[F, F, F, F]] = {}
 
     @cached_property
+    def catch_gaps(self) -> tuple[int, int, str]:
+        """Slope-stake rows without a catch point, all rows, and why (``2 no catch within max_width,
+        1 outside the ground surface``; counts by note, in alphabetical order).
+        """
+        ew = self.d.earthwork
+        if ew is None or ew.slopes is None:
+            return 0, 0, ""
+        notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
+        why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
+        return len(notes), len(ew.slopes.side), why
+
+    @cached_property
     def slope_stake_ids(self) -> tuple[list[str], list[str]]:
         """Point ids of the catch and reference stakes, per slope-stake row ('' without a catch).
 

@@ -146,9 +146,9 @@ def slopestakes_sheet(design: Design, wide: bool = False) -> str:
         Column("Note", [str(t) for t in res.note.tolist()], "<", with_previous=True),
     ]
     heads, records = table_lines(cols, table)
-    missing = int(np.count_nonzero(res.note != ""))
+    missing, _, why = design.presentation.catch_gaps
     foot = ["Lath: C (cut) or F (fill) from the ground at the stake up or down to the hinge,",
             "@ the horizontal distance from the stake to the hinge; offsets negative left.",
-            f"{missing} of {len(r.side)} station side(s) without a catch point (see Note).",
+            f"{missing} of {len(r.side)} station side(s) without a catch point" + (f" ({why})." if why else "."),
             "Catch and reference point ids are numbered after the last stake of the job."]
     return paged_parts(head, [SheetPart([], heads, records)], f"{title}   {design.job.info.name}", foot, page)

@@ -367,11 +367,9 @@ def _earthwork_section(d: Design) -> str:
     ew = d.earthwork
     if ew is None or ew.slopes is None:
         return ""
-    notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
-    total = len(ew.slopes.side)
-    why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
-    missing = (f"{len(notes)} of {total} station sides have no catch point ({why}); slopestakes.csv and "
-               "slopestakes.txt say which." if notes else f"Every one of {total} station sides has a catch point.")
+    count, total, why = d.presentation.catch_gaps
+    missing = (f"{count} of {total} station sides have no catch point ({why}); slopestakes.csv and "
+               "slopestakes.txt say which." if count else f"Every one of {total} station sides has a catch point.")
     head = f"<h2>Earthwork</h2><p>{_e(missing)}</p>"
     st = ew.volume_stations
     if ew.sections is None or ew.volumes is None or st.size == 0:
