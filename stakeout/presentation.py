@@ -55,6 +55,7 @@ from .profile import PVIRow
 if TYPE_CHECKING:  # pragma: no cover
     from .alignment.elements import Arc, Spiral
     from .design import Design
+    from .landxml import XElement
 
 __all__ = ["Presentation", "CurveView", "SpiralView", "DeflectionTable", "OffsetDeflections", "SetoutColumn",
            "SETOUT_HEADERS", "DEFLECTION_HEADERS", "AT_INSTRUMENT_NOTE", "FLAG", "PerKind", "ELEMENT_CLASSES", "Element",
@@ -341,6 +342,13 @@ class Presentation:
     def __init__(self, d: "Design") -> None:
         self.d = d
         self._ends: dict[float, tuple[F, F, F, F]] = {}
+
+    @cached_property
+    def landxml_elements(self) -> tuple["XElement", ...]:
+        """The alignment as LandXML records (long arcs and spirals in pieces), for ``alignment.xml``."""
+        from .exported import landxml_elements
+
+        return tuple(landxml_elements(self.d.alignment.elements))
 
     @cached_property
     def curves(self) -> tuple[CurveView, ...]:
