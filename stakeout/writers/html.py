@@ -25,8 +25,8 @@ from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
 from .csvtext import DECIMALS, GRADE_DECIMALS
 from .checkwords import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
 from .sections import slope_texts, superelevation_table
-from .text import (CAUTION_LINES, curve_texts, deflection_title, end_radii, fixed, fixed_or_empty, offset_side, setout_cells,
-                   side_text, turn_word, vertical_note)
+from .text import (CAUTION_LINES, curve_texts, deflection_origin, deflection_title, end_radii, fixed, fixed_or_empty,
+                   offset_side, setout_cells, side_text, turn_word, vertical_note)
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -329,8 +329,10 @@ def _deflection_section(d: Design) -> str:
     if total > REPORT_MAX_ROWS:
         return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or the CS of an exit "
-           "spiral), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
+    exit_from = ("the ST of an exit spiral, sighting back along the ahead tangent"
+                 if d.job.staking.exit_spiral_from == "ST" else "the CS of an exit spiral")
+    out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or "
+           f"{exit_from}), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
            "the curve and tape the chord. Reading: the horizontal circle reading for a left deflection "
            "(360 - d) with zero on the tangent.</p>"]
     cols = [(h[1], "n") for h in DEFLECTION_HEADERS]
@@ -343,12 +345,11 @@ def _deflection_section(d: Design) -> str:
         return out_rows
 
     for t in tables:
-        el = t.element
-        start = f"{t.start_feature} {lab(el.start)}".strip()
-        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
+        start = deflection_origin(t, lab).strip()
+        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, t.deflect_turn))}")
         for off in t.offsets:
             out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
-                       f"{_table(cols, rows_of(off.rows, el.turn))}")
+                       f"{_table(cols, rows_of(off.rows, t.deflect_turn))}")
     return "".join(out)
 
 

@@ -20,7 +20,8 @@ from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_title, fixed, header_lines, offset_side,
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_origin, deflection_title, fixed,
+                   header_lines, offset_side,
                    paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
@@ -288,13 +289,12 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         items.extend((*row, turn) for row in rows.tolist())
 
     for t in d.presentation.deflections:
-        el = t.element
-        items.append(deflection_title(t, "curve", f"{t.start_feature} {lab(el.start)}"))
-        data(t.rows, el.turn)
+        origin = deflection_origin(t, lab)
+        items.append(deflection_title(t, "curve", origin))
+        data(t.rows, t.deflect_turn)
         for off in t.offsets:  # the offset line from its own start point, along its own start tangent
-            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {t.start_feature} "
-                         f"{lab(el.start)}")
-            data(off.rows, el.turn)
+            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {origin}")
+            data(off.rows, t.deflect_turn)
     v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
     defl = v[:, 2]
     # the circle reading for a left deflection (360 - d), blank for a right one
@@ -324,7 +324,11 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
             "offset lines: the same from the offset point opposite the curve point;",
             "length along the offset line"]
     if spirals:
-        foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent;")
+        if job.staking.exit_spiral_from == "ST":
+            foot.append("spirals: occupy the TS, sight along its tangent; exit spirals: occupy the ST,")
+            foot.append("sight back along the ahead tangent (length and chord from the ST);")
+        else:
+            foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent;")
         foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)
