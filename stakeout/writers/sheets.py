@@ -22,7 +22,7 @@ from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
 from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_origin, deflection_title, fixed,
                    header_lines, offset_side,
-                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
+                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, warning_lines, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
 
@@ -154,6 +154,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     setup, o, scale = d.setup.setup, d.setup.occupations[0], d.setup.scale
     title = "SETOUT SHEET"
     head = header_lines(title, d)
+    head += warning_lines(d)  # on the first page, never only on the console
     head += _point_lines(o, setup, scale)
     head += _factor_lines(d, scale)
     head += _convergence_lines(setup, scale)
@@ -224,6 +225,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     setup = sdes.setup
     title = "SETOUT SHEET"
     head = header_lines(title, d)
+    head += warning_lines(d)  # on the first page, never only on the console
     first = sdes.occupations[0].scale
     auto_factor = first.scale_factor is not None and first.elevation_factor is not None
     if auto_factor:

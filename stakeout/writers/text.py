@@ -25,8 +25,8 @@ from ..presentation import CurveView, DeflectionTable, Element, PerKind
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
-    "curve_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "deflection_origin", "texts_of", "SheetPart",
-    "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "curve_lines", "warning_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "deflection_origin",
+    "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -155,6 +155,14 @@ def header_lines(title: str, d: Design) -> list[str]:
         clip(f"CRS       {d.crs_label or 'none: local grid'}"),
     ]
     return out
+
+
+def warning_lines(d: Design) -> list[str]:
+    """Every warning of the build (``Design.warnings``: a design file's superelevation the job
+    does not apply, a setup serving no stake, ...), one ``WARNING`` line each, for a sheet's
+    first page; none without warnings.
+    """
+    return [f"WARNING   {w}" for w in d.warnings]
 
 
 # ---- curve data ------------------------------------------------------------------------------
