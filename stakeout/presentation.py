@@ -193,14 +193,18 @@ def _line_rows(elements: list[Element], stations: list[F]) -> F:
     return np.column_stack([s, along, np.zeros_like(s), along, inc])
 
 
-def _clothoid_rows(elements: list[Element], stations: list[F]) -> F:
+def _clothoid_rows(elements: list[Element], stations: list[F], from_end: bool = False) -> F:
     """Spirals: from the start along the start tangent, the point (x, y) there gives
     deflection = atan(y / x) and chord = hypot(x, y); all spirals in one call.
+    ``from_end`` (an exit spiral run from the ST; ``stations`` descending): the same from the
+    end back along the end tangent, the clothoid's curvature running from the end's to the start's.
     """
     s, seg, opens = _segments(elements, stations)
-    along = np.maximum(s - _per_element(elements, seg, "start"), 0.0)
-    x, y, _ = clothoid_xy(along, _per_element(elements, seg, "curvature_start"),
-                          _per_element(elements, seg, "curvature_end"), _per_element(elements, seg, "length"))
+    ends = ("curvature_end", "curvature_start") if from_end else ("curvature_start", "curvature_end")
+    along = np.maximum(_per_element(elements, seg, "end") - s if from_end else s - _per_element(elements, seg, "start"),
+                       0.0)
+    x, y, _ = clothoid_xy(along, _per_element(elements, seg, ends[0]), _per_element(elements, seg, ends[1]),
+                          _per_element(elements, seg, "length"))
     y = np.abs(y)
     defl = np.degrees(np.arctan2(y, x))
     chord = np.hypot(x, y)
@@ -214,24 +218,6 @@ def _clothoid_rows(elements: list[Element], stations: list[F]) -> F:
 RowsOf = Callable[[list[Element], list[F]], F]
 DEFLECTION_ROWS: PerKind[RowsOf] = PerKind("deflection rows", {"line": _line_rows, "arc": _arc_rows,
                                                               "spiral": _clothoid_rows})
-
-
-def _exit_rows_from_end(elements: list[Element], stations: list[F]) -> F:
-    """Spirals run from their end (an exit spiral from the ST), ``stations`` descending: from the
-    end back along the end tangent, the point (x, y) on the clothoid measured from that end
-    (its curvature running from the end's to the start's) gives deflection = atan(y / x) and
-    chord = hypot(x, y).
-    """
-    s, seg, opens = _segments(elements, stations)
-    along = np.maximum(_per_element(elements, seg, "end") - s, 0.0)
-    x, y, _ = clothoid_xy(along, _per_element(elements, seg, "curvature_end"),
-                          _per_element(elements, seg, "curvature_start"), _per_element(elements, seg, "length"))
-    y = np.abs(y)
-    defl = np.degrees(np.arctan2(y, x))
-    chord = np.hypot(x, y)
-    inc = np.concatenate([[0.0], np.hypot(np.diff(x), np.diff(y))])
-    inc[opens] = 0.0
-    return np.column_stack([s, along, defl, chord, inc])
 
 
 def _rows_by_kind(elements: list[Element], stations: list[F]) -> list[F]:
@@ -421,11 +407,11 @@ class Presentation:
         ends = [k for k, el in enumerate(elements) if self.d.job.staking.exit_spiral_from == "ST"
                 and CURVE_PART[el] == "spirals" and el.curvature_start != 0.0 and el.curvature_end == 0.0]
         if ends:
-            rev = _exit_rows_from_end([elements[k] for k in ends], [parts[k][2][::-1] for k in ends])
+            rev = _clothoid_rows([elements[k] for k in ends], [parts[k][2][::-1] for k in ends], from_end=True)
             sizes = np.array([parts[k][2].size for k in ends])
             for k, part in zip(ends, np.split(rev, np.cumsum(sizes)[:-1])):
                 rows[k] = part
-        forward = [k for k in range(len(elements)) if k not in set(ends)]
+        forward = sorted(set(range(len(elements))) - set(ends))
         offsets = []
         for o, code in self.offset_lines:
             off: list[F] = [np.zeros((0, 5))] * len(elements)
