@@ -21,7 +21,7 @@ from .textsafety import find_unsafe_char, show_name, show_value
 from .errors import CRSError
 from .units import Unit
 
-__all__ = ["GridCRS", "load_crs", "PointFactors", "MIN_PROJ", "proj_version"]
+__all__ = ["GridCRS", "load_crs", "PointFactors", "MIN_PROJ", "proj_version", "compare_crs"]
 
 #: Earlier PROJ gives wrong scale factors for CRSs whose unit is not the metre.
 MIN_PROJ = (9, 3)
@@ -184,3 +184,47 @@ def load_crs(text: str, unit: Unit, where: str = "job.crs") -> GridCRS:
             f"{unit.key!r} ({unit.label}); the two must agree"
         )
     return GridCRS(crs, text, unit)
+
+
+def _resolve(text: str) -> pyproj.CRS | None:
+    try:
+        return pyproj.CRS.from_user_input(text)
+    except pyproj.exceptions.CRSError:
+        return None
+
+
+def compare_crs(job_crs: str, epsg_code: str, name: str, wkt: str = "") -> tuple[bool, str] | None:
+    """Compare the job's ``crs`` with a design file's ``<CoordinateSystem>`` (``epsgCode``, else a ``name``
+    pyproj resolves, else its ``ogcWktCode``).
+
+    Returns
+    -------
+    (bool, str) or None
+        Whether the two are one CRS (pyproj's ``CRS.equals``, axis order ignored), with the file's
+        CRS as shown in a message (``EPSG:25832 (ETRS89 / UTM zone 32N)``); None when they cannot be
+        compared (neither code nor name resolves, or the job's crs does not).
+    """
+    job = _resolve(job_crs)
+    if job is None:
+        return None
+    code = epsg_code.strip()
+    other = None
+    shown = ""
+    if code:
+        digits = code.split(":")[-1].strip()
+        if digits.isdigit():
+            other = _resolve(f"EPSG:{int(digits)}")
+            shown = f"EPSG:{int(digits)}"
+    if other is None and name.strip():
+        other = _resolve(name.strip())
+        shown = show_value(name.strip())
+    if other is None and wkt.strip():
+        other = _resolve(wkt.strip())
+        shown = "its ogcWktCode"
+    if other is None:
+        return None
+    same = other.equals(job, ignore_axis_order=True)
+    if not same:  # one CRS given by two routes (a code and its WKT) may differ in metadata only
+        a, b = other.to_epsg(min_confidence=90), job.to_epsg(min_confidence=90)
+        same = a is not None and a == b
+    return same, f"{shown} ({show_name(other.name)})"

@@ -233,6 +233,20 @@ def build_sections(job: Job, alignment: Alignment, stationing: Stationing) -> Se
     return plan_sections(job.staking.offsets, rows, stationing)
 
 
+def unapplied_superelevation_warnings(job: Job, stationing: Stationing) -> list[str]:
+    """One warning per ``<Superelevation>`` of the alignment's design file that the job does not apply
+    (outputs.md, "Content not used": never only a list entry), over the stations it spans.
+    """
+    out = []
+    for p in job.unapplied_superelevation:
+        given = [v for v in (p.begin_runout, p.begin_runoff, p.full_super, p.runoff, p.start_of_runout,
+                             p.end_of_runout) if v is not None]
+        span = f" from {stationing.label(min(given))} to {stationing.label(max(given))}" if given else ""
+        out.append(f"offset elevations ignore the design file's superelevation{span} (apply it with "
+                   "[superelevation] landxml and normal_crown)")
+    return out
+
+
 def build_stationing(job: Job, alignment: Alignment) -> Stationing:
     """The stationing of the job's alignment."""
     return Stationing.with_equations(alignment.start_station, alignment.end_station, job.info.station_length,
@@ -469,6 +483,7 @@ def build_design(job: Job) -> Design:
     setup_design = None
     factors = Factors()
     warnings: list[str] = list(alignment.warnings)
+    warnings.extend(unapplied_superelevation_warnings(job, stationing))
     if job.setup is not None:
         setup_design = build_setups(job, stakes, stationing, grid)
         if not job.scale.given and grid is not None:

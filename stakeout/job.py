@@ -79,8 +79,7 @@ class SuperelevationFile:
     """``[superelevation] landxml = ...``: the design file's ``<Superelevation>`` elements
     (``periods``, read by the LandXML reader) with ``normal_crown`` (percent).
 
-    Hook: the reader does not fill ``periods`` yet (the job file refuses the
-    key); :func:`stakeout.crosssection.derive_rows` turns them into rows.
+    :func:`stakeout.crosssection.derive_rows` turns them into rows.
     """
 
     landxml: str
@@ -324,6 +323,8 @@ class Job:
     superelevation: tuple[SuperelevationRow, ...] = ()
     #: ``[superelevation] landxml``: rows to come from the design file (hook, not wired yet).
     superelevation_file: SuperelevationFile | None = None
+    #: the alignment design file's ``<Superelevation>`` elements the job does not apply (a warning)
+    unapplied_superelevation: tuple[SuperelevationPeriod, ...] = ()
 
     def control_points(self) -> tuple[ControlPoint, ...]:
         """Every control point the job lists or uses, each id once, in the job's order.

@@ -196,9 +196,9 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     notes[1:1] = folder.litter_notes
     notes.extend(setup_notes(d))
     notes.extend(f"warning: {w}" for w in d.warnings)
-    for f in job.design_files:
-        for item in f.not_used:
-            notes.append(f"{f.role} file {Path(f.path).name}: not used by a staking job: {item}")
+    for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
+        if f.not_used:
+            notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")
     return notes
 
 

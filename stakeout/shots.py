@@ -67,7 +67,7 @@ from .limits import (
     read_regular_file,
     unicode_bom,
 )
-from .textsafety import describe_char, find_unsafe_char, show_value
+from .textsafety import describe_char, find_unsafe_char, show_value, unsafe_kind
 
 __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_columns"]
 
@@ -375,7 +375,7 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         if bad is not None:
             raise StakedFileError(
                 f"staked file {name!r} line {ln}: point {show_value(pid)} holds {describe_char(pid[bad])}, "
-                "a control or format character"
+                f"{unsafe_kind(pid[bad])}"
             )
         vals = []
         for key in ("northing", "easting"):

@@ -13,8 +13,9 @@ Two kinds of text reach the outputs:
 * **free text** -- ``job.name`` and any other label written as given: any
   printable text, but no control or format character (Unicode categories
   ``Cc`` and ``Cf``: NUL, tab, CR, LF, form feed, ESC, DEL, the C1 range,
-  zero-width and bidirectional marks, the byte-order mark) and no line or
-  paragraph separator (``Zl``, ``Zp``).  Such characters split lines,
+  zero-width and bidirectional marks, the byte-order mark), no line or
+  paragraph separator (``Zl``, ``Zp``) and no noncharacter (U+FFFE, U+FFFF,
+  U+FDD0..U+FDEF and their kin in every plane).  Such characters split lines,
   break the pagination of the sheets (form feed), drive the terminal (ESC)
   or reorder what a reader sees (bidirectional overrides).
 
@@ -38,6 +39,7 @@ __all__ = [
     "check_free_text",
     "find_unsafe_char",
     "describe_char",
+    "unsafe_kind",
     "show_value",
     "escape_text",
     "show_name",
@@ -114,16 +116,30 @@ def find_unsafe_char(value: str) -> int | None:
     -------
     int or None
         The position of the first character of Unicode category ``Cc``,
-        ``Cf``, ``Zl``, ``Zp`` or ``Cs`` (a lone surrogate), or None when
-        there is none.
+        ``Cf``, ``Zl``, ``Zp`` or ``Cs`` (a lone surrogate), or of a
+        noncharacter (U+FFFE and its kin), or None when there is none.
     """
     if value.isascii():
         if value.isprintable():  # the common case, without a per-character loop
             return None
     for i, ch in enumerate(value):
-        if unicodedata.category(ch) in _BAD_CATEGORIES:
+        if unicodedata.category(ch) in _BAD_CATEGORIES or _is_noncharacter(ch):
             return i
     return None
+
+
+def unsafe_kind(ch: str) -> str:
+    """What an unsafe character is, for a message: ``a noncharacter`` or ``a control or format character``."""
+    return "a noncharacter" if _is_noncharacter(ch) else "a control or format character"
+
+
+def _is_noncharacter(ch: str) -> bool:
+    """A Unicode noncharacter (U+FDD0..U+FDEF, and the last two code points of every plane:
+    U+FFFE, U+FFFF, U+1FFFE ...): never meant for interchange, and U+FFFE/U+FFFF may not
+    appear in an XML document at all (so not in plan.svg, report.html or alignment.xml).
+    """
+    cp = ord(ch)
+    return 0xFDD0 <= cp <= 0xFDEF or (cp & 0xFFFE) == 0xFFFE
 
 
 def check_safe_id(value: object, where: str, allow_empty: bool = False) -> str:
@@ -187,8 +203,8 @@ def check_free_text(value: object, where: str, max_len: int = MAX_FREE_TEXT_CHAR
     i = find_unsafe_char(value)
     if i is not None:
         raise JobFileError(
-            f"{where} = {show_value(value)}: character {i + 1} is {describe_char(value[i])}, a control or "
-            "format character; use printable text on one line"
+            f"{where} = {show_value(value)}: character {i + 1} is {describe_char(value[i])}, "
+            f"{unsafe_kind(value[i])}; use printable text on one line"
         )
     if len(value) > max_len:
         raise JobFileError(f"{where} = {show_value(value)}: {len(value)} characters; the limit is {max_len}")

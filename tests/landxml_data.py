@@ -428,6 +428,60 @@ def rail_cant() -> str:
     )
 
 
+# The trial of issue 22: a left-hand spiralled curve (so the right edge is the high side), 4 %
+# full superelevation on 2 % normal crown, runoff over each spiral and runout n/e of it before and
+# after (common practice: the runout length = runoff x n / e), a 1 % grade, in ETRS89 / UTM 32N.
+TRIAL_START = (5500100.0, 500200.0, 0.0)
+TRIAL_STA = 1000.0
+TRIAL_RADIUS = 300.0
+TRIAL_SWEEP = 20.0  # degrees of circular arc between the spirals
+TRIAL_SPIRAL = 60.0
+TRIAL_PLAN = [
+    ("line", "T1", 200.0),
+    ("spiral", "SP1", TRIAL_SPIRAL, None, TRIAL_RADIUS, -1),
+    ("arc", "C1", TRIAL_RADIUS, TRIAL_SWEEP, -1),
+    ("spiral", "SP2", TRIAL_SPIRAL, TRIAL_RADIUS, None, -1),
+    ("line", "T2", 200.0),
+]
+TRIAL_ARC = TRIAL_RADIUS * math.radians(TRIAL_SWEEP)
+# internal stations: TS, SC, CS, ST and the runouts (30 m = 60 x 2 / 4)
+TRIAL_SE = {
+    "BeginRunoutSta": 1170.0,
+    "BeginRunoffSta": 1200.0,
+    "FullSuperSta": 1260.0,
+    "RunoffSta": 1260.0 + TRIAL_ARC,
+    "StartofRunoutSta": 1320.0 + TRIAL_ARC,
+    "EndofRunoutSta": 1350.0 + TRIAL_ARC,
+}
+TRIAL_PVIS = [("pvi", 1000.0, 100.0, {}), ("pvi", 1700.0, 107.0, {})]
+
+
+def trial_superelevation(turn: int = -1) -> str:
+    """The issue-22 trial: alignment, profile and <Superelevation> in one file, with a coordinate
+    system and content a staking job does not use (three Feature, one CrossSects).  ``turn`` +1 makes
+    the curve right-hand (its outside, the high side, on the left)."""
+    plan = [step if step[0] == "line" else (*step[:-1], turn) for step in TRIAL_PLAN]
+    segs = build(*TRIAL_START[:2], 15.0, plan)
+    feature = '          <Feature code="sign"><Property label="sign" value="S1"/></Feature>\n'
+    stations = "".join(f"        <{k}>{num(v)}</{k}>\n" for k, v in TRIAL_SE.items())
+    tail = (
+        '      <Profile name="TRIAL">\n' + profile_xml("TRIAL FG", TRIAL_PVIS, "        ") + "      </Profile>\n"
+        '      <CrossSects><CrossSect sta="1100.0"/></CrossSects>\n'
+        f'      <Superelevation staStart="{num(TRIAL_SE["BeginRunoutSta"])}" '
+        f'staEnd="{num(TRIAL_SE["EndofRunoutSta"])}">\n'
+        + stations + "        <FullSuperelev>4.0</FullSuperelev>\n        <AdverseSE>non-adverse</AdverseSE>\n"
+        "      </Superelevation>\n"
+        '      <Feature code="road"><Property label="class" value="B"/></Feature>\n'
+    )
+    return (
+        head(units_xml("m", "decimal degrees"))
+        + '  <CoordinateSystem name="ETRS89 / UTM zone 32N" epsgCode="25832"/>\n'
+        + "  <Alignments>\n"
+        + alignment_xml("TRIAL", TRIAL_STA, segs, tail=tail, inner={1: feature, 5: feature})
+        + "  </Alignments>\n</LandXML>\n"
+    )
+
+
 def broken_kink() -> str:
     """Two lines meeting with a 10 arc-second change of direction."""
     segs = build(1000.0, 2000.0, 45.0, [("line", "A", 100.0)])
@@ -498,6 +552,7 @@ FILES = {
     "ramp_usft.xml": ramp_usft,
     "site_ft_multi.xml": site_ft_multi,
     "rail_cant.xml": rail_cant,
+    "trial_superelevation.xml": trial_superelevation,
     "broken_gap.xml": lambda: road_metric(shift_from=5),
     "broken_kink.xml": broken_kink,
     "broken_curvature.xml": broken_curvature,

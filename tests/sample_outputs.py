@@ -30,7 +30,7 @@ def _run(args: list[str]) -> tuple[int, str]:
 
     from stakeout.cli import app
 
-    r = CliRunner().invoke(app, args)
+    r = CliRunner().invoke(app, args, env={"SOURCE_DATE_EPOCH": None})  # alignment.xml: the fixed date
     return r.exit_code, r.stdout
 
 

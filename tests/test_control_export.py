@@ -92,3 +92,23 @@ def test_exported_control_checks_back_as_control_shots(tmp_path, job):
     assert [x["design_point"] for x in rows] == exported
     assert all(float(x["horizontal_error"]) == 0.0 for x in rows)
     assert r.exit_code == 0, r.output
+
+
+def test_alignment_xml_holds_the_control_once_each_as_cgpoints_code_control(tmp_path):
+    """Contract: every control point as a CgPoint with code `control` in alignment.xml,
+    once each, in the job's order; the file stays valid against the LandXML 1.2 schema
+    (lxml with the schema kept in tests/data)."""
+    from lxml import etree
+
+    from .helpers import landxml_schema
+
+    out = build_job(SAMPLES / "harrow_fen_bypass_control_m.toml", tmp_path / "out", "--only", "landxml,control")
+    doc = etree.parse(str(out / "alignment.xml"))
+    landxml_schema().assertValid(doc)
+    ns = {"l": doc.getroot().nsmap[None]}
+    ctrl = [p for p in doc.iterfind(".//l:CgPoint", ns) if p.get("code") == "control"]
+    exported = _rows(out / "control.csv")
+    assert [p.get("name") for p in ctrl] == [r["point"] for r in exported]
+    for p, r in zip(ctrl, exported):
+        n, e, z = (float(v) for v in p.text.split())
+        assert (n, e, z) == pytest.approx((float(r["northing"]), float(r["easting"]), float(r["elevation"])), abs=5e-5)

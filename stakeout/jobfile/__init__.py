@@ -14,17 +14,19 @@ import hashlib
 import math
 import re
 import tomllib
+from dataclasses import replace
 from pathlib import Path
 
 from ..errors import JobFileError
 from ..alignment.specs import AlignmentSpec, ArcSpec, FixedSpec
-from ..job import ControlPoint, DesignFile, Job, JobInfo, Setup
+from ..job import ControlPoint, DesignFile, Job, JobInfo, Setup, SuperelevationPeriod
 from ..limits import MAX_COORDINATE, MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
 from ..textsafety import check_file_name, check_free_text, show_value
 from ..stations import check_station_length
 from ..units import get_unit
 from .alignment import read_alignment, read_equations
-from .design_file import read_alignment_file, read_profile_file
+from .design_file import (DesignFiles, periods_of, read_alignment_file, read_profile_file, read_superelevation_file,
+                          summarise_not_used)
 from .profile import read_profile
 from .control import read_control
 from .reader import SAFE_TEXT, Table, check_safe_text
@@ -73,19 +75,20 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     info = _job_info(top)
     base = Path(path).parent
     design_files: list[DesignFile] = []
+    files = DesignFiles(info, base)
     raw_alignment = top.raw("alignment", required=True)
     from_file = None
     if isinstance(raw_alignment, dict) and "landxml" in raw_alignment:
         at = top.table("alignment", ("landxml", "name"))
         assert at is not None
-        from_file = read_alignment_file(at, info, base)
+        from_file = read_alignment_file(at, info, files)
         alignment: AlignmentSpec = from_file.spec
         _check_length(from_file.spec)
         design_files.append(from_file.record)
     else:
         alignment = read_alignment(top, info)
     staking = read_staking(top, info)
-    control, control_files = read_control(top, info, base)
+    control, control_files = read_control(top, info, files)
     _check_control_coordinates(control)
     setup = read_setup(top, control, info.station_length)
     if setup is not None:
@@ -114,12 +117,22 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         if pt.has("pvi"):
             raise JobFileError("profile.pvi: give the PVIs inline or `landxml = ...`, not both")
         wanted = from_file.record.chosen if from_file is not None else alignment.name
-        profile, record = read_profile_file(pt, wanted, base)
+        profile, record = read_profile_file(pt, wanted, files)
         design_files.append(record)
     if profile is not None and staking.elevation is not None:
         raise JobFileError(f"staking.elevation = {staking.elevation!r}: cannot be given together with [profile] "
                            "(the profile gives the elevations)")
-    se_rows, se_file = read_superelevation(top, info, profile is not None or staking.elevation is not None)
+    se_name = from_file.record.chosen if from_file is not None else None
+    se_rows, se_file, se_record = read_superelevation(
+        top, info, profile is not None or staking.elevation is not None,
+        lambda given: read_superelevation_file(given, info, se_name, files))
+    if se_record is not None:
+        design_files.append(se_record)
+    unapplied: tuple[SuperelevationPeriod, ...] = ()
+    if from_file is not None and from_file.source is not None and from_file.source.superelevations and (
+            se_record is None or se_record.sha256 != from_file.record.sha256):
+        unapplied = periods_of(from_file.source, "alignment.landxml")
+    all_files = _not_used_once(tuple(design_files) + control_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
     return Job(
         path=path,
@@ -132,12 +145,37 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         check=read_check(top),
         profile=profile,
         equations=from_file.equations if from_file is not None else read_equations(top, info),
-        design_files=tuple(design_files) + control_files,
+        design_files=all_files,
         control=control,
         instrument=instrument,
         superelevation=se_rows,
         superelevation_file=se_file,
+        unapplied_superelevation=unapplied,
     )
+
+
+def _not_used_once(records: tuple[DesignFile, ...], files: DesignFiles,
+                   unapplied: tuple[SuperelevationPeriod, ...]) -> tuple[DesignFile, ...]:
+    """Each design file's unused content, counted per element name, on its first record only (a file
+    serving alignment and profile is reported once).  A ``<CoordinateSystem>`` that could not be
+    compared and ``<Superelevation>`` elements the job does not apply count as not used too.
+    """
+    out = []
+    seen: set[str] = set()
+    for i, r in enumerate(records):
+        if r.sha256 in seen or files.parsed(r.sha256) is None:
+            out.append(r)
+            continue
+        seen.add(r.sha256)
+        design = files.parsed(r.sha256)
+        assert design is not None
+        kinds = list(design.unused_kinds)
+        if files.crs_unused.get(r.sha256):
+            kinds.append(("CoordinateSystem", 1))
+        if unapplied and i == 0 and r.role == "alignment":
+            kinds.append(("Superelevation", len(unapplied)))
+        out.append(replace(r, not_used=summarise_not_used(kinds)))
+    return tuple(out)
 
 
 def _check_length(spec: FixedSpec) -> None:

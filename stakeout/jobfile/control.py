@@ -24,6 +24,7 @@ from pathlib import Path
 from ..errors import JobFileError, StakedFileError
 from ..job import ControlPoint, DesignFile, JobInfo
 from ..limits import MAX_HEIGHT, MAX_STAKED_FILE_BYTES, check_coordinate, check_height, read_regular_file
+from .design_file import DesignFiles
 from .reader import Table, check_safe_text
 
 __all__ = ["read_control", "inline_point", "CONTROL_KEYS"]
@@ -87,17 +88,14 @@ def _from_csv(t: Table, base: Path) -> tuple[list[ControlPoint], DesignFile]:
     return points, DesignFile("control", given, hashlib.sha256(data).hexdigest())
 
 
-def _from_landxml(t: Table, info: JobInfo, base: Path) -> tuple[list[ControlPoint], DesignFile]:
+def _from_landxml(t: Table, info: JobInfo, files: DesignFiles) -> tuple[list[ControlPoint], DesignFile]:
     """``control.landxml``: the ``<CgPoint>`` elements of a LandXML file."""
     from .. import landxml
 
     given = t.text("landxml", required=True)
     assert given is not None
     key = f"control.landxml = {given!r}"
-    try:
-        design = landxml.read_landxml(_path(given, base))
-    except JobFileError as exc:
-        raise JobFileError(f"{key}: {exc}") from None
+    design = files.read(given, key)  # errors name the key and the file
     landxml.check_units(design, info.unit.key, key)
     if not design.points:
         raise JobFileError(f"{key}: the file holds no <CgPoint>; there are no control points to take from it")
@@ -114,7 +112,7 @@ def _from_landxml(t: Table, info: JobInfo, base: Path) -> tuple[list[ControlPoin
     return points, DesignFile("control", given, design.sha256, chosen="CgPoints")
 
 
-def read_control(top: Table, info: JobInfo, base: Path) -> tuple[tuple[ControlPoint, ...], tuple[DesignFile, ...]]:
+def read_control(top: Table, info: JobInfo, design_files: DesignFiles) -> tuple[tuple[ControlPoint, ...], tuple[DesignFile, ...]]:
     """``[control]``: every control point of the job and the files they came from.
 
     Parameters
@@ -123,8 +121,9 @@ def read_control(top: Table, info: JobInfo, base: Path) -> tuple[tuple[ControlPo
         The whole job file.
     info : JobInfo
         ``[job]`` (the units a LandXML file must match).
-    base : Path
-        The job file's folder: ``file`` and ``landxml`` are relative to it.
+    design_files : DesignFiles
+        The job's design files (each parsed once); its ``base``, the job file's folder, is what
+        ``file`` and ``landxml`` are relative to.
 
     Returns
     -------
@@ -144,11 +143,11 @@ def read_control(top: Table, info: JobInfo, base: Path) -> tuple[tuple[ControlPo
     points: list[ControlPoint] = []
     files: list[DesignFile] = []
     if t.has("file"):
-        pts, rec = _from_csv(t, base)
+        pts, rec = _from_csv(t, design_files.base)
         points += pts
         files.append(rec)
     if t.has("landxml"):
-        pts, rec = _from_landxml(t, info, base)
+        pts, rec = _from_landxml(t, info, design_files)
         points += pts
         files.append(rec)
     for pt in t.tables("point", _POINT_KEYS):

@@ -1,4 +1,4 @@
-"""Alignments and profiles taken from a LandXML 1.2 design file.
+"""Alignments, profiles and superelevation taken from a LandXML 1.2 design file.
 
 ``[alignment] landxml = "file.xml"`` (with ``name`` choosing the
 ``<Alignment>``) and ``[profile] landxml = ...`` replace the inline forms.
@@ -6,6 +6,13 @@ The file supplies geometry only: each element is anchored at the point the
 file gives for its start, its length, direction and curvature measured from
 the file's points (:func:`stakeout.landxml.validate_geometry`; attributes are
 cross-checks).  The job file stays the one place that says what is staked.
+
+A file the job names several times (alignment, profile, superelevation,
+control) is parsed once: :class:`DesignFiles` keeps each parse keyed by the
+resolved path and the SHA-256 of its bytes.  Its ``<CoordinateSystem>`` is
+compared with the job's ``crs`` once (:func:`stakeout.crs.compare_crs`);
+what the job does not use of it is counted per element name
+(:func:`summarise_not_used`) and reported once per file.
 """
 
 from __future__ import annotations
@@ -16,31 +23,104 @@ from pathlib import Path
 
 from ..alignment.specs import AnchoredSpec, ArcSpec, FixedSpec, LineSpec, SpiralSpec
 from ..errors import JobFileError
-from ..job import DesignFile, JobInfo, ProfileInput, ProfilePVI
+from ..job import DesignFile, JobInfo, ProfileInput, ProfilePVI, SuperelevationPeriod
 from ..stations import StationRef
+from ..limits import read_regular_file
 from ..textsafety import check_free_text
 from .reader import Table
 
 if TYPE_CHECKING:
-    from ..landxml import XElement, XMeasured, XProfile
+    from ..landxml import XAlignment, XDesign, XElement, XMeasured, XProfile
 
-__all__ = ["read_alignment_file", "read_profile_file", "LandXMLAlignment"]
+__all__ = ["read_alignment_file", "read_profile_file", "read_superelevation_file", "LandXMLAlignment",
+           "DesignFiles", "summarise_not_used"]
+
+
+class DesignFiles:
+    """The design files of one job, each parsed once (keyed by resolved path and SHA-256).
+
+    The first read of a file also compares its ``<CoordinateSystem>`` with the job's ``crs``: a
+    different CRS is an error naming both; one that cannot be compared (no ``crs`` in the job, or a
+    code or name pyproj does not resolve) is counted as not used.
+    """
+
+    def __init__(self, info: JobInfo, base: Path):
+        self.info = info
+        self.base = base
+        self._parsed: dict[tuple[str, str], XDesign] = {}
+        self.crs_unused: dict[str, bool] = {}  # sha256 -> its <CoordinateSystem> could not be compared
+
+    def path(self, given: str) -> Path:
+        p = Path(given)
+        return p if p.is_absolute() else self.base / p
+
+    def read(self, given: str, key: str) -> XDesign:
+        """The parsed file ``given`` (relative to the job file); ``key`` names the job-file key in errors."""
+        import hashlib
+
+        from .. import landxml
+
+        path = self.path(given)
+        try:
+            data = read_regular_file(path, "LandXML file", landxml.MAX_FILE_BYTES)
+            cache_key = (str(path.resolve()), hashlib.sha256(data).hexdigest())
+            design = self._parsed.get(cache_key)
+            if design is None:
+                design = landxml.parse_landxml(data, source=str(path))
+        except JobFileError as exc:
+            raise JobFileError(f"{key} = {given!r}: {exc}") from None
+        if cache_key not in self._parsed:
+            del data
+            self._check_crs(design, key)
+            self._parsed[cache_key] = design
+        return design
+
+    def parsed(self, sha256: str) -> XDesign | None:
+        """The parse of the file with these bytes, if the job read it."""
+        return next((d for (_p, h), d in self._parsed.items() if h == sha256), None)
+
+    def _check_crs(self, design: XDesign, key: str) -> None:
+        cs = design.coordinate_system
+        if cs is None:
+            return
+        job_crs = self.info.crs
+        compared = None
+        if job_crs is not None and (cs.epsg_code or cs.name or cs.ogc_wkt):
+            from ..crs import compare_crs  # pyproj only when there is something to compare
+
+            compared = compare_crs(job_crs, cs.epsg_code, cs.name, cs.ogc_wkt)
+        if compared is None:
+            self.crs_unused[design.sha256] = True
+            return
+        same, shown = compared
+        if not same:
+            raise JobFileError(f"{key}: the file's <CoordinateSystem> is {shown} but job.crs = {job_crs!r}; "
+                               "the design file and the job must be in one CRS")
+
+
+def summarise_not_used(kinds: tuple[tuple[str, int], ...] | list[tuple[str, int]]) -> tuple[str, ...]:
+    """``(("Feature", 15), ("Cant", 1))`` as ``("15 Feature", "1 Cant")``: one entry per element name."""
+    return tuple(f"{n} {kind}" for kind, n in kinds)
 
 
 class LandXMLAlignment:
-    """What an alignment read from a design file brings: its spec, equations and file record."""
+    """What an alignment read from a design file brings: its spec, equations, file record, and the
+    chosen ``<Alignment>`` (its ``<Superelevation>`` elements are applied or reported by the caller).
+    """
 
-    def __init__(self, spec: FixedSpec, equations: tuple[tuple[float, float, str], ...], record: DesignFile):
+    def __init__(self, spec: FixedSpec, equations: tuple[tuple[float, float, str], ...], record: DesignFile,
+                 source: XAlignment | None = None, design: XDesign | None = None):
         self.spec = spec
         self.equations = equations
         self.record = record
+        self.source = source
+        self.design = design
 
 
-def _path(t: Table, base: Path) -> Path:
+def _given(t: Table) -> str:
     text = t.text("landxml", required=True)
     assert text is not None
-    p = Path(text)
-    return p if p.is_absolute() else base / p
+    return text
 
 
 _SAME = 1e-6  # relative: radii, centres and rates of curvature change this close are the same curve
@@ -84,12 +164,11 @@ def _whole(xs: tuple[XElement, ...], ms: tuple[XMeasured, ...]) -> list[tuple[XE
     return out
 
 
-def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment:
+def read_alignment_file(t: Table, info: JobInfo, files: DesignFiles) -> LandXMLAlignment:
     """``[alignment] landxml``: the chosen ``<Alignment>`` as anchored elements, with its equations."""
     from .. import landxml
 
-    path = _path(t, base)
-    design = landxml.read_landxml(path)
+    design = files.read(_given(t), "alignment.landxml")
     landxml.check_units(design, info.unit.key, "alignment.landxml")
     name = t.text("name")
     xa = landxml.pick_alignment(design, name)
@@ -115,9 +194,9 @@ def read_alignment_file(t: Table, info: JobInfo, base: Path) -> LandXMLAlignment
         back = eq.sta_internal + shift
         equations.append((back, eq.sta_ahead, f"alignment.landxml StaEquation {i + 1}"))
         shift = eq.sta_ahead - eq.sta_internal
-    record = DesignFile("alignment", str(t.text("landxml")), design.sha256, design.not_used, xa.name)
+    record = DesignFile("alignment", str(t.text("landxml")), design.sha256, (), xa.name)
     return LandXMLAlignment(FixedSpec(check_free_text(xa.name or "CL", "alignment.landxml name"), xa.sta_start,
-                                      tuple(elements)), tuple(equations), record)
+                                      tuple(elements)), tuple(equations), record, xa, design)
 
 
 _PVI_TAG = {"pvi": "PVI", "para": "ParaCurve", "unsym": "UnsymParaCurve", "circ": "CircCurve"}
@@ -157,12 +236,11 @@ def _check_profile_extents(xp: XProfile) -> None:
         prev_end = end
 
 
-def read_profile_file(t: Table, alignment_name: str, base: Path) -> tuple[ProfileInput, DesignFile]:
+def read_profile_file(t: Table, alignment_name: str, files: DesignFiles) -> tuple[ProfileInput, DesignFile]:
     """``[profile] landxml``: the chosen ``<ProfAlign>``, its PVIs at internal stations."""
     from .. import landxml
 
-    path = _path(t, base)
-    design = landxml.read_landxml(path)
+    design = files.read(_given(t), "profile.landxml")
     name = t.text("name")
     xp = landxml.pick_profile(design, alignment_name, name)
     _check_profile_extents(xp)
@@ -177,5 +255,62 @@ def read_profile_file(t: Table, alignment_name: str, base: Path) -> tuple[Profil
             back = v.length_in or 0.0
             ahead = v.length_out or 0.0
             pvis.append(ProfilePVI(at, v.elevation, back, ahead, where, symmetric=v.kind == "para"))
-    record = DesignFile("profile", str(t.text("landxml")), design.sha256, design.not_used, xp.name)
+    record = DesignFile("profile", str(t.text("landxml")), design.sha256, (), xp.name)
     return ProfileInput(xp.name, tuple(pvis), internal=True), record
+
+
+def periods_of(xa: XAlignment, key: str) -> tuple[SuperelevationPeriod, ...]:
+    """An alignment's ``<Superelevation>`` elements as periods (the outside is left to the alignment).
+
+    Raises
+    ------
+    JobFileError
+        A transition station outside the element's own ``staStart``/``staEnd``, or an adverse
+        superelevation, naming the element.
+    """
+    from ..crosssection import ORDER_TOLERANCE
+    from ..landxml.records import SE_STATION_ELEMENTS
+
+    out = []
+    for se in xa.superelevations:
+        where = f"{key} <Superelevation> {se.index} of alignment {xa.name!r}"
+        sts = dict(zip(SE_STATION_ELEMENTS, se.stations, strict=True))
+        if se.adverse:  # the contract's rows bank toward the curve's centre; an adverse one would be wrong
+            raise JobFileError(f"{where}: <AdverseSE>adverse</AdverseSE> (banked away from the curve's centre) is "
+                               "not derived from a design file; give its rows as [[superelevation]]")
+        lo = -float("inf") if se.sta_start is None else se.sta_start - ORDER_TOLERANCE
+        hi = float("inf") if se.sta_end is None else se.sta_end + ORDER_TOLERANCE
+        for name, v in sts.items():
+            if v is not None and not lo <= v <= hi:
+                raise JobFileError(f"{where}: {name} {v:.6g} lies outside the element's staStart {se.sta_start!r} "
+                                   f"to staEnd {se.sta_end!r}; the stations contradict each other")
+        b0, b1, f0, f1, s0, s1 = se.stations
+        out.append(SuperelevationPeriod(b0, b1, f0, f1, s0, s1, se.full_superelev, None, where))
+    return tuple(out)
+
+
+def read_superelevation_file(given: str, info: JobInfo, alignment_name: str | None, files: DesignFiles
+                             ) -> tuple[tuple[SuperelevationPeriod, ...], DesignFile]:
+    """``[superelevation] landxml``: the ``<Superelevation>`` elements of the job's alignment in the file
+    (the alignment of that name, or the file's only alignment when the job's alignment is not from it).
+
+    Raises
+    ------
+    JobFileError
+        Other units, no such alignment, or an alignment without ``<Superelevation>``.
+    """
+    from .. import landxml
+
+    key = "superelevation.landxml"
+    design = files.read(given, key)
+    landxml.check_units(design, info.unit.key, key)
+    names = [a.name for a in design.alignments]
+    if alignment_name not in names and len(names) != 1:
+        shown = ", ".join(repr(n) for n in names) or "none"
+        raise JobFileError(f"{key} = {given!r}: the file holds {len(names)} alignments ({shown}) and none is the "
+                           f"job's alignment {alignment_name or ''!r}; take the alignment from that file too")
+    xa = landxml.pick_alignment(design, alignment_name if alignment_name in names else None)
+    if not xa.superelevations:
+        raise JobFileError(f"{key} = {given!r}: alignment {xa.name!r} has no <Superelevation>; give the rows as "
+                           "[[superelevation]] or leave the table out")
+    return periods_of(xa, key), DesignFile("superelevation", given, design.sha256, (), xa.name)

@@ -13,7 +13,7 @@ from ..angles import parse_angle, parse_direction
 from ..errors import JobFileError
 from ..limits import MAX_COORDINATE, check_station_value
 from ..stations import StationRef, parse_station
-from ..textsafety import check_safe_id, describe_char, find_unsafe_char, show_value
+from ..textsafety import check_safe_id, describe_char, find_unsafe_char, show_value, unsafe_kind
 
 __all__ = ["Table", "kind_of", "SAFE_TEXT", "check_safe_text", "angle", "direction", "station", "station_ref"]
 
@@ -109,8 +109,8 @@ class Table:
             raise JobFileError(f"{self.key(k)} = {show_value(v)}: expected text, got {kind_of(v)}")
         i = find_unsafe_char(v.translate(_LINES) if lines else v)
         if i is not None:
-            raise JobFileError(f"{self.key(k)} = {show_value(v)}: character {i + 1} is {describe_char(v[i])}, a "
-                               "control or format character; use printable text")
+            raise JobFileError(f"{self.key(k)} = {show_value(v)}: character {i + 1} is {describe_char(v[i])}, "
+                               f"{unsafe_kind(v[i])}; use printable text")
         if choices is not None and v not in choices:
             allowed = " | ".join(f'"{c}"' for c in choices)
             raise JobFileError(f"{self.key(k)} = {show_value(v)}: use {allowed}")

@@ -11,10 +11,12 @@ station order, lines that cross) is checked by :mod:`stakeout.crosssection`.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from typing import Any
 
 from ..errors import JobFileError
-from ..job import JobInfo, OffsetLine, SuperelevationFile, SuperelevationRow, WideningRow
+from ..job import (DesignFile, JobInfo, OffsetLine, SuperelevationFile, SuperelevationPeriod, SuperelevationRow,
+                   WideningRow)
 from ..limits import MAX_CROSS_SLOPE, MAX_HEIGHT, MAX_ROLLOVER, check_length
 from ..textsafety import show_value
 from .reader import Table, check_safe_text, station_ref
@@ -170,12 +172,18 @@ def check_template_lines(lines: list[OffsetLine], has_table: bool) -> None:
                                    "or a line without cross_slope)")
 
 
-def read_superelevation(top: Table, info: JobInfo, has_elevation: bool
-                        ) -> tuple[tuple[SuperelevationRow, ...], SuperelevationFile | None]:
-    """``[[superelevation]]`` rows, or ``[superelevation] landxml`` (the hook for the design file)."""
+ReadPeriods = Callable[[str], tuple[tuple[SuperelevationPeriod, ...], DesignFile]]
+
+
+def read_superelevation(top: Table, info: JobInfo, has_elevation: bool, read_file: ReadPeriods | None = None
+                        ) -> tuple[tuple[SuperelevationRow, ...], SuperelevationFile | None, DesignFile | None]:
+    """``[[superelevation]]`` rows, or ``[superelevation] landxml`` with ``normal_crown`` (the design
+    file's ``<Superelevation>`` elements, read by ``read_file``; their rows are derived on the alignment
+    by :func:`stakeout.crosssection.derive_rows`).
+    """
     raw = top.raw(SUPERELEVATION)
     if raw is None:
-        return (), None
+        return (), None, None
     if not has_elevation:
         raise JobFileError(f"{SUPERELEVATION}: needs [profile] or staking.elevation; the slopes apply to design "
                            "elevations, and the job gives none")
@@ -184,11 +192,9 @@ def read_superelevation(top: Table, info: JobInfo, has_elevation: bool
         assert t is not None
         path = t.text("landxml", required=True)
         crown = percent(t, "normal_crown", required=True, nonnegative=True)
-        assert path is not None and crown is not None
-        # Hook: the rows come from the design file's <Superelevation> elements through
-        # stakeout.crosssection.rows_from_design_file once the LandXML package reads them.
-        raise JobFileError(f"{SUPERELEVATION}.landxml = {path!r}: reading <Superelevation> from a design file is "
-                           "not available in this version; give the rows as [[superelevation]]")
+        assert path is not None and crown is not None and read_file is not None
+        periods, record = read_file(path)
+        return (), SuperelevationFile(path, crown, periods), record
     rows = []
     for t in top.tables(SUPERELEVATION, ("station", "left", "right"), required=True):
         left = percent(t, "left", required=True)
@@ -198,4 +204,4 @@ def read_superelevation(top: Table, info: JobInfo, has_elevation: bool
                                                   t.key("station")), left, right, t.path))
     if not rows:
         raise JobFileError(f"{SUPERELEVATION} = []: give at least one row, or leave the key out")
-    return tuple(rows), None
+    return tuple(rows), None, None

@@ -36,7 +36,9 @@ from .records import (
     XPoint,
     XPoints,
     XProfile,
+    XCoordinateSystem,
     XSpiral,
+    XSuperelevation,
     XUnits,
     kind_of,
 )
@@ -50,6 +52,8 @@ __all__ = [
     "XLine",
     "XCurve",
     "XSpiral",
+    "XSuperelevation",
+    "XCoordinateSystem",
     "XElement",
     "XEquation",
     "XAlignment",

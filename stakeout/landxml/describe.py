@@ -29,6 +29,9 @@ def describe(design: XDesign) -> str:
         f'units: {u.unit_key} ({UNIT_WORDS[u.unit_key]}, <{system} linearUnit="{u.linear_unit}">)',
         f"sha256: {design.sha256}",
     ]
+    cs = design.coordinate_system
+    if cs is not None:
+        lines.append(f"coordinate system: epsgCode {cs.epsg_code or '-'}, name {cs.name or '-'}")
     if design.application:
         lines.append(f"written by: {shown(design.application)}")
     lines.append(f"alignments: {len(design.alignments)}")
@@ -52,6 +55,10 @@ def describe(design: XDesign) -> str:
             back = "" if eq.sta_back is None else f", back {fmt(eq.sta_back)}"
             inc = "" if eq.increment == 1 else ", decreasing"
             lines.append(f"    equation {k}: internal {fmt(eq.sta_internal)}{back}, ahead {fmt(eq.sta_ahead)}{inc}")
+        for se in a.superelevations:
+            span = "no stations" if se.first is None or se.last is None else f"internal {fmt(se.first)} to {fmt(se.last)}"
+            rate = "no FullSuperelev" if se.full_superelev is None else f"FullSuperelev {fmt(se.full_superelev)} %"
+            lines.append(f"    superelevation {se.index}: {span}, {rate}")
         for p in design.profiles:
             if p.alignment_name != a.name:
                 continue

@@ -42,10 +42,14 @@
   to degrees on reading; a file that declares no ``angularUnit`` is read in
   the schema's default, radians, or in decimal degrees where that is what
   fits the points (files in use often omit the unit and write degrees).
-* Content a staking job does not use (cant, cross-sections, superelevation,
-  surfaces, pipe networks, features, ground profiles, ...) is listed in
-  :attr:`XDesign.not_used` as short descriptions; ``<Application>`` is kept
-  as :attr:`XDesign.application`.
+* Content a staking job does not use (cant, cross-sections, surfaces, pipe
+  networks, features, ground profiles, ...) is listed in
+  :attr:`XDesign.not_used` as short descriptions and counted per element name
+  in :attr:`XDesign.unused_kinds`; ``<Application>`` is kept as
+  :attr:`XDesign.application`.  An alignment's ``<Superelevation>`` elements
+  are read (:class:`XSuperelevation`; the job file decides whether a job
+  applies them) and so is ``<CoordinateSystem>`` (compared with the job's
+  ``crs`` by the job-file reader).
 """
 
 from __future__ import annotations
@@ -68,6 +72,7 @@ from defusedxml import DefusedXmlException
 from ..errors import JobFileError
 from ..limits import (
     MAX_COORDINATE,
+    MAX_CROSS_SLOPE,
     MAX_HEIGHT,
     check_coordinate,
     check_height,
@@ -80,9 +85,11 @@ from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
     MAX_FILE_BYTES,
+    SE_STATION_ELEMENTS,
     UNIT_WORDS,
     XPVI,
     XAlignment,
+    XCoordinateSystem,
     XCurve,
     XDesign,
     XElement,
@@ -91,6 +98,7 @@ from .records import (
     XPoint,
     XProfile,
     XSpiral,
+    XSuperelevation,
     XUnits,
     fmt,
     shown,
@@ -114,6 +122,7 @@ _LINEAR = {
 _ANGULAR = ("radians", "grads", "decimal degrees", "decimal dd.mm.ss")
 _PVI_KIND = {"PVI": "pvi", "ParaCurve": "para", "UnsymParaCurve": "unsym", "CircCurve": "circ"}
 _NEEDS = {"Line": ("Start", "End"), "Curve": ("Start", "Center", "End"), "Spiral": ("Start", "PI", "End")}
+_XSI_NIL = "{http://www.w3.org/2001/XMLSchema-instance}nil"
 _COLLECTIONS = frozenset(
     {"Surfaces", "PipeNetworks", "Parcels", "PlanFeatures", "Monuments", "Roadways", "GradeModel", "Survey"}
 )
@@ -267,10 +276,10 @@ class _Reader:
         self.angular = "radians"
         self.angular_declared = True
         self.cg_by_name: dict[str, tuple[float, float, float | None]] = {}
-        self.unused: list[tuple[str, str]] = []
+        self.unused: list[tuple[str, str, str]] = []  # (context, label, element name)
         # per top-level <CgPoints>: its points (name, text, code, desc, pntRef) and what it holds besides
         self.cg_rows: dict[int, list[tuple[str, str, str, str, str | None]]] = {}
-        self.cg_unused: dict[int, list[tuple[str, str]]] = {}
+        self.cg_unused: dict[int, list[tuple[str, str, str]]] = {}
 
     # -- streaming ------------------------------------------------------------
 
@@ -367,7 +376,8 @@ class _Reader:
             if ns == "#":
                 continue
             if ns != self.ns:
-                self.unused.append((context, f"extension element {local!r} ({ns or 'no namespace'})"))
+                self.unused.append((context, f"extension element {local!r} ({ns or 'no namespace'})",
+                                    f"extension {local}"))
                 continue
             yield local, child
 
@@ -375,9 +385,9 @@ class _Reader:
         if local in _COLLECTIONS:
             inner = [_label(c_local, c) for c_local, c in self.children(el, context)]
             shown = ", ".join(inner[:5]) + (f", +{len(inner) - 5} more" if len(inner) > 5 else "")
-            self.unused.append((context, f"{_label(local, el)} ({shown})" if inner else _label(local, el)))
+            self.unused.append((context, f"{_label(local, el)} ({shown})" if inner else _label(local, el), local))
         else:
-            self.unused.append((context, _label(local, el)))
+            self.unused.append((context, _label(local, el), local))
 
     def double(self, text: str | None, what: str) -> float:
         if text is None:
@@ -472,8 +482,8 @@ class _Reader:
     def read(self, root: _ET.Element, digest: str) -> XDesign:
         ns, local = _split(root.tag)
         if local != "LandXML" or ns not in ("", LANDXML_NS):
-            shown = f"{{{ns}}}{local}" if ns else local
-            raise self.err(f"root element {shown!r} is not <LandXML> of LandXML 1.2 ({LANDXML_NS})")
+            tag = f"{{{ns}}}{local}" if ns else local
+            raise self.err(f"root element {tag!r} is not <LandXML> of LandXML 1.2 ({LANDXML_NS})")
         self.ns = ns
         top = list(self.children(root, "file"))
         units_els = [el for local, el in top if local == "Units"]
@@ -495,11 +505,16 @@ class _Reader:
         alignments: list[XAlignment] = []
         profiles: list[XProfile] = []
         application = ""
+        crs: XCoordinateSystem | None = None
         for local, el in top:
             if local in ("Units", "CgPoints"):
                 continue
             if local == "Application":
                 application = application or el.get("name", "")
+            elif local == "CoordinateSystem" and crs is None:  # the schema allows one
+                # compared with the job's crs by the job-file reader, or listed there as not used
+                crs = XCoordinateSystem(shown(el.get("epsgCode", "").strip()), shown(el.get("name", "").strip()),
+                                        el.get("ogcWktCode", "").strip())  # the WKT goes to pyproj, never shown
             elif local == "Alignments":
                 for a_local, a_el in self.children(el, "Alignments"):
                     if a_local == "Alignment":
@@ -516,6 +531,8 @@ class _Reader:
             not_used=_summarise(self.unused),
             sha256=digest,
             application=application,
+            unused_kinds=_count_kinds(self.unused),
+            coordinate_system=crs,
         )
 
     def units(self, el: _ET.Element) -> XUnits:
@@ -601,6 +618,7 @@ class _Reader:
         unsupported: list[str] = []
         equations: list[XEquation] = []
         n_geom = 0
+        supers: list[XSuperelevation] = []
         for local, child in self.children(el, what):
             if local == "CoordGeom":
                 n_geom += 1
@@ -612,11 +630,50 @@ class _Reader:
                 equations.append(self.equation(child, what, len(equations) + 1))
             elif local == "Profile":
                 self.profile(child, name, what, profiles)
+            elif local == "Superelevation":
+                supers.append(self.superelevation(child, what, len(supers) + 1))
             else:
                 self.note(what, local, child)
         if n_geom == 0:
             unsupported.append("no <CoordGeom>")
-        return XAlignment(name, sta_start, elements, tuple(equations), length, tuple(unsupported))
+        return XAlignment(name, sta_start, elements, tuple(equations), length, tuple(unsupported), tuple(supers))
+
+    def superelevation(self, el: _ET.Element, what: str, position: int) -> XSuperelevation:
+        """A ``<Superelevation>``: its station elements and ``FullSuperelev`` (LandXML 1.2 schema).
+
+        Each station element is nillable and may repeat (the schema's choice is unbounded): a nil or
+        empty one is absent; two that differ contradict each other and are refused naming the element.
+        Stations meet the station bound, the rate the cross-slope bound (percent).
+        """
+        where = f"{what}, Superelevation {position}"
+        attrs = {}
+        for attr in ("staStart", "staEnd"):
+            v = self.opt_double(el, attr, where)
+            attrs[attr] = None if v is None else self.station(v, f"{where} {attr}")
+        got: dict[str, float] = {}
+        adverse = False
+        for local, child in self.children(el, where):
+            if local == "AdverseSE":
+                adverse = (child.text or "").strip() == "adverse"
+                continue
+            if local not in SE_STATION_ELEMENTS and local != "FullSuperelev":
+                self.note(where, local, child)
+                continue
+            text = (child.text or "").strip()
+            if not text or child.get(_XSI_NIL, "").strip() in ("true", "1"):
+                continue
+            v = self.double(text, f"{where} {local}")
+            if local == "FullSuperelev":
+                if not (math.isfinite(v) and abs(v) <= MAX_CROSS_SLOPE):
+                    raise self.err(f"{where} FullSuperelev = {text!r}: out of range; a superelevation rate lies "
+                                   f"within -{MAX_CROSS_SLOPE:g} to {MAX_CROSS_SLOPE:g} percent")
+            else:
+                self.station(v, f"{where} {local}")
+            if local in got and got[local] != v:
+                raise self.err(f"{where}: two <{local}> that differ ({fmt(got[local])} and {fmt(v)})")
+            got[local] = v
+        return XSuperelevation(position, attrs["staStart"], attrs["staEnd"],
+                               tuple(got.get(k) for k in SE_STATION_ELEMENTS), got.get("FullSuperelev"), adverse)
 
     def coordgeom(self, el: _ET.Element, what: str, unsupported: list[str]) -> tuple[XElement, ...]:
         out: list[XElement] = []
@@ -771,12 +828,20 @@ class _Reader:
                                "along the arc")
 
 
-def _summarise(entries: list[tuple[str, str]]) -> tuple[str, ...]:
+def _summarise(entries: list[tuple[str, str, str]]) -> tuple[str, ...]:
     """'context: label' strings, repeats folded into 'x N', in first-seen order."""
     counts: dict[tuple[str, str], int] = {}
-    for key in entries:
-        counts[key] = counts.get(key, 0) + 1
+    for ctx, label, _kind in entries:
+        counts[(ctx, label)] = counts.get((ctx, label), 0) + 1
     return tuple(shown(f"{ctx}: {lab}") + (f" x{n}" if n > 1 else "") for (ctx, lab), n in counts.items())
+
+
+def _count_kinds(entries: list[tuple[str, str, str]]) -> tuple[tuple[str, int], ...]:
+    """How many elements of each name are not used, in first-seen order (``(("Feature", 15), ("Cant", 1))``)."""
+    counts: dict[str, int] = {}
+    for _ctx, _label, kind in entries:
+        counts[kind] = counts.get(kind, 0) + 1
+    return tuple(counts.items())
 
 
 # ---------------------------------------------------------------------------

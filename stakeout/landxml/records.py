@@ -235,6 +235,64 @@ class XAlignment:
     equations: tuple[XEquation, ...] = ()
     length_attr: float | None = None
     unsupported: tuple[str, ...] = ()
+    superelevations: tuple[XSuperelevation, ...] = ()
+
+
+#: The station elements of a ``<Superelevation>`` in the order of a transition (LandXML 1.2 schema).
+SE_STATION_ELEMENTS = ("BeginRunoutSta", "BeginRunoffSta", "FullSuperSta", "RunoffSta", "StartofRunoutSta",
+                       "EndofRunoutSta")
+
+
+@dataclass(frozen=True)
+class XSuperelevation:
+    """A ``<Superelevation>`` of an alignment (LandXML 1.2: its stations are child elements, named in
+    :data:`SE_STATION_ELEMENTS`, and the rate ``FullSuperelev``, percent; ``staStart``/``staEnd``
+    attributes).
+
+    Attributes
+    ----------
+    index : int
+        Position among the alignment's ``<Superelevation>`` elements, from 1.
+    sta_start, sta_end : float or None
+        ``staStart`` and ``staEnd`` attributes (internal stations).
+    stations : tuple of (float or None)
+        The six transition stations in the order of :data:`SE_STATION_ELEMENTS` (internal stations,
+        file units); None where absent or nil.
+    full_superelev : float or None
+        ``FullSuperelev`` in percent.
+    adverse : bool
+        ``AdverseSE`` is ``adverse``.
+    """
+
+    index: int
+    sta_start: float | None
+    sta_end: float | None
+    stations: tuple[float | None, ...]
+    full_superelev: float | None
+    adverse: bool = False
+
+    @property
+    def first(self) -> float | None:
+        """The first station the element gives (for messages: where it starts)."""
+        given = [v for v in (*self.stations, self.sta_start) if v is not None]
+        return given[0] if given else None
+
+    @property
+    def last(self) -> float | None:
+        """The last station the element gives."""
+        given = [v for v in (*reversed(self.stations), self.sta_end) if v is not None]
+        return given[0] if given else None
+
+
+@dataclass(frozen=True)
+class XCoordinateSystem:
+    """The file's ``<CoordinateSystem>``: ``epsgCode`` and ``name`` (control characters escaped for
+    showing) and ``ogcWktCode`` as given; "" when absent.
+    """
+
+    epsg_code: str = ""
+    name: str = ""
+    ogc_wkt: str = ""
 
 
 @dataclass(frozen=True)
@@ -359,6 +417,11 @@ class XDesign:
         Hex SHA-256 of the file's bytes.
     application : str
         ``<Application name>`` of the software that wrote the file, if given.
+    unused_kinds : tuple of (str, int)
+        The same content counted per element name, in first-seen order
+        (``("Feature", 15), ("Cant", 1)``): what a job reports once per file.
+    coordinate_system : XCoordinateSystem or None
+        The file's ``<CoordinateSystem>``, if it has one.
     """
 
     units: XUnits
@@ -368,6 +431,8 @@ class XDesign:
     not_used: tuple[str, ...]
     sha256: str
     application: str = ""
+    unused_kinds: tuple[tuple[str, int], ...] = ()
+    coordinate_system: XCoordinateSystem | None = None
 
 
 @dataclass(frozen=True)

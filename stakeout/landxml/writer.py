@@ -10,12 +10,16 @@ from 0 degrees = north"): decimal degrees, ``(360 - azimuth) mod 360`` of
 a survey azimuth.  No reader should rely on them (this one does not).  The
 schema requires the root's ``date`` and ``time``: they come from the
 ``created`` argument (the epoch, 1970-01-01 00:00:00, when not given),
-never from the clock, so the same input gives the same bytes.  Given
-numbers (coordinates, stations, elevations, spiral radii, curve lengths of
-the profile) are written in Python's shortest round-trip form, so reading
-the file back gives the same floats; attributes derived from the points
-(lengths, stations of elements, arc radius, chord, delta, theta,
-directions) are rounded to 1e-9 units and 1e-10 degrees.
+never from the clock, so the same input gives the same bytes.  Numbers
+are written by the one rounding rule of every output (:mod:`stakeout.numbers`):
+attributes derived from the points (lengths, stations of elements, arc
+radius, chord, a computed ``staBack``) with 4 decimals as the CSVs, derived angles (delta, theta, directions)
+with 8 as the CSVs' decimal degrees; the CgPoints with 6.  The points of
+the geometry (``Start``, ``End``, ``Center``, ``PI``) and the numbers the
+caller gives (the start station, equation stations, spiral radii, PVI
+stations, elevations and curve lengths) are written in Python's shortest round-trip
+form, so reading the file back gives the same geometry exactly (the reader
+takes geometry from the points; the rounded attributes are cross-checks).
 
 Angle conventions in the dataclasses: azimuths in degrees clockwise from
 grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
@@ -34,7 +38,7 @@ from dataclasses import replace
 import numpy as np
 
 from ..errors import GeometryError, JobFileError
-from ..numbers import fixed_strings
+from ..numbers import fixed_string, fixed_strings
 from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
@@ -78,22 +82,34 @@ def _text(v: str, what: str) -> str:
     return v
 
 
-_LEN_DEC = 9  # decimals of derived lengths (file units): they are cross-checks, not geometry
-_ANG_DEC = 10  # decimals of derived angles (degrees)
+# The rounding of every other output (stakeout.numbers: what f"{v:.4f}" prints): derived lengths and
+# stations with the CSVs' 4 decimals, derived angles with their 8.  The points of the geometry (Start,
+# End, Center, PI) stay exact (shortest round trip): the file is geometry read back, and rounding them
+# would move a read-back stake by a unit of the last printed digit.
+_LEN_DEC = 4  # decimals of derived lengths and stations (file units): cross-checks, not geometry
+_ANG_DEC = 8  # decimals of derived angles (degrees)
+
+
+def _fixed(v: float, decimals: int) -> str:
+    v = float(v)
+    if not math.isfinite(v):
+        return _num(v)
+    return fixed_string(v, decimals)
 
 
 def _len(v: float) -> str:
-    return _num(v, _LEN_DEC)
+    return _fixed(v, _LEN_DEC)
 
 
 def _ang(v: float) -> str:
-    return _num(v, _ANG_DEC)
+    return _fixed(v, _ANG_DEC)
 
 
 def _dir(az: float) -> str:
     """A survey azimuth as a LandXML direction: degrees counter-clockwise from north."""
-    d = round((360.0 - az) % 360.0, _ANG_DEC)
-    return _num(0.0 if d >= 360.0 else d)
+    d = (360.0 - az) % 360.0
+    text = _ang(d)
+    return _ang(0.0) if text == _ang(360.0) else text
 
 
 def write_landxml(
@@ -233,7 +249,7 @@ def write_landxml(
             "StaEquation",
             {
                 "staAhead": _num(eq.sta_ahead),
-                "staBack": _num(back),
+                "staBack": _num(back) if eq.sta_back is not None else _len(back),  # computed: rounded
                 "staInternal": _num(eq.sta_internal),
                 "staIncrement": "increasing" if eq.increment == 1 else "decreasing",
             },

@@ -5,12 +5,22 @@ station and the station equations), the profile, and every stake as a
 ``CgPoint`` (name = point number, code, northing easting elevation).  The
 XML itself is written by :mod:`stakeout.landxml`, the project's only XML
 module; this writer only turns the design into its plain records.
+
+The root's ``date`` and ``time`` (the schema requires both) are those of
+``SOURCE_DATE_EPOCH`` (seconds since 1970-01-01 UTC, the reproducible-builds
+convention) when it is set, else the fixed 1970-01-01 00:00:00 (the same as
+``SOURCE_DATE_EPOCH=0``): never the clock, so the same input gives the same
+bytes.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
+import os
 from collections.abc import Callable
+
+import numpy as np
 
 from .. import __version__
 from ..alignment import Arc, Element, Line, Spiral
@@ -18,6 +28,7 @@ from ..alignment.curves import intersect_tangents
 from ..angles import angle_difference, sincosd
 from ..design import Design
 from ..errors import OutputError, StakeoutError
+from ..numbers import round_to
 from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
 
 __all__ = ["alignment_xml", "EXPORT", "MAX_ARC_TURN", "MAX_SPIRAL_TURN"]
@@ -108,7 +119,8 @@ def _profile(d: Design) -> list[XPVI] | None:
     out = []
     for spec, row in zip(d.profile.pvis, d.profile.rows()):
         if spec.radius is not None and row.grade_in is not None and row.grade_out is not None:
-            arc = spec.radius * abs(math.atan(row.grade_out) - math.atan(row.grade_in))
+            # derived (a cross-check on reading): rounded as the CSVs round lengths
+            arc = float(round_to(spec.radius * abs(math.atan(row.grade_out) - math.atan(row.grade_in)), 4))
             out.append(XPVI(spec.station, spec.elevation, "circ", arc, None, None, spec.radius))
         elif spec.curve_length_back or spec.curve_length_ahead:
             kind = "para" if spec.curve_length_back == spec.curve_length_ahead else "unsym"
@@ -119,16 +131,57 @@ def _profile(d: Design) -> list[XPVI] | None:
     return out
 
 
+#: Largest SOURCE_DATE_EPOCH taken (9999-12-31 UTC: xs:date has four-digit years here).
+_MAX_EPOCH = 253402300799
+
+
+def source_date() -> _dt.datetime | None:
+    """The date of ``SOURCE_DATE_EPOCH`` (UTC), None when unset or empty.
+
+    Raises
+    ------
+    OutputError
+        A value that is not a whole number of seconds from 0 to 253402300799.
+    """
+    text = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if not text:
+        return None
+    if not text.isdigit() or int(text) > _MAX_EPOCH:
+        raise OutputError(f"SOURCE_DATE_EPOCH = {text[:40]!r}: expected whole seconds since 1970-01-01 UTC "
+                          f"(0 to {_MAX_EPOCH}); it dates alignment.xml")
+    return _dt.datetime.fromtimestamp(int(text), _dt.timezone.utc).replace(tzinfo=None)
+
+
+#: The ``code`` of a control point's CgPoint (outputs contract, "Control points in the outputs").
+CONTROL_CODE = "control"
+
+
+def _points(d: Design) -> XPoints:
+    """Every stake, then every control point the job lists or uses (code ``control``), as CgPoints."""
+    sp = d.stakes
+    ctrl = d.job.control_points()
+    if not ctrl:
+        return XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
+    nan = np.nan
+    stake_z = sp.elevation if sp.elevation is not None else np.full(len(sp), nan)
+    ctrl_z = np.array([nan if c.elevation is None else c.elevation for c in ctrl], dtype=float)
+    elevation = np.concatenate([stake_z, ctrl_z])
+    return XPoints([*sp.point, *(c.id for c in ctrl)],
+                   np.concatenate([sp.northing, [c.northing for c in ctrl]]),
+                   np.concatenate([sp.easting, [c.easting for c in ctrl]]),
+                   None if np.isnan(elevation).all() else elevation,
+                   [*sp.code, *(CONTROL_CODE for _ in ctrl)])
+
+
 def alignment_xml(d: Design) -> bytes:
     """Render ``alignment.xml`` (LandXML 1.2, the same bytes for the same design)."""
-    sp = d.stakes
     eqs = [XEquation(eq.internal, eq.ahead, eq.back) for eq in d.stationing.equations]
-    points = XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
+    points = _points(d)
     name = d.job.info.name or d.alignment.name
     try:
         return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs,
                              _profile(d), points, "stakeout", f"staked design of {name}"[:200],
                              profile_name=d.profile.name or None if d.profile is not None else None,
-                             application_version=__version__)
+                             application_version=__version__, created=source_date())
     except StakeoutError as exc:  # name the output and the part of the job it comes from
         raise type(exc)(f"alignment.xml (the LandXML export of [alignment] and [profile]): {exc}") from None
