@@ -34,3 +34,18 @@ def test_superelevation_warning_was_only_a_console_line(sample):
     doc = lhtml.fromstring(report_html(d, "<svg/>"))
     header = " ".join(doc.xpath("//header")[0].text_content().split())
     assert WARNING in header
+
+
+def test_unapplied_design_file_superelevation_heads_the_setout_sheet(tmp_path):
+    # the design file's <Superelevation> that the job does not apply (tests/data/landxml, the trial file)
+    from .test_landxml_superelevation import _job
+
+    offsets = 'offsets = [{ offset = 3.75, code = "EPR", cross_slope = -2.0 }]'
+    job = _job(tmp_path, superelevation=False, offsets=offsets)
+    job.write_text(job.read_text(encoding="utf-8")
+                   + '[setup]\noccupied = { id = "CP1", northing = 5500000.0, easting = 500100.0 }\n'
+                     'backsight = { id = "CP2", northing = 5500300.0, easting = 500100.0 }\n', encoding="utf-8")
+    d = build_design(load_job(job))
+    want = "offset elevations ignore the design file's superelevation from 1+170.000 to 1+454.720"
+    first_page = " ".join(setout_sheet(d).split("\f")[0].split())
+    assert "WARNING " + want in first_page
