@@ -105,7 +105,9 @@ def _picture(d: "Design", done: Rendered) -> bytes:
 
 
 def _report(d: "Design", done: Rendered) -> bytes:
-    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"))
+    profile = (_once(d, done, "profile.svg", "profile_picture:profile_svg").decode("utf-8")
+               if d.profile is not None else None)
+    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile)
     assert isinstance(out, bytes)
     return out
 
