@@ -83,10 +83,6 @@ def _has_spirals(d: "Design") -> bool:
     return d.presentation.has_spirals
 
 
-def _has_control(d: "Design") -> bool:
-    return bool(d.job.control_points())
-
-
 def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
     """A file another output is drawn from, rendered once a build."""
     if filename not in done:
@@ -142,7 +138,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
            wide=True),
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
-           "control:control_csv", applies=_has_control, absent="the job has no control points"),
+           "control:control_csv"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
            "exchange:alignment_xml"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
