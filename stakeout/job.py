@@ -148,6 +148,7 @@ class Staking:
     point_prefix: str
     elevation: float | None
     profile_points: bool | None = None  # None: the default (true with a profile)
+    exit_spiral_from: str = "CS"  # the end an exit spiral's deflections are run from: "CS" or "ST"
 
 
 @dataclass(frozen=True)

@@ -83,10 +83,6 @@ def _has_spirals(d: "Design") -> bool:
     return d.presentation.has_spirals
 
 
-def _has_control(d: "Design") -> bool:
-    return bool(d.job.control_points())
-
-
 def _has_slope_stakes(d: "Design") -> bool:
     return d.earthwork is not None and d.earthwork.slopes is not None
 
@@ -109,7 +105,9 @@ def _picture(d: "Design", done: Rendered) -> bytes:
 
 
 def _report(d: "Design", done: Rendered) -> bytes:
-    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"))
+    profile = (_once(d, done, "profile.svg", "profile_picture:profile_svg").decode("utf-8")
+               if d.profile is not None else None)
+    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile)
     assert isinstance(out, bytes)
     return out
 
@@ -150,7 +148,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
            wide=True),
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
-           "control:control_csv", applies=_has_control, absent="the job has no control points"),
+           "control:control_csv"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
            "exchange:alignment_xml"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf),

@@ -55,6 +55,7 @@ from .profile import PVIRow
 if TYPE_CHECKING:  # pragma: no cover
     from .alignment.elements import Arc, Spiral
     from .design import Design
+    from .landxml import XElement
 
 __all__ = ["Presentation", "CurveView", "SpiralView", "DeflectionTable", "OffsetDeflections", "SetoutColumn",
            "SETOUT_HEADERS", "DEFLECTION_HEADERS", "AT_INSTRUMENT_NOTE", "FLAG", "PerKind", "ELEMENT_CLASSES", "Element",
@@ -193,14 +194,18 @@ def _line_rows(elements: list[Element], stations: list[F]) -> F:
     return np.column_stack([s, along, np.zeros_like(s), along, inc])
 
 
-def _clothoid_rows(elements: list[Element], stations: list[F]) -> F:
+def _clothoid_rows(elements: list[Element], stations: list[F], from_end: bool = False) -> F:
     """Spirals: from the start along the start tangent, the point (x, y) there gives
     deflection = atan(y / x) and chord = hypot(x, y); all spirals in one call.
+    ``from_end`` (an exit spiral run from the ST; ``stations`` descending): the same from the
+    end back along the end tangent, the clothoid's curvature running from the end's to the start's.
     """
     s, seg, opens = _segments(elements, stations)
-    along = np.maximum(s - _per_element(elements, seg, "start"), 0.0)
-    x, y, _ = clothoid_xy(along, _per_element(elements, seg, "curvature_start"),
-                          _per_element(elements, seg, "curvature_end"), _per_element(elements, seg, "length"))
+    ends = ("curvature_end", "curvature_start") if from_end else ("curvature_start", "curvature_end")
+    along = np.maximum(_per_element(elements, seg, "end") - s if from_end else s - _per_element(elements, seg, "start"),
+                       0.0)
+    x, y, _ = clothoid_xy(along, _per_element(elements, seg, ends[0]), _per_element(elements, seg, ends[1]),
+                          _per_element(elements, seg, "length"))
     y = np.abs(y)
     defl = np.degrees(np.arctan2(y, x))
     chord = np.hypot(x, y)
@@ -263,11 +268,13 @@ def deflection_rows(alignment: Alignment, stations: F) -> list[tuple[int, int, l
     return [(number, i, [tuple(r) for r in part.tolist()]) for (number, i, _), part in zip(parts, rows)]
 
 
-def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F], o: float) -> list[F]:
+def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F], o: float,
+                 from_end: bool = False) -> list[F]:
     """Deflections on an offset line along each of ``elements`` at its ``stations``, from the
     offset point at the element's start along the offset line's tangent there: the chord's
     direction minus that tangent, from the points.  Every element's stations are evaluated in
-    one call and the rows split again by element.
+    one call and the rows split again by element.  ``from_end``: from the offset point at the
+    element's end, back along the offset line's tangent there (``stations`` descending).
     """
     if not elements:
         return []
@@ -277,7 +284,8 @@ def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F
     dn, de = n - n[first], e - e[first]
     chord = np.hypot(dn, de)
     chord_az = np.degrees(np.arctan2(de, dn))
-    defl = np.abs((chord_az - az[first] + 180.0) % 360.0 - 180.0)
+    back = 180.0 if from_end else 0.0  # from the end: the tangent there looking back
+    defl = np.abs((chord_az - az[first] - back + 180.0) % 360.0 - 180.0)
     defl[chord == 0.0] = 0.0
     inc = np.concatenate([[0.0], np.hypot(np.diff(n), np.diff(e))])
     inc[opens] = 0.0
@@ -286,7 +294,10 @@ def _offset_rows(alignment: Alignment, elements: list[Element], stations: list[F
     k0 = _per_element(elements, seg, "curvature_start")
     k1 = _per_element(elements, seg, "curvature_end")
     s = st - _per_element(elements, seg, "start")
-    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * _per_element(elements, seg, "length")))
+    length = _per_element(elements, seg, "length")
+    along = s - o * (k0 * s + (k1 - k0) * s * s / (2.0 * length))
+    if from_end:  # the offset line's length from the end: its whole length less the length to here
+        along = length - o * (k0 * length + (k1 - k0) * length / 2.0) - along
     rows = np.column_stack([st, along, defl, chord, inc])
     return np.split(rows, np.flatnonzero(opens)[1:])
 
@@ -313,6 +324,14 @@ class DeflectionTable:
     start_feature: str  # the key-point features at the element's start ("PC", "TS", ...)
     rows: F
     offsets: tuple[OffsetDeflections, ...]
+    from_end: bool = False  # an exit spiral run from its end (the ST): rows from the end back, descending
+
+    @property
+    def deflect_turn(self) -> int:
+        """Which way the deflections turn seen from where they are run (+1 right, -1 left):
+        the element's turn, reversed when run from its end looking back.
+        """
+        return -self.element.turn if self.from_end else self.element.turn
 
     @property
     def row_count(self) -> int:
@@ -379,6 +398,13 @@ class Presentation:
                 [f"{pre}{r}" if h else "" for r, h in zip(ref.tolist(), has.tolist())])
 
     @cached_property
+    def landxml_elements(self) -> tuple["XElement", ...]:
+        """The alignment as LandXML records (long arcs and spirals in pieces), for ``alignment.xml``."""
+        from .exported import landxml_elements
+
+        return tuple(landxml_elements(self.d.alignment.elements))
+
+    @cached_property
     def curves(self) -> tuple[CurveView, ...]:
         """The curve data of every curve."""
         return curve_views(self.d.alignment)
@@ -421,9 +447,27 @@ class Presentation:
         parts = _element_stations(a, self.d.stakes.stations)
         elements = [a.elements[i] for _, i, _ in parts]
         rows = _rows_by_kind(elements, [s for _, _, s in parts])
-        offsets = [(o, code, _offset_rows(a, elements, [r[:, 0] for r in rows], o)) for o, code in self.offset_lines]
-        return tuple(DeflectionTable(number, i, el, self.start_features.get(round(el.start, 6), ""), rows[k],
-                                     tuple(OffsetDeflections(o, code, off[k]) for o, code, off in offsets))
+        # exit spirals (curving at the start, straight at the end) run from the ST when the job says so
+        ends = [k for k, el in enumerate(elements) if self.d.job.staking.exit_spiral_from == "ST"
+                and CURVE_PART[el] == "spirals" and el.curvature_start != 0.0 and el.curvature_end == 0.0]
+        if ends:
+            rev = _clothoid_rows([elements[k] for k in ends], [parts[k][2][::-1] for k in ends], from_end=True)
+            sizes = np.array([parts[k][2].size for k in ends])
+            for k, part in zip(ends, np.split(rev, np.cumsum(sizes)[:-1])):
+                rows[k] = part
+        forward = sorted(set(range(len(elements))) - set(ends))
+        offsets = []
+        for o, code in self.offset_lines:
+            off: list[F] = [np.zeros((0, 5))] * len(elements)
+            for ks, from_end in ((forward, False), (ends, True)):
+                for k, r in zip(ks, _offset_rows(a, [elements[k] for k in ks], [rows[k][:, 0] for k in ks], o,
+                                                 from_end)):
+                    off[k] = r
+            offsets.append((o, code, off))
+        feature = self.start_features
+        return tuple(DeflectionTable(number, i, el, feature.get(round(el.end if k in ends else el.start, 6), ""),
+                                     rows[k], tuple(OffsetDeflections(o, code, off[k]) for o, code, off in offsets),
+                                     from_end=k in ends)
                      for k, ((number, i, _), el) in enumerate(zip(parts, elements)))
 
     @cached_property

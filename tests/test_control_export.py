@@ -74,9 +74,10 @@ backsight = "C2"
     assert (got[2]["northing"], got[2]["easting"]) == ("1030.0000", "2010.0000")
 
 
-def test_no_control_csv_without_control_or_setup(tmp_path):
+def test_control_csv_is_a_header_only_without_control_or_setup(tmp_path):
+    # written on every build (the contract-shape check expects it), empty when the job uses no control
     out = build_job(SAMPLES / "pi_list_local_ft.toml", tmp_path / "out")
-    assert not (out / "control.csv").exists()
+    assert (out / "control.csv").read_text(encoding="utf-8") == "point,northing,easting,elevation,description\n"
     assert "[control]" not in (SAMPLES / "pi_list_local_ft.toml").read_text(encoding="utf-8")
 
 

@@ -831,7 +831,7 @@ def test_export_refuses_an_element_kind_it_does_not_know(monkeypatch):
 
     from stakeout.alignment import Line
     from stakeout.errors import OutputError
-    from stakeout.writers import exchange
+    from stakeout import exported
 
     @dataclass(frozen=True)
     class Bloss(Line):
@@ -842,4 +842,4 @@ def test_export_refuses_an_element_kind_it_does_not_know(monkeypatch):
             elements = (Bloss.follow(0.0, 0.0, 0.0, 0.0, 10.0),)
 
     with pytest.raises(OutputError, match="alignment.xml: element 1 .*'Bloss'"):
-        exchange._elements(FakeDesign())  # type: ignore[arg-type]
+        exported.landxml_elements(FakeDesign.alignment.elements)

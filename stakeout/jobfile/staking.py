@@ -14,7 +14,7 @@ __all__ = ["read_staking"]
 def read_staking(top: Table, info: JobInfo) -> Staking:
     """``[staking]``: interval, offset lines, extra stations, numbering, elevation."""
     t = top.table("staking", ("interval", "offsets", "extra_stations", "first_point", "point_prefix",
-                              "elevation", "profile_points"), required=True)
+                              "elevation", "profile_points", "exit_spiral_from"), required=True)
     assert t is not None
     interval = float(t.number("interval", required=True, positive=True) or 0.0)
     offsets: list[OffsetLine] = []
@@ -57,6 +57,7 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
         point_prefix=prefix,
         elevation=t.number("elevation", bound=MAX_HEIGHT),
         profile_points=_flag(t, "profile_points"),
+        exit_spiral_from=t.text("exit_spiral_from", choices=("CS", "ST")) or "CS",
     )
 
 

@@ -18,54 +18,14 @@ looks a record up there and fails loudly on a class it does not know.
 
 from __future__ import annotations
 
+from . import records
 from .describe import describe
 from .reader import check_units, parse_landxml, pick_alignment, pick_profile, read_landxml
-from .records import (
-    KINDS,
-    LANDXML_NS,
-    MAX_FILE_BYTES,
-    XPVI,
-    XAlignment,
-    XCurve,
-    XDesign,
-    XElement,
-    XEquation,
-    XKind,
-    XLine,
-    XMeasured,
-    XPoint,
-    XPoints,
-    XProfile,
-    XCoordinateSystem,
-    XSpiral,
-    XSuperelevation,
-    XUnits,
-    kind_of,
-)
+from .records import *  # noqa: F403  (the records' own __all__ is the package's)
 from .validation import station_at, validate_geometry
 from .writer import write_landxml
 
 __all__ = [
-    "LANDXML_NS",
-    "MAX_FILE_BYTES",
-    "XUnits",
-    "XLine",
-    "XCurve",
-    "XSpiral",
-    "XSuperelevation",
-    "XCoordinateSystem",
-    "XElement",
-    "XEquation",
-    "XAlignment",
-    "XPVI",
-    "XProfile",
-    "XPoint",
-    "XPoints",
-    "XDesign",
-    "XMeasured",
-    "XKind",
-    "KINDS",
-    "kind_of",
     "read_landxml",
     "parse_landxml",
     "pick_alignment",
@@ -76,3 +36,4 @@ __all__ = [
     "describe",
     "write_landxml",
 ]
+__all__ += records.__all__

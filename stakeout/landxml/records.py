@@ -24,6 +24,8 @@ __all__ = [
     "XLine",
     "XCurve",
     "XSpiral",
+    "XSuperelevation",
+    "XCoordinateSystem",
     "XElement",
     "XEquation",
     "XAlignment",
@@ -36,11 +38,9 @@ __all__ = [
     "XKind",
     "KINDS",
     "kind_of",
-    "fmt",
-    "shown",
-    "UNIT_WORDS",
-    "ANGLE_POINT_CODE",
 ]
+# __all__ is what stakeout.landxml re-exports; the package's own helpers (fmt, shown,
+# UNIT_WORDS, ANGLE_POINT_CODE) are imported by name by its modules.
 
 LANDXML_NS = "http://www.landxml.org/schema/LandXML-1.2"
 MAX_FILE_BYTES = 256 * 1024 * 1024  # bytes: larger files are refused unread (the export of ~3 million stakes)

@@ -4,12 +4,15 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 
-__all__ = ["DECIMALS", "POINTS_COLUMNS", "FORMULA_LEADS", "csv_field", "csv_guard", "csv_text_field", "csv_text"]
+__all__ = ["DECIMALS", "GRADE_DECIMALS", "POINTS_COLUMNS", "FORMULA_LEADS", "csv_field", "csv_guard", "csv_text_field",
+           "csv_text"]
 
 #: The point file's layout: points.csv, and restake.csv and control.csv laid out the same way.
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
 
 DECIMALS = 4  # coordinates, stations, offsets and distances in CSV
+#: Decimals of grades in percent (profile.csv, and report.html's profile table).
+GRADE_DECIMALS = 6
 
 
 def csv_field(value: str) -> str:

@@ -13,7 +13,8 @@ SO-CL          1       centreline: true LINE and ARC entities
 SO-OFFSET      8       offset lines, true LINE and ARC entities
 SO-STAKE       3       one POINT per staked point
 SO-STAKE-NO    3       the point number beside each stake
-SO-STATION     7       station ticks and labels (full stations long, others short)
+SO-STATION     7       station ticks and labels (labelled stations long, at the plan picture's
+                       spacing for the job's length; other staked stations short)
 SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
 SO-CONTROL     5       every setup's occupied point (triangle) and backsight point (circle),
                        labelled (``CP104 (setup 2)`` when setups are numbered); other control
@@ -42,6 +43,7 @@ from ..design import Design
 from ..presentation import Element, PerKind
 from . import rows
 from .sections import widened_traces
+from .stationmarks import labelled_stations, sheet_scale, station_spacing
 from .text import CAUTION_LINES, curve_texts
 
 __all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
@@ -65,7 +67,7 @@ INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 TEXT_STYLE = "SO-TEXT"
 
 #: Above this many stakes the plan shows them as plain POINTs written in bulk, without
-#: a number beside each and with ticks at full stations only: a drawing of a million
+#: a number beside each and with ticks at the labelled stations only: a drawing of a million
 #: labelled stakes is neither quick to make nor legible (the title block says so).
 DETAIL_MAX_STAKES = 20_000
 
@@ -225,7 +227,6 @@ def _build(d: Design) -> Any:
     job, a, sp = d.job, d.alignment, d.stakes
     unit = job.info.unit
     stn = d.stationing
-    sl = stn.station_length
     doc = ezdxf.new("R2013", setup=False)
     doc.header["$INSUNITS"] = INSUNITS[unit.key]
     doc.header["$MEASUREMENT"] = 1 if unit.key == "m" else 0
@@ -252,8 +253,9 @@ def _build(d: Design) -> Any:
         msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
         _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
 
-    # station ticks: long at full stations, short at every staked station
-    full = np.arange(math.ceil(a.start_station / sl - 1e-9), math.floor(a.end_station / sl + 1e-9) + 1) * sl
+    # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
+    # plan.svg would draw this extent at), short at every staked station
+    full = labelled_stations(d, station_spacing(a.length, sheet_scale(x1 - x0, y1 - y0)))
     ticks = np.unique(np.concatenate([full, sp.stations])) if detail else full
     (tn, te, taz) = a.evaluate(ticks, 0.0)
     is_full = np.isin(ticks, full)
@@ -290,7 +292,7 @@ def _build(d: Design) -> Any:
              f"alignment {a.name}   units {unit.label}",
              f"CRS {d.crs_label or 'none: local grid'}", ""]
     if not detail:
-        lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at full stations "
+        lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at labelled stations "
                      f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
         lines.append("")
     lines.append("CURVE DATA")

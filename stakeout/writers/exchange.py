@@ -18,99 +18,16 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import os
-from collections.abc import Callable
 
 import numpy as np
 
 from .. import __version__
-from ..alignment import Arc, Element, Line, Spiral
-from ..alignment.curves import intersect_tangents
-from ..angles import angle_difference, sincosd
 from ..design import Design
 from ..errors import OutputError, StakeoutError
+from ..landxml import XPVI, XEquation, XPoints, write_landxml
 from ..numbers import round_to
-from ..landxml import XPVI, XCurve, XElement, XEquation, XLine, XPoints, XSpiral, write_landxml
 
-__all__ = ["alignment_xml", "EXPORT", "MAX_ARC_TURN", "MAX_SPIRAL_TURN"]
-
-
-#: Largest turn of one exported element, degrees.  LandXML describes an arc by its Start, Center and End,
-#: which say nothing of the sweep when Start and End (nearly) meet; a spiral by the PI of its end tangents,
-#: which runs off to infinity as its turn nears 180 degrees.  A longer element is written as equal pieces
-#: of at most this turn (an arc of 359.9999 degrees as three arcs of one circle): exactly the same curve.
-MAX_ARC_TURN = 150.0
-MAX_SPIRAL_TURN = 90.0
-_ANGLE_EPS = 1e-9  # degrees: a smaller change of direction at a join is none (as the alignment counts it)
-
-
-def _spiral_pi(el: Element) -> tuple[float, float]:
-    """Where the spiral's start and end tangents meet."""
-    t = intersect_tangents(el.start_northing, el.start_easting, el.start_azimuth,
-                           el.end_northing, el.end_easting, el.end_azimuth).back
-    s0, c0 = (float(v) for v in sincosd(el.start_azimuth))
-    return el.start_northing + t * c0, el.start_easting + t * s0
-
-
-def _pieces(el: Element, most: float) -> list[Element]:
-    """``el`` as equal pieces turning at most ``most`` degrees each (itself when it turns less)."""
-    count = math.ceil(el.central_angle / most - 1e-9)
-    if count <= 1:
-        return [el]
-    k0, k1 = el.curvature_start, el.curvature_end
-    step = el.length / count
-    out: list[Element] = []
-    n, e, az = el.start_northing, el.start_easting, el.start_azimuth
-    for k in range(count):  # each piece starts where the one before ends
-        start = (el.start + k * step, n, e, az, step)
-        if isinstance(el, Arc):
-            piece: Element = Arc.follow(*start, el.radius, el.turn)
-        else:
-            piece = Spiral.follow(*start, k0 + (k1 - k0) * k / count, k0 + (k1 - k0) * (k + 1) / count)
-        out.append(piece)
-        n, e, az = piece.end_northing, piece.end_easting, piece.end_azimuth
-    return out
-
-
-def _line(name: str, el: Element, before: Element | None) -> list[XElement]:
-    deflects = before is not None and abs(float(angle_difference(before.end_azimuth, el.start_azimuth))) > _ANGLE_EPS
-    return [XLine(0, f"L{name}", el.start_northing, el.start_easting, el.end_northing, el.end_easting,
-                  angle_point=deflects)]
-
-
-def _arc(name: str, el: Element, before: Element | None) -> list[XElement]:
-    assert isinstance(el, Arc)
-    parts = _pieces(el, MAX_ARC_TURN)
-    return [XCurve(0, f"C{name}" if len(parts) == 1 else f"C{name}.{k}", p.start_northing, p.start_easting,
-                   el.center_northing, el.center_easting, p.end_northing, p.end_easting, el.turn)
-            for k, p in enumerate(parts, start=1)]
-
-
-def _spiral(name: str, el: Element, before: Element | None) -> list[XElement]:
-    out: list[XElement] = []
-    parts = _pieces(el, MAX_SPIRAL_TURN)
-    for k, p in enumerate(parts, start=1):
-        pn, pe = _spiral_pi(p)
-        out.append(XSpiral(0, f"S{name}" if len(parts) == 1 else f"S{name}.{k}", p.start_northing, p.start_easting,
-                           pn, pe, p.end_northing, p.end_easting, p.radius_start, p.radius_end, el.turn))
-    return out
-
-
-#: How each element class of the design is exported: one entry per class of ``alignment/elements.py``
-#: (a test holds this); a class missing here is an error, never a ``<Line>``.
-EXPORT: dict[type[Element], Callable[[str, Element, Element | None], list[XElement]]] = {Line: _line, Arc: _arc, Spiral: _spiral}
-
-
-def _elements(d: Design) -> list[XElement]:
-    out: list[XElement] = []
-    before: Element | None = None
-    for i, el in enumerate(d.alignment.elements, start=1):
-        export = EXPORT.get(type(el))
-        if export is None:
-            raise OutputError(f"alignment.xml: element {i} of the alignment is a {type(el).__name__!r}, "
-                              "which the LandXML export does not know")
-        out.extend(export(str(i), el, before))
-        before = el
-    return out
+__all__ = ["alignment_xml"]
 
 
 def _profile(d: Design) -> list[XPVI] | None:
@@ -179,7 +96,8 @@ def alignment_xml(d: Design) -> bytes:
     points = _points(d)
     name = d.job.info.name or d.alignment.name
     try:
-        return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station, _elements(d), eqs,
+        return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station,
+                             list(d.presentation.landxml_elements), eqs,
                              _profile(d), points, "stakeout", f"staked design of {name}"[:200],
                              profile_name=d.profile.name or None if d.profile is not None else None,
                              application_version=__version__, created=source_date())

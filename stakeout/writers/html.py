@@ -22,9 +22,11 @@ import numpy as np
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
+from .csvtext import DECIMALS, GRADE_DECIMALS
 from .checkwords import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
 from .sections import slope_texts, superelevation_table
-from .text import CAUTION_LINES, curve_texts, deflection_title, end_radii, fixed, offset_side, setout_cells, vertical_note
+from .text import (CAUTION_LINES, curve_texts, deflection_origin, deflection_title, end_radii, fixed, fixed_or_empty,
+                   offset_side, setout_cells, side_text, turn_word, vertical_note)
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
@@ -270,7 +272,7 @@ def _setout_section(d: Design) -> str:
     if n > REPORT_MAX_ROWS:
         return (f"<h2>Setout</h2><p>{n:,} stakes: the setout table is in setout.csv and setout.txt (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    cells = setout_cells(d, sided=False)
+    cells = setout_cells(d, sided=True)  # offsets with their side, as setout.txt prints them
     text_keys = {"point", "code", "feature", "note"}
     cols = [(SETOUT_HEADERS[c.key][1], "t" if c.key in text_keys else "n") for c, _ in cells]
     columns = [texts for _, texts in cells]
@@ -296,7 +298,7 @@ def _stakes_section(d: Design) -> str:
     if n > REPORT_MAX_ROWS:
         return (f"<h2>Stakes</h2><p>{n:,} stakes: the stake table is in points.csv and stations.csv (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    offs = fixed(sp.offset, d.unit.station_decimals)
+    offs = side_text(sp.offset, d.unit.station_decimals)  # with their side, as setout.txt
     north, east = fixed(sp.northing, 4), fixed(sp.easting, 4)
     elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
     cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("northing", "n"),
@@ -327,8 +329,10 @@ def _deflection_section(d: Design) -> str:
     if total > REPORT_MAX_ROWS:
         return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
                 f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or the CS of an exit "
-           "spiral), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
+    exit_from = ("the ST of an exit spiral, sighting back along the ahead tangent"
+                 if d.job.staking.exit_spiral_from == "ST" else "the CS of an exit spiral")
+    out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or "
+           f"{exit_from}), sight along its tangent (zero on the PI or the back tangent), turn the deflection toward "
            "the curve and tape the chord. Reading: the horizontal circle reading for a left deflection "
            "(360 - d) with zero on the tangent.</p>"]
     cols = [(h[1], "n") for h in DEFLECTION_HEADERS]
@@ -341,13 +345,73 @@ def _deflection_section(d: Design) -> str:
         return out_rows
 
     for t in tables:
-        el = t.element
-        start = f"{t.start_feature} {lab(el.start)}".strip()
-        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, el.turn))}")
+        start = deflection_origin(t, lab).strip()
+        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, t.deflect_turn))}")
         for off in t.offsets:
             out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
-                       f"{_table(cols, rows_of(off.rows, el.turn))}")
+                       f"{_table(cols, rows_of(off.rows, t.deflect_turn))}")
     return "".join(out)
+
+
+def _profile_section(d: Design, profile_svg: str | None) -> str:
+    """The profile: one row per PVI with profile.csv's values (stations as labels, grades in
+    percent, curve lengths, K, high or low point), and the profile picture (empty without a profile).
+    """
+    rows_of = d.presentation.profile_rows
+    if d.profile is None or not rows_of:
+        return ""
+    lab = d.stationing.label
+    dec = DECIMALS
+
+    def grade(g: float | None) -> str:
+        return "" if g is None else fixed_or_empty(100.0 * g, GRADE_DECIMALS)
+
+    rows = []
+    for i, r in enumerate(rows_of, start=1):
+        whole = (r.curve_length_back or 0.0) + (r.curve_length_ahead or 0.0)
+        high_low = f"{r.high_low_kind} {lab(r.high_low_station)}" if r.high_low_kind else ""
+        rows.append([str(i), lab(r.station), fixed_or_empty(r.elevation, dec), grade(r.grade_in), grade(r.grade_out),
+                     fixed_or_empty(whole or None, dec), fixed_or_empty(r.curve_length_back, dec),
+                     fixed_or_empty(r.curve_length_ahead, dec),
+                     lab(r.pvc_station) if r.pvc_station is not None else "", fixed_or_empty(r.pvc_elevation, dec),
+                     lab(r.pvt_station) if r.pvt_station is not None else "", fixed_or_empty(r.pvt_elevation, dec),
+                     fixed_or_empty(r.k_value, dec), fixed_or_empty(r.radius, dec), high_low,
+                     fixed_or_empty(r.high_low_elevation, dec)])
+    cols = [("PVI", "t"), ("station", "n"), ("elevation", "n"), ("grade in %", "n"), ("grade out %", "n"),
+            ("curve L", "n"), ("L back", "n"), ("L ahead", "n"), ("PVC", "n"), ("PVC el", "n"), ("PVT", "n"),
+            ("PVT el", "n"), ("K", "n"), ("radius", "n"), ("high/low", "t"), ("high/low el", "n")]
+    name = f" ({d.profile.name})" if d.profile.name else ""
+    out = [f"<h2>Profile{_e(name)}</h2><p>One row per PVI (the values of profile.csv): grades in percent, "
+           f"curve lengths and K = L / |grade out - grade in| (in {_e(d.unit.plural)} per percent).</p>",
+           _table(cols, rows)]
+    if profile_svg is not None:
+        svg = profile_svg.split("?>", 1)[1].lstrip() if profile_svg.startswith("<?xml") else profile_svg
+        out.append(f'<section class="picture"><h2>Profile picture</h2>{svg}</section>')
+    return "".join(out)
+
+
+def _spiral_section(d: Design) -> str:
+    """The spiral data (spirals.csv's values), empty without spirals."""
+    spirals = d.presentation.spirals
+    if not spirals:
+        return ""
+    lab, dec = d.stationing.label, DECIMALS
+    rows = []
+    for sv in spirals:
+        el, f = sv.element, sv.figures
+        rows.append([str(sv.number), str(sv.index + 1), lab(el.start), d.stationing.format_value(
+            float(d.stationing.station_back(el.end))), fixed_or_empty(el.length, dec),
+                     fixed_or_empty(el.radius_start, dec), fixed_or_empty(el.radius_end, dec), f"{f.theta_deg:.8f}",
+                     fixed_or_empty(f.x, dec), fixed_or_empty(f.y, dec), fixed_or_empty(f.p, dec),
+                     fixed_or_empty(f.k, dec), fixed_or_empty(f.long_tangent, dec),
+                     fixed_or_empty(f.short_tangent, dec), turn_word(el.turn)])
+    cols = [("spiral", "t"), ("element", "t"), ("start", "n"), ("end", "n"), ("length", "n"), ("radius start", "n"),
+            ("radius end", "n"), ("theta deg", "n"), ("X", "n"), ("Y", "n"), ("p", "n"), ("k", "n"), ("LT", "n"),
+            ("ST", "n"), ("turn", "t")]
+    return ("<h2>Spirals</h2><p>The values of spirals.csv: theta the spiral angle, X and Y the end from its "
+            "start along and square to its start tangent, p the shift, k the offset of the shifted PC along the "
+            "tangent, LT and ST the long and short tangents; radii empty where infinite.</p>"
+            + _table(cols, rows))
 
 
 def _superelevation_section(d: Design) -> str:
@@ -386,7 +450,7 @@ def _earthwork_section(d: Design) -> str:
                       ("total cut", "n"), ("total fill", "n")], rows))
 
 
-def report_html(d: Design, plan_svg: str) -> bytes:
+def report_html(d: Design, plan_svg: str, profile_svg: str | None = None) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
 
@@ -396,6 +460,8 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         The computed job.
     plan_svg : str
         The plan picture as an ``<svg>`` element (``plan.svg`` without its XML declaration).
+    profile_svg : str, optional
+        The profile picture (``profile.svg``), for a job with a profile.
     """
     job = d.job
     svg = plan_svg.split("?>", 1)[1].lstrip() if plan_svg.startswith("<?xml") else plan_svg
@@ -403,18 +469,19 @@ def report_html(d: Design, plan_svg: str) -> bytes:
         f"<header><h1>Staking report</h1><p class=\"sub\">{_e(job.info.name)}</p>{_facts(_job_facts(d))}"
         f"{_cautions(d.warnings)}</header>",
         _curve_section(d),
+        _spiral_section(d),
         f'<section class="picture"><h2>Plan</h2>{svg}</section>',
+        _profile_section(d, profile_svg),
         _setout_section(d) if d.setup is not None else _stakes_section(d),
+        _earthwork_section(d),
         _deflection_section(d),
         _signoff(),
         _cautions(),
     ]
-    ew = _earthwork_section(d)
-    if ew:
-        parts.insert(4, ew)  # after the setout (or stakes)
     se = _superelevation_section(d)
     if se:
         parts.insert(2, se)
+    parts = [p for p in parts if p]
     foot = f"{job.info.name}: staking report, job file sha256 {job.sha256[:16]}"
     return _document(f"Staking report: {job.info.name}", foot, "\n".join(parts))
 

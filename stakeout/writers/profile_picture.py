@@ -1,8 +1,10 @@
 """``profile.svg``: a picture of the profile, written directly as SVG.
 
-Grades (dashed, PVI to PVI), the finished grade with its vertical curves,
-each PVI labelled with its station and elevation, PVC, PVT and high or low
-points marked, and every staked station ticked along the foot.  Elevations
+Grades (dashed, PVI to PVI, each written in percent), the finished grade
+with its vertical curves, each PVI labelled with its station and elevation
+and its curve's length L and K, PVC, PVT and high or low points marked,
+station equations marked, the grid at round stations of each region's own
+stationing, and every staked station ticked along the foot.  Elevations
 are exaggerated by a stated factor.  The same design gives the same bytes.
 """
 
@@ -70,18 +72,37 @@ def profile_svg(d: Design) -> bytes:
         y = float(py(v))
         out.append(f'<line x1="{_LEFT}" y1="{_f(y)}" x2="{_W - _RIGHT}" y2="{_f(y)}" stroke="#ddd"/>')
         out.append(f'<text x="{_LEFT - 6}" y="{_f(y + 4)}" text-anchor="end">{v:.2f}</text>')
-    # station grid at a round spacing, labelled with the stations in force
+    # station grid at round stations of each region's own stationing (past an equation, of the
+    # stationing in force there), labelled with those stations
     step_x = _nice(x1 - x0, 10)
-    for v in np.arange(math.ceil(x0 / step_x) * step_x, x1 + 1e-9, step_x).tolist():
+    grid = st.interval_stations(step_x)
+    grid = grid[(grid >= x0 - 1e-9) & (grid <= x1 + 1e-9)]
+    for v in grid.tolist():
         x = float(px(v))
         out.append(f'<line x1="{_f(x)}" y1="{_TOP}" x2="{_f(x)}" y2="{_H - _BOTTOM}" stroke="#eee"/>')
         out.append(f'<text x="{_f(x)}" y="{_H - _BOTTOM + 34}" text-anchor="middle">{escape(st.label(v))}</text>')
+    # station equations: a dashed line and the equation
+    for eq in st.equations:
+        if not x0 - 1e-9 <= eq.internal <= x1 + 1e-9:
+            continue
+        x = float(px(eq.internal))
+        out.append(f'<line x1="{_f(x)}" y1="{_TOP}" x2="{_f(x)}" y2="{_H - _BOTTOM}" stroke="#7b3294" '
+                   'stroke-dasharray="4 3"/>')
+        out.append(f'<text x="{_f(x + 4)}" y="{_TOP + 14}" fill="#7b3294" font-size="11">'
+                   f'{escape(st.format_value(eq.back))} BK = {escape(st.format_value(eq.ahead))} AH</text>')
     # grades, PVI to PVI
     pts = " ".join(f"{_f(a)},{_f(b)}" for a, b in zip(px(pvi_x).tolist(), py(pvi_y).tolist()))
     out.append(f'<polyline points="{pts}" fill="none" stroke="#888" stroke-dasharray="6 4"/>')
     # finished grade
     pts = " ".join(f"{_f(a)},{_f(b)}" for a, b in zip(px(xs).tolist(), py(ys).tolist()))
     out.append(f'<polyline points="{pts}" fill="none" stroke="#c00" stroke-width="2"/>')
+    # each grade (percent) at the middle of its tangent, PVI to PVI
+    for a_, b_ in zip(rows[:-1], rows[1:]):
+        if a_.grade_out is None:
+            continue
+        xm, ym = float(px(0.5 * (a_.station + b_.station))), float(py(0.5 * (a_.elevation + b_.elevation)))
+        out.append(f'<text x="{_f(xm)}" y="{_f(ym - 8)}" text-anchor="middle" font-size="11">'
+                   f'{100.0 * a_.grade_out:+.4f} %</text>')
     # PVIs, PVC / PVT and high / low points
     for i, r in enumerate(rows):
         x, y = float(px(r.station)), float(py(r.elevation))
@@ -89,6 +110,11 @@ def profile_svg(d: Design) -> bytes:
         out.append(f'<circle cx="{_f(x)}" cy="{_f(y)}" r="4" fill="none" stroke="#333"/>')
         out.append(f'<text x="{_f(x)}" y="{_f(y - 10)}" text-anchor="{anchor}">'
                    f'PVI {escape(st.label(r.station))} el {r.elevation:.3f}</text>')
+        whole = (r.curve_length_back or 0.0) + (r.curve_length_ahead or 0.0)
+        if whole > 0.0:  # the vertical curve's length and K under the PVI
+            k_text = f"  K {r.k_value:.4f}" if r.k_value is not None else ""
+            out.append(f'<text x="{_f(x)}" y="{_f(y + 40)}" text-anchor="{anchor}" font-size="11">'
+                       f'L {whole:.4f}{k_text}</text>')
         for name, sta, el in (("PVC", r.pvc_station, r.pvc_elevation), ("PVT", r.pvt_station, r.pvt_elevation),
                               (r.high_low_kind or "", r.high_low_station, r.high_low_elevation)):
             if sta is None or el is None:

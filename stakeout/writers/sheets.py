@@ -20,8 +20,9 @@ from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_title, fixed, header_lines, offset_side,
-                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, wrap_lines)
+from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_origin, deflection_title, fixed,
+                   header_lines, offset_side,
+                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, warning_lines, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
 
@@ -153,6 +154,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     setup, o, scale = d.setup.setup, d.setup.occupations[0], d.setup.scale
     title = "SETOUT SHEET"
     head = header_lines(title, d)
+    head += warning_lines(d)  # on the first page, never only on the console
     head += _point_lines(o, setup, scale)
     head += _factor_lines(d, scale)
     head += _convergence_lines(setup, scale)
@@ -223,6 +225,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     setup = sdes.setup
     title = "SETOUT SHEET"
     head = header_lines(title, d)
+    head += warning_lines(d)  # on the first page, never only on the console
     first = sdes.occupations[0].scale
     auto_factor = first.scale_factor is not None and first.elevation_factor is not None
     if auto_factor:
@@ -288,13 +291,12 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         items.extend((*row, turn) for row in rows.tolist())
 
     for t in d.presentation.deflections:
-        el = t.element
-        items.append(deflection_title(t, "curve", f"{t.start_feature} {lab(el.start)}"))
-        data(t.rows, el.turn)
+        origin = deflection_origin(t, lab)
+        items.append(deflection_title(t, "curve", origin))
+        data(t.rows, t.deflect_turn)
         for off in t.offsets:  # the offset line from its own start point, along its own start tangent
-            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {t.start_feature} "
-                         f"{lab(el.start)}")
-            data(off.rows, el.turn)
+            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {origin}")
+            data(off.rows, t.deflect_turn)
     v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
     defl = v[:, 2]
     # the circle reading for a left deflection (360 - d), blank for a right one
@@ -324,7 +326,11 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
             "offset lines: the same from the offset point opposite the curve point;",
             "length along the offset line"]
     if spirals:
-        foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent;")
+        if job.staking.exit_spiral_from == "ST":
+            foot.append("spirals: occupy the TS, sight along its tangent; exit spirals: occupy the ST,")
+            foot.append("sight back along the ahead tangent (length and chord from the ST);")
+        else:
+            foot.append("spirals: occupy the TS (the CS for an exit spiral), sight along its tangent;")
         foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)

@@ -20,7 +20,8 @@ from ..design import Design
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
-from .csvtext import DECIMALS, FORMULA_LEADS, POINTS_COLUMNS, csv_field, csv_guard, csv_text, csv_text_field
+from .csvtext import (DECIMALS, FORMULA_LEADS, GRADE_DECIMALS, POINTS_COLUMNS, csv_field, csv_guard, csv_text,
+                      csv_text_field)
 from .text import fixed_or_empty, turn_word
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -292,8 +293,6 @@ PROFILE_COLUMNS = ("pvi", "station", "station_label", "elevation", "grade_in", "
                    # second set: the alignment's name; the vertical curve's whole length (back + ahead)
                    "alignment", "curve_length")
 
-#: Decimals of grades in percent.
-GRADE_DECIMALS = 6
 
 
 def profile_csv(design: Design) -> bytes:

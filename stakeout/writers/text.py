@@ -25,8 +25,8 @@ from ..presentation import CurveView, DeflectionTable, Element, PerKind
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
-    "curve_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "texts_of", "SheetPart",
-    "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    "curve_lines", "warning_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "deflection_origin",
+    "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -157,6 +157,14 @@ def header_lines(title: str, d: Design) -> list[str]:
     return out
 
 
+def warning_lines(d: Design) -> list[str]:
+    """Every warning of the build (``Design.warnings``: a design file's superelevation the job
+    does not apply, a setup serving no stake, ...), one ``WARNING`` line each, for a sheet's
+    first page; none without warnings.
+    """
+    return [f"WARNING   {w}" for w in d.warnings]
+
+
 # ---- curve data ------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class CurveText:
@@ -274,8 +282,19 @@ def _arc_title(t: DeflectionTable, curve: str, start: str) -> str:
 def _spiral_title(t: DeflectionTable, curve: str, start: str) -> str:
     el = t.element
     r0, r1 = end_radii(el)
-    return (f"{curve} {t.curve}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
-            f"theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+    title = (f"{curve} {t.curve}, spiral from {start}: L {el.length:.4f}, R {r0} to {r1}, "
+             f"theta {format_dms(el.central_angle, 1)}, {turn_word(el.turn)}")
+    if t.from_end:  # an exit spiral run from the ST: say so, and which way to deflect looking back
+        title += f"; run from its end looking back, deflect {turn_word(t.deflect_turn)}"
+    return title
+
+
+def deflection_origin(t: DeflectionTable, label: Callable[[float], str]) -> str:
+    """Where an element's deflections are run from: its feature and station (``TS 3+26.65``;
+    an exit spiral run from its end: ``ST 5+82.46``).
+    """
+    el = t.element
+    return f"{t.start_feature} {label(el.end if t.from_end else el.start)}"
 
 
 #: The title of an element's deflections (a line is never part of a curve; it would read as a spiral).

@@ -4,12 +4,13 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
+
+from ..stationmarks import SHEET_AREA, SHEET_PAD, STATION_LABEL_GAP, nice_length, sheet_scale, station_spacing
 
 
 __all__ = [
@@ -39,10 +40,11 @@ PANEL_WIDTH = 330.0
 
 #: The drawing area (x0, y0, x1, y1) left of the panel.
 AREA = (MARGIN, MARGIN, SHEET_WIDTH - PANEL_WIDTH - MARGIN, SHEET_HEIGHT - MARGIN)
+assert AREA == SHEET_AREA  # the sheet the station-label rule (writers/stationmarks) assumes
 
 
 #: Room kept free inside the drawing area around the job, for labels.
-PAD = 36.0
+PAD = SHEET_PAD
 
 
 #: Over this many stakes the point numbers are not drawn and the stakes are thinned to one mark a cell.
@@ -57,8 +59,6 @@ TICK_MAX_STATIONS = 2000
 THIN_CELL = 2.0
 
 
-#: Smallest gap between two station labels along the centreline (SVG units).
-STATION_LABEL_GAP = 60.0
 
 
 #: Font sizes (SVG units) and the advance of one character of a monospaced font (em).
@@ -119,43 +119,10 @@ def wrap_text(text: str, chars: int) -> list[str]:
     return textwrap.wrap(text, chars, break_long_words=True, break_on_hyphens=False) or [""]
 
 
-def nice_length(target: float) -> float:
-    """The largest 1, 2 or 5 times a power of ten not above ``target`` (> 0)."""
-    if not target > 0 or not math.isfinite(target):
-        return 1.0
-    p = 10.0 ** math.floor(math.log10(target))
-    for m in (5.0, 2.0, 1.0):
-        if m * p <= target * (1 + 1e-12):
-            return m * p
-    return p
-
-
 def round_label(label: str) -> str:
     """A station label at a round station without its zero decimals (``15+00.00`` -> ``15+00``)."""
     head, dot, tail = label.partition(".")
     return head if dot and set(tail) <= {"0"} else label
-
-
-def station_spacing(length: float, scale: float) -> float:
-    """Spacing of station labels (job units) on a picture.
-
-    Every 100 units (100 ft, or 100 m), coarser (200, 500, 1000, ...) where
-    labels would come closer than :data:`STATION_LABEL_GAP` on the canvas,
-    finer (50, 20, 10) on an alignment too short for three labels.
-
-    Parameters
-    ----------
-    length : float
-        Length of the alignment, job units.
-    scale : float
-        Canvas units per job unit.
-    """
-    s = 100.0
-    while length < 3 * s and s > 10.0 and nice_length(s / 1.99) * scale >= STATION_LABEL_GAP:
-        s = nice_length(s / 1.99)  # 100 -> 50 -> 20 -> 10
-    while s * scale < STATION_LABEL_GAP:
-        s = nice_length(s * 2.5 * (1 + 1e-9))  # 100 -> 200 -> 500 -> 1000
-    return s
 
 
 @dataclass(frozen=True)
@@ -183,11 +150,7 @@ class View:
             box: tuple[float, float, float, float] = AREA, pad: float = PAD) -> "View":
         """The largest view showing the world box inside the canvas box with ``pad`` around it."""
         x0, y0, x1, y1 = box
-        w, h = max(x1 - x0 - 2 * pad, 1.0), max(y1 - y0 - 2 * pad, 1.0)
-        de, dn = max(emax - emin, 1e-9), max(nmax - nmin, 1e-9)
-        scale = min(w / de, h / dn)
-        if not math.isfinite(scale) or scale <= 0:
-            scale = 1.0
+        scale = sheet_scale(emax - emin, nmax - nmin, box, pad)
         return cls((emin + emax) / 2, (nmin + nmax) / 2, (x0 + x1) / 2, (y0 + y1) / 2, scale)
 
     def x(self, e: Any) -> F:

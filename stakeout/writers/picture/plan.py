@@ -10,6 +10,7 @@ from typing import Any
 import numpy as np
 
 from ...design import Design
+from ..stationmarks import labelled_stations
 from ..text import curve_texts, turn_word
 from .canvas import (AREA, CL_COLOUR, CODE_COLOURS, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
                      MARGIN, OFFSET_COLOUR, SHEET_HEIGHT, TANGENT_COLOUR, THIN_CELL, TICK_MAX_STATIONS, View,
@@ -181,13 +182,7 @@ def _station_ticks(d: Design, v: View, left_px: float, right_px: float) -> _Tick
     """
     a, sp, stn = d.alignment, d.stakes, d.stationing
     spacing = station_spacing(a.length, v.scale)
-    if stn.equations:
-        labelled = stn.interval_stations(spacing)
-    else:
-        k0 = math.ceil(a.start_station / spacing - 1e-9)
-        k1 = math.floor(a.end_station / spacing + 1e-9)
-        labelled = np.arange(k0, k1 + 1, dtype=float) * spacing
-    labelled = labelled[(labelled >= a.start_station - 1e-9) & (labelled <= a.end_station + 1e-9)]
+    labelled = labelled_stations(d, spacing)
     staked = np.unique(sp.stations)
     minor = staked if staked.size <= TICK_MAX_STATIONS else np.zeros(0)
     ticks: list[str] = []
