@@ -140,6 +140,9 @@ OUTPUTS: tuple[Output, ...] = (
            "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("slopestakes-sheet", "slopestakes.txt", "the printable slope-stake sheet with the lath markings",
            "earthwork:slopestakes_sheet", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True),
+    Output("sections-picture", "sections.svg", "the cross-sections at each station with both catch points: ground, "
+           "design template, hinges, catch and reference stakes, areas", "sections_picture:sections_svg",
+           applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("volumes", "volumes.csv", "cut and fill areas at each station with both catch points, average-end-area "
            "volumes", "earthwork:volumes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",

@@ -297,3 +297,15 @@ def test_report_has_the_earthwork(tmp_path):
     area = Polygon([(-12.0, 50.0), (-6.0, 52.0), (6.0, 52.0), (10.0, 50.0)]).area  # shapely: the fill section
     assert f"<td class=\"n\">{area:.2f}</td>" in html
     assert f"{20.0 * area:.2f}" in html  # average end areas over 20 m (Wikibooks, as above)
+
+
+def test_sections_svg_draws_each_station_with_both_catches(tmp_path):
+    from lxml import etree
+
+    files = _build(_job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0)), tmp_path / "out", "sections-picture")
+    root = etree.fromstring(files["sections.svg"].encode("utf-8"))  # well-formed XML (lxml)
+    ns = {"s": "http://www.w3.org/2000/svg"}
+    assert len(root.findall("s:g", ns)) == 3  # stations 0, 20, 40 have both catch points
+    assert len(root.findall(".//s:circle", ns)) == 3 * 4  # two catch and two reference stakes each
+    # the fill section's area, as shapely gives it (see the volumes test)
+    assert "fill area 34.00" in files["sections.svg"]

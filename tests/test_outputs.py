@@ -24,7 +24,8 @@ def test_names_and_files_unchanged():
         ("points", "points.csv"), ("stations", "stations.csv"), ("curves", "curves.csv"),
         ("elements", "elements.csv"), ("spirals", "spirals.csv"), ("profile", "profile.csv"),
         ("profile-picture", "profile.svg"), ("superelevation-picture", "superelevation.svg"),
-        ("slopestakes", "slopestakes.csv"), ("slopestakes-sheet", "slopestakes.txt"), ("volumes", "volumes.csv"), ("setout", "setout.csv"), ("sheet", "setout.txt"),
+        ("slopestakes", "slopestakes.csv"), ("slopestakes-sheet", "slopestakes.txt"),
+        ("sections-picture", "sections.svg"), ("volumes", "volumes.csv"), ("setout", "setout.csv"), ("sheet", "setout.txt"),
         ("deflections", "deflections.txt"), ("control", "control.csv"), ("landxml", "alignment.xml"), ("dxf", "plan.dxf"),
         ("picture", "plan.svg"), ("report", "report.html"), ("preview", "plan.png"), ("manifest", "manifest.json")]
     assert BY_NAME["sheet"].wide and BY_NAME["deflections"].wide
