@@ -309,3 +309,38 @@ def test_sections_svg_draws_each_station_with_both_catches(tmp_path):
     assert len(root.findall(".//s:circle", ns)) == 3 * 4  # two catch and two reference stakes each
     # the fill section's area, as shapely gives it (see the volumes test)
     assert "fill area 34.00" in files["sections.svg"]
+
+
+def test_rolling_ground_against_scipy_linear_interpolation(tmp_path):
+    from scipy.interpolate import LinearNDInterpolator
+
+    # jittered ground points (no four on a circle): the Delaunay TIN is unique, and scipy's
+    # LinearNDInterpolator is linear on that same triangulation - an independent evaluation
+    rng = np.random.default_rng(7)
+    n, e = np.meshgrid(np.arange(900.0, 1101.0, 8.0), np.arange(1950.0, 2151.0, 8.0))
+    n = n.ravel() + rng.uniform(-2.5, 2.5, n.size)
+    e = e.ravel() + rng.uniform(-2.5, 2.5, e.size)
+    z = 51.0 + 1.5 * np.sin((n - 1000.0) / 9.0) + 0.8 * np.cos((e - 2000.0) / 13.0)
+    (tmp_path / "ground.csv").write_text(
+        "point,northing,easting,elevation\n"
+        + "\n".join(f"G{i + 1},{a:.4f},{b:.4f},{c:.4f}" for i, (a, b, c) in enumerate(zip(n, e, z))) + "\n",
+        encoding="utf-8")
+    f = LinearNDInterpolator(np.c_[np.round(n, 4), np.round(e, 4)], np.round(z, 4))
+    job = tmp_path / "job.toml"
+    job.write_text(JOB.format(extra=SLOPES), encoding="utf-8")
+    files = _build(job, tmp_path / "out", "stations,slopestakes")
+    for r in _rows(files["stations.csv"]):
+        assert float(r["ground_elevation"]) == pytest.approx(float(f(float(r["northing"]), float(r["easting"]))),
+                                                             abs=5e-4)
+    caught = 0
+    for r in _rows(files["slopestakes.csv"]):
+        if r["catch_point"]:
+            caught += 1
+            # the catch point lies on the ground, and on the design line from the hinge (fill or plain cut)
+            cz = float(r["catch_elevation"])
+            assert cz == pytest.approx(float(f(float(r["catch_northing"]), float(r["catch_easting"]))), abs=5e-4)
+            run = abs(float(r["catch_offset"]) - float(r["hinge_offset"]))
+            slope = {("left", "fill"): 3.0, ("right", "fill"): 2.0}.get((r["side"], r["kind"]), 2.0)
+            assert float(r["catch_cut_fill"]) == pytest.approx(run / slope * (1 if r["kind"] == "fill" else -1),
+                                                               abs=5e-4)
+    assert caught > 6
