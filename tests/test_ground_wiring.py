@@ -344,3 +344,24 @@ def test_rolling_ground_against_scipy_linear_interpolation(tmp_path):
             assert float(r["catch_cut_fill"]) == pytest.approx(run / slope * (1 if r["kind"] == "fill" else -1),
                                                                abs=5e-4)
     assert caught > 6
+
+
+def test_catch_and_reference_stakes_in_points_and_stations(tmp_path):
+    files = _build(_job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0)), tmp_path / "out", "points,stations,slopestakes")
+    pts = _rows(files["points.csv"])
+    sts = _rows(files["stations.csv"])
+    slopes = _rows(files["slopestakes.csv"])
+    assert len(pts) == len(sts) == 18 + 12  # three stations with both catches: 4 stakes each
+    assert [r["point"] for r in pts] == [str(k) for k in range(1, 31)]  # point order
+    by_id = {r["point"]: r for r in sts}
+    for s in slopes[:6]:
+        c, ref = by_id[s["catch_point"]], by_id[s["reference_point"]]
+        assert (c["feature"], c["code"]) == ("CATCH", ("SHL" if s["side"] == "left" else "SHR") + "-C")
+        assert (ref["feature"], ref["code"]) == ("REF", ("SHL" if s["side"] == "left" else "SHR") + "-R")
+        assert c["offset"] == s["catch_offset"] and c["northing"] == s["catch_northing"]
+        assert c["elevation"] == c["ground_elevation"] == s["catch_elevation"] and c["cut_fill"] == "0.0000"
+        assert ref["elevation"] == "" and ref["cut_fill"] == "" and ref["ground_elevation"] == s["reference_ground"]
+        assert c["station_label"] == s["station_label"]
+    p19 = next(r for r in pts if r["point"] == "19")
+    assert p19["elevation"] == "" and p19["description"] == "SHL-R REF 0+000.000 17.000 LT"
+    assert next(r for r in pts if r["point"] == "21")["description"] == "SHR-C CATCH 0+000.000 10.000 RT"

@@ -17,6 +17,7 @@ from numpy.typing import NDArray
 
 from ..angles import format_dms
 from ..design import Design
+from ..numbers import fixed_strings
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
@@ -165,7 +166,24 @@ def points_csv(design: Design) -> bytes:
                 p.elevation(), p.sep(), p.code(), p.sep(" "), p.feature_words(), p.label(), p.sep(" "),
                 p.side_offset(unit.station_decimals)]
 
-    return _csv(POINTS_COLUMNS, sp, layout)
+    out = _csv(POINTS_COLUMNS, sp, layout)
+    sl = design.presentation.slope_points
+    if sl is None or not sl.ids:
+        return out
+    # the catch and reference stakes, provisionally numbered after every stake: after them
+    labels = sp.labels
+    offs = fixed_strings(np.abs(sl.offset), unit.station_decimals)
+    desc = [f"{c} {f} {labels[i]} {o} {'LT' if v < 0 else 'RT'}"
+            for c, f, i, o, v in zip(sl.code, sl.feature, sl.station.tolist(), offs, sl.offset.tolist())]
+    lines = [",".join(x) for x in zip((csv_field(i) for i in sl.ids), _optional(sl.northing), _optional(sl.easting),
+                                      _optional(sl.elevation), (csv_text_field(t) for t in desc))]
+    return out + ("\n".join(lines) + "\n").encode("utf-8")
+
+
+def _optional(values: NDArray[np.float64]) -> list[str]:
+    """CSV numbers with :data:`DECIMALS` decimals, empty where NaN."""
+    none = np.isnan(values)
+    return ["" if e else t for t, e in zip(fixed_strings(np.where(none, 0.0, values), DECIMALS), none.tolist())]
 
 
 def stations_csv(design: Design) -> bytes:
@@ -183,7 +201,20 @@ def stations_csv(design: Design) -> bytes:
                 p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(),
                 p.optional(gz, d), p.sep(), p.optional(cf, d)]
 
-    return _csv(STATIONS_COLUMNS, sp, layout)
+    out = _csv(STATIONS_COLUMNS, sp, layout)
+    sl = design.presentation.slope_points
+    if sl is None or not sl.ids:
+        return out
+    # the catch and reference stakes, provisionally numbered after every stake: after them
+    labels = [csv_field(csv_guard(sp.labels[i])) for i in sl.station.tolist()]
+    regions = sp.regions[sl.station].tolist()
+    alignment = csv_text_field(design.alignment.name)
+    lines = [",".join((csv_field(pid), st, lab, off, n, e, z, f, csv_field(c), str(reg), alignment, "", g, cf_))
+             for pid, st, lab, off, n, e, z, f, c, reg, g, cf_ in zip(
+                 sl.ids, _optional(sp.station_values[sl.station]), labels, _optional(sl.offset),
+                 _optional(sl.northing), _optional(sl.easting), _optional(sl.elevation), sl.feature, sl.code,
+                 regions, _optional(sl.ground), _optional(sl.cut_fill))]
+    return out + ("\n".join(lines) + "\n").encode("utf-8")
 
 
 def curves_csv(design: Design) -> bytes:
