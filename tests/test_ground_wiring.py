@@ -365,3 +365,19 @@ def test_catch_and_reference_stakes_in_points_and_stations(tmp_path):
     p19 = next(r for r in pts if r["point"] == "19")
     assert p19["elevation"] == "" and p19["description"] == "SHL-R REF 0+000.000 17.000 LT"
     assert next(r for r in pts if r["point"] == "21")["description"] == "SHR-C CATCH 0+000.000 10.000 RT"
+
+
+def test_catch_and_reference_stakes_in_the_dxf(tmp_path):
+    import ezdxf
+
+    out = tmp_path / "out"
+    _build(_job(tmp_path, _level, SLOPES), out, "dxf,slopestakes")
+    doc = ezdxf.readfile(out / "plan.dxf")  # read back with ezdxf
+    msp = doc.modelspace()
+    points = {(round(p.dxf.location.x, 4), round(p.dxf.location.y, 4)) for p in msp.query("POINT[layer=='SO-STAKE']")}
+    numbers = {t.dxf.text for t in msp.query("TEXT[layer=='SO-STAKE-NO']")}
+    rows = _rows((out / "slopestakes.csv").read_text(encoding="utf-8"))
+    for r in rows:
+        assert (round(float(r["catch_easting"]), 4), round(float(r["catch_northing"]), 4)) in points
+        assert (round(float(r["reference_easting"]), 4), round(float(r["reference_northing"]), 4)) in points
+        assert r["catch_point"] in numbers and r["reference_point"] in numbers

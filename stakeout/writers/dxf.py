@@ -252,6 +252,12 @@ def _build(d: Design) -> Any:
         z = 0.0 if sp.elevation is None else float(sp.elevation[i])
         msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
         _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
+    slope = d.presentation.slope_points
+    if detail and slope is not None:  # catch and reference stakes (provisionally numbered after every stake)
+        ground = np.nan_to_num(slope.ground).tolist()
+        for pid, n, e, z in zip(slope.ids, slope.northing.tolist(), slope.easting.tolist(), ground):
+            msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
+            _text(msp, pid, e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
 
     # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
     # plan.svg would draw this extent at), short at every staked station
