@@ -381,3 +381,12 @@ def test_catch_and_reference_stakes_in_the_dxf(tmp_path):
         assert (round(float(r["catch_easting"]), 4), round(float(r["catch_northing"]), 4)) in points
         assert (round(float(r["reference_easting"]), 4), round(float(r["reference_northing"]), 4)) in points
         assert r["catch_point"] in numbers and r["reference_point"] in numbers
+
+
+def test_catch_and_reference_stakes_in_the_picture(tmp_path):
+    from lxml import etree
+
+    svg = _build(_job(tmp_path, _level, SLOPES), tmp_path / "out", "picture")["plan.svg"]
+    root = etree.fromstring(svg.encode("utf-8"))  # well-formed (lxml)
+    classes = [e.get("class") for e in root.iter("{http://www.w3.org/2000/svg}path")]
+    assert "so-catch" in classes and "so-ref" in classes

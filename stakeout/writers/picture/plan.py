@@ -146,8 +146,11 @@ def _plan_view(d: Design, pis: list[Any]) -> View:
     mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
     mn, me, _ = a.evaluate(mids, 0.0)
     big_off = max([abs(o) for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
-    ext = extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
-                  [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
+    slope = d.presentation.slope_points
+    se_, sn_ = (sp.easting, sp.northing) if slope is None else (np.concatenate([sp.easting, slope.easting]),
+                                                              np.concatenate([sp.northing, slope.northing]))
+    ext = extent([se_, el_e, me, np.array([o[0].easting for o in occs])],
+                  [sn_, el_n, mn, np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
     pi_e = np.array([c.pi_easting for c in pis], dtype=float)
     pi_n = np.array([c.pi_northing for c in pis], dtype=float)

@@ -49,6 +49,14 @@ def stake_marks(d: Design, v: View, lab: Labeller) -> StakeMarks:
         sel = keep[code_of[keep] == j]
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
         stake_paths.append(f'<path class="so-stake" d="{circles_path(sx[sel], sy[sel], r_stake)}" fill="{colour}"/>')
+    slope = d.presentation.slope_points
+    if slope is not None and slope.ids:  # catch stakes filled, reference stakes open (no numbers yet)
+        cx, cy = v.x(slope.easting), v.y(slope.northing)
+        catch = np.array([f == "CATCH" for f in slope.feature], dtype=bool)
+        stake_paths.append(f'<path class="so-catch" d="{circles_path(cx[catch], cy[catch], r_stake)}" '
+                           'fill="#8b5a2b"/>')
+        stake_paths.append(f'<path class="so-ref" d="{circles_path(cx[~catch], cy[~catch], r_stake)}" '
+                           'fill="#fff" stroke="#8b5a2b" stroke-width="0.8"/>')
     lab.block(np.column_stack([sx[keep] - r_stake - 0.3, sy[keep] - r_stake - 0.3, sx[keep] + r_stake + 0.3,
                                sy[keep] + r_stake + 0.3]))
     return StakeMarks(stake_paths, keep, detail, r_stake, sx, sy)
