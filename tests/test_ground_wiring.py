@@ -390,3 +390,13 @@ def test_catch_and_reference_stakes_in_the_picture(tmp_path):
     root = etree.fromstring(svg.encode("utf-8"))  # well-formed (lxml)
     classes = [e.get("class") for e in root.iter("{http://www.w3.org/2000/svg}path")]
     assert "so-catch" in classes and "so-ref" in classes
+
+
+def test_one_side_only(tmp_path):
+    one = SLOPES.replace('right = { hinge = "SHR", fill_slope = 2.0, cut_slope = 2.0 }\n', "")
+    files = _build(_job(tmp_path, _level, one), tmp_path / "out", "slopestakes,volumes,sections-picture,report")
+    rows = _rows(files["slopestakes.csv"])
+    assert len(rows) == 6 and {r["side"] for r in rows} == {"left"}
+    assert files["volumes.csv"].count("\n") == 1  # the header alone: volumes need both sides
+    assert "they need slope stakes on both sides" in files["report.html"]
+    assert "0 of 6 staked stations" in files["sections.svg"]

@@ -436,7 +436,9 @@ def _earthwork_section(d: Design) -> str:
                "slopestakes.txt say which." if count else f"Every one of {total} station sides has a catch point.")
     head = f"<h2>Earthwork</h2><p>{_e(missing)}</p>"
     st = ew.volume_stations
-    if ew.sections is None or ew.volumes is None or st.size == 0:
+    if ew.sections is None or ew.volumes is None:
+        return head + "<p>No volumes: they need slope stakes on both sides ([slope_stakes] left and right).</p>"
+    if st.size == 0:
         return head + "<p>No station has both catch points: no volumes.</p>"
     u = d.unit.label
     labels = d.stakes.labels
