@@ -3,9 +3,14 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # pragma: no cover
+    import numpy as np
+    from numpy.typing import NDArray
 
 __all__ = ["DECIMALS", "GRADE_DECIMALS", "POINTS_COLUMNS", "FORMULA_LEADS", "csv_field", "csv_guard", "csv_text_field",
-           "csv_text"]
+           "csv_text", "numbers_or_empty"]
 
 #: The point file's layout: points.csv, and restake.csv and control.csv laid out the same way.
 POINTS_COLUMNS = ("point", "northing", "easting", "elevation", "description")
@@ -44,3 +49,14 @@ def csv_text(header: Sequence[str], lines: Iterable[str]) -> str:
     """Join a header and already formatted lines into CSV text."""
     body = "\n".join(lines)
     return ",".join(header) + "\n" + (body + "\n" if body else "")
+
+
+def numbers_or_empty(values: "NDArray[np.float64]", decimals: int = DECIMALS) -> list[str]:
+    """Numbers with ``decimals`` decimals (never ``-0.0000``), an empty field where NaN."""
+    import numpy as np
+
+    from ..numbers import fixed_strings
+
+    v = np.asarray(values, dtype=np.float64)
+    none = np.isnan(v)
+    return ["" if e else t for t, e in zip(fixed_strings(np.where(none, 0.0, v), decimals), none.tolist())]

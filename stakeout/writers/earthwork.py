@@ -9,13 +9,10 @@ where there is none (NaN).
 
 from __future__ import annotations
 
-import numpy as np
-from numpy.typing import NDArray
-
 from ..design import Design
-from ..numbers import fixed_strings
 from ..slopestakes import lath_marking
-from .csvtext import DECIMALS, csv_field, csv_guard, csv_text, csv_text_field
+from .csvtext import csv_field, csv_guard, csv_text, csv_text_field
+from .csvtext import numbers_or_empty as _opt
 from .text import WIDE, WIDTH, Column, SheetPart, header_lines, paged_parts, table_lines, wrap_lines
 
 __all__ = ["SLOPESTAKES_COLUMNS", "VOLUMES_COLUMNS", "slopestakes_csv", "slopestakes_sheet", "volumes_csv"]
@@ -32,13 +29,6 @@ VOLUMES_COLUMNS = ("alignment", "station", "station_label", "cut_area", "fill_ar
                    "cumulative_cut", "cumulative_fill")
 
 
-def _numbers(values: NDArray[np.float64], decimals: int = DECIMALS) -> list[str]:
-    """Numbers with ``decimals`` decimals, empty where NaN."""
-    v = np.asarray(values, dtype=np.float64)
-    none = np.isnan(v)
-    return ["" if e else t for t, e in zip(fixed_strings(np.where(none, 0.0, v), decimals), none.tolist())]
-
-
 def slopestakes_csv(design: Design) -> bytes:
     """``slopestakes.csv``: one row per staked station and side, station order, left before right."""
     ew = design.earthwork
@@ -49,27 +39,27 @@ def slopestakes_csv(design: Design) -> bytes:
     labels = sp.labels
     catch_ids, ref_ids = design.presentation.slope_stake_ids
     cols = [
-        _numbers(sp.station_values[r.station]),
+        _opt(sp.station_values[r.station]),
         [csv_field(csv_guard(labels[i])) for i in r.station.tolist()],
         list(r.side),
         [csv_field(f"{sp.prefix}{k}") for k in sp.number[r.hinge].tolist()],
-        _numbers(r.hinge_offset),
-        _numbers(res.lines.z),
-        _numbers(res.ground_at_hinge),
+        _opt(r.hinge_offset),
+        _opt(res.lines.z),
+        _opt(res.ground_at_hinge),
         [str(k) for k in res.kind.tolist()],
         [csv_field(c) for c in catch_ids],
-        _numbers(r.catch_offset),
-        _numbers(res.catch_n),
-        _numbers(res.catch_e),
-        _numbers(res.catch_z),
-        _numbers(res.catch_cut_fill),
+        _opt(r.catch_offset),
+        _opt(res.catch_n),
+        _opt(res.catch_e),
+        _opt(res.catch_z),
+        _opt(res.catch_cut_fill),
         [csv_field(c) for c in ref_ids],
-        _numbers(r.reference_offset),
-        _numbers(res.ref_n),
-        _numbers(res.ref_e),
-        _numbers(res.ref_ground),
-        _numbers(res.ref_dist),
-        _numbers(res.vd_to_hinge),
+        _opt(r.reference_offset),
+        _opt(res.ref_n),
+        _opt(res.ref_e),
+        _opt(res.ref_ground),
+        _opt(res.ref_dist),
+        _opt(res.vd_to_hinge),
         [csv_field(str(t)) for t in res.note.tolist()],
     ]
     lines = (",".join((name, *row)) for row in zip(*cols))
@@ -88,14 +78,14 @@ def volumes_csv(design: Design) -> bytes:
     labels = sp.labels
     v = ew.volumes
     cols = [
-        _numbers(sp.station_values[st]),
+        _opt(sp.station_values[st]),
         [csv_field(csv_guard(labels[i])) for i in st.tolist()],
-        _numbers(ew.sections.cut_area[st]),
-        _numbers(ew.sections.fill_area[st]),
-        _numbers(v.cut),
-        _numbers(v.fill),
-        _numbers(v.cumulative_cut),
-        _numbers(v.cumulative_fill),
+        _opt(ew.sections.cut_area[st]),
+        _opt(ew.sections.fill_area[st]),
+        _opt(v.cut),
+        _opt(v.fill),
+        _opt(v.cumulative_cut),
+        _opt(v.cumulative_fill),
     ]
     lines = (",".join((name, *row)) for row in zip(*cols))
     return csv_text(VOLUMES_COLUMNS, lines).encode("utf-8")
@@ -135,13 +125,13 @@ def slopestakes_sheet(design: Design, wide: bool = False) -> str:
         Column("Station", [labels[i] for i in r.station.tolist()], "<"),
         Column("Side", [s[0].upper() for s in r.side], "<"),
         Column("Hinge", [f"{sp.prefix}{k}" for k in sp.number[r.hinge].tolist()], "<"),
-        Column("Elev", _numbers(res.lines.z, dec)),
+        Column("Elev", _opt(res.lines.z, dec)),
         Column("Kind", [str(k) for k in res.kind.tolist()], "<"),
         Column("Catch", catch_ids, "<"),
-        Column("Offset", _numbers(r.catch_offset, dec)),
+        Column("Offset", _opt(r.catch_offset, dec)),
         Column("Lath (catch)", lath_marking(res.catch_cut_fill, res.catch_dist), "<"),
         Column("Ref", ref_ids, "<"),
-        Column("Offset", _numbers(r.reference_offset, dec), with_previous=True),
+        Column("Offset", _opt(r.reference_offset, dec), with_previous=True),
         Column("Lath (reference)", lath_marking(res.vd_to_hinge, res.ref_dist), "<", with_previous=True),
         Column("Note", [str(t) for t in res.note.tolist()], "<", with_previous=True),
     ]

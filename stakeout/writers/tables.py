@@ -21,6 +21,7 @@ from ..numbers import fixed_strings
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
+from .csvtext import numbers_or_empty as _opt
 from .csvtext import (DECIMALS, FORMULA_LEADS, GRADE_DECIMALS, POINTS_COLUMNS, csv_field, csv_guard, csv_text,
                       csv_text_field)
 from .text import fixed_or_empty, turn_word
@@ -175,15 +176,9 @@ def points_csv(design: Design) -> bytes:
     offs = fixed_strings(np.abs(sl.offset), unit.station_decimals)
     desc = [f"{c} {f} {labels[i]} {o} {'LT' if v < 0 else 'RT'}"
             for c, f, i, o, v in zip(sl.code, sl.feature, sl.station.tolist(), offs, sl.offset.tolist())]
-    lines = [",".join(x) for x in zip((csv_field(i) for i in sl.ids), _optional(sl.northing), _optional(sl.easting),
-                                      _optional(sl.elevation), (csv_text_field(t) for t in desc))]
+    lines = [",".join(x) for x in zip((csv_field(i) for i in sl.ids), _opt(sl.northing), _opt(sl.easting),
+                                      _opt(sl.elevation), (csv_text_field(t) for t in desc))]
     return out + ("\n".join(lines) + "\n").encode("utf-8")
-
-
-def _optional(values: NDArray[np.float64]) -> list[str]:
-    """CSV numbers with :data:`DECIMALS` decimals, empty where NaN."""
-    none = np.isnan(values)
-    return ["" if e else t for t, e in zip(fixed_strings(np.where(none, 0.0, values), DECIMALS), none.tolist())]
 
 
 def stations_csv(design: Design) -> bytes:
@@ -211,9 +206,9 @@ def stations_csv(design: Design) -> bytes:
     alignment = csv_text_field(design.alignment.name)
     lines = [",".join((csv_field(pid), st, lab, off, n, e, z, f, csv_field(c), str(reg), alignment, "", g, cf_))
              for pid, st, lab, off, n, e, z, f, c, reg, g, cf_ in zip(
-                 sl.ids, _optional(sp.station_values[sl.station]), labels, _optional(sl.offset),
-                 _optional(sl.northing), _optional(sl.easting), _optional(sl.elevation), sl.feature, sl.code,
-                 regions, _optional(sl.ground), _optional(sl.cut_fill))]
+                 sl.ids, _opt(sp.station_values[sl.station]), labels, _opt(sl.offset),
+                 _opt(sl.northing), _opt(sl.easting), _opt(sl.elevation), sl.feature, sl.code,
+                 regions, _opt(sl.ground), _opt(sl.cut_fill))]
     return out + ("\n".join(lines) + "\n").encode("utf-8")
 
 
