@@ -376,7 +376,12 @@ class Stationing:
         for k in range(1, self.regions + 1):  # one vectorised step per region
             lo, hi = self.region_range(k)
             a, b = lo + self.shift(k), hi + self.shift(k)
-            inside = (v >= a - tol) & ((v <= b + tol) if k == self.regions else (v < b - tol))
+            # a region ends with its equation's back station, which is a station of that region too
+            # (to_internal reads it there); only the equation point itself, when its ahead station
+            # equals the back one, is the same place and no second occurrence
+            inside = (v >= a - tol) & (v <= b + tol)
+            if k < self.regions:
+                inside &= ~((np.abs(x - hi) <= self._snap[k - 1]) & (np.abs(v - b) <= tol))
             twice |= inside & (own != k)
         return twice
 

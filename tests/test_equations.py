@@ -15,7 +15,9 @@ from typer.testing import CliRunner
 
 from stakeout.cli import app
 from stakeout.design import build_design
+from stakeout.errors import JobFileError
 from stakeout.jobfile import load_job
+from stakeout.stations import StationRef, Stationing
 
 from .helpers import build_job, read_rows, write_job
 
@@ -234,3 +236,27 @@ interval = 25.0
     assert el[2]["start_station"] == "1000.0000"  # the line starts at the ahead station
     eq = [r for r in read_rows(out / "stations.csv") if "EQ" in r["feature"].split()]
     assert [(r["station_label"], r["region"]) for r in eq] == [("1+000.000", "2")]
+
+
+def test_back_station_of_a_backward_equation_printed_without_region(tmp_path):
+    """Regression: after 1+105 BK = 1+100 AH the stake at 1+105 in region 2 (5 m past the
+    equation point) was labelled plain 1+105.000, although 1+105 is also the equation's back
+    station in region 1 and the job file's own reader refuses "1+105" without a region
+    (outputs contract: a station that occurs twice carries its region on every label).  An
+    equation whose ahead station equals its back station (common practice: a station
+    equation that renames nothing) still labels its point once, plainly."""
+    out = build_job(_job(tmp_path, equations=BACKWARD, extra="extra_stations = [{ station = \"1+105\", region = 2 }]"),
+                    tmp_path / "o")
+    labels = {(round(float(r["station"]), 3), int(r["region"])): r["station_label"]
+              for r in read_rows(out / "stations.csv")}
+    assert labels[(1105.0, 2)] == "1+105.000(2)"
+    st = Stationing.with_equations(1000.0, 1550.0, 1000, 3, ((1105.0, 1100.0, "eq"),))
+    with pytest.raises(JobFileError, match="lies in regions 1 and 2"):
+        st.to_internal(StationRef(1105.0, None, "x"))
+    same = """[[alignment.station_equation]]
+back = "1+150.000"
+ahead = "1+150.000"
+"""
+    (tmp_path / "same").mkdir()
+    out2 = build_job(_job(tmp_path / "same", equations=same, extra=""), tmp_path / "o2")
+    assert all("(" not in r["station_label"] for r in read_rows(out2 / "stations.csv"))
