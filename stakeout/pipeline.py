@@ -120,6 +120,16 @@ def check_design(d: Design) -> None:
                 f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point[i]} at "
                 f"{d.stationing.label(float(sp.station[i]))}, offset {float(sp.offset[i]):.3f}); one id names one "
                 "point in the point file and on the sheets: give the control point another id or set staking.point_prefix")
+    sl = d.presentation.slope_points if points else None
+    if sl is not None and sl.ids:  # the catch and reference stakes are numbered after the others
+        at = {pid: j for j, pid in enumerate(sl.ids)}
+        for cp in points:
+            j = at.get(cp.id, -1)
+            if j >= 0:
+                raise JobFileError(
+                    f"{cp.where or cp.id}: id {cp.id!r} is also a slope stake's ({sl.feature[j]} {sl.code[j]} at "
+                    f"{sp.labels[int(sl.station[j])]}, offset {float(sl.offset[j]):.3f}); one id names one point in "
+                    "the point file and on the sheets: give the control point another id or set staking.point_prefix")
     if d.setup is None or not len(sp):
         return
     extent = float(np.hypot(np.ptp(sp.northing), np.ptp(sp.easting)))

@@ -400,3 +400,20 @@ def test_one_side_only(tmp_path):
     assert files["volumes.csv"].count("\n") == 1  # the header alone: volumes need both sides
     assert "they need slope stakes on both sides" in files["report.html"]
     assert "0 of 6 staked stations" in files["sections.svg"]
+
+
+def test_control_id_equal_to_a_slope_stake_id_accepted(tmp_path):
+    """Regression: a control point whose id equalled a catch or reference stake's (numbered after
+    the other stakes) was accepted, so points.csv and control.csv both held point 19 at two
+    places; an id shared with an ordinary stake was already refused (one id names one point)."""
+    extra = SLOPES + '[[control.point]]\nid = "19"\nnorthing = 1030.0\neasting = 2050.0\n'
+    job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra)
+    out = tmp_path / "out"
+    r = runner.invoke(app, ["build", str(job), "--out", str(out)])
+    assert r.exit_code == 2, r.output
+    assert "'19' is also a slope stake's" in r.output and not out.exists()
+    ok = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra.replace('id = "19"', 'id = "CP19"'))
+    r = runner.invoke(app, ["build", str(ok), "--out", str(tmp_path / "out2")])
+    assert r.exit_code == 0, r.output
+    ids = [row["point"] for row in _rows((tmp_path / "out2" / "points.csv").read_text(encoding="utf-8"))]
+    assert "19" in ids
