@@ -417,3 +417,24 @@ def test_control_id_equal_to_a_slope_stake_id_accepted(tmp_path):
     assert r.exit_code == 0, r.output
     ids = [row["point"] for row in _rows((tmp_path / "out2" / "points.csv").read_text(encoding="utf-8"))]
     assert "19" in ids
+
+
+def test_check_crashed_on_a_job_with_slope_stakes(tmp_path):
+    """Regression: ``stakeout check`` of any job with [slope_stakes] stopped with an internal
+    error (exit 3): restake.csv takes its rows from points.csv by line, and the catch and
+    reference stakes' lines after the design points ran past the table of lines to keep.
+    restake.csv must hold exactly points.csv's header and the not-staked design points' rows."""
+    extra = SLOPES + "[check]\nhorizontal_tolerance = 0.02\n"
+    job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra)
+    shots = tmp_path / "shots.csv"
+    shots.write_text("1,1006.0,2000.0,,STK\n", encoding="utf-8")  # design point 1: SHL at 0+000 (6 m left)
+    out = tmp_path / "chk"
+    r = runner.invoke(app, ["check", str(job), str(shots), "--out", str(out)])
+    assert r.exit_code == 0, r.output  # its one shot is within tolerance
+    points = (tmp_path / "b").joinpath("points.csv")
+    assert runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "b"), "--only", "points"]).exit_code == 0
+    lines = points.read_text(encoding="utf-8").splitlines()
+    restake = (out / "restake.csv").read_text(encoding="utf-8").splitlines()
+    assert restake[0] == lines[0]
+    assert restake[1:] == lines[2:19]  # design points 2 to 18; the slope stakes' lines are not design points
+    assert not any("CATCH" in x or "REF" in x for x in restake)

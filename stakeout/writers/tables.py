@@ -418,7 +418,9 @@ def restake_csv(d: Design, r: "CheckResult") -> bytes:
     """
     data = np.frombuffer(points_csv(d), dtype=np.uint8)
     line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
-    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
+    # every line of points.csv: the catch and reference stakes follow the design points there
+    # (check matches shots to the design points only, so those lines are never restaked here)
+    keep = np.zeros(max(int(line_of_byte[-1]) + 1, len(d.stakes) + 1), dtype=bool)
     keep[0] = True
     keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
     out: bytes = data[keep[line_of_byte]].tobytes()
