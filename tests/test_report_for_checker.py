@@ -89,10 +89,11 @@ def test_report_html_printed_offsets_without_their_side(kestrel):
 def test_profile_svg_labelled_internal_stations_past_an_equation(kestrel):
     svg = etree.fromstring((kestrel / "profile.svg").read_bytes())
     texts = [t.text or "" for t in svg.iter("{http://www.w3.org/2000/svg}text")]
-    stations = [t for t in texts if re.fullmatch(r"\d+\+\d{3}\.\d{3}", t)]
+    stations = [t for t in texts if re.fullmatch(r"\d+\+\d{3}\.\d{3}(\(\d+\))?", t)]
     # every grid label is a round 100 m of the stationing in force (0+000 ... 0+900, 0+700 once the
-    # equation 0+700 BK = 0+690 AH steps back), never an internal 0+710, 0+810 ...
-    assert stations == [f"0+{k}00.000" for k in range(10)]
+    # equation 0+700 BK = 0+690 AH steps back), never an internal 0+710, 0+810 ...; 0+700 of region 2
+    # is also the equation's back station in region 1, so it carries its region (outputs contract)
+    assert stations == [f"0+{k}00.000" for k in range(7)] + ["0+700.000(2)", "0+800.000", "0+900.000"]
     assert "0+700.000 BK = 0+690.000 AH" in texts
     # each grade in percent and the vertical curve's L and K (as recomputed above)
     assert f"{6.5 / 450 * 100:+.4f} %" in texts and f"{2.5 / 510 * 100:+.4f} %" in texts
