@@ -120,8 +120,19 @@ def check_design(d: Design) -> None:
                 f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point[i]} at "
                 f"{d.stationing.label(float(sp.station[i]))}, offset {float(sp.offset[i]):.3f}); one id names one "
                 "point in the point file and on the sheets: give the control point another id or set staking.point_prefix")
-    sl = d.presentation.slope_points if points else None
-    if sl is not None and sl.ids:  # the catch and reference stakes are numbered after the others
+    sl = d.presentation.slope_points
+    if sl is not None and sl.ids:  # numbered after the other stakes: within the same bounds as they are
+        from .limits import check_point_numbers
+        from .staking import MAX_ID_CHARS
+
+        check_point_numbers(job.staking.first_point, len(sp) + len(sl.ids))
+        longest = max(sl.ids, key=len)
+        if len(longest) > MAX_ID_CHARS:
+            raise JobFileError(
+                f"staking.point_prefix = {job.staking.point_prefix!r}: with first_point = {job.staking.first_point} "
+                f"the last slope stake's id {longest!r} has {len(longest)} characters; ids may have at most "
+                f"{MAX_ID_CHARS} (shorten the prefix or lower staking.first_point)")
+    if points and sl is not None and sl.ids:  # the catch and reference stakes are numbered after the others
         at = {pid: j for j, pid in enumerate(sl.ids)}
         for cp in points:
             j = at.get(cp.id, -1)

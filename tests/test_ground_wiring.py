@@ -438,3 +438,24 @@ def test_check_crashed_on_a_job_with_slope_stakes(tmp_path):
     assert restake[0] == lines[0]
     assert restake[1:] == lines[2:19]  # design points 2 to 18; the slope stakes' lines are not design points
     assert not any("CATCH" in x or "REF" in x for x in restake)
+
+
+def test_slope_stake_ids_ran_past_the_point_number_and_id_limits(tmp_path):
+    """Regression: the catch and reference stakes, numbered after the last stake, were not held to
+    the bounds every other stake is (point numbers end at 10**15 - 1, ids have at most 20
+    characters), so points.csv could hold 'ABCDEFGHI100000000000'.  Now the same one-line errors."""
+    job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), SLOPES)
+    text = job.read_text(encoding="utf-8")
+    # 18 stakes then 24 slope stakes (6 stations, both sides, a catch and a reference each)
+    near_end = text.replace("interval = 20.0", "interval = 20.0\nfirst_point = 999999999999970")
+    job.write_text(near_end, encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "o1")])
+    assert r.exit_code == 2 and "point numbers end at 999,999,999,999,999" in r.output, r.output
+    long_ids = text.replace("interval = 20.0", 'interval = 20.0\nfirst_point = 99999999970\npoint_prefix = "ABCDEFGHI"')
+    job.write_text(long_ids, encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "o2")])
+    assert r.exit_code == 2 and "ids may have at most 20" in r.output, r.output
+    fits = text.replace("interval = 20.0", 'interval = 20.0\nfirst_point = 99999999900\npoint_prefix = "ABCDEFGHI"')
+    job.write_text(fits, encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "o3")])
+    assert r.exit_code == 0, r.output
