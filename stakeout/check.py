@@ -747,6 +747,14 @@ def _misnumbered(mt: Matches, sn: NDArray[np.float64], se: NDArray[np.float64], 
     old = di[cand]
     still = np.isin(np.arange(governor.size), old)
     governor[still & np.isin(governor, cand)] = -1
+    # ... and the last of those earlier shots by number governs it again (no longer superseded)
+    moved = np.zeros(m, dtype=bool)
+    moved[cand] = True
+    earlier = np.flatnonzero(mt.by_number & (di >= 0) & np.isin(di, old) & ~moved & ~mt.duplicate)
+    np.maximum.at(governor, di[earlier], earlier)
+    superseded = mt.superseded.copy()
+    superseded[earlier] = governor[di[earlier]] != earlier
+    related = np.where(superseded | mt.duplicate, governor[np.where(new_di >= 0, new_di, 0)], -1).astype(np.int64)
     by_number = mt.by_number.copy()
     by_number[cand] = False
-    return Matches(new_di, mt.control_index, by_number, mt.superseded, mt.duplicate, mt.related, governor), stored_as
+    return Matches(new_di, mt.control_index, by_number, superseded, mt.duplicate, related, governor), stored_as

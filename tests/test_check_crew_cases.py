@@ -60,6 +60,23 @@ def test_a_shot_out_by_number_near_a_point_already_staked_stays_out(tmp_path):
     assert [x["status"] for x in rows] == ["ok", "out"]
 
 
+def test_good_shot_superseded_by_a_misnumbered_one_left_its_point_not_staked(tmp_path):
+    """Regression: 1043 shot on its own mark, then a later shot stored as 1043 that lies on
+    1034.  The later one became `misnumbered` (it belongs to 1034), but the good first shot of
+    1043 stayed `superseded` by it and 1043 was listed in restake.csv as not staked.  The last
+    earlier shot of the number now governs it again (module rule: the last shot of a number
+    governs; the misnumbered shot is no longer one of 1043's)."""
+    pts = {r["point"]: r for r in _design(tmp_path)}
+    a, b = pts["1034"], pts["1043"]
+    shots = [["1043", b["northing"], b["easting"], "", "STK"],
+             ["1043", f"{float(a['northing']) + 0.001:.4f}", a["easting"], "", "STK"]]
+    r, rows, out = _check(tmp_path, JOB, shots)
+    assert r.exit_code == 1  # misnumbered: a person confirms
+    assert [(x["status"], x["design_point"]) for x in rows] == [("ok", "1043"), ("misnumbered", "1034")]
+    restake = [x["point"] for x in read_rows(out / "restake.csv")]
+    assert "1043" not in restake and "1034" not in restake
+
+
 PROFILED = SAMPLES / "hillside_lane_profile_m.toml"  # a sample with design elevations
 
 
