@@ -123,7 +123,7 @@ def parse_columns(text: str | None) -> tuple[str, ...]:
     for need in ("point", "northing", "easting"):
         if need not in cols:
             raise StakedFileError(f"--columns {text!r}: must name {need!r}")
-    dup = [c for c in set(cols) if c != "skip" and cols.count(c) > 1]
+    dup = [c for c in cols if c != "skip" and cols.count(c) > 1]  # in the order given: the same message every run
     if dup:
         raise StakedFileError(f"--columns {text!r}: {dup[0]!r} given twice")
     return cols

@@ -252,3 +252,18 @@ def test_defaults_unchanged(tmp_path):
     assert DEFAULT_COLUMNS == ("point", "northing", "easting", "elevation", "description")
     s = read_shots(SAMPLES / "staked" / "loop_ramp_shots.csv")
     assert len(s) > 0 and s.encoding == "UTF-8"
+
+
+def test_columns_given_twice_named_a_different_column_each_run():
+    """Regression: with two columns given twice, the error named whichever a set of strings
+    listed first, which changes with Python's string hashing from run to run (same input,
+    different output).  It now names the first one repeated, in the order given."""
+    code = ("from stakeout.shots import parse_columns\n"
+            "try:\n    parse_columns('point,easting,northing,easting,northing,elevation,elevation')\n"
+            "except Exception as e:\n    print(e)\n")
+    seen = set()
+    for seed in ("1", "2", "3", "4", "5", "6"):
+        env = dict(os.environ, PYTHONHASHSEED=seed)
+        seen.add(subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True,
+                                check=True).stdout)
+    assert seen == {"--columns 'point,easting,northing,easting,northing,elevation,elevation': 'easting' given twice\n"}
