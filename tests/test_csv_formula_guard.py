@@ -80,3 +80,4 @@ def test_guard_function():
         assert csv_guard(lead + "1") == "'" + lead + "1"
     assert csv_guard("CL") == "CL" and csv_guard("") == ""
     assert csv_text_field("=a,b") == "\"'=a,b\""
+

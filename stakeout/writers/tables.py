@@ -17,7 +17,7 @@ from numpy.typing import NDArray
 
 from ..angles import format_dms
 from ..design import Design
-from ..numbers import fixed_strings
+from ..numbers import fixed_strings, round_to
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
@@ -106,7 +106,8 @@ class _PerPoint:
     def side_offset(self, decimals: int) -> rows.Field:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
         offs = self.sp.offsets
-        side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in offs.tolist()])
+        # the side of the offset as printed: one that rounds to zero is on the line (as text.side_text)
+        side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in round_to(offs, decimals).tolist()])
         if self.sp.point_offsets is not None:  # widened lines: each point's own offset, the line's side
             return np.concatenate([rows.fixed(np.abs(self.sp.point_offsets[self.p]), decimals),
                                    rows.tile_rows(side, self.k)], axis=1)
