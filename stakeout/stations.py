@@ -373,16 +373,20 @@ class Stationing:
             return twice
         v, own = self.station(x), self.region(x)
         tol = 0.5 * 10.0 ** -self.decimals
-        for k in range(1, self.regions + 1):  # one vectorised step per region
-            lo, hi = self.region_range(k)
-            a, b = lo + self.shift(k), hi + self.shift(k)
-            # a region ends with its equation's back station, which is a station of that region too
-            # (to_internal reads it there); only the equation point itself, when its ahead station
-            # equals the back one, is the same place and no second occurrence
-            inside = (v >= a - tol) & (v <= b + tol)
-            if k < self.regions:
-                inside &= ~((np.abs(x - hi) <= self._snap[k - 1]) & (np.abs(v - b) <= tol))
-            twice |= inside & (own != k)
+        # each region's stations run from a to b; a region ends with its equation's back station,
+        # which is a station of that region too (to_internal reads it there)
+        a = self._bounds[:-1] + self._shifts
+        b = self._bounds[1:] + self._shifts
+        # regions holding each station, counted by binary search (n log n in the equations):
+        # those starting at or before it less those ending before it
+        count = (np.searchsorted(np.sort(a - tol), v, side="right")
+                 - np.searchsorted(np.sort(b + tol), v, side="left"))
+        # only the equation point itself, when its ahead station equals the back one, is the same
+        # place as the region behind's last station and no second occurrence
+        behind = np.maximum(own - 2, 0)
+        at_equation = ((own > 1) & (np.abs(x - self._bounds[own - 1]) <= self._snap[behind])
+                       & (np.abs(v - b[behind]) <= tol)) if self.regions > 1 else np.zeros(x.shape, dtype=bool)
+        twice = count - 1 - at_equation > 0
         return twice
 
     def labels(self, internal: ArrayLike) -> list[str]:

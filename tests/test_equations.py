@@ -260,3 +260,35 @@ ahead = "1+150.000"
     (tmp_path / "same").mkdir()
     out2 = build_job(_job(tmp_path / "same", equations=same, extra=""), tmp_path / "o2")
     assert all("(" not in r["station_label"] for r in read_rows(out2 / "stations.csv"))
+
+
+def test_occurs_twice_was_a_loop_over_every_region_for_every_label():
+    """occurs_twice looped over the regions for every call (quadratic with thousands of
+    equations, each key point's label a call); it now counts the regions holding each station
+    by binary search.  Checked here against the plain rule, region by region, on random
+    equations stepping back, forward and not at all."""
+    from stakeout.stations import Stationing
+
+    rng = np.random.default_rng(7)
+    for _ in range(200):
+        start, end = 1000.0, 1000.0 + 10.0 * rng.integers(50, 400)
+        internals = np.sort(rng.choice(np.arange(start + 10.0, end - 10.0, 5.0), size=rng.integers(1, 8),
+                                       replace=False))
+        eqs, shift = [], 0.0
+        for it in internals:
+            back = it + shift
+            ahead = back + rng.choice([-50.0, -5.0, 0.0, 5.0, 30.0])
+            eqs.append((back, ahead, "e"))
+            shift = ahead - it
+        st = Stationing.with_equations(start, end, 100, 2, tuple(eqs))
+        x = np.concatenate([np.linspace(start, end, 499), internals])
+        v, own, tol = st.station(x), st.region(x), 0.005
+        want = np.zeros(x.size, dtype=bool)
+        for k in range(1, st.regions + 1):  # the rule, region by region
+            lo, hi = st.region_range(k)
+            a, b = lo + st.shift(k), hi + st.shift(k)
+            inside = (v >= a - tol) & (v <= b + tol)
+            if k < st.regions:  # the equation point itself, ahead equal to back, is no second place
+                inside &= ~(np.isclose(x, hi, rtol=0, atol=1e-9) & (np.abs(v - b) <= tol))
+            want |= inside & (own != k)
+        assert np.array_equal(st.occurs_twice(x), want)
