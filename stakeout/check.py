@@ -369,6 +369,18 @@ def design_index_of_ids(ids: Sequence[str], prefix: str, first_point: int, count
     return np.where(ok, idx, -1).astype(np.int64)
 
 
+def stake_index_of_ids(ids: Sequence[str], stakes: StakePoints) -> NDArray[np.int64]:
+    """The stake each id names exactly, -1 for none: a numbered stake by its number
+    (:func:`design_index_of_ids`), a stake the job named by its id.
+    """
+    idx = design_index_of_ids(ids, stakes.prefix, stakes.first_point, stakes.numbered)
+    if stakes.layout is not None and stakes.layout.names:
+        at = {name: stakes.numbered + j for j, name in enumerate(stakes.layout.names)}
+        given = np.array([at.get(p, -1) for p in ids], dtype=np.int64)
+        idx = np.where(idx >= 0, idx, given)
+    return idx
+
+
 def _id_array(ids: Sequence[str], longest: int) -> NDArray[np.str_]:
     """Ids as a numpy string array; an id longer than ``longest`` (which can
     name nothing) becomes empty (which names nothing), so one long id does
@@ -455,7 +467,7 @@ class Matches:
 
 def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDArray[np.float64], prefix: str,
                 first_point: int, design_northing: NDArray[np.float64], design_easting: NDArray[np.float64],
-                control: Sequence[ControlRow], radius: float) -> Matches:
+                control: Sequence[ControlRow], radius: float, names: Sequence[str] = ()) -> Matches:
     """Match shots to design and control points (the rules of the module docstring).
 
     Parameters
@@ -472,6 +484,9 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
         Control points, job units.
     radius : float
         Search radius for shots matched by position, job units.
+    names : sequence of str
+        The ids the job gave the last ``len(names)`` design points (listed
+        points); every design point before them is numbered.
     """
     sn = np.asarray(northing, dtype=np.float64)
     se = np.asarray(easting, dtype=np.float64)
@@ -480,7 +495,10 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
     ce = np.array([c[2] for c in control], dtype=np.float64)
 
     # ids: a design point's, a control point's, or both (then the nearer; a tie to the design point)
-    num = design_index_of_ids(ids, prefix, first_point, nd)
+    num = design_index_of_ids(ids, prefix, first_point, nd - len(names))
+    if names:
+        at = {name: nd - len(names) + j for j, name in enumerate(names)}
+        num = np.where(num >= 0, num, np.array([at.get(p, -1) for p in ids], dtype=np.int64))
     cid = _control_index_of_ids(ids, [c[0] for c in control])
     both = (num >= 0) & (cid >= 0)
     if np.any(both):
@@ -634,7 +652,7 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     m, nd = len(shots), len(design)
     sn, se = shots.northing, shots.easting
     mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
-                     control, radius)
+                     control, radius, design.layout.names if design.layout is not None else ())
     mt, stored_as = _misnumbered(mt, sn, se, design.northing, design.easting, horizontal_tolerance)
     ground = ground_shots(shots.description, ground_codes)
     di, ci = mt.design_index, mt.control_index

@@ -27,14 +27,14 @@ from numpy.typing import NDArray
 
 from .alignment import STATION_TOLERANCE, Alignment, build_alignment
 from .crosssection import DerivedRow, SectionPlan, derive_rows, plan_sections
-from .earthwork import Earthwork, earthwork
+from .earthwork import Earthwork, catch_and_reference_stakes, earthwork, placed
 from .errors import GeometryError, JobFileError
 from .job import ControlPoint, Job, Setup, SetupStation, SuperelevationRow
 from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
 from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
-from .staking import StakePoints, plan_stakes
+from .staking import StakePoints, plan_stakes, with_stakes
 from .stations import StationRef, Stationing
 from .units import Unit
 
@@ -286,7 +286,7 @@ class _PointIds(Sequence[str]):
     def __getitem__(self, i: int | slice) -> str | Sequence[str]:
         if isinstance(i, slice):
             return [self[k] for k in range(*i.indices(len(self)))]
-        return f"{self._stakes.prefix}{int(self._stakes.number[i])}"
+        return self._stakes.point_id(i)
 
 
 def precision_rules_setups(job: Job) -> bool:
@@ -475,7 +475,12 @@ def build_design(job: Job) -> Design:
     profile = build_profile_of(job, stationing)
     sections = build_sections(job, alignment, stationing)
     staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
-    stakes = plan_stakes(alignment, staking, stationing, profile, sections)
+    plan = plan_stakes(alignment, staking, stationing, profile, sections)
+    # the ground work runs on the grid; its catch and reference stakes then join the table
+    ew = None if job.ground is None else earthwork(plan, job.ground, job.slope_stakes)
+    stakes = plan if ew is None else with_stakes(plan, catch_and_reference_stakes(plan, ew))
+    if ew is not None and job.ground is not None:
+        ew = placed(ew, stakes, job.ground, 0)
     grid = crs_label = proj = None
     unit = job.info.unit
     if job.info.crs is not None:
@@ -505,7 +510,6 @@ def build_design(job: Job) -> Design:
         else:  # per-setup factors are listed in the manifest's setups
             shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
             factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
-    ew = None if job.ground is None else earthwork(stakes, job.ground, job.slope_stakes)
     return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
                   sections=sections, crs_label=crs_label,
                   proj_version=proj, factors=factors, earthwork=ew)

@@ -17,7 +17,7 @@ need (numpy, no I/O):
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from numpy.typing import NDArray
@@ -26,10 +26,10 @@ from .angles import sincosd
 from .errors import JobFileError
 from .ground import Ground
 from .slopestakes import SlopeStakes, SlopeStaking
-from .staking import StakePoints
+from .staking import MoreStakes, StakePoints
 from .volumes import CrossSections, Volumes, average_end_volumes, cross_sections
 
-__all__ = ["Earthwork", "SlopeRows", "earthwork"]
+__all__ = ["Earthwork", "SlopeRows", "earthwork", "catch_and_reference_stakes", "placed"]
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -52,6 +52,9 @@ class SlopeRows:
     catch_offset: F64
     reference_offset: F64
     result: SlopeStakes
+    #: Table indices of the catch and reference stakes (-1 without a catch point); set by :func:`placed`.
+    catch_point: I64 | None = None
+    reference_point: I64 | None = None
 
 
 @dataclass(frozen=True)
@@ -138,9 +141,99 @@ def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None) ->
     return Earthwork(gz, cf, rows, cs, vst, vol)
 
 
+def catch_and_reference_stakes(plan: StakePoints, ew: Earthwork) -> MoreStakes:
+    """The catch and reference stakes as stakes of the table (:func:`~stakeout.staking.with_stakes`).
+
+    Each follows its station's grid stakes, left to right by offset: left
+    ``REF``, left ``CATCH``, right ``CATCH``, right ``REF`` (job-file
+    contract); a catch stake's elevation is its ground, a reference stake has
+    none.  Code: the hinge's code and ``-C``/``-R``; direction: the hinge's.
+    Rows without a catch point add none.
+    """
+    r = ew.slopes
+    if r is None:
+        return _no_stakes()
+    res = r.result
+    left = np.array([s == "left" for s in r.side], dtype=bool)
+    has = ~np.isnan(res.catch_n)
+    m = plan.offsets.size
+    hinge_code = np.array(plan.codes, dtype=object)[r.hinge % m]
+    nan = np.full(left.size, np.nan)
+    pairs = {  # per row (catch, reference), swapped on the left
+        "station": (r.station, r.station),
+        "offset": (r.catch_offset, r.reference_offset),
+        "northing": (res.catch_n, res.ref_n),
+        "easting": (res.catch_e, res.ref_e),
+        "elevation": (res.catch_z, nan),
+        "azimuth": (plan.azimuth[r.hinge], plan.azimuth[r.hinge]),
+        "feature": (np.full(left.size, "CATCH", dtype=object), np.full(left.size, "REF", dtype=object)),
+        "code": (hinge_code + "-C", hinge_code + "-R"),
+    }
+    keep = np.repeat(has, 2)
+    out = {}
+    for k, (a, b) in pairs.items():
+        out[k] = np.column_stack([np.where(left, b, a), np.where(left, a, b)]).ravel()[keep]
+    j = int(keep.sum())
+    st = out["station"].astype(np.int64)
+    return MoreStakes(after=st, station=plan.stations[st], offset=out["offset"].astype(np.float64),
+                      northing=out["northing"].astype(np.float64), easting=out["easting"].astype(np.float64),
+                      azimuth=out["azimuth"].astype(np.float64), elevation=out["elevation"].astype(np.float64),
+                      code=tuple(out["code"].tolist()), feature=tuple(out["feature"].tolist()),
+                      description=(None,) * j, name=(None,) * j)
+
+
+def _no_stakes() -> MoreStakes:
+    z = np.zeros(0)
+    return MoreStakes(np.zeros(0, dtype=np.int64), z, z, z, z, z, z, (), (), (), ())
+
+
+def placed(ew: Earthwork, table: StakePoints, ground: Ground, first_more: int) -> Earthwork:
+    """``ew`` (computed on the grid plan) laid onto the stake table.
+
+    Hinges become table indices, the catch and reference stakes get theirs
+    (``first_more`` is where the catch and reference stakes start among the
+    added stakes, in the order :func:`catch_and_reference_stakes` gives),
+    and ground elevation and cut/fill run over every stake of the table: a
+    catch stake's ground is its own elevation (cut/fill 0), a reference
+    stake's cut/fill is empty (it has no design elevation), a listed point
+    gets the ground where it lies.
+    """
+    grid = table.grid_index
+    n = len(table)
+    gz = np.full(n, np.nan)
+    cf = np.full(n, np.nan)
+    gz[grid] = ew.ground_elevation
+    cf[grid] = ew.cut_fill
+    off = np.ones(n, dtype=bool)
+    off[grid] = False
+    rows = ew.slopes
+    if rows is not None:
+        has = ~np.isnan(rows.result.catch_n)
+        catch = np.full(has.size, -1, dtype=np.int64)
+        ref = np.full(has.size, -1, dtype=np.int64)
+        assert table.layout is not None
+        at = table.layout.added[first_more:first_more + int(2 * has.sum())]  # in the order they were given
+        left = np.array([s == "left" for s in rows.side], dtype=bool)
+        pair = 2 * (np.cumsum(has) - has)
+        catch[has] = at[np.where(left, pair + 1, pair)[has]]
+        ref[has] = at[np.where(left, pair, pair + 1)[has]]
+        gz[catch[has]] = rows.result.catch_z[has]
+        cf[catch[has]] = 0.0
+        gz[ref[has]] = rows.result.ref_ground[has]
+        off[catch[has]] = False
+        off[ref[has]] = False
+        rows = replace(rows, hinge=grid[rows.hinge], catch_point=catch, reference_point=ref)
+    if off.any():  # listed points: the ground where they lie
+        k = np.flatnonzero(off)
+        gz[k] = ground.elevation(table.northing[k], table.easting[k])
+        if table.elevation is not None:
+            cf[k] = table.elevation[k] - gz[k]
+    return replace(ew, ground_elevation=gz, cut_fill=cf, slopes=rows)
+
+
 def _take(res: SlopeStakes, idx: I64) -> SlopeStakes:
     """The rays ``idx`` of a result (every array field, and the design lines)."""
-    from dataclasses import fields, replace
+    from dataclasses import fields
 
     from .slopestakes import DesignLines
 

@@ -104,7 +104,7 @@ def check_design(d: Design) -> None:
     JobFileError
         Naming both uses of the id, or the setup, its point and the sight.
     """
-    from .check import design_index_of_ids
+    from .check import stake_index_of_ids
 
     job, sp = d.job, d.stakes
     points = list(job.control)
@@ -113,34 +113,15 @@ def check_design(d: Design) -> None:
             points += [(cp.__class__(cp.id, cp.northing, cp.easting, cp.elevation, cp.where or f"{st.where}.{role}"))
                        for role, cp in (("occupied", st.occupied), ("backsight", st.backsight)) if cp is not None]
     if points and len(sp):
-        hit = design_index_of_ids([cp.id for cp in points], sp.prefix, sp.first_point, len(sp))
+        hit = stake_index_of_ids([cp.id for cp in points], sp)
         for k in np.flatnonzero(hit >= 0)[:1].tolist():
             cp, i = points[k], int(hit[k])
+            what = " ".join(w for w in (sp.feature[i], sp.code[i]) if w) if sp.layout is not None else ""
             raise JobFileError(
-                f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point[i]} at "
-                f"{d.stationing.label(float(sp.station[i]))}, offset {float(sp.offset[i]):.3f}); one id names one "
-                "point in the point file and on the sheets: give the control point another id or set staking.point_prefix")
-    sl = d.presentation.slope_points
-    if sl is not None and sl.ids:  # numbered after the other stakes: within the same bounds as they are
-        from .limits import check_point_numbers
-        from .staking import MAX_ID_CHARS
-
-        check_point_numbers(job.staking.first_point, len(sp) + len(sl.ids))
-        longest = max(sl.ids, key=len)
-        if len(longest) > MAX_ID_CHARS:
-            raise JobFileError(
-                f"staking.point_prefix = {job.staking.point_prefix!r}: with first_point = {job.staking.first_point} "
-                f"the last slope stake's id {longest!r} has {len(longest)} characters; ids may have at most "
-                f"{MAX_ID_CHARS} (shorten the prefix or lower staking.first_point)")
-    if points and sl is not None and sl.ids:  # the catch and reference stakes are numbered after the others
-        at = {pid: j for j, pid in enumerate(sl.ids)}
-        for cp in points:
-            j = at.get(cp.id, -1)
-            if j >= 0:
-                raise JobFileError(
-                    f"{cp.where or cp.id}: id {cp.id!r} is also a slope stake's ({sl.feature[j]} {sl.code[j]} at "
-                    f"{sp.labels[int(sl.station[j])]}, offset {float(sl.offset[j]):.3f}); one id names one point in "
-                    "the point file and on the sheets: give the control point another id or set staking.point_prefix")
+                f"{cp.where or cp.id}: id {cp.id!r} is also a stake's (point {sp.point_id(i)}"
+                f"{' ' + what if what else ''} at {d.stationing.label(float(sp.station[i]))}, offset "
+                f"{float(sp.offset[i]):.3f}); one id names one point in the point file and on the sheets: give the "
+                "control point another id or set staking.point_prefix")
     if d.setup is None or not len(sp):
         return
     extent = float(np.hypot(np.ptp(sp.northing), np.ptp(sp.easting)))

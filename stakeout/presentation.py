@@ -354,27 +354,6 @@ class SetoutColumn:
     grouped: bool = False
 
 
-@dataclass(frozen=True)
-class SlopePoints:
-    """The catch and reference stakes as points, in point order (provisionally after every stake:
-    see :attr:`Presentation.slope_stake_ids`): ids, the staked station's index, signed offset,
-    position, elevation (a catch's is its ground; NaN for a reference stake, which has no design
-    elevation), ground elevation, cut/fill (0 at a catch, NaN at a reference stake), feature
-    (``CATCH``/``REF``) and code (the hinge's code and ``-C``/``-R``).
-    """
-
-    ids: list[str]
-    station: NDArray[np.int64]
-    offset: F
-    northing: F
-    easting: F
-    elevation: F
-    ground: F
-    cut_fill: F
-    feature: list[str]
-    code: list[str]
-
-
 class Presentation:
     """What the outputs of one design show, each part computed on first use and kept."""
 
@@ -395,66 +374,15 @@ class Presentation:
         return len(notes), len(ew.slopes.side), why
 
     @cached_property
-    def slope_points(self) -> SlopePoints | None:
-        """The catch and reference stakes as points (None without ``[slope_stakes]``)."""
-        ew = self.d.earthwork
-        if ew is None or ew.slopes is None:
-            return None
-        r, sp = ew.slopes, self.d.stakes
-        res = r.result
-        catch_ids, ref_ids = self.slope_stake_ids
-        left = np.array([s == "left" for s in r.side], dtype=bool)
-        has = ~np.isnan(res.catch_n)
-        hinge_code = [sp.codes[int(h) % sp.offsets.size] for h in r.hinge.tolist()]
-        nan = np.full(left.size, np.nan)
-        # per row (catch, reference), swapped on the left: left REF, left CATCH, right CATCH, right REF
-        pairs = {
-            "ids": (np.array(catch_ids, dtype=object), np.array(ref_ids, dtype=object)),
-            "offset": (r.catch_offset, r.reference_offset),
-            "northing": (res.catch_n, res.ref_n),
-            "easting": (res.catch_e, res.ref_e),
-            "elevation": (res.catch_z, nan),
-            "ground": (res.catch_z, res.ref_ground),
-            "cut_fill": (np.where(has, 0.0, np.nan), nan),
-            "feature": (np.full(left.size, "CATCH", dtype=object), np.full(left.size, "REF", dtype=object)),
-            "code": (np.array([c + "-C" for c in hinge_code], dtype=object),
-                     np.array([c + "-R" for c in hinge_code], dtype=object)),
-            "station": (r.station, r.station),
-        }
-        keep = np.repeat(has, 2)
-        out = {}
-        for k, (a, b) in pairs.items():
-            first = np.where(left, b, a)
-            second = np.where(left, a, b)
-            out[k] = np.column_stack([first, second]).ravel()[keep]
-        return SlopePoints(list(out["ids"]), out["station"].astype(np.int64), out["offset"].astype(float),
-                           out["northing"].astype(float), out["easting"].astype(float),
-                           out["elevation"].astype(float), out["ground"].astype(float),
-                           out["cut_fill"].astype(float), list(out["feature"]), list(out["code"]))
-
-    @cached_property
     def slope_stake_ids(self) -> tuple[list[str], list[str]]:
-        """Point ids of the catch and reference stakes, per slope-stake row ('' without a catch).
-
-        Provisional numbering: after every stake of the job (the first free
-        number after the last stake), station by station in the order left
-        ``REF``, left ``CATCH``, right ``CATCH``, right ``REF``.  The contract
-        numbers them among their station's stakes, which needs the stake
-        table itself to grow; until then they follow the last stake.
-        """
+        """Point ids of the catch and reference stakes, per slope-stake row ('' without a catch)."""
         ew = self.d.earthwork
-        if ew is None or ew.slopes is None:
+        if ew is None or ew.slopes is None or ew.slopes.catch_point is None:
             return [], []
-        sp, rows = self.d.stakes, ew.slopes
-        has = ~np.isnan(rows.result.catch_n)
-        first = int(sp.number.max()) + 1 if len(sp) else sp.first_point
-        base = first + 2 * (np.cumsum(has) - has)
-        left = np.array([s == "left" for s in rows.side], dtype=bool)
-        catch = np.where(left, base + 1, base)
-        ref = np.where(left, base, base + 1)
-        pre = sp.prefix
-        return ([f"{pre}{c}" if h else "" for c, h in zip(catch.tolist(), has.tolist())],
-                [f"{pre}{r}" if h else "" for r, h in zip(ref.tolist(), has.tolist())])
+        sp, catch, ref = self.d.stakes, ew.slopes.catch_point, ew.slopes.reference_point
+        assert ref is not None
+        return ([sp.point_id(i) if i >= 0 else "" for i in catch.tolist()],
+                [sp.point_id(i) if i >= 0 else "" for i in ref.tolist()])
 
     @cached_property
     def landxml_elements(self) -> tuple["XElement", ...]:

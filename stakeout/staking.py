@@ -8,7 +8,7 @@ then by offset from left to right.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 
 import numpy as np
@@ -23,7 +23,8 @@ from .numbers import round_to
 from .profile import Profile
 from .stations import Stationing
 
-__all__ = ["StakePoints", "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS",
+__all__ = ["StakePoints", "Layout", "MoreStakes", "with_stakes",
+           "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS",
            "MAX_POINTS"]
 
 #: Longest point id (prefix + number), as for every id the job file gives.
@@ -41,15 +42,47 @@ MERGE_TOLERANCE = 5e-5
 
 
 @dataclass(frozen=True)
-class StakePoints:
-    """Every staked point in point-number order: station by station, offsets
-    left to right within a station.
+class Layout:
+    """Where the stakes beyond the plain grid sit in the table (:func:`with_stakes`).
 
-    Per-station data (``stations``, internal stations, and ``features``)
-    and per-offset data (``offsets``, ``codes``) are kept apart; per-point
-    arrays are laid out as ``station_index * len(offsets) + offset_index``.
-    The stations printed come from ``stationing``.  The per-point text
-    lists are built on first use only.
+    Every per-point index is into the grid's own tuple followed by the
+    ``more_`` one: ``station_of`` into ``stations`` then ``more_stations``,
+    ``code_of`` into ``codes`` then ``more_codes``, ``feature_of`` into
+    ``features`` then ``more_features`` (a grid point takes its station's).
+    ``grid`` is the table index of each grid point (station by station,
+    offsets left to right).  ``description_of`` is -1 where the point file's
+    description is made from the stake, else an index into ``descriptions``.
+    The last ``len(names)`` points carry the ids the job gave them; every
+    point before them is numbered ``first_point`` upwards in table order.
+    """
+
+    station_of: NDArray[np.int64]
+    more_stations: NDArray[np.float64]
+    code_of: NDArray[np.int64]
+    more_codes: tuple[str, ...]
+    feature_of: NDArray[np.int64]
+    more_features: tuple[str, ...]
+    grid: NDArray[np.int64]
+    #: Table index of each added stake, in the order given to :func:`with_stakes`.
+    added: NDArray[np.int64]
+    description_of: NDArray[np.int64]
+    descriptions: tuple[str, ...]
+    names: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class StakePoints:
+    """Every staked point in point-number order.
+
+    The plan is a grid: every staked station on every offset line, station by
+    station and offsets left to right within a station.  Per-station data
+    (``stations``, internal stations, and ``features``) and per-offset data
+    (``offsets``, ``codes``) describe that grid.  Stakes beyond it (catch and
+    reference stakes among their station's, listed points after the grid)
+    are placed by a :class:`Layout`; without one, per-point arrays are laid
+    out as ``station_index * len(offsets) + offset_index``.  The stations
+    printed come from ``stationing``.  The per-point text lists are built on
+    first use only.
     """
 
     stations: NDArray[np.float64]
@@ -62,34 +95,80 @@ class StakePoints:
     northing: NDArray[np.float64]
     easting: NDArray[np.float64]
     azimuth: NDArray[np.float64]
-    elevation: NDArray[np.float64] | None  # design elevation of each point, None when the job gives none
-    #: Offset of each point where some line is widened (None: ``offsets`` tiled).
+    elevation: NDArray[np.float64] | None  # design elevation of each point (NaN: none), None when the job gives none
+    #: Offset of each point where some line is widened or the table holds more than the grid
+    #: (None: ``offsets`` tiled).
     point_offsets: NDArray[np.float64] | None = None
     #: Cross slope applied to each point (percent; NaN: none), None without design elevations.
     slope: NDArray[np.float64] | None = None
+    #: Stakes beyond the grid (None: the plain grid).
+    layout: Layout | None = None
 
     def __len__(self) -> int:
         return int(self.northing.size)
 
+    @property
+    def numbered(self) -> int:
+        """How many points are numbered (every point but those the job named)."""
+        return len(self) - (len(self.layout.names) if self.layout is not None else 0)
+
+    @property
+    def grid_size(self) -> int:
+        """Points of the grid (staked stations x offset lines)."""
+        return int(self.stations.size * self.offsets.size)
+
+    @cached_property
+    def grid_index(self) -> NDArray[np.int64]:
+        """Table index of each grid point (station by station, offsets left to right)."""
+        if self.layout is None:
+            return np.arange(len(self), dtype=np.int64)
+        return self.layout.grid
+
     @cached_property
     def number(self) -> NDArray[np.int64]:
-        """Point numbers (without the prefix)."""
-        return self.first_point + np.arange(len(self), dtype=np.int64)
+        """Point numbers (without the prefix) of the numbered points (:attr:`numbered`)."""
+        return self.first_point + np.arange(self.numbered, dtype=np.int64)
+
+    @cached_property
+    def station_of(self) -> NDArray[np.int64]:
+        """Each point's station: an index into :attr:`all_stations`."""
+        if self.layout is not None:
+            return self.layout.station_of
+        return np.repeat(np.arange(self.stations.size, dtype=np.int64), self.offsets.size)
+
+    @cached_property
+    def all_stations(self) -> NDArray[np.float64]:
+        """Internal stations of the grid, then of the stakes off them (listed points)."""
+        if self.layout is None:
+            return self.stations
+        return np.concatenate([self.stations, self.layout.more_stations])
 
     @cached_property
     def station(self) -> NDArray[np.float64]:
         """Internal station of each point."""
+        if self.layout is not None:
+            return self.all_stations[self.layout.station_of]
         return np.repeat(self.stations, self.offsets.size)
 
     @cached_property
     def station_values(self) -> NDArray[np.float64]:
-        """The station in force at each staked station (one per station)."""
+        """The station in force at each staked station of the grid (one per station)."""
         return self.stationing.station(self.stations)
 
     @cached_property
+    def all_station_values(self) -> NDArray[np.float64]:
+        """The station in force at each of :attr:`all_stations`."""
+        return self.stationing.station(self.all_stations)
+
+    @cached_property
     def regions(self) -> NDArray[np.int64]:
-        """Stationing region of each staked station (one per station)."""
+        """Stationing region of each staked station of the grid (one per station)."""
         return self.stationing.region(self.stations)
+
+    @cached_property
+    def all_regions(self) -> NDArray[np.int64]:
+        """Stationing region of each of :attr:`all_stations`."""
+        return self.stationing.region(self.all_stations)
 
     @cached_property
     def offset(self) -> NDArray[np.float64]:
@@ -100,28 +179,76 @@ class StakePoints:
 
     @cached_property
     def point(self) -> list[str]:
-        """Point ids: prefix + number."""
-        return [f"{self.prefix}{k}" for k in self.number.tolist()]
+        """Point ids: prefix + number, then the ids the job gave."""
+        named = list(self.layout.names) if self.layout is not None else []
+        return [f"{self.prefix}{k}" for k in self.number.tolist()] + named
+
+    def point_id(self, i: int) -> str:
+        """The id of point ``i`` (without building every id)."""
+        if i < self.numbered:
+            return f"{self.prefix}{self.first_point + i}"
+        assert self.layout is not None
+        return self.layout.names[i - self.numbered]
 
     @cached_property
     def labels(self) -> list[str]:
-        """Station labels, one per station."""
+        """Station labels, one per station of the grid."""
         return self.stationing.labels(self.stations)
+
+    @cached_property
+    def all_labels(self) -> list[str]:
+        """Station labels of :attr:`all_stations`."""
+        if self.layout is None:
+            return self.labels
+        return self.labels + self.stationing.labels(self.layout.more_stations)
 
     @cached_property
     def station_label(self) -> list[str]:
         """Station label of each point."""
+        if self.layout is not None:
+            labels = self.all_labels
+            return [labels[i] for i in self.layout.station_of.tolist()]
         m = self.offsets.size
         return [lab for lab in self.labels for _ in range(m)]
 
     @cached_property
+    def all_codes(self) -> tuple[str, ...]:
+        """The offset lines' codes, then the codes of stakes beyond the grid."""
+        return self.codes + (self.layout.more_codes if self.layout is not None else ())
+
+    @cached_property
+    def code_of(self) -> NDArray[np.int64]:
+        """Each point's code: an index into :attr:`all_codes`."""
+        if self.layout is not None:
+            return self.layout.code_of
+        return np.tile(np.arange(self.offsets.size, dtype=np.int64), self.stations.size)
+
+    @cached_property
     def code(self) -> list[str]:
         """Code of each point."""
+        if self.layout is not None:
+            codes = self.all_codes
+            return [codes[i] for i in self.layout.code_of.tolist()]
         return list(self.codes) * self.stations.size
+
+    @cached_property
+    def all_features(self) -> tuple[str, ...]:
+        """The grid stations' features, then the features of stakes beyond the grid."""
+        return self.features + (self.layout.more_features if self.layout is not None else ())
+
+    @cached_property
+    def feature_of(self) -> NDArray[np.int64]:
+        """Each point's features: an index into :attr:`all_features`."""
+        if self.layout is not None:
+            return self.layout.feature_of
+        return np.repeat(np.arange(self.stations.size, dtype=np.int64), self.offsets.size)
 
     @cached_property
     def feature(self) -> list[str]:
         """Key-point features of each point (empty for ordinary stations)."""
+        if self.layout is not None:
+            feats = self.all_features
+            return [feats[i] for i in self.layout.feature_of.tolist()]
         m = self.offsets.size
         return [f for f in self.features for _ in range(m)]
 
@@ -327,3 +454,106 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
         point_offsets=of if widened else None,
         slope=slope,
     )
+
+
+@dataclass(frozen=True)
+class MoreStakes:
+    """Stakes to add to a grid plan (:func:`with_stakes`).
+
+    ``after`` is the grid station whose stakes each one follows (an index into
+    the plan's stations), or -1 for a stake after the whole grid (a listed
+    point).  Stakes following the same station keep the order given; after
+    the grid the numbered ones come first, then those with a ``name`` (an id
+    the job gave), each in the order given.  ``elevation`` is NaN where a
+    stake has none; ``description`` None where the point file's description
+    is made from the stake, as for every grid stake.
+    """
+
+    after: NDArray[np.int64]
+    station: NDArray[np.float64]
+    offset: NDArray[np.float64]
+    northing: NDArray[np.float64]
+    easting: NDArray[np.float64]
+    azimuth: NDArray[np.float64]
+    elevation: NDArray[np.float64]
+    code: tuple[str, ...]
+    feature: tuple[str, ...]
+    description: tuple[str | None, ...]
+    name: tuple[str | None, ...]
+
+    def __len__(self) -> int:
+        return int(self.after.size)
+
+
+def _vocabulary(words: tuple[str, ...], base: int) -> tuple[NDArray[np.int64], tuple[str, ...]]:
+    """Each word's index (from ``base``) into the distinct words in first-seen order, and those words."""
+    distinct = tuple(dict.fromkeys(words))
+    at = {w: base + i for i, w in enumerate(distinct)}
+    return np.array([at[w] for w in words], dtype=np.int64), distinct
+
+
+def with_stakes(plan: StakePoints, more: MoreStakes) -> StakePoints:
+    """The stake table of ``plan`` with ``more`` stakes in it (see :class:`MoreStakes`).
+
+    Stakes following a station are numbered after that station's grid
+    stakes, so every later point's number moves up; listed points follow
+    the grid.  ``plan`` must be a plain grid (no layout yet).
+
+    Raises
+    ------
+    JobFileError
+        The numbers would pass the point-number limits or the id length.
+    """
+    assert plan.layout is None
+    if not len(more):
+        return plan
+    k, m = plan.stations.size, plan.offsets.size
+    g, j = plan.grid_size, len(more)
+    tail = more.after < 0
+    named = np.array([x is not None for x in more.name], dtype=bool)
+    group = np.concatenate([np.repeat(np.arange(k, dtype=np.int64), m),
+                            np.where(tail, k + named.astype(np.int64), more.after)])
+    added = np.concatenate([np.zeros(g, dtype=np.int8), np.ones(j, dtype=np.int8)])
+    order = np.lexsort((added, group))  # stable: stakes of one group keep the order given
+    rank = np.empty_like(order)
+    rank[order] = np.arange(order.size, dtype=np.int64)
+
+    def merged(grid: NDArray[np.float64], extra: NDArray[np.float64]) -> NDArray[np.float64]:
+        return np.concatenate([grid, extra])[order]
+
+    n_tail = int(tail.sum())
+    more_station_of = np.where(tail, k + np.cumsum(tail) - 1, more.after)
+    station_of = np.concatenate([np.repeat(np.arange(k, dtype=np.int64), m), more_station_of])[order]
+    code_idx, more_codes = _vocabulary(more.code, m)
+    code_of = np.concatenate([np.tile(np.arange(m, dtype=np.int64), k), code_idx])[order]
+    feat_idx, more_features = _vocabulary(more.feature, k)
+    feature_of = np.concatenate([np.repeat(np.arange(k, dtype=np.int64), m), feat_idx])[order]
+    given = [t for t in more.description if t is not None]
+    desc_vocab = tuple(dict.fromkeys(given))
+    at = {t: i for i, t in enumerate(desc_vocab)}
+    desc_idx = np.array([-1 if t is None else at[t] for t in more.description], dtype=np.int64)
+    description_of = np.concatenate([np.full(g, -1, dtype=np.int64), desc_idx])[order]
+    names = tuple(x for x in (more.name[i - g] for i in order[order >= g].tolist()) if x is not None)
+    numbered = g + j - len(names)
+    check_point_numbers(plan.first_point, numbered)
+    last_id = f"{plan.prefix}{plan.first_point + numbered - 1}"
+    if numbered and len(last_id) > MAX_ID_CHARS:
+        raise JobFileError(
+            f"staking.point_prefix = {plan.prefix!r}: with first_point = {plan.first_point} the last point id "
+            f"{last_id!r} has {len(last_id)} characters; ids may have at most {MAX_ID_CHARS} (shorten the prefix "
+            "or lower staking.first_point)")
+    elevation = None
+    if plan.elevation is not None or not np.isnan(more.elevation).all():
+        base = plan.elevation if plan.elevation is not None else np.full(g, np.nan)
+        elevation = merged(base, more.elevation)
+    slope = None if plan.slope is None else merged(plan.slope, np.full(j, np.nan))
+    # rounded once to the point file's decimals, as the grid's are (plan_stakes)
+    more = replace(more, northing=round_to(more.northing, COORDINATE_DECIMALS),
+                   easting=round_to(more.easting, COORDINATE_DECIMALS))
+    layout = Layout(station_of=station_of, more_stations=more.station[tail].astype(np.float64),
+                    code_of=code_of, more_codes=more_codes, feature_of=feature_of, more_features=more_features,
+                    grid=rank[:g], added=rank[g:], description_of=description_of, descriptions=desc_vocab, names=names)
+    assert layout.more_stations.size == n_tail
+    return replace(plan, northing=merged(plan.northing, more.northing),
+                   easting=merged(plan.easting, more.easting), azimuth=merged(plan.azimuth, more.azimuth),
+                   elevation=elevation, point_offsets=merged(plan.offset, more.offset), slope=slope, layout=layout)

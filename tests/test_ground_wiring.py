@@ -160,8 +160,10 @@ def test_slopestakes_csv_level_fill_closed_form(tmp_path):
         assert float(r["vd_to_hinge"]) == pytest.approx(2.0, abs=1e-4)
         # alignment due east: left is north of it
         assert float(r["catch_northing"]) == pytest.approx(1000.0 - float(r["catch_offset"]), abs=1e-4)
-    # catch and reference ids after the 18 stakes: left REF, left CATCH, right CATCH, right REF per station
-    assert [(r["reference_point"], r["catch_point"]) for r in rows[:2]] == [("19", "20"), ("22", "21")]
+    # catch and reference stakes after their station's 3 stakes (job-file contract): left REF, left CATCH,
+    # right CATCH, right REF; the next station's stakes follow them
+    assert [(r["reference_point"], r["catch_point"]) for r in rows[:4]] == [("4", "5"), ("7", "6"),
+                                                                              ("11", "12"), ("14", "13")]
     assert rows[-1]["reference_point"] == "42" and rows[0]["hinge_point"] == "1" and rows[1]["hinge_point"] == "3"
 
 
@@ -362,9 +364,11 @@ def test_catch_and_reference_stakes_in_points_and_stations(tmp_path):
         assert c["elevation"] == c["ground_elevation"] == s["catch_elevation"] and c["cut_fill"] == "0.0000"
         assert ref["elevation"] == "" and ref["cut_fill"] == "" and ref["ground_elevation"] == s["reference_ground"]
         assert c["station_label"] == s["station_label"]
-    p19 = next(r for r in pts if r["point"] == "19")
-    assert p19["elevation"] == "" and p19["description"] == "SHL-R REF 0+000.000 17.000 LT"
-    assert next(r for r in pts if r["point"] == "21")["description"] == "SHR-C CATCH 0+000.000 10.000 RT"
+    p4 = next(r for r in pts if r["point"] == "4")
+    assert p4["elevation"] == "" and p4["description"] == "SHL-R REF 0+000.000 17.000 LT"
+    assert next(r for r in pts if r["point"] == "6")["description"] == "SHR-C CATCH 0+000.000 10.000 RT"
+    # the stations' own stakes, then their catch and reference stakes (job-file contract)
+    assert [r["feature"] for r in sts[:8]] == ["POB", "POB", "POB", "REF", "CATCH", "CATCH", "REF", ""]
 
 
 def test_catch_and_reference_stakes_in_the_dxf(tmp_path):
@@ -403,27 +407,28 @@ def test_one_side_only(tmp_path):
 
 
 def test_control_id_equal_to_a_slope_stake_id_accepted(tmp_path):
-    """Regression: a control point whose id equalled a catch or reference stake's (numbered after
-    the other stakes) was accepted, so points.csv and control.csv both held point 19 at two
-    places; an id shared with an ordinary stake was already refused (one id names one point)."""
-    extra = SLOPES + '[[control.point]]\nid = "19"\nnorthing = 1030.0\neasting = 2050.0\n'
+    """Regression: a control point whose id equalled a catch or reference stake's (then numbered
+    after the other stakes) was accepted, so points.csv and control.csv both held one point id at
+    two places; an id shared with an ordinary stake was already refused (one id names one point)."""
+    extra = SLOPES + '[[control.point]]\nid = "4"\nnorthing = 1030.0\neasting = 2050.0\n'
     job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra)
     out = tmp_path / "out"
     r = runner.invoke(app, ["build", str(job), "--out", str(out)])
     assert r.exit_code == 2, r.output
-    assert "'19' is also a slope stake's" in r.output and not out.exists()
-    ok = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra.replace('id = "19"', 'id = "CP19"'))
+    assert "'4' is also a stake's (point 4 REF SHL-R" in r.output and not out.exists()
+    ok = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra.replace('id = "4"', 'id = "CP4"'))
     r = runner.invoke(app, ["build", str(ok), "--out", str(tmp_path / "out2")])
     assert r.exit_code == 0, r.output
     ids = [row["point"] for row in _rows((tmp_path / "out2" / "points.csv").read_text(encoding="utf-8"))]
-    assert "19" in ids
+    assert "4" in ids
 
 
 def test_check_crashed_on_a_job_with_slope_stakes(tmp_path):
     """Regression: ``stakeout check`` of any job with [slope_stakes] stopped with an internal
     error (exit 3): restake.csv takes its rows from points.csv by line, and the catch and
     reference stakes' lines after the design points ran past the table of lines to keep.
-    restake.csv must hold exactly points.csv's header and the not-staked design points' rows."""
+    restake.csv must hold exactly points.csv's header and the not-staked stakes' rows (the catch and
+    reference stakes are stakes like the others)."""
     extra = SLOPES + "[check]\nhorizontal_tolerance = 0.02\n"
     job = _job(tmp_path, lambda n, e: np.full(n.shape, 50.0), extra)
     shots = tmp_path / "shots.csv"
@@ -436,8 +441,8 @@ def test_check_crashed_on_a_job_with_slope_stakes(tmp_path):
     lines = points.read_text(encoding="utf-8").splitlines()
     restake = (out / "restake.csv").read_text(encoding="utf-8").splitlines()
     assert restake[0] == lines[0]
-    assert restake[1:] == lines[2:19]  # design points 2 to 18; the slope stakes' lines are not design points
-    assert not any("CATCH" in x or "REF" in x for x in restake)
+    assert restake[1:] == lines[2:]  # every stake but point 1, the catch and reference stakes among them
+    assert any("CATCH" in x for x in restake) and any("REF" in x for x in restake)
 
 
 def test_slope_stake_ids_ran_past_the_point_number_and_id_limits(tmp_path):

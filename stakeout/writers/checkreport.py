@@ -195,7 +195,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             parts.append(SheetPart(head, cols, records, f"{short}, continued", new_page=False))
         else:
             parts.append(SheetPart(head, [], [], new_page=False))
-    missing = [design.prefix + str(design.first_point + int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
+    missing = [design.point_id(int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
     n_out = int(r.restake.size - r.not_staked.size)
     head = [f"design points to set again (restake.csv): {r.restake.size}",
             f"  out of tolerance {n_out}   not staked {r.not_staked.size}",

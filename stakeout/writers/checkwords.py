@@ -21,7 +21,7 @@ def target_id(d: Design, r: CheckResult, k: int) -> str:
     """The id of the design or control point shot ``k`` was matched to, or empty."""
     i, c = int(r.design_index[k]), int(r.control_index[k])
     if i >= 0:
-        return d.stakes.prefix + str(d.stakes.first_point + i)
+        return d.stakes.point_id(i)
     return r.control_ids[c] if c >= 0 else ""
 
 
@@ -109,7 +109,7 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
         return f"{what or 'reset it'}{by_position}"
     if s == "misnumbered":
         assert r.stored_as is not None
-        stored = f"{d.stakes.prefix}{d.stakes.first_point + int(r.stored_as[k])}"
+        stored = d.stakes.point_id(int(r.stored_as[k]))
         return (f"stored as {stored} but lies on {target_id(d, r, k)} (within tolerance): confirm which stake it "
                 f"is and correct the number; {stored} is still to set")
     if s == "duplicate":

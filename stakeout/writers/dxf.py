@@ -247,17 +247,11 @@ def _build(d: Design) -> Any:
         msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
     detail = len(sp) <= DETAIL_MAX_STAKES
+    zs = _stake_heights(d)
     for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)
         e, n = float(sp.easting[i]), float(sp.northing[i])
-        z = 0.0 if sp.elevation is None else float(sp.elevation[i])
-        msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
+        msp.add_point((e, n, float(zs[i])), dxfattribs={"layer": "SO-STAKE"})
         _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
-    slope = d.presentation.slope_points
-    if detail and slope is not None:  # catch and reference stakes (provisionally numbered after every stake)
-        ground = np.nan_to_num(slope.ground).tolist()
-        for pid, n, e, z in zip(slope.ids, slope.northing.tolist(), slope.easting.tolist(), ground):
-            msp.add_point((e, n, z), dxfattribs={"layer": "SO-STAKE"})
-            _text(msp, pid, e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
 
     # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
     # plan.svg would draw this extent at), short at every staked station
@@ -369,13 +363,26 @@ def _hex(values: np.ndarray) -> rows.Field:
     return np.where(lead, 0, text).astype(np.uint8)
 
 
+def _stake_heights(d: Design) -> np.ndarray:
+    """Each stake's height in the drawing: its design elevation, or where it has none (a
+    reference stake) the ground's, else 0.
+    """
+    sp = d.stakes
+    z = np.zeros(len(sp)) if sp.elevation is None else sp.elevation
+    none = np.isnan(z)
+    if none.any():
+        ground = d.earthwork.ground_elevation if d.earthwork is not None else np.zeros(len(sp))
+        z = np.nan_to_num(np.where(none, ground, z))
+    return z
+
+
 def _splice_points(data: bytes, d: Design, first: int, owner: str) -> bytes:
     """Put one POINT entity per stake at the end of the ENTITIES section, written in bulk
     with numpy (the same group codes ezdxf writes for a POINT on layer SO-STAKE).
     """
     sp = d.stakes
     at = data.index(b"\n  0\nENDSEC\n", data.index(b"\n  2\nENTITIES\n")) + 1
-    z = np.zeros(len(sp)) if sp.elevation is None else sp.elevation
+    z = _stake_heights(d)
     parts = []
     step = 16384
     for i in range(0, len(sp), step):  # chunks bound the temporaries; each is vectorised

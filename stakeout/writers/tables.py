@@ -17,11 +17,10 @@ from numpy.typing import NDArray
 
 from ..angles import format_dms
 from ..design import Design
-from ..numbers import fixed_strings, round_to
+from ..numbers import round_to
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
-from .csvtext import numbers_or_empty as _opt
 from .csvtext import (DECIMALS, FORMULA_LEADS, GRADE_DECIMALS, POINTS_COLUMNS, csv_field, csv_guard, csv_text,
                       csv_text_field)
 from .text import fixed_or_empty, turn_word
@@ -52,22 +51,39 @@ _CHUNK_ROWS = 16384  # rows rendered at once: small temporaries that stay in cac
 
 
 class _PerPoint:
-    """Vectorised per-point fields of the stations ``s0:s1`` of a stake set."""
+    """Vectorised per-point fields of the points ``p0:p1`` of a stake table.
 
-    def __init__(self, sp: StakePoints, s0: int, s1: int):
+    A plain grid is rendered in whole stations (per-station fields repeated
+    over the offset lines, per-line fields tiled); a table with stakes
+    beyond the grid through its per-point indices (each distinct station,
+    code and feature formatted once per chunk).
+    """
+
+    def __init__(self, sp: StakePoints, p0: int, p1: int):
         self.sp = sp
+        self.p = slice(p0, p1)
+        self.n = p1 - p0
         self.m = sp.offsets.size
-        self.k = s1 - s0
-        self.s = slice(s0, s1)
-        self.p = slice(s0 * self.m, s1 * self.m)
-        self.n = self.k * self.m
+        self.take: NDArray[np.int64] | None = None
+        if sp.layout is None:  # chunks hold whole stations
+            self.u = np.arange(p0 // max(1, self.m), p1 // max(1, self.m), dtype=np.int64)
+        else:
+            self.u, self.take = np.unique(sp.station_of[self.p], return_inverse=True)
+        self.k = self.u.size
+
+    def per_station(self, f: rows.Field) -> rows.Field:
+        """A field of the chunk's stations (:attr:`u`) laid out per point."""
+        return rows.repeat_rows(f, self.m) if self.take is None else f[self.take]
 
     def sep(self, s: str = ",") -> rows.Field:
         return rows.const(s, self.n)
 
     def point(self) -> list[rows.Field]:
-        first = self.sp.first_point + self.p.start
-        return [rows.const(self.sp.prefix, self.n), rows.integer(np.arange(first, first + self.n, dtype=np.int64))]
+        sp = self.sp
+        if self.p.stop > sp.numbered:  # the ids the job gave (listed points): each as written
+            return [rows.text([sp.point_id(i) for i in range(self.p.start, self.p.stop)])]
+        first = sp.first_point + self.p.start
+        return [rows.const(sp.prefix, self.n), rows.integer(np.arange(first, first + self.n, dtype=np.int64))]
 
     def label(self, guard: bool = False) -> rows.Field:
         """Station labels; ``guard``: a label that is a whole field (``-0+120.000``) gets the
@@ -75,51 +91,68 @@ class _PerPoint:
         """
         sp = self.sp
         st = sp.stationing  # every label comes from the stationing: stations in force there
-        f = rows.station(sp.station_values[self.s], st.station_length, st.decimals)
-        twice = st.occurs_twice(sp.stations[self.s])
+        f = rows.station(sp.all_station_values[self.u], st.station_length, st.decimals)
+        twice = st.occurs_twice(sp.all_stations[self.u])
         if twice.any():  # a station an equation doubles carries its region, as Stationing.labels writes it
             k = self.k
-            suffix = np.concatenate([rows.const("(", k), rows.integer(sp.regions[self.s]), rows.const(")", k)], axis=1)
+            suffix = np.concatenate([rows.const("(", k), rows.integer(sp.all_regions[self.u]), rows.const(")", k)],
+                                    axis=1)
             f = np.concatenate([f, rows.blank(suffix, ~twice)], axis=1)
         if guard and f.size:
             f = np.hstack([np.where(f[:, :1] == ord("-"), ord("'"), 0).astype(np.uint8), f])
-        return rows.repeat_rows(f, self.m)
+        return self.per_station(f)
 
     def station(self, decimals: int) -> rows.Field:
-        return rows.repeat_rows(rows.fixed(self.sp.station_values[self.s], decimals), self.m)
+        return self.per_station(rows.fixed(self.sp.all_station_values[self.u], decimals))
 
     def offset(self, decimals: int) -> rows.Field:
-        if self.sp.point_offsets is not None:  # widened lines: each point's own offset
+        if self.sp.point_offsets is not None:  # widened lines or more than the grid: each point's own offset
             return rows.fixed(self.sp.point_offsets[self.p], decimals)
         return rows.tile_rows(rows.fixed(self.sp.offsets, decimals), self.k)
 
     def code(self) -> rows.Field:
-        return rows.tile_rows(rows.text(self.sp.codes), self.k)
+        if self.take is None:
+            return rows.tile_rows(rows.text(self.sp.codes), self.k)
+        return rows.text(self.sp.all_codes)[self.sp.code_of[self.p]]
 
     def region(self) -> rows.Field:
-        return rows.repeat_rows(rows.integer(self.sp.regions[self.s]), self.m)
+        return self.per_station(rows.integer(self.sp.all_regions[self.u]))
+
+    def _features(self, words: list[str]) -> rows.Field:
+        """Per point, the text ``words`` gives for each of :attr:`StakePoints.all_features`."""
+        if self.take is None:
+            return rows.repeat_rows(rows.text([words[i] for i in self.u.tolist()]), self.m)
+        u, inv = np.unique(self.sp.feature_of[self.p], return_inverse=True)
+        return rows.text([words[i] for i in u.tolist()])[inv]
 
     def feature_words(self) -> rows.Field:
         """Features followed by a space, or nothing, per point."""
-        return rows.repeat_rows(rows.text([f + " " if f else "" for f in self.sp.features[self.s]]), self.m)
+        return self._features([f + " " if f else "" for f in self.sp.all_features])
 
     def side_offset(self, decimals: int) -> rows.Field:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
-        offs = self.sp.offsets
+        sp = self.sp
+        words = rows.text([" LT", " RT", ""])
+        if self.take is not None:  # each point's own side, as printed (one that rounds to zero is on the line)
+            o = round_to(sp.offset[self.p], decimals)
+            side = words[np.where(o < 0, 0, np.where(o > 0, 1, 2))]
+            return np.concatenate([rows.fixed(np.abs(sp.offset[self.p]), decimals), side], axis=1)
+        offs = sp.offsets
         # the side of the offset as printed: one that rounds to zero is on the line (as text.side_text)
-        side = rows.text([" LT" if o < 0 else (" RT" if o > 0 else "") for o in round_to(offs, decimals).tolist()])
-        if self.sp.point_offsets is not None:  # widened lines: each point's own offset, the line's side
-            return np.concatenate([rows.fixed(np.abs(self.sp.point_offsets[self.p]), decimals),
+        o = round_to(offs, decimals)
+        side = words[np.where(o < 0, 0, np.where(o > 0, 1, 2))]
+        if sp.point_offsets is not None:  # widened lines: each point's own offset, the line's side
+            return np.concatenate([rows.fixed(np.abs(sp.point_offsets[self.p]), decimals),
                                    rows.tile_rows(side, self.k)], axis=1)
         both = np.concatenate([rows.fixed(np.abs(offs), decimals), side], axis=1)
         return rows.tile_rows(both, self.k)
 
     def feature(self) -> rows.Field:
-        return rows.repeat_rows(rows.text(self.sp.features[self.s]), self.m)
+        return self._features(list(self.sp.all_features))
 
     def elevation(self) -> rows.Field:
-        e = self.sp.elevation
-        return rows.const("", self.n) if e is None else rows.fixed(e[self.p], DECIMALS)
+        """Design elevations, empty where a stake has none (a reference stake)."""
+        return self.optional(self.sp.elevation, DECIMALS)
 
     def cross_slope(self) -> rows.Field:
         """The slope applied to each point (percent, 4 decimals), empty where none."""
@@ -131,6 +164,8 @@ class _PerPoint:
             return rows.const("", self.n)
         v = values[self.p]
         none = np.isnan(v)
+        if not none.any():
+            return rows.fixed(v, decimals)
         return rows.blank(rows.fixed(np.where(none, 0.0, v), decimals), none)
 
     def col(self, values: NDArray[np.float64], decimals: int) -> rows.Field:
@@ -139,14 +174,31 @@ class _PerPoint:
     def dms(self, values: NDArray[np.float64]) -> rows.Field:
         return rows.dms(values[self.p], 1)
 
+    def given_text(self, default: list[rows.Field]) -> list[rows.Field]:
+        """``default`` (the parts of one text field), or where the table gives a point its own
+        description (a listed point), that description as a CSV text field.
+        """
+        lay = self.sp.layout
+        if lay is None or not lay.descriptions:
+            return default
+        di = lay.description_of[self.p]
+        own = di >= 0
+        if not own.any():
+            return default
+        texts = [csv_text_field(t).encode("utf-8") for t in lay.descriptions] + [b""]
+        a = np.array(texts, dtype=bytes)
+        table = a.view(np.uint8).reshape(len(texts), a.dtype.itemsize)
+        return [rows.blank(np.concatenate(default, axis=1), own), table[np.where(own, di, len(texts) - 1)]]
+
 
 def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], list[rows.Field]]) -> bytes:
-    """Render a per-point CSV in chunks of whole stations."""
-    step = max(1, _CHUNK_ROWS // max(1, sp.offsets.size))
-    starts = range(0, sp.stations.size, step)
+    """Render a per-point CSV in chunks (whole stations of a plain grid)."""
+    m = max(1, sp.offsets.size)
+    step = _CHUNK_ROWS if sp.layout is not None else max(1, _CHUNK_ROWS // m) * m
+    starts = range(0, len(sp), step)
 
-    def chunk(s0: int) -> bytes:  # each chunk is vectorised
-        part = _PerPoint(sp, s0, min(s0 + step, sp.stations.size))
+    def chunk(p0: int) -> bytes:  # each chunk is vectorised
+        part = _PerPoint(sp, p0, min(p0 + step, len(sp)))
         return rows.join_rows(layout(part), part.n)
 
     head = (",".join(header) + "\n").encode("ascii")
@@ -164,22 +216,12 @@ def points_csv(design: Design) -> bytes:
 
     def layout(p: _PerPoint) -> list[rows.Field]:
         # description: code, key-point features, station, offset with its side (`EPL PC 14+11.02 16.00 LT`)
+        # (a listed point: the description its row gives)
         return [*p.point(), p.sep(), p.col(sp.northing, d), p.sep(), p.col(sp.easting, d), p.sep(),
-                p.elevation(), p.sep(), p.code(), p.sep(" "), p.feature_words(), p.label(), p.sep(" "),
-                p.side_offset(unit.station_decimals)]
+                p.elevation(), p.sep(), *p.given_text([p.code(), p.sep(" "), p.feature_words(), p.label(),
+                                                       p.sep(" "), p.side_offset(unit.station_decimals)])]
 
-    out = _csv(POINTS_COLUMNS, sp, layout)
-    sl = design.presentation.slope_points
-    if sl is None or not sl.ids:
-        return out
-    # the catch and reference stakes, provisionally numbered after every stake: after them
-    labels = sp.labels
-    offs = fixed_strings(np.abs(sl.offset), unit.station_decimals)
-    desc = [f"{c} {f} {labels[i]} {o} {'LT' if v < 0 else 'RT'}"
-            for c, f, i, o, v in zip(sl.code, sl.feature, sl.station.tolist(), offs, sl.offset.tolist())]
-    lines = [",".join(x) for x in zip((csv_field(i) for i in sl.ids), _opt(sl.northing), _opt(sl.easting),
-                                      _opt(sl.elevation), (csv_text_field(t) for t in desc))]
-    return out + ("\n".join(lines) + "\n").encode("utf-8")
+    return _csv(POINTS_COLUMNS, sp, layout)
 
 
 def stations_csv(design: Design) -> bytes:
@@ -197,20 +239,7 @@ def stations_csv(design: Design) -> bytes:
                 p.sep(), np.broadcast_to(name, (p.n, name.size)), p.sep(), p.cross_slope(), p.sep(),
                 p.optional(gz, d), p.sep(), p.optional(cf, d)]
 
-    out = _csv(STATIONS_COLUMNS, sp, layout)
-    sl = design.presentation.slope_points
-    if sl is None or not sl.ids:
-        return out
-    # the catch and reference stakes, provisionally numbered after every stake: after them
-    labels = [csv_field(csv_guard(sp.labels[i])) for i in sl.station.tolist()]
-    regions = sp.regions[sl.station].tolist()
-    alignment = csv_text_field(design.alignment.name)
-    lines = [",".join((csv_field(pid), st, lab, off, n, e, z, f, csv_field(c), str(reg), alignment, "", g, cf_))
-             for pid, st, lab, off, n, e, z, f, c, reg, g, cf_ in zip(
-                 sl.ids, _opt(sp.station_values[sl.station]), labels, _opt(sl.offset),
-                 _opt(sl.northing), _opt(sl.easting), _opt(sl.elevation), sl.feature, sl.code,
-                 regions, _opt(sl.ground), _opt(sl.cut_fill))]
-    return out + ("\n".join(lines) + "\n").encode("utf-8")
+    return _csv(STATIONS_COLUMNS, sp, layout)
 
 
 def curves_csv(design: Design) -> bytes:
@@ -300,7 +329,8 @@ def setout_csv(design: Design) -> bytes:
              p.col(so.ground_distance, d)]
         if zen:
             assert so.zenith is not None and so.slope_distance is not None
-            f += [p.sep(), p.col(so.zenith, 8), p.sep(), p.col(so.slope_distance, d)]
+            # empty for a stake without a design elevation (a reference stake): no height to sight
+            f += [p.sep(), p.optional(so.zenith, 8), p.sep(), p.optional(so.slope_distance, d)]
         if listed:
             k = sdes.setup_index[p.p]
             f += [p.sep(), numbers[k], p.sep(), occ_ids[k], p.sep(), bs_ids[k]]
@@ -419,9 +449,8 @@ def restake_csv(d: Design, r: "CheckResult") -> bytes:
     """
     data = np.frombuffer(points_csv(d), dtype=np.uint8)
     line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
-    # every line of points.csv: the catch and reference stakes follow the design points there
-    # (check matches shots to the design points only, so those lines are never restaked here)
-    keep = np.zeros(max(int(line_of_byte[-1]) + 1, len(d.stakes) + 1), dtype=bool)
+    # one line per stake (no text field holds a line break: the job-file readers refuse them)
+    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
     keep[0] = True
     keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
     out: bytes = data[keep[line_of_byte]].tobytes()

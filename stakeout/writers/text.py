@@ -15,6 +15,7 @@ from functools import cached_property
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 from numpy.typing import ArrayLike
 
 from ..angles import format_azimuth_dms, format_dms
@@ -318,11 +319,16 @@ def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
             angles = texts_of(format_azimuth_dms(c.values, 0))
             texts = ["" if at[i] else angles[i] for i in range(len(angles))]
         elif c.key == "zenith":
-            texts = texts_of(format_dms(c.values, 0))
+            v = np.asarray(c.values, dtype=float)
+            texts = texts_of(format_dms(np.nan_to_num(v, nan=90.0), 0))
+            texts = ["" if bad else t for t, bad in zip(texts, np.isnan(v).tolist())]  # no height, no zenith
         elif c.key == "offset" and sided:
             texts = side_text(c.values, c.decimals)
         else:
+            v = np.asarray(c.values, dtype=float)
             texts = fixed(c.values, c.decimals)
+            if np.isnan(v).any():  # a stake without the number (a reference stake has no design elevation)
+                texts = ["" if bad else t for t, bad in zip(texts, np.isnan(v).tolist())]
         out.append((c, texts))
     return out
 

@@ -146,11 +146,8 @@ def _plan_view(d: Design, pis: list[Any]) -> View:
     mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
     mn, me, _ = a.evaluate(mids, 0.0)
     big_off = max([abs(o) for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
-    slope = d.presentation.slope_points
-    se_, sn_ = (sp.easting, sp.northing) if slope is None else (np.concatenate([sp.easting, slope.easting]),
-                                                              np.concatenate([sp.northing, slope.northing]))
-    ext = extent([se_, el_e, me, np.array([o[0].easting for o in occs])],
-                  [sn_, el_n, mn, np.array([o[0].northing for o in occs])])
+    ext = extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
+                  [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
     pi_e = np.array([c.pi_easting for c in pis], dtype=float)
     pi_n = np.array([c.pi_northing for c in pis], dtype=float)
@@ -267,10 +264,19 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
         size = f"{abs(o):.2f}"
         if sp.point_offsets is not None:  # a widened line: the range of its offsets
-            each = np.abs(sp.point_offsets[j::sp.offsets.size])
+            each = np.abs(sp.point_offsets[sp.code_of == j])
             if each.size and each.min() != each.max():
                 size = f"{each.min():.2f}-{each.max():.2f}"
         pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {size}{where}")
+    if sp.layout is not None:  # the stakes beyond the grid, by what they are
+        more = set(sp.layout.more_features)
+        if "CATCH" in more:
+            pan.symbol('<circle cx="14" cy="0" r="2.2" fill="#8b5a2b"/>', "catch stake (CATCH)")
+        if "REF" in more:
+            pan.symbol('<circle cx="14" cy="0" r="2.2" fill="#fff" stroke="#8b5a2b" stroke-width="0.8"/>',
+                       "reference stake (REF)")
+        if more - {"CATCH", "REF"}:
+            pan.symbol('<circle cx="14" cy="0" r="2.2" fill="#6a3d9a"/>', "listed point (staking.points)")
     pan.symbol(f'<circle cx="14" cy="0" r="3.2" fill="none" stroke="{CL_COLOUR}" stroke-width="1.2"/>',
                "key point (feature, station)")
     if has_pis:

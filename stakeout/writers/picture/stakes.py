@@ -42,21 +42,22 @@ def stake_marks(d: Design, v: View, lab: Labeller) -> StakeMarks:
     detail = n_st <= LABEL_MAX_STAKES
     r_stake = 1.9 if detail else 1.2
     m = sp.offsets.size
-    code_of = np.tile(np.arange(m), sp.stations.size) if m else np.zeros(0, dtype=np.int64)
+    code_of = sp.code_of
     keep = np.arange(n_st) if detail else thin(sx, sy, THIN_CELL)
     stake_paths = []
     for j in range(m):
         sel = keep[code_of[keep] == j]
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
         stake_paths.append(f'<path class="so-stake" d="{circles_path(sx[sel], sy[sel], r_stake)}" fill="{colour}"/>')
-    slope = d.presentation.slope_points
-    if slope is not None and slope.ids:  # catch stakes filled, reference stakes open (no numbers yet)
-        cx, cy = v.x(slope.easting), v.y(slope.northing)
-        catch = np.array([f == "CATCH" for f in slope.feature], dtype=bool)
-        stake_paths.append(f'<path class="so-catch" d="{circles_path(cx[catch], cy[catch], r_stake)}" '
-                           'fill="#8b5a2b"/>')
-        stake_paths.append(f'<path class="so-ref" d="{circles_path(cx[~catch], cy[~catch], r_stake)}" '
-                           'fill="#fff" stroke="#8b5a2b" stroke-width="0.8"/>')
+    if sp.layout is not None:  # catch stakes filled, reference stakes open, listed points squared off
+        feats = np.array(sp.all_features, dtype=object)[sp.feature_of[keep]]
+        more = code_of[keep] >= m
+        for cls, sel, paint in (
+                ("so-catch", keep[more & (feats == "CATCH")], 'fill="#8b5a2b"'),
+                ("so-ref", keep[more & (feats == "REF")], 'fill="#fff" stroke="#8b5a2b" stroke-width="0.8"'),
+                ("so-listed", keep[more & (feats != "CATCH") & (feats != "REF")], 'fill="#6a3d9a"')):
+            if sel.size:
+                stake_paths.append(f'<path class="{cls}" d="{circles_path(sx[sel], sy[sel], r_stake)}" {paint}/>')
     lab.block(np.column_stack([sx[keep] - r_stake - 0.3, sy[keep] - r_stake - 0.3, sx[keep] + r_stake + 0.3,
                                sy[keep] + r_stake + 0.3]))
     return StakeMarks(stake_paths, keep, detail, r_stake, sx, sy)
@@ -113,18 +114,18 @@ def place_stake_numbers(d: Design, s: StakeMarks, layer: Layer) -> int:
     offsets first; how many were placed (none over :data:`LABEL_MAX_STAKES` stakes).
     """
     sp = d.stakes
-    n_st, m = len(sp), sp.offsets.size
+    n_st = len(sp)
     if not (s.detail and n_st):
         return 0
     shown = 0
     ids = sp.point
-    st_idx = np.repeat(np.arange(sp.stations.size), m)
+    st_idx = sp.station_of
     low = st_idx & -st_idx
     level = np.where(st_idx == 0, 64, np.log2(np.maximum(low, 1)).astype(np.int64))
     order = np.lexsort((np.arange(n_st), -np.abs(sp.offset), -level))
     w = np.array([text_width(t, FONT_STAKE) + 1.5 for t in ids])
     hh = np.full(n_st, FONT_STAKE * 0.78 + 1.5)
-    ux, uy = right_normal(np.repeat(d.alignment.evaluate(sp.stations, 0.0).azimuth, m))
+    ux, uy = right_normal(d.alignment.evaluate(sp.all_stations, 0.0).azimuth[st_idx])
     side = np.where(sp.offset < 0, -1.0, 1.0)
     boxes = around_boxes(s.x, s.y, w, hh, s.radius, np.column_stack([ux * side, uy * side]))
     ok = layer.lab.free(boxes) if boxes.size > PREFILTER_MIN * 4 else np.ones(boxes.shape[:2], dtype=bool)
