@@ -464,3 +464,117 @@ def test_slope_stake_ids_ran_past_the_point_number_and_id_limits(tmp_path):
     job.write_text(fits, encoding="utf-8")
     r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "o3")])
     assert r.exit_code == 0, r.output
+
+
+# ---- catch and reference stakes are stakes like the others (job-file contract) ----------------------
+SETUP = """[[control.point]]
+id = "CP1"
+northing = 1030.0
+easting = 2050.0
+elevation = 55.0
+[[control.point]]
+id = "CP2"
+northing = 1030.0
+easting = 1990.0
+[setup]
+occupied = "CP1"
+backsight = "CP2"
+instrument_height = 1.5
+target_height = 1.8
+[check]
+horizontal_tolerance = 0.02
+"""
+
+
+def _tilted(n, e):
+    return 50.0 + 0.05 * (np.asarray(n) - 1000.0)
+
+
+def test_catch_and_reference_stakes_were_missing_from_the_setout(tmp_path):
+    """Regression: catch and reference stakes were numbered after every stake and left out of
+    setout.csv and setout.txt, so the crew had no angle and distance to them."""
+    files = _build(_job(tmp_path, _tilted, SLOPES + SETUP), tmp_path / "out", "points,setout,sheet")
+    pts = _rows(files["points.csv"])
+    setout = _rows(files["setout.csv"])
+    assert [r["point"] for r in setout] == [r["point"] for r in pts]  # every stake, point order
+    catch = {r["point"] for r in pts if " CATCH " in r["description"]}
+    ref = {r["point"] for r in pts if " REF " in r["description"]}
+    assert len(catch) == len(ref) == 12
+    for r in setout:
+        # a reference stake has no design elevation: no zenith or slope distance, never 'nan'
+        assert (r["zenith_deg"] == "" and r["slope_distance"] == "") == (r["point"] in ref)
+    assert "nan" not in files["setout.txt"]
+    lines = [x.split() for x in files["setout.txt"].splitlines()]
+    assert any(x[:1] == ["4"] and "REF" in x for x in lines) and any(x[:1] == ["5"] and "CATCH" in x for x in lines)
+
+
+def test_catch_stake_shot_was_unmatched(tmp_path):
+    """Regression: a crew's shot of a catch stake came back 'unmatched' from stakeout check,
+    since the catch stakes were not among the design points."""
+    job = _job(tmp_path, _tilted, SLOPES + SETUP)
+    files = _build(job, tmp_path / "out", "points")
+    pts = {r["point"]: r for r in _rows(files["points.csv"])}
+    c, ref = pts["5"], pts["4"]
+    assert " CATCH " in c["description"] and " REF " in ref["description"]
+    shots = tmp_path / "shots.csv"
+    shots.write_text(f"5,{float(c['northing']) + 0.005:.4f},{c['easting']},{c['elevation']},STK\n"
+                     f"4,{ref['northing']},{ref['easting']},,STK\n", encoding="utf-8")
+    r = runner.invoke(app, ["check", str(job), str(shots), "--out", str(tmp_path / "chk")])
+    assert r.exit_code == 0, r.output
+    rows = _rows((tmp_path / "chk" / "check.csv").read_text(encoding="utf-8"))
+    assert [(x["design_point"], x["status"], x["matched_by"]) for x in rows] == [("5", "ok", "number"),
+                                                                                 ("4", "ok", "number")]
+    assert float(rows[0]["horizontal_error"]) == pytest.approx(0.005, abs=1e-4)
+    assert rows[1]["d_elevation"] == ""  # a reference stake has no design elevation to check
+
+
+def test_catch_and_reference_stakes_were_missing_from_alignment_xml(tmp_path):
+    """Regression: alignment.xml held no CgPoint for the catch and reference stakes."""
+    from lxml import etree
+
+    from tests.helpers import landxml_schema
+
+    files = _build(_job(tmp_path, _tilted, SLOPES), tmp_path / "out", "points,landxml")
+    doc = etree.fromstring(files["alignment.xml"].encode("utf-8"))
+    assert landxml_schema().validate(doc), landxml_schema().error_log  # LandXML 1.2 schema, by lxml
+    ns = {"x": "http://www.landxml.org/schema/LandXML-1.2"}
+    cg = {p.get("name"): p for p in doc.iterfind(".//x:CgPoint", ns)}
+    for r in _rows(files["points.csv"]):
+        p = cg[r["point"]]
+        coords = p.text.split()
+        assert float(coords[0]) == pytest.approx(float(r["northing"]), abs=1e-6)
+        assert (len(coords) == 2) == (r["elevation"] == "")  # a reference stake: no height
+    assert {p.get("code") for p in cg.values()} >= {"SHL-C", "SHL-R", "SHR-C", "SHR-R"}
+
+
+def test_catch_and_reference_stakes_were_missing_from_the_report(tmp_path):
+    """Regression: the report's stake table stopped at the grid's stakes."""
+    files = _build(_job(tmp_path, _tilted, SLOPES + SETUP), tmp_path / "out", "points,report")
+    html = files["report.html"]
+    assert '<td class="t">SHL-R</td><td class="t">REF</td>' in html
+    assert '<td class="t">SHR-C</td><td class="t">CATCH</td>' in html
+    assert ">nan<" not in html
+
+
+def test_catch_and_reference_stakes_were_missing_from_the_bulk_dxf(tmp_path, monkeypatch):
+    """Regression: above the DXF's detail limit, stakes are written in bulk, and the catch and
+    reference stakes were left out there."""
+    import ezdxf
+
+    from stakeout.writers import dxf
+
+    monkeypatch.setattr(dxf, "DETAIL_MAX_STAKES", 5)
+    out = tmp_path / "out"
+    files = _build(_job(tmp_path, _tilted, SLOPES), out, "points,dxf")
+    doc = ezdxf.readfile(out / "plan.dxf")  # read back with ezdxf
+    pts = {(round(p.dxf.location.x, 4), round(p.dxf.location.y, 4)) for p in doc.modelspace().query("POINT")}
+    rows = _rows(files["points.csv"])
+    assert {(float(r["easting"]), float(r["northing"])) for r in rows} <= pts
+    assert len(rows) == 42
+
+
+def test_automatic_setups_cover_the_catch_and_reference_stakes(tmp_path):
+    extra = SLOPES + SETUP.replace('occupied = "CP1"\nbacksight = "CP2"\n',
+                                   'occupied = "auto"\nmax_distance = 80.0\nmax_backsight = 100.0\n')
+    files = _build(_job(tmp_path, _tilted, extra), tmp_path / "out", "points,setout")
+    assert len(_rows(files["setout.csv"])) == len(_rows(files["points.csv"])) == 42
