@@ -206,6 +206,8 @@ class Design:
     #: With ``[ground]``: each stake's ground elevation and cut/fill; with ``[slope_stakes]`` the catch
     #: and reference stakes per station and side, the sections and the volumes (None without a ground).
     earthwork: Earthwork | None = None
+    #: With several alignments: each alignment's design, in job order (this one is the first).
+    parts: tuple["Design", ...] = ()
 
     @property
     def unit(self) -> Unit:
@@ -378,7 +380,25 @@ def _nearest_index(stations: tuple[SetupStation, ...], stakes: StakePoints) -> N
     return index
 
 
-def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: GridCRS | None) -> SetupDesign:
+def assign_setups(job: Job, stakes: StakePoints, stationing: Stationing
+                  ) -> tuple[tuple[SetupStation, ...], NDArray[np.int64]]:
+    """The job's setups and each stake's setup (an index into them): automatic, by station
+    range, the one setup, or the nearest.
+    """
+    setup = job.setup
+    assert setup is not None
+    if setup.auto:
+        return _auto_stations(job, setup, stakes)
+    stations = setup.explicit()
+    if stations[0].from_station is not None:
+        return stations, _ranged_index(stations, stakes, stationing)
+    if len(stations) == 1:
+        return stations, np.zeros(len(stakes), dtype=np.int64)
+    return stations, _nearest_index(stations, stakes)
+
+
+def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: GridCRS | None,
+                 assigned: tuple[tuple[SetupStation, ...], NDArray[np.int64]] | None = None) -> SetupDesign:
     """The setups of a job with a ``[setup]``, each stake's setup, the setout and the precision.
 
     Parameters
@@ -391,6 +411,9 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
         The alignment's stationing (for ``[[setup.station]]`` ranges).
     grid : GridCRS or None
         The job's CRS: the factors and convergence at each occupied point.
+    assigned : (setups, index), optional
+        The setups and each stake's setup, when chosen over more stakes than
+        these (several alignments: :func:`assign_setups` over all of them).
 
     Returns
     -------
@@ -406,16 +429,7 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
     setup = job.setup
     assert setup is not None
     unit = job.info.unit
-    if setup.auto:
-        stations, index = _auto_stations(job, setup, stakes)
-    else:
-        stations = setup.explicit()
-        if stations[0].from_station is not None:
-            index = _ranged_index(stations, stakes, stationing)
-        elif len(stations) == 1:
-            index = np.zeros(len(stakes), dtype=np.int64)
-        else:
-            index = _nearest_index(stations, stakes)
+    stations, index = assigned if assigned is not None else assign_setups(job, stakes, stationing)
     k = len(stations)
     occ_n = np.array([s.occupied.northing for s in stations])
     occ_e = np.array([s.occupied.easting for s in stations])
@@ -469,7 +483,27 @@ def build_setups(job: Job, stakes: StakePoints, stationing: Stationing, grid: Gr
 
 
 def build_design(job: Job) -> Design:
-    """Build the alignment, the stakes and, with a ``[setup]``, the setout."""
+    """Build the alignment, the stakes and, with a ``[setup]``, the setout; with several
+    alignments each one's (:attr:`Design.parts`) and setups serving all of them.
+    """
+    if job.parts:
+        return _build_several(job)
+    d = _build_alignment_design(job)
+    if job.setup is None:
+        return d
+    return _with_setups(d, build_setups(job, d.stakes, d.stationing, _grid(job)), serves_none=True)
+
+
+def _grid(job: Job) -> GridCRS | None:
+    if job.info.crs is None:
+        return None
+    from .crs import load_crs
+
+    return load_crs(job.info.crs, job.info.unit)
+
+
+def _build_alignment_design(job: Job) -> Design:
+    """One alignment's design, without setups."""
     alignment = build_alignment(job.alignment)
     stationing = build_stationing(job, alignment)
     profile = build_profile_of(job, stationing)
@@ -481,35 +515,111 @@ def build_design(job: Job) -> Design:
     stakes = plan if ew is None else with_stakes(plan, catch_and_reference_stakes(plan, ew))
     if ew is not None and job.ground is not None:
         ew = placed(ew, stakes, job.ground, 0)
-    grid = crs_label = proj = None
-    unit = job.info.unit
+    crs_label = proj = None
     if job.info.crs is not None:
-        from .crs import load_crs, proj_version
+        from .crs import proj_version
 
-        grid = load_crs(job.info.crs, unit)
-        crs_label = grid.label
+        crs_label = _grid(job).label  # type: ignore[union-attr]
         proj = proj_version()
-    setup_design = None
-    factors = Factors()
     warnings: list[str] = list(alignment.warnings)
     warnings.extend(unapplied_superelevation_warnings(job, stationing))
-    if job.setup is not None:
-        setup_design = build_setups(job, stakes, stationing, grid)
-        if not job.scale.given and grid is not None:
-            warnings.append("no combined factor in the job: ground distances equal grid distances (factor 1.0); "
-                            'set [scale] combined_factor = "auto" to use the CRS\'s factor at the occupied point')
+    return Design(job, alignment, stationing, stakes, profile=profile, warnings=tuple(warnings),
+                  sections=sections, crs_label=crs_label, proj_version=proj, earthwork=ew)
+
+
+def _with_setups(d: Design, setup_design: SetupDesign, serves_none: bool) -> Design:
+    """``d`` with its setups, their factors and warnings (``serves_none``: warn of a setup
+    serving no stake, which with several alignments is judged over all of them).
+    """
+    job = d.job
+    warnings = list(d.warnings)
+    if not job.scale.given and job.info.crs is not None:
+        warnings.append("no combined factor in the job: ground distances equal grid distances (factor 1.0); "
+                        'set [scale] combined_factor = "auto" to use the CRS\'s factor at the occupied point')
+    if serves_none:
         for o in setup_design.occupations:
             if o.stake_count == 0:
                 warnings.append(f"setup {o.number} ({o.where}, occupied {o.occupied.id}) serves no stake")
-        first = setup_design.occupations[0]
-        scale = first.scale
-        how = scale.how if job.scale.given else "default"
-        if len(setup_design.occupations) == 1:
-            factors = Factors(how, scale.combined_factor, scale.scale_factor, scale.elevation_factor, scale.radius_m,
-                              scale.height, scale.convergence, first.backsight_azimuth)
-        else:  # per-setup factors are listed in the manifest's setups
-            shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
-            factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
-    return Design(job, alignment, stationing, stakes, setup=setup_design, profile=profile, warnings=tuple(warnings),
-                  sections=sections, crs_label=crs_label,
-                  proj_version=proj, factors=factors, earthwork=ew)
+    first = setup_design.occupations[0]
+    scale = first.scale
+    how = scale.how if job.scale.given else "default"
+    if len(setup_design.occupations) == 1:
+        factors = Factors(how, scale.combined_factor, scale.scale_factor, scale.elevation_factor, scale.radius_m,
+                          scale.height, scale.convergence, first.backsight_azimuth)
+    else:  # per-setup factors are listed in the manifest's setups
+        shared = len({o.scale.combined_factor for o in setup_design.occupations}) == 1
+        factors = Factors(how, scale.combined_factor if shared else None, height=scale.height)
+    return replace(d, setup=setup_design, warnings=tuple(warnings), factors=factors)
+
+
+class _AllStakes:
+    """The stakes of several alignments as one set, in job order (for choosing setups)."""
+
+    def __init__(self, designs: Sequence[Design]):
+        self.parts = [d.stakes for d in designs]
+        self.starts = np.cumsum([0] + [len(sp) for sp in self.parts])
+        self.northing = np.concatenate([sp.northing for sp in self.parts])
+        self.easting = np.concatenate([sp.easting for sp in self.parts])
+
+    def __len__(self) -> int:
+        return int(self.starts[-1])
+
+    def point_id(self, i: int) -> str:
+        k = int(np.searchsorted(self.starts, i, side="right")) - 1
+        return self.parts[k].point_id(i - int(self.starts[k]))
+
+
+def _build_several(job: Job) -> Design:
+    """Each alignment's design; with a ``[setup]``, setups chosen over every stake of every
+    alignment and each alignment's setout from them.  The design returned is the first
+    alignment's, with every one in :attr:`Design.parts`.
+    """
+    designs = [replace(_build_alignment_design(part), job=part) for part in job.parts]
+    check_ids_across(designs)
+    if job.setup is not None:
+        everything = _AllStakes(designs)
+        if job.setup.explicit() and job.setup.explicit()[0].from_station is not None:
+            where = job.setup.explicit()[0].where
+            raise JobFileError(f"{where}.from_station: station ranges name stations of one alignment; a job with "
+                               "several alignments takes setups by nearest control point or occupied = \"auto\"")
+        assigned = assign_setups(job, everything, None)  # type: ignore[arg-type]
+        grid = _grid(job)
+        out = []
+        for k, d in enumerate(designs):
+            part = slice(int(everything.starts[k]), int(everything.starts[k + 1]))
+            sd = build_setups(job.parts[k], d.stakes, d.stationing, grid, assigned=(assigned[0], assigned[1][part]))
+            out.append(_with_setups(d, sd, serves_none=False))
+        counts = np.bincount(assigned[1], minlength=len(assigned[0]))
+        none = [f"setup {i + 1} ({s.where}, occupied {s.occupied.id}) serves no stake"
+                for i, s in enumerate(assigned[0]) if counts[i] == 0]
+        designs = [replace(d, warnings=d.warnings + tuple(none)) if k == 0 else d for k, d in enumerate(out)]
+    return replace(designs[0], parts=tuple(designs))
+
+
+def check_ids_across(designs: Sequence[Design]) -> None:
+    """Refuse point ids that two alignments would both use (naming both alignments)."""
+    spans = []
+    for d in designs:
+        sp = d.stakes
+        if sp.numbered:
+            spans.append((sp.prefix, sp.first_point, sp.first_point + sp.numbered - 1, d))
+    for i, (pa, lo_a, hi_a, da) in enumerate(spans):
+        for pb, lo_b, hi_b, db in spans[i + 1:]:
+            if pa == pb and lo_b <= hi_a and lo_a <= hi_b:
+                raise JobFileError(
+                    f"staking.first_point: alignment {db.alignment.name!r} numbers its stakes {pb}{lo_b} to {pb}{hi_b} "
+                    f"and alignment {da.alignment.name!r} {pa}{lo_a} to {pa}{hi_a}; point ids must be unique in the "
+                    "job: move one alignment's first_point (or give it another point_prefix)")
+    seen: dict[str, str] = {}
+    for d in designs:  # ids the job gave, and prefixes that spell another alignment's numbers
+        sp = d.stakes
+        named = sp.layout.names if sp.layout is not None else ()
+        others = [s for s in spans if s[3] is not d and s[0] != sp.prefix]
+        ids: list[str] = list(named)
+        if any(o[0].startswith(sp.prefix) or sp.prefix.startswith(o[0]) for o in others):
+            ids = sp.point + []
+        for pid in ids:
+            if pid in seen and seen[pid] != d.alignment.name:
+                raise JobFileError(f"point id {pid!r}: alignment {d.alignment.name!r} and alignment {seen[pid]!r} "
+                                   "both use it; point ids must be unique in the job")
+            seen[pid] = d.alignment.name

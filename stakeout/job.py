@@ -331,6 +331,9 @@ class Job:
     ground: Ground | None = None
     #: ``[slope_stakes]``: hinges, slopes, reference offset and farthest catch per side.
     slope_stakes: SlopeStaking | None = None
+    #: With several alignments (``[[alignment]]``): one whole job per alignment, in job order, each with
+    #: the shared sections; this job is then the first of them with every design file (empty: one alignment).
+    parts: tuple["Job", ...] = ()
 
     def control_points(self) -> tuple[ControlPoint, ...]:
         """Every control point the job lists or uses, each id once, in the job's order.

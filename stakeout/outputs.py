@@ -32,6 +32,13 @@ class Rendered(dict[str, bytes]):
     def __init__(self, wide: bool = False) -> None:
         super().__init__()
         self.wide = wide
+        self._parts: dict[int, Rendered] = {}
+
+    def part(self, k: int) -> "Rendered":
+        """What alignment ``k`` of several rendered so far (its own plan.svg for its report)."""
+        if k not in self._parts:
+            self._parts[k] = Rendered(self.wide)
+        return self._parts[k]
 
 
 def _writer(target: str) -> Callable[..., bytes | str]:
@@ -69,9 +76,28 @@ class Output:
     absent: str = ""  # why it was not written where ``applies`` says no
     default: bool = True
     wide: bool = False  # a text sheet that reads the build's --wide
+    #: With several alignments, how their files become one (:mod:`stakeout.writers.several`): ``rows``
+    #: (CSV), ``sheets`` (text), ``pictures`` (SVG), ``documents`` (HTML), or ``whole`` (the writer
+    #: draws every alignment itself, or the file is the job's: control).
+    several: str = "rows"
+
+    def serves(self, design: "Design") -> bool:
+        """Whether the file exists for this design (for several alignments: for any of them)."""
+        return any((not self.needs_profile or p.profile is not None) and (self.applies is None or self.applies(p))
+                   for p in (design.parts or (design,)))
 
     def render(self, design: "Design", done: Rendered) -> bytes:
-        """The file's bytes."""
+        """The file's bytes; with several alignments each one's joined into one file."""
+        if not design.parts or self.several == "whole":
+            return self._render(design, done)
+        from .writers import several
+
+        files = [self._render(p, done.part(k)) for k, p in enumerate(design.parts) if self.serves(p)]
+        join = {"rows": several.csv_rows, "sheets": several.sheets, "pictures": several.svg_sheets,
+                "documents": several.html_documents}[self.several]
+        return join(files)
+
+    def _render(self, design: "Design", done: Rendered) -> bytes:
         if not isinstance(self.writer, str):
             return self.writer(design, done)
         fn = _writer(self.writer)
@@ -132,36 +158,38 @@ OUTPUTS: tuple[Output, ...] = (
            applies=_has_spirals, absent="the alignment has no spirals"),
     Output("profile", "profile.csv", "one row per PVI of the profile", "tables:profile_csv", needs_profile=True),
     Output("profile-picture", "profile.svg", "a picture of the profile: grades, vertical curves, staked stations",
-           "profile_picture:profile_svg", needs_profile=True),
+           "profile_picture:profile_svg", needs_profile=True, several="pictures"),
     Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
            "against station, key points and SE rows", "superelevation:superelevation_svg",
            applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
     Output("slopestakes", "slopestakes.csv", "one row per staked station and side: hinge, catch point, reference "
            "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("slopestakes-sheet", "slopestakes.txt", "the printable slope-stake sheet with the lath markings",
-           "earthwork:slopestakes_sheet", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True),
+           "earthwork:slopestakes_sheet", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True,
+           several="sheets"),
     Output("sections-picture", "sections.svg", "the cross-sections at each station with both catch points: ground, "
            "design template, hinges, catch and reference stakes, areas", "sections_picture:sections_svg",
-           applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
+           applies=_has_slope_stakes, absent="the job has no [slope_stakes]", several="pictures"),
     Output("volumes", "volumes.csv", "cut and fill areas at each station with both catch points, average-end-area "
            "volumes", "earthwork:volumes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
            needs_setup=True),
-    Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True),
+    Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True,
+           several="sheets"),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
-           wide=True),
+           wide=True, several="sheets"),
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
-           "control:control_csv"),
+           "control:control_csv", several="whole"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
-           "exchange:alignment_xml"),
-    Output("dxf", "plan.dxf", "the plan check drawing", _dxf),
+           "exchange:alignment_xml", several="whole"),
+    Output("dxf", "plan.dxf", "the plan check drawing", _dxf, several="whole"),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
-           _picture),
+           _picture, several="pictures"),
     Output("report", "report.html", "the printable report: header, curves, plan, setout, deflections, sign-off",
-           _report),
+           _report, several="documents"),
     Output("preview", "plan.png", "a raster preview of plan.dxf (matplotlib; only when named)", _preview,
-           extra="preview", default=False),
-    Output("manifest", "manifest.json", "hashes of the job file and of every output", _nothing),
+           extra="preview", default=False, several="whole"),
+    Output("manifest", "manifest.json", "hashes of the job file and of every output", _nothing, several="whole"),
 )
 
 BY_NAME: dict[str, Output] = {o.name: o for o in OUTPUTS}

@@ -12,6 +12,7 @@ import numpy as np
 
 from .design import Design, build_design, precision_rules_setups
 from .errors import JobFileError, StakedFileError
+from .job import Job
 from .jobfile import load_job
 from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
@@ -135,6 +136,11 @@ def check_design(d: Design) -> None:
                     f"{extent:,.3f} (more than {limit:,.0f}); check the coordinates (a decimal point lost?)")
 
 
+def _has_profile(job: Job) -> bool:
+    """Whether the job (any of its alignments) has a profile."""
+    return any(p.profile is not None for p in (job.parts or (job,)))
+
+
 def _has_extra(extra: str | None) -> bool:
     """Whether the optional install an output needs is there."""
     if extra is None:
@@ -162,7 +168,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     notes: list[str] = []
     if chosen is None:
         outputs = [o for o in OUTPUTS if o.default and (job.setup is not None or not o.needs_setup)
-                   and (job.profile is not None or not o.needs_profile)]
+                   and (_has_profile(job) or not o.needs_profile)]
         for o in [o for o in outputs if not _has_extra(o.extra)]:
             outputs.remove(o)
             notes.append(f"matplotlib is not installed: {o.filename} skipped (pip install 'stakeout[{o.extra}]')")
@@ -173,7 +179,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             for o in OUTPUTS:
                 if o.name in chosen and o.needs_setup:
                     raise JobFileError(f"--only {o.name}: the job has no [setup], so there is no setout to write")
-        if job.profile is None:
+        if not _has_profile(job):
             for o in OUTPUTS:
                 if o.name in chosen and o.needs_profile:
                     raise JobFileError(f"--only {o.name}: the job has no [profile], so there is no {o.filename}")
@@ -184,15 +190,17 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
                                    f"(pip install 'stakeout[{o.extra}]')")
     folder = OutputFolder(out, force, protect=job.inputs())
     d = build_design(job)
-    check_design(d)
-    for o in [o for o in outputs if o.applies is not None and not o.applies(d)]:
+    for part in d.parts or (d,):
+        check_design(part)
+    for o in [o for o in outputs if not o.serves(d)]:
         if chosen is not None:
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
     written: dict[str, bytes] = {}
     done = Rendered(wide)
     files = [o for o in outputs if o.name != "manifest"]
-    progress = Progress(len(files) + 1, len(d.stakes))
+    count = sum(len(p.stakes) for p in d.parts or (d,))
+    progress = Progress(len(files) + 1, count)
     progress.step("computed")
     with folder:
         for o in files:  # per-point CSVs render their chunks on every core
@@ -205,11 +213,13 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
 
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
         folder.commit()
-    notes.insert(0, f"wrote {len(outputs)} file(s) for {len(d.stakes)} points to {out}")
+    several = f" on {len(d.parts)} alignments" if d.parts else ""
+    notes.insert(0, f"wrote {len(outputs)} file(s) for {count} points{several} to {out}")
     notes[1:1] = folder.litter_notes
-    notes.extend(setup_notes(d))
-    notes.extend(slope_stake_notes(d))
-    notes.extend(f"warning: {w}" for w in d.warnings)
+    for part in d.parts or (d,):
+        named = f"alignment {part.alignment.name}: " if d.parts else ""
+        notes.extend(named + n for n in setup_notes(part) + slope_stake_notes(part))
+        notes.extend(f"warning: {named}{w}" for w in part.warnings)
     for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
         if f.not_used:
             notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")

@@ -14,12 +14,15 @@ import hashlib
 import math
 import re
 import tomllib
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from ..errors import JobFileError
 from ..alignment.specs import AlignmentSpec, ArcSpec, FixedSpec
-from ..job import ControlPoint, DesignFile, Job, JobInfo, Setup, SuperelevationPeriod
+from ..ground import Ground
+from ..job import (CheckSpec, ControlPoint, DesignFile, Job, JobInfo, Scale, Setup,
+                   SuperelevationPeriod)
+from ..precision import InstrumentSpec
 from ..limits import MAX_COORDINATE, MAX_JOB_FILE_BYTES, decode_job_text, read_regular_file
 from ..textsafety import check_file_name, check_free_text, show_value
 from ..stations import check_station_length
@@ -68,27 +71,76 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
             raise JobFileError(f"{path}: not valid TOML: {show_value(str(exc))}") from None
         raise JobFileError(f"{path}: not valid TOML: number too long (line {line}); no value of a job file "
                            "needs more than a few dozen digits") from None
-    top = Table(doc, "", ("format", "job", "alignment", "staking", "setup", "scale", "check", "profile", "control",
-                          "instrument", "superelevation", "ground", "slope_stakes"))
+    several = isinstance(doc.get("alignment"), list)
+    top = Table(doc, "", _SHARED + _PER_ALIGNMENT)
     fmt = top.raw("format", required=True)
     if type(fmt) is not int or fmt != 1:  # 1.0 and true are not the format number
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
     info = _job_info(top)
     base = Path(path).parent
-    design_files: list[DesignFile] = []
     files = DesignFiles(info, base)
-    raw_alignment = top.raw("alignment", required=True)
-    from_file = None
-    if isinstance(raw_alignment, dict) and "landxml" in raw_alignment:
-        at = top.table("alignment", ("landxml", "name"))
-        assert at is not None
-        from_file = read_alignment_file(at, info, files)
-        alignment: AlignmentSpec = from_file.spec
-        _check_length(from_file.spec)
-        design_files.append(from_file.record)
-    else:
-        alignment = read_alignment(top, info)
-    staking = read_staking(top, info)
+    top.raw("alignment", required=True)
+    if several:
+        for section in _PER_ALIGNMENT[1:]:
+            if top.has(section):
+                raise JobFileError(f"{section}: in a job with several alignments ([[alignment]]) each alignment's "
+                                   f"{section} goes in its own [alignment.{section}] (after its [[alignment]])")
+    shared = _read_shared(top, info, files, base)
+    head = Job(path=path, sha256=hashlib.sha256(data).hexdigest(), info=info, alignment=None,  # type: ignore[arg-type]
+               staking=None, setup=shared.setup, scale=shared.scale,  # type: ignore[arg-type]
+               check=shared.check, control=shared.control, instrument=shared.instrument, ground=shared.ground)
+    if not several:
+        return _read_alignment_sections(top, head, shared, files)
+    entries = doc["alignment"]
+    if not entries:
+        raise JobFileError("alignment: an empty [[alignment]] list; give at least one alignment")
+    parts: list[Job] = []
+    for k, entry in enumerate(entries):
+        if not isinstance(entry, dict):
+            raise JobFileError(f"alignment[{k}] = {show_value(entry)}: expected a table ([[alignment]])")
+        sub = {"alignment": {key: v for key, v in entry.items() if key not in _PER_ALIGNMENT[1:]}}
+        sub.update({key: entry[key] for key in _PER_ALIGNMENT[1:] if key in entry})
+        name = entry.get("name")
+        try:
+            parts.append(_read_alignment_sections(Table(sub, "", _PER_ALIGNMENT), head, shared, files))
+        except JobFileError as exc:
+            what = f" ({show_value(name)})" if isinstance(name, str) else ""
+            raise JobFileError(f"alignment[{k}]{what}: {exc}") from None
+    seen: dict[str, int] = {}
+    for k, part in enumerate(parts):
+        if part.alignment.name in seen:
+            raise JobFileError(f"alignment[{k}].name = {part.alignment.name!r}: alignment[{seen[part.alignment.name]}] "
+                               "has this name too; each alignment of a job needs its own name")
+        seen[part.alignment.name] = k
+    records: dict[tuple[str, str, str | None], DesignFile] = {}
+    for part in parts:
+        for r in part.design_files:
+            records.setdefault((r.role, r.path, r.chosen), r)
+    return replace(parts[0], parts=tuple(parts), design_files=tuple(records.values()))
+
+
+#: Sections every alignment of a job shares.
+_SHARED = ("format", "job", "setup", "scale", "check", "control", "instrument", "ground")
+#: Sections that describe one alignment (repeated inside each ``[[alignment]]`` of a job with several).
+_PER_ALIGNMENT = ("alignment", "staking", "profile", "superelevation", "slope_stakes")
+
+
+@dataclass(frozen=True)
+class _Shared:
+    """The sections every alignment shares, read once, and the files they came from."""
+
+    control: tuple[ControlPoint, ...]
+    control_files: tuple[DesignFile, ...]
+    setup: Setup | None
+    instrument: InstrumentSpec | None
+    scale: Scale
+    check: CheckSpec | None
+    ground: Ground | None
+    ground_record: DesignFile | None
+
+
+def _read_shared(top: Table, info: JobInfo, files: DesignFiles, base: Path) -> _Shared:
+    """``[control]``, ``[setup]``, ``[instrument]``, ``[scale]``, ``[check]`` and ``[ground]``."""
     control, control_files = read_control(top, info, files)
     _check_control_coordinates(control)
     setup = read_setup(top, control, info.station_length)
@@ -112,6 +164,30 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(
             "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
         )
+    check = read_check(top)
+    ground_read = read_ground(top, base, info.unit.key)
+    ground, ground_record = ground_read if ground_read is not None else (None, None)
+    return _Shared(control, control_files, setup, instrument, scale, check, ground, ground_record)
+
+
+def _read_alignment_sections(top: Table, head: Job, shared: _Shared, files: DesignFiles) -> Job:
+    """One alignment's sections (``alignment``, ``staking``, ``profile``, ``superelevation``,
+    ``slope_stakes``) on top of the shared ones: a whole single-alignment :class:`Job`.
+    """
+    info = head.info
+    design_files: list[DesignFile] = []
+    raw_alignment = top.raw("alignment", required=True)
+    from_file = None
+    if isinstance(raw_alignment, dict) and "landxml" in raw_alignment:
+        at = top.table("alignment", ("landxml", "name"))
+        assert at is not None
+        from_file = read_alignment_file(at, info, files)
+        alignment: AlignmentSpec = from_file.spec
+        _check_length(from_file.spec)
+        design_files.append(from_file.record)
+    else:
+        alignment = read_alignment(top, info)
+    staking = read_staking(top, info)
     profile = read_profile(top, info)
     pt = top.table("profile", ("name", "pvi", "landxml"))
     if pt is not None and pt.has("landxml"):
@@ -133,38 +209,27 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     if from_file is not None and from_file.source is not None and from_file.source.superelevations and (
             se_record is None or se_record.sha256 != from_file.record.sha256):
         unapplied = periods_of(from_file.source, "alignment.landxml")
-    all_files = _not_used_once(tuple(design_files) + control_files, files, unapplied)
+    all_files = _not_used_once(tuple(design_files) + shared.control_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
-    ground_read = read_ground(top, base, info.unit.key)
-    ground = None
-    if ground_read is not None:
-        ground, ground_record = ground_read
-        all_files += (ground_record,)
+    if shared.ground_record is not None:
+        all_files += (shared.ground_record,)
     slope_stakes = read_slope_stakes(top, [ol.code for ol in staking.offsets])
     if slope_stakes is not None:
-        if ground is None:
+        if shared.ground is None:
             raise JobFileError("slope_stakes: needs [ground] (the catch points lie on the existing ground)")
         if profile is None and staking.elevation is None:
             raise JobFileError("slope_stakes: needs design elevations at the hinges ([profile] or "
                                "staking.elevation)")
-    return Job(
-        path=path,
-        sha256=hashlib.sha256(data).hexdigest(),
-        info=info,
+    return replace(
+        head,
         alignment=alignment,
         staking=staking,
-        setup=setup,
-        scale=scale,
-        check=read_check(top),
         profile=profile,
         equations=from_file.equations if from_file is not None else read_equations(top, info),
         design_files=all_files,
-        control=control,
-        instrument=instrument,
         superelevation=se_rows,
         superelevation_file=se_file,
         unapplied_superelevation=unapplied,
-        ground=ground,
         slope_stakes=slope_stakes,
     )
 

@@ -29,6 +29,7 @@ grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
 from __future__ import annotations
 
 import datetime as _dt
+from typing import Any
 import math
 import re
 import xml.etree.ElementTree as _ET  # building and serialising only
@@ -127,6 +128,8 @@ def write_landxml(
     created: _dt.datetime | None = None,
     application_version: str = "",
     tolerance: float = 0.001,
+    more_alignments: Sequence[tuple[str, float, Sequence[XElement], Sequence[XEquation], Sequence[XPVI] | None,
+                                    str | None]] = (),
 ) -> bytes:
     """Write a design as a LandXML 1.2 document.
 
@@ -170,6 +173,9 @@ def write_landxml(
         ``<Application version>``, omitted when empty.
     tolerance : float
         Position tolerance (file units) of the geometry check run first.
+    more_alignments : sequence of (name, sta_start, elements, equations, profile_pvis, profile_name)
+        Further alignments of the same job, written after the first in the
+        same ``<Alignments>`` (their points are among ``points``).
 
     Returns
     -------
@@ -186,13 +192,8 @@ def write_landxml(
     """
     if units_key not in UNIT_WORDS:
         raise JobFileError(f"units = {units_key!r}: expected 'm', 'ft' or 'us_ft'")
-    numbered = tuple(
-        _renumber(el, i) for i, el in enumerate(elements, start=1)
-    )
-    al = XAlignment(alignment_name, float(sta_start), numbered, tuple(equations))
-    # the staked design may have angle points and curvature jumps (PT TS): export them as they are
-    measured = validate_geometry(al, tolerance, joins=False)
-    total = sum(m.length for m in measured)
+    designs = [(alignment_name, sta_start, elements, equations, profile_pvis, profile_name), *more_alignments]
+    checked = [_checked(name, start, els, eqs, tolerance) for name, start, els, eqs, _, _ in designs]
 
     stamp = created or _dt.datetime(1970, 1, 1)
     root = _ET.Element(
@@ -234,6 +235,39 @@ def write_landxml(
     _ET.SubElement(root, "Application", app)
 
     aligns = _ET.SubElement(root, "Alignments")
+    for (name, start, _, eqs, pvis, pname), (al, numbered, measured) in zip(designs, checked, strict=True):
+        _write_alignment(aligns, name, start, al, numbered, measured, eqs, pvis, pname)
+
+    _ET.indent(root, space="  ")
+    body = _ET.tostring(root, encoding="unicode")
+    assert body.endswith("</LandXML>")
+    # the points as text: a build may stake a million of them, too many for a tree
+    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else ""
+    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")] + cg + "</LandXML>\n").encode(
+        "utf-8"
+    )
+
+
+_POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
+_NEEDS_ESCAPE = re.compile('[&<>"\n\r\t]')
+_ESCAPES = str.maketrans({"&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "\n": "&#10;", "\r": "&#13;",
+                          "\t": "&#9;"})
+
+
+def _checked(name: str, sta_start: float, elements: Sequence[XElement], equations: Sequence[XEquation],
+             tolerance: float) -> tuple[XAlignment, tuple[XElement, ...], list[Any]]:
+    """One alignment's elements renumbered and measured (its geometry checked)."""
+    numbered = tuple(_renumber(el, i) for i, el in enumerate(elements, start=1))
+    al = XAlignment(name, float(sta_start), numbered, tuple(equations))
+    # the staked design may have angle points and curvature jumps (PT TS): export them as they are
+    return al, numbered, list(validate_geometry(al, tolerance, joins=False))
+
+
+def _write_alignment(aligns: Any, alignment_name: str, sta_start: float, al: XAlignment,
+                     numbered: tuple[XElement, ...], measured: list[Any], equations: Sequence[XEquation],
+                     profile_pvis: Sequence[XPVI] | None, profile_name: str | None) -> None:
+    """One ``<Alignment>`` with its geometry, equations and profile."""
+    total = sum(m.length for m in measured)
     a_el = _ET.SubElement(
         aligns,
         "Alignment",
@@ -260,21 +294,6 @@ def write_landxml(
         palign = _ET.SubElement(prof, "ProfAlign", {"name": _text(pname, "profile name")})
         for v in profile_pvis:
             _write_pvi(palign, v)
-
-    _ET.indent(root, space="  ")
-    body = _ET.tostring(root, encoding="unicode")
-    assert body.endswith("</LandXML>")
-    # the points as text: a build may stake a million of them, too many for a tree
-    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else ""
-    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")] + cg + "</LandXML>\n").encode(
-        "utf-8"
-    )
-
-
-_POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
-_NEEDS_ESCAPE = re.compile('[&<>"\n\r\t]')
-_ESCAPES = str.maketrans({"&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "\n": "&#10;", "\r": "&#13;",
-                          "\t": "&#9;"})
 
 
 def _attr_texts(strings: Sequence[str], what: str) -> Sequence[str]:

@@ -223,10 +223,9 @@ def _draw_control(msp: Any, d: Design, h: float) -> None:
             _text(msp, p.id, p.easting + 2 * h, p.northing + h, h, "SO-CONTROL")
 
 
-def _build(d: Design) -> Any:
-    job, a, sp = d.job, d.alignment, d.stakes
-    unit = job.info.unit
-    stn = d.stationing
+def _new_doc(d: Design) -> Any:
+    """An empty drawing in the job's units with the layers and text style."""
+    unit = d.job.info.unit
     doc = ezdxf.new("R2013", setup=False)
     doc.header["$INSUNITS"] = INSUNITS[unit.key]
     doc.header["$MEASUREMENT"] = 1 if unit.key == "m" else 0
@@ -234,6 +233,18 @@ def _build(d: Design) -> Any:
     for name, colour in LAYERS.items():
         doc.layers.add(name, color=colour)
     doc.layers.get("SO-RADIAL").off()  # there for whoever wants it; off so it hides nothing
+    return doc
+
+
+def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None = None
+           ) -> tuple[Any, tuple[float, float, float, float]]:
+    """Draw one alignment's plan into ``doc`` (a new drawing when None); ``shared``: also
+    the setups and control (once a drawing).  Returns the drawing and the extent drawn.
+    """
+    job, a, sp = d.job, d.alignment, d.stakes
+    unit = job.info.unit
+    stn = d.stationing
+    doc = _new_doc(d) if doc is None else doc
     msp = doc.modelspace()
     x0, y0, x1, y1 = _extent(d)
     size = max(x1 - x0, y1 - y0, 1.0)
@@ -246,7 +257,7 @@ def _build(d: Design) -> Any:
     for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
         msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
-    detail = len(sp) <= DETAIL_MAX_STAKES
+    detail = len(sp) <= DETAIL_MAX_STAKES if detail is None else detail
     zs = _stake_heights(d)
     for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)
         e, n = float(sp.easting[i]), float(sp.northing[i])
@@ -283,9 +294,10 @@ def _build(d: Design) -> Any:
             _text(msp, f"{stn.format_value(eq.back)} BK = {stn.format_value(eq.ahead)} AH", e + 1.2 * h,
                   n - 1.5 * h, h, "SO-KEYPOINT")
 
-    if d.setup is not None:
+    if shared and d.setup is not None:
         _draw_setups(msp, d, h, size)
-    _draw_control(msp, d, h)
+    if shared:
+        _draw_control(msp, d, h)
 
     # title block and curve table, above the top-left corner of the job
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
@@ -319,23 +331,33 @@ def _build(d: Design) -> Any:
         y -= 1.6 * h
 
     top = y1 + (len(lines) + 3) * 1.6 * h
-    doc.header["$EXTMIN"] = (x0, y0, 0.0)
-    doc.header["$EXTMAX"] = (x1, top, 0.0)
-    doc.set_modelspace_vport(height=(top - y0) * 1.1, center=((x0 + x1) / 2, (y0 + top) / 2))
-    return doc
+    return doc, (x0, y0, x1, top)
 
 
 def plan_dxf(d: Design) -> bytes:
-    """Render ``plan.dxf`` as bytes, identical for the same job and version."""
+    """Render ``plan.dxf`` as bytes, identical for the same job and version; with several
+    alignments every one in the one drawing (setups and control drawn once).
+    """
+    parts = d.parts or (d,)
+    total = sum(len(p.stakes) for p in parts)
+    bulk = total > DETAIL_MAX_STAKES
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
     try:
-        doc = _build(d)
-        bulk = len(d.stakes) > DETAIL_MAX_STAKES
+        doc: Any = None
+        boxes = []
+        for k, p in enumerate(parts):
+            doc, box = _build(p, doc, shared=k == 0, detail=not bulk)
+            boxes.append(box)
+        x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
+        x1, top = max(b[2] for b in boxes), max(b[3] for b in boxes)
+        doc.header["$EXTMIN"] = (x0, y0, 0.0)
+        doc.header["$EXTMAX"] = (x1, top, 0.0)
+        doc.set_modelspace_vport(height=(top - y0) * 1.1, center=((x0 + x1) / 2, (y0 + top) / 2))
         first = 0
         if bulk:  # reserve one handle per stake before the header's $HANDSEED is written
             first = int(doc.entitydb.handles.next(), 16)
-            doc.entitydb.handles.reset("%X" % (first + len(d.stakes)))
+            doc.entitydb.handles.reset("%X" % (first + total))
         # The CLASSES section can come out in set order, which follows the hash
         # seed: add the required classes now and put them in a fixed order.
         doc.classes.add_required_classes(doc.dxfversion)
@@ -347,7 +369,9 @@ def plan_dxf(d: Design) -> bytes:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
     data = stream.getvalue().encode(doc.output_encoding)
     if bulk:
-        data = _splice_points(data, d, first, owner)
+        for p in parts:
+            data = _splice_points(data, p, first, owner)
+            first += len(p.stakes)
     return data
 
 

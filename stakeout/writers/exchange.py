@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import os
+from typing import Any
 
 import numpy as np
 
@@ -74,32 +75,43 @@ CONTROL_CODE = "control"
 
 
 def _points(d: Design) -> XPoints:
-    """Every stake, then every control point the job lists or uses (code ``control``), as CgPoints."""
-    sp = d.stakes
+    """Every stake (of every alignment, in job order), then every control point the job lists or
+    uses (code ``control``), as CgPoints.
+    """
+    parts = d.parts or (d,)
     ctrl = d.job.control_points()
-    if not ctrl:
-        return XPoints(sp.point, sp.northing, sp.easting, sp.elevation, sp.code)
     nan = np.nan
-    stake_z = sp.elevation if sp.elevation is not None else np.full(len(sp), nan)
-    ctrl_z = np.array([nan if c.elevation is None else c.elevation for c in ctrl], dtype=float)
-    elevation = np.concatenate([stake_z, ctrl_z])
-    return XPoints([*sp.point, *(c.id for c in ctrl)],
-                   np.concatenate([sp.northing, [c.northing for c in ctrl]]),
-                   np.concatenate([sp.easting, [c.easting for c in ctrl]]),
-                   None if np.isnan(elevation).all() else elevation,
-                   [*sp.code, *(CONTROL_CODE for _ in ctrl)])
+    ids: list[str] = []
+    codes: list[str] = []
+    for p in parts:
+        ids += p.stakes.point
+        codes += p.stakes.code
+    north = [p.stakes.northing for p in parts] + [np.array([c.northing for c in ctrl], dtype=float)]
+    east = [p.stakes.easting for p in parts] + [np.array([c.easting for c in ctrl], dtype=float)]
+    heights = [p.stakes.elevation if p.stakes.elevation is not None else np.full(len(p.stakes), nan) for p in parts]
+    heights.append(np.array([nan if c.elevation is None else c.elevation for c in ctrl], dtype=float))
+    elevation = np.concatenate(heights)
+    return XPoints(ids + [c.id for c in ctrl], np.concatenate(north), np.concatenate(east),
+                   None if np.isnan(elevation).all() else elevation, codes + [CONTROL_CODE for _ in ctrl])
+
+
+def _alignment_record(d: Design) -> tuple[str, float, list[Any], list[XEquation], list[XPVI] | None, str | None]:
+    """One alignment as ``write_landxml`` takes it: name, start, elements, equations, profile, profile name."""
+    eqs = [XEquation(eq.internal, eq.ahead, eq.back) for eq in d.stationing.equations]
+    return (d.alignment.name, d.alignment.start_station, list(d.presentation.landxml_elements), eqs, _profile(d),
+            d.profile.name or None if d.profile is not None else None)
 
 
 def alignment_xml(d: Design) -> bytes:
-    """Render ``alignment.xml`` (LandXML 1.2, the same bytes for the same design)."""
-    eqs = [XEquation(eq.internal, eq.ahead, eq.back) for eq in d.stationing.equations]
+    """Render ``alignment.xml`` (LandXML 1.2, the same bytes for the same design): every
+    alignment with its profile, every stake and the control.
+    """
     points = _points(d)
     name = d.job.info.name or d.alignment.name
+    first, *more = [_alignment_record(p) for p in (d.parts or (d,))]
     try:
-        return write_landxml(d.unit.key, d.alignment.name, d.alignment.start_station,
-                             list(d.presentation.landxml_elements), eqs,
-                             _profile(d), points, "stakeout", f"staked design of {name}"[:200],
-                             profile_name=d.profile.name or None if d.profile is not None else None,
-                             application_version=__version__, created=source_date())
+        return write_landxml(d.unit.key, first[0], first[1], first[2], first[3], first[4], points, "stakeout",
+                             f"staked design of {name}"[:200], profile_name=first[5],
+                             application_version=__version__, created=source_date(), more_alignments=more)
     except StakeoutError as exc:  # name the output and the part of the job it comes from
         raise type(exc)(f"alignment.xml (the LandXML export of [alignment] and [profile]): {exc}") from None
