@@ -305,10 +305,11 @@ def test_sections_svg_draws_each_station_with_both_catches(tmp_path):
     files = _build(_job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0)), tmp_path / "out", "sections-picture")
     root = etree.fromstring(files["sections.svg"].encode("utf-8"))  # well-formed XML (lxml)
     ns = {"s": "http://www.w3.org/2000/svg"}
-    assert len(root.findall("s:g", ns)) == 3  # stations 0, 20, 40 have both catch points
-    assert len(root.findall(".//s:circle", ns)) == 3 * 4  # two catch and two reference stakes each
+    sections = root.findall("s:g[@class='section']", ns)
+    assert len(sections) == 3  # stations 0, 20, 40 have both catch points
+    assert sum(len(g.findall(".//s:circle", ns)) for g in sections) == 3 * 4  # two catch and two reference stakes each
     # the fill section's area, as shapely gives it (see the volumes test)
-    assert "fill area 34.00" in files["sections.svg"]
+    assert "fill 34.00 m\u00b2" in files["sections.svg"]
 
 
 def test_rolling_ground_against_scipy_linear_interpolation(tmp_path):
