@@ -209,8 +209,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
     written: dict[str, bytes] = {}
-    done = Rendered(wide)
     files = [o for o in outputs if o.name != "manifest"]
+    done = Rendered(wide, frozenset(o.filename for o in files))
     progress = Progress(len(files) + 1, len(d.stakes))
     progress.step("computed")
     with folder:
