@@ -77,8 +77,6 @@ table.facts td { font-family: 'DejaVu Sans Mono', 'Liberation Mono', Consolas, m
 .warn { color: #8a1c00; }
 .picture { page: picture; break-before: page; break-after: page; }
 .picture svg { display: block; width: 100%; height: auto; max-height: 172mm; }
-.xsec svg { display: block; width: 100%; max-width: 640px; height: auto; margin: 4px 0; break-inside: avoid; }
-.xsec svg.legend { max-width: 920px; }
 section.setup + section.setup { break-before: page; }
 .signoff { break-inside: avoid; margin-top: 14px; }
 .signoff table td { height: 11mm; border: none; border-bottom: 0.8pt solid #000; }
@@ -476,12 +474,17 @@ def _earthwork_section(d: Design, sections: SectionPictures | None = None) -> st
             + _cross_sections(int(st.size), sections))
 
 
+_XSEC_STYLE = "display: block; width: 100%; height: auto; margin: 4px 0; break-inside: avoid;"
+
+
 def _cross_sections(n: int, sections: SectionPictures | None) -> str:
     """The report's cross-sections part for ``n`` sections (see :func:`_earthwork_section`)."""
     link = '<a href="sections.svg">sections.svg</a>'
     if sections is not None and n <= REPORT_MAX_SECTIONS:
         legend, panels = sections.draw(REPORT_MAX_SECTIONS)
-        legend = legend.replace("<svg ", '<svg class="legend" ', 1)
+        # styled inline, not in STYLE: the reports of jobs without sections keep their bytes
+        legend = legend.replace("<svg ", f'<svg class="legend" style="{_XSEC_STYLE} max-width: 920px;" ', 1)
+        panels = [p.replace("<svg ", f'<svg style="{_XSEC_STYLE} max-width: 640px;" ', 1) for p in panels]
         also = f" They are also in {link}." if sections.file else ""
         return ("<h3>Cross-sections</h3><p>Each station with both catch points, the ground between them: cut and fill "
                 f"areas shaded, hinges, catch and reference stakes.{also}</p>"
