@@ -27,6 +27,7 @@ from stakeout.volumes import CrossSections, area_outlines, areas_between
 from stakeout.writers.html import REPORT_MAX_SECTIONS
 from stakeout.writers.sections_picture import CUT_COLOUR, FILL_COLOUR, MAX_DRAWN_SECTIONS
 
+from .ground_data import rolling_ground_csv
 from .helpers import build_job
 from .test_ground_wiring import JOB, SLOPES
 
@@ -35,15 +36,7 @@ SVG = "{http://www.w3.org/2000/svg}"
 
 def _rolling_job(tmp_path: Path, length: float = 100.0, interval: float = 10.0, units: str = "m") -> Path:
     """A straight road over rolling ground (jittered points, Delaunay): cut on one side, fill on the other."""
-    rng = np.random.default_rng(7)
-    n, e = np.meshgrid(np.arange(900.0, 1101.0, 8.0), np.arange(1950.0, 2000.0 + length + 51.0, 8.0))
-    n = n.ravel() + rng.uniform(-2.5, 2.5, n.size)
-    e = e.ravel() + rng.uniform(-2.5, 2.5, e.size)
-    z = 51.0 + 1.5 * np.sin((n - 1000.0) / 9.0) + 0.8 * np.cos((e - 2000.0) / 13.0)
-    (tmp_path / "ground.csv").write_text(
-        "point,northing,easting,elevation\n"
-        + "\n".join(f"G{i + 1},{a:.4f},{b:.4f},{c:.4f}" for i, (a, b, c) in enumerate(zip(n, e, z))) + "\n",
-        encoding="utf-8")
+    rolling_ground_csv(tmp_path / "ground.csv", 2000.0 + length + 51.0)
     text = (JOB.format(extra=SLOPES).replace("length = 100.0", f"length = {length}")
             .replace("interval = 20.0", f"interval = {interval}").replace('units = "m"', f'units = "{units}"'))
     if units != "m":
