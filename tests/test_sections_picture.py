@@ -101,6 +101,7 @@ def test_shaded_areas_are_the_volumes_areas(tmp_path):
         assert len(g.findall(f"{SVG}circle[@class='catch']")) == 2
         assert len(g.findall(f"{SVG}circle[@class='reference']")) == 2
         assert len(g.findall(f"{SVG}rect[@class='hinge']")) == 2
+        assert len(g.findall(f"{SVG}polyline[@class='beyond']")) == 2  # the ground out to each reference stake
     assert kinds == {"cut", "fill"}
 
 
@@ -241,3 +242,35 @@ def test_report_of_a_long_job_built_without_sections_svg_links_nothing(tmp_path)
     out2 = build_job(job, tmp_path / "out2", "--only", "report,sections-picture")
     doc2 = lhtml.document_fromstring((out2 / "report.html").read_text(encoding="utf-8"))
     assert [a.get("href") for a in doc2.iter("a")] == ["sections.svg"] and (out2 / "sections.svg").exists()
+
+
+def test_ground_beyond_the_catch_against_scipy(tmp_path):
+    from scipy.interpolate import LinearNDInterpolator
+
+    from stakeout.earthwork import ground_beyond_catch
+
+    n, e, z = rolling_ground_csv(tmp_path / "ground.csv")
+    (tmp_path / "job.toml").write_text(JOB.format(extra=SLOPES), encoding="utf-8")
+    d = build_design(load_job(tmp_path / "job.toml"))
+    ew = d.earthwork
+    assert ew is not None and ew.slopes is not None and d.job.ground is not None
+    r = ew.slopes
+    rows = np.arange(len(r.side), dtype=np.int64)
+    first, off, gz = ground_beyond_catch(d.job.ground, r, rows)
+    # scipy's LinearNDInterpolator is linear on the same Delaunay triangulation of the points
+    # (as in test_ground_wiring's rolling-ground test): the ground at each drawn vertex
+    f = LinearNDInterpolator(np.c_[np.round(n, 4), np.round(e, 4)], np.round(z, 4))
+    drawn = 0
+    for i in rows.tolist():
+        a, b = int(first[i]), int(first[i + 1])
+        if np.isnan(r.catch_offset[i]):
+            assert a == b
+            continue
+        drawn += 1
+        # the road runs due east from (1000, 2000) at station 0: left (negative offset) is north
+        east = 2000.0 + float(d.stakes.stations[r.station[i]])
+        assert gz[a:b] == pytest.approx(f(1000.0 - off[a:b], np.full(b - a, east)), abs=5e-4)
+        assert off[a] == pytest.approx(r.catch_offset[i], abs=1e-9)
+        assert off[b - 1] == pytest.approx(r.reference_offset[i], abs=1e-9)
+        assert gz[b - 1] == pytest.approx(r.result.ref_ground[i], abs=1e-9)
+    assert drawn > 6

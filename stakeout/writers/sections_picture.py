@@ -3,11 +3,12 @@
 One panel per section (a staked station with both catch points and the
 ground between them), in station order, two panels a row: the cut area
 (ground above the design) and the fill area (ground below it) shaded,
-the ground line, the design template from catch to catch, the centreline,
-the hinges (squares), the catch stakes (filled circles) and the reference
-stakes (open circles), with the station, the cut and fill areas in square
-job units and the panel's vertical exaggeration written.  A legend under
-the title says which shade is which.
+the ground line (from each reference stake through the catch points), the
+design template from catch to catch, the centreline, the hinges (squares),
+the catch stakes (filled circles) and the reference stakes (open circles),
+with the station, the cut and fill areas in square job units and the
+panel's vertical exaggeration written.  A legend under the title says which
+shade is which.
 
 The shaded polygons are those whose areas ``volumes.csv`` lists
 (:func:`stakeout.volumes.area_outlines`): drawn in job units, offset and
@@ -27,6 +28,7 @@ from html import escape
 import numpy as np
 
 from ..design import Design
+from ..earthwork import ground_beyond_catch
 from ..numbers import fixed_strings
 from ..volumes import area_outlines
 
@@ -96,13 +98,20 @@ def _panels(d: Design, limit: int) -> list[str]:
     poly_of = np.searchsorted(outline.section, np.arange(drawn.size + 1))
     row_lo, row_hi = np.searchsorted(r.station, drawn, "left"), np.searchsorted(r.station, drawn, "right")
     cut_t, fill_t = fixed_strings(cs.cut_area[drawn], 2), fixed_strings(cs.fill_area[drawn], 2)
+    # the ground out to the reference stakes: the drawn stations' rows, in order
+    assert d.job.ground is not None
+    out_rows = np.concatenate([np.arange(a, b) for a, b in zip(row_lo.tolist(), row_hi.tolist())]).astype(np.int64)
+    out_first, out_x, out_z = ground_beyond_catch(d.job.ground, r, out_rows)
+    out_at = np.r_[0, np.cumsum(row_hi - row_lo)]
     out = []
     for p, i in enumerate(drawn.tolist()):
         g = slice(int(cs.ground_first[i]), int(cs.ground_first[i + 1]))
         t = slice(int(cs.design_first[i]), int(cs.design_first[i + 1]))
         rows = np.arange(row_lo[p], row_hi[p])
-        xs = np.concatenate([cs.ground_offset[g], cs.design_offset[t], r.reference_offset[rows]])
-        zs = np.concatenate([cs.ground_z[g], cs.design_z[t], res.ref_ground[rows]])
+        beyond = [slice(int(out_first[q]), int(out_first[q + 1])) for q in range(int(out_at[p]), int(out_at[p + 1]))]
+        xs = np.concatenate([cs.ground_offset[g], cs.design_offset[t], r.reference_offset[rows],
+                             *(out_x[seg] for seg in beyond)])
+        zs = np.concatenate([cs.ground_z[g], cs.design_z[t], res.ref_ground[rows], *(out_z[seg] for seg in beyond)])
         ok = ~np.isnan(xs) & ~np.isnan(zs)
         x0, x1 = float(xs[ok].min()), float(xs[ok].max())
         z0, z1 = float(zs[ok].min()), float(zs[ok].max())
@@ -138,6 +147,10 @@ def _panels(d: Design, limit: int) -> list[str]:
                         f'<text x="{c}" y="{top - 3}" font-size="10" fill="{_CL}" text-anchor="middle">CL</text>')
         part.append(f'<polyline points="{_pts(cs.ground_offset[g], cs.ground_z[g], m)}" fill="none" '
                     f'stroke="{_GROUND}" stroke-width="1.5"/>')
+        for seg in beyond:
+            if seg.stop - seg.start > 1:
+                part.append(f'<polyline class="beyond" points="{_pts(out_x[seg], out_z[seg], m)}" fill="none" '
+                            f'stroke="{_GROUND}" stroke-width="1.5"/>')
         part.append(f'<polyline points="{_pts(cs.design_offset[t], cs.design_z[t], m)}" fill="none" '
                     f'stroke="{_DESIGN}" stroke-width="1.5"/>')
         for j in rows.tolist():
