@@ -110,10 +110,10 @@ def test_legend_names_each_shade(tmp_path):
     root = etree.fromstring((out / "sections.svg").read_bytes())  # lxml, strict XML
     legend = root.find(f"{SVG}g[@class='legend']")
     words = {}
-    items = list(legend)
-    for k, el in enumerate(items[:-1]):
-        if el.tag == f"{SVG}rect" and el.get("fill") in (CUT_COLOUR, FILL_COLOUR):
-            words[el.get("fill")] = items[k + 1].text
+    for item in legend:  # each item: its mark, then its words
+        mark, text = item.find(f"{SVG}rect"), item.find(f"{SVG}text")
+        if mark is not None and mark.get("fill") in (CUT_COLOUR, FILL_COLOUR):
+            words[mark.get("fill")] = text.text
     assert words[CUT_COLOUR].startswith("cut") and words[FILL_COLOUR].startswith("fill")
     assert CUT_COLOUR != FILL_COLOUR
 

@@ -483,7 +483,7 @@ def _cross_sections(n: int, sections: SectionPictures | None) -> str:
     if sections is not None and n <= REPORT_MAX_SECTIONS:
         legend, panels = sections.draw(REPORT_MAX_SECTIONS)
         # styled inline, not in STYLE: the reports of jobs without sections keep their bytes
-        legend = legend.replace("<svg ", f'<svg class="legend" style="{_XSEC_STYLE} max-width: 920px;" ', 1)
+        legend = legend.replace("<svg ", f'<svg class="legend" style="{_XSEC_STYLE} max-width: 640px;" ', 1)
         panels = [p.replace("<svg ", f'<svg style="{_XSEC_STYLE} max-width: 640px;" ', 1) for p in panels]
         also = f" They are also in {link}." if sections.file else ""
         return ("<h3>Cross-sections</h3><p>Each station with both catch points, the ground between them: cut and fill "

@@ -47,7 +47,6 @@ _PW, _PH = 640, 300  # one panel, pixels
 _PAD_L, _PAD_R, _PAD_T, _PAD_B = 62, 18, 46, 26
 _COLS = 2
 _TOP = 74  # title band of sections.svg: title, what is drawn, legend
-_LEGEND_H = 24  # the legend alone (report.html)
 
 
 def _f(v: float) -> str:
@@ -60,26 +59,27 @@ def _pts(x: np.ndarray, z: np.ndarray, m: tuple[float, float, float, float]) -> 
     return " ".join(f"{_f(a)},{_f(b)}" for a, b in zip((x * sx + tx).tolist(), (ty - z * sy).tolist()))
 
 
-def _legend(y: float) -> str:
-    """The legend as one line of SVG at baseline ``y`` (panel-free coordinates)."""
-    r = y - 9
-    return (f'<g class="legend" font-size="11">'
-            f'<rect x="10" y="{r}" width="18" height="11" fill="{CUT_COLOUR}" stroke="{_FRAME}"/>'
-            f'<text x="33" y="{y}">cut (ground above design)</text>'
-            f'<rect x="200" y="{r}" width="18" height="11" fill="{FILL_COLOUR}" stroke="{_FRAME}"/>'
-            f'<text x="223" y="{y}">fill (ground below design)</text>'
-            f'<line x1="390" y1="{y - 4}" x2="414" y2="{y - 4}" stroke="{_GROUND}" stroke-width="1.5"/>'
-            f'<text x="419" y="{y}">ground</text>'
-            f'<line x1="470" y1="{y - 4}" x2="494" y2="{y - 4}" stroke="{_DESIGN}" stroke-width="1.5"/>'
-            f'<text x="499" y="{y}">design</text>'
-            f'<rect x="552" y="{y - 7}" width="6" height="6" fill="{_DESIGN}"/>'
-            f'<text x="562" y="{y}">hinge</text>'
-            f'<circle cx="609" cy="{y - 4}" r="4" fill="{_DESIGN}" stroke="{_DESIGN}"/>'
-            f'<text x="617" y="{y}">catch stake</text>'
-            f'<circle cx="695" cy="{y - 4}" r="4" fill="white" stroke="{_DESIGN}"/>'
-            f'<text x="703" y="{y}">reference stake</text>'
-            f'<line x1="805" y1="{y - 9}" x2="805" y2="{y + 1}" stroke="{_CL}" stroke-dasharray="3 2"/>'
-            f'<text x="810" y="{y}">centreline</text></g>')
+def _legend(y: float, width: float) -> tuple[str, float]:
+    """The legend from baseline ``y``, its items in rows no wider than ``width``; and its height."""
+    items = (  # (width, the item drawn from x = 0 at baseline 0)
+        (190, f'<rect x="0" y="-9" width="18" height="11" fill="{CUT_COLOUR}" stroke="{_FRAME}"/>'
+              '<text x="23" y="0">cut (ground above design)</text>'),
+        (190, f'<rect x="0" y="-9" width="18" height="11" fill="{FILL_COLOUR}" stroke="{_FRAME}"/>'
+              '<text x="23" y="0">fill (ground below design)</text>'),
+        (80, f'<line x1="0" y1="-4" x2="24" y2="-4" stroke="{_GROUND}" stroke-width="1.5"/><text x="29" y="0">ground</text>'),
+        (82, f'<line x1="0" y1="-4" x2="24" y2="-4" stroke="{_DESIGN}" stroke-width="1.5"/><text x="29" y="0">design</text>'),
+        (57, f'<rect x="0" y="-7" width="6" height="6" fill="{_DESIGN}"/><text x="10" y="0">hinge</text>'),
+        (86, f'<circle cx="4" cy="-4" r="4" fill="{_DESIGN}" stroke="{_DESIGN}"/><text x="12" y="0">catch stake</text>'),
+        (110, f'<circle cx="4" cy="-4" r="4" fill="white" stroke="{_DESIGN}"/><text x="12" y="0">reference stake</text>'),
+        (80, f'<line x1="0" y1="-9" x2="0" y2="1" stroke="{_CL}" stroke-dasharray="3 2"/><text x="5" y="0">centreline</text>'),
+    )
+    out, x, row = [], 10.0, 0
+    for w, item in items:
+        if x + w > width and x > 10.0:
+            x, row = 10.0, row + 1
+        out.append(f'<g transform="translate({x:g} {y + 18 * row:g})">{item}</g>')
+        x += w
+    return f'<g class="legend" font-size="11">{"".join(out)}</g>', 18.0 * (row + 1)
 
 
 def _panels(d: Design, limit: int) -> list[str]:
@@ -196,7 +196,7 @@ def sections_svg(d: Design) -> bytes:
            f'<text x="10" y="20" font-size="16">Cross-sections: {escape(d.job.info.name)}</text>',
            f'<text x="10" y="40">{n} of {k} staked stations have both catch points and the ground between them: '
            f'{drawn}.</text>',
-           _legend(62)]
+           _legend(62, width)[0]]
     for p, body in enumerate(panels):
         out.append(f'<g class="section" transform="translate({(p % _COLS) * _PW} {_TOP + (p // _COLS) * _PH})">'
                    f'{body}</g>')
@@ -208,5 +208,6 @@ def report_pictures(d: Design, limit: int) -> tuple[str, list[str]]:
     """For ``report.html``: the legend and the first ``limit`` section panels, each a standalone
     ``<svg>`` element (the same panels as ``sections.svg``).
     """
-    legend = f"{_svg_open(_PW + 280, _LEGEND_H)}{_legend(16)}</svg>"
+    body, h = _legend(16, _PW)
+    legend = f"{_svg_open(_PW, int(h) + 6)}{body}</svg>"
     return legend, [f"{_svg_open(_PW, _PH)}{body}</svg>" for body in _panels(d, limit)]
