@@ -29,7 +29,7 @@ from .slopestakes import SlopeStakes, SlopeStaking
 from .staking import MoreStakes, StakePoints
 from .volumes import CrossSections, Volumes, average_end_volumes, cross_sections
 
-__all__ = ["Earthwork", "SlopeRows", "earthwork", "catch_and_reference_stakes", "placed"]
+__all__ = ["Earthwork", "SlopeRows", "earthwork", "catch_and_reference_stakes", "placed", "ground_beyond_catch"]
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -240,3 +240,37 @@ def _take(res: SlopeStakes, idx: I64) -> SlopeStakes:
     lines = DesignLines(*(getattr(res.lines, f.name)[idx] for f in fields(DesignLines)))
     vals = {f.name: getattr(res, f.name)[idx] for f in fields(SlopeStakes) if f.name != "lines"}
     return replace(res, lines=lines, **vals)
+
+
+def ground_beyond_catch(ground: Ground, rows: SlopeRows, idx: I64) -> tuple[I64, F64, F64]:
+    """The ground from the catch point out to the reference stake, for the slope-stake rows ``idx``.
+
+    Parameters
+    ----------
+    ground : Ground
+        The existing ground.
+    rows : SlopeRows
+        The slope stakes.
+    idx : array of int
+        Rows to trace (a row without a catch point gets an empty polyline).
+
+    Returns
+    -------
+    first, offset, z : arrays
+        Polylines laid end to end (row ``idx[i]``: ``offset[first[i]:first[i + 1]]``),
+        signed offsets and ground elevations, job units; each the TIN cut along
+        the section from the catch outward, as far as the ground reaches.
+    """
+    res = rows.result
+    has = ~np.isnan(res.catch_n[idx]) & ~np.isnan(res.ref_n[idx])
+    sel = idx[has]
+    dn, de = res.ref_n[sel] - res.catch_n[sel], res.ref_e[sel] - res.catch_e[sel]
+    length = np.hypot(dn, de)
+    step = np.where(length > 0, length, 1.0)
+    sec = ground.sections(res.catch_n[sel], res.catch_e[sel], dn / step, de / step, length)
+    cnt = np.zeros(idx.size, dtype=np.int64)
+    cnt[has] = np.diff(sec.first)
+    first = np.r_[0, np.cumsum(cnt)].astype(np.int64)
+    ray = np.repeat(np.arange(sel.size, dtype=np.int64), np.diff(sec.first))
+    sign = np.sign(rows.reference_offset[sel] - rows.catch_offset[sel])  # outward: -1 on the left
+    return first, rows.catch_offset[sel][ray] + sign[ray] * sec.dist, sec.z

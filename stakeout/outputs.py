@@ -26,18 +26,20 @@ class Rendered(dict[str, bytes]):
     """Files rendered so far in one build (file name -> bytes), so that one
     output can reuse another (the preview is drawn from plan.dxf, the report holds plan.svg),
     and the build's print option: ``wide`` text sheets (one line per stake, notes wrapped at 132 columns)
-    instead of 80 columns.
+    instead of 80 columns.  ``writing`` names the files the build writes (the report links to
+    sections.svg only when it is one of them).
     """
 
-    def __init__(self, wide: bool = False) -> None:
+    def __init__(self, wide: bool = False, writing: frozenset[str] = frozenset()) -> None:
         super().__init__()
         self.wide = wide
+        self.writing = writing
         self._parts: dict[int, Rendered] = {}
 
     def part(self, k: int) -> "Rendered":
         """What alignment ``k`` of several rendered so far (its own plan.svg for its report)."""
         if k not in self._parts:
-            self._parts[k] = Rendered(self.wide)
+            self._parts[k] = Rendered(self.wide, self.writing)
         return self._parts[k]
 
 
@@ -133,7 +135,14 @@ def _picture(d: "Design", done: Rendered) -> bytes:
 def _report(d: "Design", done: Rendered) -> bytes:
     profile = (_once(d, done, "profile.svg", "profile_picture:profile_svg").decode("utf-8")
                if d.profile is not None else None)
-    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile)
+    sections = None
+    if d.earthwork is not None and d.earthwork.sections is not None:
+        from .writers import html, sections_picture
+
+        sections = html.SectionPictures(lambda limit: sections_picture.report_pictures(d, limit),
+                                        "sections.svg" in done.writing,
+                                        min(d.earthwork.volume_stations.size, sections_picture.MAX_DRAWN_SECTIONS))
+    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile, sections)
     assert isinstance(out, bytes)
     return out
 

@@ -197,8 +197,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
     written: dict[str, bytes] = {}
-    done = Rendered(wide)
     files = [o for o in outputs if o.name != "manifest"]
+    done = Rendered(wide, frozenset(o.filename for o in files))
     count = sum(len(p.stakes) for p in d.parts or (d,))
     progress = Progress(len(files) + 1, count)
     progress.step("computed")

@@ -24,7 +24,8 @@ from numpy.typing import NDArray
 from .ground import Ground
 from .slopestakes import SlopeStakes, slope_vertices
 
-__all__ = ["CrossSections", "Volumes", "areas_between", "cross_sections", "average_end_volumes"]
+__all__ = ["AreaOutlines", "CrossSections", "Volumes", "area_outlines", "areas_between", "cross_sections",
+           "average_end_volumes"]
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -58,6 +59,32 @@ def _interp(first: I64, x: F64, y: F64, qs: I64, qx: F64) -> F64:
     return out
 
 
+def _merged(first_d: I64, x_d: F64, z_d: F64, first_g: I64, x_g: F64, z_g: F64) -> tuple[I64, F64, F64, F64]:
+    """Every section's breakpoints over the offsets both polylines cover (see :func:`areas_between`).
+
+    Returns
+    -------
+    s, x, zd, zg : arrays
+        Section index, offset (increasing within a section, no repeats), and
+        the design and ground elevations there; a section whose polylines
+        share no offsets has no breakpoints.
+    """
+    k = len(first_d) - 1
+    a = np.maximum(x_d[first_d[:-1]], x_g[first_g[:-1]])
+    b = np.minimum(x_d[first_d[1:] - 1], x_g[first_g[1:] - 1])
+    sd = np.repeat(np.arange(k, dtype=np.int64), np.diff(first_d))
+    sg = np.repeat(np.arange(k, dtype=np.int64), np.diff(first_g))
+    s = np.concatenate((sd, sg, np.arange(k), np.arange(k)))
+    x = np.concatenate((x_d, x_g, a, b))
+    keep = (x >= a[s]) & (x <= b[s]) & (a[s] < b[s])
+    s, x = s[keep], x[keep]
+    o = np.lexsort((x, s))
+    s, x = s[o], x[o]
+    new = np.r_[True, (s[1:] != s[:-1]) | (x[1:] > x[:-1])]
+    s, x = s[new], x[new]
+    return s, x, _interp(first_d, x_d, z_d, s, x), _interp(first_g, x_g, z_g, s, x)
+
+
 def areas_between(first_d: I64, x_d: F64, z_d: F64, first_g: I64, x_g: F64, z_g: F64) -> tuple[F64, F64]:
     """Cut and fill areas between design and ground polylines, section by section.
 
@@ -77,19 +104,8 @@ def areas_between(first_d: I64, x_d: F64, z_d: F64, first_g: I64, x_g: F64, z_g:
         (0 where they share none).
     """
     k = len(first_d) - 1
-    a = np.maximum(x_d[first_d[:-1]], x_g[first_g[:-1]])
-    b = np.minimum(x_d[first_d[1:] - 1], x_g[first_g[1:] - 1])
-    sd = np.repeat(np.arange(k, dtype=np.int64), np.diff(first_d))
-    sg = np.repeat(np.arange(k, dtype=np.int64), np.diff(first_g))
-    s = np.concatenate((sd, sg, np.arange(k), np.arange(k)))
-    x = np.concatenate((x_d, x_g, a, b))
-    keep = (x >= a[s]) & (x <= b[s]) & (a[s] < b[s])
-    s, x = s[keep], x[keep]
-    o = np.lexsort((x, s))
-    s, x = s[o], x[o]
-    new = np.r_[True, (s[1:] != s[:-1]) | (x[1:] > x[:-1])]
-    s, x = s[new], x[new]
-    f = _interp(first_d, x_d, z_d, s, x) - _interp(first_g, x_g, z_g, s, x)  # design - ground
+    s, x, zd, zg = _merged(first_d, x_d, z_d, first_g, x_g, z_g)
+    f = zd - zg  # design - ground
     pair = s[1:] == s[:-1]
     h = (x[1:] - x[:-1])[pair]
     f1, f2 = f[:-1][pair], f[1:][pair]
@@ -199,6 +215,93 @@ def _compact(first: I64, idx: I64) -> I64:
     """The ``first`` array of the polylines ``idx`` alone (they are the only non-empty ones, in order)."""
     out: I64 = np.r_[first[idx], first[idx[-1] + 1]].astype(np.int64)
     return out
+
+
+@dataclass(frozen=True)
+class AreaOutlines:
+    """The cut and fill areas of some sections as polygons, in (offset, elevation), job units.
+
+    Polygon ``p`` has the vertices ``offset[first[p]:first[p + 1]]``,
+    ``z[first[p]:first[p + 1]]`` (an open ring: the first vertex is not
+    repeated at the end): forward along the ground, back along the design
+    line.  ``section[p]`` is its section's position among the stations asked
+    for, ``cut[p]`` is True for cut (ground above design), False for fill.
+    Polygons run section by section, left to right.
+    """
+
+    section: I64
+    cut: NDArray[np.bool_]
+    first: I64
+    offset: F64
+    z: F64
+
+
+def area_outlines(cs: CrossSections, stations: I64) -> AreaOutlines:
+    """The polygons whose areas are ``cs.cut_area`` and ``cs.fill_area`` at ``stations``.
+
+    The breakpoints are those :func:`areas_between` integrates over (both
+    polylines over the offsets they share), with each piece whose difference
+    changes sign split at its root; every maximal run of pieces with the
+    ground above the design is one cut polygon, below it one fill polygon.
+    A polygon's area (shoelace) is the sum of the pieces' exact integrals.
+
+    Parameters
+    ----------
+    cs : CrossSections
+        The sections.
+    stations : array of int
+        Station indices, each with ``cs.ok`` (both catch points, ground between).
+
+    Returns
+    -------
+    AreaOutlines
+    """
+    idx = np.asarray(stations, dtype=np.int64)
+    if not bool(np.all(cs.ok[idx])):
+        raise ValueError("area_outlines: every station must have a section (cs.ok)")
+    fd, xd, zd0 = _gather(cs.design_first, cs.design_offset, cs.design_z, idx)
+    fg, xg, zg0 = _gather(cs.ground_first, cs.ground_offset, cs.ground_z, idx)
+    s, x, zd, zg = _merged(fd, xd, zd0, fg, xg, zg0)
+    f = zd - zg
+    # a difference within rounding of zero is zero (at a catch point the lines meet)
+    f[np.abs(f) <= 1e-9 * max(1.0, float(np.abs(zd).max(initial=0.0)))] = 0.0
+    # split at the roots: a piece whose difference changes sign gets the point where it is zero
+    j = np.flatnonzero((s[1:] == s[:-1]) & (f[:-1] * f[1:] < 0))
+    t = f[j] / (f[j] - f[j + 1])
+    zr = zd[j] + t * (zd[j + 1] - zd[j])
+    o = np.argsort(np.r_[2 * np.arange(len(s)), 2 * j + 1], kind="stable")
+    s, x = np.r_[s, s[j]][o], np.r_[x, x[j] + t * (x[j + 1] - x[j])][o]
+    zd, zg, f = np.r_[zd, zr][o], np.r_[zg, zr][o], np.r_[f, np.zeros(len(j))][o]
+    # runs of pieces of one kind between the points where the lines meet (or the section's ends)
+    pair, zero = s[1:] == s[:-1], f == 0.0
+    starts, ends, kinds = [], [], []
+    for cut, piece in ((True, pair & ((f[:-1] < 0) | (f[1:] < 0))), (False, pair & ((f[:-1] > 0) | (f[1:] > 0)))):
+        before, after = np.r_[False, piece[:-1]], np.r_[piece[1:], False]
+        starts.append(np.flatnonzero(piece & (~before | zero[:-1])))
+        ends.append(np.flatnonzero(piece & (~after | zero[1:])))
+        kinds.append(np.full(starts[-1].size, cut))
+    a, b, kind = np.concatenate(starts), np.concatenate(ends), np.concatenate(kinds)
+    order = np.lexsort((x[a], s[a]))
+    a, b, kind = a[order], b[order], kind[order]
+    # a run's ring: forward along the ground over its points a .. b + 1, back along the design,
+    # leaving out a design point that is the ground point already there (an end where they meet)
+    n = b - a + 2
+    back_first = b + 1 - zero[b + 1]
+    nb = back_first - (a + zero[a]) + 1
+    first = np.r_[0, np.cumsum(n + nb)].astype(np.int64)
+    run = np.repeat(np.arange(a.size, dtype=np.int64), n + nb)
+    local = np.arange(first[-1], dtype=np.int64) - first[run]
+    forward = local < n[run]
+    pt = np.where(forward, a[run] + local, back_first[run] - (local - n[run]))
+    return AreaOutlines(s[a], kind, first, x[pt], np.where(forward, zg[pt], zd[pt]))
+
+
+def _gather(first: I64, x: F64, z: F64, idx: I64) -> tuple[I64, F64, F64]:
+    """The polylines ``idx`` (laid end to end by ``first``) alone, in that order, with their own ``first``."""
+    lo, count = first[idx], first[idx + 1] - first[idx]
+    out = np.r_[0, np.cumsum(count)].astype(np.int64)
+    take = np.repeat(lo - out[:-1], count) + np.arange(out[-1], dtype=np.int64)
+    return out, x[take], z[take]
 
 
 @dataclass(frozen=True)

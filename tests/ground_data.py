@@ -46,3 +46,21 @@ def grid_tin(nx: int, ny: int, spacing: float, zfun, drop=None) -> Ground:
     if drop is not None:
         f = np.delete(f, drop, axis=0)
     return Ground.from_faces(n, e, zfun(n, e), f, "test ground")
+
+
+def rolling_ground_csv(path, e_end: float = 2151.0):
+    """A rolling ground of jittered points (seed 7) around northing 1000, from easting 1950 to
+    ``e_end``, written as a ground CSV (4 decimals); returns the points ``n, e, z`` unrounded.
+    """
+    from pathlib import Path
+
+    rng = np.random.default_rng(7)
+    n, e = np.meshgrid(np.arange(900.0, 1101.0, 8.0), np.arange(1950.0, e_end, 8.0))
+    n = n.ravel() + rng.uniform(-2.5, 2.5, n.size)
+    e = e.ravel() + rng.uniform(-2.5, 2.5, e.size)
+    z = 51.0 + 1.5 * np.sin((n - 1000.0) / 9.0) + 0.8 * np.cos((e - 2000.0) / 13.0)
+    Path(path).write_text(
+        "point,northing,easting,elevation\n"
+        + "\n".join(f"G{i + 1},{a:.4f},{b:.4f},{c:.4f}" for i, (a, b, c) in enumerate(zip(n, e, z))) + "\n",
+        encoding="utf-8")
+    return n, e, z

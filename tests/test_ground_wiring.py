@@ -307,10 +307,11 @@ def test_sections_svg_draws_each_station_with_both_catches(tmp_path):
     files = _build(_job(tmp_path, _level, SLOPES, hi=(1100.0, 2050.0)), tmp_path / "out", "sections-picture")
     root = etree.fromstring(files["sections.svg"].encode("utf-8"))  # well-formed XML (lxml)
     ns = {"s": "http://www.w3.org/2000/svg"}
-    assert len(root.findall("s:g", ns)) == 3  # stations 0, 20, 40 have both catch points
-    assert len(root.findall(".//s:circle", ns)) == 3 * 4  # two catch and two reference stakes each
+    sections = root.findall("s:g[@class='section']", ns)
+    assert len(sections) == 3  # stations 0, 20, 40 have both catch points
+    assert sum(len(g.findall(".//s:circle", ns)) for g in sections) == 3 * 4  # two catch and two reference stakes each
     # the fill section's area, as shapely gives it (see the volumes test)
-    assert "fill area 34.00" in files["sections.svg"]
+    assert "fill 34.00 m\u00b2" in files["sections.svg"]
 
 
 def test_rolling_ground_against_scipy_linear_interpolation(tmp_path):
@@ -318,15 +319,9 @@ def test_rolling_ground_against_scipy_linear_interpolation(tmp_path):
 
     # jittered ground points (no four on a circle): the Delaunay TIN is unique, and scipy's
     # LinearNDInterpolator is linear on that same triangulation - an independent evaluation
-    rng = np.random.default_rng(7)
-    n, e = np.meshgrid(np.arange(900.0, 1101.0, 8.0), np.arange(1950.0, 2151.0, 8.0))
-    n = n.ravel() + rng.uniform(-2.5, 2.5, n.size)
-    e = e.ravel() + rng.uniform(-2.5, 2.5, e.size)
-    z = 51.0 + 1.5 * np.sin((n - 1000.0) / 9.0) + 0.8 * np.cos((e - 2000.0) / 13.0)
-    (tmp_path / "ground.csv").write_text(
-        "point,northing,easting,elevation\n"
-        + "\n".join(f"G{i + 1},{a:.4f},{b:.4f},{c:.4f}" for i, (a, b, c) in enumerate(zip(n, e, z))) + "\n",
-        encoding="utf-8")
+    from .ground_data import rolling_ground_csv
+
+    n, e, z = rolling_ground_csv(tmp_path / "ground.csv")
     f = LinearNDInterpolator(np.c_[np.round(n, 4), np.round(e, 4)], np.round(z, 4))
     job = tmp_path / "job.toml"
     job.write_text(JOB.format(extra=SLOPES), encoding="utf-8")

@@ -12,7 +12,8 @@ same design gives the same bytes.
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 from html import escape
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -32,11 +33,15 @@ if TYPE_CHECKING:  # pragma: no cover
     from ..check import CheckResult
     from ..shots import Shots
 
-__all__ = ["report_html", "check_html", "REPORT_MAX_ROWS", "STYLE"]
+__all__ = ["report_html", "check_html", "REPORT_MAX_ROWS", "REPORT_MAX_SECTIONS", "SectionPictures", "STYLE"]
 
 #: A report lists its stakes (setout or stake table, deflections) up to this many rows; a
 #: larger job's report says where the full tables are (setout.csv, setout.txt, deflections.txt).
 REPORT_MAX_ROWS = 20_000
+
+#: A report draws the cross-sections inline up to this many sections (a few pages, three panels a
+#: printed page); a longer job's report links to sections.svg instead, when the build writes it.
+REPORT_MAX_SECTIONS = 40
 
 #: The style sheet of both reports (screen and print).
 STYLE = """
@@ -424,9 +429,25 @@ def _superelevation_section(d: Design) -> str:
             + _table([("station", "n"), ("left", "n"), ("right", "n")], rows))
 
 
-def _earthwork_section(d: Design) -> str:
-    """With ``[slope_stakes]``: the station sides without a catch point, and the volume table
-    (areas at each station with both catch points, average-end-area volumes, running totals).
+@dataclass(frozen=True)
+class SectionPictures:
+    """What the report can show of the cross-sections (handed in: a renderer never imports another).
+
+    ``draw(limit)`` gives the legend and the first ``limit`` section panels, each an
+    ``<svg>`` element; ``file`` says whether this build writes ``sections.svg``, and
+    ``file_drawn`` how many sections that file draws.
+    """
+
+    draw: Callable[[int], tuple[str, list[str]]]
+    file: bool
+    file_drawn: int
+
+
+def _earthwork_section(d: Design, sections: SectionPictures | None = None) -> str:
+    """With ``[slope_stakes]``: the station sides without a catch point, the volume table
+    (areas at each station with both catch points, average-end-area volumes, running totals)
+    and the cross-sections: drawn inline up to :data:`REPORT_MAX_SECTIONS`, else a link to
+    ``sections.svg`` (or, when the build does not write it, words saying so).
     """
     ew = d.earthwork
     if ew is None or ew.slopes is None:
@@ -449,10 +470,37 @@ def _earthwork_section(d: Design) -> str:
     return (head + "<p>Areas (square job units) between the ground and the template from catch to catch; "
             f"volumes (cubic job units) by average end areas from the station above; units {_e(u)}.</p>"
             + _table([("station", "t"), ("cut area", "n"), ("fill area", "n"), ("cut", "n"), ("fill", "n"),
-                      ("total cut", "n"), ("total fill", "n")], rows))
+                      ("total cut", "n"), ("total fill", "n")], rows)
+            + _cross_sections(int(st.size), sections))
 
 
-def report_html(d: Design, plan_svg: str, profile_svg: str | None = None) -> bytes:
+_XSEC_STYLE = "display: block; width: 100%; height: auto; margin: 4px 0; break-inside: avoid;"
+
+
+def _cross_sections(n: int, sections: SectionPictures | None) -> str:
+    """The report's cross-sections part for ``n`` sections (see :func:`_earthwork_section`)."""
+    link = '<a href="sections.svg">sections.svg</a>'
+    if sections is not None and n <= REPORT_MAX_SECTIONS:
+        legend, panels = sections.draw(REPORT_MAX_SECTIONS)
+        # styled inline, not in STYLE: the reports of jobs without sections keep their bytes
+        legend = legend.replace("<svg ", f'<svg class="legend" style="{_XSEC_STYLE} max-width: 640px;" ', 1)
+        panels = [p.replace("<svg ", f'<svg style="{_XSEC_STYLE} max-width: 640px;" ', 1) for p in panels]
+        also = f" They are also in {link}." if sections.file else ""
+        return ("<h3>Cross-sections</h3><p>Each station with both catch points, the ground between them: cut and fill "
+                f"areas shaded, hinges, catch and reference stakes.{also}</p>"
+                f'<div class="xsec">{legend}{"".join(panels)}</div>')
+    if sections is not None and sections.file:
+        first = ("every one" if sections.file_drawn >= n
+                 else f"the first {sections.file_drawn}; volumes.csv and slopestakes.csv hold every one")
+        return (f"<h3>Cross-sections</h3><p>{n} cross-sections, more than the {REPORT_MAX_SECTIONS} this report draws: "
+                f"{link}, beside this report, draws {first}.</p>")
+    return (f"<h3>Cross-sections</h3><p>{n} cross-sections are not drawn: this build does not write sections.svg "
+            "(a build without --only, or with --only sections-picture, writes it); volumes.csv and slopestakes.csv "
+            "hold every section's numbers.</p>")
+
+
+def report_html(d: Design, plan_svg: str, profile_svg: str | None = None,
+                sections: SectionPictures | None = None) -> bytes:
     """Render ``report.html``: header and cautions, curve data, the plan, the setout
     (or, without a setup, the stakes), the deflections and a sign-off block.
 
@@ -464,6 +512,8 @@ def report_html(d: Design, plan_svg: str, profile_svg: str | None = None) -> byt
         The plan picture as an ``<svg>`` element (``plan.svg`` without its XML declaration).
     profile_svg : str, optional
         The profile picture (``profile.svg``), for a job with a profile.
+    sections : SectionPictures, optional
+        The cross-sections, for a job with sections (``[slope_stakes]`` on both sides).
     """
     job = d.job
     svg = plan_svg.split("?>", 1)[1].lstrip() if plan_svg.startswith("<?xml") else plan_svg
@@ -475,7 +525,7 @@ def report_html(d: Design, plan_svg: str, profile_svg: str | None = None) -> byt
         f'<section class="picture"><h2>Plan</h2>{svg}</section>',
         _profile_section(d, profile_svg),
         _setout_section(d) if d.setup is not None else _stakes_section(d),
-        _earthwork_section(d),
+        _earthwork_section(d, sections),
         _deflection_section(d),
         _signoff(),
         _cautions(),
