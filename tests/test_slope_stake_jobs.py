@@ -90,6 +90,47 @@ def to_ne(u, v):
     return N0 + u * T[0] + v * R[0], E0 + u * T[1] + v * R[1]
 
 
+# ---- the curved road: from the same start a 20 m tangent at azimuth 30 degrees, then an arc of
+# radius 150 m turning right for 80 m; the ground a plane rising 0.3 towards azimuth 135 degrees
+AZ_C, PC, RADIUS = math.radians(30.0), 20.0, 150.0
+CURVE_ALIGNMENT = """azimuth = "30-00-00"
+[[alignment.element]]
+kind = "line"
+length = 20.0
+[[alignment.element]]
+kind = "arc"
+radius = 150.0
+length = 80.0
+turn = "right"
+"""
+G_N, G_E = 0.3 * math.cos(math.radians(135.0)), 0.3 * math.sin(math.radians(135.0))
+
+
+def right_of(az: float) -> np.ndarray:
+    return np.array([-math.sin(az), math.cos(az)])
+
+
+def curve_ne(s, v):
+    """The point at station s, offset v of the curved road: on the tangent, s along it; on the
+    arc, the PC turned by (s - PC) / R about the centre (R to the right of the PC), the offset
+    along the radius, square to the curve (plane geometry)."""
+    s = float(s)
+    a = AZ_C + max(s - PC, 0.0) / RADIUS
+    pc = np.array([N0, E0]) + min(s, PC) * np.array([math.cos(AZ_C), math.sin(AZ_C)])
+    centre = pc + RADIUS * right_of(AZ_C)
+    on = centre - RADIUS * right_of(a) if s > PC else pc
+    p = on + v * right_of(a)
+    return p[0], p[1]
+
+
+def plane_z(n, e):
+    return 52.0 + G_N * (np.asarray(n) - N0) + G_E * (np.asarray(e) - E0)
+
+
+def curve_gz(s, v):
+    return plane_z(*curve_ne(s, v))
+
+
 def z_cl(s):
     return Z_CL0 + GRADE * np.asarray(s, dtype=float)
 
@@ -179,7 +220,14 @@ def assert_delaunay_in_squares(n, e, u_of, v_of, step: float) -> None:
 # ---- the job file
 
 
-def job_text(ground: str, max_width: float, extra: str = "") -> str:
+TANGENT = """azimuth = "60-00-00"
+[[alignment.element]]
+kind = "line"
+length = 100.0
+"""
+
+
+def job_text(ground: str, max_width: float, extra: str = "", alignment: str = TANGENT) -> str:
     offsets = ", ".join(f'{{ offset = {o}, code = "{c}"' + (f", cross_slope = {CROSS * 100}" if x else "") + " }"
                         for c, o, x in LINES)
 
@@ -194,11 +242,7 @@ units = "m"
 [alignment]
 name = "SS"
 start = {{ station = "0+000", northing = {N0}, easting = {E0} }}
-azimuth = "60-00-00"
-[[alignment.element]]
-kind = "line"
-length = 100.0
-[profile]
+{alignment}[profile]
 [[profile.pvi]]
 station = -10.0
 elevation = {Z_CL0 - 10 * GRADE}
@@ -369,18 +413,19 @@ def expected_volumes(rows, road: Road):
     return out
 
 
-# ---- the builds: planar and folded grounds, each as a LandXML surface (with holes) and as points
+# ---- the builds: planar and folded grounds under the tangent, each as a LandXML surface (with
+# holes) and as points; a planar ground under the curve as points
 
-#: max_width just short of the right catch at 0+100 and beyond every other (see expected_rows)
-MAX_WIDTH = {False: 29.0, True: 22.0}
-CASES = [("landxml", False), ("landxml", True), ("csv", False), ("csv", True)]
-IDS = ["landxml-planar", "landxml-folded", "csv-planar", "csv-folded"]
+#: max_width: on the tangent just short of the right catch at 0+100 and beyond every other (see
+#: test_scenario_folds_lie_between_hinge_and_catch); on the curve beyond every catch
+MAX_WIDTH = {"planar": 29.0, "folded": 22.0, "curve": 40.0}
+CASES = [("landxml", "planar"), ("landxml", "folded"), ("csv", "planar"), ("csv", "folded"), ("csv", "curve")]
 
 
 @dataclass
 class Built:
     form: str
-    folded: bool
+    ground: str
     folder: Path
     output: str
 
@@ -393,23 +438,36 @@ class Built:
 
     @property
     def road(self) -> Road:
-        return tangent_road(self.folded, self.holes)
+        if self.ground == "curve":
+            return Road(curve_ne, curve_gz)
+        return tangent_road(self.ground == "folded", self.holes)
 
     def expected(self):
-        return expected_rows(self.road, MAX_WIDTH[self.folded])
+        return expected_rows(self.road, MAX_WIDTH[self.ground])
 
 
-def write_case(folder: Path, form: str, folded: bool, extra: str = "") -> Path:
+def curve_ground_points():
+    """A regular 4 m grid in northing and easting around the curved road (any triangulation of
+    points on one plane is that plane)."""
+    ext = np.array([curve_ne(s, v) for s in STATIONS for v in (-60.0, 60.0)])
+    lo, hi = np.floor(ext.min(axis=0) / 4) * 4, np.ceil(ext.max(axis=0) / 4) * 4
+    n, e = np.meshgrid(np.arange(lo[0], hi[0] + 1, 4.0), np.arange(lo[1], hi[1] + 1, 4.0), indexing="ij")
+    n, e = n.ravel(), e.ravel()
+    return n, e, plane_z(n, e)
+
+
+def write_case(folder: Path, form: str, ground: str, extra: str = "") -> Path:
     folder.mkdir(parents=True, exist_ok=True)
     if form == "landxml":
-        write_landxml(folder / "eg.xml", folded)
-        ground = 'landxml = "eg.xml"\nname = "EG"'
+        write_landxml(folder / "eg.xml", ground == "folded")
+        text = 'landxml = "eg.xml"\nname = "EG"'
     else:
-        n, e, z, _, _ = grid_points(folded)
+        n, e, z = curve_ground_points() if ground == "curve" else grid_points(ground == "folded")[:3]
         write_ground_csv(folder / "ground.csv", n, e, z)
-        ground = 'file = "ground.csv"'
+        text = 'file = "ground.csv"'
     job = folder / "job.toml"
-    job.write_text(job_text(ground, MAX_WIDTH[folded], extra), encoding="utf-8")
+    job.write_text(job_text(text, MAX_WIDTH[ground], extra, CURVE_ALIGNMENT if ground == "curve" else TANGENT),
+                   encoding="utf-8")
     return job
 
 
@@ -421,18 +479,14 @@ def run(*args: str):
     return CliRunner().invoke(app, list(args))
 
 
-@pytest.fixture(scope="module", params=CASES, ids=IDS)
+@pytest.fixture(scope="module", params=CASES, ids=[f"{f}-{g}" for f, g in CASES])
 def built(request, tmp_path_factory) -> Built:
-    form, folded = request.param
-    folder = tmp_path_factory.mktemp(f"{form}-{'folded' if folded else 'planar'}")
-    job = write_case(folder, form, folded)
+    form, ground = request.param
+    folder = tmp_path_factory.mktemp(f"{form}-{ground}")
+    job = write_case(folder, form, ground)
     r = run("build", str(job), "--out", str(folder / "out"), "--only", "points,stations,slopestakes,volumes")
     assert r.exit_code == 0, r.output
-    return Built(form, folded, folder, r.output)
-
-
-def num(text: str) -> float | None:
-    return None if text == "" else float(text)
+    return Built(form, ground, folder, r.output)
 
 
 def close(got: str, want: float | None, tol: float = TOL) -> bool:
@@ -452,16 +506,17 @@ def test_the_point_csv_ground_is_exact_on_its_delaunay():
 
 def test_scenario_folds_lie_between_hinge_and_catch():
     # the folded grounds are built so the catch lands on the second plane on both sides
-    for r in expected_rows(tangent_road(True, False), MAX_WIDTH[True]):
+    for r in expected_rows(tangent_road(True, False), MAX_WIDTH["folded"]):
         if r["t"] is not None:
             fold = FOLD_L if r["side"] == "left" else FOLD_R
             assert abs(r["hinge_offset"]) < abs(fold) < abs(r["catch_offset"])
     # and max_width leaves exactly the right catch at 0+100 out, by a margin
-    for folded in (False, True):
-        far = expected_rows(tangent_road(folded, False), 1000.0)
-        beyond = [(r["station"], r["side"]) for r in far if r["t"] > MAX_WIDTH[folded]]
-        assert beyond == [(100.0, "right")]
-        assert min(abs(r["t"] - MAX_WIDTH[folded]) for r in far) > 0.2
+    for ground in ("planar", "folded", "curve"):
+        road = Road(curve_ne, curve_gz) if ground == "curve" else tangent_road(ground == "folded", False)
+        far = expected_rows(road, 1000.0)
+        beyond = [(r["station"], r["side"]) for r in far if r["t"] > MAX_WIDTH[ground]]
+        assert beyond == ([] if ground == "curve" else [(100.0, "right")])
+        assert min(abs(r["t"] - MAX_WIDTH[ground]) for r in far) > 0.2
 
 
 def test_stations_csv_positions_design_ground_and_cut_fill(built):
@@ -471,7 +526,7 @@ def test_stations_csv_positions_design_ground_and_cut_fill(built):
     for r in rows:
         s, code = float(r["station"]), r["code"]
         off = next(o for c, o, _ in LINES if c == code)
-        n, e = to_ne(s, off)
+        n, e = built.road.ne(s, off)
         assert float(r["offset"]) == off
         assert close(r["northing"], float(n)) and close(r["easting"], float(e))
         z = float(design_z(s, code))
@@ -479,7 +534,7 @@ def test_stations_csv_positions_design_ground_and_cut_fill(built):
         if (s, code) in holes:  # a stake over an invisible face: no ground there
             assert r["ground_elevation"] == "" and r["cut_fill"] == "", r
             continue
-        g = float(ground_z(s, off, built.folded))
+        g = float(built.road.gz(s, off))
         assert close(r["ground_elevation"], g), r
         assert close(r["cut_fill"], z - g), r  # design - ground: positive is fill
 
@@ -535,9 +590,10 @@ def test_catch_and_reference_stakes_in_stations_and_points(built):
 def test_volumes_csv_against_shapely_and_average_end_areas(built):
     got = built.rows("volumes.csv")
     want = expected_volumes(built.expected(), built.road)
-    # stations with both catch points only: 0+100 has no right catch, 0+060 no left one over the hole
+    # stations with both catch points only: on the tangent 0+100 has no right catch, 0+060 no left
+    # one over the hole
     assert [float(r["station"]) for r in got] == [w["station"] for w in want]
-    assert len(want) == (4 if built.holes else 5)
+    assert len(want) == (6 if built.ground == "curve" else 4 if built.holes else 5)
     for g, w in zip(got, want):
         assert g["alignment"] == "SS"
         for c in ("cut_area", "fill_area", "cut_volume", "fill_volume", "cumulative_cut", "cumulative_fill"):
@@ -546,13 +602,16 @@ def test_volumes_csv_against_shapely_and_average_end_areas(built):
 
 def test_stations_without_a_catch_are_reported(built):
     # one right side beyond max_width (0+100), and over the hole the left hinge at 0+060 is off the ground
+    rows = built.rows("slopestakes.csv")
+    if built.ground == "curve":  # every catch within max_width
+        assert "without a catch point" not in built.output and all(r["catch_point"] for r in rows)
+        return
     if built.holes:
         assert ("slope stakes: 2 of 12 station side(s) without a catch point (1 no catch within max_width, "
                 "1 outside the ground surface)") in built.output
     else:
         assert "slope stakes: 1 of 12 station side(s) without a catch point (1 no catch within max_width)" \
             in built.output
-    rows = built.rows("slopestakes.csv")
     far = next(r for r in rows if float(r["station"]) == 100.0 and r["side"] == "right")
     assert far["kind"] == "cut" and far["note"] == "no catch within max_width"
     assert far["ground_at_hinge"] != "" and far["hinge_point"] != ""
@@ -563,7 +622,7 @@ def test_stations_without_a_catch_are_reported(built):
 
 def test_a_hole_drops_that_station_from_the_volumes(built):
     rows = {float(r["station"]): r for r in built.rows("volumes.csv")}
-    assert 100.0 not in rows
+    assert (100.0 in rows) is (built.ground == "curve")
     # the volume at 0+080 runs from the previous station with both catch points: over the hole
     # (LandXML) 0+060 has none, so from 0+040 over 40 m; a point CSV's TIN has no holes: 20 m
     prev = 40.0 if built.holes else 60.0
