@@ -143,9 +143,9 @@ def design_z(s, code: str):
 # ---- ground files
 
 
-def grid_points(folded: bool):
+def grid_points(folded: bool, grid_v=GRID_V):
     """The ground points: row-major over GRID_U, v fastest; (n, e, z, u, v)."""
-    u, v = np.meshgrid(GRID_U, GRID_V, indexing="ij")
+    u, v = np.meshgrid(GRID_U, grid_v, indexing="ij")
     u, v = u.ravel(), v.ravel()
     n, e = to_ne(u, v)
     return n, e, ground_z(u, v, folded), u, v
@@ -742,3 +742,35 @@ def test_catch_on_grazing_ground_within_tolerance(tmp_path):
     for g, w in zip(got, want):
         for c in ("catch_offset", "catch_northing", "catch_easting", "catch_elevation", "reference_ground"):
             assert close(g[c], w[c]), (w["station"], c, g[c], w[c])
+
+
+def test_sections_leaving_the_ground(tmp_path):
+    # the planar ground only from 22 m left to 30 m right of the road: every right section leaves
+    # it before its catch (30.6 to 35.6 m right); left, the reference stakes 22.4 m out and
+    # farther lie off it while their catches lie on it
+    n, e, z, _, _ = grid_points(False, np.arange(-22.0, 30.5, 2.0))
+    write_ground_csv(tmp_path / "ground.csv", n, e, z)
+    job = tmp_path / "job.toml"
+    job.write_text(job_text('file = "ground.csv"', 100.0), encoding="utf-8")
+    r = run("build", str(job), "--out", str(tmp_path / "out"), "--only", "stations,slopestakes,volumes")
+    assert r.exit_code == 0, r.output
+    assert "6 of 12 station side(s) without a catch point (6 outside the ground surface)" in r.output
+    want = expected_rows(tangent_road(False, False), 100.0)
+    sts = {x["point"]: x for x in read_rows(tmp_path / "out" / "stations.csv")}
+    for g, w in zip(read_rows(tmp_path / "out" / "slopestakes.csv"), want):
+        if w["side"] == "right":
+            # the hinge lies on the ground (kind by the ground there), the section leaves it first
+            assert (g["kind"], g["note"], g["catch_point"], g["catch_offset"]) == ("cut", "outside the ground surface",
+                                                                                   "", "")
+            assert close(g["ground_at_hinge"], w["ground_at_hinge"])
+            continue
+        for c in ("catch_offset", "catch_northing", "catch_easting", "catch_elevation", "reference_offset",
+                  "reference_northing", "reference_easting", "hd_to_hinge"):
+            assert close(g[c], w[c]), (w["station"], c)
+        off = w["reference_offset"] < -22.0
+        # a reference stake off the ground is still staked; its ground and vertical distance unknown
+        assert close(g["reference_ground"], None if off else w["reference_ground"])
+        assert close(g["vd_to_hinge"], None if off else w["vd_to_hinge"])
+        assert sts[g["reference_point"]]["feature"] == "REF"
+    assert sum(w["reference_offset"] < -22.0 for w in want if w["side"] == "left") == 3
+    assert read_rows(tmp_path / "out" / "volumes.csv") == []  # no station has both catch points
