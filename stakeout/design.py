@@ -511,7 +511,7 @@ def _build_alignment_design(job: Job) -> Design:
     staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
     plan = plan_stakes(alignment, staking, stationing, profile, sections)
     # the ground work runs on the grid; its catch and reference stakes then join the table
-    ew = None if job.ground is None else earthwork(plan, job.ground, job.slope_stakes)
+    ew = None if job.ground is None else earthwork(plan, job.ground, job.slope_stakes, alignment)
     stakes = plan if ew is None else with_stakes(plan, catch_and_reference_stakes(plan, ew))
     if ew is not None and job.ground is not None:
         ew = placed(ew, stakes, job.ground, 0)

@@ -23,6 +23,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from .angles import sincosd
+from .alignment import Alignment
 from .errors import JobFileError
 from .ground import Ground
 from .slopestakes import SlopeStakes, SlopeStaking
@@ -73,7 +74,8 @@ class Earthwork:
     volumes: Volumes | None
 
 
-def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None) -> Earthwork:
+def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None,
+              alignment: Alignment | None = None) -> Earthwork:
     """Ground elevations, cut/fill, slope stakes, sections and volumes of a stake plan.
 
     Parameters
@@ -84,6 +86,9 @@ def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None) ->
         The existing ground.
     spec : SlopeStaking or None
         ``[slope_stakes]``; None: only ground elevations and cut/fill.
+    alignment : Alignment, optional
+        The alignment: each section starts from its hinge exactly where it
+        lies (without it, from the hinge stake's rounded coordinates).
 
     Returns
     -------
@@ -119,7 +124,10 @@ def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None) ->
     s, c = sincosd(stakes.azimuth[hinge])
     dn = np.where(left, s, -s)  # square to the alignment: right is azimuth + 90 degrees
     de = np.where(left, -c, c)
-    res = spec.solve(ground, left, stakes.northing[hinge], stakes.easting[hinge], stakes.elevation[hinge], dn, de)
+    hn, he = stakes.northing[hinge], stakes.easting[hinge]
+    if alignment is not None:  # from the hinge exactly where it lies, not from its 4-decimal stake coordinates
+        hn, he, _ = alignment.evaluate(stakes.station[hinge], stakes.offset[hinge])
+    res = spec.solve(ground, left, hn, he, stakes.elevation[hinge], dn, de)
     sign = np.where(left, -1.0, 1.0)
     h_off = stakes.offset[hinge]
     rows = SlopeRows(st, tuple("left" if x else "right" for x in left.tolist()), hinge, h_off,
