@@ -1,0 +1,198 @@
+"""Several alignments in one job (``[[alignment]]``, job-file contract "Several alignments in one job").
+
+References: each alignment of a job with several gives exactly the rows it
+gives alone (the contract: outputs grouped by alignment in job order, each
+alignment's numbering its own); LandXML 1.2 schema applied by lxml; the
+drawing read back with ezdxf.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from typer.testing import CliRunner
+
+from stakeout.cli import app
+
+runner = CliRunner()
+
+HEAD = """format = 1
+[job]
+name = "Interchange test"
+units = "m"
+"""
+
+CONTROL = """[[control.point]]
+id = "CP1"
+northing = 1030.0
+easting = 2050.0
+elevation = 55.0
+[[control.point]]
+id = "CP2"
+northing = 1030.0
+easting = 1990.0
+[[control.point]]
+id = "CP3"
+northing = 1150.0
+easting = 2100.0
+"""
+
+
+def _alignment(name: str, n0: float, e0: float, az: str, arc_radius: float, first: int, interval: float,
+               prefix: str = "", listed: bool = True) -> str:
+    """One alignment's sections: ``[[alignment]]`` entries (``listed``) or the single form."""
+    a = "[[alignment]]" if listed else "[alignment]"
+    sub = "alignment." if listed else ""
+    return f"""{a}
+name = "{name}"
+start = {{ station = "1+000", northing = {n0}, easting = {e0} }}
+azimuth = "{az}"
+[[alignment.element]]
+kind = "line"
+length = 40.0
+[[alignment.element]]
+kind = "arc"
+radius = {arc_radius}
+length = 30.0
+turn = "left"
+[{sub}staking]
+interval = {interval}
+first_point = {first}
+point_prefix = "{prefix}"
+offsets = [{{ offset = -4.0, code = "L" }}, {{ offset = 0.0, code = "CL" }}, {{ offset = 4.0, code = "R" }}]
+[{sub}profile]
+[[{sub}profile.pvi]]
+station = "1+000"
+elevation = 50.0
+[[{sub}profile.pvi]]
+station = "1+070"
+elevation = 51.4
+"""
+
+
+def _build(tmp_path: Path, text: str, name: str, only: str | None = None) -> dict[str, str]:
+    job = tmp_path / f"{name}.toml"
+    job.write_text(text, encoding="utf-8")
+    out = tmp_path / name
+    args = ["build", str(job), "--out", str(out)] + (["--only", only] if only else [])
+    r = runner.invoke(app, args)
+    assert r.exit_code == 0, r.output
+    return {p.name: p.read_text(encoding="utf-8") for p in out.iterdir() if p.suffix != ".png"}
+
+
+def _rows(text: str) -> list[dict[str, str]]:
+    return list(csv.DictReader(io.StringIO(text)))
+
+
+ROADS = [("MAIN", 1000.0, 2000.0, "90-00-00", 80.0, 1, 10.0),
+         ("RAMP-A", 1000.0, 2050.0, "0-00-00", 60.0, 500, 5.0),
+         ("LOOP-B", 1100.0, 2100.0, "200-00-00", 45.0, 900, 7.5)]
+
+
+def test_each_alignment_gives_what_it_gives_alone(tmp_path):
+    together = _build(tmp_path, HEAD + "".join(_alignment(*r) for r in ROADS), "all",
+                      "points,stations,curves,elements,profile")
+    alone = [_build(tmp_path, HEAD + _alignment(*r, listed=False), r[0], "points,stations,curves,elements,profile")
+             for r in ROADS]
+    for name in ("points.csv", "stations.csv", "curves.csv", "elements.csv", "profile.csv"):
+        head = together[name].split("\n", 1)[0]
+        assert all(a[name].split("\n", 1)[0] == head for a in alone)
+        # grouped by alignment in job order, each alignment's rows exactly as alone (outputs contract)
+        assert together[name] == head + "\n" + "".join(a[name].split("\n", 1)[1] for a in alone)
+    assert [r["alignment"] for r in _rows(together["stations.csv"])] == sum(
+        ([r[0]] * len(_rows(a["stations.csv"])) for r, a in zip(ROADS, alone)), [])
+
+
+@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(st.tuples(st.floats(20.0, 200.0), st.sampled_from(["0-00-00", "45-00-00", "135-30-00", "300-00-00"]),
+                          st.sampled_from([5.0, 7.5, 10.0, 20.0])), min_size=2, max_size=3))
+def test_property_several_equal_alone(tmp_path, roads):
+    """Property over random jobs: the rows of each alignment of a job with several are its rows alone."""
+    specs = [(f"A{k}", 1000.0 + 37.0 * k, 2000.0 - 11.0 * k, az, radius, 1 + 1000 * k, step)
+             for k, (radius, az, step) in enumerate(roads)]
+    folder = tmp_path / f"case{abs(hash(tuple(roads))) % 10**8}"
+    folder.mkdir()
+    together = _build(folder, HEAD + "".join(_alignment(*s) for s in specs), "all", "points,stations")
+    for name in ("points.csv", "stations.csv"):
+        parts = [_build(folder, HEAD + _alignment(*s, listed=False), f"{s[0]}-{name[:3]}", name.split(".")[0])[name]
+                 for s in specs]
+        assert together[name] == parts[0] + "".join(p.split("\n", 1)[1] for p in parts[1:])
+
+
+def test_alignment_xml_holds_every_alignment_and_the_control_once(tmp_path):
+    from lxml import etree
+
+    from tests.helpers import landxml_schema
+
+    files = _build(tmp_path, HEAD + CONTROL + "".join(_alignment(*r) for r in ROADS), "all", "points,landxml")
+    doc = etree.fromstring(files["alignment.xml"].encode("utf-8"))
+    assert landxml_schema().validate(doc), landxml_schema().error_log  # LandXML 1.2 schema, by lxml
+    ns = {"x": "http://www.landxml.org/schema/LandXML-1.2"}
+    assert [a.get("name") for a in doc.iterfind(".//x:Alignment", ns)] == [r[0] for r in ROADS]
+    assert len(doc.findall(".//x:Alignment/x:Profile", ns)) == 3
+    names = [p.get("name") for p in doc.iterfind(".//x:CgPoint", ns)]
+    stakes = [r["point"] for r in _rows(files["points.csv"])]
+    assert names == stakes + ["CP1", "CP2", "CP3"]  # every stake, then the control once each, in the job's order
+
+
+def test_one_drawing_with_every_alignment(tmp_path):
+    import ezdxf
+
+    files = _build(tmp_path, HEAD + CONTROL + "".join(_alignment(*r) for r in ROADS), "all", "points,dxf")
+    doc = ezdxf.readfile(tmp_path / "all" / "plan.dxf")  # read back with ezdxf
+    msp = doc.modelspace()
+    stakes = {(round(p.dxf.location.x, 4), round(p.dxf.location.y, 4)) for p in msp.query("POINT[layer=='SO-STAKE']")}
+    rows = _rows(files["points.csv"])
+    assert {(float(r["easting"]), float(r["northing"])) for r in rows} == stakes
+    numbers = [t.dxf.text for t in msp.query("TEXT[layer=='SO-STAKE-NO']")]
+    assert sorted(numbers) == sorted(r["point"] for r in rows)
+    assert len(msp.query("LWPOLYLINE[layer=='SO-CL']")) + len(msp.query("LINE[layer=='SO-CL']")) >= 3
+
+
+def test_setups_serve_every_stake_of_every_alignment(tmp_path):
+    setup = '[setup]\noccupied = "auto"\nmax_distance = 200.0\nmax_backsight = 300.0\n'
+    files = _build(tmp_path, HEAD + CONTROL + setup + "".join(_alignment(*r) for r in ROADS), "all",
+                   "points,setout,sheet")
+    pts = _rows(files["points.csv"])
+    setout = _rows(files["setout.csv"])
+    assert [r["point"] for r in setout] == [r["point"] for r in pts]
+    occupied = {r["occupied"] for r in setout}
+    assert occupied <= {"CP1", "CP2", "CP3"}
+    sheet = files["setout.txt"]
+    for name in ("MAIN", "RAMP-A", "LOOP-B"):
+        assert f"alignment {name}" in sheet
+
+
+@pytest.mark.parametrize("change, words", [
+    (lambda t: t.replace('name = "RAMP-A"', 'name = "MAIN"'), "alignment[1].name = 'MAIN': alignment[0] has this name"),
+    (lambda t: t.replace("first_point = 500", "first_point = 5"),
+     "alignment 'RAMP-A' numbers its stakes 5 to"),
+    (lambda t: t + "[staking]\ninterval = 5.0\n", "staking: in a job with several alignments"),
+    (lambda t: t.replace("interval = 5.0", "interval = -5.0"), "alignment[1] ('RAMP-A'): staking.interval"),
+])
+def test_bad_several_alignment_jobs(tmp_path, change, words):
+    job = tmp_path / "job.toml"
+    job.write_text(change(HEAD + "".join(_alignment(*r) for r in ROADS[:2])), encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "out")])
+    assert r.exit_code == 2, r.output
+    assert words in r.output and "Traceback" not in r.output
+    assert not (tmp_path / "out").exists()
+
+
+def test_station_ranges_refused_with_several_alignments(tmp_path):
+    setup = """[[setup.station]]
+occupied = "CP1"
+backsight = "CP2"
+from_station = "1+000"
+to_station = "1+070"
+"""
+    job = tmp_path / "job.toml"
+    job.write_text(HEAD + CONTROL + setup + "".join(_alignment(*r) for r in ROADS[:2]), encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "out")])
+    assert r.exit_code == 2, r.output
+    assert "station ranges name stations of one alignment" in r.output
