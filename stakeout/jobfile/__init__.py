@@ -88,7 +88,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         design_files.append(from_file.record)
     else:
         alignment = read_alignment(top, info)
-    staking = read_staking(top, info)
+    staking = read_staking(top, info, base)
     control, control_files = read_control(top, info, files)
     _check_control_coordinates(control)
     setup = read_setup(top, control, info.station_length)
@@ -133,7 +133,10 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     if from_file is not None and from_file.source is not None and from_file.source.superelevations and (
             se_record is None or se_record.sha256 != from_file.record.sha256):
         unapplied = periods_of(from_file.source, "alignment.landxml")
-    all_files = _not_used_once(tuple(design_files) + control_files, files, unapplied)
+    # the points list is an input like the design files: recorded with its hash, and protected from --force
+    points_files = () if staking.points is None else (
+        DesignFile("points", staking.points.path, staking.points.sha256),)
+    all_files = _not_used_once(tuple(design_files) + control_files + points_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
     ground_read = read_ground(top, base, info.unit.key)
     ground = None
