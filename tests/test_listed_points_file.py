@@ -183,7 +183,7 @@ def test_too_large_refused_before_reading(tmp_path):
     with open(p, "wb") as fh:
         fh.truncate(MAX_STAKED_FILE_BYTES + 1)  # sparse: nothing is written
     (tmp_path / "job.toml").write_text(JOB, encoding="utf-8")
-    with pytest.raises(JobFileError, match=r"^staking.points = '.*structures.csv': 256 MiB and 1 bytes|the limit is 256 MiB"):
+    with pytest.raises(JobFileError, match=r"^staking.points = '.*structures.csv': 268,435,457 bytes; the limit is 256 MiB$"):
         load_job(tmp_path / "job.toml")
 
 
