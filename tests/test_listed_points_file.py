@@ -214,3 +214,13 @@ def test_a_bad_row_exits_2_through_the_cli_and_writes_nothing(tmp_path):
     assert "staking.points = 'structures.csv' line 3: offset 'abc' is not a number" in r.output
     assert "Traceback" not in r.output
     assert not out.exists()
+
+
+def test_the_readme_example_reads(tmp_path):
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    start = readme.index("```\nid,station,offset,code,skew,elevation,description\n") + 4
+    example = readme[start:readme.index("```", start)]
+    lp = load_job(_job(tmp_path, example, JOB.replace("length = 500.0", "length = 600.0"))).staking.points
+    assert lp is not None
+    assert lp.id == ("MH12", None, "B2L", "B2R") and lp.skew == (0.0, 0.0, 20.0, 20.0)
+    assert lp.elevation[0] == 101.385 and lp.code == ("MH", "SIGN", "BENT", "BENT")
