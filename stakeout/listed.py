@@ -287,7 +287,7 @@ def place_listed(alignment: Alignment, stationing: Stationing, rows: ListedPoint
     s_row = np.clip(s_row, lo, hi)
     o_row = np.array(rows.offset, dtype=np.float64)
     skew = np.array(rows.skew, dtype=np.float64)
-    skewed = skew != 0.0
+    skewed = (skew != 0.0) & (o_row != 0.0)  # a skewed line still passes through the centreline point
     past = np.flatnonzero(_inside_radius(alignment, s_row, o_row) & ~skewed)
     if past.size:
         i = int(past[0])

@@ -117,6 +117,11 @@ def test_relative_to_the_job_file_not_the_working_folder(tmp_path, monkeypatch):
     assert len(load_job(Path("jobs") / j.name).staking.points or ()) == 3
 
 
+def test_a_trailing_delimiter_with_empty_cells_reads(tmp_path):
+    lp = load_job(_job(tmp_path, "station,offset,code,\n10,1,CB,\n20,2,CB\n")).staking.points
+    assert lp is not None and lp.offset == (1.0, 2.0)
+
+
 def test_tab_delimited_and_utf16_with_a_mark_and_windows_1252(tmp_path):
     text = _csv([["station", "offset", "code", "description"], ["10", "1", "X", "café"]], "\t")
     for data in (text, codecs.BOM_UTF16_LE + text.encode("utf-16-le"), text.encode("cp1252")):
@@ -141,6 +146,7 @@ def test_tab_delimited_and_utf16_with_a_mark_and_windows_1252(tmp_path):
     ("station,offset,code,Offset\n10,1,CB,2\n", "line 1: the header names 'offset' twice (columns 2, 4"),
     ("station,offset,code,elevaton\n10,1,CB,2\n", "line 1: the header names the column 'elevaton'"),
     # fields
+    ("station,offset,code,\n10,1,CB,\n20,1,CB,x\n", "line 3: field 4 'x' lies under a column the header does not name"),
     ("station,offset,code\n10,1,CB,extra\n", "line 2: 4 fields, but the header names 3 columns"),
     ("station,offset,code\n10,,CB\n", "line 2: no offset"),
     ("station,offset,code\n10,1,\n", "line 2: no code"),

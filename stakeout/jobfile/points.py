@@ -114,13 +114,14 @@ def read_listed_points(given: str, base: Path, info: JobInfo) -> ListedPoints:
         raise src.fail(f" line {ln0}: the header {show_value(','.join(c.strip() for c in r0))} does not name "
                        f"{missing}; the first row names the columns: station,offset,code and any of "
                        "id,elevation,skew,description,region")
-    unknown = [c for c in r0 if c.strip().lower() not in POINT_COLUMNS]
+    unknown = [c for c in r0 if c.strip() and c.strip().lower() not in POINT_COLUMNS]
     if unknown:
         raise src.fail(f" line {ln0}: the header names the column {show_value(unknown[0].strip())}, which is not "
                        f"one of {','.join(POINT_COLUMNS)}")
     check_header_once(src, ln0, names, r0, POINT_COLUMNS, "name each column once")
     col = {c: names.index(c) for c in POINT_COLUMNS if c in names}
     width = len(names)
+    unnamed = [i for i, c in enumerate(names) if not c]  # a spreadsheet's trailing delimiter: must stay empty
 
     def fail(ln: int, what: str, value: str, why: str) -> JobFileError:
         return JobFileError(f"{key} line {ln}: {what} {show_value(value)} {why}")
@@ -149,6 +150,10 @@ def read_listed_points(given: str, base: Path, info: JobInfo) -> ListedPoints:
             raise src.fail(f" line {ln}: {len(r)} fields, but the header names {width} columns "
                            f"({','.join(names)}); quote a field holding the delimiter")
         cell = {c: (r[i].strip() if i < len(r) else "") for c, i in col.items()}
+        stray = [i for i in unnamed if i < len(r) and r[i].strip()]
+        if stray:
+            raise fail(ln, f"field {stray[0] + 1}", r[stray[0]].strip(), "lies under a column the header does not "
+                       "name; name the column (one of " + ",".join(POINT_COLUMNS) + ") or leave it empty")
         for c in REQUIRED_COLUMNS:
             if not cell[c]:
                 raise src.fail(f" line {ln}: no {c}; every row needs station, offset and code")
