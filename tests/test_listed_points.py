@@ -428,3 +428,26 @@ def test_numbering_refusals(tmp_path):
     named = _place(tmp_path, _rows([10.0], [0.0], ids=["X"]))
     order, ids = number_listed(named, 1, "")
     assert order.size == 0 and ids == ["X"]
+
+
+def test_listed_rows_on_the_stakes_of_a_sample_give_those_stakes():
+    # Consistency with the offset lines: a row at a stake's station (in force, with its region) and
+    # offset, without a skew, is that stake - on spirals, across an equation stepping back, with
+    # superelevation, lines measured from others and widening (the sample's cross-section).
+    from stakeout.design import build_design
+
+    from .helpers import SAMPLES
+
+    d = build_design(load_job(SAMPLES / "kestrel_rise_superelevation_m.toml"))
+    sp = d.stakes
+    assert d.stationing.equations and sp.elevation is not None
+    key = "staking.points = 'test.csv'"
+    values, regions = d.stationing.station(sp.station), d.stationing.region(sp.station)
+    rows = ListedPoints("test.csv", "", tuple(StationRef(float(v), int(r), f"{key} station")
+                                              for v, r in zip(values.tolist(), regions.tolist())),
+                        tuple(sp.offset.tolist()), (0.0,) * len(sp), tuple(sp.code), ("",) * len(sp),
+                        (None,) * len(sp), (math.nan,) * len(sp), tuple(range(2, len(sp) + 2)))
+    out = place_listed(d.alignment, d.stationing, rows, sections=d.sections, profile=d.profile)
+    assert np.abs(out.station - sp.station).max() < 1e-9
+    assert np.abs(out.northing - sp.northing).max() <= 1e-4 and np.abs(out.easting - sp.easting).max() <= 1e-4
+    assert np.abs(out.elevation - sp.elevation).max() < 1e-9
