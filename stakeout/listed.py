@@ -274,8 +274,9 @@ def place_listed(alignment: Alignment, stationing: Stationing, rows: ListedPoint
         Naming ``staking.points``, the file, the row's line and value: a
         station not on the alignment (or not in its region), an offset on
         the inside of a curve at or past its centre, a skewed stake whose
-        own station falls off the alignment, or a stake needing a design
-        elevation beyond the profile.
+        own station falls off the alignment or that lies nearer another
+        part of the alignment (farther than pi x offset along it from its
+        station), or a stake needing a design elevation beyond the profile.
     """
     s_row = resolve_stations(stationing, rows.station)
     lo, hi = alignment.start_station, alignment.end_station
@@ -311,6 +312,17 @@ def place_listed(alignment: Alignment, stationing: Stationing, rows: ListedPoint
                              f"offset {rows.offset[i]!r} off the alignment ({abs(own - (lo if own < lo else hi)):.4f} "
                              f"{'before' if own < lo else 'past'} its {'start' if own < lo else 'end'}, which is at "
                              f"{stationing.label(lo if own < lo else hi)}); no station of the alignment is square to it")
+        # The part of the alignment the row refers to: its nearest point F lies within 2|offset| of the
+        # centreline point P at the row's station (|P - F| <= |P - Q| + |Q - F| <= 2|offset|), which on a
+        # curve of radius R > |offset| is at most 2 R asin(|offset| / R) <= pi |offset| along it.
+        # Farther along, another part of the alignment (a loop's return) is nearer: refused.
+        other = np.flatnonzero(np.abs(loc.station - s_row[sk]) > np.pi * np.abs(o_row[sk]) + OWN_STATION_TOLERANCE)
+        if other.size:
+            i = int(sk[other[0]])
+            raise _row_error(rows, i, f"skew {rows.skew[i]!r} puts the stake at {stationing.label(float(s_row[i]))} "
+                             f"offset {rows.offset[i]!r} nearer another part of the alignment (at "
+                             f"{stationing.label(float(loc.station[other[0]]))}) than the one at its station; "
+                             "give the stake by its own station and square offset, without a skew")
         station[sk] = np.clip(loc.station, lo, hi)
         offset[sk] = loc.offset
         az = az.copy()

@@ -383,6 +383,18 @@ def test_skew_off_the_end_refused(tmp_path):
         _place(tmp_path, _rows([5.0], [20.0], skews=[45.0]))
 
 
+def test_skewed_stake_nearer_another_part_of_the_alignment_refused(tmp_path):
+    # a hairpin: east 100, a half circle of radius 20 to the right, west 100; the return tangent runs
+    # 40 south of the first. A stake 30 right (south) of 0+050, skewed 10 degrees, lies about 10.5 from
+    # the return tangent and 29.5 from its own: its nearest point is on the way back.
+    text = JOB.replace(f"radius = {R}", "radius = 20.0").replace(f'delta = "{DELTA:g}-00-00"', 'delta = "180-00-00"')
+    with pytest.raises(JobFileError, match=r"test.csv' line 2: skew 10.0 puts the stake at 0\+050.000 offset 30.0 "
+                                           r"nearer another part of the alignment \(at 0\+2"):
+        _place(tmp_path, _rows([50.0], [30.0], skews=[10.0]), text)
+    out = _place(tmp_path, _rows([50.0], [8.0], skews=[10.0]), text)  # near its own part: fine
+    assert out.station[0] == pytest.approx(50.0 - 8.0 * math.sin(math.radians(10.0)), abs=1e-4)
+
+
 def test_offset_past_the_centre_refused(tmp_path):
     with pytest.raises(JobFileError, match=r"test.csv' line 2: offset 160.0 at 0\+150.000 lies on the inside of a "
                                            "curve at or past its centre"):
