@@ -463,3 +463,30 @@ def test_listed_rows_on_the_stakes_of_a_sample_give_those_stakes():
     assert np.abs(out.station - sp.station).max() < 1e-9
     assert np.abs(out.northing - sp.northing).max() <= 1e-4 and np.abs(out.easting - sp.easting).max() <= 1e-4
     assert np.abs(out.elevation - sp.elevation).max() < 1e-9
+
+
+def test_design_elevation_on_a_superelevated_section_by_hand(tmp_path):
+    # a constant table: left +4 % (rising outward), right -4 %; the lines take it; a point between the
+    # centreline and a line is linear on that segment, one beyond the outermost continues it
+    text = JOB[:JOB.index("offsets = [")] + (
+        'offsets = [{ offset = -3.5, code = "EPL", cross_slope = "superelevation" }, { offset = 0.0, code = "CL" },\n'
+        '  { offset = 3.5, code = "EPR", cross_slope = "superelevation" },\n'
+        '  { offset = 5.0, code = "SHR", from = "EPR", cross_slope = -6.0 }]\n'
+        '[[superelevation]]\nstation = 0.0\nleft = 4.0\nright = -4.0\n'
+        '[[superelevation]]\nstation = 300.0\nleft = 4.0\nright = -4.0\n')
+    out = _place(tmp_path, _rows([150.0] * 4, [-2.0, -6.0, 4.25, 7.0]), text)
+    epr = 50.0 - 0.04 * 3.5
+    shr = epr - 0.06 * 1.5
+    expect = [50.0 + 0.04 * 2.0, 50.0 + 0.04 * 6.0, epr + (shr - epr) * 0.75 / 1.5, shr - 0.06 * 2.0]
+    assert list(out.elevation) == pytest.approx(expect, abs=1e-12)
+
+
+def test_without_a_section_plan_the_staking_offsets_give_it(tmp_path):
+    job, alignment, stationing, profile, sections = _design(tmp_path)
+    rows = _rows([60.0, 60.0, 60.0], [-9.0, 1.0, 6.0])
+    staking = replace(job.staking, points=rows)
+    plain = listed_stakes(alignment, stationing, profile, None, staking)
+    built = listed_stakes(alignment, stationing, profile, sections, replace(staking, offsets=sections.lines))
+    assert plain is not None and built is not None
+    assert list(plain.elevation) == list(built.elevation) == pytest.approx([_hand_elevation(o) for o in (-9.0, 1.0, 6.0)])
+    assert listed_stakes(alignment, stationing, profile, sections, job.staking) is None
