@@ -35,7 +35,7 @@ from .angles import sincosd
 from .crosssection import SectionPlan, plan_sections, section
 from .errors import JobFileError
 from .job import ListedPoints, Staking
-from .limits import check_point_numbers
+from .limits import MAX_POINT_NUMBER
 from .numbers import round_to
 from .profile import Profile
 from .staking import COORDINATE_DECIMALS, MAX_ID_CHARS
@@ -402,12 +402,16 @@ def number_listed(stakes: ListedStakes, first_free: int, prefix: str) -> tuple[N
     order = unnamed[np.lexsort((of, st))]  # stable: ties keep file order
     if not order.size:
         return order.astype(np.int64), list(stakes.id)
-    where = f"{stakes.key} (rows without an id, numbered from {first_free})"
-    check_point_numbers(first_free, int(order.size), where)
-    last = f"{prefix}{first_free + order.size - 1}"
+    count = int(order.size)
+    where = f"{stakes.key}: the rows without an id ({count:,}), numbered from {first_free:,} after the alignment's stakes,"
+    if first_free + count - 1 > MAX_POINT_NUMBER:
+        raise JobFileError(f"{where} would run to {first_free + count - 1:,}; point numbers end at "
+                           f"{MAX_POINT_NUMBER:,} (lower staking.first_point, or give the rows ids)")
+    last = f"{prefix}{first_free + count - 1}"
     if len(last) > MAX_ID_CHARS:
-        raise JobFileError(f"{where}: the last point id {last!r} has {len(last)} characters; ids may have at most "
-                           f"{MAX_ID_CHARS} (shorten staking.point_prefix)")
+        raise JobFileError(f"{where} end at the point id {last!r} of {len(last)} characters; ids may have at most "
+                           f"{MAX_ID_CHARS} (shorten staking.point_prefix, lower staking.first_point, or give the "
+                           "rows ids)")
     numbered = [f"{prefix}{k}" for k in range(first_free, first_free + int(order.size))]
     own[order] = numbered
     clash = np.flatnonzero(np.isin(np.array(stakes.id, dtype=np.str_), np.array(numbered, dtype=np.str_)))

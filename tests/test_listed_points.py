@@ -433,9 +433,11 @@ def test_numbering_refusals(tmp_path):
     out = _place(tmp_path, _rows([10.0, 20.0], [0.0, 0.0], ids=[None, "P8"]))
     with pytest.raises(JobFileError, match=r"line 3: id 'P8' is also the number given to line 2"):
         number_listed(out, 8, "P")
-    with pytest.raises(JobFileError, match="has 21 characters; ids may have at most 20"):
+    with pytest.raises(JobFileError, match=r"test.csv': the rows without an id \(1\), numbered from 100,000 after the "
+                                           r"alignment's stakes, end at the point id 'ABCDEFGHIJKLMNO100000' of 21 "
+                                           "characters; ids may have at most 20"):
         number_listed(out, 10**5, "ABCDEFGHIJKLMNO")
-    with pytest.raises(JobFileError, match="point numbers end at"):
+    with pytest.raises(JobFileError, match=r"would run to 1,000,000,000,000,000; point numbers end at 999,999"):
         number_listed(out, 10**15, "")
     named = _place(tmp_path, _rows([10.0], [0.0], ids=["X"]))
     order, ids = number_listed(named, 1, "")
