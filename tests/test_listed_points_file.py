@@ -142,6 +142,10 @@ def test_tab_delimited_and_utf16_with_a_mark_and_windows_1252(tmp_path):
     ("station,offset,code\n", "line 1 is the header and no points follow"),
     ("10,1,CB\n", "line 1: the header '10,1,CB' does not name station, offset, code"),
     ("station,code\n10,CB\n", "line 1: the header 'station,code' does not name offset"),
+    # delimiters: comma, semicolon, tab or spaces, the one splitting the header into the most fields
+    ("station|offset|code\n10|1|CB\n", "line 1: the header 'station|offset|code' does not name station, offset, code"),
+    ("station,offset,code\n10;1;CB\n", "line 2: no offset"),
+    ("station;offset;code\n10,5;1;CB\n", "line 2 station = '10,5': not a station"),
     # duplicate and unknown columns
     ("station,offset,code,Offset\n10,1,CB,2\n", "line 1: the header names 'offset' twice (columns 2, 4"),
     ("station,offset,code,elevaton\n10,1,CB,2\n", "line 1: the header names the column 'elevaton'"),
