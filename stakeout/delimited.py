@@ -26,7 +26,7 @@ from .errors import StakeoutError
 from .limits import MAX_FIELD_CHARS, MAX_RECORD_CHARS, unicode_bom
 
 __all__ = ["Source", "decode_text", "records", "blank", "detect_delimiter", "check_fields", "number",
-           "python_reads", "check_header_once"]
+           "python_reads", "not_a_number", "check_header_once"]
 
 #: A number as a data collector writes it: ASCII digits, optional sign,
 #: point and exponent.  float() alone would also take "١٢٣", "１２３" and "1_840".
@@ -66,6 +66,16 @@ def python_reads(s: str) -> bool:
         return math.isfinite(float(s))
     except ValueError:
         return False
+
+
+def not_a_number(s: str) -> str:
+    """Why ``s`` is refused as a number: ``is not a number``, with the rule spelt out when Python would
+    have read it (other digits, ``_`` separators).
+    """
+    why = "is not a number"
+    if python_reads(s):
+        why += " written with the ASCII digits 0-9 (an optional sign, '.' and exponent; no separators)"
+    return why
 
 
 def decode_text(raw: bytes, src: Source) -> tuple[str, str]:

@@ -56,8 +56,8 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
-from .delimited import (Source, blank, check_fields, check_header_once, decode_text, detect_delimiter, python_reads,
-                        records)
+from .delimited import (Source, blank, check_fields, check_header_once, decode_text, detect_delimiter, not_a_number,
+                        python_reads, records)
 from .delimited import number as _number
 from .errors import StakedFileError
 from .limits import MAX_HEIGHT, MAX_STAKED_FILE_BYTES, read_regular_file
@@ -215,10 +215,8 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
     line_no: list[int] = []
 
     def bad_number(ln: int, key: str, text: str) -> StakedFileError:
-        msg = f"staked file {name!r} line {ln}: {key} {show_value(text)} is not a number"
-        if python_reads(text):
-            msg += " written with the ASCII digits 0-9 (an optional sign, '.' and exponent; no separators)"
-        elif ln == ln0:
+        msg = f"staked file {name!r} line {ln}: {key} {show_value(text)} {not_a_number(text)}"
+        if not python_reads(text) and ln == ln0:
             msg += (f" (line {ln0} is not taken as a header: a header names its columns, e.g. "
                     "point,northing,easting)")
         return StakedFileError(msg)

@@ -39,8 +39,8 @@ import re
 from pathlib import Path
 
 from ..angles import parse_angle
-from ..delimited import (Source, blank, check_fields, check_header_once, decode_text, detect_delimiter, number,
-                         python_reads, records)
+from ..delimited import (Source, blank, check_fields, check_header_once, decode_text, detect_delimiter,
+                         not_a_number, number, records)
 from ..errors import JobFileError
 from ..job import JobInfo, ListedPoints
 from ..limits import MAX_HEIGHT, MAX_LENGTH, MAX_STAKED_FILE_BYTES, check_station_value, read_regular_file
@@ -129,10 +129,7 @@ def read_listed_points(given: str, base: Path, info: JobInfo) -> ListedPoints:
     def num(ln: int, what: str, value: str) -> float:
         v = number(value)
         if v is None:
-            why = "is not a number"
-            if python_reads(value):
-                why += " written with the ASCII digits 0-9 (an optional sign, '.' and exponent; no separators)"
-            raise fail(ln, what, value, why)
+            raise fail(ln, what, value, not_a_number(value))
         return v
 
     stations: list[StationRef] = []
