@@ -19,7 +19,7 @@ from .units import Unit
 
 __all__ = ["Job", "JobInfo", "OffsetLine", "WideningRow", "SuperelevationRow", "SuperelevationFile",
            "SuperelevationPeriod",
-            "Staking", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
+            "Staking", "ListedPoints", "ControlPoint", "SetupStation", "Setup", "Scale", "CheckSpec",
            "ProfilePVI", "ProfileInput", "DesignFile", "InstrumentSpec"]
 
 
@@ -138,6 +138,41 @@ class OffsetLine:
 
 
 @dataclass(frozen=True)
+class ListedPoints:
+    """``staking.points``: stakes listed by station and offset in a CSV file, in file order.
+
+    One entry per row in every field.  ``station`` is read like every
+    station of the job file (a ``region`` column gives its region);
+    ``offset`` is measured square to the alignment, or along the line
+    turned ``skew`` degrees clockwise (in plan) from the square line
+    (``skew`` 0 where not given, ``|skew| < 90``); ``elevation`` is NaN
+    where not given; ``id`` is None where not given.  Lengths and
+    elevations in the job's units.  ``path`` is the file as the job file
+    gives it (relative to the job file's folder), ``sha256`` its content's
+    hash; ``line`` each row's line number in the file.
+    """
+
+    path: str
+    sha256: str
+    station: tuple[StationRef, ...]
+    offset: tuple[float, ...]
+    skew: tuple[float, ...]
+    code: tuple[str, ...]
+    description: tuple[str, ...]
+    id: tuple[str | None, ...]
+    elevation: tuple[float, ...]
+    line: tuple[int, ...]
+
+    def __len__(self) -> int:
+        return len(self.line)
+
+    @property
+    def key(self) -> str:
+        """How messages name the file: ``staking.points = 'structures.csv'``."""
+        return f"staking.points = {self.path!r}"
+
+
+@dataclass(frozen=True)
 class Staking:
     """``[staking]``: what to stake and how points are numbered."""
 
@@ -149,6 +184,8 @@ class Staking:
     elevation: float | None
     profile_points: bool | None = None  # None: the default (true with a profile)
     exit_spiral_from: str = "CS"  # the end an exit spiral's deflections are run from: "CS" or "ST"
+    #: ``staking.points``: stakes listed by station and offset (None: not given).
+    points: ListedPoints | None = None
 
 
 @dataclass(frozen=True)

@@ -47,10 +47,8 @@ breaks included).
 
 from __future__ import annotations
 
-import csv
 import math
 import re
-from collections.abc import Iterator
 from dataclasses import dataclass
 from itertools import chain
 from pathlib import Path
@@ -58,15 +56,11 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
+from .delimited import (Source, blank, check_fields, check_header_once, decode_text, detect_delimiter, not_a_number,
+                        python_reads, records)
+from .delimited import number as _number
 from .errors import StakedFileError
-from .limits import (
-    MAX_FIELD_CHARS,
-    MAX_HEIGHT,
-    MAX_RECORD_CHARS,
-    MAX_STAKED_FILE_BYTES,
-    read_regular_file,
-    unicode_bom,
-)
+from .limits import MAX_HEIGHT, MAX_STAKED_FILE_BYTES, read_regular_file
 from .textsafety import describe_char, find_unsafe_char, show_value, unsafe_kind
 
 __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_columns"]
@@ -129,134 +123,8 @@ def parse_columns(text: str | None) -> tuple[str, ...]:
     return cols
 
 
-#: A number as a data collector writes it: ASCII digits, optional sign,
-#: point and exponent.  float() alone would also take "١٢٣", "１２３" and "1_840".
-_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
-_LINE = re.compile(r"[^\r\n]*(?:\r\n?|\n)|[^\r\n]+")
-
-
-def _number(s: str) -> float | None:
-    if _NUMBER.fullmatch(s) is None:
-        return None
-    v = float(s)
-    return v if math.isfinite(v) else None
-
-
-def _python_reads(s: str) -> bool:
-    try:
-        return math.isfinite(float(s))
-    except ValueError:
-        return False
-
-
-def _decode(raw: bytes, name: str) -> tuple[str, str]:
-    """Text and encoding name of a staked file (see the module docstring)."""
-    head = f"staked file {name!r}"
-    bom = unicode_bom(raw)
-    if bom == "UTF-32":
-        raise StakedFileError(f"{head}: is UTF-32 text (it starts with a UTF-32 byte-order mark); "
-                              "export it as UTF-8")
-    if bom == "UTF-16":
-        try:
-            text = raw.decode("utf-16")  # the mark gives the byte order
-        except UnicodeDecodeError as exc:
-            raise StakedFileError(f"{head}: starts with a UTF-16 byte-order mark but is not UTF-16 text "
-                                  f"(byte {exc.start + 2}); export it as UTF-8") from None
-        if "\x00" in text:
-            raise StakedFileError(f"{head}: UTF-16 text holding a NUL character; not a staked-points file")
-        return text, "UTF-16"
-    nul = raw.find(b"\x00")
-    if nul >= 0:
-        raise StakedFileError(
-            f"{head}: holds a NUL byte (byte {nul}): UTF-16 text without a byte-order mark, or not a text "
-            "file; export it as UTF-8 (or UTF-16 with a byte-order mark)"
-        )
-    try:
-        return raw.decode("utf-8-sig"), "UTF-8"
-    except UnicodeDecodeError:
-        pass
-    try:
-        return raw.decode("cp1252"), "Windows-1252"
-    except UnicodeDecodeError as exc:
-        raise StakedFileError(f"{head}: neither UTF-8 nor Windows-1252 (Latin-1) text (byte {exc.start}); "
-                              "export it as UTF-8") from None
-
-
-class _Lines:
-    """Physical lines of ``text`` with their ends (CR, LF or CRLF), counted,
-    refusing a record longer than ``MAX_RECORD_CHARS`` as it is fed.
-    """
-
-    def __init__(self, text: str, name: str):
-        self._it = _LINE.finditer(text)
-        self._name = name
-        self.line = 0
-        self.record_start = 1
-        self._chars = 0
-
-    def new_record(self) -> None:
-        self.record_start = self.line + 1
-        self._chars = 0
-
-    def __iter__(self) -> "_Lines":
-        return self
-
-    def __next__(self) -> str:
-        line = next(self._it).group()
-        self.line += 1
-        self._chars += len(line)
-        if self._chars > MAX_RECORD_CHARS:
-            raise StakedFileError(
-                f"staked file {self._name!r} line {self.record_start}: a row of over {MAX_RECORD_CHARS:,} "
-                "characters; not a staked-points file (or an unclosed quote)"
-            )
-        return line
-
-
-def _records(text: str, delim: str, name: str) -> Iterator[tuple[int, list[str]]]:
-    """(line number, fields) of every record, blank ones included."""
-    lines = _Lines(text, name)
-    if delim == " ":
-        for line in lines:
-            yield lines.line, line.split()
-            lines.new_record()
-        return
-    reader = csv.reader(lines, delimiter=delim, skipinitialspace=True)
-    while True:
-        lines.new_record()
-        try:
-            r = next(reader)
-        except StopIteration:
-            return
-        except csv.Error as exc:
-            raise StakedFileError(
-                f"staked file {name!r} line {lines.record_start}: cannot be read as delimited text ({exc})"
-            ) from None
-        yield lines.record_start, r
-
-
-def _blank(r: list[str]) -> bool:
-    return not any(c.strip() for c in r)
-
-
-def _detect_delimiter(text: str, name: str) -> str:
-    """The delimiter splitting the first parsed record into the most fields."""
-    best, most = " ", 1
-    for d in (",", ";", "\t"):
-        try:
-            first = next((r for _, r in _records(text, d, name) if not _blank(r)), [])
-        except StakedFileError:  # this delimiter's reading runs away: not it
-            continue
-        if len(first) > most:
-            best, most = d, len(first)
-    return best
-
-
-def _check_fields(name: str, ln: int, r: list[str]) -> None:
-    for k, c in enumerate(r):
-        if len(c) > MAX_FIELD_CHARS:
-            raise StakedFileError(f"staked file {name!r} line {ln}: field {k + 1} is {len(c):,} characters long; "
-                                  f"the limit is {MAX_FIELD_CHARS:,}")
+def _source(name: str) -> Source:
+    return Source(f"staked file {name!r}", StakedFileError, "a staked-points file")
 
 
 def _header_names(r: list[str]) -> list[str]:
@@ -307,20 +175,21 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
     p = Path(path)
     name = str(p)
     raw = read_regular_file(p, "staked file", MAX_STAKED_FILE_BYTES, StakedFileError)
-    text, encoding = _decode(raw, name)
+    src = _source(name)
+    text, encoding = decode_text(raw, src)
     del raw
     if re.search(r"\S", text) is None:
         raise StakedFileError(f"staked file {name!r}: empty; no shots to check")
     if delimiter not in DELIMITERS:
         raise StakedFileError(f"--delimiter {delimiter!r}: use one of {', '.join(DELIMITERS)}")
-    delim = DELIMITERS[delimiter] or _detect_delimiter(text, name)
+    delim = DELIMITERS[delimiter] or detect_delimiter(text, src)
 
-    records = ((ln, r) for ln, r in _records(text, delim, name) if not _blank(r))
-    first = next(records, None)
+    rows = ((ln, r) for ln, r in records(text, delim, src) if not blank(r))
+    first = next(rows, None)
     if first is None:
         raise StakedFileError(f"staked file {name!r}: empty; no shots to check")
     ln0, r0 = first
-    _check_fields(name, ln0, r0)
+    check_fields(src, ln0, r0)
     cols = columns
     ni = cols.index("northing")
     names = _header_names(r0)
@@ -331,14 +200,8 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
         raise StakedFileError(_ambiguous_header(name, ln0, names, ambiguous))
     columns_from = "--columns" if columns_given else "default"
     if has_header and not columns_given:
-        for c in KNOWN_COLUMNS:
-            at = [i + 1 for i, n in enumerate(names) if n == c]
-            if c != "skip" and len(at) > 1:
-                raise StakedFileError(
-                    f"staked file {name!r} line {ln0}: the header names {c!r} twice (columns "
-                    f"{', '.join(map(str, at))}: {', '.join(repr(r0[i - 1].strip()) for i in at)}); "
-                    "name each column once, or give --columns"
-                )
+        check_header_once(src, ln0, names, r0, [c for c in KNOWN_COLUMNS if c != "skip"],
+                          "name each column once, or give --columns")
         if all(n in names for n in ("point", "northing", "easting")):
             cols = tuple(n if n in KNOWN_COLUMNS and n != "skip" else "skip" for n in names)
             columns_from = "header"
@@ -352,17 +215,15 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
     line_no: list[int] = []
 
     def bad_number(ln: int, key: str, text: str) -> StakedFileError:
-        msg = f"staked file {name!r} line {ln}: {key} {show_value(text)} is not a number"
-        if _python_reads(text):
-            msg += " written with the ASCII digits 0-9 (an optional sign, '.' and exponent; no separators)"
-        elif ln == ln0:
+        msg = f"staked file {name!r} line {ln}: {key} {show_value(text)} {not_a_number(text)}"
+        if not python_reads(text) and ln == ln0:
             msg += (f" (line {ln0} is not taken as a header: a header names its columns, e.g. "
                     "point,northing,easting)")
         return StakedFileError(msg)
 
-    for ln, r in (records if has_header else chain([first], records)):
+    for ln, r in (rows if has_header else chain([first], rows)):
         if ln != ln0:
-            _check_fields(name, ln, r)
+            check_fields(src, ln, r)
         r = [c.strip() for c in r]
         if not need <= len(r) <= max(len(cols), need):
             raise StakedFileError(

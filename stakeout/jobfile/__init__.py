@@ -187,7 +187,7 @@ def _read_alignment_sections(top: Table, head: Job, shared: _Shared, files: Desi
         design_files.append(from_file.record)
     else:
         alignment = read_alignment(top, info)
-    staking = read_staking(top, info)
+    staking = read_staking(top, info, Path(head.path).parent)
     profile = read_profile(top, info)
     pt = top.table("profile", ("name", "pvi", "landxml"))
     if pt is not None and pt.has("landxml"):
@@ -209,7 +209,10 @@ def _read_alignment_sections(top: Table, head: Job, shared: _Shared, files: Desi
     if from_file is not None and from_file.source is not None and from_file.source.superelevations and (
             se_record is None or se_record.sha256 != from_file.record.sha256):
         unapplied = periods_of(from_file.source, "alignment.landxml")
-    all_files = _not_used_once(tuple(design_files) + shared.control_files, files, unapplied)
+    # the points list is an input like the design files: recorded with its hash, and protected from --force
+    points_files = () if staking.points is None else (
+        DesignFile("points", staking.points.path, staking.points.sha256),)
+    all_files = _not_used_once(tuple(design_files) + shared.control_files + points_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
     if shared.ground_record is not None:
         all_files += (shared.ground_record,)

@@ -2,19 +2,25 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from ..errors import JobFileError
 from ..job import JobInfo, OffsetLine, Staking
 from ..limits import MAX_HEIGHT, check_first_point
+from .points import read_listed_points
 from .reader import Table, check_safe_text, station_ref
 from .sections import read_offset_line
 
 __all__ = ["read_staking"]
 
 
-def read_staking(top: Table, info: JobInfo) -> Staking:
-    """``[staking]``: interval, offset lines, extra stations, numbering, elevation."""
+def read_staking(top: Table, info: JobInfo, base: Path | None = None) -> Staking:
+    """``[staking]``: interval, offset lines, extra stations, numbering, elevation, listed points.
+
+    ``base`` is the job file's folder, which ``points`` is relative to (default: the working folder).
+    """
     t = top.table("staking", ("interval", "offsets", "extra_stations", "first_point", "point_prefix",
-                              "elevation", "profile_points", "exit_spiral_from"), required=True)
+                              "elevation", "profile_points", "exit_spiral_from", "points"), required=True)
     assert t is not None
     interval = float(t.number("interval", required=True, positive=True) or 0.0)
     offsets: list[OffsetLine] = []
@@ -49,6 +55,8 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
         first_point = check_first_point(fp, "staking.first_point")
     prefix = t.raw("point_prefix")
     prefix = "" if prefix is None else check_safe_text(prefix, "staking.point_prefix", allow_empty=True)
+    given = t.text("points")
+    points = None if given is None else read_listed_points(given, Path(".") if base is None else base, info)
     return Staking(
         interval=interval,
         offsets=tuple(sorted(offsets, key=lambda ol: ol.offset)),
@@ -58,6 +66,7 @@ def read_staking(top: Table, info: JobInfo) -> Staking:
         elevation=t.number("elevation", bound=MAX_HEIGHT),
         profile_points=_flag(t, "profile_points"),
         exit_spiral_from=t.text("exit_spiral_from", choices=("CS", "ST")) or "CS",
+        points=points,
     )
 
 
