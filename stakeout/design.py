@@ -34,7 +34,8 @@ from .precision import Precision, flag_exceeding, predict_precision
 from .profile import PVISpec, Profile, build_profile
 from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
-from .staking import StakePoints, plan_stakes, with_stakes
+from .listed import ListedStakes, listed_stakes, number_listed
+from .staking import MoreStakes, StakePoints, join_stakes, plan_stakes, with_stakes
 from .stations import StationRef, Stationing
 from .units import Unit
 
@@ -510,9 +511,15 @@ def _build_alignment_design(job: Job) -> Design:
     sections = build_sections(job, alignment, stationing)
     staking = replace(job.staking, offsets=sections.lines)  # left to right on the alignment (widened lines)
     plan = plan_stakes(alignment, staking, stationing, profile, sections)
-    # the ground work runs on the grid; its catch and reference stakes then join the table
+    # the ground work runs on the grid; its catch and reference stakes then join the table, each after
+    # its station's stakes, and the listed points (staking.points) after the grid
     ew = None if job.ground is None else earthwork(plan, job.ground, job.slope_stakes, alignment)
-    stakes = plan if ew is None else with_stakes(plan, catch_and_reference_stakes(plan, ew))
+    more = [catch_and_reference_stakes(plan, ew)] if ew is not None else []
+    listed = listed_stakes(alignment, stationing, profile, sections, staking)
+    if listed is not None:
+        first_free = plan.first_point + plan.numbered + sum(len(m) for m in more)
+        more.append(_listed_as_stakes(listed, first_free, plan.prefix))
+    stakes = with_stakes(plan, join_stakes(more)) if more else plan
     if ew is not None and job.ground is not None:
         ew = placed(ew, stakes, job.ground, 0)
     crs_label = proj = None
@@ -525,6 +532,22 @@ def _build_alignment_design(job: Job) -> Design:
     warnings.extend(unapplied_superelevation_warnings(job, stationing))
     return Design(job, alignment, stationing, stakes, profile=profile, warnings=tuple(warnings),
                   sections=sections, crs_label=crs_label, proj_version=proj, earthwork=ew)
+
+
+def _listed_as_stakes(listed: ListedStakes, first_free: int, prefix: str) -> MoreStakes:
+    """The listed points as stakes after the grid: those without an id in their numbering order
+    (:func:`~stakeout.listed.number_listed`), then those with one, in file order.
+    """
+    order, _ = number_listed(listed, first_free, prefix)
+    named = np.array([i for i, v in enumerate(listed.id) if v], dtype=np.int64)
+    idx = np.concatenate([order.astype(np.int64), named])
+    n = idx.size
+    pick = idx.tolist()
+    return MoreStakes(after=np.full(n, -1, dtype=np.int64), station=listed.station[idx], offset=listed.offset[idx],
+                      northing=listed.northing[idx], easting=listed.easting[idx], azimuth=listed.azimuth[idx],
+                      elevation=listed.elevation[idx], code=tuple(listed.code[i] for i in pick),
+                      feature=("",) * n, description=tuple(listed.description[i] for i in pick),
+                      name=tuple(listed.id[i] or None for i in pick))
 
 
 def _with_setups(d: Design, setup_design: SetupDesign, serves_none: bool) -> Design:

@@ -23,7 +23,7 @@ from .numbers import round_to
 from .profile import Profile
 from .stations import Stationing
 
-__all__ = ["StakePoints", "Layout", "MoreStakes", "with_stakes",
+__all__ = ["StakePoints", "Layout", "MoreStakes", "with_stakes", "join_stakes",
            "plan_stakes", "check_offsets", "MAX_MITER_RATIO", "MERGE_TOLERANCE", "COORDINATE_DECIMALS",
            "MAX_POINTS"]
 
@@ -485,6 +485,34 @@ class MoreStakes:
         return int(self.after.size)
 
 
+def _check_names(plan: StakePoints, names: tuple[str, ...], numbered: int) -> None:
+    """Refuse an id the job gives (a listed point's) that is also a numbered stake's, or given twice."""
+    seen: set[str] = set()
+    for name in names:
+        rest = name[len(plan.prefix):] if name.startswith(plan.prefix) else ""
+        if (rest.isascii() and rest.isdigit() and str(int(rest)) == rest
+                and plan.first_point <= int(rest) < plan.first_point + numbered):
+            raise JobFileError(f"staking.points: the id {name!r} is also the number of one of the alignment's "
+                               f"stakes ({plan.prefix}{plan.first_point} to {plan.prefix}{plan.first_point + numbered - 1}); "
+                               "one id names one point: give the row another id, or leave it out to number the row")
+        if name in seen:
+            raise JobFileError(f"staking.points: the id {name!r} is given twice; one id names one point")
+        seen.add(name)
+
+
+def join_stakes(parts: list[MoreStakes]) -> MoreStakes:
+    """Several sets of stakes to add as one, in the order given."""
+    if len(parts) == 1:
+        return parts[0]
+    return MoreStakes(
+        after=np.concatenate([p.after for p in parts]), station=np.concatenate([p.station for p in parts]),
+        offset=np.concatenate([p.offset for p in parts]), northing=np.concatenate([p.northing for p in parts]),
+        easting=np.concatenate([p.easting for p in parts]), azimuth=np.concatenate([p.azimuth for p in parts]),
+        elevation=np.concatenate([p.elevation for p in parts]), code=sum((p.code for p in parts), ()),
+        feature=sum((p.feature for p in parts), ()), description=sum((p.description for p in parts), ()),
+        name=sum((p.name for p in parts), ()))
+
+
 def _vocabulary(words: tuple[str, ...], base: int) -> tuple[NDArray[np.int64], tuple[str, ...]]:
     """Each word's index (from ``base``) into the distinct words in first-seen order, and those words."""
     distinct = tuple(dict.fromkeys(words))
@@ -542,6 +570,7 @@ def with_stakes(plan: StakePoints, more: MoreStakes) -> StakePoints:
             f"staking.point_prefix = {plan.prefix!r}: with first_point = {plan.first_point} the last point id "
             f"{last_id!r} has {len(last_id)} characters; ids may have at most {MAX_ID_CHARS} (shorten the prefix "
             "or lower staking.first_point)")
+    _check_names(plan, names, numbered)
     elevation = None
     if plan.elevation is not None or not np.isnan(more.elevation).all():
         base = plan.elevation if plan.elevation is not None else np.full(g, np.nan)
