@@ -597,7 +597,12 @@ def _build_several(job: Job) -> Design:
     alignment and each alignment's setout from them.  The design returned is the first
     alignment's, with every one in :attr:`Design.parts`.
     """
-    designs = [replace(_build_alignment_design(part), job=part) for part in job.parts]
+    designs = []
+    for k, part in enumerate(job.parts):
+        try:
+            designs.append(replace(_build_alignment_design(part), job=part))
+        except (JobFileError, GeometryError) as exc:  # name the alignment the key belongs to
+            raise type(exc)(f"alignment[{k}] ({part.alignment.name!r}): {exc}") from None
     check_ids_across(designs)
     if job.setup is not None:
         everything = _AllStakes(designs)
@@ -609,8 +614,8 @@ def _build_several(job: Job) -> Design:
         grid = _grid(job)
         out = []
         for k, d in enumerate(designs):
-            part = slice(int(everything.starts[k]), int(everything.starts[k + 1]))
-            sd = build_setups(job.parts[k], d.stakes, d.stationing, grid, assigned=(assigned[0], assigned[1][part]))
+            span = slice(int(everything.starts[k]), int(everything.starts[k + 1]))
+            sd = build_setups(job.parts[k], d.stakes, d.stationing, grid, assigned=(assigned[0], assigned[1][span]))
             out.append(_with_setups(d, sd, serves_none=False))
         counts = np.bincount(assigned[1], minlength=len(assigned[0]))
         none = [f"setup {i + 1} ({s.where}, occupied {s.occupied.id}) serves no stake"

@@ -6,6 +6,7 @@ The CLI only parses options and calls these functions.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -216,9 +217,16 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     several = f" on {len(d.parts)} alignments" if d.parts else ""
     notes.insert(0, f"wrote {len(outputs)} file(s) for {count} points{several} to {out}")
     notes[1:1] = folder.litter_notes
+    if d.parts and d.setup is not None:  # the setups serve every alignment: one summary, stakes counted over all
+        merged = replace(d.setup, occupations=tuple(
+            replace(o, stake_count=sum(p.setup.occupations[i].stake_count for p in d.parts if p.setup is not None),
+                    farthest_sight=max(p.setup.occupations[i].farthest_sight for p in d.parts if p.setup is not None))
+            for i, o in enumerate(d.setup.occupations)))
+        notes.extend(n for n in setup_notes(replace(d, setup=merged)) if n.startswith(("setups:", "  ")))
     for part in d.parts or (d,):
         named = f"alignment {part.alignment.name}: " if d.parts else ""
-        notes.extend(named + n for n in setup_notes(part) + slope_stake_notes(part))
+        own = [n for n in setup_notes(part) if not (d.parts and n.startswith(("setups:", "  ")))]
+        notes.extend(named + n for n in own + slope_stake_notes(part))
         notes.extend(f"warning: {named}{w}" for w in part.warnings)
     for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
         if f.not_used:
