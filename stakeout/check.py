@@ -107,6 +107,9 @@ class CheckResult:
     ground: NDArray[np.bool_] | None = None
     #: For a ``misnumbered`` shot the design index of the number it was stored under (-1 otherwise).
     stored_as: NDArray[np.int64] | None = None
+    #: With several alignments: the alignment (index in job order) each shot's station and offset are
+    #: on, that of the design point it matched, else the nearest; None with one alignment.
+    located_on: NDArray[np.int64] | None = None
 
     def counts(self) -> dict[str, int]:
         """Number of shots per status; ``misnumbered`` only where some shot is (the other statuses always)."""
@@ -467,7 +470,8 @@ class Matches:
 
 def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDArray[np.float64], prefix: str,
                 first_point: int, design_northing: NDArray[np.float64], design_easting: NDArray[np.float64],
-                control: Sequence[ControlRow], radius: float, names: Sequence[str] = ()) -> Matches:
+                control: Sequence[ControlRow], radius: float, names: Sequence[str] = (),
+                by_id: NDArray[np.int64] | None = None) -> Matches:
     """Match shots to design and control points (the rules of the module docstring).
 
     Parameters
@@ -487,6 +491,10 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
     names : sequence of str
         The ids the job gave the last ``len(names)`` design points (listed
         points); every design point before them is numbered.
+    by_id : array of int, optional
+        The design point each id names (-1: none), found by the caller (the
+        stakes of several alignments); ``prefix``, ``first_point`` and
+        ``names`` are then not used.
     """
     sn = np.asarray(northing, dtype=np.float64)
     se = np.asarray(easting, dtype=np.float64)
@@ -495,8 +503,8 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
     ce = np.array([c[2] for c in control], dtype=np.float64)
 
     # ids: a design point's, a control point's, or both (then the nearer; a tie to the design point)
-    num = design_index_of_ids(ids, prefix, first_point, nd - len(names))
-    if names:
+    num = design_index_of_ids(ids, prefix, first_point, nd - len(names)) if by_id is None else by_id
+    if names and by_id is None:
         at = {name: nd - len(names) + j for j, name in enumerate(names)}
         num = np.where(num >= 0, num, np.array([at.get(p, -1) for p in ids], dtype=np.int64))
     cid = _control_index_of_ids(ids, [c[0] for c in control])
@@ -615,7 +623,9 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
                 shots: Shots, horizontal_tolerance: float, vertical_tolerance: float | None,
                 search_radius: float | None = None, control: Sequence[ControlRow] = (),
                 combined_factor: NDArray[np.float64] | float = 1.0,
-                ground_codes: Sequence[str] = ()) -> CheckResult:
+                ground_codes: Sequence[str] = (),
+                more: Sequence[tuple[Alignment, StakePoints, NDArray[np.float64] | None,
+                                     NDArray[np.float64] | float]] = ()) -> CheckResult:
     """Match shots to design and control points; residuals and status.
 
     Parameters
@@ -642,6 +652,11 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         ``[check] ground_codes``: a shot whose description's first word is
         one of these (any case) is a shot on the ground beside its stake,
         checked horizontally only.
+    more : sequence of (alignment, design, design_elevation, combined_factor)
+        The other alignments of a job with several, in job order: every
+        shot is matched against the stakes of all of them (design indices
+        run over the alignments in order) and located on the alignment of
+        the stake it matched, else on the nearest.
 
     Returns
     -------
@@ -649,11 +664,28 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         Per-shot results in file order (see the module docstring).
     """
     radius = 10.0 * horizontal_tolerance if search_radius is None else search_radius
-    m, nd = len(shots), len(design)
+    parts = [(alignment, design, design_elevation, combined_factor), *more]
+    sizes = [len(p[1]) for p in parts]
+    starts = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
+    m, nd = len(shots), int(starts[-1])
     sn, se = shots.northing, shots.easting
-    mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
-                     control, radius, design.layout.names if design.layout is not None else ())
-    mt, stored_as = _misnumbered(mt, sn, se, design.northing, design.easting, horizontal_tolerance)
+    if more:  # the stakes of every alignment as one set of design points
+        by_id = np.full(m, -1, dtype=np.int64)
+        for j, (_, sp, _, _) in enumerate(parts):
+            hit = stake_index_of_ids(shots.point, sp)
+            by_id = np.where(hit >= 0, hit + starts[j], by_id)
+        elevations = [p[2] if p[2] is not None else np.full(len(p[1]), np.nan) for p in parts]
+        design_elevation = None if all(p[2] is None for p in parts) else np.concatenate(elevations)
+        combined_factor = np.concatenate([np.broadcast_to(np.asarray(p[3], dtype=np.float64), (len(p[1]),))
+                                          for p in parts])
+    dn_all = np.concatenate([p[1].northing for p in parts]) if more else design.northing
+    de_all = np.concatenate([p[1].easting for p in parts]) if more else design.easting
+    if more:
+        mt = match_shots(shots.point, sn, se, "", 0, dn_all, de_all, control, radius, by_id=by_id)
+    else:
+        mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
+                         control, radius, design.layout.names if design.layout is not None else ())
+    mt, stored_as = _misnumbered(mt, sn, se, dn_all, de_all, horizontal_tolerance)
     ground = ground_shots(shots.description, ground_codes)
     di, ci = mt.design_index, mt.control_index
     to_design, to_control = di >= 0, ci >= 0
@@ -661,8 +693,8 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
 
     # residuals against the design point or the control point matched
     sd, sc = np.where(to_design, di, 0), np.where(to_control, ci, 0)
-    tn = np.where(to_design, design.northing[sd], np.nan)
-    te = np.where(to_design, design.easting[sd], np.nan)
+    tn = np.where(to_design, dn_all[sd], np.nan)
+    te = np.where(to_design, de_all[sd], np.nan)
     tz = np.where(to_design, design_elevation[sd], np.nan) if design_elevation is not None else np.full(m, np.nan)
     if control:
         cn = np.array([c[1] for c in control], dtype=np.float64)
@@ -673,18 +705,40 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         tz = np.where(to_control, cz[sc], tz)
     # a shot of a design point is located near the design point's station (never on another branch of a
     # loop); a control shot or an unmatched one against the whole alignment
-    st, off, _ = alignment.locate(sn, se)
-    dst, doff, _ = alignment.locate(np.where(to_control, tn, sn), np.where(to_control, te, se))
+    located_on = None
+    if more:  # on the alignment of the stake matched, else the nearest alignment (to the control point shot)
+        qn, qe = np.where(to_control, tn, sn), np.where(to_control, te, se)
+        at_q = [p[0].locate(qn, qe) for p in parts]
+        at_s = [p[0].locate(sn, se) for p in parts]
+        away = np.abs(np.stack([a[1] for a in at_q]))
+        nearest = np.argmin(np.where(np.isnan(away), np.inf, away), axis=0)
+        matched_part = np.searchsorted(starts, np.where(to_design, di, 0), side="right") - 1
+        located_on = np.where(to_design, matched_part, nearest).astype(np.int64)
+        cols = np.arange(m)
+
+        def pick(arrays: list[NDArray[np.float64]]) -> NDArray[np.float64]:
+            return np.stack(arrays)[located_on, cols] if m else np.zeros(0)
+
+        st, off = pick([a[0] for a in at_s]), pick([a[1] for a in at_s])
+        dst, doff = pick([a[0] for a in at_q]), pick([a[1] for a in at_q])
+    else:
+        st, off, _ = alignment.locate(sn, se)
+        dst, doff, _ = alignment.locate(np.where(to_control, tn, sn), np.where(to_control, te, se))
     nan = np.full(m, np.nan)
     dn, de = sn - tn, se - te
     d_along, d_across = nan.copy(), nan.copy()
     ground_along, ground_across = nan.copy(), nan.copy()
-    k = np.flatnonzero(to_design & np.isfinite(sn) & np.isfinite(se))
-    if k.size:
-        ds = design.station[di[k]]
-        st[k], off[k] = locate_near(alignment, sn[k], se[k], ds)
-        dst[k], doff[k] = locate_near(alignment, tn[k], te[k], ds)
-        d_along[k], d_across[k] = along_across(design.azimuth[di[k]], dn[k], de[k])  # its own direction
+    k_all = np.flatnonzero(to_design & np.isfinite(sn) & np.isfinite(se))
+    az_all = np.concatenate([p[1].azimuth for p in parts]) if more else design.azimuth
+    st_all = np.concatenate([p[1].station for p in parts]) if more else design.station
+    for part_k, (part_alignment, _, _, _) in enumerate(parts):  # one step per alignment, vectorised over shots
+        k = k_all if not more else k_all[(di[k_all] >= starts[part_k]) & (di[k_all] < starts[part_k + 1])]
+        if not k.size:
+            continue
+        ds = st_all[di[k]]
+        st[k], off[k] = locate_near(part_alignment, sn[k], se[k], ds)
+        dst[k], doff[k] = locate_near(part_alignment, tn[k], te[k], ds)
+        d_along[k], d_across[k] = along_across(az_all[di[k]], dn[k], de[k])  # its own direction
         cf = np.broadcast_to(np.asarray(combined_factor, dtype=np.float64), (nd,))[di[k]]
         ground_along[k], ground_across[k] = d_along[k] / cf, d_across[k] / cf
     hz = np.hypot(dn, de)
@@ -714,7 +768,7 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         restake=np.flatnonzero(~staked | gov_out).astype(np.int64),
         horizontal_tolerance=horizontal_tolerance, vertical_tolerance=vertical_tolerance, search_radius=radius,
         d_along=d_along, d_across=d_across, ground_along=ground_along, ground_across=ground_across,
-        ground=ground, stored_as=stored_as,
+        ground=ground, stored_as=stored_as, located_on=located_on,
     )
 
 

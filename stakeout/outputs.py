@@ -184,7 +184,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("setout", "setout.csv", "angle right and distances from the occupied point", "tables:setout_csv",
            needs_setup=True),
     Output("sheet", "setout.txt", "the printable setout sheet", "sheets:setout_sheet", needs_setup=True, wide=True,
-           several="sheets"),
+           several="whole"),
     Output("deflections", "deflections.txt", "deflection angles and chords for each arc", "sheets:deflection_sheet",
            wide=True, several="sheets"),
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",

@@ -282,14 +282,19 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
     folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
     d = build_design(job)
-    check_design(d)
+    parts = d.parts or (d,)
+    for part in parts:
+        check_design(part)
     control = job_control_points(job)
     radius = spec.search_radius if spec.search_radius is not None else 10.0 * spec.horizontal_tolerance
-    check_column_order(d.stakes.northing, d.stakes.easting, control, shots, radius, str(staked))
-    progress = Progress(3, max(len(shots), len(d.stakes)))
+    check_column_order(np.concatenate([p.stakes.northing for p in parts]),
+                       np.concatenate([p.stakes.easting for p in parts]), control, shots, radius, str(staked))
+    progress = Progress(3, max(len(shots), sum(len(p.stakes) for p in parts)))
     progress.step("design computed")
+    # with several alignments every shot is matched against the stakes of all of them
     result = check_shots(d.alignment, d.stakes, d.design_elevation, shots, spec.horizontal_tolerance,
-                         spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes)
+                         spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes,
+                         more=[(p.alignment, p.stakes, p.design_elevation, stake_factors(p)) for p in parts[1:]])
     progress.step("shots checked")
 
     with folder:

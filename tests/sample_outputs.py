@@ -22,7 +22,8 @@ ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_jobs"
 DIGESTS = Path(__file__).resolve().parent / "data" / "sample_digests.json"
 #: The check run recorded beside the builds: (job, staked file).
-CHECKS = (("loop_ramp_usft.toml", "staked/loop_ramp_shots.csv"),)
+CHECKS = (("loop_ramp_usft.toml", "staked/loop_ramp_shots.csv"),
+          ("orchard_vale_interchange_m.toml", "staked/orchard_vale_shots.csv"))
 
 
 def _run(args: list[str]) -> tuple[int, str]:

@@ -22,14 +22,22 @@ def _digests(folder: Path) -> dict[str, str]:
             if p.name != "manifest.json"}
 
 
+def _line_codes(rows: list[dict[str, str]], name: str) -> set[str]:
+    """The offset lines' codes of an alignment: those on its first station's stakes."""
+    first = next(r["station"] for r in rows if r["alignment"] == name)
+    return {r["code"] for r in rows if r["alignment"] == name and r["station"] == first and r["feature"]}
+
+
 @pytest.mark.parametrize("job", SAMPLE_FILES, ids=lambda p: p.stem)
 def test_build_samples(job, tmp_path):
     out = build_job(job, tmp_path / "out")
     assert list(read_rows(out / "points.csv")[0]) == ["point", "northing", "easting", "elevation", "description"]
-    st = read_rows(out / "stations.csv")
-    assert st[0]["feature"].startswith("POB") and st[-1]["feature"].endswith("POE")
-    stations = [float(r["station"]) for r in st]
-    assert stations == sorted(stations)
+    rows = read_rows(out / "stations.csv")
+    for name in dict.fromkeys(r["alignment"] for r in rows):  # each alignment's grid, in station order
+        st = [r for r in rows if r["alignment"] == name and r["code"] in _line_codes(rows, name)]
+        assert st[0]["feature"].startswith("POB") and st[-1]["feature"].endswith("POE")
+        stations = [float(r["station"]) for r in st]
+        assert stations == sorted(stations) or "EQ" in {f for r in st for f in r["feature"].split()}
     assert (out / "curves.csv").read_text().startswith(
         "curve,pi_station,pc_station,pt_station,radius,delta_deg,delta_dms,length,tangent_back,"
         "tangent_ahead,chord,external,middle_ordinate,turn")

@@ -164,8 +164,16 @@ def test_setups_serve_every_stake_of_every_alignment(tmp_path):
     occupied = {r["occupied"] for r in setout}
     assert occupied <= {"CP1", "CP2", "CP3"}
     sheet = files["setout.txt"]
-    for name in ("MAIN", "RAMP-A", "LOOP-B"):
-        assert f"alignment {name}" in sheet
+    assert "alignments MAIN, RAMP-A, LOOP-B" in sheet
+    # one section per setup, each holding the stakes it serves on every alignment, point beside alignment
+    by_setup: dict[str, list[str]] = {}
+    for r in setout:
+        by_setup.setdefault(r["setup"], []).append(r["point"])
+    records = [line.split() for line in sheet.splitlines()]
+    names = ("MAIN", "RAMP-A", "LOOP-B")
+    for pid in (r["point"] for r in pts):
+        assert sum(1 for x in records if x[:1] == [pid] and len(x) > 2 and x[1] in names) == 1
+    assert sheet.count("SETUP ") == len(by_setup)
 
 
 @pytest.mark.parametrize("change, words", [
@@ -196,3 +204,32 @@ to_station = "1+070"
     r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "out")])
     assert r.exit_code == 2, r.output
     assert "station ranges name stations of one alignment" in r.output
+
+
+def test_check_matches_shots_on_every_alignment(tmp_path):
+    """stakeout check of a job with several alignments: each shot against every alignment's stakes and the
+    control, check.csv naming the alignment of the stake matched (outputs contract), restake.csv over all."""
+    job = tmp_path / "job.toml"
+    job.write_text(HEAD + CONTROL + "[check]\nhorizontal_tolerance = 0.02\n" + "".join(_alignment(*r) for r in ROADS),
+                   encoding="utf-8")
+    files = _build(tmp_path, job.read_text(encoding="utf-8"), "b", "points,stations")
+    sts = {r["point"]: r for r in _rows(files["stations.csv"])}
+    picks = ["5", "503", "905"]  # one stake of each alignment
+    lines = [f"{p},{float(sts[p]['northing']) + 0.004:.4f},{sts[p]['easting']},,STK" for p in picks]
+    lines.append("CP2,1030.0030,1990.0000,,CHK")
+    far = sts["907"]
+    lines.append(f"X1,{float(far['northing']) + 0.0051:.4f},{far['easting']},,STK")  # by position, no number
+    shots = tmp_path / "shots.csv"
+    shots.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    r = runner.invoke(app, ["check", str(job), str(shots), "--out", str(tmp_path / "chk")])
+    assert r.exit_code == 0, r.output
+    rows = _rows((tmp_path / "chk" / "check.csv").read_text(encoding="utf-8"))
+    assert [(x["design_point"], x["status"], x["alignment"]) for x in rows] == [
+        ("5", "ok", "MAIN"), ("503", "ok", "RAMP-A"), ("905", "ok", "LOOP-B"), ("CP2", "control", ""),
+        ("907", "ok", "LOOP-B")]
+    for x, p in zip(rows, picks + ["CP2", "907"]):
+        if p in sts:  # located on its own alignment: the station and offset of its stake
+            assert float(x["station"]) == pytest.approx(float(sts[p]["station"]), abs=0.01)
+            assert float(x["offset"]) == pytest.approx(float(sts[p]["offset"]), abs=0.01)
+    restake = _rows((tmp_path / "chk" / "restake.csv").read_text(encoding="utf-8"))
+    assert len(restake) == len(sts) - 4 and {"5", "503", "905", "907"}.isdisjoint(r["point"] for r in restake)

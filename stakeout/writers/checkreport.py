@@ -11,8 +11,8 @@ import numpy as np
 from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
-from .checkwords import (LISTED_SHOTS, NOT_STAKED_LISTED, cut_fill, listed_shots, move_decimals, move_text,
-                         status_text, target_id, what_to_do)
+from .checkwords import (LISTED_SHOTS, NOT_STAKED_LISTED, cut_fill, design_point_id, listed_shots, move_decimals,
+                         move_text, shot_alignments, shot_label, shot_stations, status_text, target_id, what_to_do)
 from .csvtext import DECIMALS, csv_text, csv_text_field
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
@@ -42,18 +42,18 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     ``governing_line`` is, for a ``superseded`` or ``duplicate`` shot, the
     line of the shot that governs its design point.
     """
-    station = d.stationing.station
-    name = csv_text_field(d.alignment.name)
+    station = shot_stations(d, r)
+    names = [csv_text_field(a) for a in shot_alignments(d, r)]
     out = []
     for k in range(len(shots)):
         g = int(r.related[k])
         out.append(",".join([
-            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
+            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station[k])),
             _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
             _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
             _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
             str(shots.line[g]) if g >= 0 else "",
-            _f(r.d_along[k]), _f(r.d_across[k]), name if r.design_index[k] >= 0 else "",
+            _f(r.d_along[k]), _f(r.d_across[k]), names[k],
         ]))
     return csv_text(CHECK_COLUMNS, out).encode("utf-8")
 
@@ -95,10 +95,9 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     (:data:`WIDE` with ``wide``).
     """
     width = WIDE if wide else WIDTH
-    job, design = d.job, d.stakes
+    job = d.job
     unit = job.info.unit
     counts = r.counts()
-    station_label = d.stationing.label
 
     title = f"STAKED-POINT CHECK   {job.info.name}".rstrip()
     out = [clip(title, width),
@@ -139,7 +138,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         """
         cols = [Column("shot", [_ident(shots.point[k]) for k in ks], "<"),
                 Column("design", [_ident(target(k)) for k in ks], "<"),
-                Column("station", [station_label(r.station[k]) for k in ks]),
+                Column("station", [shot_label(d, r, k) for k in ks]),
                 Column("offset", [_fit(r.offset[k], 9, 3) for k in ks]),
                 Column("horiz", [_fit(r.horizontal_error[k], 7, 3) for k in ks]),
                 Column("d along", [_fit(r.d_along[k], 8, 3) for k in ks]),
@@ -195,7 +194,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
             parts.append(SheetPart(head, cols, records, f"{short}, continued", new_page=False))
         else:
             parts.append(SheetPart(head, [], [], new_page=False))
-    missing = [design.point_id(int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
+    missing = [design_point_id(d, int(i)) for i in r.not_staked[:NOT_STAKED_LISTED]]
     n_out = int(r.restake.size - r.not_staked.size)
     head = [f"design points to set again (restake.csv): {r.restake.size}",
             f"  out of tolerance {n_out}   not staked {r.not_staked.size}",

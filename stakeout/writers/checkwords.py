@@ -13,15 +13,53 @@ from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
 
-__all__ = ["target_id", "cut_fill", "status_text", "move_decimals", "move_text", "what_to_do", "listed_shots",
+__all__ = ["target_id", "design_point_id", "shot_stations", "shot_label", "shot_alignments",
+           "cut_fill", "status_text", "move_decimals", "move_text", "what_to_do", "listed_shots",
            "LISTED_SHOTS", "NOT_STAKED_LISTED"]
+
+
+def design_point_id(d: Design, i: int) -> str:
+    """The id of design point ``i`` (with several alignments, counted over all of them in job order)."""
+    for p in d.parts or (d,):
+        if i < len(p.stakes):
+            return p.stakes.point_id(i)
+        i -= len(p.stakes)
+    raise IndexError(i)
+
+
+def _part_of(d: Design, r: CheckResult) -> list[tuple[Design, np.ndarray]]:
+    """Each alignment with the shots located on it (one alignment: every shot)."""
+    if r.located_on is None or not d.parts:
+        return [(d, np.ones(r.station.size, dtype=bool))]
+    return [(p, r.located_on == k) for k, p in enumerate(d.parts)]
+
+
+def shot_stations(d: Design, r: CheckResult) -> np.ndarray:
+    """The station in force at each shot's internal station, on the alignment it is located on."""
+    out = np.array(r.station, dtype=np.float64, copy=True)
+    for p, sel in _part_of(d, r):
+        out[sel] = p.stationing.station(r.station[sel])
+    return out
+
+
+def shot_label(d: Design, r: CheckResult, k: int) -> str:
+    """The station label of shot ``k`` on the alignment it is located on."""
+    p = d if r.located_on is None or not d.parts else d.parts[int(r.located_on[k])]
+    return p.stationing.label(float(r.station[k]))
+
+
+def shot_alignments(d: Design, r: CheckResult) -> list[str]:
+    """The alignment of the design point each shot matched, '' for control and unmatched shots."""
+    names = [p.alignment.name for p in (d.parts or (d,))]
+    on = r.located_on if r.located_on is not None else np.zeros(r.station.size, dtype=np.int64)
+    return [names[int(j)] if i >= 0 else "" for i, j in zip(r.design_index.tolist(), on.tolist())]
 
 
 def target_id(d: Design, r: CheckResult, k: int) -> str:
     """The id of the design or control point shot ``k`` was matched to, or empty."""
     i, c = int(r.design_index[k]), int(r.control_index[k])
     if i >= 0:
-        return d.stakes.point_id(i)
+        return design_point_id(d, i)
     return r.control_ids[c] if c >= 0 else ""
 
 
@@ -109,7 +147,7 @@ def what_to_do(d: Design, shots: Shots, r: CheckResult, k: int) -> str:
         return f"{what or 'reset it'}{by_position}"
     if s == "misnumbered":
         assert r.stored_as is not None
-        stored = d.stakes.point_id(int(r.stored_as[k]))
+        stored = design_point_id(d, int(r.stored_as[k]))
         return (f"stored as {stored} but lies on {target_id(d, r, k)} (within tolerance): confirm which stake it "
                 f"is and correct the number; {stored} is still to set")
     if s == "duplicate":

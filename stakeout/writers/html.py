@@ -24,7 +24,8 @@ from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..presentation import DEFLECTION_HEADERS, SETOUT_HEADERS
 from .csvtext import DECIMALS, GRADE_DECIMALS
-from .checkwords import NOT_STAKED_LISTED, cut_fill, listed_shots, status_text, target_id, what_to_do
+from .checkwords import (NOT_STAKED_LISTED, cut_fill, design_point_id, listed_shots, shot_label, status_text,
+                         target_id, what_to_do)
 from .sections import slope_texts, superelevation_table
 from .text import (CAUTION_LINES, curve_texts, deflection_origin, deflection_title, end_radii, fixed, fixed_or_empty,
                    offset_side, setout_cells, side_text, turn_word, vertical_note)
@@ -560,7 +561,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
         The residual picture as an ``<svg>`` element and its exaggeration
         (:func:`stakeout.writers.picture.residual_svg_element`).
     """
-    job, design, unit = d.job, d.stakes, d.unit
+    job, unit = d.job, d.unit
     name = Path(staked_path).name
     n = len(shots)
     counts = r.counts()
@@ -590,10 +591,8 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
     marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
     cols = [("shot", "t"), ("design", "t"), ("station", "n"), ("offset", "n"), ("horiz", "n"), ("d along", "n"),
             ("d across", "n"), ("d elev", "n")] + ([("mark", "t")] if with_grade else []) + [("status", "t")]
-    label = d.stationing.label
-
     def row(k: int, note: bool) -> list[Cell]:
-        out: list[Cell] = [shots.point[k], target_id(d, r, k), label(float(r.station[k])), _f(r.offset[k]),
+        out: list[Cell] = [shots.point[k], target_id(d, r, k), shot_label(d, r, k), _f(r.offset[k]),
                            _f(r.horizontal_error[k]), _f(r.d_along[k]), _f(r.d_across[k]), _f(r.d_elevation[k])]
         if with_grade:
             out.append(marks[k])
@@ -606,7 +605,7 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
         return _table(cols + ([(note, "w")] if note else []), [row(k, bool(note)) for k in ks])
 
     svg, factor = residuals
-    missing = [design.point[i] for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
+    missing = [design_point_id(d, i) for i in r.not_staked[:NOT_STAKED_LISTED].tolist()]
     if r.not_staked.size > NOT_STAKED_LISTED:
         missing.append(f"... and {r.not_staked.size - NOT_STAKED_LISTED} more (all of them are in restake.csv)")
     parts = [

@@ -20,7 +20,7 @@ from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Column, SheetPart, curve_lines, deflection_origin, deflection_title, fixed,
+from .text import (WIDE, WIDTH, Column, SheetPart, clip, curve_lines, deflection_origin, deflection_title, fixed,
                    header_lines, offset_side,
                    paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, warning_lines, wrap_lines)
 
@@ -148,6 +148,8 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     line where they do not fit; ``wide``: one line per stake.
     """
     assert d.setup is not None
+    if d.parts:
+        return _several_sheet(d, wide)
     if d.setup.listed:
         return _sectioned_sheet(d, wide)
     job = d.job
@@ -266,6 +268,74 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         parts.append(SheetPart(sh, cols, [rows[i] for i in idx.tolist()] or ["(no stakes)"],
                                f"setup {o.number} of {n} (occupied {o.occupied.id}), continued"))
     return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
+
+
+def _several_sheet(d: Design, wide: bool) -> str:
+    """``setout.txt`` of a job with several alignments: the setups serve every alignment, so one
+    summary and one section per setup holding its stakes of every alignment (point order within
+    each alignment, the alignments in job order), an ``alignment`` column naming each stake's.
+    """
+    assert d.setup is not None
+    parts = [p for p in d.parts if p.setup is not None]
+    title = "SETOUT SHEET"
+    names = ", ".join(p.alignment.name for p in parts)
+    head = [line if not line.startswith(f"alignment {d.alignment.name}   units")
+            else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
+    head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
+    head += _factor_lines(d, d.setup.occupations[0].scale) + _DEFINITIONS
+    setup = d.setup.setup
+    heights = [f"{what} height {h:.3f}" for what, h in (("instrument", setup.instrument_height),
+                                                         ("target", setup.target_height)) if h is not None]
+    if heights:
+        head.append("   ".join(heights) + " (every setup)")
+    head += [line for line in (vertical_note(d),) if line]
+    head += _instrument_lines(d)
+    page, table = _widths(wide)
+    # one table over every alignment's stakes: the columns any alignment has, empty where another has none
+    cells = [setout_cells(p, sided=True) for p in parts]
+    keys = list(dict.fromkeys(c.key for per in cells for c, _ in per))
+    left = {"point", "code", "feature", "note"}
+    cols = []
+    for key in keys:
+        texts: list[str] = []
+        grouped = False
+        for p, per in zip(parts, cells):
+            found = next(((c, t) for c, t in per if c.key == key), None)
+            texts += found[1] if found is not None else [""] * len(p.stakes)
+            grouped = grouped or (found is not None and found[0].grouped)
+        cols.append(Column(SETOUT_HEADERS[key][0], texts, "<" if key in left else ">", with_previous=grouped))
+        if key == "point":  # each stake's alignment beside its point id
+            cols.append(Column("alignment", [p.alignment.name for p in parts for _ in range(len(p.stakes))], "<"))
+    heads, rows = table_lines(cols, table)
+    index = np.concatenate([p.setup.setup_index for p in parts if p.setup is not None])
+    occs = d.setup.occupations
+    counts = np.bincount(index, minlength=len(occs))
+    summary = [Column("setup", [str(o.number) for o in occs], "<"),
+               Column("occupied", [o.occupied.id for o in occs], "<"),
+               Column("backsight", [o.backsight.id if o.backsight else "(azimuth)" for o in occs], "<"),
+               Column("bs azimuth", [str(format_azimuth_dms(o.backsight_azimuth, 1)) for o in occs]),
+               Column("stakes", [str(int(c)) for c in counts]),
+               Column("alignments", [", ".join(p.alignment.name for p in parts if p.setup is not None
+                                               and (p.setup.setup_index == i).any()) for i in range(len(occs))],
+                      "<")]
+    s_heads, s_rows = table_lines(summary, table)
+    sections = [SheetPart(["", f"SETUPS: {len(occs)}, serving every alignment"], s_heads, s_rows,
+                          "setups, continued")]
+    order = np.argsort(index, kind="stable")
+    groups = np.split(order, np.cumsum(counts)[:-1])
+    for o, idx in zip(occs, groups):
+        sh = [f"SETUP {o.number} of {len(occs)}" + (f"   ({o.where})" if o.where != "setup" else "")]
+        sh += _point_lines(o, setup, o.scale, inst=False)
+        sh += _convergence_lines(setup, o.scale)
+        sh.append(f"{idx.size} stake{'s' if idx.size != 1 else ''}" if idx.size else "no stakes")
+        sections.append(SheetPart(sh, heads, [rows[i] for i in idx.tolist()] or ["(no stakes)"],
+                                  f"setup {o.number} of {len(occs)} (occupied {o.occupied.id}), continued"))
+    unit = d.unit
+    total = int(index.size)
+    foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}", ""]
+    for p in parts:
+        foot += [f"ALIGNMENT {p.alignment.name}"] + curve_lines(p) + [""]
+    return paged_parts(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
 
 
 def deflection_sheet(d: Design, wide: bool = False) -> str:

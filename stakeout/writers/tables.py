@@ -21,6 +21,7 @@ from ..numbers import round_to
 from ..presentation import degree_of_curve_arc
 from ..staking import StakePoints
 from . import rows
+from .several import csv_rows
 from .csvtext import (DECIMALS, FORMULA_LEADS, GRADE_DECIMALS, POINTS_COLUMNS, csv_field, csv_guard, csv_text,
                       csv_text_field)
 from .text import fixed_or_empty, turn_word
@@ -447,10 +448,11 @@ def restake_csv(d: Design, r: "CheckResult") -> bytes:
     good shot was superseded by one out of tolerance) or not staked; every
     row exactly as in ``points.csv`` (the rows are taken from it).
     """
-    data = np.frombuffer(points_csv(d), dtype=np.uint8)
+    parts = d.parts or (d,)  # several alignments: every alignment's stakes, as in points.csv
+    data = np.frombuffer(csv_rows([points_csv(p) for p in parts]), dtype=np.uint8)
     line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
     # one line per stake (no text field holds a line break: the job-file readers refuse them)
-    keep = np.zeros(len(d.stakes) + 1, dtype=bool)
+    keep = np.zeros(sum(len(p.stakes) for p in parts) + 1, dtype=bool)
     keep[0] = True
     keep[np.asarray(r.restake, dtype=np.int64) + 1] = True
     out: bytes = data[keep[line_of_byte]].tobytes()

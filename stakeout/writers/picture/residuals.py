@@ -58,7 +58,7 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     each; arrows longer than :data:`ARROW_CAP` tolerance circles are cut to
     that length, marked and labelled with their horizontal error.
     """
-    job, unit, design = d.job, d.unit, d.stakes
+    job, unit = d.job, d.unit
     # a shot matched to a design or a control point has its residual; the arrow starts at that point
     matched = np.isfinite(r.d_northing) & np.isfinite(r.d_easting)
     de_e = shots.easting - np.where(matched, r.d_easting, 0.0)
@@ -69,9 +69,11 @@ def residual_svg_element(d: Design, shots: "Shots", r: "CheckResult", staked_nam
     lab = Labeller()
     x0, y0, x1, y1 = AREA
     lab.block([[x1 - 34, y0, x1, y0 + 66], [x0, y1 - 34, x0 + 300, y1]])
-    body = [frame_rect(), alignment_lines(d, v, clip, 1.0)]
+    body = [frame_rect(), *(alignment_lines(p, v, clip, 1.0) for p in (d.parts or (d,)))]
     # design points: small grey marks
-    dx_all, dy_all = v.x(design.easting), v.y(design.northing)
+    parts = d.parts or (d,)  # several alignments: the stakes of every one
+    dx_all = v.x(np.concatenate([p.stakes.easting for p in parts]))
+    dy_all = v.y(np.concatenate([p.stakes.northing for p in parts]))
     inside = (dx_all > x0) & (dx_all < x1) & (dy_all > y0) & (dy_all < y1)
     grey = np.where(inside)[0]
     if grey.size > LABEL_MAX_STAKES:
