@@ -3,17 +3,21 @@
 from __future__ import annotations
 
 import math
+import os
 import textwrap
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
 from .checkwords import (LISTED_SHOTS, NOT_STAKED_LISTED, cut_fill, listed_shots, move_decimals, move_text,
                          status_text, target_id, what_to_do)
-from .csvtext import DECIMALS, csv_text, csv_text_field
+from . import rows
+from .csvtext import DECIMALS, FORMULA_LEADS, csv_text_field
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
@@ -41,21 +45,112 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     ``fails`` names the tolerance an ``out`` or ``control`` shot fails;
     ``governing_line`` is, for a ``superseded`` or ``duplicate`` shot, the
     line of the shot that governs its design point.
+
+    Built from whole columns (:mod:`.rows`): each text column is joined and
+    encoded once, numbers are laid out as digits by numpy, rows are rendered
+    in blocks (:func:`.rows.row_chunks`) on every core.
     """
-    station = d.stationing.station
-    name = csv_text_field(d.alignment.name)
-    out = []
-    for k in range(len(shots)):
-        g = int(r.related[k])
-        out.append(",".join([
-            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station(r.station[k]))),
-            _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
-            _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
-            _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
-            str(shots.line[g]) if g >= 0 else "",
-            _f(r.d_along[k]), _f(r.d_across[k]), name if r.design_index[k] >= 0 else "",
-        ]))
-    return csv_text(CHECK_COLUMNS, out).encode("utf-8")
+    n = len(shots)
+    head = (",".join(CHECK_COLUMNS) + "\n").encode("ascii")
+    if n == 0:
+        return head
+    point = _csv_strings(shots.point)
+    target = _Targets(d, r)
+    words = [rows.Strings(r.status), rows.Strings(r.matched_by), rows.Strings(r.fails)]
+    line = np.asarray(shots.line, dtype=np.int64)
+    g = np.asarray(r.related, dtype=np.int64)
+    on_design = np.asarray(r.design_index) >= 0
+    name = np.frombuffer(csv_text_field(d.alignment.name).encode("utf-8"), dtype=np.uint8)
+    station = d.stationing.station(r.station)
+    first = [station, r.offset, r.d_northing, r.d_easting, r.horizontal_error, r.d_station, r.d_offset,
+             r.d_elevation]
+    big = {id(v): bool(np.any(np.abs(v[np.isfinite(v)]) >= _VECTOR_LIMIT))
+           for v in (*first, shots.northing, shots.easting, r.d_along, r.d_across)}
+
+    def num(v: NDArray[np.float64], sl: slice) -> rows.Field:
+        if big[id(v)]:  # beyond what the digit tables take exactly: Python's own formatting
+            return rows.Strings([_f(x) for x in v[sl].tolist()]).field(slice(None))
+        return rows.optional(v[sl], DECIMALS)
+
+    def chunk(bounds: tuple[int, int]) -> bytes:
+        sl = slice(*bounds)
+        k = bounds[1] - bounds[0]
+        sep = rows.const(",", k)
+        gov = g[sl]
+        fields = [point.field(sl), sep, *target.fields(sl), sep]
+        for v in first:
+            fields += [num(v, sl), sep]
+        status, matched_by, fails = (w.field(sl) for w in words)
+        fields += [status, sep, matched_by, sep, num(shots.northing, sl), sep, num(shots.easting, sl), sep,
+                   rows.integer(line[sl]), sep, fails, sep,
+                   rows.blank(rows.integer(np.where(gov >= 0, line[gov], 0)), gov < 0), sep,
+                   num(r.d_along, sl), sep, num(r.d_across, sl), sep,
+                   rows.blank(np.broadcast_to(name, (k, name.size)), ~on_design[sl])]
+        return rows.join_rows(fields, k)
+
+    blocks = rows.row_chunks(point.lens + target.lens(), _CHUNK_ROWS)
+    if len(blocks) < 2:
+        return head + b"".join(map(chunk, blocks))
+    with ThreadPoolExecutor(max_workers=min(4, os.cpu_count() or 1)) as pool:  # numpy releases the GIL
+        return head + b"".join(pool.map(chunk, blocks))
+
+
+#: Largest magnitude check.csv lays out with the digit tables (times 10**DECIMALS it stays well
+#: within their exact range); a column holding a larger number is formatted by Python.
+_VECTOR_LIMIT = 1e12
+_CSV_LEADS = "".join(FORMULA_LEADS).encode("ascii")
+_CSV_QUOTED = b',"\r\n'
+
+
+def _csv_strings(strings: list[str]) -> rows.Strings:
+    """A text column of a CSV file: each string as :func:`csv_text_field` writes it (only the few
+    that need a guard or quotes go through it).
+    """
+    col = rows.Strings(strings)
+    odd = col.rows_holding(_CSV_LEADS, _CSV_QUOTED)
+    if odd.size:
+        strings = list(strings)
+        for k in odd.tolist():
+            strings[k] = csv_text_field(strings[k])
+        col = rows.Strings(strings)
+    return col
+
+
+class _Targets:
+    """check.csv's ``design_point``: the design point's id (prefix and number) or the control point's."""
+
+    def __init__(self, d: Design, r: CheckResult):
+        sp = d.stakes
+        self.design = np.asarray(r.design_index, dtype=np.int64)
+        self.control = np.asarray(r.control_index, dtype=np.int64)
+        self.number = sp.first_point + self.design
+        self.prefix = np.frombuffer(sp.prefix.encode("utf-8"), dtype=np.uint8)
+        self.strings: rows.Strings | None = None
+        on = self.design >= 0
+        plain = csv_text_field(sp.prefix + "0") == sp.prefix + "0" and (sp.prefix != "" or
+                                                                         not np.any(self.number[on] < 0))
+        if not plain:  # a prefix that takes a guard or quotes: every id through csv_text_field
+            self.strings = _csv_strings([target_id(d, r, k) for k in range(len(r.status))])
+            return
+        self.ids = _csv_strings(list(r.control_ids))
+        digits = np.floor(np.log10(np.maximum(np.abs(self.number), 1))).astype(np.int64) + 1
+        self.width = np.where(on, self.prefix.size + digits + (self.number < 0),
+                              np.append(self.ids.lens, 0)[self.control])  # -1: none, 0 bytes
+
+    def lens(self) -> NDArray[np.int64]:
+        """Bytes of each shot's id (about: for sizing blocks of rows)."""
+        return self.strings.lens if self.strings is not None else self.width
+
+    def fields(self, sl: slice) -> list[rows.Field]:
+        if self.strings is not None:
+            return [self.strings.field(sl)]
+        i, c = self.design[sl], self.control[sl]
+        k = i.size
+        design, control = i >= 0, (i < 0) & (c >= 0)
+        return [rows.blank(np.broadcast_to(self.prefix, (k, self.prefix.size)), ~design),
+                rows.blank(rows.integer(np.where(design, self.number[sl], 0)), ~design),
+                rows.blank(self.ids.field(np.where(control, c, 0)), ~control) if len(self.ids.lens) else
+                np.zeros((k, 0), dtype=np.uint8)]
 
 
 #: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).
