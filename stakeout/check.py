@@ -36,6 +36,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 from numpy.typing import NDArray
@@ -120,10 +121,35 @@ class CheckResult:
         s = self.status[k]
         return s in ("out", "misnumbered", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
 
+    def among(self, statuses: Sequence[str]) -> NDArray[np.bool_]:
+        """Whether each shot's status is one of ``statuses`` (every shot at once)."""
+        out: NDArray[np.bool_] = np.isin(self._status_array, list(statuses))
+        return out
+
+    @cached_property
+    def _status_array(self) -> NDArray[np.str_]:
+        return np.array(self.status, dtype=str)
+
+    @cached_property
+    def attention(self) -> NDArray[np.bool_]:
+        """:meth:`needs_attention` of every shot at once."""
+        beyond: NDArray[np.bool_] = self.among(["control"]) & (np.array(self.fails, dtype=str) != "")
+        return self.among(["out", "misnumbered", "duplicate", "unmatched"]) | beyond
+
+    @cached_property
+    def within(self) -> NDArray[np.bool_]:
+        """The shots within tolerance: ``ok``, or ``control`` and not beyond tolerance."""
+        return self.among(["ok", "control"]) & ~self.attention
+
+    @cached_property
+    def governing(self) -> NDArray[np.bool_]:
+        """The shots that govern their design point: ``ok`` or ``out``."""
+        return self.among(["ok", "out"])
+
     @property
     def all_ok(self) -> bool:
         """True when no shot needs attention (exit code 0)."""
-        return not any(self.needs_attention(k) for k in range(len(self.status)))
+        return not bool(self.attention.any())
 
 
 def job_control_points(job: Job) -> list[ControlRow]:

@@ -208,9 +208,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
            "",
            f"shots {len(shots)}:  " + "   ".join(f"{s} {c}" for s, c in counts.items()),
            ]
-    governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
-    hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
-    dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
+    hz = r.horizontal_error[r.governing & np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[r.governing & np.isfinite(r.d_elevation)]
     out.append(f"worst horizontal error {_fit(float(hz.max()), 20, 4)}" if hz.size else "worst horizontal error -")
     out.append(f"worst vertical error {_fit(float(np.abs(dz).max()), 20, 4)}" if dz.size
                else "worst vertical error - (no elevations to compare)")
@@ -218,7 +217,6 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     out.append("")
 
     with_grade = d.design_elevation is not None
-    marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
 
     def target(k: int) -> str:
         t = target_id(d, r, k)
@@ -242,8 +240,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         if np.isfinite(r.d_elevation[ks]).any():  # no column of blanks where no shot has a height
             cols.append(Column("d elev", [_fit(r.d_elevation[k], 7, 3) for k in ks]))
         if with_grade:
+            marks = cut_fill(r.d_elevation[ks], 2 if unit.is_feet else 3)
             cols.append(Column("mark", ["" if r.status[k] == "control" else
-                                        _short_mark(marks[k], float(r.d_elevation[k])) for k in ks], "<"))
+                                        _short_mark(mark, float(r.d_elevation[k])) for k, mark in zip(ks, marks)],
+                               "<"))
         status = [status_text(r, k) for k in ks]
         if with_status:
             cols.append(Column("status", status, "<"))
@@ -274,10 +274,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
          {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
-    shown_counts = {"WITHIN TOLERANCE": sum(1 for k in range(len(shots)) if r.status[k] in ("ok", "control")
-                                            and not r.needs_attention(k)),
-                    "SUPERSEDED": counts["superseded"],
-                    "NEEDS ATTENTION": sum(1 for k in range(len(shots)) if r.needs_attention(k))}
+    shown_counts = {"WITHIN TOLERANCE": int(r.within.sum()), "SUPERSEDED": counts["superseded"],
+                    "NEEDS ATTENTION": int(r.attention.sum())}
     for name, ks, with_status, extra in sections:
         total = next(v for key, v in shown_counts.items() if name.startswith(key))
         if not total and name.startswith("SUPERSEDED"):
@@ -311,7 +309,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     if with_grade:
         foot += ["mark: the cut or fill to write on the stake,",
                  "  C where the shot is above design, F below"]
-    if any(len(p) > ID_PRINTED for p in shots.point):
+    if max(map(len, shots.point), default=0) > ID_PRINTED:
         foot.append(f"~: the end of a shot id cut to {ID_PRINTED} characters (check.csv holds it whole)")
     foot += [
         "move: from where the stake was shot to design, looking up-station: ahead/back",
