@@ -81,7 +81,7 @@ def _random_case(d, rng: np.random.Generator, n: int, control_ids: tuple[str, ..
     fails = [("", "horizontal", "vertical", "both")[i] for i in rng.integers(0, 4, n)]
     matched = [("number", "nearest", "")[i] for i in rng.integers(0, 3, n)]
     related = np.where(rng.random(n) < 0.2, rng.integers(0, max(1, n), n), -1)
-    big = 1e13 if wild else 1e3  # wild: some columns beyond the digit tables' exact range
+    big = 1e14 if wild else 1e3  # wild: some numbers beyond the digit tables (1e13)
     lines = sorted(rng.choice(10 * n + 10, n, replace=False).tolist())
     station = np.where(rng.random(n) < 0.1, np.nan, rng.uniform(d.alignment.start_station - 50,
                                                                   d.alignment.end_station + 50, n))

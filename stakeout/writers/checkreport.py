@@ -64,13 +64,12 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     station = d.stationing.station(r.station)
     first = [station, r.offset, r.d_northing, r.d_easting, r.horizontal_error, r.d_station, r.d_offset,
              r.d_elevation]
-    big = {id(v): bool(np.any(np.abs(v[np.isfinite(v)]) >= _VECTOR_LIMIT))
-           for v in (*first, shots.northing, shots.easting, r.d_along, r.d_across)}
 
     def num(v: NDArray[np.float64], sl: slice) -> rows.Field:
-        if big[id(v)]:  # beyond what the digit tables take exactly: Python's own formatting
+        try:
+            return rows.optional(v[sl], DECIMALS)
+        except ValueError:  # a number beyond the digit tables (over 1e13): Python's own formatting
             return rows.Strings([_f(x) for x in v[sl].tolist()]).field(slice(None))
-        return rows.optional(v[sl], DECIMALS)
 
     def chunk(bounds: tuple[int, int]) -> bytes:
         sl = slice(*bounds)
@@ -95,9 +94,6 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
         return head + b"".join(pool.map(chunk, blocks))
 
 
-#: Largest magnitude check.csv lays out with the digit tables (times 10**DECIMALS it stays well
-#: within their exact range); a column holding a larger number is formatted by Python.
-_VECTOR_LIMIT = 1e12
 _CSV_LEADS = "".join(FORMULA_LEADS).encode("ascii")
 _CSV_QUOTED = b',"\r\n'
 
