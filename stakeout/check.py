@@ -52,6 +52,7 @@ __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_
            "locate_near", "along_across"]
 
 STATUSES = ("ok", "out", "misnumbered", "superseded", "duplicate", "control", "unmatched")
+_STATUS_CODE = {s: i for i, s in enumerate(STATUSES)}
 
 #: A control point as the check takes it: id, northing, easting (job units),
 #: elevation (job units) or ``None``.
@@ -123,17 +124,18 @@ class CheckResult:
 
     def among(self, statuses: Sequence[str]) -> NDArray[np.bool_]:
         """Whether each shot's status is one of ``statuses`` (every shot at once)."""
-        out: NDArray[np.bool_] = np.isin(self._status_array, list(statuses))
+        out: NDArray[np.bool_] = np.isin(self._status_codes, [_STATUS_CODE[s] for s in statuses])
         return out
 
     @cached_property
-    def _status_array(self) -> NDArray[np.str_]:
-        return np.array(self.status, dtype=str)
+    def _status_codes(self) -> NDArray[np.int8]:
+        return np.fromiter(map(_STATUS_CODE.__getitem__, self.status), dtype=np.int8, count=len(self.status))
 
     @cached_property
     def attention(self) -> NDArray[np.bool_]:
         """:meth:`needs_attention` of every shot at once."""
-        beyond: NDArray[np.bool_] = self.among(["control"]) & (np.array(self.fails, dtype=str) != "")
+        fails = np.fromiter(map(bool, self.fails), dtype=bool, count=len(self.fails))
+        beyond: NDArray[np.bool_] = self.among(["control"]) & fails
         return self.among(["out", "misnumbered", "duplicate", "unmatched"]) | beyond
 
     @cached_property

@@ -141,3 +141,14 @@ def test_strings_field_takes_any_text():
     assert rows.Strings([]).field(slice(None)).shape == (0, 0)
     with pytest.raises(ValueError, match="NUL"):
         rows.Strings(["a\0b"])
+
+
+def test_whole_column_statuses_agree_with_each_shot(designs):
+    # check.txt and check.html count and list shots from CheckResult.attention/within/governing: the
+    # same shots as needs_attention and the status words of each shot, one at a time
+    shots, r = _random_case(designs["loop_ramp_usft"], np.random.default_rng(3), 500, ("CP1",), wild=False)
+    for k in range(len(shots)):
+        assert r.attention[k] == r.needs_attention(k)
+        assert r.within[k] == (r.status[k] in ("ok", "control") and not r.needs_attention(k))
+        assert r.governing[k] == (r.status[k] in ("ok", "out"))
+    assert r.all_ok == (not any(r.needs_attention(k) for k in range(len(shots))))
