@@ -6,6 +6,8 @@ SHA-256 of its bytes; the same path with other bytes is parsed again.
 from __future__ import annotations
 
 import shutil
+
+import numpy as np
 from pathlib import Path
 
 import stakeout.landxml as lx
@@ -21,9 +23,9 @@ def _counting(monkeypatch) -> list[str]:
     calls: list[str] = []
     real = lx.parse_landxml
 
-    def counting(data: bytes, source: str = "LandXML data") -> lx.XDesign:
+    def counting(data: bytes, source: str = "LandXML data", **kwargs) -> lx.XDesign:
         calls.append(source)
-        return real(data, source)
+        return real(data, source, **kwargs)
 
     monkeypatch.setattr(lx, "parse_landxml", counting)
     return calls
@@ -70,3 +72,78 @@ def test_changed_file_is_parsed_again(tmp_path, monkeypatch):
     second = files.read("road.xml", "control.landxml")
     assert len(calls) == 2 and second is not first and second.sha256 != first.sha256
     assert files.parsed(first.sha256) is first and files.parsed(second.sha256) is second
+
+
+def _surfaces_block() -> str:
+    """A small TIN <Surface name="EG"> (LandXML 1.2 Surface/Definition/Pnts/Faces, by hand): a 3 x 3
+    grid of points 10 m apart, two faces a cell, the first invisible (a hole)."""
+    pts = [(5123400.0 + 10 * j, 481300.0 + 10 * i, 300.0 + i + 0.5 * j) for j in range(3) for i in range(3)]
+    p = "".join(f'<P id="{k + 1}">{n!r} {e!r} {z!r}</P>' for k, (n, e, z) in enumerate(pts))
+    faces = []
+    for j in range(2):
+        for i in range(2):
+            a = 3 * j + i + 1
+            faces += [(a, a + 1, a + 4), (a, a + 4, a + 3)]
+    inv = ' i="1"'
+    f = "".join(f"<F{inv if k == 0 else ''}>{a} {b} {c}</F>" for k, (a, b, c) in enumerate(faces))
+    return (f'  <Surfaces><Surface name="EG"><Definition surfType="TIN"><Pnts>{p}</Pnts><Faces>{f}</Faces>'
+            "</Definition></Surface></Surfaces>\n")
+
+
+def _job_with_ground(tmp_path: Path) -> Path:
+    text = ROAD.read_text(encoding="utf-8").replace("</LandXML>", _surfaces_block() + "</LandXML>")
+    (tmp_path / "road.xml").write_text(text, encoding="utf-8")
+    return write_job(tmp_path, """format = 1
+[job]
+name = "One file, four uses"
+units = "m"
+[alignment]
+landxml = "road.xml"
+[profile]
+landxml = "road.xml"
+[control]
+landxml = "road.xml"
+[ground]
+landxml = "road.xml"
+[staking]
+interval = 50.0
+""")
+
+
+def test_ground_surface_in_the_design_file_from_the_same_parse(tmp_path, monkeypatch):
+    import stakeout.landxml.surface as surface
+
+    calls = _counting(monkeypatch)
+    real = surface.parse_surface
+    own: list[str] = []
+
+    def counting_surface(*args, **kwargs):
+        own.append("surface")
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(surface, "parse_surface", counting_surface)
+    job = load_job(_job_with_ground(tmp_path))
+    assert (len(calls), own) == (1, [])  # the surface came from the design file's one pass
+    assert [f.role for f in job.design_files] == ["alignment", "profile", "control", "ground"]
+    # the same ground as the surface reader's own pass over the file (the reference)
+    alone = real((tmp_path / "road.xml").read_bytes(), None, "m", "ground.landxml = 'road.xml'")
+    assert job.ground is not None
+    g = job.ground
+    from stakeout.ground import Ground
+
+    ref = Ground.from_faces(alone.n, alone.e, alone.z, alone.faces, "ref")
+    assert np.array_equal(g.z, ref.z) and np.array_equal(g.faces, ref.faces)
+    assert job.design_files[-1].sha256 == job.design_files[0].sha256 == alone.sha256
+
+
+def test_ground_surface_error_from_the_same_parse_names_the_ground(tmp_path):
+    # the surface's own error (here: no surface of that name) names the ground's key, as when the
+    # surface is read on its own
+    import pytest
+
+    from stakeout.errors import JobFileError
+
+    job = _job_with_ground(tmp_path)
+    job.write_text(job.read_text().replace('[ground]\nlandxml = "road.xml"', '[ground]\nlandxml = "road.xml"\nname = "NONE"'))
+    with pytest.raises(JobFileError, match=r"ground.landxml = 'road.xml': no <Surface name='NONE'>; the file has 'EG'"):
+        load_job(job)

@@ -76,7 +76,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
     info = _job_info(top)
     base = Path(path).parent
     design_files: list[DesignFile] = []
-    files = DesignFiles(info, base)
+    files = DesignFiles(info, base, _ground_file(top.raw("ground")))
     raw_alignment = top.raw("alignment", required=True)
     from_file = None
     if isinstance(raw_alignment, dict) and "landxml" in raw_alignment:
@@ -135,7 +135,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         unapplied = periods_of(from_file.source, "alignment.landxml")
     all_files = _not_used_once(tuple(design_files) + control_files, files, unapplied)
     check_template_lines(list(staking.offsets), bool(se_rows) or se_file is not None)
-    ground_read = read_ground(top, base, info.unit.key)
+    ground_read = read_ground(top, base, info.unit.key, files)
     ground = None
     if ground_read is not None:
         ground, ground_record = ground_read
@@ -167,6 +167,19 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         ground=ground,
         slope_stakes=slope_stakes,
     )
+
+
+def _ground_file(raw: object) -> tuple[str, str | None] | None:
+    """``[ground] landxml`` and ``name`` as given, when they are text (read and checked by
+    :func:`read_ground`; known before the design files are parsed, so that a design file that
+    holds the ground gives its surface in the same pass).
+    """
+    if not isinstance(raw, dict):
+        return None
+    given, name = raw.get("landxml"), raw.get("name")
+    if isinstance(given, str) and (name is None or isinstance(name, str)):
+        return given, name
+    return None
 
 
 def _not_used_once(records: tuple[DesignFile, ...], files: DesignFiles,
