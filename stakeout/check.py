@@ -118,9 +118,10 @@ class CheckResult:
         return counts
 
     def needs_attention(self, k: int) -> bool:
-        """Whether shot ``k`` needs a person: out, duplicate, unmatched, or control beyond tolerance."""
-        s = self.status[k]
-        return s in ("out", "misnumbered", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
+        """Whether shot ``k`` needs a person: out, misnumbered, duplicate, unmatched, or control beyond
+        tolerance (:attr:`attention`).
+        """
+        return bool(self.attention[k])
 
     def among(self, statuses: Sequence[str]) -> NDArray[np.bool_]:
         """Whether each shot's status is one of ``statuses`` (every shot at once)."""
@@ -133,7 +134,9 @@ class CheckResult:
 
     @cached_property
     def attention(self) -> NDArray[np.bool_]:
-        """:meth:`needs_attention` of every shot at once."""
+        """Whether each shot needs a person: out, misnumbered, duplicate, unmatched, or control beyond
+        tolerance.
+        """
         fails = np.fromiter(map(bool, self.fails), dtype=bool, count=len(self.fails))
         beyond: NDArray[np.bool_] = self.among(["control"]) & fails
         return self.among(["out", "misnumbered", "duplicate", "unmatched"]) | beyond
