@@ -5,8 +5,6 @@ SHA-256 of its bytes; the same path with other bytes is parsed again.
 
 from __future__ import annotations
 
-import shutil
-
 import numpy as np
 from pathlib import Path
 
@@ -31,21 +29,15 @@ def _counting(monkeypatch) -> list[str]:
     return calls
 
 
-def _job(tmp_path: Path) -> Path:
-    shutil.copyfile(ROAD, tmp_path / "road.xml")
-    return write_job(tmp_path, """format = 1
-[job]
-name = "One file, three uses"
-units = "m"
-[alignment]
-landxml = "road.xml"
-[profile]
-landxml = "road.xml"
-[control]
-landxml = "road.xml"
-[staking]
-interval = 50.0
-""")
+def _job(tmp_path: Path, ground: bool = False) -> Path:
+    """A job taking alignment, profile and control (and with ``ground`` its ground) from road.xml."""
+    text = ROAD.read_text(encoding="utf-8")
+    if ground:
+        text = text.replace("</LandXML>", _surfaces_block() + "</LandXML>")
+    (tmp_path / "road.xml").write_text(text, encoding="utf-8")
+    uses = "".join(f'[{t}]\nlandxml = "road.xml"\n' for t in ("alignment", "profile", "control", "ground")
+                   if ground or t != "ground")
+    return write_job(tmp_path, f'format = 1\n[job]\nname = "One file"\nunits = "m"\n{uses}[staking]\ninterval = 50.0\n')
 
 
 def test_alignment_profile_and_control_from_one_parse(tmp_path, monkeypatch):
@@ -90,26 +82,6 @@ def _surfaces_block() -> str:
             "</Definition></Surface></Surfaces>\n")
 
 
-def _job_with_ground(tmp_path: Path) -> Path:
-    text = ROAD.read_text(encoding="utf-8").replace("</LandXML>", _surfaces_block() + "</LandXML>")
-    (tmp_path / "road.xml").write_text(text, encoding="utf-8")
-    return write_job(tmp_path, """format = 1
-[job]
-name = "One file, four uses"
-units = "m"
-[alignment]
-landxml = "road.xml"
-[profile]
-landxml = "road.xml"
-[control]
-landxml = "road.xml"
-[ground]
-landxml = "road.xml"
-[staking]
-interval = 50.0
-""")
-
-
 def test_ground_surface_in_the_design_file_from_the_same_parse(tmp_path, monkeypatch):
     import stakeout.landxml.surface as surface
 
@@ -122,7 +94,7 @@ def test_ground_surface_in_the_design_file_from_the_same_parse(tmp_path, monkeyp
         return real(*args, **kwargs)
 
     monkeypatch.setattr(surface, "parse_surface", counting_surface)
-    job = load_job(_job_with_ground(tmp_path))
+    job = load_job(_job(tmp_path, ground=True))
     assert (len(calls), own) == (1, [])  # the surface came from the design file's one pass
     assert [f.role for f in job.design_files] == ["alignment", "profile", "control", "ground"]
     # the same ground as the surface reader's own pass over the file (the reference)
@@ -143,7 +115,7 @@ def test_ground_surface_error_from_the_same_parse_names_the_ground(tmp_path):
 
     from stakeout.errors import JobFileError
 
-    job = _job_with_ground(tmp_path)
+    job = _job(tmp_path, ground=True)
     job.write_text(job.read_text().replace('[ground]\nlandxml = "road.xml"', '[ground]\nlandxml = "road.xml"\nname = "NONE"'))
     with pytest.raises(JobFileError, match=r"ground.landxml = 'road.xml': no <Surface name='NONE'>; the file has 'EG'"):
         load_job(job)
