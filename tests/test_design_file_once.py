@@ -5,8 +5,9 @@ SHA-256 of its bytes; the same path with other bytes is parsed again.
 
 from __future__ import annotations
 
-import numpy as np
 from pathlib import Path
+
+import numpy as np
 
 import stakeout.landxml as lx
 from stakeout.jobfile import load_job
