@@ -6,7 +6,10 @@ NUL bytes; :func:`join_rows` lays fields side by side, ends each row with
 ``\\n`` and drops the padding.  Numbers are rounded once, in units of their
 last printed digit, by the one rule of :mod:`stakeout.numbers` (the exact
 binary value, half to even: what ``f"{v:.4f}"`` prints), so a value never
-prints as ``-0.0000`` and carries are exact.
+prints as ``-0.0000`` and carries are exact.  Text of any script and length
+(ids read from a file) is a :class:`Strings` column: joined and encoded as
+UTF-8 once, taken out a block of rows at a time; :func:`row_chunks` sizes the
+blocks so that a few very long texts do not widen every field.
 """
 
 from __future__ import annotations
