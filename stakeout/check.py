@@ -587,24 +587,26 @@ def locate_near(alignment: Alignment, northing: NDArray[np.float64], easting: ND
     n = np.asarray(northing, dtype=np.float64)
     e = np.asarray(easting, dtype=np.float64)
     h = max(1e-6, 1e-9 * max(abs(lo), abs(hi)))
-    along = across = np.zeros(s.size)
-    for _ in range(_NEAR_STEPS):  # one step on every point at once
-        p = alignment.evaluate(s, miter=False)
+    active = np.arange(s.size)  # the points still moving: one that a step left exactly where it was stays there
+    for _ in range(_NEAR_STEPS):  # one step on every moving point at once
+        sa = s[active]
+        p = alignment.evaluate(sa, miter=False)
         sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
-        dn, de = n - p.northing, e - p.easting
+        dn, de = n[active] - p.northing, e[active] - p.easting
         along, across = dn * cs + de * sn, de * cs - dn * sn
-        ahead = np.clip(s + h, lo, hi)
-        behind = np.clip(s - h, lo, hi)
+        ahead = np.clip(sa + h, lo, hi)
+        behind = np.clip(sa - h, lo, hi)
         turn = (alignment.evaluate(ahead, miter=False).azimuth - alignment.evaluate(behind, miter=False).azimuth
                 + 180.0) % 360.0 - 180.0
         width = ahead - behind
         kappa = np.where(width > 0, np.radians(turn) / np.where(width > 0, width, 1.0), 0.0)
         step = along / np.maximum(1.0 - kappa * across, 0.1)
-        new = np.clip(s + step, lo, hi)
-        moved = np.abs(new - s)
-        s = new
-        if not np.any(moved > 1e-10 * (1.0 + np.abs(s))):
+        new = np.clip(sa + step, lo, hi)
+        moved = np.abs(new - sa)
+        s[active] = new
+        if not np.any(moved > 1e-10 * (1.0 + np.abs(new))):
             break
+        active = active[moved != 0.0]
     p = alignment.evaluate(s, miter=False)
     sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
     dn, de = n - p.northing, e - p.easting
