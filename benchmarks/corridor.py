@@ -72,3 +72,40 @@ azimuth = 60.0
                      "backsight_azimuth = 10.0\n")
     path.write_text("".join(parts), encoding="utf-8")
     return path
+
+
+def staked_shots(job: Path, path: Path, shots: int, seed: int = 7) -> Path:
+    """Add ``[check]`` tolerances to a corridor job and write a staked file of ``shots`` invented
+    shots of its stakes (the job must hold at least that many): most within tolerance, about 2 %
+    out, 0.5 % renumbered (matched by position), 0.3 % shot twice, 0.1 % strays far from any stake (unmatched),
+    every third stake without an elevation.
+    """
+    import numpy as np
+
+    from stakeout.pipeline import compute
+
+    with job.open("a", encoding="utf-8") as f:
+        f.write("[check]\nhorizontal_tolerance = 0.05\nvertical_tolerance = 0.03\n")
+    sp = compute(job).stakes
+    rng = np.random.default_rng(seed)
+    twice = shots * 3 // 1000
+    pick = np.sort(rng.choice(len(sp), size=min(shots - twice, len(sp)), replace=False))
+    n, e = sp.northing[pick].copy(), sp.easting[pick].copy()
+    z = np.full(pick.size, np.nan) if sp.elevation is None else sp.elevation[pick].copy()
+    spread = np.where(rng.random(pick.size) < 0.02, 0.2, 0.01)
+    n += rng.normal(0.0, spread)
+    e += rng.normal(0.0, spread)
+    z += rng.normal(0.0, spread)
+    z[::3] = np.nan
+    ids = [str(sp.first_point + int(i)) for i in pick]
+    for k in np.flatnonzero(rng.random(pick.size) < 0.005).tolist():
+        ids[k] = f"R{k}"
+    stray = rng.random(pick.size) < 0.001
+    n[stray] += 500.0
+    for k in np.flatnonzero(stray).tolist():
+        ids[k] = f"S{k}"
+    lines = [f"{p},{a:.3f},{b:.3f},{'' if c != c else f'{c:.3f}'},STK" for p, a, b, c in zip(ids, n, e, z)]
+    again = rng.choice(pick.size, size=min(twice, pick.size), replace=False)
+    lines += [f"{ids[k]},{n[k] + 0.004:.3f},{e[k]:.3f},,STK again" for k in again.tolist()]
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return path

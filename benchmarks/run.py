@@ -17,7 +17,15 @@ measures, on this machine:
 - latency of a small job: a default build of sample_jobs/loop_ramp_usft.toml (every
   default output, plan.svg and report.html included) against `python -c "import numpy,
   pyproj, ezdxf"`, medians of five alternating runs;
-- peak memory of a 1,000,000-point CSV build.
+- peak memory of a 1,000,000-point CSV build;
+- `stakeout check` of 1,000,000 invented shots of a corridor (``--check-shots N`` for another
+  size; 100,000 with ``--quick``): the whole process (time, peak memory), and in one process
+  the time of each step (reading the shots, the design, matching) and of each output with its
+  bytes, and the whole check against matching plus check.csv.
+
+    python benchmarks/run.py --quick --only check --check-shots 1000000
+
+``--only`` runs some parts: engine, spiral, build, dxf, startup, latency, memory, check.
 
 Nothing here is a test: speed is measured, never asserted.
 """
@@ -41,19 +49,19 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 sys.path.insert(0, str(HERE))
 
-from corridor import corridor_job  # noqa: E402
+from corridor import corridor_job, staked_shots  # noqa: E402
 
 PY = sys.executable
 STAKEOUT = [PY, "-m", "stakeout.cli"]
 
 
-def _run(cmd: list[str]) -> tuple[float, int]:
-    """Wall time (s) and peak RSS (KiB) of one child process."""
+def _run(cmd: list[str], ok: tuple[int, ...] = (0,)) -> tuple[float, int]:
+    """Wall time (s) and peak RSS (KiB) of one child process (``ok``: its exit codes that are no failure)."""
     t = time.perf_counter()
     p = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     _, status, usage = os.wait4(p.pid, 0)
     wall = time.perf_counter() - t
-    if os.waitstatus_to_exitcode(status) != 0:
+    if os.waitstatus_to_exitcode(status) not in ok:
         raise SystemExit(f"benchmark command failed: {' '.join(cmd)}")
     return wall, int(usage.ru_maxrss)
 
@@ -203,6 +211,68 @@ def memory(tmp: Path) -> dict[str, float]:
     return {"build_1m_s": wall, "build_1m_peak_mib": rss / 1024}
 
 
+def check(tmp: Path, shots: int) -> dict[str, float]:
+    """``stakeout check`` of ``shots`` invented shots of a corridor of as many stakes: the whole
+    process, then each step and output in one process (as ``pipeline.run_check`` does them)."""
+    from stakeout.check import check_column_order, check_shots, job_control_points
+    from stakeout.design import build_design
+    from stakeout.jobfile import load_job
+    from stakeout.pipeline import check_design, stake_factors
+    from stakeout.shots import parse_columns, read_shots
+    from stakeout.writers.checkreport import check_csv, check_txt
+    from stakeout.writers.html import check_html
+    from stakeout.writers.picture import residual_svg_element
+    from stakeout.writers.tables import restake_csv
+
+    job_path = corridor_job(tmp / "chk.toml", shots)
+    staked = staked_shots(job_path, tmp / "shots.csv", shots)
+    wall, rss = _run([*STAKEOUT, "check", str(job_path), str(staked), "--out", str(tmp / "ochk"), "--force"],
+                     ok=(0, 1))
+    out: dict[str, float] = {"check_shots": shots, "check_process_s": wall, "check_peak_mib": rss / 1024}
+    t = time.perf_counter()
+
+    def lap(name: str) -> None:
+        nonlocal t
+        now = time.perf_counter()
+        out[f"check_{name}_s"] = now - t
+        t = now
+
+    job = load_job(job_path)
+    spec = job.check
+    assert spec is not None and spec.horizontal_tolerance is not None
+    sh = read_shots(staked, parse_columns(None), "auto", columns_given=False)
+    lap("read_shots")
+    d = build_design(job)
+    check_design(d)
+    lap("design")
+    control = job_control_points(job)
+    radius = 10.0 * spec.horizontal_tolerance
+    check_column_order(d.stakes.northing, d.stakes.easting, control, sh, radius, str(staked))
+    r = check_shots(d.alignment, d.stakes, d.design_elevation, sh, spec.horizontal_tolerance,
+                    spec.vertical_tolerance, radius, control, stake_factors(d), spec.ground_codes)
+    lap("matching")
+    sizes = {}
+    sizes["csv"] = len(check_csv(d, sh, r))
+    lap("csv")
+    sizes["txt"] = len(check_txt(d, str(staked), sh, r))
+    lap("txt")
+    residuals = residual_svg_element(d, sh, r, staked.name)
+    lap("residual_svg")
+    sizes["html"] = len(check_html(d, str(staked), sh, r, residuals))
+    lap("html")
+    sizes["restake"] = len(restake_csv(d, r))
+    lap("restake")
+    for k, v in sizes.items():
+        out[f"check_{k}_mib"] = v / 2**20
+    steps = [k for k in out if k.endswith("_s") and k != "check_process_s"]
+    total = sum(out[k] for k in steps)
+    out["check_in_process_s"] = total
+    out["check_vs_matching_and_csv"] = total / (out["check_matching_s"] + out["check_csv_s"])
+    out["check_process_vs_matching_and_csv"] = wall / (out["check_matching_s"] + out["check_csv_s"])
+    out["check_vs_matching"] = total / out["check_matching_s"]
+    return out
+
+
 TARGETS = {
     "engine_points_per_s": (">=", 2e6),
     "inverse_shots_per_s": (">=", 5e5),
@@ -215,23 +285,35 @@ TARGETS = {
     "build_1m_peak_mib": ("<=", 1024),
     "spiral_engine_points_per_s": (">=", 2e6),
     "spiral_inverse_shots_per_s": (">=", 5e5),
+    "check_vs_matching_and_csv": ("<=", 3.0),
+    "check_process_vs_matching_and_csv": ("<=", 3.0),
 }
+
+
+def _option(name: str, default: str) -> str:
+    """The value after ``name`` on the command line, or ``default``."""
+    args = sys.argv[1:]
+    return args[args.index(name) + 1] if name in args and args.index(name) + 1 < len(args) else default
 
 
 def main() -> None:
     quick = "--quick" in sys.argv
     repeat = 1 if quick else 3
+    only = set(_option("--only", "engine,spiral,build,dxf,startup,latency,memory,check").split(","))
+    shots = int(_option("--check-shots", "100000" if quick else "1000000"))
     with tempfile.TemporaryDirectory(prefix="stakeout-bench-") as d:
         tmp = Path(d)
         res: dict[str, float] = {}
-        res.update(engine_and_inverse(tmp))
-        res.update(spiral_engine_and_inverse())
-        res.update(whole_process(tmp, repeat))
-        res.update(dxf(tmp))
-        res.update(startup(3 if quick else 7))
-        res.update(latency(tmp))
-        if not quick:
-            res.update(memory(tmp))
+        parts = {"engine": lambda: engine_and_inverse(tmp), "spiral": spiral_engine_and_inverse,
+                 "build": lambda: whole_process(tmp, repeat), "dxf": lambda: dxf(tmp),
+                 "startup": lambda: startup(3 if quick else 7), "latency": lambda: latency(tmp),
+                 "memory": lambda: {} if quick else memory(tmp), "check": lambda: check(tmp, shots)}
+        unknown = only - parts.keys()
+        if unknown:
+            raise SystemExit(f"--only: unknown part(s) {', '.join(sorted(unknown))}; use {', '.join(parts)}")
+        for name, part in parts.items():
+            if name in only:
+                res.update(part())
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}, "
           f"numpy {np.__version__}")
     print(f"{'figure':<34} {'value':>14}  target")

@@ -36,6 +36,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 from numpy.typing import NDArray
@@ -51,6 +52,7 @@ __all__ = ["CheckResult", "check_shots", "STATUSES", "ControlRow", "job_control_
            "locate_near", "along_across"]
 
 STATUSES = ("ok", "out", "misnumbered", "superseded", "duplicate", "control", "unmatched")
+_STATUS_CODE = {s: i for i, s in enumerate(STATUSES)}
 
 #: A control point as the check takes it: id, northing, easting (job units),
 #: elevation (job units) or ``None``.
@@ -119,14 +121,43 @@ class CheckResult:
         return counts
 
     def needs_attention(self, k: int) -> bool:
-        """Whether shot ``k`` needs a person: out, duplicate, unmatched, or control beyond tolerance."""
-        s = self.status[k]
-        return s in ("out", "misnumbered", "duplicate", "unmatched") or (s == "control" and self.fails[k] != "")
+        """Whether shot ``k`` needs a person: out, misnumbered, duplicate, unmatched, or control beyond
+        tolerance (:attr:`attention`).
+        """
+        return bool(self.attention[k])
+
+    def among(self, statuses: Sequence[str]) -> NDArray[np.bool_]:
+        """Whether each shot's status is one of ``statuses`` (every shot at once)."""
+        out: NDArray[np.bool_] = np.isin(self._status_codes, [_STATUS_CODE[s] for s in statuses])
+        return out
+
+    @cached_property
+    def _status_codes(self) -> NDArray[np.int8]:
+        return np.fromiter(map(_STATUS_CODE.__getitem__, self.status), dtype=np.int8, count=len(self.status))
+
+    @cached_property
+    def attention(self) -> NDArray[np.bool_]:
+        """Whether each shot needs a person: out, misnumbered, duplicate, unmatched, or control beyond
+        tolerance.
+        """
+        fails = np.fromiter(map(bool, self.fails), dtype=bool, count=len(self.fails))
+        beyond: NDArray[np.bool_] = self.among(["control"]) & fails
+        return self.among(["out", "misnumbered", "duplicate", "unmatched"]) | beyond
+
+    @cached_property
+    def within(self) -> NDArray[np.bool_]:
+        """The shots within tolerance: ``ok``, or ``control`` and not beyond tolerance."""
+        return self.among(["ok", "control"]) & ~self.attention
+
+    @cached_property
+    def governing(self) -> NDArray[np.bool_]:
+        """The shots that govern their design point: ``ok`` or ``out``."""
+        return self.among(["ok", "out"])
 
     @property
     def all_ok(self) -> bool:
         """True when no shot needs attention (exit code 0)."""
-        return not any(self.needs_attention(k) for k in range(len(self.status)))
+        return not bool(self.attention.any())
 
 
 def job_control_points(job: Job) -> list[ControlRow]:
@@ -582,24 +613,26 @@ def locate_near(alignment: Alignment, northing: NDArray[np.float64], easting: ND
     n = np.asarray(northing, dtype=np.float64)
     e = np.asarray(easting, dtype=np.float64)
     h = max(1e-6, 1e-9 * max(abs(lo), abs(hi)))
-    along = across = np.zeros(s.size)
-    for _ in range(_NEAR_STEPS):  # one step on every point at once
-        p = alignment.evaluate(s, miter=False)
+    active = np.arange(s.size)  # the points still moving: one that a step left exactly where it was stays there
+    for _ in range(_NEAR_STEPS):  # one step on every moving point at once
+        sa = s[active]
+        p = alignment.evaluate(sa, miter=False)
         sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
-        dn, de = n - p.northing, e - p.easting
+        dn, de = n[active] - p.northing, e[active] - p.easting
         along, across = dn * cs + de * sn, de * cs - dn * sn
-        ahead = np.clip(s + h, lo, hi)
-        behind = np.clip(s - h, lo, hi)
+        ahead = np.clip(sa + h, lo, hi)
+        behind = np.clip(sa - h, lo, hi)
         turn = (alignment.evaluate(ahead, miter=False).azimuth - alignment.evaluate(behind, miter=False).azimuth
                 + 180.0) % 360.0 - 180.0
         width = ahead - behind
         kappa = np.where(width > 0, np.radians(turn) / np.where(width > 0, width, 1.0), 0.0)
         step = along / np.maximum(1.0 - kappa * across, 0.1)
-        new = np.clip(s + step, lo, hi)
-        moved = np.abs(new - s)
-        s = new
-        if not np.any(moved > 1e-10 * (1.0 + np.abs(s))):
+        new = np.clip(sa + step, lo, hi)
+        moved = np.abs(new - sa)
+        s[active] = new
+        if not np.any(moved > 1e-10 * (1.0 + np.abs(new))):
             break
+        active = active[moved != 0.0]
     p = alignment.evaluate(s, miter=False)
     sn, cs = np.sin(np.radians(p.azimuth)), np.cos(np.radians(p.azimuth))
     dn, de = n - p.northing, e - p.easting

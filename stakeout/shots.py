@@ -50,7 +50,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from itertools import chain
+from itertools import chain, repeat
 from pathlib import Path
 
 import numpy as np
@@ -60,7 +60,7 @@ from .delimited import (Source, blank, check_fields, check_header_once, decode_t
                         python_reads, records)
 from .delimited import number as _number
 from .errors import StakedFileError
-from .limits import MAX_HEIGHT, MAX_STAKED_FILE_BYTES, read_regular_file
+from .limits import MAX_FIELD_CHARS, MAX_HEIGHT, MAX_STAKED_FILE_BYTES, read_regular_file
 from .textsafety import describe_char, find_unsafe_char, show_value, unsafe_kind
 
 __all__ = ["Shots", "read_shots", "DELIMITERS", "DEFAULT_COLUMNS", "parse_columns"]
@@ -144,6 +144,79 @@ def _ambiguous_header(name: str, ln: int, names: list[str], given: list[str]) ->
             "if X is the northing")
 
 
+_NOT_NUMBER_CHAR = re.compile(r"[^0-9eE+\-.]")
+
+
+def _numbers_at_once(values: list[str]) -> NDArray[np.float64] | None:
+    """The values as numbers where every one is a number :data:`_NUMBER` takes and finite, else None.
+
+    Over the characters ``0-9 e E + - .`` alone ``float`` takes exactly what :data:`_NUMBER`
+    matches (no ``inf``, ``nan`` or ``_`` can be spelt with them).
+    """
+    if _NOT_NUMBER_CHAR.search("".join(values)) is not None:
+        return None
+    try:
+        v = np.array(list(map(float, values)), dtype=np.float64)
+    except ValueError:
+        return None
+    return v if bool(np.isfinite(v).all()) else None
+
+
+def _columns_at_once(text: str, delim: str, ncols: int, idx: dict[str, int], need: int, skip_first: bool
+                     ) -> tuple[list[str], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], list[str],
+                                list[int]] | None:
+    """The shots of a plain file read a column at a time: no quotes, every record on one line of at
+    most ``MAX_FIELD_CHARS`` characters, every row as wide, ASCII point ids, and every value one the
+    row-by-row reader takes.  None for anything else: the row-by-row reader then reads the file,
+    and names the first thing that is wrong, as it always has.
+
+    Returns
+    -------
+    (point, northing, easting, elevation, description, line) or None
+    """
+    if '"' in text:
+        return None
+    if "\r" in text:  # a CR or CRLF ends a line as LF does (_LINE)
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    lines = text.split("\n")
+    if lines and lines[-1] == "":
+        lines.pop()
+    if max(map(len, lines), default=0) > MAX_FIELD_CHARS:
+        return None
+    kept = [i for i, line in enumerate(lines) if line.replace(delim, "").strip()]  # _blank
+    body = kept[1:] if skip_first else kept
+    if not body:
+        return None
+    rows = [lines[i] for i in body]
+    k = rows[0].count(delim) + 1
+    if not need <= k <= max(ncols, need) or list(map(str.count, rows, repeat(delim))).count(k - 1) != len(rows):
+        return None
+    flat = delim.join(rows).split(delim)
+
+    def column(name: str) -> list[str] | None:
+        j = idx.get(name)
+        return None if j is None or j >= k else list(map(str.strip, flat[j::k]))
+
+    point = column("point")
+    assert point is not None
+    ids = "".join(point)
+    if not all(point) or not (ids.isascii() and ids.isprintable()):  # find_unsafe_char finds nothing
+        return None
+    n, e = (_numbers_at_once(column(c) or []) for c in ("northing", "easting"))
+    if n is None or e is None or np.abs(n).max() > MAX_SHOT_COORDINATE or np.abs(e).max() > MAX_SHOT_COORDINATE:
+        return None
+    z = np.full(len(rows), np.nan)
+    given = column("elevation")
+    if given is not None:
+        has = [i for i, t in enumerate(given) if t]
+        zv = _numbers_at_once([given[i] for i in has])
+        if zv is None or (zv.size and np.abs(zv).max() > MAX_HEIGHT):
+            return None
+        z[has] = zv
+    desc = column("description") or [""] * len(rows)
+    return point, n, e, z, desc, [i + 1 for i in body]
+
+
 def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, delimiter: str = "auto",
                columns_given: bool = False) -> Shots:
     """Read and validate a staked-points file.
@@ -207,6 +280,10 @@ def read_shots(path: str | Path, columns: tuple[str, ...] = DEFAULT_COLUMNS, del
             columns_from = "header"
     idx = {c: i for i, c in enumerate(cols) if c != "skip"}
     need = max(idx["point"], idx["northing"], idx["easting"]) + 1
+    if delim != " ":
+        plain = _columns_at_once(text, delim, len(cols), idx, need, has_header)
+        if plain is not None:
+            return Shots(*plain, encoding, cols, columns_from)
     point: list[str] = []
     north: list[float] = []
     east: list[float] = []

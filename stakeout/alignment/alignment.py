@@ -33,7 +33,8 @@ FEATURE_ORDER = ("POB", "AP", "PT", "ST", "PC", "TS", "PCC", "PRC", "SC", "CS", 
 #: Stations closer than this (job units) are the same station.
 STATION_TOLERANCE = 1e-6
 
-_CHUNK_PAIRS = 2_000_000  # point x element pairs handled at once by the inverse
+_CHUNK_PAIRS = 250_000  # point x element pairs handled at once by the inverse (about 80 MiB of temporaries;
+# 2 million took 650 MiB and ran slower: the temporaries no longer stay in cache)
 
 F = NDArray[np.float64]
 

@@ -78,7 +78,7 @@ def parse_job(data: bytes, path: str = "<job>") -> Job:
         raise JobFileError(f"format = {fmt!r}: unsupported job-file format; this version reads format = 1")
     info = _job_info(top)
     base = Path(path).parent
-    files = DesignFiles(info, base)
+    files = DesignFiles(info, base, _ground_file(top.raw("ground")))
     top.raw("alignment", required=True)
     if several:
         for section in _PER_ALIGNMENT[1:]:
@@ -165,7 +165,7 @@ def _read_shared(top: Table, info: JobInfo, files: DesignFiles, base: Path) -> _
             "setup.azimuth_reference = 'geodetic': needs job.crs (the convergence comes from the CRS)"
         )
     check = read_check(top)
-    ground_read = read_ground(top, base, info.unit.key)
+    ground_read = read_ground(top, base, info.unit.key, files)
     ground, ground_record = ground_read if ground_read is not None else (None, None)
     return _Shared(control, control_files, setup, instrument, scale, check, ground, ground_record)
 
@@ -235,6 +235,19 @@ def _read_alignment_sections(top: Table, head: Job, shared: _Shared, files: Desi
         unapplied_superelevation=unapplied,
         slope_stakes=slope_stakes,
     )
+
+
+def _ground_file(raw: object) -> tuple[str, str | None] | None:
+    """``[ground] landxml`` and ``name`` as given, when they are text (read and checked by
+    :func:`read_ground`; known before the design files are parsed, so that a design file that
+    holds the ground gives its surface in the same pass).
+    """
+    if not isinstance(raw, dict):
+        return None
+    given, name = raw.get("landxml"), raw.get("name")
+    if isinstance(given, str) and (name is None or isinstance(name, str)):
+        return given, name
+    return None
 
 
 def _not_used_once(records: tuple[DesignFile, ...], files: DesignFiles,

@@ -8,8 +8,9 @@ the file's points (:func:`stakeout.landxml.validate_geometry`; attributes are
 cross-checks).  The job file stays the one place that says what is staked.
 
 A file the job names several times (alignment, profile, superelevation,
-control) is parsed once: :class:`DesignFiles` keeps each parse keyed by the
-resolved path and the SHA-256 of its bytes.  Its ``<CoordinateSystem>`` is
+control, and the ground ``<Surface>``) is parsed once: :class:`DesignFiles` keeps each parse keyed
+by the resolved path and the SHA-256 of its bytes; the surface of the job's ``[ground] landxml``,
+when that file is also a design file, is taken in the same pass (:meth:`DesignFiles.surface`).  Its ``<CoordinateSystem>`` is
 compared with the job's ``crs`` once (:func:`stakeout.crs.compare_crs`);
 what the job does not use of it is counted per element name
 (:func:`summarise_not_used`) and reported once per file.
@@ -17,9 +18,10 @@ what the job does not use of it is counted per element name
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import replace
-from typing import TYPE_CHECKING
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from ..alignment.specs import AnchoredSpec, ArcSpec, FixedSpec, LineSpec, SpiralSpec
 from ..errors import JobFileError
@@ -31,6 +33,7 @@ from .reader import Table
 
 if TYPE_CHECKING:
     from ..landxml import XAlignment, XDesign, XElement, XMeasured, XProfile
+    from ..landxml.surface import XSurface, _Surfaces
 
 __all__ = ["read_alignment_file", "read_profile_file", "read_superelevation_file", "LandXMLAlignment",
            "DesignFiles", "summarise_not_used"]
@@ -44,11 +47,17 @@ class DesignFiles:
     code or name pyproj does not resolve) is counted as not used.
     """
 
-    def __init__(self, info: JobInfo, base: Path):
+    def __init__(self, info: JobInfo, base: Path, ground: tuple[str, str | None] | None = None):
+        """``ground``: the job's ``[ground] landxml`` and ``name``, when it gives them (a design file
+        that is this file also takes its surface in the one pass).
+        """
         self.info = info
         self.base = base
         self._parsed: dict[tuple[str, str], XDesign] = {}
         self.crs_unused: dict[str, bool] = {}  # sha256 -> its <CoordinateSystem> could not be compared
+        self.ground = ground
+        self._ground_path = _resolved(self.path(ground[0])) if ground is not None else None
+        self._surfaces: dict[tuple[str, str], _Surfaces] = {}
 
     def path(self, given: str) -> Path:
         p = Path(given)
@@ -56,17 +65,20 @@ class DesignFiles:
 
     def read(self, given: str, key: str) -> XDesign:
         """The parsed file ``given`` (relative to the job file); ``key`` names the job-file key in errors."""
-        import hashlib
-
         from .. import landxml
 
         path = self.path(given)
         try:
             data = read_regular_file(path, "LandXML file", landxml.MAX_FILE_BYTES)
-            cache_key = (str(path.resolve()), hashlib.sha256(data).hexdigest())
+            cache_key = (_resolved(path), hashlib.sha256(data).hexdigest())
             design = self._parsed.get(cache_key)
             if design is None:
-                design = landxml.parse_landxml(data, source=str(path))
+                taker = self._surface_taker(cache_key[0])
+                if taker is None:
+                    design = landxml.parse_landxml(data, source=str(path))
+                else:
+                    design = landxml.parse_landxml(data, source=str(path), surface=taker)
+                    self._surfaces[cache_key] = taker
         except JobFileError as exc:
             raise JobFileError(f"{key} = {given!r}: {exc}") from None
         if cache_key not in self._parsed:
@@ -74,6 +86,31 @@ class DesignFiles:
             self._check_crs(design, key)
             self._parsed[cache_key] = design
         return design
+
+    def _surface_taker(self, resolved: str) -> _Surfaces | None:
+        """A collector of the job's ground surface, when the file at ``resolved`` is the ground's."""
+        if self.ground is None or resolved != self._ground_path:
+            return None
+        from ..landxml.surface import _Surfaces
+
+        given, name = self.ground
+        return _Surfaces(f"ground.landxml = {given!r}", name)
+
+    def surface(self, given: str, name: str | None, unit_key: str, key: str) -> XSurface:
+        """The ground ``<Surface>`` ``name`` of the file ``given``: taken in the pass that parsed the
+        file as a design file when it was one (the same path and bytes), else read on its own.
+        """
+        from ..landxml.records import MAX_FILE_BYTES
+        from ..landxml.surface import parse_surface
+
+        path = self.path(given)
+        data = read_regular_file(path, key, MAX_FILE_BYTES)
+        digest = hashlib.sha256(data).hexdigest()
+        taker = self._surfaces.get((_resolved(path), digest))
+        if taker is not None and taker.want == name and self.ground == (given, name):
+            del data
+            return taker.finish(unit_key, digest)
+        return parse_surface(data, name, unit_key, key)
 
     def parsed(self, sha256: str) -> XDesign | None:
         """The parse of the file with these bytes, if the job read it."""
@@ -96,6 +133,14 @@ class DesignFiles:
         if not same:
             raise JobFileError(f"{key}: the file's <CoordinateSystem> is {shown} but job.crs = {job_crs!r}; "
                                "the design file and the job must be in one CRS")
+
+
+def _resolved(path: Path) -> str:
+    """The path made absolute with links resolved; the path as given where it cannot be."""
+    try:
+        return str(path.resolve())
+    except (OSError, ValueError, RuntimeError):
+        return str(path)
 
 
 def summarise_not_used(kinds: tuple[tuple[str, int], ...] | list[tuple[str, int]]) -> tuple[str, ...]:

@@ -25,6 +25,7 @@ from ..ground import Ground, read_ground_csv
 from ..job import DesignFile
 from ..limits import MAX_HEIGHT, MAX_LENGTH, MAX_STAKED_FILE_BYTES, read_regular_file
 from ..slopestakes import SideSlopes, SlopeStaking
+from .design_file import DesignFiles
 from .reader import Table, check_safe_text
 
 __all__ = ["read_ground", "read_slope_stakes", "GROUND_KEYS", "SLOPE_STAKES_KEYS", "SIDE_KEYS", "MAX_SLOPE"]
@@ -41,7 +42,8 @@ def _path(given: str, base: Path) -> Path:
     return p if p.is_absolute() else base / p
 
 
-def read_ground(top: Table, base: Path, unit_key: str = "m") -> tuple[Ground, DesignFile] | None:
+def read_ground(top: Table, base: Path, unit_key: str = "m", files: DesignFiles | None = None
+                ) -> tuple[Ground, DesignFile] | None:
     """``[ground]``: the existing ground, read and triangulated, and its file's record.
 
     Parameters
@@ -52,6 +54,8 @@ def read_ground(top: Table, base: Path, unit_key: str = "m") -> tuple[Ground, De
         The job file's folder: ``file`` and ``landxml`` are relative to it.
     unit_key : str
         The job's ``units`` (``m``, ``ft``, ``us_ft``): a LandXML surface's must match.
+    files : DesignFiles, optional
+        The job's design files: a surface in one of them was taken when it was parsed.
 
     Returns
     -------
@@ -86,7 +90,10 @@ def read_ground(top: Table, base: Path, unit_key: str = "m") -> tuple[Ground, De
     given = t.text("landxml", required=True)
     assert given is not None
     key = f"ground.landxml = {given!r}"
-    surf = read_surface(_path(given, base), t.text("name"), unit_key, key)
+    if files is not None:
+        surf = files.surface(given, t.text("name"), unit_key, key)
+    else:
+        surf = read_surface(_path(given, base), t.text("name"), unit_key, key)
     ground = Ground.from_faces(surf.n, surf.e, surf.z, surf.faces, f"{key} <Surface name={surf.name!r}>")
     return ground, DesignFile("ground", given, surf.sha256, chosen=surf.name)
 

@@ -64,6 +64,7 @@ import re
 import warnings
 import xml.etree.ElementTree as _ET  # the tree's types only: parsing is defusedxml's
 from collections.abc import Iterator, Sequence
+from typing import Protocol
 
 import defusedxml.ElementTree as _DET
 import numpy as np
@@ -104,7 +105,7 @@ from .records import (
     shown,
 )
 
-__all__ = ["read_landxml", "parse_landxml", "pick_alignment", "pick_profile", "check_units"]
+__all__ = ["read_landxml", "parse_landxml", "pick_alignment", "pick_profile", "check_units", "SurfaceTaker"]
 
 _NEWLINE = b"\n"
 # what the stream keeps of an element (see _Reader.stream)
@@ -157,7 +158,7 @@ def read_landxml(path: str | os.PathLike[str]) -> XDesign:
     return parse_landxml(data, source=p)
 
 
-def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
+def parse_landxml(data: bytes, source: str = "LandXML data", surface: SurfaceTaker | None = None) -> XDesign:
     """Parse LandXML 1.2 from bytes (what :func:`read_landxml` does after reading).
 
     Parameters
@@ -166,6 +167,10 @@ def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
         The document (at most :data:`MAX_FILE_BYTES`).
     source : str
         Name of the file, used in error messages.
+    surface : SurfaceTaker, optional
+        Also shown every element of the same pass (``start`` as it begins, ``end`` as it ends,
+        before it is cleared): a ground ``<Surface>`` in the design file is taken without a
+        second parse.  What it raises stops it, not the parse: it keeps the error.
 
     Returns
     -------
@@ -179,7 +184,7 @@ def parse_landxml(data: bytes, source: str = "LandXML data") -> XDesign:
     paused = gc.isenabled()
     gc.disable()
     try:
-        return _parse(data, source, digest)
+        return _parse(data, source, digest, surface)
     finally:
         if paused:
             gc.enable()
@@ -231,9 +236,9 @@ def _as_parser_can_read(data: bytes, source: str) -> bytes:
     return (head + text[len(data[:m.end()].decode(codec)):]).encode("utf-8")
 
 
-def _parse(data: bytes, source: str, digest: str) -> XDesign:
+def _parse(data: bytes, source: str, digest: str, surface: SurfaceTaker | None = None) -> XDesign:
     data = _as_parser_can_read(data, source)
-    reader = _Reader(source)
+    reader = _Reader(source, surface)
     try:
         root = reader.stream(data)
     except _ET.ParseError as exc:
@@ -267,11 +272,22 @@ def _label(local: str, el: _ET.Element) -> str:
     return f"{local} {name!r}" if name else local
 
 
+class SurfaceTaker(Protocol):
+    """What :func:`parse_landxml` shows every element to (``surface.py``'s collector of a TIN)."""
+
+    error: JobFileError | None
+
+    def start(self, el: _ET.Element) -> None: ...
+
+    def end(self, el: _ET.Element) -> None: ...
+
+
 class _Reader:
     """One pass over a parsed document."""
 
-    def __init__(self, source: str) -> None:
+    def __init__(self, source: str, surface: SurfaceTaker | None = None) -> None:
         self.source = source
+        self.surface = surface
         self.ns = ""
         self.angular = "radians"
         self.angular_declared = True
@@ -297,8 +313,15 @@ class _Reader:
         done: list[int] = []  # children already ended and consumed, at the front of each open element
         top = 0
         root: _ET.Element | None = None
+        taker = self.surface
         for event, el in _DET.iterparse(io.BytesIO(data), events=("start", "end"), forbid_dtd=True,
                                         forbid_entities=True, forbid_external=True):
+            if taker is not None:
+                try:
+                    (taker.start if event == "start" else taker.end)(el)
+                except JobFileError as exc:  # the surface's own error, for when the ground is read
+                    taker.error = exc
+                    taker = None
             if event == "start":
                 if root is None:
                     root = el

@@ -146,68 +146,102 @@ def describe_surfaces(data: bytes, unit_key: str, where: str = "LandXML file") -
 
 
 class _Surfaces:
+    """The surfaces of one file, taken element by element as a stream ends them.
+
+    :meth:`start` and :meth:`end` see every element of the document in order (:meth:`end`
+    before the element is cleared), by :meth:`read`'s own pass or by the design reader's
+    (:func:`stakeout.landxml.parse_landxml` with ``surface=``: a file that holds the job's
+    alignment and its ground is parsed once); :meth:`finish` then checks what was taken
+    and builds the surface.
+    """
+
     def __init__(self, where: str, name: str | None) -> None:
         self.where = where
         self.want = name
         self.surfaces: list[str] = []
+        self.stack: list[_ET.Element] = []
+        self.names: list[str] = []  # the open elements' local names ("#other" outside the namespace)
+        self.units: list[tuple[str, str]] = []
+        self.taking = False  # inside the surface chosen
+        self.chosen: str | None = None
+        self.surf_type: str | None = None
+        self.pid: list[str] = []
+        self.ptxt: list[str] = []
+        self.ftxt: list[str] = []
+        self.invisible = 0
+        self.ns = ""
+        #: What stopped the taking in a design reader's pass (raised by :meth:`finish`).
+        self.error: JobFileError | None = None
 
     def err(self, what: str) -> JobFileError:
         return JobFileError(f"{self.where}: {what}")
 
+    def start(self, el: _ET.Element) -> None:
+        """An element begins."""
+        e_ns, local = _split(el.tag)
+        names = self.names
+        if not self.stack:
+            if local != "LandXML" or e_ns not in ("", LANDXML_NS):
+                shown_tag = f"{{{e_ns}}}{local}" if e_ns else local
+                raise self.err(f"root element {shown_tag!r} is not <LandXML> of LandXML 1.2 ({LANDXML_NS})")
+            self.ns = e_ns
+        ns = self.ns
+        if e_ns == ns and local == "Surface" and names[-1:] == ["Surfaces"] and len(names) == 2:
+            nm = el.get("name", "")
+            self.surfaces.append(nm)
+            self.taking = (nm == self.want) if self.want is not None else self.chosen is None
+            if self.taking:
+                if self.chosen is not None and self.want is not None:
+                    raise self.err(f"two <Surface name={shown(nm)!r}>; name the one to read uniquely")
+                self.chosen = nm
+        if self.taking and e_ns == ns and local == "Definition" and names[-1:] == ["Surface"]:
+            self.surf_type = el.get("surfType", "")
+        self.stack.append(el)
+        names.append(local if e_ns == ns else "#other")
+
+    def end(self, el: _ET.Element) -> None:
+        """An element ends (its text and attributes still there)."""
+        e_ns, local = _split(el.tag)
+        self.stack.pop()
+        names = self.names
+        names.pop()
+        ns = self.ns
+        if e_ns != ns:
+            return
+        if local in ("Metric", "Imperial") and names[-1:] == ["Units"] and len(names) == 2:
+            self.units.append((local, el.get("linearUnit", "")))
+        elif self.taking and local == "P" and names[-2:] == ["Definition", "Pnts"]:
+            self.pid.append(el.get("id", ""))
+            self.ptxt.append(el.text or "")
+        elif self.taking and local == "F" and names[-2:] == ["Definition", "Faces"]:
+            if el.get("i", "0").strip() in ("1", "true"):
+                self.invisible += 1
+            else:
+                self.ftxt.append(el.text or "")
+        elif local == "Surface" and names[-1:] == ["Surfaces"]:
+            self.taking = False
+
     def read(self, data: bytes, job_unit_key: str, digest: str) -> XSurface:
-        stack: list[_ET.Element] = []
-        names: list[str] = []  # the open elements' local names ("#other" outside the namespace)
-        units: list[tuple[str, str]] = []
-        taking = False  # inside the surface chosen
-        chosen: str | None = None
-        surf_type: str | None = None
-        pid: list[str] = []
-        ptxt: list[str] = []
-        ftxt: list[str] = []
-        invisible = 0
-        ns = ""
+        stack = self.stack
         for event, el in _DET.iterparse(io.BytesIO(data), events=("start", "end"), forbid_dtd=True,
                                         forbid_entities=True, forbid_external=True):
-            e_ns, local = _split(el.tag)
             if event == "start":
-                if not stack:
-                    if local != "LandXML" or e_ns not in ("", LANDXML_NS):
-                        shown_tag = f"{{{e_ns}}}{local}" if e_ns else local
-                        raise self.err(f"root element {shown_tag!r} is not <LandXML> of LandXML 1.2 ({LANDXML_NS})")
-                    ns = e_ns
-                if e_ns == ns and local == "Surface" and names[-1:] == ["Surfaces"] and len(names) == 2:
-                    nm = el.get("name", "")
-                    self.surfaces.append(nm)
-                    taking = (nm == self.want) if self.want is not None else chosen is None
-                    if taking:
-                        if chosen is not None and self.want is not None:
-                            raise self.err(f"two <Surface name={shown(nm)!r}>; name the one to read uniquely")
-                        chosen = nm
-                if taking and e_ns == ns and local == "Definition" and names[-1:] == ["Surface"]:
-                    surf_type = el.get("surfType", "")
-                stack.append(el)
-                names.append(local if e_ns == ns else "#other")
+                self.start(el)
                 continue
-            stack.pop()
-            names.pop()
-            parent = stack[-1] if stack else None
-            if e_ns == ns and local in ("Metric", "Imperial") and names[-1:] == ["Units"] and len(names) == 2:
-                units.append((local, el.get("linearUnit", "")))
-            elif taking and e_ns == ns and local == "P" and names[-2:] == ["Definition", "Pnts"]:
-                pid.append(el.get("id", ""))
-                ptxt.append(el.text or "")
-            elif taking and e_ns == ns and local == "F" and names[-2:] == ["Definition", "Faces"]:
-                if el.get("i", "0").strip() in ("1", "true"):
-                    invisible += 1
-                else:
-                    ftxt.append(el.text or "")
-            elif e_ns == ns and local == "Surface" and names[-1:] == ["Surfaces"]:
-                taking = False
-            if parent is not None and len(stack) >= 2:
+            self.end(el)
+            if len(stack) >= 2:
+                parent = stack[-1]
                 el.clear()
-                if names[-1:] in (["Pnts"], ["Faces"]) and len(parent) > 4096:
+                if self.names[-1:] in (["Pnts"], ["Faces"]) and len(parent) > 4096:
                     del parent[:]  # every point or face so far has ended and been taken: they leave the tree
-        return self.build(units, job_unit_key, chosen, surf_type, pid, ptxt, ftxt, invisible, digest)
+        return self.finish(job_unit_key, digest)
+
+    def finish(self, job_unit_key: str, digest: str) -> XSurface:
+        """The surface taken, checked against the job's units (see :func:`read_surface`)."""
+        if self.error is not None:
+            raise self.error
+        return self.build(self.units, job_unit_key, self.chosen, self.surf_type, self.pid, self.ptxt, self.ftxt,
+                          self.invisible, digest)
 
     def build(self, units: list[tuple[str, str]], job_unit_key: str, chosen: str | None, surf_type: str | None,
               pid: list[str], ptxt: list[str], ftxt: list[str], invisible: int, digest: str) -> XSurface:

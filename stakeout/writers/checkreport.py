@@ -3,17 +3,21 @@
 from __future__ import annotations
 
 import math
+import os
 import textwrap
+from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..check import CheckResult
 from ..design import Design
 from ..shots import Shots
 from .checkwords import (LISTED_SHOTS, NOT_STAKED_LISTED, cut_fill, design_point_id, listed_shots, move_decimals,
                          move_text, shot_alignments, shot_label, shot_stations, status_text, target_id, what_to_do)
-from .csvtext import DECIMALS, csv_text, csv_text_field
+from . import rows
+from .csvtext import DECIMALS, FORMULA_LEADS, csv_text_field
 from .text import WIDE, WIDTH, Column, SheetPart, clip, finite_or_empty, paged_parts, table_lines
 
 __all__ = ["CHECK_COLUMNS", "check_csv", "check_txt", "cut_fill", "status_text",
@@ -41,21 +45,108 @@ def check_csv(d: Design, shots: Shots, r: CheckResult) -> bytes:
     ``fails`` names the tolerance an ``out`` or ``control`` shot fails;
     ``governing_line`` is, for a ``superseded`` or ``duplicate`` shot, the
     line of the shot that governs its design point.
+
+    Built from whole columns (:mod:`.rows`): each text column is joined and
+    encoded once, numbers are laid out as digits by numpy, rows are rendered
+    in blocks (:func:`.rows.row_chunks`) on every core.
     """
+    n = len(shots)
+    head = (",".join(CHECK_COLUMNS) + "\n").encode("ascii")
+    if n == 0:
+        return head
+    point = _csv_strings(shots.point)
+    target = _Targets(d, r)
+    words = [rows.Strings(r.status), rows.Strings(r.matched_by), rows.Strings(r.fails)]
+    line = np.asarray(shots.line, dtype=np.int64)
+    g = np.asarray(r.related, dtype=np.int64)
+    names = _csv_strings(shot_alignments(d, r))  # '' where no design point: control and unmatched shots
     station = shot_stations(d, r)
-    names = [csv_text_field(a) for a in shot_alignments(d, r)]
-    out = []
-    for k in range(len(shots)):
-        g = int(r.related[k])
-        out.append(",".join([
-            csv_text_field(shots.point[k]), csv_text_field(target_id(d, r, k)), _f(float(station[k])),
-            _f(r.offset[k]), _f(r.d_northing[k]), _f(r.d_easting[k]), _f(r.horizontal_error[k]),
-            _f(r.d_station[k]), _f(r.d_offset[k]), _f(r.d_elevation[k]), r.status[k], r.matched_by[k],
-            _f(shots.northing[k]), _f(shots.easting[k]), str(shots.line[k]), r.fails[k],
-            str(shots.line[g]) if g >= 0 else "",
-            _f(r.d_along[k]), _f(r.d_across[k]), names[k],
-        ]))
-    return csv_text(CHECK_COLUMNS, out).encode("utf-8")
+    first = [station, r.offset, r.d_northing, r.d_easting, r.horizontal_error, r.d_station, r.d_offset,
+             r.d_elevation]
+
+    def num(v: NDArray[np.float64], sl: slice) -> rows.Field:
+        try:
+            return rows.optional(v[sl], DECIMALS)
+        except ValueError:  # a number beyond the digit tables (over 1e13): Python's own formatting
+            return rows.Strings([_f(x) for x in v[sl].tolist()]).field(slice(None))
+
+    def chunk(bounds: tuple[int, int]) -> bytes:
+        sl = slice(*bounds)
+        k = bounds[1] - bounds[0]
+        sep = rows.const(",", k)
+        gov = g[sl]
+        fields = [point.field(sl), sep, *target.fields(sl), sep]
+        for v in first:
+            fields += [num(v, sl), sep]
+        status, matched_by, fails = (w.field(sl) for w in words)
+        fields += [status, sep, matched_by, sep, num(shots.northing, sl), sep, num(shots.easting, sl), sep,
+                   rows.integer(line[sl]), sep, fails, sep,
+                   rows.blank(rows.integer(np.where(gov >= 0, line[gov], 0)), gov < 0), sep,
+                   num(r.d_along, sl), sep, num(r.d_across, sl), sep, names.field(sl)]
+        return rows.join_rows(fields, k)
+
+    blocks = rows.row_chunks(point.lens + target.lens(), _CHUNK_ROWS)
+    if len(blocks) < 2:
+        return head + b"".join(map(chunk, blocks))
+    with ThreadPoolExecutor(max_workers=min(4, os.cpu_count() or 1)) as pool:  # numpy releases the GIL
+        return head + b"".join(pool.map(chunk, blocks))
+
+
+_CSV_LEADS = "".join(FORMULA_LEADS).encode("ascii")
+_CSV_QUOTED = b',"\r\n'
+
+
+def _csv_strings(strings: list[str]) -> rows.Strings:
+    """A text column of a CSV file: each string as :func:`csv_text_field` writes it (only the few
+    that need a guard or quotes go through it).
+    """
+    col = rows.Strings(strings)
+    odd = col.rows_holding(_CSV_LEADS, _CSV_QUOTED)
+    if odd.size:
+        strings = list(strings)
+        for k in odd.tolist():
+            strings[k] = csv_text_field(strings[k])
+        col = rows.Strings(strings)
+    return col
+
+
+class _Targets:
+    """check.csv's ``design_point``: the design point's id (prefix and number) or the control point's."""
+
+    def __init__(self, d: Design, r: CheckResult):
+        sp = d.stakes
+        self.design = np.asarray(r.design_index, dtype=np.int64)
+        self.control = np.asarray(r.control_index, dtype=np.int64)
+        self.number = sp.first_point + self.design
+        self.prefix = np.frombuffer(sp.prefix.encode("utf-8"), dtype=np.uint8)
+        self.strings: rows.Strings | None = None
+        on = self.design >= 0
+        plain = csv_text_field(sp.prefix + "0") == sp.prefix + "0" and (sp.prefix != "" or
+                                                                         not np.any(self.number[on] < 0))
+        # several alignments, or ids the job gave (listed points): each id as written, not a number
+        plain = plain and not d.parts and not (sp.layout is not None and sp.layout.names)
+        if not plain:  # a prefix that takes a guard or quotes: every id through csv_text_field
+            self.strings = _csv_strings([target_id(d, r, k) for k in range(len(r.status))])
+            return
+        self.ids = _csv_strings(list(r.control_ids))
+        digits = np.floor(np.log10(np.maximum(np.abs(self.number), 1))).astype(np.int64) + 1
+        self.width = np.where(on, self.prefix.size + digits + (self.number < 0),
+                              np.append(self.ids.lens, 0)[self.control])  # -1: none, 0 bytes
+
+    def lens(self) -> NDArray[np.int64]:
+        """Bytes of each shot's id (about: for sizing blocks of rows)."""
+        return self.strings.lens if self.strings is not None else self.width
+
+    def fields(self, sl: slice) -> list[rows.Field]:
+        if self.strings is not None:
+            return [self.strings.field(sl)]
+        i, c = self.design[sl], self.control[sl]
+        k = i.size
+        design, control = i >= 0, (i < 0) & (c >= 0)
+        return [rows.blank(np.broadcast_to(self.prefix, (k, self.prefix.size)), ~design),
+                rows.blank(rows.integer(np.where(design, self.number[sl], 0)), ~design),
+                rows.blank(self.ids.field(np.where(control, c, 0)), ~control) if len(self.ids.lens) else
+                np.zeros((k, 0), dtype=np.uint8)]
 
 
 #: Longest shot or design id printed whole on check.txt (check.csv keeps every id whole).
@@ -112,9 +203,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
            "",
            f"shots {len(shots)}:  " + "   ".join(f"{s} {c}" for s, c in counts.items()),
            ]
-    governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
-    hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
-    dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
+    hz = r.horizontal_error[r.governing & np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[r.governing & np.isfinite(r.d_elevation)]
     out.append(f"worst horizontal error {_fit(float(hz.max()), 20, 4)}" if hz.size else "worst horizontal error -")
     out.append(f"worst vertical error {_fit(float(np.abs(dz).max()), 20, 4)}" if dz.size
                else "worst vertical error - (no elevations to compare)")
@@ -122,7 +212,6 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     out.append("")
 
     with_grade = d.design_elevation is not None
-    marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
 
     def target(k: int) -> str:
         t = target_id(d, r, k)
@@ -146,8 +235,10 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
         if np.isfinite(r.d_elevation[ks]).any():  # no column of blanks where no shot has a height
             cols.append(Column("d elev", [_fit(r.d_elevation[k], 7, 3) for k in ks]))
         if with_grade:
+            marks = cut_fill(r.d_elevation[ks], 2 if unit.is_feet else 3)
             cols.append(Column("mark", ["" if r.status[k] == "control" else
-                                        _short_mark(marks[k], float(r.d_elevation[k])) for k in ks], "<"))
+                                        _short_mark(mark, float(r.d_elevation[k])) for k, mark in zip(ks, marks)],
+                               "<"))
         status = [status_text(r, k) for k in ks]
         if with_status:
             cols.append(Column("status", status, "<"))
@@ -178,10 +269,8 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
          {k: what_to_do(d, shots, r, k) for k in superseded}),
     )
     parts: list[SheetPart] = []
-    shown_counts = {"WITHIN TOLERANCE": sum(1 for k in range(len(shots)) if r.status[k] in ("ok", "control")
-                                            and not r.needs_attention(k)),
-                    "SUPERSEDED": counts["superseded"],
-                    "NEEDS ATTENTION": sum(1 for k in range(len(shots)) if r.needs_attention(k))}
+    shown_counts = {"WITHIN TOLERANCE": int(r.within.sum()), "SUPERSEDED": counts["superseded"],
+                    "NEEDS ATTENTION": int(r.attention.sum())}
     for name, ks, with_status, extra in sections:
         total = next(v for key, v in shown_counts.items() if name.startswith(key))
         if not total and name.startswith("SUPERSEDED"):
@@ -215,7 +304,7 @@ def check_txt(d: Design, staked_path: str, shots: Shots, r: CheckResult, wide: b
     if with_grade:
         foot += ["mark: the cut or fill to write on the stake,",
                  "  C where the shot is above design, F below"]
-    if any(len(p) > ID_PRINTED for p in shots.point):
+    if max(map(len, shots.point), default=0) > ID_PRINTED:
         foot.append(f"~: the end of a shot id cut to {ID_PRINTED} characters (check.csv holds it whole)")
     foot += [
         "move: from where the stake was shot to design, looking up-station: ahead/back",

@@ -176,9 +176,9 @@ def listed_shots(r: CheckResult) -> tuple[list[int], list[int], list[int], str]:
     (file order), and a note of what is left out (empty when everything is listed).
     """
     m = len(r.status)
-    attention = [k for k in range(m) if r.needs_attention(k)]
+    attention = np.flatnonzero(r.attention).tolist()
     if m <= LISTED_SHOTS:
-        fine = [k for k in range(m) if r.status[k] in ("ok", "control") and not r.needs_attention(k)]
+        fine = np.flatnonzero(r.within).tolist()
         superseded = [k for k in range(m) if r.status[k] == "superseded"]
         return attention, fine, superseded, ""
     more = len(attention) - LISTED_SHOTS

@@ -567,14 +567,13 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
     counts = r.counts()
     count_text = ", ".join(f"{s} {c}" for s, c in counts.items())
     attention, fine, superseded, left_out = listed_shots(r)
-    n_attention = sum(1 for k in range(n) if r.needs_attention(k))
-    n_fine = sum(1 for k in range(n) if r.status[k] in ("ok", "control") and not r.needs_attention(k))
+    n_attention = int(r.attention.sum())
+    n_fine = int(r.within.sum())
     verdict = ('<div class="verdict ok">ALL WITHIN TOLERANCE</div>' if r.all_ok else
                f'<div class="verdict bad">NEEDS ATTENTION: {n_attention} of {n} shots '
                "(see the first table)</div>") + (f"<p>{_e(left_out)}</p>" if left_out else "")
-    governing = np.isin(np.array(r.status, dtype=object), ["ok", "out"])
-    hz = r.horizontal_error[governing & np.isfinite(r.horizontal_error)]
-    dz = r.d_elevation[governing & np.isfinite(r.d_elevation)]
+    hz = r.horizontal_error[r.governing & np.isfinite(r.horizontal_error)]
+    dz = r.d_elevation[r.governing & np.isfinite(r.d_elevation)]
     facts = [("job", job.info.name), ("job file", f"{Path(job.path).name}  sha256 {job.sha256}"),
              ("staked file", f"{name}  ({shots.encoding})"), ("units", unit.label),
              ("tolerances", f"horizontal {r.horizontal_tolerance:.4f}   vertical "
@@ -588,7 +587,8 @@ def check_html(d: Design, staked_path: str, shots: "Shots", r: "CheckResult", re
              ("to set again (restake.csv)", f"{r.restake.size}: out of tolerance "
                                             f"{r.restake.size - r.not_staked.size}, not staked {r.not_staked.size}")]
     with_grade = d.design_elevation is not None
-    marks = cut_fill(r.d_elevation, 2 if unit.is_feet else 3)
+    listed = attention + fine + superseded  # marks of the shots listed only
+    marks = dict(zip(listed, cut_fill(r.d_elevation[listed], 2 if unit.is_feet else 3)))
     cols = [("shot", "t"), ("design", "t"), ("station", "n"), ("offset", "n"), ("horiz", "n"), ("d along", "n"),
             ("d across", "n"), ("d elev", "n")] + ([("mark", "t")] if with_grade else []) + [("status", "t")]
     def row(k: int, note: bool) -> list[Cell]:

@@ -6,7 +6,10 @@ NUL bytes; :func:`join_rows` lays fields side by side, ends each row with
 ``\\n`` and drops the padding.  Numbers are rounded once, in units of their
 last printed digit, by the one rule of :mod:`stakeout.numbers` (the exact
 binary value, half to even: what ``f"{v:.4f}"`` prints), so a value never
-prints as ``-0.0000`` and carries are exact.
+prints as ``-0.0000`` and carries are exact.  Text of any script and length
+(ids read from a file) is a :class:`Strings` column: joined and encoded as
+UTF-8 once, taken out a block of rows at a time; :func:`row_chunks` sizes the
+blocks so that a few very long texts do not widen every field.
 """
 
 from __future__ import annotations
@@ -19,7 +22,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
-           "station"]
+           "station", "optional", "Strings", "row_chunks"]
 
 Field = NDArray[np.uint8]
 _LIMIT = 10**17  # largest scaled value handled exactly
@@ -191,3 +194,76 @@ def station(values: ArrayLike, station_length: int, decimals: int) -> Field:
     if decimals:
         parts += [const(".", n), integer(rem % scale, decimals, True)]
     return np.hstack([np.broadcast_to(p, (n, p.shape[1])) for p in parts])
+
+
+def optional(values: ArrayLike, decimals: int) -> Field:
+    """Numbers as :func:`fixed`, an empty field where a value is NaN or infinite."""
+    x = np.asarray(values, dtype=float).ravel()
+    finite = np.isfinite(x)
+    return blank(fixed(np.where(finite, x, 0.0), decimals), ~finite)
+
+
+class Strings:
+    """A column of text of any length and script (UTF-8), taken out a block of rows at a time.
+
+    The strings are joined once (``NUL`` between them, so no string may hold one) and encoded
+    once; :meth:`field` lays the rows asked for into a field as wide as the widest of them.
+    """
+
+    def __init__(self, strings: Sequence[str]):
+        self.n = len(strings)
+        buf = np.frombuffer("\0".join(strings).encode("utf-8"), dtype=np.uint8)
+        ends = np.flatnonzero(buf == 0)
+        if ends.size != max(0, self.n - 1):
+            raise ValueError("a NUL character in a vectorised text field")
+        self.buf = buf
+        ends = np.append(ends, buf.size)[: self.n]
+        self.starts = np.concatenate([np.zeros(min(1, self.n), dtype=np.int64), ends[:-1] + 1])
+        #: Bytes of each row's text.
+        self.lens = ends - self.starts
+
+    def rows_holding(self, first: bytes, anywhere: bytes) -> NDArray[np.intp]:
+        """The rows whose text starts with a byte of ``first`` or holds a byte of ``anywhere`` (ASCII bytes)."""
+        hit = np.zeros(self.n, dtype=bool)
+        if self.buf.size == 0:
+            return np.flatnonzero(hit)
+        if first:
+            lead = self.buf[np.minimum(self.starts, self.buf.size - 1)]
+            hit |= (self.lens > 0) & np.isin(lead, np.frombuffer(first, dtype=np.uint8))
+        if anywhere:
+            at = np.flatnonzero(np.isin(self.buf, np.frombuffer(anywhere, dtype=np.uint8)))
+            hit[np.searchsorted(self.starts, at, side="right") - 1] = True
+        return np.flatnonzero(hit)
+
+    def field(self, which: slice | NDArray[np.intp]) -> Field:
+        """The rows ``which`` (a slice, or row indices) as a field."""
+        starts, lens = self.starts[which], self.lens[which]
+        k = starts.size
+        out = np.zeros((k, int(lens.max()) if k else 0), dtype=np.uint8)
+        if out.size:
+            row = np.repeat(np.arange(k), lens)
+            col = np.arange(row.size) - np.repeat(np.cumsum(lens) - lens, lens)
+            out[row, col] = self.buf[np.repeat(starts, lens) + col]
+        return out
+
+
+def row_chunks(width: NDArray[np.int64], rows: int = 16384, budget: int = 16384 * 256) -> list[tuple[int, int]]:
+    """Blocks ``(start, stop)`` of at most ``rows`` rows covering ``width.size`` rows in order, each
+    kept to about ``budget`` bytes of rows x its widest row (``width``: each row's bytes of text),
+    so that a few very long texts do not widen every field of a large block.
+    """
+    n = width.size
+    step = 256
+    heads = np.arange(0, n, step)
+    widest = np.maximum.reduceat(width, heads).tolist() if n else []
+    out = []
+    s0, top = 0, 0
+    for b, w in zip(heads.tolist(), widest):
+        end = min(b + step, n)
+        if b > s0 and (end - s0 > rows or (end - s0) * max(top, w, 1) > budget):
+            out.append((s0, b))
+            s0, top = b, 0
+        top = max(top, w)
+    if s0 < n:
+        out.append((s0, n))
+    return out
