@@ -216,6 +216,20 @@ class Design:
         return self.job.info.unit
 
     @property
+    def occupations(self) -> tuple[Occupation, ...]:
+        """The setups (none without a ``[setup]``); with several alignments each one's stake count and
+        farthest sight over every alignment.
+        """
+        if self.setup is None:
+            return ()
+        own = [p.setup for p in self.parts if p.setup is not None]
+        if not own:
+            return self.setup.occupations
+        return tuple(replace(o, stake_count=sum(sd.occupations[i].stake_count for sd in own),
+                             farthest_sight=max(sd.occupations[i].farthest_sight for sd in own))
+                     for i, o in enumerate(self.setup.occupations))
+
+    @property
     def design_elevation(self) -> np.ndarray | None:
         """Design elevation of every stake, or ``None`` when the job gives none."""
         return self.stakes.elevation

@@ -218,10 +218,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     notes.insert(0, f"wrote {len(outputs)} file(s) for {count} points{several} to {out}")
     notes[1:1] = folder.litter_notes
     if d.parts and d.setup is not None:  # the setups serve every alignment: one summary, stakes counted over all
-        merged = replace(d.setup, occupations=tuple(
-            replace(o, stake_count=sum(p.setup.occupations[i].stake_count for p in d.parts if p.setup is not None),
-                    farthest_sight=max(p.setup.occupations[i].farthest_sight for p in d.parts if p.setup is not None))
-            for i, o in enumerate(d.setup.occupations)))
+        merged = replace(d.setup, occupations=d.occupations)
         notes.extend(n for n in setup_notes(replace(d, setup=merged)) if n.startswith(("setups:", "  ")))
     for part in d.parts or (d,):
         named = f"alignment {part.alignment.name}: " if d.parts else ""

@@ -65,7 +65,7 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
                 "scale_factor": o.scale.scale_factor, "elevation_factor": o.scale.elevation_factor,
                 "convergence_deg": o.scale.convergence, "stakes": o.stake_count, "farthest_sight": o.farthest_sight,
             }.items() if v is not None}
-            for o in sd.occupations
+            for o in d.occupations  # with several alignments: stakes over all of them
         ]
     spec = d.job.instrument
     if spec is not None and sd is not None and sd.precision is not None:
