@@ -193,7 +193,7 @@ OUTPUTS: tuple[Output, ...] = (
            "exchange:alignment_xml", several="whole"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf, several="whole"),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
-           _picture, several="pictures"),
+           _picture, several="whole"),
     Output("report", "report.html", "the printable report: header, curves, plan, setout, deflections, sign-off",
            _report, several="documents"),
     Output("preview", "plan.png", "a raster preview of plan.dxf (matplotlib; only when named)", _preview,

@@ -233,3 +233,17 @@ def test_check_matches_shots_on_every_alignment(tmp_path):
             assert float(x["offset"]) == pytest.approx(float(sts[p]["offset"]), abs=0.01)
     restake = _rows((tmp_path / "chk" / "restake.csv").read_text(encoding="utf-8"))
     assert len(restake) == len(sts) - 4 and {"5", "503", "905", "907"}.isdisjoint(r["point"] for r in restake)
+
+
+def test_one_plan_picture_with_every_alignment(tmp_path):
+    from lxml import etree
+
+    files = _build(tmp_path, HEAD + CONTROL + "".join(_alignment(*r) for r in ROADS), "all", "picture")
+    root = etree.fromstring(files["plan.svg"].encode("utf-8"))  # well-formed (lxml)
+    svg = "{http://www.w3.org/2000/svg}"
+    assert root.find(f"{svg}title").text == "Plan of MAIN, RAMP-A, LOOP-B: Interchange test"
+    assert len([e for e in root.iter(f"{svg}svg")]) == 1  # one sheet, not one per alignment
+    centrelines = [e for e in root.iter(f"{svg}path") if e.get("class") == "so-cl"]
+    assert len(centrelines) == 3
+    texts = "".join(root.itertext())
+    assert "alignments MAIN, RAMP-A, LOOP-B" in texts and "3 alignments" in texts

@@ -40,17 +40,19 @@ class _Ticks:
 
 def plan_svg_element(d: Design) -> str:
     """The plan picture as an ``<svg>`` element (no XML declaration), for the
-    file and for inlining into ``report.html``.
+    file and for inlining into ``report.html``; with several alignments every
+    one in the one view (the control and setups once).
 
     Drawn in this order, each part keeping its marks free of the labels placed after it:
     the tangents and PIs, the alignment and offset lines, the station ticks, the stakes,
     the key points, the control points; then the labels, most important first (control,
     station equations, stations, key points, PIs, point numbers); then the panel.
     """
-    job, a, sp, stn = d.job, d.alignment, d.stakes, d.stationing
-    unit = d.unit
-    pis = [c for c in a.curves if c.pi_northing is not None and c.pi_easting is not None]
-    v = _plan_view(d, pis)
+    parts = d.parts or (d,)
+    job, unit = d.job, d.unit
+    pis_of = [[c for c in p.alignment.curves if c.pi_northing is not None and c.pi_easting is not None]
+              for p in parts]
+    v = _plan_view(d, [c for pis in pis_of for c in pis])
     clip = "so-plan-clip"
     layer = Layer(Labeller())
     lab = layer.lab
@@ -59,53 +61,62 @@ def plan_svg_element(d: Design) -> str:
     # corners kept for the north arrow and the scale bar
     lab.block([[x1 - 34, y0, x1, y0 + 66], [x0, y1 - 34, x0 + 300, y1]])
 
-    tang, pi_marks, px, py = _tangents(d, v, lab, pis)
-    body.append(f'<g clip-path="url(#{clip})">')
-    if tang:
-        body.append(f'<path class="so-tangent" d="{"".join(tang)}" fill="none" stroke="{TANGENT_COLOUR}" '
-                    'stroke-width="0.7" '
-                    'stroke-dasharray="6,3"/>')
-    body.append("</g>")
-    body.append(alignment_lines(d, v, clip))
+    drawn = []
+    for p, pis in zip(parts, pis_of):
+        a = p.alignment
+        tang, pi_marks, px, py = _tangents(p, v, lab, pis)
+        body.append(f'<g clip-path="url(#{clip})">')
+        if tang:
+            body.append(f'<path class="so-tangent" d="{"".join(tang)}" fill="none" stroke="{TANGENT_COLOUR}" '
+                        'stroke-width="0.7" '
+                        'stroke-dasharray="6,3"/>')
+        body.append("</g>")
+        body.append(alignment_lines(p, v, clip))
 
-    offs = np.array([o for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
-    left_px, right_px = max(0.0, -offs.min()) * v.scale, max(0.0, offs.max()) * v.scale
-    ticks = _station_ticks(d, v, left_px, right_px)
-    body.append(f'<path d="{ticks.path}" stroke="#222" stroke-width="0.7" fill="none"/>')
-    # labels keep off the lines and the ticks
-    along = np.append(np.arange(a.start_station, a.end_station, 0.8 / v.scale), a.end_station)
-    for o in np.unique(offs).tolist():
-        ln_, le_, _ = a.evaluate(along, o, miter=False)
-        lab.block_polyline(v.x(le_), v.y(ln_))
-    for tx_, ty_ in ticks.lines:
-        lab.block_polyline(tx_, ty_)
+        offs = np.array([o for ol in p.job.staking.offsets for o in ol.all_offsets()] + [0.0])
+        left_px, right_px = max(0.0, -offs.min()) * v.scale, max(0.0, offs.max()) * v.scale
+        ticks = _station_ticks(p, v, left_px, right_px)
+        body.append(f'<path d="{ticks.path}" stroke="#222" stroke-width="0.7" fill="none"/>')
+        # labels keep off the lines and the ticks
+        along = np.append(np.arange(a.start_station, a.end_station, 0.8 / v.scale), a.end_station)
+        for o in np.unique(offs).tolist():
+            ln_, le_, _ = a.evaluate(along, o, miter=False)
+            lab.block_polyline(v.x(le_), v.y(ln_))
+        for tx_, ty_ in ticks.lines:
+            lab.block_polyline(tx_, ty_)
+        drawn.append((p, pis, pi_marks, px, py, ticks, left_px, right_px))
 
-    stakes = stake_marks(d, v, lab)
-    keys = key_points(d, v, lab)
+    stakes_of = [stake_marks(p, v, lab) for p in parts]
+    keys_of = [key_points(p, v, lab) for p in parts]
     ctrl, ctrl_labels = control_marks(d, v, lab)
     body.append(grid_ticks(v, lab))
 
     # ---- labels, most important first ----
     place_control_labels(v, ctrl_labels, layer)
-    body_eq = _equations(d, v, layer, (right_px + 8.0, left_px + 8.0))
-    st_shown = 0
-    for _, lines, px_, py_, u, w_ in ticks.labels:  # on the left of the line, else on the right
-        placed = place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
-                                  steps=2)
-        if placed is not None:
-            draw_label(layer.texts, placed[0], lines, FONT_LABEL)
-            st_shown += 1
-    kp_shown = place_key_point_labels(d, keys, layer, (right_px + 8.0, left_px + 8.0))
-    cts = {ct.curve.number: ct for ct in curve_texts(d)}
-    _place_pi_labels(d, v, pis, px, py, cts, layer)
-    num_shown = place_stake_numbers(d, stakes, layer)
+    body_eq = "".join(_equations(p, v, layer, (rp + 8.0, lp + 8.0)) for p, _, _, _, _, _, lp, rp in drawn)
+    st_shown = st_count = 0
+    for _, _, _, _, _, ticks, left_px, right_px in drawn:
+        st_count += ticks.labelled.size
+        for _, lines, px_, py_, u, w_ in ticks.labels:  # on the left of the line, else on the right
+            placed = place_on_normal(lab, px_, py_, -u, -w_, lines, FONT_LABEL, (left_px + 6.0, right_px + 6.0),
+                                      steps=2)
+            if placed is not None:
+                draw_label(layer.texts, placed[0], lines, FONT_LABEL)
+                st_shown += 1
+    kp_shown = sum(place_key_point_labels(p, keys, layer, (rp + 8.0, lp + 8.0))
+                   for (p, _, _, _, _, _, lp, rp), keys in zip(drawn, keys_of))
+    cts_of = [{ct.curve.number: ct for ct in curve_texts(p)} for p in parts]
+    for (p, pis, _, px, py, _, _, _), cts in zip(drawn, cts_of):
+        _place_pi_labels(p, v, pis, px, py, cts, layer)
+    num_shown = sum(place_stake_numbers(p, stakes, layer) for p, stakes in zip(parts, stakes_of))
 
-    body.append('<g clip-path="url(#' + clip + ')">' + "".join(stakes.paths))
-    if pi_marks:
-        body.append(f'<path class="so-pi" d="{"".join(pi_marks)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
+    body.append('<g clip-path="url(#' + clip + ')">' + "".join(path for st in stakes_of for path in st.paths))
+    pi_marks_all = [m for _, _, marks, _, _, _, _, _ in drawn for m in marks]
+    if pi_marks_all:
+        body.append(f'<path class="so-pi" d="{"".join(pi_marks_all)}" fill="#fff" stroke="{TANGENT_COLOUR}" '
                     'stroke-width="1.1"/>')
     body.append(body_eq)
-    body.append(key_rings(keys))
+    body.append("".join(key_rings(keys) for keys in keys_of))
     body.append("".join(ctrl) + "</g>")
     if layer.leaders:
         body.append(f'<path d="{"".join(layer.leaders)}" stroke="#444" stroke-width="0.6" fill="none"/>')
@@ -115,39 +126,52 @@ def plan_svg_element(d: Design) -> str:
     bar, _ = scale_bar(x0 + 14, y1 - 8, v, unit.symbol)
     body.append(bar)
 
-    n_st, keep = len(sp), stakes.keep
-    notes = _plan_notes(d, stakes.detail, len(keep), num_shown, kp_shown, len(a.key_points), st_shown,
-                        ticks.labelled.size)
-    pan = _panel(d, cts, bool(pis), ticks.spacing, notes)
+    n_st = sum(len(p.stakes) for p in parts)
+    marks = sum(len(st.keep) for st in stakes_of)
+    detail = all(st.detail for st in stakes_of)
+    kp_count = sum(len(p.alignment.key_points) for p in parts)
+    notes = _plan_notes(d, detail, marks, num_shown, kp_shown, kp_count, st_shown, st_count, n_st)
+    curves = [(f"{p.alignment.name} " if d.parts else "", ct) for p, cts in zip(parts, cts_of) for ct in cts.values()]
+    pan = _panel(d, curves, any(pis_of), drawn[0][5].spacing, notes)
+    if d.parts:
+        stations = f"{len(parts)} alignments, {n_st:,} stakes"
+    else:
+        stations = f"{d.stationing.label(d.alignment.start_station)} to {d.stationing.label(d.alignment.end_station)}, " \
+                   f"{n_st:,} stakes"
     block = title_block([
         ("job", job.info.name),
         ("job file", Path(job.path).name),
         ("sha256", short_hash(job.sha256) + "..."),
         ("units", unit.label),
         ("CRS", d.crs_label or "none: local grid"),
-        ("stations", f"{stn.label(a.start_station)} to {stn.label(a.end_station)}, {len(sp):,} stakes"),
-        ("drawn", (f"{len(keep):,} marks for {n_st:,} stakes (thinned), no point numbers" if not stakes.detail else
+        ("stations", stations),
+        ("drawn", (f"{marks:,} marks for {n_st:,} stakes (thinned), no point numbers" if not detail else
                    f"point numbers {num_shown:,} of {n_st:,} (no overprinting)")),
         ("north", "grid north, up the sheet"),
     ], SHEET_HEIGHT - MARGIN)
-    title = f"Plan of {a.name}: {job.info.name}"
+    title = f"Plan of {', '.join(p.alignment.name for p in parts)}: {job.info.name}"
     return (svg_open(title, clip) + "".join(body) + pan.svg() + block + "</svg>")
 
 
 def _plan_view(d: Design, pis: list[Any]) -> View:
-    """The view of the job: stakes, elements (with their bulges), occupied points and the
-    offsets; PIs and backsights far off are drawn toward the frame instead.
+    """The view of the job (every alignment of it): stakes, elements (with their bulges), occupied
+    points and the offsets; PIs and backsights far off are drawn toward the frame instead.
     """
-    job, a, sp = d.job, d.alignment, d.stakes
+    parts = d.parts or (d,)
     occs = occupations(d)
-    el_e = np.array([el.start_easting for el in a.elements] + [a.elements[-1].end_easting])
-    el_n = np.array([el.start_northing for el in a.elements] + [a.elements[-1].end_northing])
-    # the elements' bounding samples (arcs bulge beyond their ends)
-    mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
-    mn, me, _ = a.evaluate(mids, 0.0)
-    big_off = max([abs(o) for ol in job.staking.offsets for o in ol.all_offsets()] + [0.0])
-    ext = extent([sp.easting, el_e, me, np.array([o[0].easting for o in occs])],
-                  [sp.northing, el_n, mn, np.array([o[0].northing for o in occs])])
+    xs, ys = [], []
+    big_off = 0.0
+    for p in parts:
+        a, sp = p.alignment, p.stakes
+        el_e = np.array([el.start_easting for el in a.elements] + [a.elements[-1].end_easting])
+        el_n = np.array([el.start_northing for el in a.elements] + [a.elements[-1].end_northing])
+        # the elements' bounding samples (arcs bulge beyond their ends)
+        mids = np.array([el.start + el.length * f for el in a.elements for f in (0.25, 0.5, 0.75)])
+        mn, me, _ = a.evaluate(mids, 0.0)
+        xs += [sp.easting, el_e, me]
+        ys += [sp.northing, el_n, mn]
+        big_off = max([abs(o) for ol in p.job.staking.offsets for o in ol.all_offsets()] + [big_off])
+    ext = extent(xs + [np.array([o[0].easting for o in occs])], ys + [np.array([o[0].northing for o in occs])])
     ext = (ext[0] - big_off, ext[1] - big_off, ext[2] + big_off, ext[3] + big_off)
     pi_e = np.array([c.pi_easting for c in pis], dtype=float)
     pi_n = np.array([c.pi_northing for c in pis], dtype=float)
@@ -252,10 +276,14 @@ def _place_pi_labels(d: Design, v: View, pis: list[Any], px: F, py: F, cts: dict
             draw_label(layer.texts, boxes[0, j], lines, FONT_LABEL)
 
 
-def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes: list[str]) -> Panel:
-    """The panel on the right: title, legend, curve data and notes."""
-    job, a, sp, stn, unit = d.job, d.alignment, d.stakes, d.stationing, d.unit
-    pan = Panel.opening("PLAN", 15.0, job.info.name, f"alignment {a.name}")
+def _panel(d: Design, curves: list[tuple[str, Any]], has_pis: bool, spacing: float, notes: list[str]) -> Panel:
+    """The panel on the right: title, legend, curve data (each curve with its alignment's name
+    before it when there are several) and notes.
+    """
+    job, sp, unit = d.job, d.stakes, d.unit
+    parts = d.parts or (d,)
+    names = ", ".join(p.alignment.name for p in parts)
+    pan = Panel.opening("PLAN", 15.0, job.info.name, f"alignment{'s' if d.parts else ''} {names}")
     pan.symbol(f'<path d="M0,0h28" stroke="{CL_COLOUR}" stroke-width="1.6"/>', "centreline")
     pan.symbol(f'<path d="M0,0h28" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>', "offset line")
     for j, code in enumerate(sp.codes):
@@ -268,8 +296,8 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
             if each.size and each.min() != each.max():
                 size = f"{each.min():.2f}-{each.max():.2f}"
         pan.symbol(f'<circle cx="14" cy="0" r="2.2" fill="{colour}"/>', f"stake {code} {size}{where}")
-    if sp.layout is not None:  # the stakes beyond the grid, by what they are
-        more = set(sp.layout.more_features)
+    more = {f for p in parts if p.stakes.layout is not None for f in p.stakes.layout.more_features}
+    if more:  # the stakes beyond the grid, by what they are
         if "CATCH" in more:
             pan.symbol('<circle cx="14" cy="0" r="2.2" fill="#8b5a2b"/>', "catch stake (CATCH)")
         if "REF" in more:
@@ -282,7 +310,7 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
     if has_pis:
         pan.symbol(f'<path d="M0,0h28" stroke="{TANGENT_COLOUR}" stroke-width="0.7" stroke-dasharray="6,3"/>'
                    f'<path d="M14,-5l4.5,8h-9z" fill="#fff" stroke="{TANGENT_COLOUR}"/>', "PI and tangents")
-    if stn.equations:
+    if any(p.stationing.equations for p in parts):
         pan.symbol(f'<path d="M10.5,0l3.5,-3.5l3.5,3.5l-3.5,3.5z" fill="#fff" stroke="{CL_COLOUR}"/>',
                    "station equation (back = ahead)")
     pan.symbol('<path d="M14,-5v10M8,0h12" stroke="#222" stroke-width="0.7"/>',
@@ -293,18 +321,18 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
                    f'<circle cx="24" cy="0" r="3.5" fill="#fff" stroke="{CONTROL_COLOUR}"/>', "backsight")
     pan.gap()
     pan.heading("CURVES", 11.0)
-    if not cts:
+    if not curves:
         pan.line("(no curves)")
-    for ct in list(cts.values())[:12]:
+    for name, ct in curves[:12]:
         c = ct.curve
-        pan.line(f"{c.number}: {turn_word(c.turn)}, I {ct.delta}" + (f", PI {ct.pi_label}" if c.pi_station is not None
-                                                                        else ""))
+        pan.line(f"{name}{c.number}: {turn_word(c.turn)}, I {ct.delta}" + (f", PI {ct.pi_label}"
+                                                                              if c.pi_station is not None else ""))
         for arc, _, _ in ct.arcs:
             pan.line(f"R {arc.radius:.3f}  L {arc.length:.3f}", indent=3)
         for spi, s0, s1 in ct.spirals:
             pan.line(f"spiral L {spi.length:.3f}  {s0} to {s1}", indent=3)
-    if len(cts) > 12:
-        pan.line(f"... {len(cts) - 12} more curves: see curves.csv")
+    if len(curves) > 12:
+        pan.line(f"... {len(curves) - 12} more curves: see curves.csv")
     pan.gap()
     pan.heading("NOTES", 11.0)
     for t in notes:
@@ -313,8 +341,7 @@ def _panel(d: Design, cts: dict[int, Any], has_pis: bool, spacing: float, notes:
 
 
 def _plan_notes(d: Design, detail: bool, marks: int, shown: int, kp_shown: int, kp_count: int, st_shown: int,
-                st_count: int) -> list[str]:
-    n = len(d.stakes)
+                st_count: int, n: int) -> list[str]:
     out = []
     if not detail:
         out.append(f"{n:,} stakes: drawn thinned to {marks:,} marks (one per {THIN_CELL:g} units of the sheet); "
@@ -328,8 +355,9 @@ def _plan_notes(d: Design, detail: bool, marks: int, shown: int, kp_shown: int, 
         out.append(f"key-point labels: {kp_shown} of {kp_count} shown (no room for the rest)")
     if st_shown < st_count:
         out.append(f"station labels: {st_shown} of {st_count} shown (no room for the rest)")
-    for w in d.warnings:
-        out.append(f"warning: {w}")
+    for p in d.parts or (d,):
+        named = f"{p.alignment.name}: " if d.parts else ""
+        out.extend(f"warning: {named}{w}" for w in p.warnings)
     return out
 
 
