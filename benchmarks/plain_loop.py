@@ -2,18 +2,24 @@
 computed the plain way: one point at a time in pure Python.  Only for the
 benchmark's side-by-side ratio; not used by stakeout.
 
-usage: python plain_loop.py JOB.toml OUTDIR
+usage: python plain_loop.py JOB.toml OUTDIR [--bisect]
+
+By default each point finds its element by scanning the elements from the first
+(the plainest program); ``--bisect`` finds it by binary search
+(``bisect.bisect_left`` on the elements' start stations), as a careful plain
+program would.
 """
 
 from __future__ import annotations
 
+import bisect
 import math
 import sys
 import tomllib
 from pathlib import Path
 
 
-def main(job_path: str, out: str) -> None:
+def main(job_path: str, out: str, by_bisect: bool = False) -> None:
     job = tomllib.loads(Path(job_path).read_text())
     al = job["alignment"]
     st0 = float(al["start"]["station"])
@@ -31,6 +37,7 @@ def main(job_path: str, out: str) -> None:
         az += math.degrees(d)
         station += length
     end = station
+    starts = [el[0] for el in elements]
     step = job["staking"]["interval"]
     offsets = job["staking"]["offsets"]
     centre_z = job["staking"].get("elevation")
@@ -89,9 +96,12 @@ def main(job_path: str, out: str) -> None:
     while i * step <= end + 1e-9:
         s = i * step
         i += 1
-        for el in elements:  # per point: find the element by a scan
-            if el[0] <= s <= el[0] + el[1] + 1e-9:
-                break
+        if by_bisect:  # per point: find the element by binary search
+            el = elements[max(0, bisect.bisect_left(starts, s - 1e-9) - 1)]  # the element the scan finds
+        else:
+            for el in elements:  # per point: find the element by a scan
+                if el[0] <= s <= el[0] + el[1] + 1e-9:
+                    break
         s0, _, n0, e0, a0, k = el
         ds = s - s0
         d = k * ds
@@ -121,4 +131,4 @@ def main(job_path: str, out: str) -> None:
 
 
 if __name__ == "__main__":
-    main(sys.argv[1], sys.argv[2])
+    main(sys.argv[1], sys.argv[2], "--bisect" in sys.argv[3:])
