@@ -74,8 +74,9 @@ SLOPE_STAKES = ('left = { hinge = "L2", fill_slope = 4.0, cut_slope = 3.0, fores
 
 def _alignment(points: int, elements: int, interval: float, sections: bool, spirals: bool, profile: bool,
                slopes: bool, prefix: str, name: str = "CORR", start: tuple[float, float] = (5000000.0, 500000.0),
-               extra_staking: str = "") -> str:
-    """One alignment's sections: its geometry, staking, superelevation, profile and slope stakes;
+               extra_staking: str = "", slope_section: bool = True) -> str:
+    """One alignment's sections: its geometry, staking, superelevation, profile and slope stakes
+    (with ``slopes``: the alignment sized for them; ``slope_section`` false leaves out the section);
     ``prefix`` is ``""`` for a job of one alignment and ``"alignment."`` inside ``[[alignment]]``."""
     per_station = len(OFFSETS) + (4 if slopes else 0)  # slope stakes: a catch and a reference each side
     length = points / per_station * interval - interval
@@ -94,7 +95,7 @@ def _alignment(points: int, elements: int, interval: float, sections: bool, spir
     parts.append(rows)
     if profile:
         parts.append(_profile(length, prefix))
-    if slopes:
+    if slopes and slope_section:
         parts.append(f"[{prefix}slope_stakes]\n{SLOPE_STAKES}")
     return "".join(parts)
 
@@ -124,8 +125,8 @@ crs = "EPSG:32633"
     slopes = ground and sections
     tail = _SETUP if setup else ""
     if slopes:  # the ground follows the alignment: written from the job without its slope stakes
-        path.write_text(head + _alignment(points, elements, interval, sections, spirals, profile, False, ""),
-                        encoding="utf-8")
+        path.write_text(head + _alignment(points, elements, interval, sections, spirals, profile, True, "",
+                                          slope_section=False), encoding="utf-8")
         ground_csv(path, path.with_name(path.stem + "_ground.csv"))
         tail += f'[ground]\nfile = "{path.stem}_ground.csv"\n'
     path.write_text(head + _alignment(points, elements, interval, sections, spirals, profile, slopes, "") + tail,
