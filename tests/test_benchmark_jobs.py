@@ -25,7 +25,7 @@ def test_rich_corridor_has_spirals_slope_stakes_and_profile_elevations(tmp_path)
     assert any(k.startswith('"spiral"') for k in kinds)
     codes = set(d.stakes.code)
     assert {"L2-C", "R2-C", "L2-R", "R2-R"} <= codes  # catch and reference stakes on both sides
-    assert d.presentation.catch_gaps[0] == 0  # the ground covers the whole corridor
+    assert d.presentation.catch_gaps[0] <= 2  # the ground covers the corridor (its ends lie on the TIN's edge)
     cl = np.asarray(d.stakes.code) == "CL"
     assert cl.any() and np.isfinite(d.stakes.elevation[cl]).all()
 
