@@ -17,7 +17,8 @@ machine; the figures are the median of each and the median of the pairwise ratio
   point and the one that finds them by binary search;
 - ``corridor``: the default build of a rich corridor (spirals, a profile, superelevation, a
   taper, a ground TIN with slope stakes) against its CSV path, and its peak memory, at
-  ``--stakes`` (1,000,000; 100,000 with ``--quick``);
+  ``--stakes`` (1,000,000; 100,000 with ``--quick``); ``--corridor-without-ground``: the same
+  corridor without the ground and slope stakes;
 - ``outputs``: the same corridor built in one child process per size with every output's
   writer timed (``Output.render`` wrapped from here; stakeout's code is not changed) with
   its bytes and the growth of its peak memory, at ``--sizes`` (100000,1000000;
@@ -214,8 +215,9 @@ def _default_against_csv(job: Path, tmp: Path, name: str, runs: int) -> dict[str
 def corridor(tmp: Path, stakes: int, runs: int) -> dict[str, float]:
     """The rich corridor (spirals, profile, superelevation, taper, ground TIN, slope stakes):
     default build against its CSV path."""
-    job = corridor_job(tmp / "rich.toml", stakes, spirals=True, profile=True, ground=True)
-    return _default_against_csv(job, tmp, "corridor", runs)
+    ground = "--corridor-without-ground" not in sys.argv
+    job = corridor_job(tmp / "rich.toml", stakes, spirals=True, profile=True, ground=ground)
+    return {"corridor_with_ground": float(ground), **_default_against_csv(job, tmp, "corridor", runs)}
 
 
 def several(tmp: Path, stakes: int, runs: int) -> dict[str, float]:
