@@ -232,18 +232,21 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
 
 
 def run_curve_report(job_path: str | Path) -> str:
-    """``stakeout curve``: the readable curve report of a job's alignment."""
+    """``stakeout curve``: the readable curve report of a job's alignment (of each, with several)."""
     from .alignment import build_alignment
     from .design import build_sections, build_stationing
     from .staking import plan_stakes
     from .writers.report import curve_report
 
     job = load_job(job_path)
-    alignment = build_alignment(job.alignment)
-    stationing = build_stationing(job, alignment)
-    sections = build_sections(job, alignment, stationing)
-    stakes = plan_stakes(alignment, job.staking, stationing)
-    return curve_report(Design(job, alignment, stationing, stakes, sections=sections))
+    reports = []
+    for part in job.parts or (job,):  # several alignments: each one's report in job order
+        alignment = build_alignment(part.alignment)
+        stationing = build_stationing(part, alignment)
+        sections = build_sections(part, alignment, stationing)
+        stakes = plan_stakes(alignment, part.staking, stationing)
+        reports.append(curve_report(Design(part, alignment, stationing, stakes, sections=sections)))
+    return "\n".join(reports)
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,
