@@ -225,6 +225,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         own = [n for n in setup_notes(part) if not (d.parts and n.startswith(("setups:", "  ")))]
         notes.extend(named + n for n in own + slope_stake_notes(part))
         notes.extend(f"warning: {named}{w}" for w in part.warnings)
+    if d.parts:  # the job's own (a setup serving no stake of any alignment)
+        notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
         if f.not_used:
             notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")
