@@ -331,3 +331,15 @@ def test_later_alignments_design_files_missing_from_manifest(tmp_path):
     listed = [f for f in json.loads(files["manifest.json"])["design_files"] if f["role"] == "points"]
     assert len(listed) == 1 and listed[0]["path"] == "list.csv"
     assert "points from list.csv" in files["setout.txt"]
+
+
+def test_plan_legend_held_only_the_first_alignments_codes(tmp_path):
+    """Regression: plan.svg of several alignments listed (and coloured) the first alignment's offset
+    lines only; a code of another alignment took whatever colour its index had there."""
+    from lxml import etree
+
+    other = _alignment(*ROADS[1]).replace('code = "L" }', 'code = "KERB" }')
+    files = _build(tmp_path, HEAD + _alignment(*ROADS[0]) + other, "all", "picture")
+    root = etree.fromstring(files["plan.svg"].encode("utf-8"))
+    texts = [t.text for t in root.iter("{http://www.w3.org/2000/svg}text") if t.text]
+    assert any(t.startswith("stake KERB") for t in texts) and any(t.startswith("stake L ") for t in texts)

@@ -12,7 +12,7 @@ import numpy as np
 from ...design import Design
 from ..stationmarks import labelled_stations
 from ..text import curve_texts, turn_word
-from .canvas import (AREA, CL_COLOUR, CODE_COLOURS, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
+from .canvas import (AREA, CL_COLOUR, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
                      MARGIN, OFFSET_COLOUR, SHEET_HEIGHT, TANGENT_COLOUR, THIN_CELL, TICK_MAX_STATIONS, View,
                      extent, fmt_short, grow_extent, num, right_normal, round_label, short_hash,
                      text_width, station_spacing)
@@ -20,7 +20,7 @@ from .labels import Labeller, Layer, around_boxes, draw_label, place_on_normal
 from .frame import Panel, frame_rect, grid_ticks, north_arrow, scale_bar, svg_open, title_block
 from .lines import alignment_lines, tick_vertices
 from .control import control_marks, occupations, place_control_labels
-from .stakes import key_points, key_rings, place_key_point_labels, place_stake_numbers, stake_marks
+from .stakes import code_colours, key_points, key_rings, place_key_point_labels, place_stake_numbers, stake_marks
 
 __all__ = ["plan_svg_element", "plan_svg"]
 
@@ -86,7 +86,8 @@ def plan_svg_element(d: Design) -> str:
             lab.block_polyline(tx_, ty_)
         drawn.append((p, pis, pi_marks, px, py, ticks, left_px, right_px))
 
-    stakes_of = [stake_marks(p, v, lab) for p in parts]
+    colours = code_colours(d)
+    stakes_of = [stake_marks(p, v, lab, colours) for p in parts]
     keys_of = [key_points(p, v, lab) for p in parts]
     ctrl, ctrl_labels = control_marks(d, v, lab)
     body.append(grid_ticks(v, lab))
@@ -280,14 +281,21 @@ def _panel(d: Design, curves: list[tuple[str, Any]], has_pis: bool, spacing: flo
     """The panel on the right: title, legend, curve data (each curve with its alignment's name
     before it when there are several) and notes.
     """
-    job, sp, unit = d.job, d.stakes, d.unit
+    job, unit = d.job, d.unit
     parts = d.parts or (d,)
     names = ", ".join(p.alignment.name for p in parts)
     pan = Panel.opening("PLAN", 15.0, job.info.name, f"alignment{'s' if d.parts else ''} {names}")
     pan.symbol(f'<path d="M0,0h28" stroke="{CL_COLOUR}" stroke-width="1.6"/>', "centreline")
     pan.symbol(f'<path d="M0,0h28" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>', "offset line")
-    for j, code in enumerate(sp.codes):
-        colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
+    colours = code_colours(d)
+    lines = [(p.stakes, j) for p in parts for j in range(len(p.stakes.codes))]
+    shown: set[str] = set()
+    for sp, j in lines:  # each code once, where it first appears (several alignments: job order)
+        code = sp.codes[j]
+        if code in shown:
+            continue
+        shown.add(code)
+        colour = colours[code]
         o = float(sp.offsets[j])
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
         size = f"{abs(o):.2f}"
