@@ -32,6 +32,7 @@ import io
 import math
 from collections import OrderedDict
 from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -66,9 +67,10 @@ INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 
 TEXT_STYLE = "SO-TEXT"
 
-#: Above this many stakes the plan shows them as plain POINTs written in bulk, without
-#: a number beside each and with ticks at the labelled stations only: a drawing of a million
-#: labelled stakes is neither quick to make nor legible (the title block says so).
+#: Above this many stakes the plan has station ticks at the labelled stations only, not at
+#: every staked station (the title block says so).  Every stake has its POINT and its number
+#: at any size: the drawing is zoomable and layer SO-STAKE-NO can be switched off; both are
+#: written in bulk (:class:`Bulk`), as fast as the bare points were.
 DETAIL_MAX_STAKES = 20_000
 
 #: Radial lines from the occupied point are drawn for jobs up to this many stakes.
@@ -236,10 +238,11 @@ def _new_doc(d: Design) -> Any:
     return doc
 
 
-def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None = None
+def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: bool | None = None
            ) -> tuple[Any, tuple[float, float, float, float]]:
-    """Draw one alignment's plan into ``doc`` (a new drawing when None); ``shared``: also
-    the setups and control (once a drawing).  Returns the drawing and the extent drawn.
+    """Draw one alignment's plan into ``doc`` (a new drawing when None), the stakes and control
+    points reserved in ``bulk``; ``shared``: also the setups and control (once a drawing).
+    ``detail``: a tick at every staked station.  Returns the drawing and the extent drawn.
     """
     job, a, sp = d.job, d.alignment, d.stakes
     unit = job.info.unit
@@ -258,11 +261,7 @@ def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None 
         msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
     detail = len(sp) <= DETAIL_MAX_STAKES if detail is None else detail
-    zs = _stake_heights(d)
-    for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)
-        e, n = float(sp.easting[i]), float(sp.northing[i])
-        msp.add_point((e, n, float(zs[i])), dxfattribs={"layer": "SO-STAKE"})
-        _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
+    bulk.reserve(msp, 2 * len(sp), lambda: _stake_entities(d, h))  # a POINT and its number per stake
 
     # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
     # plan.svg would draw this extent at), short at every staked station
@@ -304,8 +303,8 @@ def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None 
              f"alignment {a.name}   units {unit.label}",
              f"CRS {d.crs_label or 'none: local grid'}", ""]
     if not detail:
-        lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at labelled stations "
-                     f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
+        lines.append(f"{len(sp):,} stakes: station ticks at labelled stations only (over {DETAIL_MAX_STAKES:,} "
+                     "stakes); every stake has its number (layer SO-STAKE-NO)")
         lines.append("")
     lines.append("CURVE DATA")
     for ct in curve_texts(d):
@@ -339,25 +338,21 @@ def plan_dxf(d: Design) -> bytes:
     alignments every one in the one drawing (setups and control drawn once).
     """
     parts = d.parts or (d,)
-    total = sum(len(p.stakes) for p in parts)
-    bulk = total > DETAIL_MAX_STAKES
+    detail = sum(len(p.stakes) for p in parts) <= DETAIL_MAX_STAKES
+    bulk = Bulk()
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
     try:
         doc: Any = None
         boxes = []
         for k, p in enumerate(parts):
-            doc, box = _build(p, doc, shared=k == 0, detail=not bulk)
+            doc, box = _build(p, bulk, doc, shared=k == 0, detail=detail)
             boxes.append(box)
         x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
         x1, top = max(b[2] for b in boxes), max(b[3] for b in boxes)
         doc.header["$EXTMIN"] = (x0, y0, 0.0)
         doc.header["$EXTMAX"] = (x1, top, 0.0)
         doc.set_modelspace_vport(height=(top - y0) * 1.1, center=((x0 + x1) / 2, (y0 + top) / 2))
-        first = 0
-        if bulk:  # reserve one handle per stake before the header's $HANDSEED is written
-            first = int(doc.entitydb.handles.next(), 16)
-            doc.entitydb.handles.reset("%X" % (first + total))
         # The CLASSES section can come out in set order, which follows the hash
         # seed: add the required classes now and put them in a fixed order.
         doc.classes.add_required_classes(doc.dxfversion)
@@ -367,12 +362,7 @@ def plan_dxf(d: Design) -> bytes:
         owner = doc.modelspace().block_record_handle
     finally:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
-    data = stream.getvalue().encode(doc.output_encoding)
-    if bulk:
-        for p in parts:
-            data = _splice_points(data, p, first, owner)
-            first += len(p.stakes)
-    return data
+    return bulk.splice(stream.getvalue().encode(doc.output_encoding), owner)
 
 
 def _hex(values: np.ndarray) -> rows.Field:
@@ -400,24 +390,100 @@ def _stake_heights(d: Design) -> np.ndarray:
     return z
 
 
-def _splice_points(data: bytes, d: Design, first: int, owner: str) -> bytes:
-    """Put one POINT entity per stake at the end of the ENTITIES section, written in bulk
-    with numpy (the same group codes ezdxf writes for a POINT on layer SO-STAKE).
+#: A tag's value in a run of bulk entities: text on every row, a float per row (written as
+#: ezdxf writes a float: Python's shortest repr) or a text per row (ASCII: safe ids).
+Value = str | np.ndarray | list[str]
+
+
+@dataclass(frozen=True)
+class Entity:
+    """One entity of each row of a bulk run: its type, layer, subclass and tags after the subclass."""
+
+    dxftype: str
+    layer: str
+    subclass: str
+    tags: list[tuple[int, Value]]
+
+
+class Bulk:
+    """Runs of entities reserved in a drawing and written after it with numpy, byte for byte as
+    ezdxf writes them (checked by a test against entities ezdxf drew).
+
+    :meth:`reserve` puts a placeholder POINT where the run goes and skips the handles of the run,
+    so every entity ezdxf draws afterwards has the handle it would have had; :meth:`splice` puts
+    each run in place of its placeholder.  A run is one row per item (a stake, a control point)
+    of one or more entities each, rendered in blocks of rows, each block from whole columns.
     """
-    sp = d.stakes
-    at = data.index(b"\n  0\nENDSEC\n", data.index(b"\n  2\nENTITIES\n")) + 1
-    z = _stake_heights(d)
-    parts = []
+
+    def __init__(self) -> None:
+        self.runs: list[tuple[int, int, Callable[[], tuple[int, list[Entity]]]]] = []
+
+    def reserve(self, msp: Any, count: int, entities: Callable[[], tuple[int, list[Entity]]]) -> None:
+        """Reserve ``count`` handles here for the entities ``entities()`` gives (rows, entities a row)."""
+        if count == 0:
+            return
+        first = int(msp.add_point((0.0, 0.0), dxfattribs={"layer": "SO-STAKE"}).dxf.handle, 16)
+        msp.doc.entitydb.handles.reset("%X" % (first + count))
+        self.runs.append((first, count, entities))
+
+    def splice(self, data: bytes, owner: str) -> bytes:
+        """The drawing ``data`` with each placeholder replaced by its run (``owner``: the model space's handle)."""
+        pieces, at = [], 0
+        for first, count, entities in self.runs:
+            # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
+            start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, at) + 1
+            n, ents = entities()
+            assert n * len(ents) == count
+            pieces += [data[at:start], _entity_rows(first, owner, n, ents)]
+            at = data.index(b"\n  0\n", start) + 1
+        return b"".join(pieces) + data[at:]
+
+
+def _floats(values: np.ndarray) -> rows.Field:
+    """Floats as ezdxf writes them (``str(float)``), one a row."""
+    return rows.text(list(map(repr, values.tolist())))
+
+
+def _entity_rows(first: int, owner: str, n: int, ents: list[Entity]) -> bytes:
+    """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order."""
+    m = len(ents)
+    out = []
     step = 16384
-    for i in range(0, len(sp), step):  # chunks bound the temporaries; each is vectorised
-        k = min(len(sp), i + step) - i
+    for i in range(0, n, step):  # blocks bound the temporaries; each is vectorised
+        k = min(n, i + step) - i
         sl = slice(i, i + k)
-        fields = [rows.const("  0\nPOINT\n  5\n", k), _hex(np.arange(first + i, first + i + k)),
-                  rows.const(f"\n330\n{owner}\n100\nAcDbEntity\n  8\nSO-STAKE\n100\nAcDbPoint\n 10\n", k),
-                  rows.fixed(sp.easting[sl], 4), rows.const("\n 20\n", k), rows.fixed(sp.northing[sl], 4),
-                  rows.const("\n 30\n", k), rows.fixed(z[sl], 4)]
-        parts.append(rows.join_rows(fields, k))
-    return data[:at] + b"".join(parts) + data[at:]
+        fields: list[rows.Field] = []
+        head = ""
+        for j, ent in enumerate(ents):
+            fields += [rows.const(f"{head}  0\n{ent.dxftype}\n  5\n", k),
+                       _hex(first + j + m * np.arange(i, i + k, dtype=np.int64))]
+            text = f"\n330\n{owner}\n100\nAcDbEntity\n  8\n{ent.layer}\n100\n{ent.subclass}"
+            for code, value in ent.tags:
+                text += f"\n{code:3d}\n"
+                if isinstance(value, str):
+                    text += value
+                    continue
+                fields.append(rows.const(text, k))
+                fields.append(_floats(value[sl]) if isinstance(value, np.ndarray) else rows.text(value[sl]))
+                text = ""
+            fields.append(rows.const(text, k))
+            head = "\n"
+        out.append(rows.join_rows(fields, k))
+    return b"".join(out)
+
+
+def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: list[str]) -> list[tuple[int, Value]]:
+    """The tags ezdxf writes for ``_text`` at (x, y), left-aligned and unrotated, after its subclass."""
+    return [(10, x), (20, y), (30, "0.0"), (40, repr(height)), (1, texts), (7, TEXT_STYLE), (11, x), (21, y),
+            (31, "0.0"), (100, "AcDbText")]
+
+
+def _stake_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
+    """Each stake's POINT (at its height) and its number beside it."""
+    sp = d.stakes
+    e, n = sp.easting, sp.northing
+    return len(sp), [Entity("POINT", "SO-STAKE", "AcDbPoint", [(10, e), (20, n), (30, _stake_heights(d))]),
+                     Entity("TEXT", "SO-STAKE-NO", "AcDbText", _text_tags(e + 0.4 * h, n + 0.4 * h, 0.6 * h, sp.point))]
 
 
 def plan_png(dxf_bytes: bytes) -> bytes:
