@@ -18,7 +18,7 @@ SO-STATION     7       station ticks and labels (labelled stations long, at the 
 SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
 SO-CONTROL     5       every setup's occupied point (triangle) and backsight point (circle),
                        labelled (``CP104 (setup 2)`` when setups are numbered); other control
-                       points (small circle and id)
+                       points (POINT, small circle up to CONTROL_RING_MAX of them, and id)
 SO-BACKSIGHT   5       the backsight line from each occupied point
 SO-RADIAL      9       light lines from each occupied point to each of its stakes (up to
                        2,000 stakes; layer off)
@@ -72,6 +72,11 @@ TEXT_STYLE = "SO-TEXT"
 #: at any size: the drawing is zoomable and layer SO-STAKE-NO can be switched off; both are
 #: written in bulk (:class:`Bulk`), as fast as the bare points were.
 DETAIL_MAX_STAKES = 20_000
+
+#: Up to this many control points besides the setups' each has a small ring around its POINT;
+#: above it (a design file's survey points: 215,000 in one) a POINT and its id only, both in
+#: bulk (the title block says so).
+CONTROL_RING_MAX = 5000
 
 #: Radial lines from the occupied point are drawn for jobs up to this many stakes.
 RADIAL_MAX_STAKES = 2000
@@ -210,19 +215,36 @@ def _draw_setups(msp: Any, d: Design, h: float, size: float) -> None:
             msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
 
-def _draw_control(msp: Any, d: Design, h: float) -> None:
-    """The job's other control points: a point and its id."""
+def _other_control(d: Design) -> list[Any]:
+    """The job's control points that no setup occupies or sights."""
     used: set[str] = set()
     if d.setup is not None:
         for o in d.setup.occupations:
             used.add(o.occupied.id)
             if o.backsight is not None:
                 used.add(o.backsight.id)
-    for p in d.job.control:
-        if p.id not in used:
-            msp.add_point((p.easting, p.northing), dxfattribs={"layer": "SO-CONTROL"})
-            msp.add_circle((p.easting, p.northing), 0.6 * h, dxfattribs={"layer": "SO-CONTROL"})
-            _text(msp, p.id, p.easting + 2 * h, p.northing + h, h, "SO-CONTROL")
+    return [p for p in d.job.control if p.id not in used]
+
+
+def _control_entities(points: list[Any], h: float) -> tuple[int, list[Entity]]:
+    """Each control point's POINT, its ring (up to :data:`CONTROL_RING_MAX` points) and its id."""
+    e = np.array([p.easting for p in points], dtype=float)
+    n = np.array([p.northing for p in points], dtype=float)
+    ents = [Entity("POINT", "SO-CONTROL", "AcDbPoint", [(10, e), (20, n), (30, "0.0")])]
+    if len(points) <= CONTROL_RING_MAX:
+        ents.append(Entity("CIRCLE", "SO-CONTROL", "AcDbCircle", [(10, e), (20, n), (30, "0.0"),
+                                                                  (40, repr(0.6 * h))]))
+    ents.append(Entity("TEXT", "SO-CONTROL", "AcDbText", _text_tags(e + 2 * h, n + h, h, [p.id for p in points])))
+    return len(points), ents
+
+
+def _draw_control(msp: Any, d: Design, h: float, bulk: Bulk) -> None:
+    """The job's other control points: a point, a small ring (up to :data:`CONTROL_RING_MAX`
+    points) and its id, written in bulk.
+    """
+    points = _other_control(d)
+    per = 3 if len(points) <= CONTROL_RING_MAX else 2
+    bulk.reserve(msp, per * len(points), lambda: _control_entities(points, h))
 
 
 def _new_doc(d: Design) -> Any:
@@ -296,7 +318,7 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: 
     if shared and d.setup is not None:
         _draw_setups(msp, d, h, size)
     if shared:
-        _draw_control(msp, d, h)
+        _draw_control(msp, d, h, bulk)
 
     # title block and curve table, above the top-left corner of the job
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
@@ -305,6 +327,11 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: 
     if not detail:
         lines.append(f"{len(sp):,} stakes: station ticks at labelled stations only (over {DETAIL_MAX_STAKES:,} "
                      "stakes); every stake has its number (layer SO-STAKE-NO)")
+        lines.append("")
+    others = len(_other_control(d)) if shared else 0
+    if others > CONTROL_RING_MAX:
+        lines.append(f"{others:,} other control points: a point and its id each, without rings (over "
+                     f"{CONTROL_RING_MAX:,})")
         lines.append("")
     lines.append("CURVE DATA")
     for ct in curve_texts(d):
