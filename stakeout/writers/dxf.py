@@ -215,36 +215,24 @@ def _draw_setups(msp: Any, d: Design, h: float, size: float) -> None:
             msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
 
-def _other_control(d: Design) -> list[Any]:
-    """The job's control points that no setup occupies or sights."""
-    used: set[str] = set()
-    if d.setup is not None:
-        for o in d.setup.occupations:
-            used.add(o.occupied.id)
-            if o.backsight is not None:
-                used.add(o.backsight.id)
-    return [p for p in d.job.control if p.id not in used]
-
-
-def _control_entities(points: list[Any], h: float) -> tuple[int, list[Entity]]:
-    """Each control point's POINT, its ring (up to :data:`CONTROL_RING_MAX` points) and its id."""
-    e = np.array([p.easting for p in points], dtype=float)
-    n = np.array([p.northing for p in points], dtype=float)
+def _control_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
+    """Each other control point's POINT, its ring (up to :data:`CONTROL_RING_MAX` points) and its id."""
+    ids, n, e = d.presentation.other_control
     ents = [Entity("POINT", "SO-CONTROL", "AcDbPoint", [(10, e), (20, n), (30, "0.0")])]
-    if len(points) <= CONTROL_RING_MAX:
+    if len(ids) <= CONTROL_RING_MAX:
         ents.append(Entity("CIRCLE", "SO-CONTROL", "AcDbCircle", [(10, e), (20, n), (30, "0.0"),
                                                                   (40, repr(0.6 * h))]))
-    ents.append(Entity("TEXT", "SO-CONTROL", "AcDbText", _text_tags(e + 2 * h, n + h, h, [p.id for p in points])))
-    return len(points), ents
+    ents.append(Entity("TEXT", "SO-CONTROL", "AcDbText", _text_tags(e + 2 * h, n + h, h, ids)))
+    return len(ids), ents
 
 
 def _draw_control(msp: Any, d: Design, h: float, bulk: Bulk) -> None:
     """The job's other control points: a point, a small ring (up to :data:`CONTROL_RING_MAX`
     points) and its id, written in bulk.
     """
-    points = _other_control(d)
-    per = 3 if len(points) <= CONTROL_RING_MAX else 2
-    bulk.reserve(msp, per * len(points), lambda: _control_entities(points, h))
+    count = len(d.presentation.other_control[0])
+    per = 3 if count <= CONTROL_RING_MAX else 2
+    bulk.reserve(msp, per * count, lambda: _control_entities(d, h))
 
 
 def _new_doc(d: Design) -> Any:
@@ -328,7 +316,7 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: 
         lines.append(f"{len(sp):,} stakes: station ticks at labelled stations only (over {DETAIL_MAX_STAKES:,} "
                      "stakes); every stake has its number (layer SO-STAKE-NO)")
         lines.append("")
-    others = len(_other_control(d)) if shared else 0
+    others = len(d.presentation.other_control[0]) if shared else 0
     if others > CONTROL_RING_MAX:
         lines.append(f"{others:,} other control points: a point and its id each, without rings (over "
                      f"{CONTROL_RING_MAX:,})")
