@@ -428,8 +428,8 @@ interval = 10.0
 
 
 def test_dxf_of_a_large_job_is_bounded(tmp_path):
-    # regression: 978,542 points took 452 s and 3.3 GB for the DXF; above the detail limit the stakes are
-    # written in bulk as POINTs (checked by reading the file back with ezdxf and auditing it)
+    # regression: 978,542 points took 452 s and 3.3 GB for the DXF; the stakes and their numbers are
+    # written in bulk (checked by reading the file back with ezdxf and auditing it)
     import sys
 
     import ezdxf
@@ -452,7 +452,8 @@ def test_dxf_of_a_large_job_is_bounded(tmp_path):
     handles = [int(p.dxf.handle, 16) for p in pts]
     assert len(set(handles)) == len(handles) and max(handles) < int(doc.header["$HANDSEED"], 16)
     texts = [t.dxf.text for t in doc.modelspace().query("TEXT")]
-    assert any("drawn as points without their numbers" in t for t in texts)
+    assert any("station ticks at labelled stations only" in t for t in texts)
+    assert [t.dxf.text for t in doc.modelspace().query('TEXT[layer=="SO-STAKE-NO"]')] == [r["point"] for r in want]
 
 
 def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):
