@@ -33,9 +33,13 @@ class _EzdxfBulk(dxf.Bulk):
                 attribs = {"layer": ent.layer}
                 if ent.dxftype == "POINT":
                     msp.add_point((float(tags[10]), float(tags[20]), float(tags[30])), dxfattribs=attribs)
+                elif ent.dxftype == "LINE":
+                    msp.add_line((float(tags[10]), float(tags[20])), (float(tags[11]), float(tags[21])),
+                                 dxfattribs=attribs)
                 elif ent.dxftype == "CIRCLE":
                     msp.add_circle((float(tags[10]), float(tags[20])), float(tags[40]), dxfattribs=attribs)
                 else:
+                    assert ent.dxftype == "TEXT"
                     t = msp.add_text(tags[1], height=float(tags[40]), rotation=0.0,
                                      dxfattribs={**attribs, "style": tags[7]})
                     t.set_placement((float(tags[10]), float(tags[20])),
@@ -119,17 +123,25 @@ def test_readback_of_stake_numbers(monkeypatch):
     assert max(int(x, 16) for x in handles) < int(doc.header["$HANDSEED"], 16)
 
 
-def test_dxf_numbers_were_dropped_over_20000_stakes(monkeypatch):
-    """Regression: above DETAIL_MAX_STAKES the stakes were written as bare POINTs, their numbers
-    left out; every stake now has its number at any size (read back with ezdxf)."""
-    monkeypatch.setattr(dxf, "DETAIL_MAX_STAKES", 5)
-    d = build_design(load_job(SAMPLES / "site_road_metric.toml"))
-    doc = _read(_compare(d, monkeypatch))
+def test_dxf_numbers_were_dropped_over_20000_stakes(tmp_path):
+    """Regression: above 20,000 stakes (the old DETAIL_MAX_STAKES) the stakes were written as bare
+    POINTs, their numbers and the ticks at unlabelled staked stations left out; every stake now has
+    its number and every staked station its tick at any size (read back with ezdxf)."""
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
+    from corridor import corridor_job
+
+    d = build_design(load_job(corridor_job(tmp_path / "big.toml", 21_000, elements=10, setup=False,
+                                           sections=False)))
+    assert len(d.stakes) > 20_000
+    doc = _read(dxf.plan_dxf(d))
     msp = doc.modelspace()
-    nums = msp.query('TEXT[layer=="SO-STAKE-NO"]')
-    assert [t.dxf.text for t in nums] == d.stakes.point
+    assert [t.dxf.text for t in msp.query('TEXT[layer=="SO-STAKE-NO"]')] == d.stakes.point
     assert len(msp.query('POINT[layer=="SO-STAKE"]')) == len(d.stakes)
-    assert any("station ticks at labelled stations only" in t.dxf.text for t in msp.query("TEXT"))
+    assert len(msp.query('LINE[layer=="SO-STATION"]')) >= np.unique(d.stakes.stations).size  # and labelled ones
+    handles = [e.dxf.handle for e in msp]
+    assert len(set(handles)) == len(handles)
 
 
 @pytest.mark.slow

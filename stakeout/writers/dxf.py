@@ -28,6 +28,7 @@ SO-TABLE       7       curve data table and title block text
 
 from __future__ import annotations
 
+import functools
 import io
 import math
 from collections import OrderedDict
@@ -67,11 +68,9 @@ INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 
 TEXT_STYLE = "SO-TEXT"
 
-#: Above this many stakes the plan has station ticks at the labelled stations only, not at
-#: every staked station (the title block says so).  Every stake has its POINT and its number
-#: at any size: the drawing is zoomable and layer SO-STAKE-NO can be switched off; both are
-#: written in bulk (:class:`Bulk`), as fast as the bare points were.
-DETAIL_MAX_STAKES = 20_000
+#: Every stake has its POINT and its number, and every staked station its tick, at any size:
+#: the drawing is zoomable and layer SO-STAKE-NO can be switched off.  They are written in bulk
+#: (:class:`Bulk`), so a labelled plan of a million stakes takes seconds, not minutes.
 
 #: Up to this many control points besides the setups' each has a small ring around its POINT;
 #: above it (a design file's survey points: 215,000 in one) a POINT and its id only, both in
@@ -248,11 +247,11 @@ def _new_doc(d: Design) -> Any:
     return doc
 
 
-def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: bool | None = None
+def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True
            ) -> tuple[Any, tuple[float, float, float, float]]:
     """Draw one alignment's plan into ``doc`` (a new drawing when None), the stakes and control
     points reserved in ``bulk``; ``shared``: also the setups and control (once a drawing).
-    ``detail``: a tick at every staked station.  Returns the drawing and the extent drawn.
+    Returns the drawing and the extent drawn.
     """
     job, a, sp = d.job, d.alignment, d.stakes
     unit = job.info.unit
@@ -270,25 +269,30 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: 
     for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
         msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
 
-    detail = len(sp) <= DETAIL_MAX_STAKES if detail is None else detail
     bulk.reserve(msp, 2 * len(sp), lambda: _stake_entities(d, h))  # a POINT and its number per stake
 
     # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
-    # plan.svg would draw this extent at), short at every staked station
+    # plan.svg would draw this extent at), short at every staked station (those in bulk, between the
+    # labelled ones)
     full = labelled_stations(d, station_spacing(a.length, sheet_scale(x1 - x0, y1 - y0)))
-    ticks = np.unique(np.concatenate([full, sp.stations])) if detail else full
+    ticks = np.unique(np.concatenate([full, sp.stations]))
     (tn, te, taz) = a.evaluate(ticks, 0.0)
     is_full = np.isin(ticks, full)
+    sn, cn = sincosd(taz + 90.0)
+    half = np.where(is_full, 2.0 * h, 0.8 * h)
+    ends = (te - half * sn, tn - half * cn, te + half * sn, tn + half * cn)
     lab = dict(zip(full.tolist(), stn.labels(full)))
-    for st, n, e, az, big in zip(ticks.tolist(), tn.tolist(), te.tolist(), taz.tolist(), is_full.tolist()):
-        half = (2.0 if big else 0.8) * h
-        sn, cn = sincosd(az + 90.0)
-        msp.add_line((e - half * float(sn), n - half * float(cn)), (e + half * float(sn), n + half * float(cn)),
-                     dxfattribs={"layer": "SO-STATION"})
-        if big:
+    start = 0
+    for k in np.flatnonzero(is_full).tolist() + [ticks.size]:
+        bulk.reserve(msp, k - start, functools.partial(_tick_entities, ends, slice(start, k)))
+        if k < ticks.size:
+            xa, ya, xb, yb = (float(v[k]) for v in ends)
+            msp.add_line((xa, ya), (xb, yb), dxfattribs={"layer": "SO-STATION"})
+            e, n, s_, c_ = float(te[k]), float(tn[k]), float(sn[k]), float(cn[k])
             # label on the left of the centreline, reading along the normal
-            _text(msp, lab[st], e - 2.5 * h * float(sn), n - 2.5 * h * float(cn), h, "SO-STATION",
-                  rot=dxf_angle(az - 90.0), align="MIDDLE_RIGHT")
+            _text(msp, lab[float(ticks[k])], e - 2.5 * h * s_, n - 2.5 * h * c_, h, "SO-STATION",
+                  rot=dxf_angle(float(taz[k]) - 90.0), align="MIDDLE_RIGHT")
+        start = k + 1
 
     for kp in a.key_points:
         msp.add_circle((kp.easting, kp.northing), 0.8 * h, dxfattribs={"layer": "SO-KEYPOINT"})
@@ -312,10 +316,6 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True, detail: 
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
              f"alignment {a.name}   units {unit.label}",
              f"CRS {d.crs_label or 'none: local grid'}", ""]
-    if not detail:
-        lines.append(f"{len(sp):,} stakes: station ticks at labelled stations only (over {DETAIL_MAX_STAKES:,} "
-                     "stakes); every stake has its number (layer SO-STAKE-NO)")
-        lines.append("")
     others = len(d.presentation.other_control[0]) if shared else 0
     if others > CONTROL_RING_MAX:
         lines.append(f"{others:,} other control points: a point and its id each, without rings (over "
@@ -353,7 +353,6 @@ def plan_dxf(d: Design) -> bytes:
     alignments every one in the one drawing (setups and control drawn once).
     """
     parts = d.parts or (d,)
-    detail = sum(len(p.stakes) for p in parts) <= DETAIL_MAX_STAKES
     bulk = Bulk()
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
@@ -361,7 +360,7 @@ def plan_dxf(d: Design) -> bytes:
         doc: Any = None
         boxes = []
         for k, p in enumerate(parts):
-            doc, box = _build(p, bulk, doc, shared=k == 0, detail=detail)
+            doc, box = _build(p, bulk, doc, shared=k == 0)
             boxes.append(box)
         x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
         x1, top = max(b[2] for b in boxes), max(b[3] for b in boxes)
@@ -446,7 +445,7 @@ class Bulk:
         pieces, at = [], 0
         for first, count, entities in self.runs:
             # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
-            start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, at) + 1
+            start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, max(at - 1, 0)) + 1
             n, ents = entities()
             assert n * len(ents) == count
             pieces += [data[at:start], _entity_rows(first, owner, n, ents)]
@@ -491,6 +490,13 @@ def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: list[str]) ->
     """The tags ezdxf writes for ``_text`` at (x, y), left-aligned and unrotated, after its subclass."""
     return [(10, x), (20, y), (30, "0.0"), (40, repr(height)), (1, texts), (7, TEXT_STYLE), (11, x), (21, y),
             (31, "0.0"), (100, "AcDbText")]
+
+
+def _tick_entities(ends: tuple[np.ndarray, ...], s: slice) -> tuple[int, list[Entity]]:
+    """The short station ticks ``s`` (a LINE each) from their ends (x, y at each end)."""
+    xa, ya, xb, yb = (v[s] for v in ends)
+    return xa.size, [Entity("LINE", "SO-STATION", "AcDbLine", [(10, xa), (20, ya), (30, "0.0"), (11, xb), (21, yb),
+                                                               (31, "0.0")])]
 
 
 def _stake_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
