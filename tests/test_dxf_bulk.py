@@ -184,3 +184,22 @@ def test_few_other_control_points_are_drawn_and_labelled(tmp_path):
     shown = int(note.group(1)) if note.group(3) is None else int(note.group(3))
     assert sum(f">C{i}<" in svg for i in range(12)) == shown > 0
     assert picture_control.CONTROL_LABEL_MAX >= 12
+
+
+def test_rounded_bulk_numbers_read_back_as_the_exact_drawing(tmp_path, monkeypatch):
+    # above EXACT_MAX_ENTITIES the numbers are written to 4 decimals: read back with ezdxf (a reference
+    # library), the same entities in the same order with the same handles, layers, texts and heights,
+    # every coordinate within half a unit of the fourth decimal of the exactly written drawing
+    d = build_design(load_job(_with_control(tmp_path, 30, 300.0)))
+    exact = _read(dxf.plan_dxf(d)).modelspace()
+    monkeypatch.setattr(dxf, "EXACT_MAX_ENTITIES", 0)
+    rounded = _read(dxf.plan_dxf(d)).modelspace()
+    assert len(exact) == len(rounded)
+    attrs = ("location", "insert", "align_point", "start", "end", "center")
+    for a, b in zip(exact, rounded):
+        assert (a.dxftype(), a.dxf.handle, a.dxf.layer) == (b.dxftype(), b.dxf.handle, b.dxf.layer)
+        if a.dxftype() == "TEXT":
+            assert (a.dxf.text, a.dxf.height, a.dxf.rotation) == (b.dxf.text, b.dxf.height, b.dxf.rotation)
+        for name in attrs:
+            if a.dxf.hasattr(name):
+                assert np.allclose(tuple(a.dxf.get(name)), tuple(b.dxf.get(name)), rtol=0, atol=0.5e-4 + 1e-9)

@@ -43,6 +43,7 @@ import numpy as np
 from ..angles import format_dms, sincosd
 from ..design import Design
 from ..presentation import Element, PerKind
+from ..staking import COORDINATE_DECIMALS
 from . import rows
 from .sections import widened_traces
 from .stationmarks import labelled_stations, sheet_scale, station_spacing
@@ -71,6 +72,16 @@ TEXT_STYLE = "SO-TEXT"
 #: Every stake has its POINT and its number, and every staked station its tick, at any size:
 #: the drawing is zoomable and layer SO-STAKE-NO can be switched off.  They are written in bulk
 #: (:class:`Bulk`), so a labelled plan of a million stakes takes seconds, not minutes.
+
+#: Up to this many entities written in bulk (a small job: the sample jobs) their numbers are
+#: written as ezdxf writes a float, the shortest text that reads back exactly (the bytes ezdxf's own
+#: entities had); above it with :data:`BULK_DECIMALS` decimals from numpy's digit tables
+#: (``writers/rows.py``), which is about ten times faster than Python's float text.
+EXACT_MAX_ENTITIES = 50_000
+
+#: Decimals of a coordinate written in bulk above :data:`EXACT_MAX_ENTITIES`: those of the
+#: point file (0.1 mm, 0.0001 ft), which the large plan had before.
+BULK_DECIMALS = COORDINATE_DECIMALS
 
 #: Up to this many control points besides the setups' each has a small ring around its POINT;
 #: above it (a design file's survey points: 215,000 in one) a POINT and its id only, both in
@@ -425,7 +436,9 @@ class Bulk:
 
     :meth:`reserve` puts a placeholder POINT where the run goes and skips the handles of the run,
     so every entity ezdxf draws afterwards has the handle it would have had; :meth:`splice` puts
-    each run in place of its placeholder.  A run is one row per item (a stake, a control point)
+    each run in place of its placeholder.  Up to :data:`EXACT_MAX_ENTITIES` entities in all their
+    numbers are written as ezdxf writes them, above it to :data:`BULK_DECIMALS` decimals.  A run is
+    one row per item (a stake, a control point)
     of one or more entities each, rendered in blocks of rows, each block from whole columns.
     """
 
@@ -443,23 +456,30 @@ class Bulk:
     def splice(self, data: bytes, owner: str) -> bytes:
         """The drawing ``data`` with each placeholder replaced by its run (``owner``: the model space's handle)."""
         pieces, at = [], 0
+        exact = sum(count for _, count, _ in self.runs) <= EXACT_MAX_ENTITIES
         for first, count, entities in self.runs:
             # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
             start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, max(at - 1, 0)) + 1
             n, ents = entities()
             assert n * len(ents) == count
-            pieces += [data[at:start], _entity_rows(first, owner, n, ents)]
+            pieces += [data[at:start], _entity_rows(first, owner, n, ents, exact)]
             at = data.index(b"\n  0\n", start) + 1
         return b"".join(pieces) + data[at:]
 
 
-def _floats(values: np.ndarray) -> rows.Field:
-    """Floats as ezdxf writes them (``str(float)``), one a row."""
-    return rows.text(list(map(repr, values.tolist())))
+def _floats(values: np.ndarray, exact: bool) -> rows.Field:
+    """Floats one a row: as ezdxf writes them (``str(float)``, the shortest text that reads back
+    exactly) when ``exact``, else with :data:`BULK_DECIMALS` decimals (from the digit tables).
+    """
+    if exact or not values.size or np.abs(values).max() >= 1e12:
+        return rows.text(list(map(repr, values.tolist())))
+    return rows.fixed(values, BULK_DECIMALS)
 
 
-def _entity_rows(first: int, owner: str, n: int, ents: list[Entity]) -> bytes:
-    """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order."""
+def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> bytes:
+    """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order, the
+    numbers written in full (``exact``) or to :data:`BULK_DECIMALS` decimals.
+    """
     m = len(ents)
     out = []
     step = 16384
@@ -478,7 +498,7 @@ def _entity_rows(first: int, owner: str, n: int, ents: list[Entity]) -> bytes:
                     text += value
                     continue
                 fields.append(rows.const(text, k))
-                fields.append(_floats(value[sl]) if isinstance(value, np.ndarray) else rows.text(value[sl]))
+                fields.append(_floats(value[sl], exact) if isinstance(value, np.ndarray) else rows.text(value[sl]))
                 text = ""
             fields.append(rows.const(text, k))
             head = "\n"
