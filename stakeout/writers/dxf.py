@@ -278,7 +278,10 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True
         if ol.offset != 0.0 and not ol.widening:
             _draw_path(msp, d, ol.offset, "SO-OFFSET")
     for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
-        msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
+        pl = msp.add_lwpolyline([], dxfattribs={"layer": "SO-OFFSET"})
+        # the vertices (x, y, start width, end width, bulge) as one array: ezdxf's array itself,
+        # without its per-vertex append (0.4 s for a 22,000-vertex taper)
+        pl.lwpoints.values = np.column_stack([te_, tn_, np.zeros((te_.size, 3))]).astype(np.float64)
 
     bulk.reserve(msp, 2 * len(sp), lambda: _stake_entities(d, h))  # a POINT and its number per stake
 
