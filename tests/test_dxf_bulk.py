@@ -45,6 +45,9 @@ class _EzdxfBulk(dxf.Bulk):
                     t.set_placement((float(tags[10]), float(tags[20])),
                                     align=ezdxf.enums.TextEntityAlignment.LEFT)
 
+    def reserve_polyline(self, msp, layer, x, y):
+        msp.add_lwpolyline(list(zip(x.tolist(), y.tolist())), dxfattribs={"layer": layer})
+
     def splice(self, data, owner):
         return data
 
@@ -81,9 +84,10 @@ def _compare(d, monkeypatch) -> bytes:
 
 
 @pytest.mark.parametrize("sample", ["loop_ramp_usft.toml", "harrow_fen_bypass_control_m.toml",
-                                    "orchard_vale_interchange_m.toml"])
+                                    "orchard_vale_interchange_m.toml", "kestrel_rise_superelevation_m.toml"])
 def test_bulk_entities_are_the_bytes_ezdxf_writes(sample, monkeypatch):
-    # reference library: ezdxf drawing the same POINT, CIRCLE and TEXT entities itself (one, several alignments)
+    # reference library: ezdxf drawing the same POINT, LINE, CIRCLE, TEXT and LWPOLYLINE entities itself
+    # (one alignment, several, a widened line)
     _compare(build_design(load_job(SAMPLES / sample)), monkeypatch)
 
 
@@ -186,11 +190,13 @@ def test_few_other_control_points_are_drawn_and_labelled(tmp_path):
     assert picture_control.CONTROL_LABEL_MAX >= 12
 
 
-def test_rounded_bulk_numbers_read_back_as_the_exact_drawing(tmp_path, monkeypatch):
+@pytest.mark.parametrize("widened", [False, True])
+def test_rounded_bulk_numbers_read_back_as_the_exact_drawing(widened, tmp_path, monkeypatch):
     # above EXACT_MAX_ENTITIES the numbers are written to 4 decimals: read back with ezdxf (a reference
     # library), the same entities in the same order with the same handles, layers, texts and heights,
     # every coordinate within half a unit of the fourth decimal of the exactly written drawing
-    d = build_design(load_job(_with_control(tmp_path, 30, 300.0)))
+    job = SAMPLES / "kestrel_rise_superelevation_m.toml" if widened else _with_control(tmp_path, 30, 300.0)
+    d = build_design(load_job(job))
     exact = _read(dxf.plan_dxf(d)).modelspace()
     monkeypatch.setattr(dxf, "EXACT_MAX_ENTITIES", 0)
     rounded = _read(dxf.plan_dxf(d)).modelspace()
@@ -200,6 +206,8 @@ def test_rounded_bulk_numbers_read_back_as_the_exact_drawing(tmp_path, monkeypat
         assert (a.dxftype(), a.dxf.handle, a.dxf.layer) == (b.dxftype(), b.dxf.handle, b.dxf.layer)
         if a.dxftype() == "TEXT":
             assert (a.dxf.text, a.dxf.height, a.dxf.rotation) == (b.dxf.text, b.dxf.height, b.dxf.rotation)
+        if a.dxftype() == "LWPOLYLINE":
+            assert np.allclose(a.get_points("xy"), b.get_points("xy"), rtol=0, atol=0.5e-4 + 1e-9)
         for name in attrs:
             if a.dxf.hasattr(name):
                 assert np.allclose(tuple(a.dxf.get(name)), tuple(b.dxf.get(name)), rtol=0, atol=0.5e-4 + 1e-9)

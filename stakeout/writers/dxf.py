@@ -278,10 +278,7 @@ def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True
         if ol.offset != 0.0 and not ol.widening:
             _draw_path(msp, d, ol.offset, "SO-OFFSET")
     for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
-        pl = msp.add_lwpolyline([], dxfattribs={"layer": "SO-OFFSET"})
-        # the vertices (x, y, start width, end width, bulge) as one array: ezdxf's array itself,
-        # without its per-vertex append (0.4 s for a 22,000-vertex taper)
-        pl.lwpoints.values = np.column_stack([te_, tn_, np.zeros((te_.size, 3))]).astype(np.float64)
+        bulk.reserve_polyline(msp, "SO-OFFSET", te_, tn_)
 
     bulk.reserve(msp, 2 * len(sp), lambda: _stake_entities(d, h))  # a POINT and its number per stake
 
@@ -433,41 +430,69 @@ class Entity:
     tags: list[tuple[int, Value]]
 
 
+#: How a reserved run is written: (first handle, model space's handle, numbers exact?) -> bytes.
+Render = Callable[[int, str, bool], list[bytes]]
+
+
 class Bulk:
     """Runs of entities reserved in a drawing and written after it with numpy, byte for byte as
     ezdxf writes them (checked by a test against entities ezdxf drew).
 
     :meth:`reserve` puts a placeholder POINT where the run goes and skips the handles of the run,
     so every entity ezdxf draws afterwards has the handle it would have had; :meth:`splice` puts
-    each run in place of its placeholder.  Up to :data:`EXACT_MAX_ENTITIES` entities in all their
-    numbers are written as ezdxf writes them, above it to :data:`BULK_DECIMALS` decimals.  A run is
-    one row per item (a stake, a control point)
-    of one or more entities each, rendered in blocks of rows, each block from whole columns.
+    each run in place of its placeholder.  Up to :data:`EXACT_MAX_ENTITIES` entities (and
+    polyline vertices) in all their numbers are written as ezdxf writes them, above it to
+    :data:`BULK_DECIMALS` decimals.  A run is one row per item (a stake, a control point) of one
+    or more entities each, or one polyline, rendered in blocks of rows, each from whole columns.
     """
 
     def __init__(self) -> None:
-        self.runs: list[tuple[int, int, Callable[[], tuple[int, list[Entity]]]]] = []
+        self.runs: list[tuple[int, Render]] = []
+        self.size = 0
+
+    def _reserve(self, msp: Any, count: int, size: int, render: Render) -> None:
+        first = int(msp.add_point((0.0, 0.0), dxfattribs={"layer": "SO-STAKE"}).dxf.handle, 16)
+        msp.doc.entitydb.handles.reset("%X" % (first + count))
+        self.runs.append((first, render))
+        self.size += size
 
     def reserve(self, msp: Any, count: int, entities: Callable[[], tuple[int, list[Entity]]]) -> None:
         """Reserve ``count`` handles here for the entities ``entities()`` gives (rows, entities a row)."""
-        if count == 0:
-            return
-        first = int(msp.add_point((0.0, 0.0), dxfattribs={"layer": "SO-STAKE"}).dxf.handle, 16)
-        msp.doc.entitydb.handles.reset("%X" % (first + count))
-        self.runs.append((first, count, entities))
+        def render(first: int, owner: str, exact: bool) -> list[bytes]:
+            n, ents = entities()
+            assert n * len(ents) == count
+            return _entity_rows(first, owner, n, ents, exact)
+
+        if count:
+            self._reserve(msp, count, count, render)
+
+    def reserve_polyline(self, msp: Any, layer: str, x: np.ndarray, y: np.ndarray) -> None:
+        """Reserve an open LWPOLYLINE through (x, y) here, as ``msp.add_lwpolyline`` draws it."""
+        def render(first: int, owner: str, exact: bool) -> list[bytes]:
+            head = (f"  0\nLWPOLYLINE\n  5\n{first:X}\n330\n{owner}\n100\nAcDbEntity\n  8\n{layer}\n"
+                    f"100\nAcDbPolyline\n 90\n{x.size}\n 70\n0\n").encode("ascii")
+            out = [head]
+            for i in range(0, x.size, 16384):
+                sl = slice(i, min(x.size, i + 16384))
+                k = sl.stop - i
+                out.append(rows.join_rows([rows.const(" 10\n", k), _floats(x[sl], exact), rows.const("\n 20\n", k),
+                                           _floats(y[sl], exact)], k))
+            return out
+
+        self._reserve(msp, 1, x.size, render)
 
     def splice(self, data: bytes, owner: str) -> bytes:
         """The drawing ``data`` with each placeholder replaced by its run (``owner``: the model space's handle)."""
         pieces, at = [], 0
-        exact = sum(count for _, count, _ in self.runs) <= EXACT_MAX_ENTITIES
-        for first, count, entities in self.runs:
+        exact = self.size <= EXACT_MAX_ENTITIES
+        for first, render in self.runs:
             # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
             start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, max(at - 1, 0)) + 1
-            n, ents = entities()
-            assert n * len(ents) == count
-            pieces += [data[at:start], _entity_rows(first, owner, n, ents, exact)]
+            pieces.append(data[at:start])
+            pieces += render(first, owner, exact)
             at = data.index(b"\n  0\n", start) + 1
-        return b"".join(pieces) + data[at:]
+        pieces.append(data[at:])
+        return b"".join(pieces)
 
 
 def _floats(values: np.ndarray, exact: bool) -> rows.Field:
@@ -479,7 +504,7 @@ def _floats(values: np.ndarray, exact: bool) -> rows.Field:
     return rows.fixed(values, BULK_DECIMALS)
 
 
-def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> bytes:
+def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> list[bytes]:
     """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order, the
     numbers written in full (``exact``) or to :data:`BULK_DECIMALS` decimals.
     """
@@ -506,7 +531,7 @@ def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool
             fields.append(rows.const(text, k))
             head = "\n"
         out.append(rows.join_rows(fields, k))
-    return b"".join(out)
+    return out
 
 
 def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: list[str]) -> list[tuple[int, Value]]:
