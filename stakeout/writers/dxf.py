@@ -73,11 +73,11 @@ TEXT_STYLE = "SO-TEXT"
 #: the drawing is zoomable and layer SO-STAKE-NO can be switched off.  They are written in bulk
 #: (:class:`Bulk`), so a labelled plan of a million stakes takes seconds, not minutes.
 
-#: Up to this many entities written in bulk (a small job: the sample jobs) their numbers are
-#: written as ezdxf writes a float, the shortest text that reads back exactly (the bytes ezdxf's own
-#: entities had); above it with :data:`BULK_DECIMALS` decimals from numpy's digit tables
+#: Up to this many entities (and polyline vertices) written in bulk (a small job, such as the
+#: sample jobs) their numbers are written as ezdxf writes a float, the shortest text that reads
+#: back exactly (the bytes ezdxf's own entities had); above it with :data:`BULK_DECIMALS` decimals from numpy's digit tables
 #: (``writers/rows.py``), which is about ten times faster than Python's float text.
-EXACT_MAX_ENTITIES = 50_000
+EXACT_MAX_ENTITIES = 10_000
 
 #: Decimals of a coordinate written in bulk above :data:`EXACT_MAX_ENTITIES`: those of the
 #: point file (0.1 mm, 0.0001 ft), which the large plan had before.
