@@ -211,3 +211,13 @@ def test_rounded_bulk_numbers_read_back_as_the_exact_drawing(widened, tmp_path, 
         for name in attrs:
             if a.dxf.hasattr(name):
                 assert np.allclose(tuple(a.dxf.get(name)), tuple(b.dxf.get(name)), rtol=0, atol=0.5e-4 + 1e-9)
+
+
+def test_control_points_all_outside_the_view_are_counted(tmp_path):
+    # control points far from the job (the view is the job's): none drawn, the note says so
+    job = _with_control(tmp_path, 5, 10.0)
+    text = (tmp_path / "ctrl.csv").read_text(encoding="utf-8").replace(",5012", ",5912")  # 900 km north
+    (tmp_path / "ctrl.csv").write_text(text, encoding="utf-8")
+    svg = (build_job(job, tmp_path / "out", "--only", "picture") / "plan.svg").read_text(encoding="utf-8")
+    assert 'class="so-control"' not in svg
+    assert "none of the 5 in the view" in svg

@@ -373,6 +373,8 @@ def _control_notes(oc: OtherControl, shown: int) -> list[str]:
     """What the picture shows of the control points no setup uses (nothing when there are none)."""
     if not oc.total:
         return []
+    if not oc.drawn:
+        return [f"other control points: none of the {oc.total:,} in the view; every point is in control.csv"]
     outside = f"; {oc.total - oc.inside:,} outside the view" if oc.inside < oc.total else ""
     if oc.drawn < oc.inside:
         return [f"other control points: {oc.drawn:,} rings for {oc.inside:,} in the view (thinned, over "
