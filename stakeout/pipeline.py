@@ -6,8 +6,6 @@ The CLI only parses options and calls these functions.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
-from contextlib import contextmanager
 from dataclasses import replace
 from pathlib import Path
 
@@ -17,7 +15,7 @@ from .design import Design, build_design, precision_rules_setups
 from .errors import JobFileError, StakedFileError
 from .job import Job
 from .jobfile import load_job
-from .outputs import OUTPUTS, Output, Rendered, parse_only
+from .outputs import OUTPUTS, Rendered, parse_only
 from .progress import Progress
 from .textsafety import check_file_name
 
@@ -25,15 +23,6 @@ __all__ = ["run_build", "run_curve_report", "run_check", "run_inspect", "compute
 
 #: The console lists at most this many setups (the sheet lists them all).
 NOTE_SETUPS = 20
-
-#: A build of at least this many stakes renders :data:`ASIDE_OUTPUTS` in a second process (forked
-#: once the design is built) while this one renders the others; below it, or where there is no fork
-#: or a single core, every output is rendered here.  Measured (DEVELOPERS.md, "Performance"): a
-#: 250,000-stake default build on two cores.
-ASIDE_MIN_STAKES = 100_000
-
-#: The outputs rendered aside: the largest that nothing else of the build needs first.
-ASIDE_OUTPUTS = ("dxf",)
 
 
 def compute(job_path: str | Path) -> Design:
@@ -214,16 +203,9 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     count = sum(len(p.stakes) for p in d.parts or (d,))
     progress = Progress(len(files) + 1, count)
     progress.step("computed")
-    aside = None
-    if count >= ASIDE_MIN_STAKES:
-        aside = _Aside.start(d, done, [o for o in files if o.name in ASIDE_OUTPUTS])
-    with folder, _ending(aside):
+    with folder:
         for o in files:  # per-point CSVs render their chunks on every core
-            data = aside.take(o) if aside is not None and o in aside.outputs else None
-            if data is not None:  # what another output may be drawn from (the preview from plan.dxf)
-                done.setdefault(o.filename, data)
-            else:  # not aside, or the second process failed: rendered here (its error raised here)
-                data = o.render(d, done)
+            data = o.render(d, done)
             folder.write_bytes(o.filename, data)
             written[o.filename] = data
             progress.step(o.filename)
@@ -247,98 +229,6 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         if f.not_used:
             notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")
     return notes
-
-
-class _Aside:
-    """Outputs rendered by a forked second process while this one renders the rest.
-
-    The child renders the outputs in order and sends each one's bytes down a pipe (a length, then
-    the bytes); a thread here reads them as they come, so the child never blocks on a full pipe.
-    The same code renders the same bytes in either process.  Anything going wrong in the child (an
-    error, a signal, running out of memory) ends it without a word: :meth:`take` then returns None
-    and the output is rendered here, where an error says what it says in a build without the child.
-    """
-
-    def __init__(self, pid: int, fd: int, outputs: list[Output]) -> None:
-        import threading
-
-        self.pid, self.outputs = pid, outputs
-        self._got: list[bytes] = []
-        self._reader = threading.Thread(target=self._read, args=(fd,), name="stakeout-aside", daemon=True)
-        self._reader.start()
-
-    @classmethod
-    def start(cls, d: Design, done: Rendered, outputs: list[Output]) -> "_Aside | None":
-        """Fork the second process (None: nothing to do, no fork, or one core)."""
-        import os
-
-        if not outputs or not hasattr(os, "fork") or len(os.sched_getaffinity(0) if hasattr(os, "sched_getaffinity")
-                                                          else range(os.cpu_count() or 1)) < 2:
-            return None
-        r, w = os.pipe()
-        pid = os.fork()
-        if pid == 0:  # the child: render, send, and end without running anything of the parent's exit
-            import signal
-
-            try:
-                os.close(r)
-                for name in ("SIGINT", "SIGTERM", "SIGHUP"):  # the parent cleans up; the child just ends
-                    if hasattr(signal, name):
-                        signal.signal(getattr(signal, name), signal.SIG_DFL)
-                with os.fdopen(w, "wb", buffering=0) as pipe:
-                    for o in outputs:
-                        data = o.render(d, done)
-                        pipe.write(len(data).to_bytes(8, "little"))
-                        view = memoryview(data)
-                        while view:
-                            view = view[pipe.write(view[:1 << 20]) or 0:]
-            finally:
-                os._exit(0)
-        os.close(w)
-        return cls(pid, r, outputs)
-
-    def _read(self, fd: int) -> None:
-        import os
-
-        with os.fdopen(fd, "rb") as pipe:
-            for _ in self.outputs:
-                head = pipe.read(8)
-                if len(head) < 8:
-                    return
-                size = int.from_bytes(head, "little")
-                data = pipe.read(size)
-                if len(data) < size:
-                    return
-                self._got.append(data)
-
-    def take(self, o: Output) -> bytes | None:
-        """The bytes of ``o`` from the second process, or None if it did not deliver them."""
-        k = self.outputs.index(o)
-        if k >= len(self._got):
-            self._reader.join()
-        return self._got[k] if k < len(self._got) else None
-
-    def end(self) -> None:
-        """Stop the second process (if still running) and reap it."""
-        import os
-        import signal
-
-        try:
-            if self._reader.is_alive():
-                os.kill(self.pid, signal.SIGKILL)
-            os.waitpid(self.pid, 0)
-        except (ProcessLookupError, ChildProcessError):
-            pass
-
-
-@contextmanager
-def _ending(aside: _Aside | None) -> Iterator[None]:
-    """End the second process however the build ends."""
-    try:
-        yield
-    finally:
-        if aside is not None:
-            aside.end()
 
 
 def run_curve_report(job_path: str | Path) -> str:
