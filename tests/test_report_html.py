@@ -159,6 +159,15 @@ def test_report_html_unbounded_at_many_stakes(tmp_path):
     ids = [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")]
     assert listed_must <= set(ids) <= listed_must | near
     assert ids == [r["point"] for r in rows if r["point"] in set(ids)]  # in the job's order
+    # each listed row is its own stake's: distance and r95 as setout.csv gives them, the flag as its note
+    heads = [th.text_content() for th in table.xpath("./thead/tr/th")]
+    by_id = {r["point"]: r for r in rows}
+    for tr in table.xpath("./tbody/tr"):
+        cell = dict(zip(heads, (td.text_content() for td in tr.xpath("./td"))))
+        r = by_id[cell["point"]]
+        assert abs(float(cell["grid dist"]) - float(r["grid_distance"])) <= 0.00051
+        assert cell["r95"] == r["r95"]
+        assert (cell["note"] == "r95>tol") == (cell["point"] in flagged) or cell["point"] in near
     para = table.getprevious().text_content()
     assert f"{n:,} stakes, {len(ids):,} listed here and {n - len(ids):,} left out" in para
     assert "every stake is in setout.csv, setout.txt and points.csv" in para

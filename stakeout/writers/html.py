@@ -13,10 +13,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from html import escape
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from types import SimpleNamespace
+from typing import TYPE_CHECKING, Any, cast
 
 import numpy as np
 
@@ -286,11 +287,13 @@ def _setout_section(d: Design) -> str:
         listed |= sd.setout.at_instrument
         if sd.flagged is not None:
             listed |= sd.flagged
-    cells = setout_cells(d, sided=True)  # offsets with their side, as setout.txt prints them
+    picked = None if listed is None else np.flatnonzero(listed)
+    view = d if picked is None else _cut(d, picked)  # only the listed stakes formatted
+    cells = setout_cells(view, sided=True)  # offsets with their side, as setout.txt prints them
     text_keys = {"point", "code", "feature", "note"}
     cols = [(SETOUT_HEADERS[c.key][1], "t" if c.key in text_keys else "n") for c, _ in cells]
     columns = [texts for _, texts in cells]
-    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
+    cs = slope_texts(view)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
     if cs is not None:
         keys = [c.key for c, _ in cells]
         at = keys.index("design_elevation" if "design_elevation" in keys else "ground_distance") + 1
@@ -299,7 +302,8 @@ def _setout_section(d: Design) -> str:
     out = []
     for heading, facts, idx in _setup_groups(d):
         shown = idx if listed is None else idx[listed[idx]]
-        rows = [[texts[i] for texts in columns] for i in shown.tolist()]
+        rows_at = shown if picked is None else np.searchsorted(picked, shown)  # rows of the listed stakes' texts
+        rows = [[texts[i] for texts in columns] for i in rows_at.tolist()]
         count = f"{len(idx):,} stakes"
         if len(shown) < len(idx):
             count += (f", {len(shown):,} listed here and {len(idx) - len(shown):,} left out (a report of more than "
@@ -310,6 +314,28 @@ def _setout_section(d: Design) -> str:
                    f"<p>{count}; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
                    f"{_table(cols, rows)}</section>")
     return "".join(out)
+
+
+def _cut(d: Design, picked: np.ndarray) -> Design:
+    """The design as the setout table's formatters (``setout_cells``, ``slope_texts``) read it, cut
+    to the stakes ``picked``: a report of a large job formats only the stakes it lists.
+    """
+    sd = d.setup
+    assert sd is not None
+
+    def take(values: Any) -> Any:
+        if isinstance(values, np.ndarray):
+            return values[picked]
+        return [values[i] for i in picked.tolist()]
+
+    slope = d.stakes.slope
+    view = SimpleNamespace(
+        setup=SimpleNamespace(setout=SimpleNamespace(at_instrument=sd.setout.at_instrument[picked])),
+        presentation=SimpleNamespace(setout_columns=[replace(c, values=take(c.values))
+                                                     for c in d.presentation.setout_columns]),
+        stakes=SimpleNamespace(slope=None if slope is None else slope[picked]),
+        sections=d.sections)
+    return cast(Design, view)
 
 
 def _stakes_section(d: Design) -> str:
