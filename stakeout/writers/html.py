@@ -318,7 +318,9 @@ def _setout_section(d: Design) -> str:
 
 def _cut(d: Design, picked: np.ndarray) -> Design:
     """The design as the setout table's formatters (``setout_cells``, ``slope_texts``) read it, cut
-    to the stakes ``picked``: a report of a large job formats only the stakes it lists.
+    to the stakes ``picked``: a report of a large job formats only the stakes it lists.  Whatever
+    else of the design they read is the design's own; a per-stake part not cut here fails loudly
+    (an attribute error) rather than misaligning rows.
     """
     sd = d.setup
     assert sd is not None
@@ -329,13 +331,23 @@ def _cut(d: Design, picked: np.ndarray) -> Design:
         return [values[i] for i in picked.tolist()]
 
     slope = d.stakes.slope
-    view = SimpleNamespace(
-        setup=SimpleNamespace(setout=SimpleNamespace(at_instrument=sd.setout.at_instrument[picked])),
-        presentation=SimpleNamespace(setout_columns=[replace(c, values=take(c.values))
-                                                     for c in d.presentation.setout_columns]),
-        stakes=SimpleNamespace(slope=None if slope is None else slope[picked]),
-        sections=d.sections)
+    view = _Cut(d,
+                setup=SimpleNamespace(setout=SimpleNamespace(at_instrument=sd.setout.at_instrument[picked])),
+                presentation=SimpleNamespace(setout_columns=[replace(c, values=take(c.values))
+                                                             for c in d.presentation.setout_columns]),
+                stakes=SimpleNamespace(slope=None if slope is None else slope[picked]))
     return cast(Design, view)
+
+
+class _Cut(SimpleNamespace):
+    """A design with some parts replaced (:func:`_cut`); every other attribute is the design's."""
+
+    def __init__(self, d: Design, **parts: Any) -> None:
+        super().__init__(**parts)
+        self._design = d
+
+    def __getattr__(self, name: str) -> Any:  # only for names not set here
+        return getattr(self._design, name)
 
 
 def _stakes_section(d: Design) -> str:
