@@ -9,19 +9,23 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any, Protocol, TypeVar
 
 import numpy as np
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..numbers import fixed_string, fixed_strings, round_to
-from ..presentation import CurveView, DeflectionTable, Element, PerKind
+from ..presentation import AT_INSTRUMENT_NOTE, FLAG, CurveView, DeflectionTable, Element, PerKind
+from . import rows
+
+if TYPE_CHECKING:
+    from ..stations import Stationing
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
@@ -365,12 +369,27 @@ class Column:
 _INDENT_MAX = 20
 
 
-def _indent(columns: list[Column]) -> int:
+class _Packed(Protocol):
+    """What packing needs of a column (:class:`Column`, :class:`FieldColumn`)."""
+
+    @property
+    def width(self) -> int:
+        """Characters the column needs."""
+
+    @property
+    def with_previous(self) -> bool:
+        """Printed on the same line as the column before it."""
+
+
+_C = TypeVar("_C", bound=_Packed)
+
+
+def _indent(columns: Sequence[_Packed]) -> int:
     """Where a record's run-on lines start (see :func:`_pack`)."""
     return columns[0].width + 1 if columns[0].width <= _INDENT_MAX else 4
 
 
-def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
+def _pack(columns: list[_C], width: int | None) -> list[list[_C]]:
     """Columns packed in order onto lines of at most ``width`` characters.
 
     The first line starts at the margin; every further line starts under
@@ -381,14 +400,14 @@ def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
     """
     if width is None or not columns:
         return [columns]
-    groups: list[list[Column]] = []
+    groups: list[list[_C]] = []
     for c in columns:
         if c.with_previous and groups:
             groups[-1].append(c)
         else:
             groups.append([c])
     indent = _indent(columns)
-    lines: list[list[Column]] = [[]]
+    lines: list[list[_C]] = [[]]
     used = -1
     for g in groups:
         need = sum(c.width + 1 for c in g)
@@ -448,7 +467,7 @@ class SheetPart:
 
     head: list[str]
     columns: list[str]
-    rows: list[str]
+    rows: list[str] | Records
     continued: str = ""
     new_page: bool = True
 
@@ -468,7 +487,12 @@ _MIN_RECORDS = 3
 
 
 def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> str:
-    """A printable sheet of several tables (:class:`SheetPart`).
+    """A printable sheet of several tables (:class:`SheetPart`), as text: :func:`paged_bytes`."""
+    return paged_bytes(head, parts, title, foot, width).decode("utf-8")
+
+
+def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> bytes:
+    """A printable sheet of several tables (:class:`SheetPart`), as UTF-8.
 
     The first page opens with ``head`` and the first part's head; every
     later part opens a page with its own head (or follows on the page in
@@ -478,60 +502,491 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
     are numbered through the whole sheet and split by a form feed; the foot
     and the cautions close it (on a page of their own when the last is
     full).  Head and foot lines wider than ``width`` (or the widest table
-    line, where wider) are wrapped, the page titles cut.
+    line, where wider) are wrapped, the page titles cut.  The pages are laid
+    out from each record's count of lines, and the records' text (a part's
+    :class:`Records`, laid out a block at a time) is written only then.
     """
-    table = [len(line) for p in parts for line in p.columns] + \
-        [len(line) for p in parts for r in p.rows for line in row_lines(r)]
+    recs = [p.rows if isinstance(p.rows, Records) else Records.of_texts(p.rows) for p in parts]
+    table = [len(line) for p in parts for line in p.columns] + [int(r.widest.max()) for r in recs if r.widest.size]
     width = max([width] + table)
     head = wrap_lines(head, width)
     closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
-    pages: list[list[str]] = []
-    for k, part in enumerate(parts):
+    # a page: its lines of text and its runs of records (part, first, stop); and its count of lines
+    pages: list[list[str | tuple[int, int, int]]] = []
+    counts: list[int] = []
+    for k, (part, rec) in enumerate(zip(parts, recs)):
         columns = [c.rstrip() for c in part.columns]
         part_head = wrap_lines(part.head, width)
-        records = [row_lines(r) for r in part.rows]
-        ruled = max([0] + [len(c) for c in columns] + [len(line) for r in records for line in r[:1]])
+        n = int(rec.lines.size)
+        cum = np.concatenate([[0], np.cumsum(rec.lines)])
+        ruled = max([0] + [len(c) for c in columns] + ([int(rec.first.max())] if n else []))
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
         first = True
         pos = 0  # records placed so far
-        while first or pos < len(records):
+        while first or pos < n:
             if k == 0 and first:
                 opening = head + ["page {page} of {pages}"] + part_head
             elif first and not part.new_page and pages:
                 opening = [""] + part_head
-                need = len(opening) + len(columns) + 3 * len(rules) + sum(len(r) for r in records[:_MIN_RECORDS])
-                if len(pages[-1]) + need > PAGE_LINES:
+                need = len(opening) + len(columns) + 3 * len(rules) + int(cum[min(n, _MIN_RECORDS)])
+                if counts[-1] + need > PAGE_LINES:
                     opening = ["{title}", ""] + part_head
             elif first:
                 opening = ["{title}", ""] + part_head
             else:
                 opening = ["{title}", clip(part.continued, width)]
             on_new_page = opening[0] == "{title}" or not pages or (k == 0 and first)
-            page = opening + rules + columns + rules
-            used = (0 if on_new_page else len(pages[-1])) + len(page) + len(rules)
-            start = pos
-            while pos < len(records) and (used + len(records[pos]) <= PAGE_LINES or pos == start):
-                used += len(records[pos])
-                page.extend(records[pos])
-                pos += 1
+            page: list[str | tuple[int, int, int]] = [*opening, *rules, *columns, *rules]
+            lines = len(page) + len(rules)
+            used = (0 if on_new_page else counts[-1]) + lines
+            if pos < n:  # as many records as fit, at least one
+                stop = int(np.searchsorted(cum, cum[pos] + PAGE_LINES - used, side="right")) - 1
+                stop = min(n, max(stop, pos + 1))
+                page.append((k, pos, stop))
+                lines += int(cum[stop] - cum[pos])
+                pos = stop
             page.extend(rules)
             if on_new_page:
                 pages.append(page)
+                counts.append(lines)
             else:
                 pages[-1].extend(page)
+                counts[-1] += lines
             first = False
-    if len(pages[-1]) + len(closing) <= PAGE_LINES:
+    if counts[-1] + len(closing) <= PAGE_LINES:
         pages[-1].extend(closing)
     else:  # on pages of their own (a foot longer than a page runs on)
         for i in range(0, len(closing), PAGE_LINES - 1):
-            pages.append(["{title}"] + closing[i:i + PAGE_LINES - 1])
+            pages.append(["{title}", *closing[i:i + PAGE_LINES - 1]])
     total = len(pages)
-    out: list[str] = []
-    for n, lines in enumerate(pages, start=1):
-        for i, line in enumerate(lines):
+    out: list[bytes] = []
+    held: dict[int, tuple[int, int, bytes, NDArray[np.int64]]] = {}  # each part's block laid out
+
+    def records(k: int, a: int, b: int) -> bytes:
+        got = held.get(k)
+        if got is None or not (got[0] <= a and b <= got[1]):
+            stop = max(b, min(int(recs[k].lines.size), a + _BLOCK))
+            data, size = recs[k].layout(a, stop)
+            got = held[k] = (a, stop, data, np.concatenate([[0], np.cumsum(size)]))
+        return got[2][int(got[3][a - got[0]]):int(got[3][b - got[0]])]
+
+    for n, items in enumerate(pages, start=1):
+        for i, line in enumerate(items):
+            if isinstance(line, tuple):
+                out.append(records(*line))
+                continue
             if line == "{title}":
                 line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
             elif line == "page {page} of {pages}":
                 line = f"page {n} of {total}"
-            out.append(line)
-    return "\n".join(out) + "\n"
+            out.append(line.encode("utf-8") + b"\n")
+    return b"".join(out)
+
+
+# ---- tables from whole columns -------------------------------------------------------------
+# A long table (a million stakes) is laid out by numpy a block of records at a time, never a
+# Python string a cell: each column is a source of byte fields (writers/rows.py: NUL is
+# padding), aligned to its width, joined into lines, and the lines of a record joined; the
+# bytes are those of Column/table_lines (tests/test_sheets_fast.py holds them equal).
+
+#: Records laid out at once (bounded temporaries, reused from cache).
+_BLOCK = 8192
+
+
+class Cells(Protocol):
+    """A column's texts, any block of rows at a time as a field (NUL-padded UTF-8)."""
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which`` (indices)."""
+
+
+@dataclass(frozen=True)
+class Texts:
+    """Texts given one a row (ids read from a file, a short list): :class:`rows.Strings`."""
+
+    strings: rows.Strings
+
+    @classmethod
+    def of(cls, texts: Sequence[str]) -> Texts:
+        """The column of ``texts``."""
+        return cls(rows.Strings(texts))
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.strings.n
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return self.strings.field(which)
+
+
+@dataclass(frozen=True)
+class Coded:
+    """A column of few distinct texts: each row an index into ``words``."""
+
+    words: Cells
+    codes: NDArray[np.intp]
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.codes.size)
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return self.words.field(self.codes[which])
+
+
+@dataclass(frozen=True)
+class Formatted:
+    """Numbers formatted a block at a time by ``format`` (a :mod:`rows` formatter of finite
+    values), empty where ``empty``; a non-finite value not empty prints as Python prints it
+    (``nan``), as :func:`fixed` does.
+    """
+
+    values: NDArray[np.float64]
+    format: Callable[[NDArray[np.float64]], rows.Field]
+    empty: NDArray[np.bool_] | None = None
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.values.size)
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        v = self.values[which]
+        bad = ~np.isfinite(v)
+        f = self.format(np.where(bad, 0.0, v))
+        if self.empty is not None:
+            f = rows.blank(f, self.empty[which])
+            bad &= ~self.empty[which]
+        if bad.any():  # few: each as Python writes it
+            words = rows.Strings([str(x) for x in v[bad].tolist()])
+            g = words.field(slice(None))
+            out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
+            out[:, :f.shape[1]] = f
+            out[bad] = 0
+            out[bad, :g.shape[1]] = g
+            f = out
+        return f
+
+
+@dataclass(frozen=True)
+class Joined:
+    """Fields side by side, each from its own column (a prefix and a number, a size and a side)."""
+
+    parts: tuple[Cells, ...]
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.parts[0].n
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return np.hstack([p.field(which) for p in self.parts])
+
+
+@dataclass(frozen=True)
+class Same:
+    """The same text on every one of ``count`` rows (``""``: an empty column)."""
+
+    text: str
+    count: int
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.count
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        b = np.frombuffer(self.text.encode("utf-8"), dtype=np.uint8)
+        return np.ascontiguousarray(np.broadcast_to(b, (np.asarray(which).size, b.size)))
+
+
+@dataclass(frozen=True)
+class Stacked:
+    """Columns one after another (each alignment's stakes, in job order)."""
+
+    parts: tuple[Cells, ...]
+
+    @cached_property
+    def starts(self) -> NDArray[np.intp]:
+        """Where each part starts, then the end."""
+        return np.concatenate([[0], np.cumsum([p.n for p in self.parts])]).astype(np.intp)
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.starts[-1])
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        which = np.asarray(which, dtype=np.intp)
+        part = np.searchsorted(self.starts, which, side="right") - 1
+        fields = [(k, p.field(which[part == k] - self.starts[k])) for k, p in enumerate(self.parts)
+                  if (part == k).any()]
+        out = np.zeros((which.size, max([0] + [f.shape[1] for _, f in fields])), dtype=np.uint8)
+        for k, f in fields:
+            out[part == k, :f.shape[1]] = f
+        return out
+
+
+def station_labels(stationing: Stationing, internal: NDArray[np.float64]) -> Formatted:
+    """The station labels of internal stations, as :meth:`Stationing.labels` writes them
+    (``11+50.00(2)`` where an equation makes a station occur twice).
+    """
+    def format(x: NDArray[np.float64]) -> rows.Field:
+        f = rows.station(stationing.station(x), stationing.station_length, stationing.decimals)
+        twice = stationing.occurs_twice(x)
+        if twice.any():
+            k = x.size
+            suffix = np.hstack([rows.const("(", k), rows.integer(stationing.region(x)), rows.const(")", k)])
+            f = np.hstack([f, rows.blank(suffix, ~twice)])
+        return f
+    return Formatted(np.asarray(internal, dtype=float), format)
+
+
+def _chars(f: rows.Field) -> NDArray[np.int64]:
+    """Characters in each row of a field (UTF-8: bytes that do not continue a character)."""
+    out: NDArray[np.int64] = ((f != 0) & ((f & 0xC0) != 0x80)).sum(axis=1)
+    return out
+
+
+@dataclass(frozen=True)
+class FieldColumn:
+    """A column of a printed table from whole columns: as :class:`Column`, its values a
+    :class:`Cells` source laid out a block at a time.
+    """
+
+    header: str
+    cells: Cells
+    align: str = ">"
+    with_previous: bool = False
+
+    @cached_property
+    def width(self) -> int:
+        """Characters the column needs: its header or its widest value."""
+        n = self.cells.n
+        widest = [len(self.header)]
+        for a in range(0, n, _BLOCK):
+            widest.append(int(_chars(self.cells.field(np.arange(a, min(n, a + _BLOCK)))).max()))
+        return max(widest)
+
+    def cell(self, text: str) -> str:
+        """``text`` padded to the column's width."""
+        return f"{text:{self.align}{self.width}}"
+
+    def aligned(self, which: NDArray[np.intp]) -> rows.Field:
+        """Rows ``which`` padded with spaces to the column's width (as :meth:`cell`)."""
+        f = self.cells.field(which)
+        keep = f != 0
+        nb = keep.sum(axis=1)
+        pad = self.width - _chars(f)
+        m = f.shape[0]
+        wide = int((pad + nb).max()) if m else self.width
+        out = np.zeros((m, max(wide, self.width)), dtype=np.uint8)
+        r, c = np.nonzero(keep)
+        rank = (np.cumsum(keep, axis=1) - 1)[r, c]
+        at = np.arange(out.shape[1])[None, :]
+        if self.align == ">":
+            out[r, pad[r] + rank] = f[r, c]
+            out[at < pad[:, None]] = 32
+        else:
+            out[r, rank] = f[r, c]
+            out[(at >= nb[:, None]) & (at < (nb + pad)[:, None])] = 32
+        return out
+
+
+def _rstrip(f: rows.Field) -> rows.Field:
+    """Each row without its trailing spaces (set to padding)."""
+    ink = (f != 32) & (f != 0)
+    last = f.shape[1] - np.argmax(ink[:, ::-1], axis=1)  # one past the last ink (0 without ink)
+    last = np.where(ink.any(axis=1), last, 0)
+    f[np.arange(f.shape[1])[None, :] >= last[:, None]] = 0
+    return f
+
+
+@dataclass(frozen=True)
+class Block:
+    """Records laid out: their bytes (every line ending in ``\\n``), and for each record its
+    bytes, its lines, its first line's and its widest line's characters.
+    """
+
+    data: bytes
+    size: NDArray[np.int64]
+    lines: NDArray[np.int64]
+    first: NDArray[np.int64]
+    widest: NDArray[np.int64]
+
+
+class FieldTable:
+    """A table of :class:`FieldColumn` packed on lines of ``width`` as :func:`table_lines`
+    packs them (``None``: one line a record); records laid out a block at a time.
+    """
+
+    def __init__(self, columns: list[FieldColumn], width: int | None = WIDTH):
+        self.columns = columns
+        self.packed = _pack(columns, width)
+        self.indent = _indent(columns) if columns else 0
+
+    def heads(self) -> list[str]:
+        """The column header lines."""
+        ind = " " * self.indent
+        return [((ind if k else "") + " ".join(c.cell(c.header) for c in cols)).rstrip()
+                for k, cols in enumerate(self.packed)]
+
+    def block(self, which: NDArray[np.intp]) -> Block:
+        """The records of rows ``which``."""
+        m = which.size
+        lines: list[rows.Field] = []
+        for k, cols in enumerate(self.packed):
+            parts: list[rows.Field] = [rows.const(" " * self.indent, m)] if k else []
+            for j, c in enumerate(cols):
+                if j:
+                    parts.append(rows.const(" ", m))
+                parts.append(c.aligned(which))
+            lines.append(_rstrip(np.hstack([np.broadcast_to(p, (m, p.shape[1])) for p in parts])))
+        chars = np.stack([_chars(f) for f in lines], axis=1)
+        used = chars > 0
+        # "\n".join(lines).rstrip(): the empty lines after the last that is not are dropped
+        last = np.where(used.any(axis=1), len(lines) - 1 - np.argmax(used[:, ::-1], axis=1), -1)
+        count = np.maximum(1, last + 1)
+        fields: list[rows.Field] = []
+        for k, f in enumerate(lines):
+            if k:
+                fields.append(rows.blank(rows.const("\n", m), count <= k))
+            fields.append(f)
+        size = sum((f != 0).sum(axis=1) for f in fields) + 1
+        return Block(rows.join_rows(fields, m), np.asarray(size, dtype=np.int64), count.astype(np.int64),
+                     chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
+
+
+@dataclass(frozen=True)
+class Records:
+    """The records of one part of a sheet, laid out on demand (:func:`paged_bytes`): for each
+    record its lines, its first line's and its widest line's characters, and ``layout(a, b)``
+    giving records ``a:b`` as bytes (every line ending in ``\n``) with each record's bytes.
+    """
+
+    lines: NDArray[np.int64]
+    first: NDArray[np.int64]
+    widest: NDArray[np.int64]
+    layout: Callable[[int, int], tuple[bytes, NDArray[np.int64]]]
+
+    @classmethod
+    def of_texts(cls, records: list[str]) -> Records:
+        """Records given as text (a record of several lines holds ``\n``)."""
+        split = [row_lines(r) for r in records]
+        data = [(r + "\n").encode("utf-8") for r in records]
+
+        def layout(a: int, b: int) -> tuple[bytes, NDArray[np.int64]]:
+            return b"".join(data[a:b]), np.array([len(x) for x in data[a:b]], dtype=np.int64)
+        return cls(np.array([len(r) for r in split], dtype=np.int64),
+                   np.array([len(r[0]) for r in split], dtype=np.int64),
+                   np.array([max(len(x) for x in r) for r in split], dtype=np.int64), layout)
+
+
+def table_records(table: FieldTable, which: NDArray[np.intp],
+                  titles: dict[int, list[str]] | None = None) -> Records:
+    """The records of ``table``'s rows ``which`` in that order, ``titles``: lines opening a
+    record (its position in ``which``), kept with it.
+    """
+    n = which.size
+    stats = [table.block(which[a:a + _BLOCK]) for a in range(0, n, _BLOCK)]
+    lines = np.concatenate([b.lines for b in stats]) if stats else np.zeros(0, dtype=np.int64)
+    first = np.concatenate([b.first for b in stats]) if stats else np.zeros(0, dtype=np.int64)
+    widest = np.concatenate([b.widest for b in stats]) if stats else np.zeros(0, dtype=np.int64)
+    del stats
+    titles = titles or {}
+    head = {k: ("\n".join(t) + "\n").encode("utf-8") for k, t in titles.items()}
+    for k, t in titles.items():
+        lines[k] += len(t)
+        first[k] = len(t[0])
+        widest[k] = max([int(widest[k])] + [len(x) for x in t])
+    keys = np.array(sorted(titles), dtype=np.int64)
+
+    def layout(a: int, b: int) -> tuple[bytes, NDArray[np.int64]]:
+        blk = table.block(which[a:b])
+        inside = keys[(keys >= a) & (keys < b)].tolist()
+        if not inside:
+            return blk.data, blk.size
+        ends = np.concatenate([[0], np.cumsum(blk.size)])
+        pieces, at = [], 0
+        size = blk.size.copy()
+        for k in inside:
+            cut = int(ends[k - a])
+            pieces += [blk.data[at:cut], head[k]]
+            size[k - a] += len(head[k])
+            at = cut
+        pieces.append(blk.data[at:])
+        return b"".join(pieces), size
+    return Records(lines, first, widest, layout)
+
+
+def fixed_format(decimals: int) -> Callable[[NDArray[np.float64]], rows.Field]:
+    """A block formatter of numbers to ``decimals`` (:func:`rows.fixed`)."""
+    return lambda v: rows.fixed(v, decimals)
+
+
+def dms_format(wrap360: bool) -> Callable[[NDArray[np.float64]], rows.Field]:
+    """A block formatter of angles to the second (:func:`rows.dms`)."""
+    return lambda v: rows.dms(v, 0, wrap360)
+
+
+def _number(values: NDArray[np.float64], decimals: int) -> Formatted:
+    """Numbers to ``decimals``, empty where NaN (a stake without the number)."""
+    v = np.asarray(values, dtype=float)
+    return Formatted(v, fixed_format(decimals), np.isnan(v))
+
+
+def setout_fields(d: Design) -> list[tuple[str, bool, Cells]]:
+    """The setout table's columns as :func:`setout_cells` writes them for the sheet (offsets
+    with their side), as whole-column sources: ``(key, grouped, cells)`` in order, the columns
+    of :attr:`Presentation.setout_columns` (tests/test_sheets_fast.py holds them equal).
+    """
+    sd = d.setup
+    assert sd is not None
+    sp, so = d.stakes, sd.setout
+    n = len(sp)
+    numbered = Joined((Same(sp.prefix, sp.numbered),
+                       Formatted(sp.number.astype(float), lambda v: rows.integer(v.astype(np.int64)))))
+    named = list(sp.layout.names) if sp.layout is not None else []
+    point: Cells = Stacked((numbered, Texts.of(named))) if named else numbered
+    dec = d.unit.station_decimals
+    off = np.asarray(sp.offset, dtype=float)
+    shown = round_to(off, dec)  # the side of the offset as printed: one that rounds to zero is on the line
+    side = Coded(Texts.of([" LT", " RT", ""]), np.where(shown < 0, 0, np.where(shown > 0, 1, 2)))
+    at = np.asarray(sd.setout.at_instrument, dtype=bool)
+    out: list[tuple[str, bool, Cells]] = [
+        ("point", False, point),
+        ("station", False, Coded(station_labels(sp.stationing, sp.all_stations), sp.station_of)),
+        ("offset", False, Joined((Formatted(np.abs(off), fixed_format(dec)), side))),
+        ("code", False, Coded(Texts.of(sp.all_codes), sp.code_of)),
+        ("feature", False, Coded(Texts.of(sp.all_features), sp.feature_of)),
+        ("angle_right", False, Formatted(np.asarray(so.angle_right, dtype=float), dms_format(True), at)),
+        ("grid_distance", False, _number(so.grid_distance, 3)),
+        ("ground_distance", False, _number(so.ground_distance, 3))]
+    if sp.elevation is not None:
+        out.append(("design_elevation", False, _number(sp.elevation, 3)))
+    if so.zenith is not None and so.slope_distance is not None:
+        z = np.asarray(so.zenith, dtype=float)
+        out.append(("zenith", False, Formatted(z, dms_format(False), np.isnan(z))))  # no height, no zenith
+        out.append(("slope_distance", True, _number(so.slope_distance, 3)))
+    prec = sd.precision
+    if prec is not None:
+        out.append(("sigma_along", False, _number(prec.sigma_along, 4)))
+        out.append(("sigma_across", True, _number(prec.sigma_across, 4)))
+        out.append(("r95", True, _number(prec.r95, 4)))
+    flagged = np.zeros(n, dtype=bool) if sd.flagged is None else np.asarray(sd.flagged, dtype=bool)
+    if at.any() or flagged.any():
+        words = ["", AT_INSTRUMENT_NOTE, FLAG, f"{AT_INSTRUMENT_NOTE}; {FLAG}"]
+        out.append(("note", False, Coded(Texts.of(words), at.astype(np.intp) + 2 * flagged)))
+    return out
