@@ -504,7 +504,7 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
     full).  Head and foot lines wider than ``width`` (or the widest table
     line, where wider) are wrapped, the page titles cut.  The pages are laid
     out from each record's count of lines, and the records' text (a part's
-    :class:`Records`, laid out a block at a time) is written only then.
+    :class:`Records`) is joined only then.
     """
     recs = [p.rows if isinstance(p.rows, Records) else Records.of_texts(p.rows) for p in parts]
     table = [len(line) for p in parts for line in p.columns] + [int(r.widest.max()) for r in recs if r.widest.size]
@@ -559,21 +559,11 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
         for i in range(0, len(closing), PAGE_LINES - 1):
             pages.append(["{title}", *closing[i:i + PAGE_LINES - 1]])
     total = len(pages)
-    out: list[bytes] = []
-    held: dict[int, tuple[int, int, bytes, NDArray[np.int64]]] = {}  # each part's block laid out
-
-    def records(k: int, a: int, b: int) -> bytes:
-        got = held.get(k)
-        if got is None or not (got[0] <= a and b <= got[1]):
-            stop = max(b, min(int(recs[k].lines.size), a + _BLOCK))
-            data, size = recs[k].layout(a, stop)
-            got = held[k] = (a, stop, data, np.concatenate([[0], np.cumsum(size)]))
-        return got[2][int(got[3][a - got[0]]):int(got[3][b - got[0]])]
-
+    out: list[bytes | memoryview] = []
     for n, items in enumerate(pages, start=1):
         for i, line in enumerate(items):
             if isinstance(line, tuple):
-                out.append(records(*line))
+                out.append(recs[line[0]].text(line[1], line[2]))
                 continue
             if line == "{title}":
                 line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
@@ -600,6 +590,10 @@ class Cells(Protocol):
     def n(self) -> int:
         """Rows of the column."""
 
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII (one byte a character)."""
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which`` (indices)."""
 
@@ -620,6 +614,11 @@ class Texts:
         """Rows of the column."""
         return self.strings.n
 
+    @cached_property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return not self.strings.buf.size or int(self.strings.buf.max()) < 0x80
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
         return self.strings.field(which)
@@ -636,6 +635,11 @@ class Coded:
     def n(self) -> int:
         """Rows of the column."""
         return int(self.codes.size)
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return self.words.ascii
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -657,6 +661,11 @@ class Formatted:
     def n(self) -> int:
         """Rows of the column."""
         return int(self.values.size)
+
+    @property
+    def ascii(self) -> bool:
+        """Numbers are ASCII."""
+        return True
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -688,6 +697,11 @@ class Joined:
         """Rows of the column."""
         return self.parts[0].n
 
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return all(p.ascii for p in self.parts)
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
         return np.hstack([p.field(which) for p in self.parts])
@@ -704,6 +718,11 @@ class Same:
     def n(self) -> int:
         """Rows of the column."""
         return self.count
+
+    @property
+    def ascii(self) -> bool:
+        """Whether the text is ASCII."""
+        return self.text.isascii()
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -726,6 +745,11 @@ class Stacked:
     def n(self) -> int:
         """Rows of the column."""
         return int(self.starts[-1])
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return all(p.ascii for p in self.parts)
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -784,9 +808,52 @@ class FieldColumn:
         """``text`` padded to the column's width."""
         return f"{text:{self.align}{self.width}}"
 
+    @property
+    def ascii(self) -> bool:
+        """Whether every text of the column is ASCII."""
+        return self.cells.ascii
+
     def aligned(self, which: NDArray[np.intp]) -> rows.Field:
         """Rows ``which`` padded with spaces to the column's width (as :meth:`cell`)."""
         f = self.cells.field(which)
+        if f.size and int(f.max()) >= 0x80:  # text of another script: pad by characters, not bytes
+            return self._scattered(f)
+        m, w = f.shape
+        width = self.width
+        if not w:
+            return np.full((m, width), 32, dtype=np.uint8)
+        keep = f != 0
+        nb = keep.sum(axis=1)
+        right = self.align == ">"
+        # rows whose text is not one run at the field's right end (left end, to align left)
+        edge = np.argmax(keep, axis=1) if right else w - np.argmax(keep[:, ::-1], axis=1)
+        ragged = (nb > 0) & ((w - edge if right else edge) != nb)
+        if ragged.any():
+            g = self._scattered(f[ragged])
+            f = f.copy()
+            f[ragged] = 0
+            # justified in a field of the column's width: no longer ragged
+            wide = max(w, width)
+            h = np.zeros((m, wide), dtype=np.uint8)
+            if right:
+                h[:, wide - w:] = f
+                h[ragged, wide - width:] = g[:, :width]
+            else:
+                h[:, :w] = f
+                h[ragged, :width] = g[:, :width]
+            f, w = h, wide
+        out = np.zeros((m, width), dtype=np.uint8)
+        if right:
+            out[:, max(0, width - w):] = f[:, max(0, w - width):]
+        else:
+            out[:, :min(w, width)] = f[:, :width]
+        out[out == 0] = 32
+        return out
+
+    def _scattered(self, f: rows.Field) -> rows.Field:
+        """Any field padded with spaces to the column's width, its text moved to one run
+        (NUL padding anywhere; UTF-8 counted by characters).
+        """
         keep = f != 0
         nb = keep.sum(axis=1)
         pad = self.width - _chars(f)
@@ -803,15 +870,6 @@ class FieldColumn:
             out[r, rank] = f[r, c]
             out[(at >= nb[:, None]) & (at < (nb + pad)[:, None])] = 32
         return out
-
-
-def _rstrip(f: rows.Field) -> rows.Field:
-    """Each row without its trailing spaces (set to padding)."""
-    ink = (f != 32) & (f != 0)
-    last = f.shape[1] - np.argmax(ink[:, ::-1], axis=1)  # one past the last ink (0 without ink)
-    last = np.where(ink.any(axis=1), last, 0)
-    f[np.arange(f.shape[1])[None, :] >= last[:, None]] = 0
-    return f
 
 
 @dataclass(frozen=True)
@@ -844,92 +902,121 @@ class FieldTable:
                 for k, cols in enumerate(self.packed)]
 
     def block(self, which: NDArray[np.intp]) -> Block:
-        """The records of rows ``which``."""
+        """The records of rows ``which``.
+
+        Each line is its cells side by side; where its ink ends is found cell by cell (the
+        end of the last cell with text that is not space), and the bytes before it, with a
+        newline after each line up to the record's last that is not empty, are taken out
+        of the whole block at once (``"\\n".join(lines).rstrip()`` of each record).
+        """
         m = which.size
         lines: list[rows.Field] = []
+        ends: list[NDArray[np.int64]] = []  # where each line's ink ends (bytes)
         for k, cols in enumerate(self.packed):
             parts: list[rows.Field] = [rows.const(" " * self.indent, m)] if k else []
+            pos = self.indent if k else 0
+            end = np.zeros(m, dtype=np.int64)
             for j, c in enumerate(cols):
                 if j:
                     parts.append(rows.const(" ", m))
-                parts.append(c.aligned(which))
-            lines.append(_rstrip(np.hstack([np.broadcast_to(p, (m, p.shape[1])) for p in parts])))
-        chars = np.stack([_chars(f) for f in lines], axis=1)
-        used = chars > 0
-        # "\n".join(lines).rstrip(): the empty lines after the last that is not are dropped
-        last = np.where(used.any(axis=1), len(lines) - 1 - np.argmax(used[:, ::-1], axis=1), -1)
-        count = np.maximum(1, last + 1)
-        fields: list[rows.Field] = []
-        for k, f in enumerate(lines):
-            if k:
-                fields.append(rows.blank(rows.const("\n", m), count <= k))
-            fields.append(f)
-        size = sum((f != 0).sum(axis=1) for f in fields) + 1
-        return Block(rows.join_rows(fields, m), np.asarray(size, dtype=np.int64), count.astype(np.int64),
+                    pos += 1
+                cell = c.aligned(which)
+                ink = _ink_end(cell)
+                end = np.where(ink > 0, pos + ink, end)
+                pos += cell.shape[1]
+                parts.append(cell)
+            lines.append(np.hstack([np.broadcast_to(p, (m, p.shape[1])) for p in parts]))
+            ends.append(end)
+        last = np.stack(ends, axis=1)
+        used = last > 0
+        # the empty lines after the last that is not are dropped; a record has at least one line
+        count = np.maximum(1, np.where(used.any(axis=1), len(ends) - np.argmax(used[:, ::-1], axis=1), 0))
+        mats: list[rows.Field] = []
+        keeps: list[NDArray[np.bool_]] = []
+        for k, (line, end) in enumerate(zip(lines, ends)):  # each line to its ink, a newline if it is printed
+            mats += [line, rows.const("\n", m)]
+            keeps += [np.arange(line.shape[1])[None, :] < end[:, None], (count > k)[:, None]]
+        whole = np.hstack([np.broadcast_to(f, (m, f.shape[1])) for f in mats])
+        keep = np.hstack(keeps)
+        chars = last
+        if not all(c.ascii for c in self.columns):  # text in other scripts: its padding stays NUL
+            keep &= whole != 0
+            lead = keep & ((whole & 0xC0) != 0x80)
+            at = np.cumsum([0] + [f.shape[1] for f in mats])
+            chars = np.stack([lead[:, at[2 * k]:at[2 * k + 1]].sum(axis=1) for k in range(len(ends))], axis=1)
+        return Block(whole[keep].tobytes(), keep.sum(axis=1).astype(np.int64), count.astype(np.int64),
                      chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
+
+
+def _ink_end(cell: rows.Field) -> NDArray[np.int64]:
+    """One past the last byte of each row that is neither a space nor padding (0: none)."""
+    ink = (cell != 32) & (cell != 0)
+    out: NDArray[np.int64] = np.where(ink.any(axis=1), cell.shape[1] - np.argmax(ink[:, ::-1], axis=1), 0)
+    return out
 
 
 @dataclass(frozen=True)
 class Records:
-    """The records of one part of a sheet, laid out on demand (:func:`paged_bytes`): for each
-    record its lines, its first line's and its widest line's characters, and ``layout(a, b)``
-    giving records ``a:b`` as bytes (every line ending in ``\n``) with each record's bytes.
+    """The records of one part of a sheet, laid out (:func:`paged_bytes`): their UTF-8 bytes,
+    every line ending in ``\n``, where each record ends in them (``ends[k]``, from 0), and for
+    each record its lines, its first line's and its widest line's characters.
     """
 
+    data: bytes
+    ends: NDArray[np.int64]
     lines: NDArray[np.int64]
     first: NDArray[np.int64]
     widest: NDArray[np.int64]
-    layout: Callable[[int, int], tuple[bytes, NDArray[np.int64]]]
 
     @classmethod
     def of_texts(cls, records: list[str]) -> Records:
         """Records given as text (a record of several lines holds ``\n``)."""
         split = [row_lines(r) for r in records]
         data = [(r + "\n").encode("utf-8") for r in records]
-
-        def layout(a: int, b: int) -> tuple[bytes, NDArray[np.int64]]:
-            return b"".join(data[a:b]), np.array([len(x) for x in data[a:b]], dtype=np.int64)
-        return cls(np.array([len(r) for r in split], dtype=np.int64),
+        return cls(b"".join(data), np.cumsum([0] + [len(x) for x in data], dtype=np.int64),
+                   np.array([len(r) for r in split], dtype=np.int64),
                    np.array([len(r[0]) for r in split], dtype=np.int64),
-                   np.array([max(len(x) for x in r) for r in split], dtype=np.int64), layout)
+                   np.array([max(len(x) for x in r) for r in split], dtype=np.int64))
+
+    def text(self, a: int, b: int) -> memoryview:
+        """The bytes of records ``a:b``."""
+        return memoryview(self.data)[int(self.ends[a]):int(self.ends[b])]
 
 
 def table_records(table: FieldTable, which: NDArray[np.intp],
                   titles: dict[int, list[str]] | None = None) -> Records:
-    """The records of ``table``'s rows ``which`` in that order, ``titles``: lines opening a
-    record (its position in ``which``), kept with it.
+    """The records of ``table``'s rows ``which`` in that order, laid out a block at a time;
+    ``titles``: lines opening a record (by its position in ``which``), kept with it.
     """
-    n = which.size
-    stats = [table.block(which[a:a + _BLOCK]) for a in range(0, n, _BLOCK)]
-    lines = np.concatenate([b.lines for b in stats]) if stats else np.zeros(0, dtype=np.int64)
-    first = np.concatenate([b.first for b in stats]) if stats else np.zeros(0, dtype=np.int64)
-    widest = np.concatenate([b.widest for b in stats]) if stats else np.zeros(0, dtype=np.int64)
-    del stats
     titles = titles or {}
-    head = {k: ("\n".join(t) + "\n").encode("utf-8") for k, t in titles.items()}
-    for k, t in titles.items():
-        lines[k] += len(t)
-        first[k] = len(t[0])
-        widest[k] = max([int(widest[k])] + [len(x) for x in t])
     keys = np.array(sorted(titles), dtype=np.int64)
-
-    def layout(a: int, b: int) -> tuple[bytes, NDArray[np.int64]]:
-        blk = table.block(which[a:b])
+    data: list[bytes] = []
+    size, lines, first, widest = [], [], [], []
+    for a in range(0, which.size, _BLOCK):
+        blk = table.block(which[a:a + _BLOCK])
+        b = a + blk.lines.size
         inside = keys[(keys >= a) & (keys < b)].tolist()
-        if not inside:
-            return blk.data, blk.size
-        ends = np.concatenate([[0], np.cumsum(blk.size)])
-        pieces, at = [], 0
-        size = blk.size.copy()
-        for k in inside:
-            cut = int(ends[k - a])
-            pieces += [blk.data[at:cut], head[k]]
-            size[k - a] += len(head[k])
-            at = cut
-        pieces.append(blk.data[at:])
-        return b"".join(pieces), size
-    return Records(lines, first, widest, layout)
-
+        if inside:  # each title before its record
+            ends = np.concatenate([[0], np.cumsum(blk.size)]).tolist()
+            at = 0
+            for k in inside:
+                head = ("\n".join(titles[k]) + "\n").encode("utf-8")
+                data += [blk.data[at:ends[k - a]], head]
+                at = ends[k - a]
+                blk.size[k - a] += len(head)
+                blk.lines[k - a] += len(titles[k])
+                blk.first[k - a] = len(titles[k][0])
+                blk.widest[k - a] = max([int(blk.widest[k - a])] + [len(x) for x in titles[k]])
+            data.append(blk.data[at:])
+        else:
+            data.append(blk.data)
+        size.append(blk.size)
+        lines.append(blk.lines)
+        first.append(blk.first)
+        widest.append(blk.widest)
+    none = [np.zeros(0, dtype=np.int64)]
+    return Records(b"".join(data), np.concatenate([[0], np.cumsum(np.concatenate(size or none))]).astype(np.int64),
+                   np.concatenate(lines or none), np.concatenate(first or none), np.concatenate(widest or none))
 
 def fixed_format(decimals: int) -> Callable[[NDArray[np.float64]], rows.Field]:
     """A block formatter of numbers to ``decimals`` (:func:`rows.fixed`)."""
