@@ -128,3 +128,50 @@ def test_sheets_of_random_jobs_are_the_cell_by_cell_bytes(tmp_path, text):
     job = folder / "job.toml"
     job.write_text(text, encoding="utf-8")
     _same(build_design(load_job(job)))
+
+
+# ---- the parts alone: paging and table layout against the reference's, on random input
+
+_WORD = st.text(st.sampled_from("ab -+.9Zé€"), max_size=12)
+
+
+@st.composite
+def _sheet_parts(draw):
+    from stakeout.writers.text import SheetPart
+
+    parts = []
+    for _ in range(draw(st.integers(1, 4))):
+        rows = [("\n".join(draw(st.lists(st.text("xy z", min_size=1, max_size=90), min_size=1, max_size=3))))
+                for _ in range(draw(st.integers(0, 150)))]
+        parts.append(SheetPart(draw(st.lists(_WORD, max_size=4)), draw(st.lists(_WORD, max_size=2)), rows,
+                               draw(_WORD), draw(st.booleans())))
+    return parts, draw(st.lists(_WORD, max_size=70)), draw(st.lists(_WORD, max_size=8))
+
+
+@settings(max_examples=60, deadline=None)
+@given(_sheet_parts())
+def test_pages_are_the_reference_pages(case):
+    from stakeout.writers import text
+
+    parts, foot, head = case
+    assert text.paged_parts(head, parts, "T", foot) == ref.paged_parts(head, parts, "T", foot)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(_WORD, st.sampled_from("<>"), st.booleans()), min_size=1, max_size=9),
+       st.integers(0, 40), st.sampled_from([None, 30, 80]), st.data())
+def test_field_tables_are_the_reference_tables(specs, n, width, data):
+    import numpy as np
+
+    from stakeout.writers import text
+
+    values = [data.draw(st.lists(_WORD, min_size=n, max_size=n)) for _ in specs]
+    old = [ref.Column(h, v, a, w) for (h, a, w), v in zip(specs, values)]
+    new = [text.FieldColumn(h, text.Texts.of(v), a, w) for (h, a, w), v in zip(specs, values)]
+    heads, records = ref.table_lines(old, width)
+    table = text.FieldTable(new, width)
+    assert table.heads() == heads
+    got = text.table_records(table, np.arange(n, dtype=np.intp))
+    assert bytes(got.data) == "".join(r + "\n" for r in records).encode("utf-8")
+    assert got.lines.tolist() == [len(r.split("\n")) for r in records]
+    assert got.first.tolist() == [len(r.split("\n")[0]) for r in records]

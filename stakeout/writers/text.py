@@ -8,6 +8,7 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 
 from __future__ import annotations
 
+import bisect
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -512,23 +513,33 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
     head = wrap_lines(head, width)
     closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
     # a page: its lines of text and its runs of records (part, first, stop); and its count of lines
-    pages: list[list[str | tuple[int, int, int]]] = []
+    pages: list[list[str | bytes | tuple[int, int, int]]] = []
     counts: list[int] = []
     for k, (part, rec) in enumerate(zip(parts, recs)):
         columns = [c.rstrip() for c in part.columns]
         part_head = wrap_lines(part.head, width)
         n = int(rec.lines.size)
-        cum = np.concatenate([[0], np.cumsum(rec.lines)])
+        cum = [0, *np.cumsum(rec.lines).tolist()]
         ruled = max([0] + [len(c) for c in columns] + ([int(rec.first.max())] if n else []))
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
+        # a continuation page: its title, then these lines, its records and the closing rule
+        again = "".join(f"{line}\n" for line in [clip(part.continued, width), *rules, *columns, *rules]).encode("utf-8")
+        again_lines = 1 + 3 * len(rules) + len(columns)
+        closing_rule = "".join(f"{line}\n" for line in rules).encode("utf-8")
         first = True
         pos = 0  # records placed so far
         while first or pos < n:
+            if not first:  # as many records as fit, at least one
+                stop = min(n, max(bisect.bisect_right(cum, cum[pos] + PAGE_LINES - 1 - again_lines) - 1, pos + 1))
+                pages.append(["{title}", again, (k, pos, stop), closing_rule])
+                counts.append(1 + again_lines + cum[stop] - cum[pos])
+                pos = stop
+                continue
             if k == 0 and first:
                 opening = head + ["page {page} of {pages}"] + part_head
             elif first and not part.new_page and pages:
                 opening = [""] + part_head
-                need = len(opening) + len(columns) + 3 * len(rules) + int(cum[min(n, _MIN_RECORDS)])
+                need = len(opening) + len(columns) + 3 * len(rules) + cum[min(n, _MIN_RECORDS)]
                 if counts[-1] + need > PAGE_LINES:
                     opening = ["{title}", ""] + part_head
             elif first:
@@ -536,14 +547,13 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
             else:
                 opening = ["{title}", clip(part.continued, width)]
             on_new_page = opening[0] == "{title}" or not pages or (k == 0 and first)
-            page: list[str | tuple[int, int, int]] = [*opening, *rules, *columns, *rules]
+            page: list[str | bytes | tuple[int, int, int]] = [*opening, *rules, *columns, *rules]
             lines = len(page) + len(rules)
             used = (0 if on_new_page else counts[-1]) + lines
             if pos < n:  # as many records as fit, at least one
-                stop = int(np.searchsorted(cum, cum[pos] + PAGE_LINES - used, side="right")) - 1
-                stop = min(n, max(stop, pos + 1))
+                stop = min(n, max(bisect.bisect_right(cum, cum[pos] + PAGE_LINES - used) - 1, pos + 1))
                 page.append((k, pos, stop))
-                lines += int(cum[stop] - cum[pos])
+                lines += cum[stop] - cum[pos]
                 pos = stop
             page.extend(rules)
             if on_new_page:
@@ -564,6 +574,9 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
         for i, line in enumerate(items):
             if isinstance(line, tuple):
                 out.append(recs[line[0]].text(line[1], line[2]))
+                continue
+            if isinstance(line, bytes):
+                out.append(line)
                 continue
             if line == "{title}":
                 line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
@@ -950,6 +963,8 @@ class FieldTable:
 
 def _ink_end(cell: rows.Field) -> NDArray[np.int64]:
     """One past the last byte of each row that is neither a space nor padding (0: none)."""
+    if not cell.shape[1]:
+        return np.zeros(cell.shape[0], dtype=np.int64)
     ink = (cell != 32) & (cell != 0)
     out: NDArray[np.int64] = np.where(ink.any(axis=1), cell.shape[1] - np.argmax(ink[:, ::-1], axis=1), 0)
     return out
