@@ -607,6 +607,10 @@ class Cells(Protocol):
     def ascii(self) -> bool:
         """Whether every text is ASCII (one byte a character)."""
 
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which`` (indices)."""
 
@@ -632,6 +636,13 @@ class Texts:
         """Whether every text is ASCII."""
         return not self.strings.buf.size or int(self.strings.buf.max()) < 0x80
 
+    @cached_property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        st = self.strings
+        full = st.lens > 0
+        return not bool((st.buf[(st.starts + st.lens - 1)[full]] == 32).any())
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
         return self.strings.field(which)
@@ -653,6 +664,11 @@ class Coded:
     def ascii(self) -> bool:
         """Whether every text is ASCII."""
         return self.words.ascii
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return self.words.clean
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -678,6 +694,11 @@ class Formatted:
     @property
     def ascii(self) -> bool:
         """Numbers are ASCII."""
+        return True
+
+    @property
+    def clean(self) -> bool:
+        """Numbers end in a digit (or ``nan``, ``)``)."""
         return True
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
@@ -715,6 +736,11 @@ class Joined:
         """Whether every text is ASCII."""
         return all(p.ascii for p in self.parts)
 
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return all(p.clean for p in self.parts)
+
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
         return np.hstack([p.field(which) for p in self.parts])
@@ -736,6 +762,11 @@ class Same:
     def ascii(self) -> bool:
         """Whether the text is ASCII."""
         return self.text.isascii()
+
+    @property
+    def clean(self) -> bool:
+        """Whether the text does not end in a space."""
+        return not self.text.endswith(" ")
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -763,6 +794,11 @@ class Stacked:
     def ascii(self) -> bool:
         """Whether every text is ASCII."""
         return all(p.ascii for p in self.parts)
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return all(p.clean for p in self.parts)
 
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
@@ -814,7 +850,8 @@ class FieldColumn:
         n = self.cells.n
         widest = [len(self.header)]
         for a in range(0, n, _BLOCK):
-            widest.append(int(_chars(self.cells.field(np.arange(a, min(n, a + _BLOCK)))).max()))
+            f = self.cells.field(np.arange(a, min(n, a + _BLOCK)))
+            widest.append(int((np.count_nonzero(f, axis=1) if self.cells.ascii else _chars(f)).max()))
         return max(widest)
 
     def cell(self, text: str) -> str:
@@ -826,15 +863,18 @@ class FieldColumn:
         """Whether every text of the column is ASCII."""
         return self.cells.ascii
 
-    def aligned(self, which: NDArray[np.intp]) -> rows.Field:
-        """Rows ``which`` padded with spaces to the column's width (as :meth:`cell`)."""
+    def aligned(self, which: NDArray[np.intp]) -> tuple[rows.Field, NDArray[np.int64]]:
+        """Rows ``which`` padded with spaces to the column's width (as :meth:`cell`), and where
+        each row's text ends in them (after its last character that is not a space; 0: none).
+        """
         f = self.cells.field(which)
         if f.size and int(f.max()) >= 0x80:  # text of another script: pad by characters, not bytes
-            return self._scattered(f)
+            out = self._scattered(f)
+            return out, _ink_end(out)
         m, w = f.shape
         width = self.width
         if not w:
-            return np.full((m, width), 32, dtype=np.uint8)
+            return np.full((m, width), 32, dtype=np.uint8), np.zeros(m, dtype=np.int64)
         keep = f != 0
         nb = keep.sum(axis=1)
         right = self.align == ">"
@@ -861,7 +901,9 @@ class FieldColumn:
         else:
             out[:, :min(w, width)] = f[:, :width]
         out[out == 0] = 32
-        return out
+        if not self.cells.clean:
+            return out, _ink_end(out)
+        return out, np.where(nb > 0, width, 0) if right else nb.astype(np.int64)
 
     def _scattered(self, f: rows.Field) -> rows.Field:
         """Any field padded with spaces to the column's width, its text moved to one run
@@ -923,41 +965,43 @@ class FieldTable:
         of the whole block at once (``"\\n".join(lines).rstrip()`` of each record).
         """
         m = which.size
-        lines: list[rows.Field] = []
+        ascii = all(c.ascii for c in self.columns)
+        mats: list[rows.Field] = []  # every line's cells, then a newline column
+        spans: list[int] = []  # bytes of each line
         ends: list[NDArray[np.int64]] = []  # where each line's ink ends (bytes)
         for k, cols in enumerate(self.packed):
-            parts: list[rows.Field] = [rows.const(" " * self.indent, m)] if k else []
-            pos = self.indent if k else 0
+            pos = 0
+            if k:
+                mats.append(rows.const(" " * self.indent, m))
+                pos = self.indent
             end = np.zeros(m, dtype=np.int64)
             for j, c in enumerate(cols):
                 if j:
-                    parts.append(rows.const(" ", m))
+                    mats.append(rows.const(" ", m))
                     pos += 1
-                cell = c.aligned(which)
-                ink = _ink_end(cell)
+                cell, ink = c.aligned(which)
                 end = np.where(ink > 0, pos + ink, end)
                 pos += cell.shape[1]
-                parts.append(cell)
-            lines.append(np.hstack([np.broadcast_to(p, (m, p.shape[1])) for p in parts]))
+                mats.append(cell)
+            mats.append(rows.const("\n", m))
+            spans.append(pos)
             ends.append(end)
         last = np.stack(ends, axis=1)
         used = last > 0
         # the empty lines after the last that is not are dropped; a record has at least one line
         count = np.maximum(1, np.where(used.any(axis=1), len(ends) - np.argmax(used[:, ::-1], axis=1), 0))
-        mats: list[rows.Field] = []
-        keeps: list[NDArray[np.bool_]] = []
-        for k, (line, end) in enumerate(zip(lines, ends)):  # each line to its ink, a newline if it is printed
-            mats += [line, rows.const("\n", m)]
-            keeps += [np.arange(line.shape[1])[None, :] < end[:, None], (count > k)[:, None]]
+        keep = np.hstack([x for k, (span, end) in enumerate(zip(spans, ends))  # each line to its ink, a newline
+                          for x in (np.arange(span)[None, :] < end[:, None], (count > k)[:, None])])
         whole = np.hstack([np.broadcast_to(f, (m, f.shape[1])) for f in mats])
-        keep = np.hstack(keeps)
         chars = last
-        if not all(c.ascii for c in self.columns):  # text in other scripts: its padding stays NUL
+        size = (last * (np.arange(len(ends))[None, :] < count[:, None])).sum(axis=1) + count
+        if not ascii:  # text in other scripts: its padding stays NUL
             keep &= whole != 0
             lead = keep & ((whole & 0xC0) != 0x80)
-            at = np.cumsum([0] + [f.shape[1] for f in mats])
-            chars = np.stack([lead[:, at[2 * k]:at[2 * k + 1]].sum(axis=1) for k in range(len(ends))], axis=1)
-        return Block(whole[keep].tobytes(), keep.sum(axis=1).astype(np.int64), count.astype(np.int64),
+            at = np.cumsum([0] + [n + 1 for n in spans])
+            chars = np.stack([lead[:, at[k]:at[k] + spans[k]].sum(axis=1) for k in range(len(ends))], axis=1)
+            size = keep.sum(axis=1)
+        return Block(whole[keep].tobytes(), size.astype(np.int64), count.astype(np.int64),
                      chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
 
 
