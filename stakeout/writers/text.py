@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import bisect
 import math
+from array import array
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
@@ -519,7 +520,7 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
         columns = [c.rstrip() for c in part.columns]
         part_head = wrap_lines(part.head, width)
         n = int(rec.lines.size)
-        cum = [0, *np.cumsum(rec.lines).tolist()]
+        cum = array("q", np.concatenate([[0], np.cumsum(rec.lines)]).astype(np.int64).tobytes())  # lines before each
         ruled = max([0] + [len(c) for c in columns] + ([int(rec.first.max())] if n else []))
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
         # a continuation page: its title, then these lines, its records and the closing rule
@@ -1021,7 +1022,7 @@ class Records:
     each record its lines, its first line's and its widest line's characters.
     """
 
-    data: bytes
+    data: bytes | bytearray
     ends: NDArray[np.int64]
     lines: NDArray[np.int64]
     first: NDArray[np.int64]
@@ -1049,7 +1050,7 @@ def table_records(table: FieldTable, which: NDArray[np.intp],
     """
     titles = titles or {}
     keys = np.array(sorted(titles), dtype=np.int64)
-    data: list[bytes] = []
+    data = bytearray()  # grown in place: no second copy of the sheet
     size, lines, first, widest = [], [], [], []
     for a in range(0, which.size, _BLOCK):
         blk = table.block(which[a:a + _BLOCK])
@@ -1060,21 +1061,21 @@ def table_records(table: FieldTable, which: NDArray[np.intp],
             at = 0
             for k in inside:
                 head = ("\n".join(titles[k]) + "\n").encode("utf-8")
-                data += [blk.data[at:ends[k - a]], head]
+                data += blk.data[at:ends[k - a]] + head
                 at = ends[k - a]
                 blk.size[k - a] += len(head)
                 blk.lines[k - a] += len(titles[k])
                 blk.first[k - a] = len(titles[k][0])
                 blk.widest[k - a] = max([int(blk.widest[k - a])] + [len(x) for x in titles[k]])
-            data.append(blk.data[at:])
+            data += blk.data[at:]
         else:
-            data.append(blk.data)
+            data += blk.data
         size.append(blk.size)
         lines.append(blk.lines)
         first.append(blk.first)
         widest.append(blk.widest)
     none = [np.zeros(0, dtype=np.int64)]
-    return Records(b"".join(data), np.concatenate([[0], np.cumsum(np.concatenate(size or none))]).astype(np.int64),
+    return Records(data, np.concatenate([[0], np.cumsum(np.concatenate(size or none))]).astype(np.int64),
                    np.concatenate(lines or none), np.concatenate(first or none), np.concatenate(widest or none))
 
 def fixed_format(decimals: int) -> Callable[[NDArray[np.float64]], rows.Field]:
