@@ -175,3 +175,17 @@ def test_field_tables_are_the_reference_tables(specs, n, width, data):
     assert bytes(got.data) == "".join(r + "\n" for r in records).encode("utf-8")
     assert got.lines.tolist() == [len(r.split("\n")) for r in records]
     assert got.first.tolist() == [len(r.split("\n")[0]) for r in records]
+
+
+def test_sheets_were_built_a_python_string_a_cell(monkeypatch):
+    # issue 27: 15 million calls of Column.cell for a million stakes; now only the few header
+    # and summary cells are Python strings, the records are laid out from whole columns
+    from stakeout.writers import text
+
+    d = build_design(load_job(SAMPLES / "harrow_fen_bypass_control_m.toml"))
+    calls = []
+    cell = text.Column.cell
+    monkeypatch.setattr(text.Column, "cell", lambda self, t: calls.append(t) or cell(self, t))
+    sheets.setout_sheet(d)
+    sheets.deflection_sheet(d)
+    assert len(calls) < 20 * len(d.setup.occupations) < len(d.stakes)

@@ -34,6 +34,9 @@ __all__ = [
     "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
     "curve_lines", "warning_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "deflection_origin",
     "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    # tables from whole columns (long tables: the setout and deflection sheets)
+    "Cells", "Texts", "Coded", "Formatted", "Joined", "Same", "Stacked", "station_labels", "FieldColumn",
+    "FieldTable", "Block", "Records", "table_records", "paged_bytes", "fixed_format", "dms_format", "setout_fields",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -311,8 +314,8 @@ _DEFLECTION_TITLES: PerKind[Callable[[DeflectionTable, str, str], str]] = PerKin
 
 # ---- the setout table ---------------------------------------------------------------------------
 def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
-    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, shared by
-    ``setout.txt`` and ``report.html``: angles in D-M-S to the second (none at the
+    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, for
+    ``report.html`` (``setout.txt`` lays out the same from whole columns, :func:`setout_fields`): angles in D-M-S to the second (none at the
     instrument), offsets with their side (``sided``) or signed, numbers to their decimals.
     """
     assert d.setup is not None
