@@ -315,8 +315,9 @@ _DEFLECTION_TITLES: PerKind[Callable[[DeflectionTable, str, str], str]] = PerKin
 # ---- the setout table ---------------------------------------------------------------------------
 def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
     """The setout table's columns (:attr:`Presentation.setout_columns`) as text, for
-    ``report.html`` (``setout.txt`` lays out the same from whole columns, :func:`setout_fields`): angles in D-M-S to the second (none at the
-    instrument), offsets with their side (``sided``) or signed, numbers to their decimals.
+    ``report.html`` (``setout.txt`` lays out the same from whole columns,
+    :func:`setout_fields`): angles in D-M-S to the second (none at the instrument), offsets
+    with their side (``sided``) or signed, numbers to their decimals.
     """
     assert d.setup is not None
     at = d.setup.setout.at_instrument
@@ -837,6 +838,21 @@ def _chars(f: rows.Field) -> NDArray[np.int64]:
     return out
 
 
+def _widest(cells: Cells) -> int:
+    """Characters of the widest text of a column (of a coded one: of the words it uses)."""
+    if isinstance(cells, Coded):
+        which = np.flatnonzero(np.bincount(cells.codes, minlength=cells.words.n))
+        cells = cells.words
+    else:
+        which = np.arange(cells.n)
+    widest = 0
+    for a in range(0, which.size, _BLOCK):
+        f = cells.field(which[a:a + _BLOCK])
+        if f.size:
+            widest = max(widest, int((np.count_nonzero(f, axis=1) if cells.ascii else _chars(f)).max()))
+    return widest
+
+
 @dataclass(frozen=True)
 class FieldColumn:
     """A column of a printed table from whole columns: as :class:`Column`, its values a
@@ -851,12 +867,7 @@ class FieldColumn:
     @cached_property
     def width(self) -> int:
         """Characters the column needs: its header or its widest value."""
-        n = self.cells.n
-        widest = [len(self.header)]
-        for a in range(0, n, _BLOCK):
-            f = self.cells.field(np.arange(a, min(n, a + _BLOCK)))
-            widest.append(int((np.count_nonzero(f, axis=1) if self.cells.ascii else _chars(f)).max()))
-        return max(widest)
+        return max(len(self.header), _widest(self.cells))
 
     def cell(self, text: str) -> str:
         """``text`` padded to the column's width."""
