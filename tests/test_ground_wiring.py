@@ -573,3 +573,13 @@ def test_automatic_setups_cover_the_catch_and_reference_stakes(tmp_path):
                                    'occupied = "auto"\nmax_distance = 80.0\nmax_backsight = 100.0\n')
     files = _build(_job(tmp_path, _tilted, extra), tmp_path / "out", "points,setout")
     assert len(_rows(files["setout.csv"])) == len(_rows(files["points.csv"])) == 42
+
+
+def test_slope_stakes_without_any_catch_crashed(tmp_path):
+    """Regression: a job with [slope_stakes] where no station side found a catch point (max_width too
+    short) stopped with an internal error: no catch or reference stake joined the table."""
+    job = _job(tmp_path, _level, SLOPES.replace("max_width = 100.0", "max_width = 0.5"))
+    files = _build(job, tmp_path / "out", "points,slopestakes")
+    rows = _rows(files["slopestakes.csv"])
+    assert rows and all(r["note"] == "no catch within max_width" and r["catch_point"] == "" for r in rows)
+    assert len(_rows(files["points.csv"])) == 18

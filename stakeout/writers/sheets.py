@@ -302,6 +302,7 @@ def _several_sheet(d: Design, wide: bool) -> str:
     names = ", ".join(p.alignment.name for p in parts)
     head = [line if not line.startswith(f"alignment {d.alignment.name}   units")
             else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
+    head += [f"WARNING   {w}" for w in d.warnings]  # the job's, then each alignment's
     head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
     head += _factor_lines(d, d.setup.occupations[0].scale) + _DEFINITIONS
     setup = d.setup.setup

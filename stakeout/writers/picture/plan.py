@@ -355,6 +355,8 @@ def _plan_notes(d: Design, detail: bool, marks: int, shown: int, kp_shown: int, 
         out.append(f"key-point labels: {kp_shown} of {kp_count} shown (no room for the rest)")
     if st_shown < st_count:
         out.append(f"station labels: {st_shown} of {st_count} shown (no room for the rest)")
+    if d.parts:  # the job's own warnings, then each alignment's
+        out.extend(f"warning: {w}" for w in d.warnings)
     for p in d.parts or (d,):
         named = f"{p.alignment.name}: " if d.parts else ""
         out.extend(f"warning: {named}{w}" for w in p.warnings)
