@@ -1,8 +1,8 @@
 """The text sheets as they were built before issue 27 (cell by cell, one Python string a
 cell): the reference the whole-column sheets are compared with byte for byte
 (tests/test_sheets_fast.py).  A frozen copy of stakeout/writers/sheets.py and the table and
-paging parts of stakeout/writers/text.py at commit 7a59499; do not change it to follow the
-package.
+paging parts of stakeout/writers/text.py at commit 7a59499 (and the job's warnings on the
+first page of several alignments, 049d867); do not change it to follow the package.
 """
 # ruff: noqa
 
@@ -509,6 +509,7 @@ def _several_sheet(d: Design, wide: bool) -> str:
     names = ", ".join(p.alignment.name for p in parts)
     head = [line if not line.startswith(f"alignment {d.alignment.name}   units")
             else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
+    head += [f"WARNING   {w}" for w in d.warnings]  # the job's, then each alignment's (main, 049d867)
     head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
     head += _factor_lines(d, d.setup.occupations[0].scale) + _DEFINITIONS
     setup = d.setup.setup
