@@ -23,7 +23,7 @@ from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
 from .text import (WIDE, WIDTH, Cells, Coded, Column, FieldColumn, FieldTable, Formatted, Records, Same, SheetPart,
                    Stacked, Texts, dms_format, fixed_format, clip, curve_lines, deflection_origin, deflection_title, fixed,
-                   header_lines, offset_side, paged_parts, setout_fields, station_labels, table_lines, table_records,
+                   header_lines, offset_side, paged_bytes, setout_fields, station_labels, table_lines, table_records,
                    vertical_note, warning_lines, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
@@ -151,7 +151,7 @@ def _widths(wide: bool) -> tuple[int, int | None]:
     return (WIDE, None) if wide else (WIDTH, WIDTH)
 
 
-def setout_sheet(d: Design, wide: bool = False) -> str:
+def setout_sheet(d: Design, wide: bool = False) -> bytes:
     """Render ``setout.txt``.
 
     One setup given inline: the setup in the header, then the stakes.
@@ -181,7 +181,7 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     head += _instrument_lines(d)
     page, table = _widths(wide)
     stakes = _stake_table(d, table)
-    return paged_parts(head, [SheetPart([], stakes.heads(), table_records(stakes, _all(len(d.stakes))))],
+    return paged_bytes(head, [SheetPart([], stakes.heads(), table_records(stakes, _all(len(d.stakes))))],
                        f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
@@ -235,7 +235,7 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     return SheetPart(head, heads, rows, "setups, continued")
 
 
-def _sectioned_sheet(d: Design, wide: bool) -> str:
+def _sectioned_sheet(d: Design, wide: bool) -> bytes:
     """``setout.txt`` with a setup summary and one section per setup."""
     assert d.setup is not None
     job, sdes = d.job, d.setup
@@ -283,7 +283,7 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         sh.append(line)
         parts.append(SheetPart(sh, cols, _records(stakes, idx),
                                f"setup {o.number} of {n} (occupied {o.occupied.id}), continued"))
-    return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
+    return paged_bytes(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
 def _records(stakes: FieldTable, idx: NDArray[np.intp]) -> list[str] | Records:
@@ -291,7 +291,7 @@ def _records(stakes: FieldTable, idx: NDArray[np.intp]) -> list[str] | Records:
     return table_records(stakes, idx) if idx.size else ["(no stakes)"]
 
 
-def _several_sheet(d: Design, wide: bool) -> str:
+def _several_sheet(d: Design, wide: bool) -> bytes:
     """``setout.txt`` of a job with several alignments: the setups serve every alignment, so one
     summary and one section per setup holding its stakes of every alignment (point order within
     each alignment, the alignments in job order), an ``alignment`` column naming each stake's.
@@ -356,10 +356,10 @@ def _several_sheet(d: Design, wide: bool) -> str:
     foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}", ""]
     for p in parts:
         foot += [f"ALIGNMENT {p.alignment.name}"] + curve_lines(p) + [""]
-    return paged_parts(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
+    return paged_bytes(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
 
 
-def deflection_sheet(d: Design, wide: bool = False) -> str:
+def deflection_sheet(d: Design, wide: bool = False) -> bytes:
     """Render ``deflections.txt``: deflection angles and chords from the curve points.
 
     Each curve element opens with a line of its data, kept on the page of
@@ -424,4 +424,4 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)
-    return paged_parts(head, [SheetPart([], heads, out)], f"{title}   {job.info.name}", foot, width=page)
+    return paged_bytes(head, [SheetPart([], heads, out)], f"{title}   {job.info.name}", foot, width=page)
