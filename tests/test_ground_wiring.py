@@ -551,14 +551,11 @@ def test_catch_and_reference_stakes_were_missing_from_the_report(tmp_path):
     assert ">nan<" not in html
 
 
-def test_catch_and_reference_stakes_were_missing_from_the_bulk_dxf(tmp_path, monkeypatch):
-    """Regression: above the DXF's detail limit, stakes are written in bulk, and the catch and
-    reference stakes were left out there."""
+def test_catch_and_reference_stakes_were_missing_from_the_bulk_dxf(tmp_path):
+    """Regression: above the DXF's old detail limit, stakes were written in bulk, and the catch and
+    reference stakes were left out there (every stake is written in bulk now)."""
     import ezdxf
 
-    from stakeout.writers import dxf
-
-    monkeypatch.setattr(dxf, "DETAIL_MAX_STAKES", 5)
     out = tmp_path / "out"
     files = _build(_job(tmp_path, _tilted, SLOPES), out, "points,dxf")
     doc = ezdxf.readfile(out / "plan.dxf")  # read back with ezdxf

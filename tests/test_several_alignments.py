@@ -331,3 +331,28 @@ def test_later_alignments_design_files_missing_from_manifest(tmp_path):
     listed = [f for f in json.loads(files["manifest.json"])["design_files"] if f["role"] == "points"]
     assert len(listed) == 1 and listed[0]["path"] == "list.csv"
     assert "points from list.csv" in files["setout.txt"]
+
+
+def test_plan_legend_held_only_the_first_alignments_codes(tmp_path):
+    """Regression: plan.svg of several alignments listed (and coloured) the first alignment's offset
+    lines only; a code of another alignment took whatever colour its index had there."""
+    from lxml import etree
+
+    other = _alignment(*ROADS[1]).replace('code = "L" }', 'code = "KERB" }')
+    files = _build(tmp_path, HEAD + _alignment(*ROADS[0]) + other, "all", "picture")
+    root = etree.fromstring(files["plan.svg"].encode("utf-8"))
+    texts = [t.text for t in root.iter("{http://www.w3.org/2000/svg}text") if t.text]
+    assert any(t.startswith("stake KERB") for t in texts) and any(t.startswith("stake L ") for t in texts)
+
+
+def test_radial_lines_drawn_for_the_first_alignment_only(tmp_path):
+    """Regression: plan.dxf of several alignments drew the radial lines from each occupied point to the
+    first alignment's stakes only."""
+    import ezdxf
+
+    setup = '[setup]\noccupied = "auto"\nmax_distance = 200.0\nmax_backsight = 300.0\n'
+    files = _build(tmp_path, HEAD + CONTROL + setup + "".join(_alignment(*r) for r in ROADS), "all", "points,dxf")
+    doc = ezdxf.readfile(tmp_path / "all" / "plan.dxf")  # read back with ezdxf
+    radials = doc.modelspace().query("LINE[layer=='SO-RADIAL']")
+    ends = {(round(x.dxf.end.x, 4), round(x.dxf.end.y, 4)) for x in radials}
+    assert ends == {(float(r["easting"]), float(r["northing"])) for r in _rows(files["points.csv"])}
