@@ -36,7 +36,9 @@ def _same(d) -> None:
     """Both sheets, both layouts: the new bytes are the reference's (a difference shown by line)."""
     for wide in (False, True):
         pairs = [("deflections.txt", sheets.deflection_sheet, ref.deflection_sheet)]
-        if d.setup is not None:
+        # the several-alignment setout sheet gained each setup's factor, the r95 summary and the foot notes
+        # after the rewrite (a review found them missing): its bytes are pinned by the sample digests instead
+        if d.setup is not None and not d.parts:
             pairs.append(("setout.txt", sheets.setout_sheet, ref.setout_sheet))
         for name, new, old in pairs:
             got, want = _text(new(d, wide)), _text(old(d, wide))

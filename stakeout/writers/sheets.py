@@ -304,7 +304,14 @@ def _several_sheet(d: Design, wide: bool) -> bytes:
             else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
     head += [f"WARNING   {w}" for w in d.warnings]  # the job's, then each alignment's
     head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
-    head += _factor_lines(d, d.setup.occupations[0].scale) + _DEFINITIONS
+    first = d.setup.occupations[0].scale
+    auto_factor = first.scale_factor is not None and first.elevation_factor is not None
+    if auto_factor:  # each setup's own factor in its section, as on the single-alignment sheet
+        head.append("combined factor at each occupied point = grid scale factor k there")
+        head.append(f"  x elevation factor R/(R+h), h {first.height:.3f} {d.unit.symbol} (ellipsoid); see each setup")
+    else:
+        head += _factor_lines(d, first)
+    head += _DEFINITIONS
     setup = d.setup.setup
     heights = [f"{what} height {h:.3f}" for what, h in (("instrument", setup.instrument_height),
                                                          ("target", setup.target_height)) if h is not None]
@@ -339,6 +346,17 @@ def _several_sheet(d: Design, wide: bool) -> bytes:
                Column("alignments", [", ".join(p.alignment.name for p in parts if p.setup is not None
                                                and (p.setup.setup_index == i).any()) for i in range(len(occs))],
                       "<")]
+    precisions = [p.setup.precision for p in parts if p.setup is not None]
+    if precisions and all(pr is not None for pr in precisions):  # the worst r95 of each setup, over all
+        r95 = np.concatenate([pr.r95 for pr in precisions if pr is not None])
+        worst = np.zeros(len(occs))
+        np.maximum.at(worst, index, r95)
+        summary.append(Column("max r95", fixed(worst, 4)))
+        flags = [p.setup.flagged for p in parts if p.setup is not None]
+        if all(f is not None for f in flags):
+            flagged = np.bincount(index, weights=np.concatenate([f for f in flags if f is not None]),
+                                  minlength=len(occs)).astype(np.int64)
+            summary.append(Column("flagged", [str(int(f)) for f in flagged], with_previous=True))
     s_heads, s_rows = table_lines(summary, table)
     sections = [SheetPart(["", f"SETUPS: {len(occs)}, serving every alignment"], s_heads, s_rows,
                           "setups, continued")]
@@ -347,13 +365,21 @@ def _several_sheet(d: Design, wide: bool) -> bytes:
     for o, idx in zip(occs, groups):
         sh = [f"SETUP {o.number} of {len(occs)}" + (f"   ({o.where})" if o.where != "setup" else "")]
         sh += _point_lines(o, setup, o.scale, inst=False)
+        if auto_factor:
+            sh += _factor_lines(d, o.scale)
         sh += _convergence_lines(setup, o.scale)
         sh.append(f"{idx.size} stake{'s' if idx.size != 1 else ''}" if idx.size else "no stakes")
         sections.append(SheetPart(sh, heads, _records(stakes, idx),
                                   f"setup {o.number} of {len(occs)} (occupied {o.occupied.id}), continued"))
     unit = d.unit
     total = int(index.size)
-    foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}", ""]
+    with_elevation = any(p.stakes.elevation is not None for p in parts)
+    foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}"
+            + ("; design el = design elevation of the stake" if with_elevation else "")]
+    if any(p.setup is not None and p.setup.setout.at_instrument.any() for p in parts):
+        foot.append(f"{AT_INSTRUMENT_NOTE}: the stake is the occupied point itself (within {AT_INSTRUMENT} "
+                    f"{unit.symbol}); no angle to turn")
+    foot.append("")
     for p in parts:
         foot += [f"ALIGNMENT {p.alignment.name}"] + curve_lines(p) + [""]
     return paged_bytes(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
