@@ -356,3 +356,47 @@ def test_radial_lines_drawn_for_the_first_alignment_only(tmp_path):
     radials = doc.modelspace().query("LINE[layer=='SO-RADIAL']")
     ends = {(round(x.dxf.end.x, 4), round(x.dxf.end.y, 4)) for x in radials}
     assert ends == {(float(r["easting"]), float(r["northing"])) for r in _rows(files["points.csv"])}
+
+
+def test_several_alignment_sheet_had_one_factor_for_every_setup(tmp_path):
+    """Regression: setout.txt of several alignments with combined_factor = "auto" printed the first
+    setup's factor in its header and none per setup (the ground distances used each setup's own); it
+    also left out the r95 summary and the foot's notes."""
+    text = HEAD.replace('units = "m"', 'units = "m"\ncrs = "EPSG:32633"') + """[[control.point]]
+id = "CP1"
+northing = 5801030.0
+easting = 402050.0
+elevation = 55.0
+[[control.point]]
+id = "CP2"
+northing = 5801030.0
+easting = 401990.0
+[[control.point]]
+id = "CP3"
+northing = 5800990.0
+easting = 401990.0
+[[setup.station]]
+occupied = "CP1"
+backsight = "CP2"
+[[setup.station]]
+occupied = "CP3"
+backsight = "CP2"
+[scale]
+combined_factor = "auto"
+ellipsoid_height = 120.0
+[instrument]
+angle_sigma = 2.0
+distance_sigma = 0.002
+distance_ppm = 2.0
+centering_sigma = 0.001
+pole_sigma = 0.003
+[check]
+horizontal_tolerance = 0.02
+""" + "".join(_alignment(name, 5801000.0 + n - 1000.0, 402000.0 + e - 2000.0, az, r, first, step)
+              for name, n, e, az, r, first, step in ROADS[:2])
+    files = _build(tmp_path, text, "all", "setout,sheet")
+    sheet = files["setout.txt"]
+    setups = {r["setup"] for r in _rows(files["setout.csv"])}
+    assert len(setups) >= 2
+    assert sheet.count("combined factor ") >= len(setups)  # each setup's own, in its section
+    assert "max r95" in sheet and "design el =" in sheet
