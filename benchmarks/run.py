@@ -23,7 +23,8 @@ machine; the figures are the median of each and the median of the pairwise ratio
   writer timed (``Output.render`` wrapped from here; stakeout's code is not changed) with
   its bytes and the growth of its peak memory, at ``--sizes`` (100000,1000000;
   10000,100000 with ``--quick``), and each output's scaling exponent between the sizes
-  (time ~ stakes^k: 1 is linear);
+  (time ~ stakes^k: 1 is linear); an output rendered in another process (were the build to hand
+  outputs to one) is not seen by the wrapper and shows in the ``rest`` figure;
 - ``several``: a job of three alignments (``[[alignment]]``) each with a structures list
   (``staking.points``), default build against CSV path, at ``--several-stakes`` (100,000;
   30,000 with ``--quick``);
