@@ -47,8 +47,6 @@ EDGE_TOL = 1e-9
 SLIVER = 1e-12
 #: Most (cell, face) entries of the grid, per face (the cell grows until they fit).
 _ENTRIES_PER_FACE = 16
-#: Most grid cells, per face.
-_CELLS_PER_FACE = 4
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -101,7 +99,8 @@ class _Grid:
     n0: float
     nx: int
     ny: int
-    start: I64  # cell c's faces: faces[start[c]:start[c + 1]]
+    keys: I64  # the cells (iy * nx + ix) some face reaches, sorted: only those are stored
+    start: I64  # the faces of keys[k]: faces[start[k]:start[k + 1]]
     faces: I64
 
 
@@ -269,8 +268,11 @@ class Ground:
     def _candidates(self, cells: I64) -> tuple[I64, I64]:
         """(index into ``cells``, face) of every face registered in each cell (-1: none)."""
         gr = self._grid
-        ok = cells >= 0
-        c = np.where(ok, cells, 0)
+        slot = np.searchsorted(gr.keys, cells).clip(0, max(len(gr.keys) - 1, 0))
+        ok = (cells >= 0) & (len(gr.keys) > 0)
+        if len(gr.keys):
+            ok &= gr.keys[slot] == cells
+        c = np.where(ok, slot, 0)
         cnt = np.where(ok, gr.start[c + 1] - gr.start[c], 0)
         owner = np.repeat(np.arange(len(cells), dtype=np.int64), cnt)
         pos = np.arange(int(cnt.sum()), dtype=np.int64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
@@ -620,7 +622,12 @@ def _neighbours(f: I64, npts: int) -> I64:
 
 
 def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
-    """A uniform grid over the faces' bounding boxes: each cell lists the faces reaching it."""
+    """A uniform grid over the faces' bounding boxes: each cell lists the faces reaching it.
+
+    Only the cells some face reaches are stored (their ids sorted, looked up by binary
+    search), so a long narrow TIN along a corridor costs what its faces cost, not what its
+    bounding box would: the cell size follows the faces, never the box.
+    """
     fe, fn = e[f], n[f]
     x0, x1 = fe.min(axis=1), fe.max(axis=1)
     y0, y1 = fn.min(axis=1), fn.max(axis=1)
@@ -628,8 +635,9 @@ def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
     emin, nmin = float(x0.min()), float(y0.min())
     w = max(float(x1.max()) - emin, 1e-9)
     h = max(float(y1.max()) - nmin, 1e-9)
-    # about one face's box a cell: a point meets a few candidates
-    g = max(float(np.mean(np.maximum(x1 - x0, y1 - y0))), math.sqrt(w * h / m) * 0.5, 1e-9)
+    # about one face's box a cell: a point meets a few candidates (cells no face reaches are not stored,
+    # so the box's empty parts cost nothing); a cell id iy * nx + ix stays exact in an int64 and a float
+    g = max(float(np.mean(np.maximum(x1 - x0, y1 - y0))), math.sqrt(w * h) * 2.0 ** -24, 1e-9)
     while True:
         nx, ny = int(w / g) + 1, int(h / g) + 1
         ix0 = np.floor((x0 - EDGE_TOL - emin) / g).clip(0, nx - 1).astype(np.int64)
@@ -639,7 +647,7 @@ def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
         cols, rows = ix1 - ix0 + 1, iy1 - iy0 + 1
         cnt = cols * rows
         total = int(cnt.sum())
-        if (total <= _ENTRIES_PER_FACE * m + 4096 and nx * ny <= _CELLS_PER_FACE * m + 4096) or g > 1e12:
+        if total <= _ENTRIES_PER_FACE * m + 4096 or g > 1e12:
             break
         g *= 1.5
     fid = np.repeat(np.arange(m, dtype=np.int64), cnt)
@@ -647,9 +655,10 @@ def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
     cw = cols[fid]
     cell = (iy0[fid] + k // cw) * nx + ix0[fid] + k % cw
     o = np.argsort(cell, kind="stable")
-    start = np.zeros(nx * ny + 1, dtype=np.int64)
-    np.cumsum(np.bincount(cell, minlength=nx * ny), out=start[1:])
-    return _Grid(g, emin, nmin, nx, ny, start, fid[o])
+    cell = cell[o]
+    keys, first = np.unique(cell, return_index=True)
+    start = np.append(first, total).astype(np.int64)
+    return _Grid(g, emin, nmin, nx, ny, keys.astype(np.int64), start, fid[o])
 
 
 def read_ground_csv(path: str | Path, key: str = "ground.file") -> Ground:

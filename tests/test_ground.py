@@ -222,3 +222,26 @@ def test_walk_and_grid_sections_agree_on_a_random_tin_with_holes():
     assert np.array_equal(w.first, b.first) and np.array_equal(w.left_tin, b.left_tin)
     assert np.allclose(w.end, b.end, atol=1e-8) and np.allclose(w.dist, b.dist, atol=1e-8)
     assert np.max(np.abs(w.z - b.z)) < 1e-7
+
+
+def test_ground_lookup_grew_with_the_square_of_a_corridor_length():
+    """Regression: the grid over a long narrow TIN (a corridor's ground, diagonal to the grid) took
+    its cell size from the bounding box, so each point met more candidate faces the longer the
+    corridor (a 1M-stake corridor's design step took 117 s). Only the cells faces reach are kept now:
+    candidates per point stay the same as the corridor grows. Checked against the plane the points
+    lie on (closed form)."""
+    from stakeout.ground import Ground
+
+    per_point = []
+    for length in (2000.0, 20000.0):
+        u, v = np.meshgrid(np.arange(0.0, length, 10.0), np.arange(-60.0, 61.0, 10.0))
+        u, v = u.ravel(), v.ravel()
+        c, s = np.cos(np.radians(37.0)), np.sin(np.radians(37.0))
+        g = Ground.from_points(1e5 + u * c - v * s, 2e5 + u * s + v * c, 50.0 + 0.01 * u + 0.05 * v)
+        rng = np.random.default_rng(3)
+        qu, qv = rng.uniform(0.0, length - 10.0, 5000), rng.uniform(-59.0, 59.0, 5000)
+        qn, qe = 1e5 + qu * c - qv * s, 2e5 + qu * s + qv * c
+        owner, _ = g._candidates(g._cell(qn, qe))
+        per_point.append(owner.size / qn.size)
+        assert np.allclose(g.elevation(qn, qe), 50.0 + 0.01 * qu + 0.05 * qv, atol=1e-9)
+    assert per_point[1] < 1.5 * per_point[0] and per_point[1] < 40.0
