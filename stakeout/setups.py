@@ -333,7 +333,7 @@ def choose_setups(
     cost = pd2  # what picks a stake's setup in step 3: the distance (squared), or the r95
     if by_precision:
         assert r95 is not None and tolerance is not None
-        c, b = cand[pc], cand[cand_bs[pc]]
+        c, b = cand[pc], cand_bs[pc]
         cost = np.asarray(r95(cn[c], ce[c], cn[b], ce[b], sn[ps], se[ps]), dtype=float)
         within = cost <= tolerance
         within_tol = np.zeros(n_stakes, dtype=bool)  # stakes some candidate reaches within the tolerance
@@ -355,7 +355,8 @@ def choose_setups(
     # the smallest id
     counts = np.bincount(pc, minlength=cand.size)
     by_cand = np.argsort(pc, kind="stable")
-    cand_first = np.cumsum(counts) - counts
+    cand_pairs = counts.copy()
+    cand_first = np.cumsum(cand_pairs) - cand_pairs
     stake_count_pairs = np.bincount(ps, minlength=n_stakes)
     stake_first = np.cumsum(stake_count_pairs) - stake_count_pairs
     unreached = np.ones(n_stakes, dtype=bool)
@@ -364,7 +365,7 @@ def choose_setups(
     while left:
         best = int(np.argmax(counts))
         chosen.append(best)
-        mine = ps[by_cand[cand_first[best]:cand_first[best] + counts[best]]]
+        mine = ps[by_cand[cand_first[best]:cand_first[best] + cand_pairs[best]]]
         new = mine[unreached[mine]]
         unreached[new] = False
         left -= new.size
