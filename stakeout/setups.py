@@ -333,8 +333,8 @@ def choose_setups(
     cost = pd2  # what picks a stake's setup in step 3: the distance (squared), or the r95
     if by_precision:
         assert r95 is not None and tolerance is not None
-        c, b = cand[pc], cand_bs[pc]
-        cost = np.asarray(r95(cn[c], ce[c], cn[b], ce[b], sn[ps], se[ps]), dtype=float)
+        occ_c, bs_c = cand[pc], cand_bs[pc]
+        cost = np.asarray(r95(cn[occ_c], ce[occ_c], cn[bs_c], ce[bs_c], sn[ps], se[ps]), dtype=float)
         within = cost <= tolerance
         within_tol = np.zeros(n_stakes, dtype=bool)  # stakes some candidate reaches within the tolerance
         within_tol[ps[within]] = True
