@@ -583,6 +583,15 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
 _NEAR_STEPS = 12
 
 
+def _from_within(alignment: Alignment, northing: NDArray[np.float64], easting: NDArray[np.float64],
+                 station: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Northing and easting from the alignment's centreline point at ``station`` held within its ends."""
+    inside = np.clip(np.nan_to_num(station, nan=alignment.start_station), alignment.start_station,
+                     alignment.end_station)
+    pos = alignment.evaluate(inside, 0.0)
+    return northing - pos.northing, easting - pos.easting
+
+
 def locate_near(alignment: Alignment, northing: NDArray[np.float64], easting: NDArray[np.float64],
                 station: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Internal station and offset of points, each found near a given internal station.
@@ -743,7 +752,9 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
         qn, qe = np.where(to_control, tn, sn), np.where(to_control, te, se)
         at_q = [p[0].locate(qn, qe) for p in parts]
         at_s = [p[0].locate(sn, se) for p in parts]
-        away = np.abs(np.stack([a[1] for a in at_q]))
+        # how far each alignment is: from its nearest point within its ends (the inverse extends the end
+        # tangents, so a point far past one alignment's end can have a small offset from it)
+        away = np.stack([np.hypot(*_from_within(p[0], qn, qe, a[0])) for p, a in zip(parts, at_q)])
         nearest = np.argmin(np.where(np.isnan(away), np.inf, away), axis=0)
         matched_part = np.searchsorted(starts, np.where(to_design, di, 0), side="right") - 1
         located_on = np.where(to_design, matched_part, nearest).astype(np.int64)

@@ -632,10 +632,14 @@ def _build_several(job: Job) -> Design:
             sd = build_setups(job.parts[k], d.stakes, d.stationing, grid, assigned=(assigned[0], assigned[1][span]))
             out.append(_with_setups(d, sd, serves_none=False))
         counts = np.bincount(assigned[1], minlength=len(assigned[0]))
-        none = [f"setup {i + 1} ({s.where}, occupied {s.occupied.id}) serves no stake"
-                for i, s in enumerate(assigned[0]) if counts[i] == 0]
-        designs = [replace(d, warnings=d.warnings + tuple(none)) if k == 0 else d for k, d in enumerate(out)]
-    return replace(designs[0], parts=tuple(designs))
+        none = tuple(f"setup {i + 1} ({s.where}, occupied {s.occupied.id}) serves no stake"
+                     for i, s in enumerate(assigned[0]) if counts[i] == 0)
+        designs = out
+    else:
+        none = ()
+    # the job's design: the first alignment's, with the whole job (every design file) and the warnings
+    # of the job as a whole (every alignment's own stay with it in parts)
+    return replace(designs[0], job=job, parts=tuple(designs), warnings=none)
 
 
 def check_ids_across(designs: Sequence[Design]) -> None:
@@ -652,6 +656,15 @@ def check_ids_across(designs: Sequence[Design]) -> None:
                     f"staking.first_point: alignment {db.alignment.name!r} numbers its stakes {pb}{lo_b} to {pb}{hi_b} "
                     f"and alignment {da.alignment.name!r} {pa}{lo_a} to {pa}{hi_a}; point ids must be unique in the "
                     "job: move one alignment's first_point (or give it another point_prefix)")
+    for d in designs:  # an id the job gave (a listed point's) that spells another alignment's number
+        named = d.stakes.layout.names if d.stakes.layout is not None else ()
+        for pid in named:
+            for prefix, lo, hi, other in spans:
+                rest = pid[len(prefix):] if other is not d and pid.startswith(prefix) else ""
+                if rest.isascii() and rest.isdigit() and str(int(rest)) == rest and lo <= int(rest) <= hi:
+                    raise JobFileError(f"point id {pid!r}: alignment {d.alignment.name!r} gives it to a listed point "
+                                       f"and alignment {other.alignment.name!r} numbers a stake so; point ids must "
+                                       "be unique in the job")
     seen: dict[str, str] = {}
     for d in designs:  # ids the job gave, and prefixes that spell another alignment's numbers
         sp = d.stakes

@@ -219,8 +219,8 @@ def placed(ew: Earthwork, table: StakePoints, ground: Ground, first_more: int) -
         has = ~np.isnan(rows.result.catch_n)
         catch = np.full(has.size, -1, dtype=np.int64)
         ref = np.full(has.size, -1, dtype=np.int64)
-        assert table.layout is not None
-        at = table.layout.added[first_more:first_more + int(2 * has.sum())]  # in the order they were given
+        added = table.layout.added if table.layout is not None else np.zeros(0, dtype=np.int64)  # none: no catch
+        at = added[first_more:first_more + int(2 * has.sum())]  # in the order they were given
         left = np.array([s == "left" for s in rows.side], dtype=bool)
         pair = 2 * (np.cumsum(has) - has)
         catch[has] = at[np.where(left, pair + 1, pair)[has]]

@@ -170,7 +170,8 @@ OUTPUTS: tuple[Output, ...] = (
            "profile_picture:profile_svg", needs_profile=True, several="pictures"),
     Output("superelevation-picture", "superelevation.svg", "the superelevation diagram: left and right cross slopes "
            "against station, key points and SE rows", "superelevation:superelevation_svg",
-           applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows"),
+           applies=lambda d: d.sections is not None and d.sections.has_table, absent="no [[superelevation]] rows",
+           several="pictures"),
     Output("slopestakes", "slopestakes.csv", "one row per staked station and side: hinge, catch point, reference "
            "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("slopestakes-sheet", "slopestakes.txt", "the printable slope-stake sheet with the lath markings",

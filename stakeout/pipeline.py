@@ -225,6 +225,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         own = [n for n in setup_notes(part) if not (d.parts and n.startswith(("setups:", "  ")))]
         notes.extend(named + n for n in own + slope_stake_notes(part))
         notes.extend(f"warning: {named}{w}" for w in part.warnings)
+    if d.parts:  # the job's own (a setup serving no stake of any alignment)
+        notes.extend(f"warning: {w}" for w in d.warnings)
     for f in job.design_files:  # once per file: the job file's reader puts it on the file's first record
         if f.not_used:
             notes.append(f"not used from {Path(f.path).name}: {', '.join(f.not_used)}")
@@ -232,18 +234,21 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
 
 
 def run_curve_report(job_path: str | Path) -> str:
-    """``stakeout curve``: the readable curve report of a job's alignment."""
+    """``stakeout curve``: the readable curve report of a job's alignment (of each, with several)."""
     from .alignment import build_alignment
     from .design import build_sections, build_stationing
     from .staking import plan_stakes
     from .writers.report import curve_report
 
     job = load_job(job_path)
-    alignment = build_alignment(job.alignment)
-    stationing = build_stationing(job, alignment)
-    sections = build_sections(job, alignment, stationing)
-    stakes = plan_stakes(alignment, job.staking, stationing)
-    return curve_report(Design(job, alignment, stationing, stakes, sections=sections))
+    reports = []
+    for part in job.parts or (job,):  # several alignments: each one's report in job order
+        alignment = build_alignment(part.alignment)
+        stationing = build_stationing(part, alignment)
+        sections = build_sections(part, alignment, stationing)
+        stakes = plan_stakes(alignment, part.staking, stationing)
+        reports.append(curve_report(Design(part, alignment, stationing, stakes, sections=sections)))
+    return "\n".join(reports)
 
 
 def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: bool = False,

@@ -517,3 +517,18 @@ class Presentation:
         n, e, az = self.d.alignment.evaluate(s, offset, miter=False)
         return n, e, az
 
+
+    @cached_property
+    def other_control(self) -> tuple[list[str], F, F]:
+        """The job's control points that no setup occupies or sights (in the job's order): ids,
+        northings, eastings (the plan drawing and picture draw them with a size rule).
+        """
+        d = self.d
+        used: set[str] = set()
+        for o in d.setup.occupations if d.setup is not None else ():
+            used.add(o.occupied.id)
+            if o.backsight is not None:
+                used.add(o.backsight.id)
+        points = [p for p in d.job.control if p.id not in used]
+        return ([p.id for p in points], np.array([p.northing for p in points], dtype=float),
+                np.array([p.easting for p in points], dtype=float))

@@ -428,18 +428,16 @@ interval = 10.0
 
 
 def test_dxf_of_a_large_job_is_bounded(tmp_path):
-    # regression: 978,542 points took 452 s and 3.3 GB for the DXF; above the detail limit the stakes are
-    # written in bulk as POINTs (checked by reading the file back with ezdxf and auditing it)
+    # regression: 978,542 points took 452 s and 3.3 GB for the DXF; the stakes and their numbers are
+    # written in bulk (checked by reading the file back with ezdxf and auditing it)
     import sys
 
     import ezdxf
 
-    from stakeout.writers.dxf import DETAIL_MAX_STAKES
-
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
     from corridor import corridor_job
 
-    job = corridor_job(tmp_path / "big.toml", DETAIL_MAX_STAKES + 5000, elements=20, setup=False)
+    job = corridor_job(tmp_path / "big.toml", 25_000, elements=20, setup=False)
     out = build_job(job, tmp_path / "out", "--only", "points,dxf")
     doc = ezdxf.readfile(out / "plan.dxf")
     assert not doc.audit().has_errors
@@ -451,8 +449,7 @@ def test_dxf_of_a_large_job_is_bounded(tmp_path):
     assert np.allclose(got, ref, atol=1e-9)
     handles = [int(p.dxf.handle, 16) for p in pts]
     assert len(set(handles)) == len(handles) and max(handles) < int(doc.header["$HANDSEED"], 16)
-    texts = [t.dxf.text for t in doc.modelspace().query("TEXT")]
-    assert any("drawn as points without their numbers" in t for t in texts)
+    assert [t.dxf.text for t in doc.modelspace().query('TEXT[layer=="SO-STAKE-NO"]')] == [r["point"] for r in want]
 
 
 def test_printed_pages_hold_at_most_60_lines(samples, tmp_path):

@@ -48,7 +48,7 @@ def test_deflections_ran_the_exit_spiral_only_from_the_cs():
         assert chord == pytest.approx(math.hypot(x, y), abs=1e-6)
     # the whole spiral from the ST: theta / 3 nearly (common practice: deflection ~ theta / 3)
     assert t.rows[-1, 2] == pytest.approx(math.degrees(Ls / (2 * R)) / 3, rel=2e-3)
-    sheet = deflection_sheet(d)
+    sheet = deflection_sheet(d).decode("utf-8")  # the sheet's bytes (UTF-8)
     assert "spiral from ST 0+582.458" in sheet and "run from its end looking back, deflect left" in sheet
     assert "exit spirals: occupy the ST," in sheet
     # the offset lines' rows are run from their point opposite the ST too
@@ -60,9 +60,9 @@ def test_exit_spiral_from_defaults_to_the_cs():
     d, same = _design(None), _design("CS")
     assert not any(t.from_end for t in d.presentation.deflections)
     def body(x):  # the sheet without the job file's hash (the two files differ by the key)
-        return [line for line in deflection_sheet(x).splitlines() if "sha256" not in line]
+        return [line for line in deflection_sheet(x).decode("utf-8").splitlines() if "sha256" not in line]
 
     assert body(d) == body(same)
-    assert "spiral from CS 0+512.458" in deflection_sheet(d)
+    assert "spiral from CS 0+512.458" in deflection_sheet(d).decode("utf-8")
     with pytest.raises(JobFileError, match="exit_spiral_from"):
         _design("PT")

@@ -551,14 +551,11 @@ def test_catch_and_reference_stakes_were_missing_from_the_report(tmp_path):
     assert ">nan<" not in html
 
 
-def test_catch_and_reference_stakes_were_missing_from_the_bulk_dxf(tmp_path, monkeypatch):
-    """Regression: above the DXF's detail limit, stakes are written in bulk, and the catch and
-    reference stakes were left out there."""
+def test_catch_and_reference_stakes_were_missing_from_the_bulk_dxf(tmp_path):
+    """Regression: above the DXF's old detail limit, stakes were written in bulk, and the catch and
+    reference stakes were left out there (every stake is written in bulk now)."""
     import ezdxf
 
-    from stakeout.writers import dxf
-
-    monkeypatch.setattr(dxf, "DETAIL_MAX_STAKES", 5)
     out = tmp_path / "out"
     files = _build(_job(tmp_path, _tilted, SLOPES), out, "points,dxf")
     doc = ezdxf.readfile(out / "plan.dxf")  # read back with ezdxf
@@ -573,3 +570,13 @@ def test_automatic_setups_cover_the_catch_and_reference_stakes(tmp_path):
                                    'occupied = "auto"\nmax_distance = 80.0\nmax_backsight = 100.0\n')
     files = _build(_job(tmp_path, _tilted, extra), tmp_path / "out", "points,setout")
     assert len(_rows(files["setout.csv"])) == len(_rows(files["points.csv"])) == 42
+
+
+def test_slope_stakes_without_any_catch_crashed(tmp_path):
+    """Regression: a job with [slope_stakes] where no station side found a catch point (max_width too
+    short) stopped with an internal error: no catch or reference stake joined the table."""
+    job = _job(tmp_path, _level, SLOPES.replace("max_width = 100.0", "max_width = 0.5"))
+    files = _build(job, tmp_path / "out", "points,slopestakes")
+    rows = _rows(files["slopestakes.csv"])
+    assert rows and all(r["note"] == "no catch within max_width" and r["catch_point"] == "" for r in rows)
+    assert len(_rows(files["points.csv"])) == 18

@@ -82,3 +82,15 @@ def test_sigkill_during_build_then_next_run_cleans(tmp_path):
     r = runner.invoke(app, ["build", str(JOB), "--out", str(out), *ONLY, "--force"])
     assert r.exit_code == 0, r.output
     assert sorted(q.name for q in tmp_path.iterdir()) == ["job.toml", "out"], left
+
+
+def test_killed_run_leftover_above_a_missing_parent_was_never_cleaned(tmp_path):
+    """Regression: a run whose --out parent did not exist made its temporary folder in the nearest
+    folder that did; killed, it left that folder there, and later runs looked only beside --out."""
+    pid = _dead_pid()
+    (tmp_path / f".out.partial-{pid}-abcd").mkdir()  # where the killed run made it
+    out = tmp_path / "new" / "deeper" / "out"
+    r = _build(out)
+    assert r.exit_code == 0, r.output
+    assert "killed run" in r.output
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["new"]

@@ -122,18 +122,78 @@ def test_report_without_setup_lists_the_stakes(tmp_path):
     assert [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")] == pts
 
 
-def test_large_job_report_points_to_the_files(tmp_path):
+#: What a capped report may weigh (bytes): the first REPORT_MAX_ROWS stakes, deflection rows and the plan.
+REPORT_CAPPED_BYTES = 3_000_000
+
+
+@pytest.mark.slow
+def test_report_html_unbounded_at_many_stakes(tmp_path):
+    # report.html listed every stake up to 20,000 (9 MB at 19k stakes). Now: the first REPORT_MAX_ROWS,
+    # every stake needing attention (r95 over the tolerance: the note of setout.txt), the rest counted
+    # and pointed to the files that hold them. lxml.html parses it; the flagged ids and the count of
+    # rows left out are compared with setout.csv of the same build (read with the csv module).
     import sys
     from pathlib import Path
 
     sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
     from corridor import corridor_job
 
-    job = corridor_job(tmp_path / "big.toml", REPORT_MAX_ROWS + 5000, interval=5.0)
-    out = build_job(job, tmp_path / "out", "--only", "report")
-    text = _doc(out / "report.html").text_content()
-    assert "the setout table is in setout.csv and setout.txt" in text
-    assert (out / "report.html").stat().st_size < 3_000_000
+    job = corridor_job(tmp_path / "big.toml", 50_000, interval=1.0)
+    text = job.read_text(encoding="utf-8").replace(
+        "backsight_azimuth = 10.0", 'backsight = { id = "CP2", northing = 5000400.0, easting = 500100.0 }')
+    job.write_text(text + "[instrument]\nangle_sigma = 2.0\ndistance_sigma = 0.002\ndistance_ppm = 2.0\n"
+                   "centering_sigma = 0.001\npole_sigma = 0.003\n[check]\nhorizontal_tolerance = 0.34\n",
+                   encoding="utf-8")
+    out = build_job(job, tmp_path / "out", "--only", "report,setout")
+    assert (out / "report.html").stat().st_size < REPORT_CAPPED_BYTES
+    rows = read_rows(out / "setout.csv")
+    n = len(rows)
+    assert n > 50_000
+    # flagged: r95 over the tolerance (setout.csv's r95 is rounded to 4 decimals; the tolerance is 0.34)
+    flagged = {r["point"] for r in rows if float(r["r95"]) > 0.3401}
+    near = {r["point"] for r in rows if 0.3399 <= float(r["r95"]) <= 0.3401}
+    assert len(flagged) > 100
+    listed_must = {r["point"] for r in rows[:REPORT_MAX_ROWS]} | flagged
+    doc = _doc(out / "report.html")
+    table = doc.xpath("//section[@class='setup']//table[@class='data']")[0]
+    ids = [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")]
+    assert listed_must <= set(ids) <= listed_must | near
+    assert ids == [r["point"] for r in rows if r["point"] in set(ids)]  # in the job's order
+    # each listed row is its own stake's: distance and r95 as setout.csv gives them, the flag as its note
+    heads = [th.text_content() for th in table.xpath("./thead/tr/th")]
+    by_id = {r["point"]: r for r in rows}
+    for tr in table.xpath("./tbody/tr"):
+        cell = dict(zip(heads, (td.text_content() for td in tr.xpath("./td"))))
+        r = by_id[cell["point"]]
+        assert abs(float(cell["grid dist"]) - float(r["grid_distance"])) <= 0.00051
+        assert cell["r95"] == r["r95"]
+        assert (cell["note"] == "r95>tol") == (cell["point"] in flagged) or cell["point"] in near
+    para = table.getprevious().text_content()
+    assert f"{n:,} stakes, {len(ids):,} listed here and {n - len(ids):,} left out" in para
+    assert "every stake is in setout.csv, setout.txt and points.csv" in para
+    body = doc.text_content()
+    assert "every table is in full in deflections.txt" in body
+    assert "Left out here:" in body
+    defl = sum(len(t.xpath("./tbody/tr")) for t in doc.xpath("//h2[.='Deflections']/following::table[@class='data']"))
+    assert defl == REPORT_MAX_ROWS
+
+
+def test_report_without_setup_capped(tmp_path):
+    # without a setup nothing needs attention: the first REPORT_MAX_ROWS stakes, the rest counted
+    # (compared with points.csv of the same build)
+    import sys
+    from pathlib import Path
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
+    from corridor import corridor_job
+
+    job = corridor_job(tmp_path / "big.toml", REPORT_MAX_ROWS + 500, interval=5.0, setup=False, sections=False)
+    out = build_job(job, tmp_path / "out", "--only", "report,points")
+    pts = [r["point"] for r in read_rows(out / "points.csv")]
+    doc = _doc(out / "report.html")
+    table = [h for h in doc.xpath("//h2") if h.text_content() == "Stakes"][0].getnext().getnext()
+    assert [tr.xpath("./td")[0].text_content() for tr in table.xpath("./tbody/tr")] == pts[:REPORT_MAX_ROWS]
+    assert f"{len(pts) - REPORT_MAX_ROWS:,} left out" in doc.text_content()
 
 
 def test_job_text_is_escaped(tmp_path):

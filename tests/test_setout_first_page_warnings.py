@@ -27,7 +27,7 @@ WARNING = "offset elevations ignore the design file's superelevation from 11+80 
 def test_superelevation_warning_was_only_a_console_line(sample):
     d = build_design(load_job(str(SAMPLES / sample)))
     d = dataclasses.replace(d, warnings=(*d.warnings, WARNING))
-    first_page = setout_sheet(d).split("\f")[0]
+    first_page = setout_sheet(d).decode("utf-8").split("\f")[0]  # the sheet's bytes (UTF-8)
     assert " ".join(first_page.split()).count(WARNING) == 1  # wrapped lines joined
     for w in d.warnings:
         assert " ".join(w.split()) in " ".join(first_page.split())
@@ -47,5 +47,5 @@ def test_unapplied_design_file_superelevation_heads_the_setout_sheet(tmp_path):
                      'backsight = { id = "CP2", northing = 5500300.0, easting = 500100.0 }\n', encoding="utf-8")
     d = build_design(load_job(job))
     want = "offset elevations ignore the design file's superelevation from 1+170.000 to 1+454.720"
-    first_page = " ".join(setout_sheet(d).split("\f")[0].split())
+    first_page = " ".join(setout_sheet(d).decode("utf-8").split("\f")[0].split())
     assert "WARNING " + want in first_page

@@ -247,3 +247,156 @@ def test_one_plan_picture_with_every_alignment(tmp_path):
     assert len(centrelines) == 3
     texts = "".join(root.itertext())
     assert "alignments MAIN, RAMP-A, LOOP-B" in texts and "3 alignments" in texts
+
+
+def test_listed_id_equal_to_another_alignments_number_was_accepted(tmp_path):
+    """Regression: a listed point's own id that another alignment numbers a stake with (here 505) was
+    accepted, so points.csv held two points 505 and alignment.xml failed as 'written twice'."""
+    (tmp_path / "list.csv").write_text("station,offset,code,id\n1+020,-6.0,MH,505\n", encoding="utf-8")
+    text = HEAD + "".join(_alignment(*r) for r in ROADS[:2])
+    text = text.replace('point_prefix = ""\noffsets', 'point_prefix = ""\npoints = "list.csv"\noffsets', 1)
+    job = tmp_path / "job.toml"
+    job.write_text(text, encoding="utf-8")
+    r = runner.invoke(app, ["build", str(job), "--out", str(tmp_path / "out"), "--only", "points"])
+    assert r.exit_code == 2, r.output
+    assert "point id '505'" in r.output and "'RAMP-A'" in r.output and not (tmp_path / "out").exists()
+
+
+def test_shot_past_one_alignments_end_was_located_on_it(tmp_path):
+    """Regression: an unmatched shot 1 m from the second alignment was located on the first, 100 m
+    past its end, because the inverse extends the end tangents and the offset alone was compared."""
+    roads = """[[alignment]]
+name = "R1"
+start = { station = "0+000", northing = 5000.0, easting = 3000.0 }
+azimuth = "90-00-00"
+[[alignment.element]]
+kind = "line"
+length = 100.0
+[alignment.staking]
+interval = 50.0
+[[alignment]]
+name = "R2"
+start = { station = "1+000", northing = 4900.0, easting = 3200.0 }
+azimuth = "0-00-00"
+[[alignment.element]]
+kind = "line"
+length = 200.0
+[alignment.staking]
+interval = 50.0
+first_point = 100
+"""
+    job = tmp_path / "job.toml"
+    job.write_text(HEAD + "[check]\nhorizontal_tolerance = 0.02\n" + roads, encoding="utf-8")
+    shots = tmp_path / "shots.csv"
+    shots.write_text("X1,5000.5000,3201.0000,,\n", encoding="utf-8")
+    r = runner.invoke(app, ["check", str(job), str(shots), "--out", str(tmp_path / "chk")])
+    assert r.exit_code == 1, r.output  # an unmatched shot needs attention
+    row = _rows((tmp_path / "chk" / "check.csv").read_text(encoding="utf-8"))[0]
+    assert row["status"] == "unmatched"
+    # on R2: 100.5 m along from 1+000 at E 3200, 1.0 m right of it (plane geometry by hand)
+    assert float(row["station"]) == pytest.approx(1100.5, abs=1e-4) and float(row["offset"]) == pytest.approx(1.0)
+
+
+def test_superelevation_svg_of_two_alignments_was_not_xml(tmp_path):
+    """Regression: superelevation.svg of a job whose alignments both have [[superelevation]] rows was two
+    SVG documents glued together (joined as CSV rows), not XML."""
+    from lxml import etree
+
+    rows = """[[alignment.superelevation]]
+station = "1+000"
+left = -2.0
+right = -2.0
+[[alignment.superelevation]]
+station = "1+060"
+left = 4.0
+right = -4.0
+"""
+    text = HEAD + "".join(_alignment(*r).replace('offset = -4.0, code = "L" }', 'offset = -4.0, code = "L", '
+                                                  'cross_slope = "superelevation" }') + rows for r in ROADS[:2])
+    files = _build(tmp_path, text, "all", "superelevation-picture")
+    etree.fromstring(files["superelevation.svg"].encode("utf-8"))  # well-formed (lxml)
+
+
+def test_later_alignments_design_files_missing_from_manifest(tmp_path):
+    """Regression: manifest.json and the sheets' headers listed only the first alignment's input files
+    (a later alignment's structures list was missing, with its hash)."""
+    import json
+
+    (tmp_path / "list.csv").write_text("station,offset,code\n1+020,-6.0,MH\n", encoding="utf-8")
+    text = HEAD + CONTROL + '[setup]\noccupied = "CP1"\nbacksight = "CP2"\n' + "".join(
+        _alignment(*r) for r in ROADS[:2])
+    text = text.replace('first_point = 500\npoint_prefix = ""\noffsets',
+                        'first_point = 500\npoint_prefix = ""\npoints = "list.csv"\noffsets')
+    files = _build(tmp_path, text, "all", "sheet,manifest")
+    listed = [f for f in json.loads(files["manifest.json"])["design_files"] if f["role"] == "points"]
+    assert len(listed) == 1 and listed[0]["path"] == "list.csv"
+    assert "points from list.csv" in files["setout.txt"]
+
+
+def test_plan_legend_held_only_the_first_alignments_codes(tmp_path):
+    """Regression: plan.svg of several alignments listed (and coloured) the first alignment's offset
+    lines only; a code of another alignment took whatever colour its index had there."""
+    from lxml import etree
+
+    other = _alignment(*ROADS[1]).replace('code = "L" }', 'code = "KERB" }')
+    files = _build(tmp_path, HEAD + _alignment(*ROADS[0]) + other, "all", "picture")
+    root = etree.fromstring(files["plan.svg"].encode("utf-8"))
+    texts = [t.text for t in root.iter("{http://www.w3.org/2000/svg}text") if t.text]
+    assert any(t.startswith("stake KERB") for t in texts) and any(t.startswith("stake L ") for t in texts)
+
+
+def test_radial_lines_drawn_for_the_first_alignment_only(tmp_path):
+    """Regression: plan.dxf of several alignments drew the radial lines from each occupied point to the
+    first alignment's stakes only."""
+    import ezdxf
+
+    setup = '[setup]\noccupied = "auto"\nmax_distance = 200.0\nmax_backsight = 300.0\n'
+    files = _build(tmp_path, HEAD + CONTROL + setup + "".join(_alignment(*r) for r in ROADS), "all", "points,dxf")
+    doc = ezdxf.readfile(tmp_path / "all" / "plan.dxf")  # read back with ezdxf
+    radials = doc.modelspace().query("LINE[layer=='SO-RADIAL']")
+    ends = {(round(x.dxf.end.x, 4), round(x.dxf.end.y, 4)) for x in radials}
+    assert ends == {(float(r["easting"]), float(r["northing"])) for r in _rows(files["points.csv"])}
+
+
+def test_several_alignment_sheet_had_one_factor_for_every_setup(tmp_path):
+    """Regression: setout.txt of several alignments with combined_factor = "auto" printed the first
+    setup's factor in its header and none per setup (the ground distances used each setup's own); it
+    also left out the r95 summary and the foot's notes."""
+    text = HEAD.replace('units = "m"', 'units = "m"\ncrs = "EPSG:32633"') + """[[control.point]]
+id = "CP1"
+northing = 5801030.0
+easting = 402050.0
+elevation = 55.0
+[[control.point]]
+id = "CP2"
+northing = 5801030.0
+easting = 401990.0
+[[control.point]]
+id = "CP3"
+northing = 5800990.0
+easting = 401990.0
+[[setup.station]]
+occupied = "CP1"
+backsight = "CP2"
+[[setup.station]]
+occupied = "CP3"
+backsight = "CP2"
+[scale]
+combined_factor = "auto"
+ellipsoid_height = 120.0
+[instrument]
+angle_sigma = 2.0
+distance_sigma = 0.002
+distance_ppm = 2.0
+centering_sigma = 0.001
+pole_sigma = 0.003
+[check]
+horizontal_tolerance = 0.02
+""" + "".join(_alignment(name, 5801000.0 + n - 1000.0, 402000.0 + e - 2000.0, az, r, first, step)
+              for name, n, e, az, r, first, step in ROADS[:2])
+    files = _build(tmp_path, text, "all", "setout,sheet")
+    sheet = files["setout.txt"]
+    setups = {r["setup"] for r in _rows(files["setout.csv"])}
+    assert len(setups) >= 2
+    assert sheet.count("combined factor ") >= len(setups)  # each setup's own, in its section
+    assert "max r95" in sheet and "design el =" in sheet

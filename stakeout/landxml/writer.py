@@ -37,9 +37,12 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..errors import GeometryError, JobFileError
 from ..numbers import fixed_string, fixed_strings
+from ..writers import rows as rows_
+from ..writers.rows import Field
 from .records import (
     ANGLE_POINT_CODE,
     LANDXML_NS,
@@ -242,10 +245,9 @@ def write_landxml(
     body = _ET.tostring(root, encoding="unicode")
     assert body.endswith("</LandXML>")
     # the points as text: a build may stake a million of them, too many for a tree
-    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else ""
-    return ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")] + cg + "</LandXML>\n").encode(
-        "utf-8"
-    )
+    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else []
+    head = ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")]).encode("utf-8")
+    return b"".join([head, *cg, b"</LandXML>\n"])
 
 
 _POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
@@ -307,15 +309,26 @@ def _attr_texts(strings: Sequence[str], what: str) -> Sequence[str]:
     return strings
 
 
-def _optional_attrs(name: str, values: Sequence[str] | None, n: int, what: str) -> Sequence[str]:
-    """`` name="value"`` where a value is given, "" where it is empty (or none is given)."""
+def _optional_attr(name: str, values: Sequence[str] | None, rows: slice, what: str) -> list[Field]:
+    """`` name="value"`` where a value is given, nothing where it is empty (or none is given): fields of ``rows``."""
     if values is None:
-        return [""] * n
-    return [f' {name}="{v}"' if v else "" for v in _attr_texts(values, what)]
+        return []
+    col = rows_.Strings(_attr_texts(values[rows], what))
+    empty = col.lens == 0
+    return [rows_.blank(rows_.const(f' {name}="', col.n), empty), col.field(slice(None)),
+            rows_.blank(rows_.const('"', col.n), empty)]
 
 
-def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
-    """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals by the one number formatter)."""
+#: Coordinates at or above this (file units) are written by Python's formatting, not the digit tables
+#: of :mod:`stakeout.writers.rows` (which hold 17 digits: 11 before the 6 decimals).
+_TABLE_LIMIT = 1e11
+
+
+def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> list[bytes]:
+    """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals by the one rounding
+    rule), laid out as byte fields a block of rows at a time (:mod:`stakeout.writers.rows`): the
+    file's bytes in blocks.
+    """
     if not isinstance(points, XPoints):
         points = XPoints(
             [p.name for p in points],
@@ -339,17 +352,32 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> str:
     if not np.isfinite(coords).all() or (np.abs(coords) >= 1e12).any():
         raise JobFileError("points: coordinates must be finite and below 1e12")
     d = _POINT_DECIMALS
-    z_text = [f" {z}" if z != "nan" else "" for z in fixed_strings(elev, d)]
-    rows = [
-        f'    <CgPoint name="{name}"{code}{desc}>{n_} {e_}{z}</CgPoint>\n'
-        for name, code, desc, n_, e_, z in zip(
-            _attr_texts(points.names, "point name"),
-            _optional_attrs("code", points.codes, n, "point code"),
-            _optional_attrs("desc", points.descs, n, "point desc"),
-            fixed_strings(nn, d), fixed_strings(ee, d), z_text, strict=True,
-        )
-    ]
-    return "  <CgPoints>\n" + "".join(rows) + "  </CgPoints>\n"
+    names = list(points.names)
+    width = np.fromiter(map(len, names), dtype=np.int64, count=n)  # characters: the blocks' size, roughly
+    large = bool(coords.size) and float(np.abs(coords).max()) >= _TABLE_LIMIT
+
+    def number(x: NDArray[np.float64]) -> Field:
+        if large:  # Python's formatting (the same rule), then laid out as text
+            return rows_.Strings(fixed_strings(x, d)).field(slice(None))
+        return rows_.fixed(x, d)
+
+    def elevation(z: NDArray[np.float64]) -> Field:
+        none = np.isnan(z)
+        return np.hstack([rows_.blank(rows_.const(" ", z.size), none),
+                          rows_.blank(number(np.where(none, 0.0, z)), none)])
+
+    out = [b"  <CgPoints>\n"]
+    for a, b in rows_.row_chunks(width):
+        k = b - a
+        fields = [rows_.const('    <CgPoint name="', k), rows_.Strings(_attr_texts(names[a:b], "point name")).field(
+            slice(None)), rows_.const('"', k)]
+        fields += _optional_attr("code", points.codes, slice(a, b), "point code")
+        fields += _optional_attr("desc", points.descs, slice(a, b), "point desc")
+        fields += [rows_.const(">", k), number(nn[a:b]), rows_.const(" ", k), number(ee[a:b]), elevation(elev[a:b]),
+                   rows_.const("</CgPoint>", k)]
+        out.append(rows_.join_rows(fields, k))
+    out.append(b"  </CgPoints>\n")
+    return out
 
 
 def _renumber(el: XElement, index: int) -> XElement:

@@ -18,7 +18,7 @@ SO-STATION     7       station ticks and labels (labelled stations long, at the 
 SO-KEYPOINT    1       key points (POB, PC, PCC, PRC, PT, AP, POE): circle and label
 SO-CONTROL     5       every setup's occupied point (triangle) and backsight point (circle),
                        labelled (``CP104 (setup 2)`` when setups are numbered); other control
-                       points (small circle and id)
+                       points (POINT, small circle up to CONTROL_RING_MAX of them, and id)
 SO-BACKSIGHT   5       the backsight line from each occupied point
 SO-RADIAL      9       light lines from each occupied point to each of its stakes (up to
                        2,000 stakes; layer off)
@@ -28,10 +28,12 @@ SO-TABLE       7       curve data table and title block text
 
 from __future__ import annotations
 
+import functools
 import io
 import math
 from collections import OrderedDict
 from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -41,6 +43,7 @@ import numpy as np
 from ..angles import format_dms, sincosd
 from ..design import Design
 from ..presentation import Element, PerKind
+from ..staking import COORDINATE_DECIMALS
 from . import rows
 from .sections import widened_traces
 from .stationmarks import labelled_stations, sheet_scale, station_spacing
@@ -66,10 +69,24 @@ INSUNITS = {"ft": 2, "m": 6, "us_ft": 21}
 
 TEXT_STYLE = "SO-TEXT"
 
-#: Above this many stakes the plan shows them as plain POINTs written in bulk, without
-#: a number beside each and with ticks at the labelled stations only: a drawing of a million
-#: labelled stakes is neither quick to make nor legible (the title block says so).
-DETAIL_MAX_STAKES = 20_000
+#: Every stake has its POINT and its number, and every staked station its tick, at any size:
+#: the drawing is zoomable and layer SO-STAKE-NO can be switched off.  They are written in bulk
+#: (:class:`Bulk`), so a labelled plan of a million stakes takes seconds, not minutes.
+
+#: Up to this many entities (and polyline vertices) written in bulk (a small job, such as the
+#: sample jobs) their numbers are written as ezdxf writes a float, the shortest text that reads
+#: back exactly (the bytes ezdxf's own entities had); above it with :data:`BULK_DECIMALS` decimals from numpy's digit tables
+#: (``writers/rows.py``), which is about ten times faster than Python's float text.
+EXACT_MAX_ENTITIES = 10_000
+
+#: Decimals of a coordinate written in bulk above :data:`EXACT_MAX_ENTITIES`: those of the
+#: point file (0.1 mm, 0.0001 ft), which the large plan had before.
+BULK_DECIMALS = COORDINATE_DECIMALS
+
+#: Up to this many control points besides the setups' each has a small ring around its POINT;
+#: above it (a design file's survey points: 215,000 in one) a POINT and its id only, both in
+#: bulk (the title block says so).
+CONTROL_RING_MAX = 5000
 
 #: Radial lines from the occupied point are drawn for jobs up to this many stakes.
 RADIAL_MAX_STAKES = 2000
@@ -208,19 +225,38 @@ def _draw_setups(msp: Any, d: Design, h: float, size: float) -> None:
             msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
 
-def _draw_control(msp: Any, d: Design, h: float) -> None:
-    """The job's other control points: a point and its id."""
-    used: set[str] = set()
-    if d.setup is not None:
-        for o in d.setup.occupations:
-            used.add(o.occupied.id)
-            if o.backsight is not None:
-                used.add(o.backsight.id)
-    for p in d.job.control:
-        if p.id not in used:
-            msp.add_point((p.easting, p.northing), dxfattribs={"layer": "SO-CONTROL"})
-            msp.add_circle((p.easting, p.northing), 0.6 * h, dxfattribs={"layer": "SO-CONTROL"})
-            _text(msp, p.id, p.easting + 2 * h, p.northing + h, h, "SO-CONTROL")
+def _draw_radials(msp: Any, d: Design) -> None:
+    """Radial lines from each occupied point to its own stakes of this alignment (up to
+    RADIAL_MAX_STAKES stakes), for an alignment after the first of a job with several.
+    """
+    assert d.setup is not None
+    sd, sp = d.setup, d.stakes
+    if len(sp) > RADIAL_MAX_STAKES:
+        return
+    for o, idx in zip(sd.occupations, sd.groups()):
+        occ = o.occupied
+        for e, n in zip(sp.easting[idx].tolist(), sp.northing[idx].tolist()):
+            msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
+
+
+def _control_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
+    """Each other control point's POINT, its ring (up to :data:`CONTROL_RING_MAX` points) and its id."""
+    ids, n, e = d.presentation.other_control
+    ents = [Entity("POINT", "SO-CONTROL", "AcDbPoint", [(10, e), (20, n), (30, "0.0")])]
+    if len(ids) <= CONTROL_RING_MAX:
+        ents.append(Entity("CIRCLE", "SO-CONTROL", "AcDbCircle", [(10, e), (20, n), (30, "0.0"),
+                                                                  (40, repr(0.6 * h))]))
+    ents.append(Entity("TEXT", "SO-CONTROL", "AcDbText", _text_tags(e + 2 * h, n + h, h, ids)))
+    return len(ids), ents
+
+
+def _draw_control(msp: Any, d: Design, h: float, bulk: Bulk) -> None:
+    """The job's other control points: a point, a small ring (up to :data:`CONTROL_RING_MAX`
+    points) and its id, written in bulk.
+    """
+    count = len(d.presentation.other_control[0])
+    per = 3 if count <= CONTROL_RING_MAX else 2
+    bulk.reserve(msp, per * count, lambda: _control_entities(d, h))
 
 
 def _new_doc(d: Design) -> Any:
@@ -236,10 +272,11 @@ def _new_doc(d: Design) -> Any:
     return doc
 
 
-def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None = None
+def _build(d: Design, bulk: Bulk, doc: Any = None, shared: bool = True
            ) -> tuple[Any, tuple[float, float, float, float]]:
-    """Draw one alignment's plan into ``doc`` (a new drawing when None); ``shared``: also
-    the setups and control (once a drawing).  Returns the drawing and the extent drawn.
+    """Draw one alignment's plan into ``doc`` (a new drawing when None), the stakes and control
+    points reserved in ``bulk``; ``shared``: also the setups and control (once a drawing).
+    Returns the drawing and the extent drawn.
     """
     job, a, sp = d.job, d.alignment, d.stakes
     unit = job.info.unit
@@ -255,31 +292,32 @@ def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None 
         if ol.offset != 0.0 and not ol.widening:
             _draw_path(msp, d, ol.offset, "SO-OFFSET")
     for _code, tn_, te_ in widened_traces(d):  # a widened line is what it is: a polyline along its taper
-        msp.add_lwpolyline(list(zip(te_.tolist(), tn_.tolist())), dxfattribs={"layer": "SO-OFFSET"})
+        bulk.reserve_polyline(msp, "SO-OFFSET", te_, tn_)
 
-    detail = len(sp) <= DETAIL_MAX_STAKES if detail is None else detail
-    zs = _stake_heights(d)
-    for i in range(len(sp) if detail else 0):  # a large job's stakes are written in bulk (see plan_dxf)
-        e, n = float(sp.easting[i]), float(sp.northing[i])
-        msp.add_point((e, n, float(zs[i])), dxfattribs={"layer": "SO-STAKE"})
-        _text(msp, sp.point[i], e + 0.4 * h, n + 0.4 * h, 0.6 * h, "SO-STAKE-NO")
+    bulk.reserve(msp, 2 * len(sp), lambda: _stake_entities(d, h))  # a POINT and its number per stake
 
     # station ticks: long and labelled at the plan picture's spacing for the job's length (the scale
-    # plan.svg would draw this extent at), short at every staked station
+    # plan.svg would draw this extent at), short at every staked station (those in bulk, between the
+    # labelled ones)
     full = labelled_stations(d, station_spacing(a.length, sheet_scale(x1 - x0, y1 - y0)))
-    ticks = np.unique(np.concatenate([full, sp.stations])) if detail else full
+    ticks = np.unique(np.concatenate([full, sp.stations]))
     (tn, te, taz) = a.evaluate(ticks, 0.0)
     is_full = np.isin(ticks, full)
+    sn, cn = sincosd(taz + 90.0)
+    half = np.where(is_full, 2.0 * h, 0.8 * h)
+    ends = (te - half * sn, tn - half * cn, te + half * sn, tn + half * cn)
     lab = dict(zip(full.tolist(), stn.labels(full)))
-    for st, n, e, az, big in zip(ticks.tolist(), tn.tolist(), te.tolist(), taz.tolist(), is_full.tolist()):
-        half = (2.0 if big else 0.8) * h
-        sn, cn = sincosd(az + 90.0)
-        msp.add_line((e - half * float(sn), n - half * float(cn)), (e + half * float(sn), n + half * float(cn)),
-                     dxfattribs={"layer": "SO-STATION"})
-        if big:
+    start = 0
+    for k in np.flatnonzero(is_full).tolist() + [ticks.size]:
+        bulk.reserve(msp, k - start, functools.partial(_tick_entities, ends, slice(start, k)))
+        if k < ticks.size:
+            xa, ya, xb, yb = (float(v[k]) for v in ends)
+            msp.add_line((xa, ya), (xb, yb), dxfattribs={"layer": "SO-STATION"})
+            e, n, s_, c_ = float(te[k]), float(tn[k]), float(sn[k]), float(cn[k])
             # label on the left of the centreline, reading along the normal
-            _text(msp, lab[st], e - 2.5 * h * float(sn), n - 2.5 * h * float(cn), h, "SO-STATION",
-                  rot=dxf_angle(az - 90.0), align="MIDDLE_RIGHT")
+            _text(msp, lab[float(ticks[k])], e - 2.5 * h * s_, n - 2.5 * h * c_, h, "SO-STATION",
+                  rot=dxf_angle(float(taz[k]) - 90.0), align="MIDDLE_RIGHT")
+        start = k + 1
 
     for kp in a.key_points:
         msp.add_circle((kp.easting, kp.northing), 0.8 * h, dxfattribs={"layer": "SO-KEYPOINT"})
@@ -296,16 +334,19 @@ def _build(d: Design, doc: Any = None, shared: bool = True, detail: bool | None 
 
     if shared and d.setup is not None:
         _draw_setups(msp, d, h, size)
+    elif d.setup is not None:  # another alignment of the job: the setups drawn, only its radial lines
+        _draw_radials(msp, d)
     if shared:
-        _draw_control(msp, d, h)
+        _draw_control(msp, d, h, bulk)
 
     # title block and curve table, above the top-left corner of the job
     lines = [f"{job.info.name}", f"job file {Path(job.path).name}   sha256 {job.sha256}",
              f"alignment {a.name}   units {unit.label}",
              f"CRS {d.crs_label or 'none: local grid'}", ""]
-    if not detail:
-        lines.append(f"{len(sp):,} stakes: drawn as points without their numbers, station ticks at labelled stations "
-                     f"only (over {DETAIL_MAX_STAKES:,} stakes); the numbers are in points.csv")
+    others = len(d.presentation.other_control[0]) if shared else 0
+    if others > CONTROL_RING_MAX:
+        lines.append(f"{others:,} other control points: a point and its id each, without rings (over "
+                     f"{CONTROL_RING_MAX:,})")
         lines.append("")
     lines.append("CURVE DATA")
     for ct in curve_texts(d):
@@ -339,25 +380,20 @@ def plan_dxf(d: Design) -> bytes:
     alignments every one in the one drawing (setups and control drawn once).
     """
     parts = d.parts or (d,)
-    total = sum(len(p.stakes) for p in parts)
-    bulk = total > DETAIL_MAX_STAKES
+    bulk = Bulk()
     saved = ezdxf.options.write_fixed_meta_data_for_testing
     ezdxf.options.write_fixed_meta_data_for_testing = True  # no timestamps or GUIDs in the header
     try:
         doc: Any = None
         boxes = []
         for k, p in enumerate(parts):
-            doc, box = _build(p, doc, shared=k == 0, detail=not bulk)
+            doc, box = _build(p, bulk, doc, shared=k == 0)
             boxes.append(box)
         x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
         x1, top = max(b[2] for b in boxes), max(b[3] for b in boxes)
         doc.header["$EXTMIN"] = (x0, y0, 0.0)
         doc.header["$EXTMAX"] = (x1, top, 0.0)
         doc.set_modelspace_vport(height=(top - y0) * 1.1, center=((x0 + x1) / 2, (y0 + top) / 2))
-        first = 0
-        if bulk:  # reserve one handle per stake before the header's $HANDSEED is written
-            first = int(doc.entitydb.handles.next(), 16)
-            doc.entitydb.handles.reset("%X" % (first + total))
         # The CLASSES section can come out in set order, which follows the hash
         # seed: add the required classes now and put them in a fixed order.
         doc.classes.add_required_classes(doc.dxfversion)
@@ -367,12 +403,7 @@ def plan_dxf(d: Design) -> bytes:
         owner = doc.modelspace().block_record_handle
     finally:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
-    data = stream.getvalue().encode(doc.output_encoding)
-    if bulk:
-        for p in parts:
-            data = _splice_points(data, p, first, owner)
-            first += len(p.stakes)
-    return data
+    return bulk.splice(stream.getvalue().encode(doc.output_encoding), owner)
 
 
 def _hex(values: np.ndarray) -> rows.Field:
@@ -400,24 +431,144 @@ def _stake_heights(d: Design) -> np.ndarray:
     return z
 
 
-def _splice_points(data: bytes, d: Design, first: int, owner: str) -> bytes:
-    """Put one POINT entity per stake at the end of the ENTITIES section, written in bulk
-    with numpy (the same group codes ezdxf writes for a POINT on layer SO-STAKE).
+#: A tag's value in a run of bulk entities: text on every row, a float per row (written as
+#: ezdxf writes a float: Python's shortest repr) or a text per row (ASCII: safe ids).
+Value = str | np.ndarray | list[str]
+
+
+@dataclass(frozen=True)
+class Entity:
+    """One entity of each row of a bulk run: its type, layer, subclass and tags after the subclass."""
+
+    dxftype: str
+    layer: str
+    subclass: str
+    tags: list[tuple[int, Value]]
+
+
+#: How a reserved run is written: (first handle, model space's handle, numbers exact?) -> bytes.
+Render = Callable[[int, str, bool], list[bytes]]
+
+
+class Bulk:
+    """Runs of entities reserved in a drawing and written after it with numpy, byte for byte as
+    ezdxf writes them (checked by a test against entities ezdxf drew).
+
+    :meth:`reserve` puts a placeholder POINT where the run goes and skips the handles of the run,
+    so every entity ezdxf draws afterwards has the handle it would have had; :meth:`splice` puts
+    each run in place of its placeholder.  Up to :data:`EXACT_MAX_ENTITIES` entities (and
+    polyline vertices) in all their numbers are written as ezdxf writes them, above it to
+    :data:`BULK_DECIMALS` decimals.  A run is one row per item (a stake, a control point) of one
+    or more entities each, or one polyline, rendered in blocks of rows, each from whole columns.
     """
-    sp = d.stakes
-    at = data.index(b"\n  0\nENDSEC\n", data.index(b"\n  2\nENTITIES\n")) + 1
-    z = _stake_heights(d)
-    parts = []
+
+    def __init__(self) -> None:
+        self.runs: list[tuple[int, Render]] = []
+        self.size = 0
+
+    def _reserve(self, msp: Any, count: int, size: int, render: Render) -> None:
+        first = int(msp.add_point((0.0, 0.0), dxfattribs={"layer": "SO-STAKE"}).dxf.handle, 16)
+        msp.doc.entitydb.handles.reset("%X" % (first + count))
+        self.runs.append((first, render))
+        self.size += size
+
+    def reserve(self, msp: Any, count: int, entities: Callable[[], tuple[int, list[Entity]]]) -> None:
+        """Reserve ``count`` handles here for the entities ``entities()`` gives (rows, entities a row)."""
+        def render(first: int, owner: str, exact: bool) -> list[bytes]:
+            n, ents = entities()
+            assert n * len(ents) == count
+            return _entity_rows(first, owner, n, ents, exact)
+
+        if count:
+            self._reserve(msp, count, count, render)
+
+    def reserve_polyline(self, msp: Any, layer: str, x: np.ndarray, y: np.ndarray) -> None:
+        """Reserve an open LWPOLYLINE through (x, y) here, as ``msp.add_lwpolyline`` draws it."""
+        def render(first: int, owner: str, exact: bool) -> list[bytes]:
+            head = (f"  0\nLWPOLYLINE\n  5\n{first:X}\n330\n{owner}\n100\nAcDbEntity\n  8\n{layer}\n"
+                    f"100\nAcDbPolyline\n 90\n{x.size}\n 70\n0\n").encode("ascii")
+            out = [head]
+            for i in range(0, x.size, 16384):
+                sl = slice(i, min(x.size, i + 16384))
+                k = sl.stop - i
+                out.append(rows.join_rows([rows.const(" 10\n", k), _floats(x[sl], exact), rows.const("\n 20\n", k),
+                                           _floats(y[sl], exact)], k))
+            return out
+
+        self._reserve(msp, 1, x.size, render)
+
+    def splice(self, data: bytes, owner: str) -> bytes:
+        """The drawing ``data`` with each placeholder replaced by its run (``owner``: the model space's handle)."""
+        pieces, at = [], 0
+        exact = self.size <= EXACT_MAX_ENTITIES
+        for first, render in self.runs:
+            # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
+            start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, max(at - 1, 0)) + 1
+            pieces.append(data[at:start])
+            pieces += render(first, owner, exact)
+            at = data.index(b"\n  0\n", start) + 1
+        pieces.append(data[at:])
+        return b"".join(pieces)
+
+
+def _floats(values: np.ndarray, exact: bool) -> rows.Field:
+    """Floats one a row: as ezdxf writes them (``str(float)``, the shortest text that reads back
+    exactly) when ``exact``, else with :data:`BULK_DECIMALS` decimals (from the digit tables).
+    """
+    if exact or not values.size or np.abs(values).max() >= 1e12:
+        return rows.text(list(map(repr, values.tolist())))
+    return rows.fixed(values, BULK_DECIMALS)
+
+
+def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> list[bytes]:
+    """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order, the
+    numbers written in full (``exact``) or to :data:`BULK_DECIMALS` decimals.
+    """
+    m = len(ents)
+    out = []
     step = 16384
-    for i in range(0, len(sp), step):  # chunks bound the temporaries; each is vectorised
-        k = min(len(sp), i + step) - i
+    for i in range(0, n, step):  # blocks bound the temporaries; each is vectorised
+        k = min(n, i + step) - i
         sl = slice(i, i + k)
-        fields = [rows.const("  0\nPOINT\n  5\n", k), _hex(np.arange(first + i, first + i + k)),
-                  rows.const(f"\n330\n{owner}\n100\nAcDbEntity\n  8\nSO-STAKE\n100\nAcDbPoint\n 10\n", k),
-                  rows.fixed(sp.easting[sl], 4), rows.const("\n 20\n", k), rows.fixed(sp.northing[sl], 4),
-                  rows.const("\n 30\n", k), rows.fixed(z[sl], 4)]
-        parts.append(rows.join_rows(fields, k))
-    return data[:at] + b"".join(parts) + data[at:]
+        fields: list[rows.Field] = []
+        head = ""
+        for j, ent in enumerate(ents):
+            fields += [rows.const(f"{head}  0\n{ent.dxftype}\n  5\n", k),
+                       _hex(first + j + m * np.arange(i, i + k, dtype=np.int64))]
+            text = f"\n330\n{owner}\n100\nAcDbEntity\n  8\n{ent.layer}\n100\n{ent.subclass}"
+            for code, value in ent.tags:
+                text += f"\n{code:3d}\n"
+                if isinstance(value, str):
+                    text += value
+                    continue
+                fields.append(rows.const(text, k))
+                fields.append(_floats(value[sl], exact) if isinstance(value, np.ndarray) else rows.text(value[sl]))
+                text = ""
+            fields.append(rows.const(text, k))
+            head = "\n"
+        out.append(rows.join_rows(fields, k))
+    return out
+
+
+def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: list[str]) -> list[tuple[int, Value]]:
+    """The tags ezdxf writes for ``_text`` at (x, y), left-aligned and unrotated, after its subclass."""
+    return [(10, x), (20, y), (30, "0.0"), (40, repr(height)), (1, texts), (7, TEXT_STYLE), (11, x), (21, y),
+            (31, "0.0"), (100, "AcDbText")]
+
+
+def _tick_entities(ends: tuple[np.ndarray, ...], s: slice) -> tuple[int, list[Entity]]:
+    """The short station ticks ``s`` (a LINE each) from their ends (x, y at each end)."""
+    xa, ya, xb, yb = (v[s] for v in ends)
+    return xa.size, [Entity("LINE", "SO-STATION", "AcDbLine", [(10, xa), (20, ya), (30, "0.0"), (11, xb), (21, yb),
+                                                               (31, "0.0")])]
+
+
+def _stake_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
+    """Each stake's POINT (at its height) and its number beside it."""
+    sp = d.stakes
+    e, n = sp.easting, sp.northing
+    return len(sp), [Entity("POINT", "SO-STAKE", "AcDbPoint", [(10, e), (20, n), (30, _stake_heights(d))]),
+                     Entity("TEXT", "SO-STAKE-NO", "AcDbText", _text_tags(e + 0.4 * h, n + 0.4 * h, 0.6 * h, sp.point))]
 
 
 def plan_png(dxf_bytes: bytes) -> bytes:

@@ -255,10 +255,15 @@ class OutputFolder:
         longer runs), restoring a missing target from its ``.old-`` folder.
         """
         t = self.target
-        try:
-            entries = sorted(os.scandir(t.parent), key=lambda e: e.name)
-        except OSError:
-            return
+        # a run whose --out parent did not exist yet made its temporary folder in the nearest folder
+        # that did (see __enter__): look there too
+        places = list(dict.fromkeys([t.parent, _nearest_existing(t.parent)]))
+        entries = []
+        for place in places:
+            try:
+                entries += sorted(os.scandir(place), key=lambda e: e.name)
+            except OSError:
+                continue
         stale: dict[str, list[os.DirEntry[str]]] = {"partial": [], "old": []}
         for e in entries:
             for kind in stale:

@@ -13,10 +13,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from html import escape
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from types import SimpleNamespace
+from typing import TYPE_CHECKING, Any, cast
 
 import numpy as np
 
@@ -36,9 +37,14 @@ if TYPE_CHECKING:  # pragma: no cover
 
 __all__ = ["report_html", "check_html", "REPORT_MAX_ROWS", "REPORT_MAX_SECTIONS", "SectionPictures", "STYLE"]
 
-#: A report lists its stakes (setout or stake table, deflections) up to this many rows; a
-#: larger job's report says where the full tables are (setout.csv, setout.txt, deflections.txt).
-REPORT_MAX_ROWS = 20_000
+#: A report lists in full up to this many rows of each long table: the stakes (setout or stake
+#: table), the deflections and the volumes.  A larger job's report lists the first this many (in the
+#: job's order) and, in the setout, every stake that needs attention besides (at the instrument, r95
+#: over the tolerance); it counts the rows left out and names the files that hold every row
+#: (setout.csv, setout.txt, points.csv, deflections.txt, volumes.csv).  The report of such a job
+#: stays a few MiB (about 2 MiB at 50,000 stakes) whatever the job's size, unless many stakes need
+#: attention.
+REPORT_MAX_ROWS = 2_000
 
 #: A report draws the cross-sections inline up to this many sections (a few pages, three panels a
 #: printed page); a longer job's report links to sections.svg instead, when the build writes it.
@@ -275,14 +281,19 @@ def _setout_section(d: Design) -> str:
     sd = d.setup
     assert sd is not None
     n = len(d.stakes)
-    if n > REPORT_MAX_ROWS:
-        return (f"<h2>Setout</h2><p>{n:,} stakes: the setout table is in setout.csv and setout.txt (a report "
-                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    cells = setout_cells(d, sided=True)  # offsets with their side, as setout.txt prints them
+    listed = None  # every stake
+    if n > REPORT_MAX_ROWS:  # the first stakes and every one needing attention
+        listed = np.arange(n) < REPORT_MAX_ROWS
+        listed |= sd.setout.at_instrument
+        if sd.flagged is not None:
+            listed |= sd.flagged
+    picked = None if listed is None else np.flatnonzero(listed)
+    view = d if picked is None else _cut(d, picked)  # only the listed stakes formatted
+    cells = setout_cells(view, sided=True)  # offsets with their side, as setout.txt prints them
     text_keys = {"point", "code", "feature", "note"}
     cols = [(SETOUT_HEADERS[c.key][1], "t" if c.key in text_keys else "n") for c, _ in cells]
     columns = [texts for _, texts in cells]
-    cs = slope_texts(d)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
+    cs = slope_texts(view)  # jobs with cross-sections: the slope applied to each stake, after its design elevation
     if cs is not None:
         keys = [c.key for c, _ in cells]
         at = keys.index("design_elevation" if "design_elevation" in keys else "ground_distance") + 1
@@ -290,23 +301,63 @@ def _setout_section(d: Design) -> str:
         columns.insert(at, cs)
     out = []
     for heading, facts, idx in _setup_groups(d):
-        rows = [[texts[i] for texts in columns] for i in idx.tolist()]
+        shown = idx if listed is None else idx[listed[idx]]
+        rows_at = shown if picked is None else np.searchsorted(picked, shown)  # rows of the listed stakes' texts
+        rows = [[texts[i] for texts in columns] for i in rows_at.tolist()]
+        count = f"{len(idx):,} stakes"
+        if len(shown) < len(idx):
+            count += (f", {len(shown):,} listed here and {len(idx) - len(shown):,} left out (a report of more than "
+                      f"{REPORT_MAX_ROWS:,} stakes lists the job's first {REPORT_MAX_ROWS:,} and every one at the "
+                      "instrument or with r95 over the tolerance; every stake is in setout.csv, setout.txt and "
+                      "points.csv)")
         out.append(f'<section class="setup"><h2>{_e(heading)}</h2>{_facts(facts)}'
-                   f"<p>{len(rows):,} stakes; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
+                   f"<p>{count}; angles to 1 second, distances in {_e(d.unit.plural)}.</p>"
                    f"{_table(cols, rows)}</section>")
     return "".join(out)
+
+
+def _cut(d: Design, picked: np.ndarray) -> Design:
+    """The design as the setout table's formatters (``setout_cells``, ``slope_texts``) read it, cut
+    to the stakes ``picked``: a report of a large job formats only the stakes it lists.  Whatever
+    else of the design they read is the design's own; a per-stake part not cut here fails loudly
+    (an attribute error) rather than misaligning rows.
+    """
+    sd = d.setup
+    assert sd is not None
+
+    def take(values: Any) -> Any:
+        if isinstance(values, np.ndarray):
+            return values[picked]
+        return [values[i] for i in picked.tolist()]
+
+    slope = d.stakes.slope
+    view = _Cut(d,
+                setup=SimpleNamespace(setout=SimpleNamespace(at_instrument=sd.setout.at_instrument[picked])),
+                presentation=SimpleNamespace(setout_columns=[replace(c, values=take(c.values))
+                                                             for c in d.presentation.setout_columns]),
+                stakes=SimpleNamespace(slope=None if slope is None else slope[picked]))
+    return cast(Design, view)
+
+
+class _Cut(SimpleNamespace):
+    """A design with some parts replaced (:func:`_cut`); every other attribute is the design's."""
+
+    def __init__(self, d: Design, **parts: Any) -> None:
+        super().__init__(**parts)
+        self._design = d
+
+    def __getattr__(self, name: str) -> Any:  # only for names not set here
+        return getattr(self._design, name)
 
 
 def _stakes_section(d: Design) -> str:
     """Without a setup: every stake with its coordinates."""
     sp = d.stakes
     n = len(sp)
-    if n > REPORT_MAX_ROWS:
-        return (f"<h2>Stakes</h2><p>{n:,} stakes: the stake table is in points.csv and stations.csv (a report "
-                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
-    offs = side_text(sp.offset, d.unit.station_decimals)  # with their side, as setout.txt
-    north, east = fixed(sp.northing, 4), fixed(sp.easting, 4)
-    elev = fixed(sp.elevation, 3) if sp.elevation is not None else None
+    shown = min(n, REPORT_MAX_ROWS)  # nothing needs attention without a setup: the first stakes
+    offs = side_text(sp.offset[:shown], d.unit.station_decimals)  # with their side, as setout.txt
+    north, east = fixed(sp.northing[:shown], 4), fixed(sp.easting[:shown], 4)
+    elev = fixed(sp.elevation[:shown], 3) if sp.elevation is not None else None
     cols = [("point", "t"), ("station", "n"), ("offset", "n"), ("code", "t"), ("feature", "t"), ("northing", "n"),
             ("easting", "n")]
     if elev is not None:
@@ -315,15 +366,19 @@ def _stakes_section(d: Design) -> str:
     if cs is not None:
         cols.append(("slope %", "n"))
     rows = []
-    for i in range(n):
+    for i in range(shown):
         r = [sp.point[i], sp.station_label[i], offs[i], sp.code[i], sp.feature[i], north[i], east[i]]
         if elev is not None:
             r.append(elev[i])
         if cs is not None:
             r.append(cs[i])
         rows.append(r)
+    count = f"{n:,}"
+    if shown < n:
+        count += (f"; the first {shown:,} listed here and {n - shown:,} left out (a report lists up to "
+                  f"{REPORT_MAX_ROWS:,}; every stake is in points.csv and stations.csv)")
     return (f"<h2>Stakes</h2><p>The job has no [setup]: the stakes with their grid coordinates "
-            f"({n:,}).</p>{_table(cols, rows)}")
+            f"({count}).</p>{_table(cols, rows)}")
 
 
 def _deflection_section(d: Design) -> str:
@@ -332,9 +387,6 @@ def _deflection_section(d: Design) -> str:
     if not tables:
         return "<h2>Deflections</h2><p>The alignment has no curves.</p>"
     total = sum(t.row_count for t in tables)
-    if total > REPORT_MAX_ROWS:
-        return (f"<h2>Deflections</h2><p>{total:,} rows: the deflection tables are in deflections.txt (a report "
-                f"lists up to {REPORT_MAX_ROWS:,}).</p>")
     exit_from = ("the ST of an exit spiral, sighting back along the ahead tangent"
                  if d.job.staking.exit_spiral_from == "ST" else "the CS of an exit spiral")
     out = ["<h2>Deflections</h2><p>Occupy the start of each arc (PC, PCC or PRC; the TS, or "
@@ -350,12 +402,29 @@ def _deflection_section(d: Design) -> str:
             out_rows.append([lab(st), f"{along:.4f}", _dms(defl, 0), f"{chord:.4f}", f"{inc:.4f}", reading])
         return out_rows
 
-    for t in tables:
+    if total > REPORT_MAX_ROWS:
+        out.append(f"<p>{total:,} rows: a report lists up to {REPORT_MAX_ROWS:,}; every table is in full in "
+                   "deflections.txt.</p>")
+    budget = REPORT_MAX_ROWS  # rows still to list
+    for k, t in enumerate(tables):
+        if budget <= 0:  # the rest counted, not listed
+            rest = tables[k:]
+            out.append(f"<p>Left out here: {sum(r.row_count for r in rest):,} rows of {len(rest):,} more curve "
+                       "elements (in deflections.txt).</p>")
+            break
         start = deflection_origin(t, lab).strip()
-        out.append(f"<h3>{_e(deflection_title(t, 'Curve', start))}</h3>{_table(cols, rows_of(t.rows, t.deflect_turn))}")
-        for off in t.offsets:
-            out.append(f"<h3>{_e(f'Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}')}</h3>"
-                       f"{_table(cols, rows_of(off.rows, t.deflect_turn))}")
+        titled = [(deflection_title(t, 'Curve', start), t.rows)]
+        titled += [(f"Offset line {off.code} {offset_side(off.offset)}: from its point opposite {start}", off.rows)
+                   for off in t.offsets]
+        for title, data in titled:
+            take = min(len(data), max(budget, 0))
+            budget -= len(data)
+            if take == 0:
+                out.append(f"<h3>{_e(title)}</h3><p>{len(data):,} rows left out (in deflections.txt).</p>")
+                continue
+            left = (f"<p>The first {take:,} of {len(data):,} rows; the rest are in deflections.txt.</p>"
+                    if take < len(data) else "")
+            out.append(f"<h3>{_e(title)}</h3>{_table(cols, rows_of(data[:take], t.deflect_turn))}{left}")
     return "".join(out)
 
 
@@ -465,11 +534,14 @@ def _earthwork_section(d: Design, sections: SectionPictures | None = None) -> st
     u = d.unit.label
     labels = d.stakes.labels
     v = ew.volumes
-    cols = [fixed(x, 2) for x in (ew.sections.cut_area[st], ew.sections.fill_area[st], v.cut, v.fill,
-                                  v.cumulative_cut, v.cumulative_fill)]
-    rows = [[labels[i], *(c[k] for c in cols)] for k, i in enumerate(st.tolist())]
+    shown = min(int(st.size), REPORT_MAX_ROWS)
+    cols = [fixed(x[:shown], 2) for x in (ew.sections.cut_area[st], ew.sections.fill_area[st], v.cut, v.fill,
+                                          v.cumulative_cut, v.cumulative_fill)]
+    rows = [[labels[i], *(c[k] for c in cols)] for k, i in enumerate(st[:shown].tolist())]
+    left = (f" The first {shown:,} of {st.size:,} stations are listed; every one is in volumes.csv."
+            if shown < st.size else "")
     return (head + "<p>Areas (square job units) between the ground and the template from catch to catch; "
-            f"volumes (cubic job units) by average end areas from the station above; units {_e(u)}.</p>"
+            f"volumes (cubic job units) by average end areas from the station above; units {_e(u)}.{left}</p>"
             + _table([("station", "t"), ("cut area", "n"), ("fill area", "n"), ("cut", "n"), ("fill", "n"),
                       ("total cut", "n"), ("total fill", "n")], rows)
             + _cross_sections(int(st.size), sections))

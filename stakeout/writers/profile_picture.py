@@ -17,10 +17,18 @@ import numpy as np
 
 from ..design import Design
 
-__all__ = ["profile_svg"]
+__all__ = ["profile_svg", "TICK_MAX_STATIONS", "TICK_CELL"]
 
 _W, _H = 1400, 700  # drawing size, pixels
 _LEFT, _RIGHT, _TOP, _BOTTOM = 90, 30, 70, 90
+
+#: Over this many staked stations in the profile's range, those along the foot are thinned to
+#: one tick a :data:`TICK_CELL` of the drawing (every station is in stations.csv): the file stays
+#: the same size (under 1 MB for a few PVIs) however many stations the job stakes.
+TICK_MAX_STATIONS = 5000
+
+#: Thinned ticks: at most one per this many pixels along the foot.
+TICK_CELL = 2.0
 
 
 def _nice(span: float, count: int) -> float:
@@ -125,13 +133,19 @@ def profile_svg(d: Design) -> bytes:
     # staked stations ticked along the foot
     staked = d.stakes.stations[(d.stakes.stations >= x0) & (d.stakes.stations <= x1)]
     foot = _H - _BOTTOM
-    for x in px(staked).tolist():
+    ticks = px(staked)
+    thinned = ""
+    if staked.size > TICK_MAX_STATIONS:  # the first stake of each cell, in station order
+        _, first = np.unique(np.floor(ticks / TICK_CELL), return_index=True)
+        ticks = ticks[first]
+        thinned = f" (thinned to one a {TICK_CELL:g} px: {ticks.size:,} ticks for {staked.size:,} staked stations)"
+    for x in ticks.tolist():
         out.append(f'<line x1="{_f(x)}" y1="{foot}" x2="{_f(x)}" y2="{foot + 8}" stroke="#06c"/>')
     out.append(f'<line x1="{_LEFT}" y1="{foot}" x2="{_W - _RIGHT}" y2="{foot}" stroke="#333"/>')
     title = escape(f"PROFILE  {d.job.info.name}  ({prof.name})" if prof.name else f"PROFILE  {d.job.info.name}")
     out.append(f'<text x="{_LEFT}" y="28" font-size="16" font-weight="bold">{title}</text>')
     out.append(f'<text x="{_LEFT}" y="48">job file sha256 {d.job.sha256[:16]}...   units {escape(d.unit.label)}   '
-               f'vertical exaggeration {exaggeration:.1f}x   blue ticks: staked stations</text>')
+               f'vertical exaggeration {exaggeration:.1f}x   blue ticks: staked stations{thinned}</text>')
     out.append(f'<text x="{_LEFT}" y="{_H - 20}" font-size="11">CAUTION: check every value independently before '
                "staking; local codes and a licensed surveyor's judgement govern.</text>")
     out.append("</svg>")

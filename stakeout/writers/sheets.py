@@ -12,6 +12,7 @@ from __future__ import annotations
 import textwrap
 
 import numpy as np
+from numpy.typing import NDArray
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design, Occupation, precision_rules_setups
@@ -20,9 +21,10 @@ from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Column, SheetPart, clip, curve_lines, deflection_origin, deflection_title, fixed,
-                   header_lines, offset_side,
-                   paged, paged_parts, setout_cells, table_lines, texts_of, vertical_note, warning_lines, wrap_lines)
+from .text import (WIDE, WIDTH, Cells, Coded, Column, FieldColumn, FieldTable, Formatted, Records, Same, SheetPart,
+                   Stacked, Texts, dms_format, fixed_format, clip, curve_lines, deflection_origin, deflection_title, fixed,
+                   header_lines, offset_side, paged_bytes, setout_fields, station_labels, table_lines, table_records,
+                   vertical_note, warning_lines, wrap_lines)
 
 __all__ = ["setout_sheet", "deflection_sheet"]
 
@@ -99,22 +101,34 @@ _DEFINITIONS = ["ground distance = grid distance / combined factor",
                 "angle right = clockwise from the backsight"]
 
 
-def _stake_table(d: Design, width: int | None) -> tuple[list[str], list[str]]:
-    """The stake table's column header lines and one record per stake (point
-    order), column widths fitted to the whole job so that every setup's table
-    aligns.  The columns a crew turns and measures come first; those that do
-    not fit ``width`` run on to a second line under their own header
-    (``None``: one line per stake).
+_LEFT = {"point", "code", "feature", "note", "alignment"}  # the columns printed left-aligned
+
+
+def _slope(d: Design, cols: list[FieldColumn]) -> list[FieldColumn]:
+    """The wide layout's slope column (the slope applied to each stake) after the design
+    elevation, where the job has one.
     """
-    left = {"point", "code", "feature", "note"}
-    cols = [Column(SETOUT_HEADERS[c.key][0], texts, "<" if c.key in left else ">", with_previous=c.grouped)
-            for c, texts in setout_cells(d, sided=True)]
-    if width is None:  # the wide layout only: the slope applied to each stake, after its design elevation
-        slope = slope_column(d) if d.stakes.elevation is not None else None
-        if slope is not None:
-            at = next(k for k, c in enumerate(cols) if c.header == SETOUT_HEADERS["design_elevation"][0]) + 1
-            cols.insert(at, slope)
-    return table_lines(cols, width)
+    slope = slope_column(d) if d.stakes.elevation is not None else None
+    if slope is None:
+        return cols
+    at = next(k for k, c in enumerate(cols) if c.header == SETOUT_HEADERS["design_elevation"][0]) + 1
+    return cols[:at] + [FieldColumn(slope.header, Texts.of(slope.values), slope.align, slope.with_previous)] + cols[at:]
+
+
+def _stake_table(d: Design, width: int | None) -> FieldTable:
+    """The stake table: one record per stake (point order), column widths fitted to the whole
+    job so that every setup's table aligns.  The columns a crew turns and measures come first;
+    those that do not fit ``width`` run on to a second line under their own header (``None``:
+    one line per stake, with the slope column).  Laid out from whole columns, a block of
+    records at a time.
+    """
+    cols = [FieldColumn(SETOUT_HEADERS[key][0], cells, "<" if key in _LEFT else ">", with_previous=grouped)
+            for key, grouped, cells in setout_fields(d)]
+    return FieldTable(_slope(d, cols) if width is None else cols, width)
+
+
+def _all(n: int) -> NDArray[np.intp]:
+    return np.arange(n, dtype=np.intp)
 
 
 def _stake_foot(d: Design) -> list[str]:
@@ -137,7 +151,7 @@ def _widths(wide: bool) -> tuple[int, int | None]:
     return (WIDE, None) if wide else (WIDTH, WIDTH)
 
 
-def setout_sheet(d: Design, wide: bool = False) -> str:
+def setout_sheet(d: Design, wide: bool = False) -> bytes:
     """Render ``setout.txt``.
 
     One setup given inline: the setup in the header, then the stakes.
@@ -166,8 +180,9 @@ def setout_sheet(d: Design, wide: bool = False) -> str:
     head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
-    cols, rows = _stake_table(d, table)
-    return paged(head, cols, rows, f"{title}   {job.info.name}", _stake_foot(d), width=page)
+    stakes = _stake_table(d, table)
+    return paged_bytes(head, [SheetPart([], stakes.heads(), table_records(stakes, _all(len(d.stakes))))],
+                       f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
 def _summary(d: Design, width: int, table: int | None) -> SheetPart:
@@ -220,7 +235,7 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     return SheetPart(head, heads, rows, "setups, continued")
 
 
-def _sectioned_sheet(d: Design, wide: bool) -> str:
+def _sectioned_sheet(d: Design, wide: bool) -> bytes:
     """``setout.txt`` with a setup summary and one section per setup."""
     assert d.setup is not None
     job, sdes = d.job, d.setup
@@ -246,7 +261,8 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
     head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
     page, table = _widths(wide)
-    cols, rows = _stake_table(d, table)
+    stakes = _stake_table(d, table)
+    cols = stakes.heads()
     parts = [_summary(d, page, table)]
     n = len(sdes.occupations)
     lab = d.stationing.label
@@ -265,12 +281,17 @@ def _sectioned_sheet(d: Design, wide: bool) -> str:
         if sdes.flagged is not None:
             line += f"; {int(sdes.flagged[idx].sum())} flagged {FLAG}"
         sh.append(line)
-        parts.append(SheetPart(sh, cols, [rows[i] for i in idx.tolist()] or ["(no stakes)"],
+        parts.append(SheetPart(sh, cols, _records(stakes, idx),
                                f"setup {o.number} of {n} (occupied {o.occupied.id}), continued"))
-    return paged_parts(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
+    return paged_bytes(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-def _several_sheet(d: Design, wide: bool) -> str:
+def _records(stakes: FieldTable, idx: NDArray[np.intp]) -> list[str] | Records:
+    """A setup's records: its stakes' (``idx``), or the line saying it has none."""
+    return table_records(stakes, idx) if idx.size else ["(no stakes)"]
+
+
+def _several_sheet(d: Design, wide: bool) -> bytes:
     """``setout.txt`` of a job with several alignments: the setups serve every alignment, so one
     summary and one section per setup holding its stakes of every alignment (point order within
     each alignment, the alignments in job order), an ``alignment`` column naming each stake's.
@@ -281,8 +302,16 @@ def _several_sheet(d: Design, wide: bool) -> str:
     names = ", ".join(p.alignment.name for p in parts)
     head = [line if not line.startswith(f"alignment {d.alignment.name}   units")
             else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
+    head += [f"WARNING   {w}" for w in d.warnings]  # the job's, then each alignment's
     head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
-    head += _factor_lines(d, d.setup.occupations[0].scale) + _DEFINITIONS
+    first = d.setup.occupations[0].scale
+    auto_factor = first.scale_factor is not None and first.elevation_factor is not None
+    if auto_factor:  # each setup's own factor in its section, as on the single-alignment sheet
+        head.append("combined factor at each occupied point = grid scale factor k there")
+        head.append(f"  x elevation factor R/(R+h), h {first.height:.3f} {d.unit.symbol} (ellipsoid); see each setup")
+    else:
+        head += _factor_lines(d, first)
+    head += _DEFINITIONS
     setup = d.setup.setup
     heights = [f"{what} height {h:.3f}" for what, h in (("instrument", setup.instrument_height),
                                                          ("target", setup.target_height)) if h is not None]
@@ -292,21 +321,20 @@ def _several_sheet(d: Design, wide: bool) -> str:
     head += _instrument_lines(d)
     page, table = _widths(wide)
     # one table over every alignment's stakes: the columns any alignment has, empty where another has none
-    cells = [setout_cells(p, sided=True) for p in parts]
-    keys = list(dict.fromkeys(c.key for per in cells for c, _ in per))
-    left = {"point", "code", "feature", "note"}
+    fields = [{key: (grouped, cells) for key, grouped, cells in setout_fields(p)} for p in parts]
+    keys = list(dict.fromkeys(key for per in fields for key in per))
     cols = []
     for key in keys:
-        texts: list[str] = []
-        grouped = False
-        for p, per in zip(parts, cells):
-            found = next(((c, t) for c, t in per if c.key == key), None)
-            texts += found[1] if found is not None else [""] * len(p.stakes)
-            grouped = grouped or (found is not None and found[0].grouped)
-        cols.append(Column(SETOUT_HEADERS[key][0], texts, "<" if key in left else ">", with_previous=grouped))
+        found = [per.get(key) for per in fields]
+        cols.append(FieldColumn(SETOUT_HEADERS[key][0],
+                                Stacked(tuple(Same("", len(p.stakes)) if f is None else f[1]
+                                              for p, f in zip(parts, found))),
+                                "<" if key in _LEFT else ">", with_previous=any(f is not None and f[0] for f in found)))
         if key == "point":  # each stake's alignment beside its point id
-            cols.append(Column("alignment", [p.alignment.name for p in parts for _ in range(len(p.stakes))], "<"))
-    heads, rows = table_lines(cols, table)
+            owner = np.repeat(np.arange(len(parts), dtype=np.intp), [len(p.stakes) for p in parts])
+            cols.append(FieldColumn("alignment", Coded(Texts.of([p.alignment.name for p in parts]), owner), "<"))
+    stakes = FieldTable(cols, table)
+    heads = stakes.heads()
     index = np.concatenate([p.setup.setup_index for p in parts if p.setup is not None])
     occs = d.setup.occupations
     counts = np.bincount(index, minlength=len(occs))
@@ -318,6 +346,17 @@ def _several_sheet(d: Design, wide: bool) -> str:
                Column("alignments", [", ".join(p.alignment.name for p in parts if p.setup is not None
                                                and (p.setup.setup_index == i).any()) for i in range(len(occs))],
                       "<")]
+    precisions = [p.setup.precision for p in parts if p.setup is not None]
+    if precisions and all(pr is not None for pr in precisions):  # the worst r95 of each setup, over all
+        r95 = np.concatenate([pr.r95 for pr in precisions if pr is not None])
+        worst = np.zeros(len(occs))
+        np.maximum.at(worst, index, r95)
+        summary.append(Column("max r95", fixed(worst, 4)))
+        flags = [p.setup.flagged for p in parts if p.setup is not None]
+        if all(f is not None for f in flags):
+            flagged = np.bincount(index, weights=np.concatenate([f for f in flags if f is not None]),
+                                  minlength=len(occs)).astype(np.int64)
+            summary.append(Column("flagged", [str(int(f)) for f in flagged], with_previous=True))
     s_heads, s_rows = table_lines(summary, table)
     sections = [SheetPart(["", f"SETUPS: {len(occs)}, serving every alignment"], s_heads, s_rows,
                           "setups, continued")]
@@ -326,19 +365,27 @@ def _several_sheet(d: Design, wide: bool) -> str:
     for o, idx in zip(occs, groups):
         sh = [f"SETUP {o.number} of {len(occs)}" + (f"   ({o.where})" if o.where != "setup" else "")]
         sh += _point_lines(o, setup, o.scale, inst=False)
+        if auto_factor:
+            sh += _factor_lines(d, o.scale)
         sh += _convergence_lines(setup, o.scale)
         sh.append(f"{idx.size} stake{'s' if idx.size != 1 else ''}" if idx.size else "no stakes")
-        sections.append(SheetPart(sh, heads, [rows[i] for i in idx.tolist()] or ["(no stakes)"],
+        sections.append(SheetPart(sh, heads, _records(stakes, idx),
                                   f"setup {o.number} of {len(occs)} (occupied {o.occupied.id}), continued"))
     unit = d.unit
     total = int(index.size)
-    foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}", ""]
+    with_elevation = any(p.stakes.elevation is not None for p in parts)
+    foot = [f"{total} points on {len(parts)} alignments; angles to 1 second, distances in {unit.plural}"
+            + ("; design el = design elevation of the stake" if with_elevation else "")]
+    if any(p.setup is not None and p.setup.setout.at_instrument.any() for p in parts):
+        foot.append(f"{AT_INSTRUMENT_NOTE}: the stake is the occupied point itself (within {AT_INSTRUMENT} "
+                    f"{unit.symbol}); no angle to turn")
+    foot.append("")
     for p in parts:
         foot += [f"ALIGNMENT {p.alignment.name}"] + curve_lines(p) + [""]
-    return paged_parts(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
+    return paged_bytes(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
 
 
-def deflection_sheet(d: Design, wide: bool = False) -> str:
+def deflection_sheet(d: Design, wide: bool = False) -> bytes:
     """Render ``deflections.txt``: deflection angles and chords from the curve points.
 
     Each curve element opens with a line of its data, kept on the page of
@@ -346,48 +393,47 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
     :data:`WIDE`).
     """
     job, lab = d.job, d.stationing.label
-    page, table = _widths(wide)
+    page, table_width = _widths(wide)
     title = "CURVE DEFLECTIONS"
     head = header_lines(title, d)
     head.append("Occupy the start of each arc (PC, PCC or PRC), sight along its tangent")
     head.append("(zero on the PI or the back tangent), turn the deflection toward the curve")
     head.append("and tape the chord.")
     spirals = d.presentation.has_spirals
-    # the sheet in order: a title (str) opens each element and offset line, then its data rows
-    # (internal station, length, deflection, chord, sub-chord, turn)
-    items: list[str | tuple[float, float, float, float, float, int]] = []
+    # the sheet in order: titles (an element's, an offset line's) open the data row that follows
+    # them (internal station, length, deflection, chord, sub-chord), one turn a table
+    blocks: list[np.ndarray] = []
+    turns: list[np.ndarray] = []
+    titles: dict[int, list[str]] = {}
+    pending: list[str] = []  # title lines waiting for their first data row
+    count = 0
 
     def data(rows: np.ndarray, turn: int) -> None:
-        items.extend((*row, turn) for row in rows.tolist())
+        nonlocal count, pending
+        if rows.shape[0]:
+            titles[count], pending = pending, []
+            blocks.append(rows)
+            turns.append(np.full(rows.shape[0], turn))
+            count += rows.shape[0]
 
     for t in d.presentation.deflections:
         origin = deflection_origin(t, lab)
-        items.append(deflection_title(t, "curve", origin))
+        pending += wrap_lines([deflection_title(t, "curve", origin)], page)
         data(t.rows, t.deflect_turn)
         for off in t.offsets:  # the offset line from its own start point, along its own start tangent
-            items.append(f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite {origin}")
+            pending += wrap_lines([f"  offset line {off.code} {offset_side(off.offset)}: from its point opposite "
+                                   f"{origin}"], page)
             data(off.rows, t.deflect_turn)
-    v = np.array([x for x in items if not isinstance(x, str)], dtype=float).reshape(-1, 6)
+    v = np.concatenate(blocks).reshape(-1, 5).astype(float) if blocks else np.zeros((0, 5))
+    turn = np.concatenate(turns) if turns else np.zeros(0)
     defl = v[:, 2]
-    # the circle reading for a left deflection (360 - d), blank for a right one
-    left = (v[:, 5] < 0) & (defl != 0.0)
-    readings = texts_of(format_dms(360.0 - defl, 0))
-    values = [d.stationing.labels(v[:, 0]) if v.size else [], fixed(v[:, 1], 4), texts_of(format_dms(defl, 0)),
-              fixed(v[:, 3], 4), fixed(v[:, 4], 4), [r if lt else "" for r, lt in zip(readings, left.tolist())]]
-    cols = [Column(h[0], texts) for h, texts in zip(DEFLECTION_HEADERS, values)]
-    heads, records = table_lines(cols, table)
-    out: list[str] = []
-    pending: list[str] = []  # title lines waiting for their first data row
-    k = 0
-    for x in items:
-        if isinstance(x, str):
-            pending += wrap_lines([x], page)
-        else:
-            out.append("\n".join(pending + [records[k]]))
-            pending = []
-            k += 1
-    if not out:
-        out.append("(the alignment has no curves)")
+    left = (turn < 0) & (defl != 0.0)  # the circle reading for a left deflection (360 - d), blank for a right one
+    values: list[Cells] = [station_labels(d.stationing, v[:, 0]), Formatted(v[:, 1], fixed_format(4)),
+                           Formatted(defl, dms_format(False)), Formatted(v[:, 3], fixed_format(4)),
+                           Formatted(v[:, 4], fixed_format(4)), Formatted(360.0 - defl, dms_format(False), ~left)]
+    table = FieldTable([FieldColumn(h[0], cells) for h, cells in zip(DEFLECTION_HEADERS, values)], table_width)
+    heads = table.heads()
+    out = table_records(table, _all(count), titles) if count else ["(the alignment has no curves)"]
     foot = ["length: along the curve from its start; chord: from the start;",
             "sub-chord: from the row above",
             "arcs: deflection = s / 2R from the tangent at the start; chord = 2R sin(s / 2R)",
@@ -404,4 +450,4 @@ def deflection_sheet(d: Design, wide: bool = False) -> str:
         foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)
-    return paged(head, heads, out, f"{title}   {job.info.name}", foot, width=page)
+    return paged_bytes(head, [SheetPart([], heads, out)], f"{title}   {job.info.name}", foot, width=page)

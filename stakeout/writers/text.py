@@ -8,26 +8,35 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 
 from __future__ import annotations
 
+import bisect
 import math
-from collections.abc import Callable
+from array import array
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any, Protocol, TypeVar
 
 import numpy as np
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from ..angles import format_azimuth_dms, format_dms
 from ..design import Design
 from ..numbers import fixed_string, fixed_strings, round_to
-from ..presentation import CurveView, DeflectionTable, Element, PerKind
+from ..presentation import AT_INSTRUMENT_NOTE, FLAG, CurveView, DeflectionTable, Element, PerKind
+from . import rows
+
+if TYPE_CHECKING:
+    from ..stations import Stationing
 
 __all__ = [
     "CAUTION_LINES", "SIGN_OFF_LINES", "WIDTH", "PAGE_LINES", "rounded", "fixed", "fixed_or_empty", "finite_or_empty",
     "turn_word", "offset_side", "side_text", "clip", "wrap_lines", "header_lines", "CurveText", "curve_texts",
     "curve_lines", "warning_lines", "paged", "paged_parts", "setout_cells", "deflection_title", "deflection_origin",
     "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
+    # tables from whole columns (long tables: the setout and deflection sheets)
+    "Cells", "Texts", "Coded", "Formatted", "Joined", "Same", "Stacked", "station_labels", "FieldColumn",
+    "FieldTable", "Block", "Records", "table_records", "paged_bytes", "fixed_format", "dms_format", "setout_fields",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -305,9 +314,10 @@ _DEFLECTION_TITLES: PerKind[Callable[[DeflectionTable, str, str], str]] = PerKin
 
 # ---- the setout table ---------------------------------------------------------------------------
 def setout_cells(d: Design, sided: bool) -> list[tuple[Any, list[str]]]:
-    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, shared by
-    ``setout.txt`` and ``report.html``: angles in D-M-S to the second (none at the
-    instrument), offsets with their side (``sided``) or signed, numbers to their decimals.
+    """The setout table's columns (:attr:`Presentation.setout_columns`) as text, for
+    ``report.html`` (``setout.txt`` lays out the same from whole columns,
+    :func:`setout_fields`): angles in D-M-S to the second (none at the instrument), offsets
+    with their side (``sided``) or signed, numbers to their decimals.
     """
     assert d.setup is not None
     at = d.setup.setout.at_instrument
@@ -365,12 +375,27 @@ class Column:
 _INDENT_MAX = 20
 
 
-def _indent(columns: list[Column]) -> int:
+class _Packed(Protocol):
+    """What packing needs of a column (:class:`Column`, :class:`FieldColumn`)."""
+
+    @property
+    def width(self) -> int:
+        """Characters the column needs."""
+
+    @property
+    def with_previous(self) -> bool:
+        """Printed on the same line as the column before it."""
+
+
+_C = TypeVar("_C", bound=_Packed)
+
+
+def _indent(columns: Sequence[_Packed]) -> int:
     """Where a record's run-on lines start (see :func:`_pack`)."""
     return columns[0].width + 1 if columns[0].width <= _INDENT_MAX else 4
 
 
-def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
+def _pack(columns: list[_C], width: int | None) -> list[list[_C]]:
     """Columns packed in order onto lines of at most ``width`` characters.
 
     The first line starts at the margin; every further line starts under
@@ -381,14 +406,14 @@ def _pack(columns: list[Column], width: int | None) -> list[list[Column]]:
     """
     if width is None or not columns:
         return [columns]
-    groups: list[list[Column]] = []
+    groups: list[list[_C]] = []
     for c in columns:
         if c.with_previous and groups:
             groups[-1].append(c)
         else:
             groups.append([c])
     indent = _indent(columns)
-    lines: list[list[Column]] = [[]]
+    lines: list[list[_C]] = [[]]
     used = -1
     for g in groups:
         need = sum(c.width + 1 for c in g)
@@ -448,7 +473,7 @@ class SheetPart:
 
     head: list[str]
     columns: list[str]
-    rows: list[str]
+    rows: list[str] | Records
     continued: str = ""
     new_page: bool = True
 
@@ -468,7 +493,12 @@ _MIN_RECORDS = 3
 
 
 def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> str:
-    """A printable sheet of several tables (:class:`SheetPart`).
+    """A printable sheet of several tables (:class:`SheetPart`), as text: :func:`paged_bytes`."""
+    return paged_bytes(head, parts, title, foot, width).decode("utf-8")
+
+
+def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> bytes:
+    """A printable sheet of several tables (:class:`SheetPart`), as UTF-8.
 
     The first page opens with ``head`` and the first part's head; every
     later part opens a page with its own head (or follows on the page in
@@ -478,60 +508,646 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
     are numbered through the whole sheet and split by a form feed; the foot
     and the cautions close it (on a page of their own when the last is
     full).  Head and foot lines wider than ``width`` (or the widest table
-    line, where wider) are wrapped, the page titles cut.
+    line, where wider) are wrapped, the page titles cut.  The pages are laid
+    out from each record's count of lines, and the records' text (a part's
+    :class:`Records`) is joined only then.
     """
-    table = [len(line) for p in parts for line in p.columns] + \
-        [len(line) for p in parts for r in p.rows for line in row_lines(r)]
+    recs = [p.rows if isinstance(p.rows, Records) else Records.of_texts(p.rows) for p in parts]
+    table = [len(line) for p in parts for line in p.columns] + [int(r.widest.max()) for r in recs if r.widest.size]
     width = max([width] + table)
     head = wrap_lines(head, width)
     closing = [""] + wrap_lines(foot, width) + [""] + list(SIGN_OFF_LINES) + [""] + list(CAUTION_LINES)
-    pages: list[list[str]] = []
-    for k, part in enumerate(parts):
+    # a page: its lines of text and its runs of records (part, first, stop); and its count of lines
+    pages: list[list[str | bytes | tuple[int, int, int]]] = []
+    counts: list[int] = []
+    for k, (part, rec) in enumerate(zip(parts, recs)):
         columns = [c.rstrip() for c in part.columns]
         part_head = wrap_lines(part.head, width)
-        records = [row_lines(r) for r in part.rows]
-        ruled = max([0] + [len(c) for c in columns] + [len(line) for r in records for line in r[:1]])
+        n = int(rec.lines.size)
+        cum = array("q", np.concatenate([[0], np.cumsum(rec.lines)]).astype(np.int64).tobytes())  # lines before each
+        ruled = max([0] + [len(c) for c in columns] + ([int(rec.first.max())] if n else []))
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
+        # a continuation page: its title, then these lines, its records and the closing rule
+        again = "".join(f"{line}\n" for line in [clip(part.continued, width), *rules, *columns, *rules]).encode("utf-8")
+        again_lines = 1 + 3 * len(rules) + len(columns)
+        closing_rule = "".join(f"{line}\n" for line in rules).encode("utf-8")
         first = True
         pos = 0  # records placed so far
-        while first or pos < len(records):
+        while first or pos < n:
+            if not first:  # as many records as fit, at least one
+                stop = min(n, max(bisect.bisect_right(cum, cum[pos] + PAGE_LINES - 1 - again_lines) - 1, pos + 1))
+                pages.append(["{title}", again, (k, pos, stop), closing_rule])
+                counts.append(1 + again_lines + cum[stop] - cum[pos])
+                pos = stop
+                continue
             if k == 0 and first:
                 opening = head + ["page {page} of {pages}"] + part_head
             elif first and not part.new_page and pages:
                 opening = [""] + part_head
-                need = len(opening) + len(columns) + 3 * len(rules) + sum(len(r) for r in records[:_MIN_RECORDS])
-                if len(pages[-1]) + need > PAGE_LINES:
+                need = len(opening) + len(columns) + 3 * len(rules) + cum[min(n, _MIN_RECORDS)]
+                if counts[-1] + need > PAGE_LINES:
                     opening = ["{title}", ""] + part_head
             elif first:
                 opening = ["{title}", ""] + part_head
             else:
                 opening = ["{title}", clip(part.continued, width)]
             on_new_page = opening[0] == "{title}" or not pages or (k == 0 and first)
-            page = opening + rules + columns + rules
-            used = (0 if on_new_page else len(pages[-1])) + len(page) + len(rules)
-            start = pos
-            while pos < len(records) and (used + len(records[pos]) <= PAGE_LINES or pos == start):
-                used += len(records[pos])
-                page.extend(records[pos])
-                pos += 1
+            page: list[str | bytes | tuple[int, int, int]] = [*opening, *rules, *columns, *rules]
+            lines = len(page) + len(rules)
+            used = (0 if on_new_page else counts[-1]) + lines
+            if pos < n:  # as many records as fit, at least one
+                stop = min(n, max(bisect.bisect_right(cum, cum[pos] + PAGE_LINES - used) - 1, pos + 1))
+                page.append((k, pos, stop))
+                lines += cum[stop] - cum[pos]
+                pos = stop
             page.extend(rules)
             if on_new_page:
                 pages.append(page)
+                counts.append(lines)
             else:
                 pages[-1].extend(page)
+                counts[-1] += lines
             first = False
-    if len(pages[-1]) + len(closing) <= PAGE_LINES:
+    if counts[-1] + len(closing) <= PAGE_LINES:
         pages[-1].extend(closing)
     else:  # on pages of their own (a foot longer than a page runs on)
         for i in range(0, len(closing), PAGE_LINES - 1):
-            pages.append(["{title}"] + closing[i:i + PAGE_LINES - 1])
+            pages.append(["{title}", *closing[i:i + PAGE_LINES - 1]])
     total = len(pages)
-    out: list[str] = []
-    for n, lines in enumerate(pages, start=1):
-        for i, line in enumerate(lines):
+    out: list[bytes | memoryview] = []
+    for n, items in enumerate(pages, start=1):
+        for i, line in enumerate(items):
+            if isinstance(line, tuple):
+                out.append(recs[line[0]].text(line[1], line[2]))
+                continue
+            if isinstance(line, bytes):
+                out.append(line)
+                continue
             if line == "{title}":
                 line = ("\f" if i == 0 else "") + clip(f"{title}   page {n} of {total}", width)
             elif line == "page {page} of {pages}":
                 line = f"page {n} of {total}"
-            out.append(line)
-    return "\n".join(out) + "\n"
+            out.append(line.encode("utf-8") + b"\n")
+    return b"".join(out)
+
+
+# ---- tables from whole columns -------------------------------------------------------------
+# A long table (a million stakes) is laid out by numpy a block of records at a time, never a
+# Python string a cell: each column is a source of byte fields (writers/rows.py: NUL is
+# padding), aligned to its width, joined into lines, and the lines of a record joined; the
+# bytes are those of Column/table_lines (tests/test_sheets_fast.py holds them equal).
+
+#: Records laid out at once (bounded temporaries, reused from cache).
+_BLOCK = 8192
+
+
+class Cells(Protocol):
+    """A column's texts, any block of rows at a time as a field (NUL-padded UTF-8)."""
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII (one byte a character)."""
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which`` (indices)."""
+
+
+@dataclass(frozen=True)
+class Texts:
+    """Texts given one a row (ids read from a file, a short list): :class:`rows.Strings`."""
+
+    strings: rows.Strings
+
+    @classmethod
+    def of(cls, texts: Sequence[str]) -> Texts:
+        """The column of ``texts``."""
+        return cls(rows.Strings(texts))
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.strings.n
+
+    @cached_property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return not self.strings.buf.size or int(self.strings.buf.max()) < 0x80
+
+    @cached_property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        st = self.strings
+        full = st.lens > 0
+        return not bool((st.buf[(st.starts + st.lens - 1)[full]] == 32).any())
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return self.strings.field(which)
+
+
+@dataclass(frozen=True)
+class Coded:
+    """A column of few distinct texts: each row an index into ``words``."""
+
+    words: Cells
+    codes: NDArray[np.intp]
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.codes.size)
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return self.words.ascii
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return self.words.clean
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return self.words.field(self.codes[which])
+
+
+@dataclass(frozen=True)
+class Formatted:
+    """Numbers formatted a block at a time by ``format`` (a :mod:`rows` formatter of finite
+    values), empty where ``empty``; a non-finite value not empty prints as Python prints it
+    (``nan``), as :func:`fixed` does.
+    """
+
+    values: NDArray[np.float64]
+    format: Callable[[NDArray[np.float64]], rows.Field]
+    empty: NDArray[np.bool_] | None = None
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.values.size)
+
+    @property
+    def ascii(self) -> bool:
+        """Numbers are ASCII."""
+        return True
+
+    @property
+    def clean(self) -> bool:
+        """Numbers end in a digit (or ``nan``, ``)``)."""
+        return True
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        v = self.values[which]
+        bad = ~np.isfinite(v)
+        f = self.format(np.where(bad, 0.0, v))
+        if self.empty is not None:
+            f = rows.blank(f, self.empty[which])
+            bad &= ~self.empty[which]
+        if bad.any():  # few: each as Python writes it
+            words = rows.Strings([str(x) for x in v[bad].tolist()])
+            g = words.field(slice(None))
+            out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
+            out[:, :f.shape[1]] = f
+            out[bad] = 0
+            out[bad, :g.shape[1]] = g
+            f = out
+        return f
+
+
+@dataclass(frozen=True)
+class Joined:
+    """Fields side by side, each from its own column (a prefix and a number, a size and a side)."""
+
+    parts: tuple[Cells, ...]
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.parts[0].n
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return all(p.ascii for p in self.parts)
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return all(p.clean for p in self.parts)
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return np.hstack([p.field(which) for p in self.parts])
+
+
+@dataclass(frozen=True)
+class Same:
+    """The same text on every one of ``count`` rows (``""``: an empty column)."""
+
+    text: str
+    count: int
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return self.count
+
+    @property
+    def ascii(self) -> bool:
+        """Whether the text is ASCII."""
+        return self.text.isascii()
+
+    @property
+    def clean(self) -> bool:
+        """Whether the text does not end in a space."""
+        return not self.text.endswith(" ")
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        b = np.frombuffer(self.text.encode("utf-8"), dtype=np.uint8)
+        return np.ascontiguousarray(np.broadcast_to(b, (np.asarray(which).size, b.size)))
+
+
+@dataclass(frozen=True)
+class Stacked:
+    """Columns one after another (each alignment's stakes, in job order)."""
+
+    parts: tuple[Cells, ...]
+
+    @cached_property
+    def starts(self) -> NDArray[np.intp]:
+        """Where each part starts, then the end."""
+        return np.concatenate([[0], np.cumsum([p.n for p in self.parts])]).astype(np.intp)
+
+    @property
+    def n(self) -> int:
+        """Rows of the column."""
+        return int(self.starts[-1])
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text is ASCII."""
+        return all(p.ascii for p in self.parts)
+
+    @property
+    def clean(self) -> bool:
+        """Whether no text ends in a space."""
+        return all(p.clean for p in self.parts)
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        which = np.asarray(which, dtype=np.intp)
+        part = np.searchsorted(self.starts, which, side="right") - 1
+        fields = [(k, p.field(which[part == k] - self.starts[k])) for k, p in enumerate(self.parts)
+                  if (part == k).any()]
+        out = np.zeros((which.size, max([0] + [f.shape[1] for _, f in fields])), dtype=np.uint8)
+        for k, f in fields:
+            out[part == k, :f.shape[1]] = f
+        return out
+
+
+def station_labels(stationing: Stationing, internal: NDArray[np.float64]) -> Formatted:
+    """The station labels of internal stations, as :meth:`Stationing.labels` writes them
+    (``11+50.00(2)`` where an equation makes a station occur twice).
+    """
+    def format(x: NDArray[np.float64]) -> rows.Field:
+        f = rows.station(stationing.station(x), stationing.station_length, stationing.decimals)
+        twice = stationing.occurs_twice(x)
+        if twice.any():
+            k = x.size
+            suffix = np.hstack([rows.const("(", k), rows.integer(stationing.region(x)), rows.const(")", k)])
+            f = np.hstack([f, rows.blank(suffix, ~twice)])
+        return f
+    return Formatted(np.asarray(internal, dtype=float), format)
+
+
+def _chars(f: rows.Field) -> NDArray[np.int64]:
+    """Characters in each row of a field (UTF-8: bytes that do not continue a character)."""
+    out: NDArray[np.int64] = ((f != 0) & ((f & 0xC0) != 0x80)).sum(axis=1)
+    return out
+
+
+def _widest(cells: Cells) -> int:
+    """Characters of the widest text of a column (of a coded one: of the words it uses)."""
+    if isinstance(cells, Coded):
+        which = np.flatnonzero(np.bincount(cells.codes, minlength=cells.words.n))
+        cells = cells.words
+    else:
+        which = np.arange(cells.n)
+    widest = 0
+    for a in range(0, which.size, _BLOCK):
+        f = cells.field(which[a:a + _BLOCK])
+        if f.size:
+            widest = max(widest, int((np.count_nonzero(f, axis=1) if cells.ascii else _chars(f)).max()))
+    return widest
+
+
+@dataclass(frozen=True)
+class FieldColumn:
+    """A column of a printed table from whole columns: as :class:`Column`, its values a
+    :class:`Cells` source laid out a block at a time.
+    """
+
+    header: str
+    cells: Cells
+    align: str = ">"
+    with_previous: bool = False
+
+    @cached_property
+    def width(self) -> int:
+        """Characters the column needs: its header or its widest value."""
+        return max(len(self.header), _widest(self.cells))
+
+    def cell(self, text: str) -> str:
+        """``text`` padded to the column's width."""
+        return f"{text:{self.align}{self.width}}"
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text of the column is ASCII."""
+        return self.cells.ascii
+
+    def aligned(self, which: NDArray[np.intp]) -> tuple[rows.Field, NDArray[np.int64]]:
+        """Rows ``which`` padded with spaces to the column's width (as :meth:`cell`), and where
+        each row's text ends in them (after its last character that is not a space; 0: none).
+        """
+        f = self.cells.field(which)
+        if f.size and int(f.max()) >= 0x80:  # text of another script: pad by characters, not bytes
+            out = self._scattered(f)
+            return out, _ink_end(out)
+        m, w = f.shape
+        width = self.width
+        if not w:
+            return np.full((m, width), 32, dtype=np.uint8), np.zeros(m, dtype=np.int64)
+        keep = f != 0
+        nb = keep.sum(axis=1)
+        right = self.align == ">"
+        # rows whose text is not one run at the field's right end (left end, to align left)
+        edge = np.argmax(keep, axis=1) if right else w - np.argmax(keep[:, ::-1], axis=1)
+        ragged = (nb > 0) & ((w - edge if right else edge) != nb)
+        if ragged.any():
+            g = self._scattered(f[ragged])
+            f = f.copy()
+            f[ragged] = 0
+            # justified in a field of the column's width: no longer ragged
+            wide = max(w, width)
+            h = np.zeros((m, wide), dtype=np.uint8)
+            if right:
+                h[:, wide - w:] = f
+                h[ragged, wide - width:] = g[:, :width]
+            else:
+                h[:, :w] = f
+                h[ragged, :width] = g[:, :width]
+            f, w = h, wide
+        out = np.zeros((m, width), dtype=np.uint8)
+        if right:
+            out[:, max(0, width - w):] = f[:, max(0, w - width):]
+        else:
+            out[:, :min(w, width)] = f[:, :width]
+        out[out == 0] = 32
+        if not self.cells.clean:
+            return out, _ink_end(out)
+        return out, np.where(nb > 0, width, 0) if right else nb.astype(np.int64)
+
+    def _scattered(self, f: rows.Field) -> rows.Field:
+        """Any field padded with spaces to the column's width, its text moved to one run
+        (NUL padding anywhere; UTF-8 counted by characters).
+        """
+        keep = f != 0
+        nb = keep.sum(axis=1)
+        pad = self.width - _chars(f)
+        m = f.shape[0]
+        wide = int((pad + nb).max()) if m else self.width
+        out = np.zeros((m, max(wide, self.width)), dtype=np.uint8)
+        r, c = np.nonzero(keep)
+        rank = (np.cumsum(keep, axis=1) - 1)[r, c]
+        at = np.arange(out.shape[1])[None, :]
+        if self.align == ">":
+            out[r, pad[r] + rank] = f[r, c]
+            out[at < pad[:, None]] = 32
+        else:
+            out[r, rank] = f[r, c]
+            out[(at >= nb[:, None]) & (at < (nb + pad)[:, None])] = 32
+        return out
+
+
+@dataclass(frozen=True)
+class Block:
+    """Records laid out: their bytes (every line ending in ``\\n``), and for each record its
+    bytes, its lines, its first line's and its widest line's characters.
+    """
+
+    data: bytes
+    size: NDArray[np.int64]
+    lines: NDArray[np.int64]
+    first: NDArray[np.int64]
+    widest: NDArray[np.int64]
+
+
+class FieldTable:
+    """A table of :class:`FieldColumn` packed on lines of ``width`` as :func:`table_lines`
+    packs them (``None``: one line a record); records laid out a block at a time.
+    """
+
+    def __init__(self, columns: list[FieldColumn], width: int | None = WIDTH):
+        self.columns = columns
+        self.packed = _pack(columns, width)
+        self.indent = _indent(columns) if columns else 0
+
+    def heads(self) -> list[str]:
+        """The column header lines."""
+        ind = " " * self.indent
+        return [((ind if k else "") + " ".join(c.cell(c.header) for c in cols)).rstrip()
+                for k, cols in enumerate(self.packed)]
+
+    def block(self, which: NDArray[np.intp]) -> Block:
+        """The records of rows ``which``.
+
+        Each line is its cells side by side; where its ink ends is found cell by cell (the
+        end of the last cell with text that is not space), and the bytes before it, with a
+        newline after each line up to the record's last that is not empty, are taken out
+        of the whole block at once (``"\\n".join(lines).rstrip()`` of each record).
+        """
+        m = which.size
+        ascii = all(c.ascii for c in self.columns)
+        mats: list[rows.Field] = []  # every line's cells, then a newline column
+        spans: list[int] = []  # bytes of each line
+        ends: list[NDArray[np.int64]] = []  # where each line's ink ends (bytes)
+        for k, cols in enumerate(self.packed):
+            pos = 0
+            if k:
+                mats.append(rows.const(" " * self.indent, m))
+                pos = self.indent
+            end = np.zeros(m, dtype=np.int64)
+            for j, c in enumerate(cols):
+                if j:
+                    mats.append(rows.const(" ", m))
+                    pos += 1
+                cell, ink = c.aligned(which)
+                end = np.where(ink > 0, pos + ink, end)
+                pos += cell.shape[1]
+                mats.append(cell)
+            mats.append(rows.const("\n", m))
+            spans.append(pos)
+            ends.append(end)
+        last = np.stack(ends, axis=1)
+        used = last > 0
+        # the empty lines after the last that is not are dropped; a record has at least one line
+        count = np.maximum(1, np.where(used.any(axis=1), len(ends) - np.argmax(used[:, ::-1], axis=1), 0))
+        keep = np.hstack([x for k, (span, end) in enumerate(zip(spans, ends))  # each line to its ink, a newline
+                          for x in (np.arange(span)[None, :] < end[:, None], (count > k)[:, None])])
+        whole = np.hstack([np.broadcast_to(f, (m, f.shape[1])) for f in mats])
+        chars = last
+        size = (last * (np.arange(len(ends))[None, :] < count[:, None])).sum(axis=1) + count
+        if not ascii:  # text in other scripts: its padding stays NUL
+            keep &= whole != 0
+            lead = keep & ((whole & 0xC0) != 0x80)
+            at = np.cumsum([0] + [n + 1 for n in spans])
+            chars = np.stack([lead[:, at[k]:at[k] + spans[k]].sum(axis=1) for k in range(len(ends))], axis=1)
+            size = keep.sum(axis=1)
+        return Block(whole[keep].tobytes(), size.astype(np.int64), count.astype(np.int64),
+                     chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
+
+
+def _ink_end(cell: rows.Field) -> NDArray[np.int64]:
+    """One past the last byte of each row that is neither a space nor padding (0: none)."""
+    if not cell.shape[1]:
+        return np.zeros(cell.shape[0], dtype=np.int64)
+    ink = (cell != 32) & (cell != 0)
+    out: NDArray[np.int64] = np.where(ink.any(axis=1), cell.shape[1] - np.argmax(ink[:, ::-1], axis=1), 0)
+    return out
+
+
+@dataclass(frozen=True)
+class Records:
+    """The records of one part of a sheet, laid out (:func:`paged_bytes`): their UTF-8 bytes,
+    every line ending in ``\n``, where each record ends in them (``ends[k]``, from 0), and for
+    each record its lines, its first line's and its widest line's characters.
+    """
+
+    data: bytes | bytearray
+    ends: NDArray[np.int64]
+    lines: NDArray[np.int64]
+    first: NDArray[np.int64]
+    widest: NDArray[np.int64]
+
+    @classmethod
+    def of_texts(cls, records: list[str]) -> Records:
+        """Records given as text (a record of several lines holds ``\n``)."""
+        split = [row_lines(r) for r in records]
+        data = [(r + "\n").encode("utf-8") for r in records]
+        return cls(b"".join(data), np.cumsum([0] + [len(x) for x in data], dtype=np.int64),
+                   np.array([len(r) for r in split], dtype=np.int64),
+                   np.array([len(r[0]) for r in split], dtype=np.int64),
+                   np.array([max(len(x) for x in r) for r in split], dtype=np.int64))
+
+    def text(self, a: int, b: int) -> memoryview:
+        """The bytes of records ``a:b``."""
+        return memoryview(self.data)[int(self.ends[a]):int(self.ends[b])]
+
+
+def table_records(table: FieldTable, which: NDArray[np.intp],
+                  titles: dict[int, list[str]] | None = None) -> Records:
+    """The records of ``table``'s rows ``which`` in that order, laid out a block at a time;
+    ``titles``: lines opening a record (by its position in ``which``), kept with it.
+    """
+    titles = titles or {}
+    keys = np.array(sorted(titles), dtype=np.int64)
+    data = bytearray()  # grown in place: no second copy of the sheet
+    size, lines, first, widest = [], [], [], []
+    for a in range(0, which.size, _BLOCK):
+        blk = table.block(which[a:a + _BLOCK])
+        b = a + blk.lines.size
+        inside = keys[(keys >= a) & (keys < b)].tolist()
+        if inside:  # each title before its record
+            ends = np.concatenate([[0], np.cumsum(blk.size)]).tolist()
+            at = 0
+            for k in inside:
+                head = ("\n".join(titles[k]) + "\n").encode("utf-8")
+                data += blk.data[at:ends[k - a]] + head
+                at = ends[k - a]
+                blk.size[k - a] += len(head)
+                blk.lines[k - a] += len(titles[k])
+                blk.first[k - a] = len(titles[k][0])
+                blk.widest[k - a] = max([int(blk.widest[k - a])] + [len(x) for x in titles[k]])
+            data += blk.data[at:]
+        else:
+            data += blk.data
+        size.append(blk.size)
+        lines.append(blk.lines)
+        first.append(blk.first)
+        widest.append(blk.widest)
+    none = [np.zeros(0, dtype=np.int64)]
+    return Records(data, np.concatenate([[0], np.cumsum(np.concatenate(size or none))]).astype(np.int64),
+                   np.concatenate(lines or none), np.concatenate(first or none), np.concatenate(widest or none))
+
+def fixed_format(decimals: int) -> Callable[[NDArray[np.float64]], rows.Field]:
+    """A block formatter of numbers to ``decimals`` (:func:`rows.fixed`)."""
+    return lambda v: rows.fixed(v, decimals)
+
+
+def dms_format(wrap360: bool) -> Callable[[NDArray[np.float64]], rows.Field]:
+    """A block formatter of angles to the second (:func:`rows.dms`)."""
+    return lambda v: rows.dms(v, 0, wrap360)
+
+
+def _number(values: NDArray[np.float64], decimals: int) -> Formatted:
+    """Numbers to ``decimals``, empty where NaN (a stake without the number)."""
+    v = np.asarray(values, dtype=float)
+    return Formatted(v, fixed_format(decimals), np.isnan(v))
+
+
+def setout_fields(d: Design) -> list[tuple[str, bool, Cells]]:
+    """The setout table's columns as :func:`setout_cells` writes them for the sheet (offsets
+    with their side), as whole-column sources: ``(key, grouped, cells)`` in order, the columns
+    of :attr:`Presentation.setout_columns` (tests/test_sheets_fast.py holds them equal).
+    """
+    sd = d.setup
+    assert sd is not None
+    sp, so = d.stakes, sd.setout
+    n = len(sp)
+    numbered = Joined((Same(sp.prefix, sp.numbered),
+                       Formatted(sp.number.astype(float), lambda v: rows.integer(v.astype(np.int64)))))
+    named = list(sp.layout.names) if sp.layout is not None else []
+    point: Cells = Stacked((numbered, Texts.of(named))) if named else numbered
+    dec = d.unit.station_decimals
+    off = np.asarray(sp.offset, dtype=float)
+    shown = round_to(off, dec)  # the side of the offset as printed: one that rounds to zero is on the line
+    side = Coded(Texts.of([" LT", " RT", ""]), np.where(shown < 0, 0, np.where(shown > 0, 1, 2)))
+    at = np.asarray(sd.setout.at_instrument, dtype=bool)
+    out: list[tuple[str, bool, Cells]] = [
+        ("point", False, point),
+        ("station", False, Coded(station_labels(sp.stationing, sp.all_stations), sp.station_of)),
+        ("offset", False, Joined((Formatted(np.abs(off), fixed_format(dec)), side))),
+        ("code", False, Coded(Texts.of(sp.all_codes), sp.code_of)),
+        ("feature", False, Coded(Texts.of(sp.all_features), sp.feature_of)),
+        ("angle_right", False, Formatted(np.asarray(so.angle_right, dtype=float), dms_format(True), at)),
+        ("grid_distance", False, _number(so.grid_distance, 3)),
+        ("ground_distance", False, _number(so.ground_distance, 3))]
+    if sp.elevation is not None:
+        out.append(("design_elevation", False, _number(sp.elevation, 3)))
+    if so.zenith is not None and so.slope_distance is not None:
+        z = np.asarray(so.zenith, dtype=float)
+        out.append(("zenith", False, Formatted(z, dms_format(False), np.isnan(z))))  # no height, no zenith
+        out.append(("slope_distance", True, _number(so.slope_distance, 3)))
+    prec = sd.precision
+    if prec is not None:
+        out.append(("sigma_along", False, _number(prec.sigma_along, 4)))
+        out.append(("sigma_across", True, _number(prec.sigma_across, 4)))
+        out.append(("r95", True, _number(prec.r95, 4)))
+    flagged = np.zeros(n, dtype=bool) if sd.flagged is None else np.asarray(sd.flagged, dtype=bool)
+    if at.any() or flagged.any():
+        words = ["", AT_INSTRUMENT_NOTE, FLAG, f"{AT_INSTRUMENT_NOTE}; {FLAG}"]
+        out.append(("note", False, Coded(Texts.of(words), at.astype(np.intp) + 2 * flagged)))
+    return out

@@ -12,15 +12,16 @@ import numpy as np
 from ...design import Design
 from ..stationmarks import labelled_stations
 from ..text import curve_texts, turn_word
-from .canvas import (AREA, CL_COLOUR, CODE_COLOURS, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
+from .canvas import (AREA, CL_COLOUR, CONTROL_COLOUR, F, FONT_LABEL, LABEL_MAX_STAKES,
                      MARGIN, OFFSET_COLOUR, SHEET_HEIGHT, TANGENT_COLOUR, THIN_CELL, TICK_MAX_STATIONS, View,
                      extent, fmt_short, grow_extent, num, right_normal, round_label, short_hash,
                      text_width, station_spacing)
 from .labels import Labeller, Layer, around_boxes, draw_label, place_on_normal
 from .frame import Panel, frame_rect, grid_ticks, north_arrow, scale_bar, svg_open, title_block
 from .lines import alignment_lines, tick_vertices
-from .control import control_marks, occupations, place_control_labels
-from .stakes import key_points, key_rings, place_key_point_labels, place_stake_numbers, stake_marks
+from .control import (CONTROL_LABEL_MAX, OtherControl, control_marks, occupations, other_control_marks,
+                      place_control_labels, place_other_control_labels)
+from .stakes import code_colours, key_points, key_rings, place_key_point_labels, place_stake_numbers, stake_marks
 
 __all__ = ["plan_svg_element", "plan_svg"]
 
@@ -86,9 +87,11 @@ def plan_svg_element(d: Design) -> str:
             lab.block_polyline(tx_, ty_)
         drawn.append((p, pis, pi_marks, px, py, ticks, left_px, right_px))
 
-    stakes_of = [stake_marks(p, v, lab) for p in parts]
+    colours = code_colours(d)
+    stakes_of = [stake_marks(p, v, lab, colours) for p in parts]
     keys_of = [key_points(p, v, lab) for p in parts]
     ctrl, ctrl_labels = control_marks(d, v, lab)
+    others = other_control_marks(d, v, lab)
     body.append(grid_ticks(v, lab))
 
     # ---- labels, most important first ----
@@ -108,6 +111,7 @@ def plan_svg_element(d: Design) -> str:
     cts_of = [{ct.curve.number: ct for ct in curve_texts(p)} for p in parts]
     for (p, pis, _, px, py, _, _, _), cts in zip(drawn, cts_of):
         _place_pi_labels(p, v, pis, px, py, cts, layer)
+    ctrl_shown = place_other_control_labels(v, others, layer)
     num_shown = sum(place_stake_numbers(p, stakes, layer) for p, stakes in zip(parts, stakes_of))
 
     body.append('<g clip-path="url(#' + clip + ')">' + "".join(path for st in stakes_of for path in st.paths))
@@ -117,7 +121,7 @@ def plan_svg_element(d: Design) -> str:
                     'stroke-width="1.1"/>')
     body.append(body_eq)
     body.append("".join(key_rings(keys) for keys in keys_of))
-    body.append("".join(ctrl) + "</g>")
+    body.append(others.path + "".join(ctrl) + "</g>")
     if layer.leaders:
         body.append(f'<path d="{"".join(layer.leaders)}" stroke="#444" stroke-width="0.6" fill="none"/>')
     body.append('<g class="so-num">' + "".join(layer.numbers.items) + "</g>")
@@ -131,6 +135,7 @@ def plan_svg_element(d: Design) -> str:
     detail = all(st.detail for st in stakes_of)
     kp_count = sum(len(p.alignment.key_points) for p in parts)
     notes = _plan_notes(d, detail, marks, num_shown, kp_shown, kp_count, st_shown, st_count, n_st)
+    notes[1:1] = _control_notes(others, ctrl_shown)
     curves = [(f"{p.alignment.name} " if d.parts else "", ct) for p, cts in zip(parts, cts_of) for ct in cts.values()]
     pan = _panel(d, curves, any(pis_of), drawn[0][5].spacing, notes)
     if d.parts:
@@ -280,14 +285,21 @@ def _panel(d: Design, curves: list[tuple[str, Any]], has_pis: bool, spacing: flo
     """The panel on the right: title, legend, curve data (each curve with its alignment's name
     before it when there are several) and notes.
     """
-    job, sp, unit = d.job, d.stakes, d.unit
+    job, unit = d.job, d.unit
     parts = d.parts or (d,)
     names = ", ".join(p.alignment.name for p in parts)
     pan = Panel.opening("PLAN", 15.0, job.info.name, f"alignment{'s' if d.parts else ''} {names}")
     pan.symbol(f'<path d="M0,0h28" stroke="{CL_COLOUR}" stroke-width="1.6"/>', "centreline")
     pan.symbol(f'<path d="M0,0h28" stroke="{OFFSET_COLOUR}" stroke-width="0.8"/>', "offset line")
-    for j, code in enumerate(sp.codes):
-        colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
+    colours = code_colours(d)
+    lines = [(p.stakes, j) for p in parts for j in range(len(p.stakes.codes))]
+    shown: set[str] = set()
+    for sp, j in lines:  # each code once, where it first appears (several alignments: job order)
+        code = sp.codes[j]
+        if code in shown:
+            continue
+        shown.add(code)
+        colour = colours[code]
         o = float(sp.offsets[j])
         where = "" if o == 0 else (" LT" if o < 0 else " RT")
         size = f"{abs(o):.2f}"
@@ -319,6 +331,8 @@ def _panel(d: Design, curves: list[tuple[str, Any]], has_pis: bool, spacing: flo
         pan.symbol(f'<path d="M14,-6l5.2,9h-10.4z" fill="{CONTROL_COLOUR}"/>', "occupied point")
         pan.symbol(f'<path d="M0,0h28" stroke="{CONTROL_COLOUR}" stroke-dasharray="8,3,2,3"/>'
                    f'<circle cx="24" cy="0" r="3.5" fill="#fff" stroke="{CONTROL_COLOUR}"/>', "backsight")
+    if d.presentation.other_control[0]:
+        pan.symbol(f'<circle cx="14" cy="0" r="2.6" fill="#fff" stroke="{CONTROL_COLOUR}"/>', "other control point")
     pan.gap()
     pan.heading("CURVES", 11.0)
     if not curves:
@@ -355,10 +369,26 @@ def _plan_notes(d: Design, detail: bool, marks: int, shown: int, kp_shown: int, 
         out.append(f"key-point labels: {kp_shown} of {kp_count} shown (no room for the rest)")
     if st_shown < st_count:
         out.append(f"station labels: {st_shown} of {st_count} shown (no room for the rest)")
+    if d.parts:  # the job's own warnings, then each alignment's
+        out.extend(f"warning: {w}" for w in d.warnings)
     for p in d.parts or (d,):
         named = f"{p.alignment.name}: " if d.parts else ""
         out.extend(f"warning: {named}{w}" for w in p.warnings)
     return out
+
+
+def _control_notes(oc: OtherControl, shown: int) -> list[str]:
+    """What the picture shows of the control points no setup uses (nothing when there are none)."""
+    if not oc.total:
+        return []
+    if not oc.drawn:
+        return [f"other control points: none of the {oc.total:,} in the view; every point is in control.csv"]
+    outside = f"; {oc.total - oc.inside:,} outside the view" if oc.inside < oc.total else ""
+    if oc.drawn < oc.inside:
+        return [f"other control points: {oc.drawn:,} rings for {oc.inside:,} in the view (thinned, over "
+                f"{CONTROL_LABEL_MAX:,}), no ids{outside}; every point is in control.csv"]
+    ids = "all ids shown" if shown == oc.drawn else f"ids {shown:,} of {oc.drawn:,} (no overprinting)"
+    return [f"other control points: {oc.drawn:,} drawn, {ids}{outside}"]
 
 
 def plan_svg(d: Design) -> bytes:

@@ -32,9 +32,23 @@ class StakeMarks:
     y: F
 
 
-def stake_marks(d: Design, v: View, lab: Labeller) -> StakeMarks:
-    """A mark per stake (blocked for the labels), coloured by its code; thinned over
-    :data:`LABEL_MAX_STAKES` stakes.
+def code_colours(d: Design) -> dict[str, str]:
+    """The colour of each offset line's code: the centreline's black, the others in turn from
+    :data:`CODE_COLOURS`, by first appearance over every alignment (the first alignment's lines
+    keep the colours they have alone).
+    """
+    out: dict[str, str] = {}
+    for p in d.parts or (d,):
+        sp = p.stakes
+        for j, code in enumerate(sp.codes):
+            if code not in out:
+                out[code] = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[len(out) % len(CODE_COLOURS)]
+    return out
+
+
+def stake_marks(d: Design, v: View, lab: Labeller, colours: dict[str, str] | None = None) -> StakeMarks:
+    """A mark per stake (blocked for the labels), coloured by its code (``colours``: by
+    :func:`code_colours` of the job); thinned over :data:`LABEL_MAX_STAKES` stakes.
     """
     sp = d.stakes
     n_st = len(sp)
@@ -48,6 +62,8 @@ def stake_marks(d: Design, v: View, lab: Labeller) -> StakeMarks:
     for j in range(m):
         sel = keep[code_of[keep] == j]
         colour = "#111" if sp.offsets[j] == 0.0 else CODE_COLOURS[j % len(CODE_COLOURS)]
+        if colours is not None:
+            colour = colours[sp.codes[j]]
         stake_paths.append(f'<path class="so-stake" d="{circles_path(sx[sel], sy[sel], r_stake)}" fill="{colour}"/>')
     if sp.layout is not None:  # catch stakes filled, reference stakes open, listed points squared off
         feats = np.array(sp.all_features, dtype=object)[sp.feature_of[keep]]
