@@ -29,8 +29,11 @@ tie exactly wherever the coordinates make the squares exact.  The result
 does not depend on the order in which the control points are listed.  Only control points within
 ``max_distance`` of a stake can serve one, so only they are candidates; they and their
 backsights are found by a grid of cells (each point looks into its cell and the eight
-around it), never by all pairs of control points.  The stakes-by-candidates reach matrix
-is built in blocks of stakes and kept as packed bits.
+around it), never by all pairs of control points.  The reach is the list of (stake, candidate)
+pairs within ``max_distance`` found the same way, never a stakes-by-candidates matrix; the greedy
+cover keeps each candidate's count of stakes not yet reached and lowers only the counts of the
+candidates that reach the stakes a choice reaches, so its cost grows with the pairs, not with
+stakes x candidates x setups.
 """
 
 from __future__ import annotations
@@ -51,9 +54,6 @@ __all__ = ["Setup", "SetupPlan", "choose_setups", "R95"]
 #: broadcast arrays (job units), e.g. :func:`stakeout.precision.predict_precision`'s ``r95``.
 R95 = Callable[[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64],
                 NDArray[np.float64], NDArray[np.float64]], NDArray[np.float64]]
-
-_BLOCK = 1 << 22  # distance-matrix elements per block (32 MiB of float64)
-_POPCOUNT = np.array([i.bit_count() for i in range(256)], dtype=np.uint8)  # set bits of a byte
 
 
 @dataclass(frozen=True)
@@ -125,20 +125,6 @@ def _positive(value: float, key: str) -> float:
     if isinstance(value, bool) or not math.isfinite(out) or out <= 0:
         raise JobFileError(f"{key} = {value!r}: must be a number above 0")
     return out
-
-
-def _step(rows: int, multiple: int = 1) -> int:
-    """Columns per block so that a rows x block matrix stays near ``_BLOCK``."""
-    return max(multiple, (_BLOCK // max(rows, 1)) // multiple * multiple)
-
-
-def _sq_dist(
-    n1: NDArray[np.float64], e1: NDArray[np.float64], n2: NDArray[np.float64], e2: NDArray[np.float64]
-) -> NDArray[np.float64]:
-    """Squared distances, rows point set 1, columns point set 2."""
-    dn = n2[None, :] - n1[:, None]
-    de = e2[None, :] - e1[:, None]
-    return dn * dn + de * de
 
 
 def _ranges(lo: NDArray[np.int64], cnt: NDArray[np.int64]) -> NDArray[np.int64]:
@@ -326,50 +312,36 @@ def choose_setups(
     # have another control point within max_backsight (not on the same spot); both found by a grid of
     # cells, so the cost grows with the points near each one, not with the square of their number
     near_stake = np.zeros(n_ctrl, dtype=bool)
-    _, p, _ = _pairs_within(sn, se, cn, ce, math.sqrt(md2), md2)  # stakes are few: they do the looking
-    near_stake[p] = True
+    ps, pp, pd2 = _pairs_within(sn, se, cn, ce, math.sqrt(md2), md2)  # stakes are few: they do the looking
+    near_stake[pp] = True
     has_bs = _shares_a_small_cell(cn, ce, math.sqrt(mb2)) & near_stake  # dense areas: no pairs needed
     rel = np.flatnonzero(near_stake & ~has_bs)
     qi, p, d2 = _pairs_within(cn[rel], ce[rel], cn, ce, math.sqrt(mb2), mb2)
     ok = ((cn[rel][qi] != cn[p]) | (ce[rel][qi] != ce[p])) & (d2 <= mb2)
     has_bs[rel[qi[ok]]] = True
     cand = np.flatnonzero(has_bs)  # indices into id order, ascending = id order
-    if cand.size == 0:
-        cand = np.zeros(0, dtype=np.int64)
     by_precision = r95 is not None and tolerance is not None
     # each candidate's backsight (step 4), needed up front when precision decides the reach
     cand_bs = _backsights(cn, ce, cand, mb2) if by_precision else np.zeros(0, dtype=np.int64)
 
-    def reach_block(rows: NDArray[np.int64], lo: int, hi: int, within: NDArray[np.bool_] | None
-                    ) -> tuple[NDArray[np.bool_], NDArray[np.float64] | None]:
-        """Which of the candidates ``rows`` (positions in cand) reach stakes lo:hi, and their r95."""
-        c = cand[rows]
-        r = _sq_dist(cn[c], ce[c], sn[lo:hi], se[lo:hi]) <= md2
-        if not by_precision:
-            return r, None
+    # 2. reach: the (stake, candidate) pairs within max_distance (grouped by stake), the same squared
+    # distances a stakes x candidates matrix holds, but only the pairs the grid finds near each stake
+    position = np.full(n_ctrl, -1, dtype=np.int64)
+    position[cand] = np.arange(cand.size)
+    is_cand = position[pp] >= 0
+    ps, pc, pd2 = ps[is_cand], position[pp[is_cand]], pd2[is_cand]
+    cost = pd2  # what picks a stake's setup in step 3: the distance (squared), or the r95
+    if by_precision:
         assert r95 is not None and tolerance is not None
-        b = cand_bs[rows]
-        q = r95(cn[c][:, None], ce[c][:, None], cn[b][:, None], ce[b][:, None], sn[None, lo:hi], se[None, lo:hi])
-        ok = r & (q <= tolerance)
-        keep = np.asarray(ok.any(axis=0) if within is None else within[lo:hi], dtype=bool)
-        return np.where(keep[None, :], ok, r), q
-
-    # 2. reach matrix (candidates x stakes) as packed bits, built in blocks of stakes
-    n_bytes = (n_stakes + 7) // 8
-    reach = np.zeros((cand.size, n_bytes), dtype=np.uint8)
+        occ_c, bs_c = cand[pc], cand_bs[pc]
+        cost = np.asarray(r95(cn[occ_c], ce[occ_c], cn[bs_c], ce[bs_c], sn[ps], se[ps]), dtype=float)
+        within = cost <= tolerance
+        within_tol = np.zeros(n_stakes, dtype=bool)  # stakes some candidate reaches within the tolerance
+        within_tol[ps[within]] = True
+        keep = within | ~within_tol[ps]  # within the tolerance, or by distance alone where none is
+        ps, pc, cost = ps[keep], pc[keep], cost[keep]
     reachable = np.zeros(n_stakes, dtype=bool)
-    # stakes some candidate reaches within the tolerance (all of them without a precision rule)
-    within_tol = np.ones(n_stakes, dtype=bool)
-    step = _step(cand.size * (8 if by_precision else 1), multiple=8)
-    all_rows = np.arange(cand.size)
-    for lo in range(0, n_stakes, step):
-        hi = min(n_stakes, lo + step)
-        r, q = reach_block(all_rows, lo, hi, None)
-        if q is not None:
-            assert tolerance is not None
-            within_tol[lo:hi] = ((q <= tolerance) & r).any(axis=0)
-        reach[:, lo // 8 : (hi + 7) // 8] = np.packbits(r, axis=1)
-        reachable[lo:hi] = r.any(axis=0)
+    reachable[ps] = True
     if not reachable.all():
         i = int(np.argmin(reachable))
         name = repr(str(stake_ids[i])) if stake_ids is not None else f"#{i + 1}"
@@ -378,32 +350,37 @@ def choose_setups(
             f"setup.max_distance = {max_distance!r} has a backsight within setup.max_backsight = {max_backsight!r}"
         )
 
-    # greedy cover; argmax returns the first of equal counts, i.e. the smallest id
-    unreached = np.packbits(np.ones(n_stakes, dtype=bool))
+    # greedy cover: each candidate's count of stakes not yet reached, lowered for every candidate
+    # that reaches a stake when a choice reaches it; argmax returns the first of equal counts, i.e.
+    # the smallest id
+    counts = np.bincount(pc, minlength=cand.size)
+    by_cand = np.argsort(pc, kind="stable")
+    cand_pairs = counts.copy()
+    cand_first = np.cumsum(cand_pairs) - cand_pairs
+    stake_count_pairs = np.bincount(ps, minlength=n_stakes)
+    stake_first = np.cumsum(stake_count_pairs) - stake_count_pairs
+    unreached = np.ones(n_stakes, dtype=bool)
+    left = n_stakes
     chosen: list[int] = []  # positions in cand, in order of choice
-    while unreached.any():
-        live = np.flatnonzero(unreached)  # only bytes that still hold unreached stakes
-        counts = _POPCOUNT[reach[:, live] & unreached[live]].sum(axis=1, dtype=np.int64)
+    while left:
         best = int(np.argmax(counts))
         chosen.append(best)
-        unreached &= ~reach[best]
+        mine = ps[by_cand[cand_first[best]:cand_first[best] + cand_pairs[best]]]
+        new = mine[unreached[mine]]
+        unreached[new] = False
+        left -= new.size
+        np.subtract.at(counts, pc[_ranges(stake_first[new], stake_count_pairs[new])], 1)
 
     # 3. nearest chosen setup (with a precision rule: the one reaching it with the
-    # smallest r95); ties by id, so scan the chosen setups in id order
-    by_id = sorted(range(len(chosen)), key=lambda k: int(cand[chosen[k]]))
-    ctrl_by_id = cand[[chosen[k] for k in by_id]]
-    rows_by_id = np.asarray([chosen[k] for k in by_id], dtype=np.int64)
-    nearest = np.empty(n_stakes, dtype=np.int64)
-    step = _step(len(chosen) * (8 if by_precision else 1))
-    for lo in range(0, n_stakes, step):
-        hi = min(n_stakes, lo + step)
-        if by_precision:
-            r, q = reach_block(rows_by_id, lo, hi, within_tol)
-            assert q is not None
-            cost = np.where(r, q, np.inf)
-        else:
-            cost = _sq_dist(cn[ctrl_by_id], ce[ctrl_by_id], sn[lo:hi], se[lo:hi])
-        nearest[lo:hi] = np.asarray(by_id, dtype=np.int64)[np.argmin(cost, axis=0)]
+    # smallest r95); ties by id: among each stake's pairs with a chosen setup, the least cost,
+    # then the smallest id.  Every stake has one: a chosen setup reached it.
+    chosen_at = np.full(cand.size, -1, dtype=np.int64)
+    chosen_at[np.asarray(chosen, dtype=np.int64)] = np.arange(len(chosen))
+    mine_ = chosen_at[pc] >= 0
+    s_, c_, q_ = ps[mine_], pc[mine_], cost[mine_]
+    first = np.lexsort((c_, q_, s_))
+    first = first[np.r_[True, s_[first][1:] != s_[first][:-1]]]
+    nearest = chosen_at[c_[first]]
     counts_all = np.bincount(nearest, minlength=len(chosen))
     kept = [k for k in range(len(chosen)) if counts_all[k] > 0]  # drop setups nearest to no stake
     renumber = np.full(len(chosen), -1, dtype=np.int64)

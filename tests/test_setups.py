@@ -294,7 +294,7 @@ def test_no_stakes_no_setups():
 
 
 def test_blocks_give_the_same_plan(monkeypatch):
-    # Distance matrices are built in blocks of stakes; tiny blocks must agree with one block.
+    # The (stake, control point) pairs are found in blocks of stakes; tiny blocks must agree with one block.
     rng = np.random.default_rng(4)
     # control on a jittered 400 m grid, so every stake is within reach
     gn, ge = np.meshgrid(np.arange(0.0, 2001.0, 400.0), np.arange(0.0, 2001.0, 400.0))
@@ -303,7 +303,7 @@ def test_blocks_give_the_same_plan(monkeypatch):
     sn, se = rng.uniform(0, 2000, 3001), rng.uniform(0, 2000, 3001)
     ids = [f"C{k:02d}" for k in range(cn.size)]
     whole = choose_setups(ids, cn, ce, sn, se, 600.0, 700.0)
-    monkeypatch.setattr(setups_module, "_BLOCK", 50)
+    monkeypatch.setattr(setups_module, "_QUERIES_AT_ONCE", 50)
     blocked = choose_setups(ids, cn, ce, sn, se, 600.0, 700.0)
     assert blocked.setups == whole.setups
     assert np.array_equal(blocked.setup_index, whole.setup_index)
