@@ -60,3 +60,20 @@ def test_automatic_setups_quadratic_in_control_points(md, mb):
     plan = choose_setups(ids, cn, ce, sn, se, md, mb)
     got = [(s.occupied_id, s.backsight_id, s.stake_count) for s in plan.setups]
     assert got == want
+
+
+def test_automatic_setups_recounted_every_stake_for_every_setup_chosen():
+    """Regression: the greedy cover counted a candidates x stakes matrix again for each setup it chose,
+    so a long corridor needing thousands of setups took hours (a 2,000-element design: 960 s in
+    choose_setups). Only the counts a choice changes are lowered now; the plan is still the rule's,
+    applied by brute force here on a corridor that needs many setups."""
+    rng = np.random.default_rng(5)
+    sn = np.round(rng.uniform(0, 20000, 2000) / 5) * 5  # 20 km of stakes, setups reaching 120 m
+    se = np.round(rng.uniform(0, 60, 2000) / 5) * 5
+    cn = np.round(np.arange(0, 20150, 50.0) + rng.uniform(-10, 10, 403))
+    ce = np.round(rng.uniform(-40, 100, 403))
+    ids = [f"K{k:04d}" for k in rng.permutation(403)]
+    want = _brute(ids, cn, ce, sn, se, 120.0, 200.0)
+    plan = choose_setups(ids, cn, ce, sn, se, 120.0, 200.0)
+    assert len(want) > 50
+    assert [(s.occupied_id, s.backsight_id, s.stake_count) for s in plan.setups] == want
