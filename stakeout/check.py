@@ -501,8 +501,7 @@ class Matches:
 
 def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDArray[np.float64], prefix: str,
                 first_point: int, design_northing: NDArray[np.float64], design_easting: NDArray[np.float64],
-                control: Sequence[ControlRow], radius: float, names: Sequence[str] = (),
-                by_id: NDArray[np.int64] | None = None) -> Matches:
+                control: Sequence[ControlRow], radius: float, by_id: NDArray[np.int64] | None = None) -> Matches:
     """Match shots to design and control points (the rules of the module docstring).
 
     Parameters
@@ -519,13 +518,10 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
         Control points, job units.
     radius : float
         Search radius for shots matched by position, job units.
-    names : sequence of str
-        The ids the job gave the last ``len(names)`` design points (listed
-        points); every design point before them is numbered.
     by_id : array of int, optional
-        The design point each id names (-1: none), found by the caller (the
-        stakes of several alignments); ``prefix``, ``first_point`` and
-        ``names`` are then not used.
+        The design point each id names (-1: none), found by the caller
+        (:func:`stake_index_of_ids`: listed points' own ids, the stakes of
+        several alignments); ``prefix`` and ``first_point`` are then not used.
     """
     sn = np.asarray(northing, dtype=np.float64)
     se = np.asarray(easting, dtype=np.float64)
@@ -534,10 +530,7 @@ def match_shots(ids: Sequence[str], northing: NDArray[np.float64], easting: NDAr
     ce = np.array([c[2] for c in control], dtype=np.float64)
 
     # ids: a design point's, a control point's, or both (then the nearer; a tie to the design point)
-    num = design_index_of_ids(ids, prefix, first_point, nd - len(names)) if by_id is None else by_id
-    if names and by_id is None:
-        at = {name: nd - len(names) + j for j, name in enumerate(names)}
-        num = np.where(num >= 0, num, np.array([at.get(p, -1) for p in ids], dtype=np.int64))
+    num = design_index_of_ids(ids, prefix, first_point, nd) if by_id is None else by_id
     cid = _control_index_of_ids(ids, [c[0] for c in control])
     both = (num >= 0) & (cid >= 0)
     if np.any(both):
@@ -711,22 +704,21 @@ def check_shots(alignment: Alignment, design: StakePoints, design_elevation: NDA
     starts = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
     m, nd = len(shots), int(starts[-1])
     sn, se = shots.northing, shots.easting
-    if more:  # the stakes of every alignment as one set of design points
-        by_id = np.full(m, -1, dtype=np.int64)
-        for j, (_, sp, _, _) in enumerate(parts):
-            hit = stake_index_of_ids(shots.point, sp)
-            by_id = np.where(hit >= 0, hit + starts[j], by_id)
+    # the design point each id names: a numbered stake by its number, a listed one by its own id (with several
+    # alignments, the stakes of every one as one set of design points)
+    by_id = np.full(m, -1, dtype=np.int64)
+    for j, (_, sp, _, _) in enumerate(parts):
+        hit = stake_index_of_ids(shots.point, sp)
+        by_id = np.where(hit >= 0, hit + starts[j], by_id)
+    if more:
         elevations = [p[2] if p[2] is not None else np.full(len(p[1]), np.nan) for p in parts]
         design_elevation = None if all(p[2] is None for p in parts) else np.concatenate(elevations)
         combined_factor = np.concatenate([np.broadcast_to(np.asarray(p[3], dtype=np.float64), (len(p[1]),))
                                           for p in parts])
     dn_all = np.concatenate([p[1].northing for p in parts]) if more else design.northing
     de_all = np.concatenate([p[1].easting for p in parts]) if more else design.easting
-    if more:
-        mt = match_shots(shots.point, sn, se, "", 0, dn_all, de_all, control, radius, by_id=by_id)
-    else:
-        mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, design.northing, design.easting,
-                         control, radius, design.layout.names if design.layout is not None else ())
+    mt = match_shots(shots.point, sn, se, design.prefix, design.first_point, dn_all, de_all, control, radius,
+                     by_id=by_id)
     mt, stored_as = _misnumbered(mt, sn, se, dn_all, de_all, horizontal_tolerance)
     ground = ground_shots(shots.description, ground_codes)
     di, ci = mt.design_index, mt.control_index
