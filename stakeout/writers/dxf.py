@@ -43,7 +43,8 @@ import numpy as np
 from ..angles import format_dms, sincosd
 from ..design import Design
 from ..presentation import Element, PerKind
-from ..staking import COORDINATE_DECIMALS
+from ..job import ControlPoint
+from ..staking import COORDINATE_DECIMALS, StakePoints
 from . import rows
 from .sections import widened_traces
 from .stationmarks import labelled_stations, sheet_scale, station_spacing
@@ -221,8 +222,13 @@ def _draw_setups(msp: Any, d: Design, h: float, size: float) -> None:
             what = "backsight direction" + (f" (setup {o.number})" if listed else "")
             _text(msp, what, end[0] + h, end[1], h, "SO-CONTROL")
         msp.add_line((occ.easting, occ.northing), end, dxfattribs={"layer": "SO-BACKSIGHT"})
-        for e, n in zip(sp.easting[idx].tolist(), sp.northing[idx].tolist()):
-            msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
+        _radials(msp, occ, sp, idx)
+
+
+def _radials(msp: Any, occ: ControlPoint, sp: StakePoints, idx: np.ndarray) -> None:
+    """Radial lines from an occupied point to the stakes ``idx`` of ``sp``."""
+    for e, n in zip(sp.easting[idx].tolist(), sp.northing[idx].tolist()):
+        msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
 
 
 def _draw_radials(msp: Any, d: Design) -> None:
@@ -230,13 +236,10 @@ def _draw_radials(msp: Any, d: Design) -> None:
     RADIAL_MAX_STAKES stakes), for an alignment after the first of a job with several.
     """
     assert d.setup is not None
-    sd, sp = d.setup, d.stakes
-    if len(sp) > RADIAL_MAX_STAKES:
+    if len(d.stakes) > RADIAL_MAX_STAKES:
         return
-    for o, idx in zip(sd.occupations, sd.groups()):
-        occ = o.occupied
-        for e, n in zip(sp.easting[idx].tolist(), sp.northing[idx].tolist()):
-            msp.add_line((occ.easting, occ.northing), (e, n), dxfattribs={"layer": "SO-RADIAL"})
+    for o, idx in zip(d.setup.occupations, d.setup.groups()):
+        _radials(msp, o.occupied, d.stakes, idx)
 
 
 def _control_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
