@@ -235,16 +235,15 @@ def _summary(d: Design, width: int, table: int | None) -> SheetPart:
     return SheetPart(head, heads, rows, "setups, continued")
 
 
-def _sectioned_sheet(d: Design, wide: bool) -> bytes:
-    """``setout.txt`` with a setup summary and one section per setup."""
+def _setups_head(d: Design) -> tuple[list[str], bool]:
+    """The head lines of a sheet of several setups after the job's (the combined factor, or how each
+    setup's is found, the definitions, the heights, the vertical note, the instrument) and whether
+    each setup's section gives its own factor (the ``auto`` factor).
+    """
     assert d.setup is not None
-    job, sdes = d.job, d.setup
-    setup = sdes.setup
-    title = "SETOUT SHEET"
-    head = header_lines(title, d)
-    head += warning_lines(d)  # on the first page, never only on the console
-    first = sdes.occupations[0].scale
+    setup, first = d.setup.setup, d.setup.occupations[0].scale
     auto_factor = first.scale_factor is not None and first.elevation_factor is not None
+    head: list[str] = []
     if auto_factor:
         head.append("combined factor at each occupied point = grid scale factor k there")
         head.append(f"  x elevation factor R/(R+h), h {first.height:.3f} {d.unit.symbol} (ellipsoid); see each setup")
@@ -260,6 +259,19 @@ def _sectioned_sheet(d: Design, wide: bool) -> bytes:
         head.append("   ".join(heights) + " (every setup)")
     head += [line for line in (vertical_note(d),) if line]
     head += _instrument_lines(d)
+    return head, auto_factor
+
+
+def _sectioned_sheet(d: Design, wide: bool) -> bytes:
+    """``setout.txt`` with a setup summary and one section per setup."""
+    assert d.setup is not None
+    job, sdes = d.job, d.setup
+    setup = sdes.setup
+    title = "SETOUT SHEET"
+    head = header_lines(title, d)
+    head += warning_lines(d)  # on the first page, never only on the console
+    setups_head, auto_factor = _setups_head(d)
+    head += setups_head
     page, table = _widths(wide)
     stakes = _stake_table(d, table)
     cols = stakes.heads()
@@ -304,21 +316,9 @@ def _several_sheet(d: Design, wide: bool) -> bytes:
             else clip(f"alignments {names}   units {d.job.info.unit.label}") for line in header_lines(title, d)]
     head += [f"WARNING   {w}" for w in d.warnings]  # the job's, then each alignment's
     head += [f"WARNING   {p.alignment.name}: {w}" for p in parts for w in p.warnings]
-    first = d.setup.occupations[0].scale
-    auto_factor = first.scale_factor is not None and first.elevation_factor is not None
-    if auto_factor:  # each setup's own factor in its section, as on the single-alignment sheet
-        head.append("combined factor at each occupied point = grid scale factor k there")
-        head.append(f"  x elevation factor R/(R+h), h {first.height:.3f} {d.unit.symbol} (ellipsoid); see each setup")
-    else:
-        head += _factor_lines(d, first)
-    head += _DEFINITIONS
+    setups_head, auto_factor = _setups_head(d)  # each setup's own factor in its section, as with one alignment
+    head += setups_head
     setup = d.setup.setup
-    heights = [f"{what} height {h:.3f}" for what, h in (("instrument", setup.instrument_height),
-                                                         ("target", setup.target_height)) if h is not None]
-    if heights:
-        head.append("   ".join(heights) + " (every setup)")
-    head += [line for line in (vertical_note(d),) if line]
-    head += _instrument_lines(d)
     page, table = _widths(wide)
     # one table over every alignment's stakes: the columns any alignment has, empty where another has none
     fields = [{key: (grouped, cells) for key, grouped, cells in setout_fields(p)} for p in parts]
