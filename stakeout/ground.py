@@ -47,6 +47,10 @@ EDGE_TOL = 1e-9
 SLIVER = 1e-12
 #: Most (cell, face) entries of the grid, per face (the cell grows until they fit).
 _ENTRIES_PER_FACE = 16
+#: A face whose box is at most this many times the median face's goes in the finest grid; the
+#: larger ones (Delaunay's long faces across the inside of a bend, the hull's) go in coarser grids
+#: of their own, so they never make the cells of the ordinary faces coarse.
+_LEVEL_RATIO = 4.0
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -118,7 +122,7 @@ class Ground:
     faces: I64
     name: str
     dropped: int  # zero-area faces left out
-    _grid: _Grid = field(repr=False)
+    _grids: tuple[_Grid, ...] = field(repr=False)  # finest first: faces by size, each face in one
     _plane: F64 = field(repr=False)  # per face: e0, n0, z0, dz/de, dz/dn
     _tri: F64 = field(repr=False)  # per face: e0, n0, e1, n1, e2, n2 (one gather a face)
     _nb: I64 = field(repr=False)  # per face and edge k (vertex k to k + 1): the face across it, -1 none
@@ -238,7 +242,7 @@ class Ground:
         gx = (dz1 * dn2 - dz2 * dn1) / det  # dz/de
         gy = (de1 * dz2 - de2 * dz1) / det  # dz/dn
         plane = np.column_stack((e0, n0, z0, gx, gy))
-        grid = _build_grid(n, e, f)
+        grid = _build_grids(n, e, f)
         tri = np.column_stack((e[f[:, 0]], n[f[:, 0]], e[f[:, 1]], n[f[:, 1]], e[f[:, 2]], n[f[:, 2]]))
         return cls(n, e, z, f, name, dropped, grid, plane, tri, _neighbours(f, len(n)))
 
@@ -246,7 +250,7 @@ class Ground:
     @property
     def cell_size(self) -> float:
         """Side of the locator's grid cells, job units (about one face's size)."""
-        return self._grid.g
+        return self._grids[0].g
 
     @property
     def face_count(self) -> int:
@@ -265,9 +269,9 @@ class Ground:
         return float(self.z[used].min()), float(self.z[used].max())
 
     # ------------------------------------------------------------------ look-ups
-    def _candidates(self, cells: I64) -> tuple[I64, I64]:
-        """(index into ``cells``, face) of every face registered in each cell (-1: none)."""
-        gr = self._grid
+    @staticmethod
+    def _candidates(gr: _Grid, cells: I64) -> tuple[I64, I64]:
+        """(index into ``cells``, face) of every face registered in each cell of grid ``gr`` (-1: none)."""
         slot = np.searchsorted(gr.keys, cells).clip(0, max(len(gr.keys) - 1, 0))
         ok = (cells >= 0) & (len(gr.keys) > 0)
         if len(gr.keys):
@@ -278,27 +282,34 @@ class Ground:
         pos = np.arange(int(cnt.sum()), dtype=np.int64) - np.repeat(np.cumsum(cnt) - cnt, cnt)
         return owner, gr.faces[np.repeat(gr.start[c], cnt) + pos]
 
-    def _cell(self, n: F64, e: F64) -> I64:
-        gr = self._grid
+    @staticmethod
+    def _cell(gr: _Grid, n: F64, e: F64) -> I64:
         ix = np.floor((e - gr.e0) / gr.g)
         iy = np.floor((n - gr.n0) / gr.g)
         ok = (ix >= 0) & (ix < gr.nx) & (iy >= 0) & (iy < gr.ny)
         return np.where(ok, iy * gr.nx + ix, -1).astype(np.int64)
 
     def face_at(self, n: F64, e: F64) -> I64:
-        """Index of a face holding each point (on its edge included), -1 off the ground."""
+        """Index of a face holding each point (on its edge included), -1 off the ground.
+
+        The grids are asked finest first; a point a grid's faces hold is not asked again.
+        """
         n, e = np.broadcast_arrays(np.asarray(n, dtype=np.float64), np.asarray(e, dtype=np.float64))
         out = np.full(n.shape, -1, dtype=np.int64)
         flat_n, flat_e = n.ravel(), e.ravel()
-        fin = np.isfinite(flat_n) & np.isfinite(flat_e)
-        cells = np.where(fin, self._cell(np.where(fin, flat_n, 0.0), np.where(fin, flat_e, 0.0)), -1)
-        pt, fc = self._candidates(cells)
-        inside = self._inside(fc, flat_n[pt], flat_e[pt])
-        pt, fc = pt[inside], fc[inside]
-        first = np.ones(len(pt), dtype=bool)
-        first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
         res = out.ravel()
-        res[pt[first]] = fc[first]
+        todo = np.flatnonzero(np.isfinite(flat_n) & np.isfinite(flat_e))
+        for gr in self._grids:
+            if not todo.size:
+                break
+            tn, te = flat_n[todo], flat_e[todo]
+            pt, fc = self._candidates(gr, self._cell(gr, tn, te))
+            inside = self._inside(fc, tn[pt], te[pt])
+            pt, fc = pt[inside], fc[inside]
+            first = np.ones(len(pt), dtype=bool)
+            first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
+            res[todo[pt[first]]] = fc[first]
+            todo = todo[res[todo] < 0]
         return res.reshape(n.shape)  # a single point gives a 0-d array
 
     def _inside(self, fc: I64, pn: F64, pe: F64) -> NDArray[np.bool_]:
@@ -459,9 +470,13 @@ class Ground:
         t0 = np.zeros_like(t1) if start is None else np.broadcast_to(np.asarray(start, dtype=np.float64),
                                                                       n0.shape).copy()
         r = len(n0)
-        ray, cell = self._ray_cells(n0 + t0 * dn, e0 + t0 * de, dn, de, t1 - t0)
-        own, fc = self._candidates(cell)
-        ray = ray[own]
+        rays, fcs = [], []
+        for gr in self._grids:  # each face is in one grid
+            ray, cell = self._ray_cells(gr, n0 + t0 * dn, e0 + t0 * de, dn, de, t1 - t0)
+            own, fc = self._candidates(gr, cell)
+            rays.append(ray[own])
+            fcs.append(fc)
+        ray, fc = np.concatenate(rays), np.concatenate(fcs)
         # faces the ray's line crosses: vertices not all on one side of it (cheap; most candidates go)
         on, oe, rn, re = n0[ray], e0[ray], dn[ray], de[ray]
         tri = self._tri[fc]
@@ -541,13 +556,13 @@ class Ground:
             zedge = np.where(closer, za + w * (zb - za), zedge)
         return np.where(best <= 16 * EDGE_TOL, zedge, self._plane_z(fc, pn, pe))
 
-    def _ray_cells(self, n0: F64, e0: F64, dn: F64, de: F64, length: F64) -> tuple[I64, I64]:
-        """(ray, cell) of every grid cell each ray segment passes through (exact traversal).
+    @staticmethod
+    def _ray_cells(gr: _Grid, n0: F64, e0: F64, dn: F64, de: F64, length: F64) -> tuple[I64, I64]:
+        """(ray, cell) of every cell of grid ``gr`` each ray segment passes through (exact traversal).
 
         The cell boundaries a segment crosses split it into pieces; the cell of
         each piece's middle is a cell it passes through.
         """
-        gr = self._grid
         x0, y0 = (e0 - gr.e0) / gr.g, (n0 - gr.n0) / gr.g
         lx, ly = de * length / gr.g, dn * length / gr.g
         x1, y1 = x0 + lx, y0 + ly
@@ -621,17 +636,39 @@ def _neighbours(f: I64, npts: int) -> I64:
     return nb.reshape(-1, 3)
 
 
-def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
-    """A uniform grid over the faces' bounding boxes: each cell lists the faces reaching it.
+def _build_grids(n: F64, e: F64, f: I64) -> tuple[_Grid, ...]:
+    """The locator's grids, finest first: the faces whose box is within :data:`_LEVEL_RATIO` of
+    the median face's in the first, the rest split again by the same rule.
+
+    Delaunay fills the inside of a bend and the hull with long faces a thousand times the
+    size of the surveyed ones; in one grid they would set the cell size (or fill every cell
+    they cross), and every lookup on the corridor would test dozens of faces. By size, each
+    grid's faces are alike, so a cell holds a few of them; a point is found in the first grid
+    unless it lies in one of the long faces.
+    """
+    fe, fn = e[f], n[f]
+    x0, x1 = fe.min(axis=1), fe.max(axis=1)
+    y0, y1 = fn.min(axis=1), fn.max(axis=1)
+    size = np.maximum(x1 - x0, y1 - y0)
+    left = np.arange(len(f), dtype=np.int64)
+    grids = []
+    while left.size:  # at least half the faces left go in each grid (the median is in it)
+        here = size[left] <= _LEVEL_RATIO * float(np.median(size[left]))
+        ids = left[here]
+        grids.append(_build_grid(x0[ids], x1[ids], y0[ids], y1[ids], ids))
+        left = left[~here]
+    return tuple(grids)
+
+
+def _build_grid(x0: F64, x1: F64, y0: F64, y1: F64, ids: I64) -> _Grid:
+    """A uniform grid over the boxes (``x`` east, ``y`` north) of faces ``ids``: each cell lists
+    the faces reaching it.
 
     Only the cells some face reaches are stored (their ids sorted, looked up by binary
     search), so a long narrow TIN along a corridor costs what its faces cost, not what its
     bounding box would: the cell size follows the faces, never the box.
     """
-    fe, fn = e[f], n[f]
-    x0, x1 = fe.min(axis=1), fe.max(axis=1)
-    y0, y1 = fn.min(axis=1), fn.max(axis=1)
-    m = len(f)
+    m = len(ids)
     emin, nmin = float(x0.min()), float(y0.min())
     w = max(float(x1.max()) - emin, 1e-9)
     h = max(float(y1.max()) - nmin, 1e-9)
@@ -658,7 +695,7 @@ def _build_grid(n: F64, e: F64, f: I64) -> _Grid:
     cell = cell[o]
     keys, first = np.unique(cell, return_index=True)
     start = np.append(first, total).astype(np.int64)
-    return _Grid(g, emin, nmin, nx, ny, keys.astype(np.int64), start, fid[o])
+    return _Grid(g, emin, nmin, nx, ny, keys.astype(np.int64), start, ids[fid[o]])
 
 
 def read_ground_csv(path: str | Path, key: str = "ground.file") -> Ground:

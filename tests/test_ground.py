@@ -241,7 +241,48 @@ def test_ground_lookup_grew_with_the_square_of_a_corridor_length():
         rng = np.random.default_rng(3)
         qu, qv = rng.uniform(0.0, length - 10.0, 5000), rng.uniform(-59.0, 59.0, 5000)
         qn, qe = 1e5 + qu * c - qv * s, 2e5 + qu * s + qv * c
-        owner, _ = g._candidates(g._cell(qn, qe))
+        owner, _ = g._candidates(g._grids[0], g._cell(g._grids[0], qn, qe))
         per_point.append(owner.size / qn.size)
         assert np.allclose(g.elevation(qn, qe), 50.0 + 0.01 * qu + 0.05 * qv, atol=1e-9)
     assert per_point[1] < 1.5 * per_point[0] and per_point[1] < 40.0
+
+
+def test_long_faces_across_a_bend_made_every_lookup_test_dozens_of_faces():
+    """Regression: Delaunay of a corridor's ground points that bends fills the inside of the bend
+    (and the hull) with faces hundreds of times the surveyed ones. In one grid they set the cell
+    size (the mean face box), so every lookup on the corridor tested dozens of faces: a 1M-stake
+    corridor's design took 65 s and 8.4 GB. The faces now go in grids by size. Checked: the points
+    lie on one plane, so any face holding a point gives the plane's elevation (closed form); a
+    point in a long face is found too; the candidates a corridor point meets in the finest grid
+    stay few."""
+    from stakeout.ground import Ground
+
+    # a band 120 m wide along a half-circle of radius 1,500 m and its two 3 km tangents (a U):
+    # the inside of the U is 2.9 km across, filled by long faces
+    s = np.arange(0.0, 3000.0 + np.pi * 1500.0 + 3000.0, 20.0)
+    v = np.arange(-60.0, 61.0, 10.0)
+    ss, vv = (a.ravel() for a in np.meshgrid(s, v))
+
+    def place(s: np.ndarray, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        a = np.clip((s - 3000.0) / 1500.0, 0.0, np.pi)  # angle turned
+        cn = np.where(s < 3000.0, s, np.where(a < np.pi, 3000.0 + 1500.0 * np.sin(a),
+                                               3000.0 - (s - 3000.0 - np.pi * 1500.0)))
+        ce = np.where(s < 3000.0, 0.0, 1500.0 - 1500.0 * np.cos(a))
+        dn, de = np.cos(a), np.sin(a)  # heading north, turning right through east to south
+        return 6e6 + cn + v * de, 4e5 + ce - v * dn
+
+    n, e = place(ss, vv)
+    z = 120.0 + 0.004 * (n - 6e6) - 0.002 * (e - 4e5)
+    g = Ground.from_points(n, e, z)
+    rng = np.random.default_rng(11)
+    qs, qv = rng.uniform(0.0, s[-1], 20000), rng.uniform(-59.0, 59.0, 20000)
+    qn, qe = place(qs, qv)
+    fine = g._grids[0]
+    owner, _ = g._candidates(fine, g._cell(fine, qn, qe))
+    assert owner.size / qn.size < 20.0  # 86 before
+    want = 120.0 + 0.004 * (qn - 6e6) - 0.002 * (qe - 4e5)
+    assert np.allclose(g.elevation(qn, qe), want, atol=1e-9)
+    # inside the U, 700 m from the band: only long faces hold it
+    mid_n, mid_e = np.array([6e6 + 3000.0]), np.array([4e5 + 1500.0])
+    assert g.face_at(mid_n, mid_e)[0] >= 0
+    assert np.allclose(g.elevation(mid_n, mid_e), 120.0 + 0.004 * 3000.0 - 0.002 * 1500.0, atol=1e-9)
