@@ -20,7 +20,7 @@ machine; the figures are the median of each and the median of the pairwise ratio
   ``--stakes`` (1,000,000; 100,000 with ``--quick``); ``--corridor-without-ground``: the same
   corridor without the ground and slope stakes;
 - ``outputs``: the same corridor built in one child process per size with every output's
-  writer timed (``Output.render`` wrapped from here; stakeout's code is not changed) with
+  writer timed (``Output.chunks`` wrapped from here; stakeout's code is not changed) with
   its bytes and the growth of its peak memory, at ``--sizes`` (100000,1000000;
   10000,100000 with ``--quick``), and each output's scaling exponent between the sizes
   (time ~ stakes^k: 1 is linear); an output rendered in another process (were the build to hand
@@ -293,8 +293,27 @@ def _profile_build(job: str, out: str) -> None:
             return value
         return wrapper
 
-    render = outputs.Output.render
-    outputs.Output.render = lambda self, d, done: timed(self.filename, render)(self, d, done)  # type: ignore[method-assign]
+    def timed_pieces(fn):  # an output's pieces: the time spent making each (not writing it), their bytes
+        def wrapper(self, d, done):
+            before = reset()
+            r = rec.setdefault(self.filename, {"s": 0.0, "bytes": 0.0, "mib_over": 0.0})
+            it = iter(fn(self, d, done))
+            while True:
+                t = time.perf_counter()
+                try:
+                    c = next(it)
+                except StopIteration:
+                    r["s"] += time.perf_counter() - t
+                    break
+                r["s"] += time.perf_counter() - t
+                r["bytes"] += len(c)
+                yield c
+            high = vmhwm()
+            top[0] = max(top[0], high)
+            r["mib_over"] = max(r["mib_over"], high - before)
+        return wrapper
+
+    outputs.Output.chunks = timed_pieces(outputs.Output.chunks)  # type: ignore[method-assign]
     pipeline.load_job = timed("(load job)", pipeline.load_job)
     pipeline.build_design = timed("(design)", pipeline.build_design)
     t = time.perf_counter()

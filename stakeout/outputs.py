@@ -9,7 +9,7 @@ here plus its writer.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from importlib import import_module
 from typing import TYPE_CHECKING
@@ -19,7 +19,7 @@ from .errors import JobFileError
 if TYPE_CHECKING:  # pragma: no cover - the registry itself stays light to import
     from .design import Design
 
-__all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "parse_only", "only_help"]
+__all__ = ["Output", "OUTPUTS", "BY_NAME", "Rendered", "Written", "pieces", "whole", "parse_only", "only_help"]
 
 
 class Rendered(dict[str, bytes]):
@@ -43,11 +43,43 @@ class Rendered(dict[str, bytes]):
         return self._parts[k]
 
 
-def _writer(target: str) -> Callable[..., bytes | str]:
+#: What a writer returns: the whole file (bytes, or text written as UTF-8), or its bytes piece by
+#: piece (a generator rendering a page at a time, so that a big file never sits whole in memory).
+Written = bytes | str | Iterable[bytes]
+
+
+def _writer(target: str) -> Callable[..., Written]:
     """The writer named ``"module:function"`` (the module under ``stakeout.writers``), imported now."""
     module, _, function = target.partition(":")
-    fn: Callable[..., bytes | str] = getattr(import_module(f"{__package__}.writers.{module}"), function)
+    fn: Callable[..., Written] = getattr(import_module(f"{__package__}.writers.{module}"), function)
     return fn
+
+
+def pieces(out: Written) -> Iterator[bytes]:
+    """A writer's result as pieces of bytes."""
+    if isinstance(out, str):
+        yield out.encode("utf-8")
+    elif isinstance(out, (bytes, bytearray, memoryview)):
+        yield bytes(out)
+    else:
+        yield from out
+
+
+def whole(out: Written) -> bytes:
+    """A writer's result as the whole file."""
+    if isinstance(out, bytes):
+        return out
+    return b"".join(pieces(out))
+
+
+def _without_header(chunks: Iterator[bytes]) -> Iterator[bytes]:
+    """The pieces of a CSV file after its first line."""
+    for c in chunks:
+        k = c.find(b"\n")
+        if k >= 0:
+            yield c[k + 1:]
+            break
+    yield from chunks
 
 
 @dataclass(frozen=True)
@@ -70,7 +102,7 @@ class Output:
     name: str
     filename: str
     what: str
-    writer: str | Callable[["Design", Rendered], bytes]
+    writer: str | Callable[["Design", Rendered], Written]
     needs_setup: bool = False
     needs_profile: bool = False
     extra: str | None = None
@@ -90,21 +122,34 @@ class Output:
 
     def render(self, design: "Design", done: Rendered) -> bytes:
         """The file's bytes; with several alignments each one's joined into one file."""
+        return whole(self.chunks(design, done))
+
+    def chunks(self, design: "Design", done: Rendered) -> Iterator[bytes]:
+        """The file's bytes piece by piece, as its writer renders them (a writer rendering page by
+        page keeps memory bounded); with several alignments each one's joined into one file, CSV
+        rows and text sheets still piece by piece.
+        """
         if not design.parts or self.several == "whole":
-            return self._render(design, done)
+            yield from self._chunks(design, done)
+            return
+        served = [(k, p) for k, p in enumerate(design.parts) if self.serves(p)]
+        if self.several in ("rows", "sheets"):
+            for j, (k, p) in enumerate(served):
+                c = self._chunks(p, done.part(k))
+                if j and self.several == "sheets":  # each alignment's sheets on a new page
+                    yield b"\f"
+                yield from (_without_header(c) if j and self.several == "rows" else c)
+            return
         from .writers import several
 
-        files = [self._render(p, done.part(k)) for k, p in enumerate(design.parts) if self.serves(p)]
-        join = {"rows": several.csv_rows, "sheets": several.sheets, "pictures": several.svg_sheets,
-                "documents": several.html_documents}[self.several]
-        return join(files)
+        join = {"pictures": several.svg_sheets, "documents": several.html_documents}[self.several]
+        yield join([whole(self._chunks(p, done.part(k))) for k, p in served])
 
-    def _render(self, design: "Design", done: Rendered) -> bytes:
+    def _chunks(self, design: "Design", done: Rendered) -> Iterator[bytes]:
         if not isinstance(self.writer, str):
-            return self.writer(design, done)
+            return pieces(self.writer(design, done))
         fn = _writer(self.writer)
-        out = fn(design, wide=done.wide) if self.wide else fn(design)
-        return out.encode("utf-8") if isinstance(out, str) else out
+        return pieces(fn(design, wide=done.wide) if self.wide else fn(design))
 
 
 def _has_spirals(d: "Design") -> bool:
@@ -118,13 +163,13 @@ def _has_slope_stakes(d: "Design") -> bool:
 def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
     """A file another output is drawn from, rendered once a build."""
     if filename not in done:
-        out = _writer(target)(d)
-        assert isinstance(out, bytes)
-        done[filename] = out
+        done[filename] = whole(_writer(target)(d))
     return done[filename]
 
 
-def _dxf(d: "Design", done: Rendered) -> bytes:
+def _dxf(d: "Design", done: Rendered) -> Written:
+    if "plan.png" not in done.writing:  # nothing is drawn from it: piece by piece, never kept
+        return _writer("dxf:plan_dxf")(d)
     return _once(d, done, "plan.dxf", "dxf:plan_dxf")
 
 
@@ -142,15 +187,11 @@ def _report(d: "Design", done: Rendered) -> bytes:
         sections = html.SectionPictures(lambda limit: sections_picture.report_pictures(d, limit),
                                         "sections.svg" in done.writing,
                                         min(d.earthwork.volume_stations.size, sections_picture.MAX_DRAWN_SECTIONS))
-    out = _writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile, sections)
-    assert isinstance(out, bytes)
-    return out
+    return whole(_writer("html:report_html")(d, _picture(d, done).decode("utf-8"), profile, sections))
 
 
 def _preview(d: "Design", done: Rendered) -> bytes:
-    out = _writer("dxf:plan_png")(_dxf(d, done))
-    assert isinstance(out, bytes)
-    return out
+    return whole(_writer("dxf:plan_png")(_once(d, done, "plan.dxf", "dxf:plan_dxf")))
 
 
 def _nothing(d: "Design", done: Rendered) -> bytes:

@@ -197,22 +197,19 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         if chosen is not None:
             raise JobFileError(f"--only {o.name}: {o.absent}, so there is no {o.filename}")
         outputs.remove(o)
-    written: dict[str, bytes] = {}
     files = [o for o in outputs if o.name != "manifest"]
     done = Rendered(wide, frozenset(o.filename for o in files))
     count = sum(len(p.stakes) for p in d.parts or (d,))
     progress = Progress(len(files) + 1, count)
     progress.step("computed")
     with folder:
-        for o in files:  # per-point CSVs render their chunks on every core
-            data = o.render(d, done)
-            folder.write_bytes(o.filename, data)
-            written[o.filename] = data
+        for o in files:  # written piece by piece as rendered; per-point CSVs render their chunks on every core
+            folder.write_chunks(o.filename, o.chunks(d, done))
             progress.step(o.filename)
         if any(o.name == "manifest" for o in outputs):
             from .writers.manifest import manifest_json  # importlib.metadata: only when a manifest is asked for
 
-            folder.write_bytes("manifest.json", manifest_json(d, str(job_path), written))
+            folder.write_bytes("manifest.json", manifest_json(d, str(job_path), folder.written()))
         folder.commit()
     several = f" on {len(d.parts)} alignments" if d.parts else ""
     notes.insert(0, f"wrote {len(outputs)} file(s) for {count} points{several} to {out}")

@@ -47,16 +47,18 @@ target.
 from __future__ import annotations
 
 import errno
+import hashlib
 import os
 import shutil
 import signal
 import tempfile
 import threading
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
 from contextlib import contextmanager
 from pathlib import Path
 from types import TracebackType
+from typing import BinaryIO, Callable
 
 from ..errors import OutputError
 
@@ -92,6 +94,41 @@ class InterruptedAfterCommit(KeyboardInterrupt):
         self.target = target
         self.remains = remains
         self.signum = signum
+
+
+#: Pieces of a file rendered but not yet written that may wait in memory (:meth:`OutputFolder.write_chunks`).
+IN_FLIGHT = 8
+
+
+class _File:
+    """One output file being written by the background thread: its handle, hash and size."""
+
+    def __init__(self, path: Path, name: str) -> None:
+        self.path = path
+        self.name = name
+        self.sha256 = hashlib.sha256()
+        self.size = 0
+        self._fh: "BinaryIO | None" = None
+
+    def open(self) -> None:
+        self._fh = open(self.path, "wb")
+
+    def append(self, data: bytes) -> None:
+        if self._fh is None:  # its open failed, and said so
+            return
+        self._fh.write(data)
+        self.sha256.update(data)
+        self.size += len(data)
+
+    def close(self) -> None:
+        if self._fh is None:
+            return
+        fh, self._fh = self._fh, None
+        try:
+            fh.flush()
+            os.fsync(fh.fileno())
+        finally:
+            fh.close()
 
 
 def committed_targets() -> tuple[Path, ...]:
@@ -243,6 +280,7 @@ class OutputFolder:
         self.removed_remains: list[Path] = []
         self._writer: ThreadPoolExecutor | None = None  # writes files while the next output renders
         self._pending: list[Future[None]] = []
+        self._files: dict[str, _File] = {}  # what is written, with its hash and size once written
         self._check_protected(protect)
         self.litter_notes: list[str] = []
         self._clean_litter()
@@ -401,10 +439,35 @@ class OutputFolder:
         write and raises the first failure (:class:`OutputError`), as does
         the next call here.
         """
+        self.write_chunks(name, (data,))
+
+    def write_chunks(self, name: str, chunks: Iterable[bytes]) -> None:
+        """Write one file given piece by piece (a writer rendering page by page), so that no
+        more than :data:`IN_FLIGHT` pieces wait in memory: each piece is written, hashed and
+        finally flushed to disk by the background thread while the next is rendered. Errors
+        as :meth:`write_bytes`; :meth:`written` gives each file's hash and size.
+        """
         self._raise_failed()
         if self._writer is None:
             self._writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="stakeout-write")
-        self._pending.append(self._writer.submit(self._write_now, name, data))
+        f = self._files[name] = _File(self.path(name), name)
+        self._submit(f, f.open)
+        for c in chunks:
+            if c:
+                self._submit(f, f.append, c)
+        self._submit(f, f.close)
+
+    def _submit(self, f: "_File", fn: Callable[..., None], *args: bytes) -> None:
+        assert self._writer is not None
+        self._pending.append(self._writer.submit(self._guarded, f, fn, *args))
+        while len(self._pending) > IN_FLIGHT:  # the oldest piece first: the writer is one thread, in order
+            self._pending.pop(0).result()
+
+    def _guarded(self, f: "_File", fn: Callable[..., None], *args: bytes) -> None:
+        try:
+            fn(*args)
+        except OSError as exc:
+            raise OutputError(f"{self.option} {str(self.target)!r}: cannot write {f.name} ({exc.strerror})") from None
 
     def _raise_failed(self, wait: bool = False) -> None:
         """Raise the error of a finished write (``wait``: wait for them all first)."""
@@ -413,14 +476,10 @@ class OutputFolder:
                 self._pending.remove(f)
                 f.result()
 
-    def _write_now(self, name: str, data: bytes) -> None:
-        try:
-            with open(self.path(name), "wb") as fh:
-                fh.write(data)
-                fh.flush()
-                os.fsync(fh.fileno())
-        except OSError as exc:
-            raise OutputError(f"{self.option} {str(self.target)!r}: cannot write {name} ({exc.strerror})") from None
+    def written(self) -> dict[str, tuple[str, int]]:
+        """Every file written so far: name -> (SHA-256 in hex, bytes), once all are on disk."""
+        self._raise_failed(wait=True)
+        return {name: (f.sha256.hexdigest(), f.size) for name, f in self._files.items()}
 
     def commit(self) -> None:
         """Move the finished folder into place (replacing the old one with force).

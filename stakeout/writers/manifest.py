@@ -6,7 +6,6 @@ package metadata, so writing the manifest imports nothing heavy.
 
 from __future__ import annotations
 
-import hashlib
 import json
 from datetime import datetime, timezone
 from importlib import metadata
@@ -25,8 +24,8 @@ def _version(dist: str) -> str | None:
         return None
 
 
-def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
-    """Render the manifest for the given outputs (name -> file bytes)."""
+def manifest_json(d: Design, job_path: str, outputs: dict[str, tuple[str, int]]) -> bytes:
+    """Render the manifest for the given outputs (name -> (SHA-256 in hex, bytes))."""
     info = d.job.info
     job_sha256, job_name, units, crs = d.job.sha256, info.name, info.unit.key, info.crs
     factors = d.factors.as_dict()
@@ -51,8 +50,8 @@ def manifest_json(d: Design, job_path: str, outputs: dict[str, bytes]) -> bytes:
             "ezdxf": _version("ezdxf"),
         },
         "outputs": {
-            name: {"sha256": hashlib.sha256(data).hexdigest(), "bytes": len(data)}
-            for name, data in sorted(outputs.items())
+            name: {"sha256": digest, "bytes": size}
+            for name, (digest, size) in sorted(outputs.items())
         },
     }
     sd = d.setup

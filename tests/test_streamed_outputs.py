@@ -1,0 +1,61 @@
+"""Outputs are written piece by piece as their writers render them, never held whole.
+
+The manifest's hashes are checked against hashlib over the files on disk (Python's
+standard library, outside the project).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import json
+import tracemalloc
+from pathlib import Path
+
+from stakeout import outputs, pipeline
+
+SAMPLE = Path(__file__).resolve().parent.parent / "sample_jobs" / "loop_ramp_usft.toml"
+PIECE = 1 << 20
+PIECES = 48
+
+
+def _big(design, done):  # a writer rendering 48 MiB a page at a time
+    for k in range(PIECES):
+        yield bytes([65 + k % 26]) * PIECE
+
+
+def test_every_output_was_held_in_memory_until_the_build_ended(tmp_path, monkeypatch):
+    """Regression: the build kept every output's bytes until the manifest was written (about 600 MB
+    of a 1M-stake corridor's), and each writer returned its whole file. Now a writer may give its
+    file in pieces, each written and hashed as it comes, and nothing is kept."""
+    swapped = tuple(dataclasses.replace(o, writer=_big) if o.name == "points" else o for o in outputs.OUTPUTS)
+    monkeypatch.setattr(pipeline, "OUTPUTS", swapped)
+    tracemalloc.start()
+    try:
+        pipeline.run_build(SAMPLE, tmp_path / "out", "points,manifest")
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    assert peak < 16 * PIECE  # pieces in flight, not the 48 MiB file
+    data = (tmp_path / "out" / "points.csv").read_bytes()
+    assert len(data) == PIECES * PIECE
+    assert data[:PIECE] == b"A" * PIECE and data[-PIECE:] == bytes([65 + (PIECES - 1) % 26]) * PIECE
+    m = json.loads((tmp_path / "out" / "manifest.json").read_text())
+    assert m["outputs"]["points.csv"] == {"sha256": hashlib.sha256(data).hexdigest(), "bytes": len(data)}
+
+
+def test_pieces_and_whole_give_the_same_file(tmp_path):
+    """A default build's files equal each output rendered whole (``Output.render``), and the
+    manifest's hashes equal hashlib's over the files written."""
+    notes = pipeline.run_build(SAMPLE, tmp_path / "out")
+    assert notes
+    d = pipeline.compute(SAMPLE)
+    done = outputs.Rendered()
+    m = json.loads((tmp_path / "out" / "manifest.json").read_text())
+    for name, got in m["outputs"].items():
+        data = (tmp_path / "out" / name).read_bytes()
+        assert got == {"sha256": hashlib.sha256(data).hexdigest(), "bytes": len(data)}, name
+    for o in outputs.OUTPUTS:
+        f = tmp_path / "out" / o.filename
+        if f.exists() and o.name != "manifest":  # the manifest holds the time it was made
+            assert o.render(d, done) == f.read_bytes(), o.filename
