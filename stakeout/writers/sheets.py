@@ -10,6 +10,7 @@ gives the same bytes.
 from __future__ import annotations
 
 import textwrap
+from collections.abc import Iterator
 
 import numpy as np
 from numpy.typing import NDArray
@@ -21,12 +22,12 @@ from ..precision import R95_FACTOR
 from ..presentation import AT_INSTRUMENT_NOTE, DEFLECTION_HEADERS, FLAG, SETOUT_HEADERS
 from ..setout import AT_INSTRUMENT, DEFAULT_FACTOR_NOTE, ScaleInfo
 from .sections import slope_column
-from .text import (WIDE, WIDTH, Cells, Coded, Column, FieldColumn, FieldTable, Formatted, Records, Same, SheetPart,
+from .text import (WIDE, WIDTH, Cells, Coded, Column, FieldColumn, FieldTable, Formatted, Same, SheetPart,
                    Stacked, Texts, dms_format, fixed_format, clip, curve_lines, deflection_origin, deflection_title, fixed,
-                   header_lines, offset_side, paged_bytes, setout_fields, station_labels, table_lines, table_records,
+                   header_lines, offset_side, paged_pieces, setout_fields, station_labels, table_lines, TableRecords,
                    vertical_note, warning_lines, wrap_lines)
 
-__all__ = ["setout_sheet", "deflection_sheet"]
+__all__ = ["setout_sheet", "setout_pieces", "deflection_sheet", "deflection_pieces"]
 
 
 def _point_lines(o: Occupation, setup: Setup, scale: ScaleInfo, inst: bool = True) -> list[str]:
@@ -152,7 +153,12 @@ def _widths(wide: bool) -> tuple[int, int | None]:
 
 
 def setout_sheet(d: Design, wide: bool = False) -> bytes:
-    """Render ``setout.txt``.
+    """``setout.txt`` whole (:func:`setout_pieces` joined)."""
+    return b"".join(setout_pieces(d, wide))
+
+
+def setout_pieces(d: Design, wide: bool = False) -> Iterator[bytes]:
+    """Render ``setout.txt``, a run of pages at a time (:func:`~stakeout.writers.text.paged_pieces`).
 
     One setup given inline: the setup in the header, then the stakes.
     Setups from control points or several: the header and a summary of the
@@ -181,7 +187,7 @@ def setout_sheet(d: Design, wide: bool = False) -> bytes:
     head += _instrument_lines(d)
     page, table = _widths(wide)
     stakes = _stake_table(d, table)
-    return paged_bytes(head, [SheetPart([], stakes.heads(), table_records(stakes, _all(len(d.stakes))))],
+    return paged_pieces(head, [SheetPart([], stakes.heads(), TableRecords(stakes, _all(len(d.stakes))))],
                        f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
@@ -262,7 +268,7 @@ def _setups_head(d: Design) -> tuple[list[str], bool]:
     return head, auto_factor
 
 
-def _sectioned_sheet(d: Design, wide: bool) -> bytes:
+def _sectioned_sheet(d: Design, wide: bool) -> Iterator[bytes]:
     """``setout.txt`` with a setup summary and one section per setup."""
     assert d.setup is not None
     job, sdes = d.job, d.setup
@@ -295,15 +301,17 @@ def _sectioned_sheet(d: Design, wide: bool) -> bytes:
         sh.append(line)
         parts.append(SheetPart(sh, cols, _records(stakes, idx),
                                f"setup {o.number} of {n} (occupied {o.occupied.id}), continued"))
-    return paged_bytes(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
+    return paged_pieces(head, parts, f"{title}   {job.info.name}", _stake_foot(d), width=page)
 
 
-def _records(stakes: FieldTable, idx: NDArray[np.intp]) -> list[str] | Records:
-    """A setup's records: its stakes' (``idx``), or the line saying it has none."""
-    return table_records(stakes, idx) if idx.size else ["(no stakes)"]
+def _records(stakes: FieldTable, idx: NDArray[np.intp]) -> list[str] | TableRecords:
+    """A setup's records: its stakes' (``idx``, laid out as their pages are written), or the line
+    saying it has none.
+    """
+    return TableRecords(stakes, idx) if idx.size else ["(no stakes)"]
 
 
-def _several_sheet(d: Design, wide: bool) -> bytes:
+def _several_sheet(d: Design, wide: bool) -> Iterator[bytes]:
     """``setout.txt`` of a job with several alignments: the setups serve every alignment, so one
     summary and one section per setup holding its stakes of every alignment (point order within
     each alignment, the alignments in job order), an ``alignment`` column naming each stake's.
@@ -382,11 +390,16 @@ def _several_sheet(d: Design, wide: bool) -> bytes:
     foot.append("")
     for p in parts:
         foot += [f"ALIGNMENT {p.alignment.name}"] + curve_lines(p) + [""]
-    return paged_bytes(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
+    return paged_pieces(head, sections, f"{title}   {d.job.info.name}", foot, width=page)
 
 
 def deflection_sheet(d: Design, wide: bool = False) -> bytes:
-    """Render ``deflections.txt``: deflection angles and chords from the curve points.
+    """``deflections.txt`` whole (:func:`deflection_pieces` joined)."""
+    return b"".join(deflection_pieces(d, wide))
+
+
+def deflection_pieces(d: Design, wide: bool = False) -> Iterator[bytes]:
+    """Render ``deflections.txt`` a run of pages at a time: deflection angles and chords from the curve points.
 
     Each curve element opens with a line of its data, kept on the page of
     its first row; lines of at most :data:`WIDTH` characters (``wide``:
@@ -433,7 +446,7 @@ def deflection_sheet(d: Design, wide: bool = False) -> bytes:
                            Formatted(v[:, 4], fixed_format(4)), Formatted(360.0 - defl, dms_format(False), ~left)]
     table = FieldTable([FieldColumn(h[0], cells) for h, cells in zip(DEFLECTION_HEADERS, values)], table_width)
     heads = table.heads()
-    out = table_records(table, _all(count), titles) if count else ["(the alignment has no curves)"]
+    out = TableRecords(table, _all(count), titles) if count else ["(the alignment has no curves)"]
     foot = ["length: along the curve from its start; chord: from the start;",
             "sub-chord: from the row above",
             "arcs: deflection = s / 2R from the tangent at the start; chord = 2R sin(s / 2R)",
@@ -450,4 +463,4 @@ def deflection_sheet(d: Design, wide: bool = False) -> bytes:
         foot.append("deflection = atan(y / x), chord = hypot(x, y), (x, y) the point on the clothoid")
     foot.append("")
     foot += curve_lines(d)
-    return paged_bytes(head, [SheetPart([], heads, out)], f"{title}   {job.info.name}", foot, width=page)
+    return paged_pieces(head, [SheetPart([], heads, out)], f"{title}   {job.info.name}", foot, width=page)

@@ -9,9 +9,10 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 from __future__ import annotations
 
 import bisect
+import dataclasses
 import math
 from array import array
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
@@ -36,7 +37,8 @@ __all__ = [
     "texts_of", "SheetPart", "spiral_line", "end_radii", "WIDE", "Column", "table_lines", "row_lines",
     # tables from whole columns (long tables: the setout and deflection sheets)
     "Cells", "Texts", "Coded", "Formatted", "Joined", "Same", "Stacked", "station_labels", "FieldColumn",
-    "FieldTable", "Block", "Records", "table_records", "paged_bytes", "fixed_format", "dms_format", "setout_fields",
+    "FieldTable", "Block", "Records", "TableRecords", "table_records", "paged_bytes", "paged_pieces",
+    "PIECE_LINES", "fixed_format", "dms_format", "setout_fields",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -473,7 +475,7 @@ class SheetPart:
 
     head: list[str]
     columns: list[str]
-    rows: list[str] | Records
+    rows: list[str] | Records | TableRecords
     continued: str = ""
     new_page: bool = True
 
@@ -498,21 +500,33 @@ def paged_parts(head: list[str], parts: list[SheetPart], title: str, foot: list[
 
 
 def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[str], width: int = WIDTH) -> bytes:
-    """A printable sheet of several tables (:class:`SheetPart`), as UTF-8.
+    """A printable sheet of several tables (:class:`SheetPart`), as UTF-8: :func:`paged_pieces` joined."""
+    return b"".join(paged_pieces(head, parts, title, foot, width))
+
+
+#: Lines of a sheet given at once by :func:`paged_pieces` (whole pages; about 1 to 2 MiB).
+PIECE_LINES = 16384
+
+
+def paged_pieces(head: list[str], parts: list[SheetPart], title: str, foot: list[str],
+                 width: int = WIDTH) -> Iterator[bytes]:
+    """A printable sheet of several tables (:class:`SheetPart`), as UTF-8, a run of pages
+    (about :data:`PIECE_LINES` lines) at a time.
 
     The first page opens with ``head`` and the first part's head; every
     later part opens a page with its own head (or follows on the page in
     hand, see :class:`SheetPart`); a part's records run on over pages opened
     by its ``continued`` line, the column header repeated on each.  No page
     holds more than :data:`PAGE_LINES` lines and no record is split; pages
-    are numbered through the whole sheet and split by a form feed; the foot
-    and the cautions close it (on a page of their own when the last is
-    full).  Head and foot lines wider than ``width`` (or the widest table
-    line, where wider) are wrapped, the page titles cut.  The pages are laid
-    out from each record's count of lines, and the records' text (a part's
-    :class:`Records`) is joined only then.
+    are numbered through the whole sheet ("page k of N") and split by a form
+    feed; the foot and the cautions close it (on a page of their own when the
+    last is full).  Head and foot lines wider than ``width`` (or the widest
+    table line, where wider) are wrapped, the page titles cut.  Every page is
+    laid out first from each record's count of lines (and the widest line);
+    the records' text (a part's :class:`Records`, or its
+    :class:`TableRecords` laid out only now) is joined a run of pages at a time.
     """
-    recs = [p.rows if isinstance(p.rows, Records) else Records.of_texts(p.rows) for p in parts]
+    recs = [p.rows if isinstance(p.rows, (Records, TableRecords)) else Records.of_texts(p.rows) for p in parts]
     table = [len(line) for p in parts for line in p.columns] + [int(r.widest.max()) for r in recs if r.widest.size]
     width = max([width] + table)
     head = wrap_lines(head, width)
@@ -573,14 +587,13 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
     else:  # on pages of their own (a foot longer than a page runs on)
         for i in range(0, len(closing), PAGE_LINES - 1):
             pages.append(["{title}", *closing[i:i + PAGE_LINES - 1]])
+            counts.append(len(pages[-1]))
     total = len(pages)
-    out: list[bytes | memoryview] = []
+    out: list[bytes | memoryview | tuple[int, int, int]] = []
+    held = 0  # lines in ``out``
     for n, items in enumerate(pages, start=1):
         for i, line in enumerate(items):
-            if isinstance(line, tuple):
-                out.append(recs[line[0]].text(line[1], line[2]))
-                continue
-            if isinstance(line, bytes):
+            if isinstance(line, (tuple, bytes)):
                 out.append(line)
                 continue
             if line == "{title}":
@@ -588,7 +601,23 @@ def paged_bytes(head: list[str], parts: list[SheetPart], title: str, foot: list[
             elif line == "page {page} of {pages}":
                 line = f"page {n} of {total}"
             out.append(line.encode("utf-8") + b"\n")
-    return b"".join(out)
+        held += counts[n - 1]
+        if held >= PIECE_LINES or n == total:
+            yield _joined(out, recs)
+            out, held = [], 0
+
+
+def _joined(out: list[bytes | memoryview | tuple[int, int, int]], recs: list[Records | TableRecords]) -> bytes:
+    """Lines and runs of records (part, first, stop) as bytes: each part's records of the run laid out at once."""
+    span: dict[int, tuple[int, int]] = {}
+    for x in out:
+        if isinstance(x, tuple):
+            k, a, b = x
+            lo, hi = span.get(k, (a, b))
+            span[k] = (min(lo, a), max(hi, b))
+    laid = {k: (a, recs[k].part(a, b)) for k, (a, b) in span.items()}
+    return b"".join(laid[x[0]][1].text(x[1] - laid[x[0]][0], x[2] - laid[x[0]][0]) if isinstance(x, tuple) else x
+                    for x in out)
 
 
 # ---- tables from whole columns -------------------------------------------------------------
@@ -920,6 +949,17 @@ class FieldColumn:
             return out, _ink_end(out)
         return out, np.where(nb > 0, width, 0) if right else nb.astype(np.int64)
 
+    def ink(self, which: NDArray[np.intp]) -> NDArray[np.int64]:
+        """Where the text of rows ``which`` ends once padded (:meth:`aligned`'s second value),
+        without padding them: a clean ASCII column's text is one run at its side.
+        """
+        f = self.cells.field(which)
+        if not self.cells.clean or (f.size and int(f.max()) >= 0x80):
+            return self.aligned(which)[1]
+        nb = np.count_nonzero(f, axis=1).astype(np.int64)
+        out: NDArray[np.int64] = np.where(nb > 0, self.width, 0) if self.align == ">" else nb
+        return out
+
     def _scattered(self, f: rows.Field) -> rows.Field:
         """Any field padded with spaces to the column's width, its text moved to one run
         (NUL padding anywhere; UTF-8 counted by characters).
@@ -971,6 +1011,27 @@ class FieldTable:
         return [((ind if k else "") + " ".join(c.cell(c.header) for c in cols)).rstrip()
                 for k, cols in enumerate(self.packed)]
 
+    @cached_property
+    def places(self) -> list[list[tuple[int, FieldColumn]]]:
+        """Where each cell of each line starts in it, in characters (in bytes too where every
+        text is ASCII; the widths are the whole column's, the same for every block of records).
+        """
+        out = []
+        for k, cols in enumerate(self.packed):
+            pos = self.indent if k else 0
+            at = []
+            for j, c in enumerate(cols):
+                pos += 1 if j else 0
+                at.append((pos, c))
+                pos += c.width
+            out.append(at)
+        return out
+
+    @property
+    def ascii(self) -> bool:
+        """Whether every text of the table is ASCII (one byte a character)."""
+        return all(c.ascii for c in self.columns)
+
     def block(self, which: NDArray[np.intp]) -> Block:
         """The records of rows ``which``.
 
@@ -980,7 +1041,6 @@ class FieldTable:
         of the whole block at once (``"\\n".join(lines).rstrip()`` of each record).
         """
         m = which.size
-        ascii = all(c.ascii for c in self.columns)
         mats: list[rows.Field] = []  # every line's cells, then a newline column
         spans: list[int] = []  # bytes of each line
         ends: list[NDArray[np.int64]] = []  # where each line's ink ends (bytes)
@@ -994,23 +1054,19 @@ class FieldTable:
                 if j:
                     mats.append(rows.const(" ", m))
                     pos += 1
-                cell, ink = c.aligned(which)
+                cell, ink = c.aligned(which)  # text in other scripts: wider in bytes than the column
                 end = np.where(ink > 0, pos + ink, end)
                 pos += cell.shape[1]
                 mats.append(cell)
             mats.append(rows.const("\n", m))
             spans.append(pos)
             ends.append(end)
-        last = np.stack(ends, axis=1)
-        used = last > 0
-        # the empty lines after the last that is not are dropped; a record has at least one line
-        count = np.maximum(1, np.where(used.any(axis=1), len(ends) - np.argmax(used[:, ::-1], axis=1), 0))
+        last, count, size = _record_lines(ends)
         keep = np.hstack([x for k, (span, end) in enumerate(zip(spans, ends))  # each line to its ink, a newline
                           for x in (np.arange(span)[None, :] < end[:, None], (count > k)[:, None])])
         whole = np.hstack([np.broadcast_to(f, (m, f.shape[1])) for f in mats])
         chars = last
-        size = (last * (np.arange(len(ends))[None, :] < count[:, None])).sum(axis=1) + count
-        if not ascii:  # text in other scripts: its padding stays NUL
+        if not self.ascii:  # text in other scripts: its padding stays NUL
             keep &= whole != 0
             lead = keep & ((whole & 0xC0) != 0x80)
             at = np.cumsum([0] + [n + 1 for n in spans])
@@ -1018,6 +1074,36 @@ class FieldTable:
             size = keep.sum(axis=1)
         return Block(whole[keep].tobytes(), size.astype(np.int64), count.astype(np.int64),
                      chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
+
+    def measure(self, which: NDArray[np.intp]) -> Block:
+        """The records of rows ``which`` as :meth:`block` lays them out, without their bytes
+        (``data`` empty): each one's size, lines, first and widest line, found from where each
+        cell's text ends (ASCII tables; others are laid out whole).
+        """
+        if not self.ascii:
+            return dataclasses.replace(self.block(which), data=b"")
+        ends = []
+        for at in self.places:
+            end = np.zeros(which.size, dtype=np.int64)
+            for pos, c in at:
+                ink = c.ink(which)
+                end = np.where(ink > 0, pos + ink, end)
+            ends.append(end)
+        last, count, size = _record_lines(ends)
+        return Block(b"", size.astype(np.int64), count.astype(np.int64), last[:, 0].astype(np.int64),
+                     last.max(axis=1).astype(np.int64))
+
+
+def _record_lines(ends: list[NDArray[np.int64]]) -> tuple[NDArray[np.int64], NDArray[np.int64], NDArray[np.int64]]:
+    """From where each line's ink ends (bytes, 0: none), each record's ends (one column a line),
+    its lines (the empty ones after its last that is not dropped, at least one) and its bytes
+    (ASCII: each line to its ink and a newline).
+    """
+    last = np.stack(ends, axis=1)
+    used = last > 0
+    count = np.maximum(1, np.where(used.any(axis=1), len(ends) - np.argmax(used[:, ::-1], axis=1), 0))
+    size = (last * (np.arange(len(ends))[None, :] < count[:, None])).sum(axis=1) + count
+    return last, count, size
 
 
 def _ink_end(cell: rows.Field) -> NDArray[np.int64]:
@@ -1036,7 +1122,7 @@ class Records:
     each record its lines, its first line's and its widest line's characters.
     """
 
-    data: bytes | bytearray
+    data: bytes | bytearray | memoryview
     ends: NDArray[np.int64]
     lines: NDArray[np.int64]
     first: NDArray[np.int64]
@@ -1056,6 +1142,25 @@ class Records:
         """The bytes of records ``a:b``."""
         return memoryview(self.data)[int(self.ends[a]):int(self.ends[b])]
 
+    def part(self, a: int, b: int) -> Records:
+        """Records ``a:b`` (their bytes not copied)."""
+        return Records(self.text(a, b), self.ends[a:b + 1] - self.ends[a], self.lines[a:b], self.first[a:b],
+                       self.widest[a:b])
+
+
+def _titled(blk: Block, titles: list[tuple[int, list[str]]]) -> None:
+    """Each of ``titles`` (a record's place in ``blk``, the lines opening it) counted in its record."""
+    for k, lines in titles:
+        blk.size[k] += len(("\n".join(lines) + "\n").encode("utf-8"))
+        blk.lines[k] += len(lines)
+        blk.first[k] = len(lines[0])
+        blk.widest[k] = max([int(blk.widest[k])] + [len(x) for x in lines])
+
+
+def _inside(titles: dict[int, list[str]], keys: NDArray[np.int64], a: int, b: int) -> list[tuple[int, list[str]]]:
+    """The titles of records ``a:b`` (``keys``: every title's record, sorted), by place from ``a``."""
+    return [(k - a, titles[k]) for k in keys[np.searchsorted(keys, a):np.searchsorted(keys, b)].tolist()]
+
 
 def table_records(table: FieldTable, which: NDArray[np.intp],
                   titles: dict[int, list[str]] | None = None) -> Records:
@@ -1068,20 +1173,15 @@ def table_records(table: FieldTable, which: NDArray[np.intp],
     size, lines, first, widest = [], [], [], []
     for a in range(0, which.size, _BLOCK):
         blk = table.block(which[a:a + _BLOCK])
-        b = a + blk.lines.size
-        inside = keys[(keys >= a) & (keys < b)].tolist()
+        inside = _inside(titles, keys, a, a + blk.lines.size)
         if inside:  # each title before its record
             ends = np.concatenate([[0], np.cumsum(blk.size)]).tolist()
             at = 0
-            for k in inside:
-                head = ("\n".join(titles[k]) + "\n").encode("utf-8")
-                data += blk.data[at:ends[k - a]] + head
-                at = ends[k - a]
-                blk.size[k - a] += len(head)
-                blk.lines[k - a] += len(titles[k])
-                blk.first[k - a] = len(titles[k][0])
-                blk.widest[k - a] = max([int(blk.widest[k - a])] + [len(x) for x in titles[k]])
+            for k, head in inside:
+                data += blk.data[at:ends[k]] + ("\n".join(head) + "\n").encode("utf-8")
+                at = ends[k]
             data += blk.data[at:]
+            _titled(blk, inside)
         else:
             data += blk.data
         size.append(blk.size)
@@ -1091,6 +1191,33 @@ def table_records(table: FieldTable, which: NDArray[np.intp],
     none = [np.zeros(0, dtype=np.int64)]
     return Records(data, np.concatenate([[0], np.cumsum(np.concatenate(size or none))]).astype(np.int64),
                    np.concatenate(lines or none), np.concatenate(first or none), np.concatenate(widest or none))
+
+
+class TableRecords:
+    """The records of ``table``'s rows ``which`` (with ``titles``, as :func:`table_records`) for
+    :func:`paged_pieces`, laid out only when asked for (:meth:`part`): a sheet of a million stakes
+    keeps each record's count of lines, first and widest line's characters, never its text.
+    """
+
+    def __init__(self, table: FieldTable, which: NDArray[np.intp], titles: dict[int, list[str]] | None = None):
+        self.table, self.which, self.titles = table, which, titles or {}
+        self.keys = np.array(sorted(self.titles), dtype=np.int64)
+        lines, first, widest = [], [], []
+        for a in range(0, which.size, _BLOCK):
+            blk = table.measure(which[a:a + _BLOCK])
+            _titled(blk, _inside(self.titles, self.keys, a, a + blk.lines.size))
+            lines.append(blk.lines)
+            first.append(blk.first)
+            widest.append(blk.widest)
+        none = [np.zeros(0, dtype=np.int64)]
+        self.lines: NDArray[np.int64] = np.concatenate(lines or none)
+        self.first: NDArray[np.int64] = np.concatenate(first or none)
+        self.widest: NDArray[np.int64] = np.concatenate(widest or none)
+
+    def part(self, a: int, b: int) -> Records:
+        """Records ``a:b``, laid out now."""
+        return table_records(self.table, self.which[a:b], dict(_inside(self.titles, self.keys, a, b)))
+
 
 def fixed_format(decimals: int) -> Callable[[NDArray[np.float64]], rows.Field]:
     """A block formatter of numbers to ``decimals`` (:func:`rows.fixed`)."""
