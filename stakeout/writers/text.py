@@ -648,6 +648,9 @@ class Cells(Protocol):
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which`` (indices)."""
 
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text (found without laying the texts out)."""
+
 
 @dataclass(frozen=True)
 class Texts:
@@ -681,6 +684,11 @@ class Texts:
         """The texts of rows ``which``."""
         return self.strings.field(which)
 
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text."""
+        out: NDArray[np.bool_] = self.strings.lens[which] > 0
+        return out
+
 
 @dataclass(frozen=True)
 class Coded:
@@ -708,12 +716,16 @@ class Coded:
         """The texts of rows ``which``."""
         return self.words.field(self.codes[which])
 
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text."""
+        return self.words.filled(self.codes[which])
+
 
 @dataclass(frozen=True)
 class Formatted:
     """Numbers formatted a block at a time by ``format`` (a :mod:`rows` formatter of finite
-    values), empty where ``empty``; a non-finite value not empty prints as Python prints it
-    (``nan``), as :func:`fixed` does.
+    values, giving each some text), empty where ``empty``; a non-finite value not empty prints
+    as Python prints it (``nan``), as :func:`fixed` does.
     """
 
     values: NDArray[np.float64]
@@ -753,6 +765,13 @@ class Formatted:
             f = out
         return f
 
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text: every one not ``empty``."""
+        if self.empty is None:
+            return np.ones(np.asarray(which).size, dtype=bool)
+        out: NDArray[np.bool_] = ~self.empty[which]
+        return out
+
 
 @dataclass(frozen=True)
 class Joined:
@@ -778,6 +797,11 @@ class Joined:
     def field(self, which: NDArray[np.intp]) -> rows.Field:
         """The texts of rows ``which``."""
         return np.hstack([p.field(which) for p in self.parts])
+
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text (in any of its parts)."""
+        out: NDArray[np.bool_] = np.logical_or.reduce([p.filled(which) for p in self.parts])
+        return out
 
 
 @dataclass(frozen=True)
@@ -806,6 +830,10 @@ class Same:
         """The texts of rows ``which``."""
         b = np.frombuffer(self.text.encode("utf-8"), dtype=np.uint8)
         return np.ascontiguousarray(np.broadcast_to(b, (np.asarray(which).size, b.size)))
+
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text: all or none."""
+        return np.full(np.asarray(which).size, bool(self.text), dtype=bool)
 
 
 @dataclass(frozen=True)
@@ -843,6 +871,16 @@ class Stacked:
         out = np.zeros((which.size, max([0] + [f.shape[1] for _, f in fields])), dtype=np.uint8)
         for k, f in fields:
             out[part == k, :f.shape[1]] = f
+        return out
+
+    def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
+        """Whether each of rows ``which`` has any text."""
+        which = np.asarray(which, dtype=np.intp)
+        part = np.searchsorted(self.starts, which, side="right") - 1
+        out = np.zeros(which.size, dtype=bool)
+        for k, p in enumerate(self.parts):
+            if (part == k).any():
+                out[part == k] = p.filled(which[part == k] - self.starts[k])
         return out
 
 
@@ -951,14 +989,16 @@ class FieldColumn:
 
     def ink(self, which: NDArray[np.intp]) -> NDArray[np.int64]:
         """Where the text of rows ``which`` ends once padded (:meth:`aligned`'s second value),
-        without padding them: a clean ASCII column's text is one run at its side.
+        without padding them: a clean ASCII column's text is one run at its side (right-aligned:
+        ending at the column's width wherever there is any, found without laying it out).
         """
-        f = self.cells.field(which)
-        if not self.cells.clean or (f.size and int(f.max()) >= 0x80):
+        if not (self.cells.clean and self.cells.ascii):
             return self.aligned(which)[1]
-        nb = np.count_nonzero(f, axis=1).astype(np.int64)
-        out: NDArray[np.int64] = np.where(nb > 0, self.width, 0) if self.align == ">" else nb
-        return out
+        if self.align == ">":  # whether each row has text is enough
+            right: NDArray[np.int64] = np.where(self.cells.filled(which), self.width, 0)
+            return right
+        left: NDArray[np.int64] = np.count_nonzero(self.cells.field(which), axis=1).astype(np.int64)
+        return left
 
     def _scattered(self, f: rows.Field) -> rows.Field:
         """Any field padded with spaces to the column's width, its text moved to one run
