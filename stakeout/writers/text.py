@@ -538,7 +538,7 @@ def paged_pieces(head: list[str], parts: list[SheetPart], title: str, foot: list
         columns = [c.rstrip() for c in part.columns]
         part_head = wrap_lines(part.head, width)
         n = int(rec.lines.size)
-        cum = array("q", np.concatenate([[0], np.cumsum(rec.lines)]).astype(np.int64).tobytes())  # lines before each
+        cum = _cumulative(rec.lines)  # lines before each record
         ruled = max([0] + [len(c) for c in columns] + ([int(rec.first.max())] if n else []))
         rules = ["-" * ruled] if columns else []  # as wide as the header and the rows; plain lines have none
         # a continuation page: its title, then these lines, its records and the closing rule
@@ -605,6 +605,13 @@ def paged_pieces(head: list[str], parts: list[SheetPart], title: str, foot: list
         if held >= PIECE_LINES or n == total:
             yield _joined(out, recs)
             out, held = [], 0
+
+
+def _cumulative(lines: NDArray[np.integer[Any]]) -> array[int]:
+    """The lines before each record and after the last, for :func:`bisect.bisect_right` (summed in place)."""
+    out = array("q", [0]) * (lines.size + 1)
+    np.cumsum(lines, out=np.frombuffer(out, dtype=np.int64)[1:])
+    return out
 
 
 def _joined(out: list[bytes | memoryview | tuple[int, int, int]], recs: list[Records | TableRecords]) -> bytes:
@@ -1236,23 +1243,21 @@ def table_records(table: FieldTable, which: NDArray[np.intp],
 class TableRecords:
     """The records of ``table``'s rows ``which`` (with ``titles``, as :func:`table_records`) for
     :func:`paged_pieces`, laid out only when asked for (:meth:`part`): a sheet of a million stakes
-    keeps each record's count of lines, first and widest line's characters, never its text.
+    keeps each record's count of lines, first and widest line's characters (12 bytes), never its
+    text.
     """
 
     def __init__(self, table: FieldTable, which: NDArray[np.intp], titles: dict[int, list[str]] | None = None):
         self.table, self.which, self.titles = table, which, titles or {}
         self.keys = np.array(sorted(self.titles), dtype=np.int64)
-        lines, first, widest = [], [], []
+        self.lines = np.zeros(which.size, dtype=np.int32)
+        self.first = np.zeros(which.size, dtype=np.int32)
+        self.widest = np.zeros(which.size, dtype=np.int32)
         for a in range(0, which.size, _BLOCK):
             blk = table.measure(which[a:a + _BLOCK])
             _titled(blk, _inside(self.titles, self.keys, a, a + blk.lines.size))
-            lines.append(blk.lines)
-            first.append(blk.first)
-            widest.append(blk.widest)
-        none = [np.zeros(0, dtype=np.int64)]
-        self.lines: NDArray[np.int64] = np.concatenate(lines or none)
-        self.first: NDArray[np.int64] = np.concatenate(first or none)
-        self.widest: NDArray[np.int64] = np.concatenate(widest or none)
+            b = a + blk.lines.size
+            self.lines[a:b], self.first[a:b], self.widest[a:b] = blk.lines, blk.first, blk.widest
 
     def part(self, a: int, b: int) -> Records:
         """Records ``a:b``, laid out now."""
