@@ -14,6 +14,7 @@ import tracemalloc
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
 
 from stakeout import outputs
 from stakeout.design import build_design
@@ -23,6 +24,7 @@ from stakeout.writers import sheets, text
 
 from . import sheets_reference as ref
 from .helpers import SAMPLES
+from .test_sheets_fast import _sheet_parts
 
 SAMPLE_JOBS = sorted(SAMPLES.glob("*.toml"))
 BENCH = Path(__file__).resolve().parent.parent / "benchmarks"
@@ -48,6 +50,21 @@ def test_sheet_pieces_joined_are_the_whole_sheet(job, wide, monkeypatch):
         assert all(p.startswith(b"\f") for p in own[1:])
         old = (ref.setout_sheet if name == "sheet" else ref.deflection_sheet)(d, wide)
         assert b"".join(own) == (old.encode("utf-8") if isinstance(old, str) else old), name
+
+
+@settings(max_examples=40, deadline=None)
+@given(_sheet_parts())
+def test_pages_a_piece_each_are_the_reference_pages(case):
+    parts, foot, head = case
+    want = ref.paged_parts(head, parts, "T", foot)
+    was = text.PIECE_LINES
+    text.PIECE_LINES = 1  # a piece a page (parts following on the page in hand, a foot of its own pages)
+    try:
+        got = list(text.paged_pieces(head, parts, "T", foot))
+    finally:
+        text.PIECE_LINES = was
+    assert b"".join(got).decode("utf-8") == want
+    assert len(got) == want.count("\f") + 1
 
 
 def test_setout_sheet_was_joined_whole_before_writing(tmp_path, monkeypatch):

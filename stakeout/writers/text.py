@@ -9,11 +9,10 @@ Nothing here is time-dependent, so the same design gives the same bytes.
 from __future__ import annotations
 
 import bisect
-import dataclasses
 import math
 from array import array
 from collections.abc import Callable, Iterator, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Protocol, TypeVar
@@ -1128,7 +1127,7 @@ class FieldTable:
         cell's text ends (ASCII tables; others are laid out whole).
         """
         if not self.ascii:
-            return dataclasses.replace(self.block(which), data=b"")
+            return replace(self.block(which), data=b"")
         ends = []
         for at in self.places:
             end = np.zeros(which.size, dtype=np.int64)
