@@ -59,3 +59,29 @@ def test_pieces_and_whole_give_the_same_file(tmp_path):
         f = tmp_path / "out" / o.filename
         if f.exists() and o.name != "manifest":  # the manifest holds the time it was made
             assert o.render(d, done) == f.read_bytes(), o.filename
+
+
+def test_pieces_rendered_on_every_core_come_in_order_and_few_ahead():
+    """``rows.in_order`` gives ``render`` of each start in order, with at most a few pieces
+    rendered and not yet read (the per-point CSVs' chunks)."""
+    import threading
+
+    from stakeout.writers import rows
+
+    for count in (0, 1, 2, 3, 17, 200):
+        lock = threading.Lock()
+        state = {"made": 0, "read": 0, "most": 0}
+
+        def render(s: int) -> bytes:
+            with lock:
+                state["made"] += 1
+                state["most"] = max(state["most"], state["made"] - state["read"])
+            return str(s).encode() + b"\n"
+
+        got = []
+        for piece in rows.in_order(render, range(0, 3 * count, 3)):
+            got.append(piece)
+            with lock:
+                state["read"] += 1
+        assert got == [str(s).encode() + b"\n" for s in range(0, 3 * count, 3)]
+        assert state["most"] <= 2 * 4 + 1
