@@ -85,3 +85,39 @@ def test_pieces_rendered_on_every_core_come_in_order_and_few_ahead():
                 state["read"] += 1
         assert got == [str(s).encode() + b"\n" for s in range(0, 3 * count, 3)]
         assert state["most"] <= 2 * 4 + 1
+
+
+def test_ground_work_in_blocks_equals_it_in_one(monkeypatch):
+    """Ground lookups, slope stakes and cross-sections are worked out a block at a time (bounded
+    temporaries on a long corridor); each point, ray and station is its own, so blocks of 1, 2
+    and 3 give exactly what one block gives."""
+    import dataclasses
+
+    import numpy as np
+
+    from stakeout import ground, slopestakes, volumes
+
+    job = Path(__file__).resolve().parent.parent / "sample_jobs" / "fenwick_cutting_earthwork_m.toml"
+
+    def arrays(ew):
+        out = {"gz": ew.ground_elevation, "cf": ew.cut_fill}
+        res = ew.slopes.result
+        for f in dataclasses.fields(res):
+            if f.name != "lines":
+                out[f.name] = getattr(res, f.name)
+        for f in dataclasses.fields(ew.sections):
+            out["cs." + f.name] = getattr(ew.sections, f.name)
+        return out
+
+    whole = arrays(pipeline.compute(job).earthwork)
+    assert whole["cs.ok"].sum() > 3
+    for size in (1, 2, 3):
+        monkeypatch.setattr(ground, "_LOOKUP_BLOCK", size)
+        monkeypatch.setattr(slopestakes, "_RAY_BLOCK", size)
+        monkeypatch.setattr(volumes, "_STATION_BLOCK", size)
+        got = arrays(pipeline.compute(job).earthwork)
+        for k, v in whole.items():
+            if v.dtype.kind == "f":
+                assert np.array_equal(got[k], v, equal_nan=True), (size, k)
+            else:
+                assert np.array_equal(got[k], v), (size, k)
