@@ -272,11 +272,17 @@ def row_chunks(width: NDArray[np.int64], rows: int = 16384, budget: int = 16384 
 
 
 def in_order(render: Callable[[int], bytes], starts: Iterable[int]) -> Iterator[bytes]:
-    """``render(s)`` for each of ``starts``, in order: on every core where there are two or more
-    (numpy releases the GIL in its loops), each worker at most one piece ahead of the reader, so
-    the pieces waiting in memory stay few whatever the file's size.
+    """``render(s)`` for each of ``starts``, in order: on the cores the build's other threads
+    leave free (numpy releases the GIL in its loops; one core is kept for the thread writing the
+    files and the caller), each worker at most one piece ahead of the reader, so the pieces
+    waiting in memory stay few whatever the file's size. On two cores that is one: measured, two
+    render threads there were slower than one (benchmarks/run.py, DEVELOPERS.md).
     """
     todo = iter(starts)
+    workers = min(4, (os.cpu_count() or 1) - 1)
+    if workers < 2:
+        yield from map(render, todo)
+        return
     first = next(todo, None)
     if first is None:
         return
@@ -284,7 +290,6 @@ def in_order(render: Callable[[int], bytes], starts: Iterable[int]) -> Iterator[
     if second is None:
         yield render(first)
         return
-    workers = min(4, os.cpu_count() or 1)
     with ThreadPoolExecutor(max_workers=workers) as pool:
         ahead: list[Future[bytes]] = [pool.submit(render, first), pool.submit(render, second)]
         for s in todo:
