@@ -58,8 +58,9 @@ class _PerPoint:
     code and feature formatted once per chunk).
     """
 
-    def __init__(self, sp: StakePoints, p0: int, p1: int):
+    def __init__(self, sp: StakePoints, p0: int, p1: int, shared: dict[str, rows.Field] | None = None):
         self.sp = sp
+        self.shared = {} if shared is None else shared  # what every chunk of one file uses, made once
         self.p = slice(p0, p1)
         self.n = p1 - p0
         self.m = sp.offsets.size
@@ -117,16 +118,20 @@ class _PerPoint:
     def region(self) -> rows.Field:
         return self.per_station(rows.integer(self.sp.all_regions[self.u]))
 
-    def _features(self, words: list[str]) -> rows.Field:
-        """Per point, the text ``words`` gives for each of :attr:`StakePoints.all_features`."""
+    def _features(self, key: str, words: Callable[[], list[str]]) -> rows.Field:
+        """Per point, the text ``words()`` gives for each of :attr:`StakePoints.all_features`
+        (laid out once a file, under ``key``).
+        """
+        table = self.shared.get(key)
+        if table is None:
+            table = self.shared[key] = rows.text(words())
         if self.take is None:
-            return rows.repeat_rows(rows.text([words[i] for i in self.u.tolist()]), self.m)
-        u, inv = np.unique(self.sp.feature_of[self.p], return_inverse=True)
-        return rows.text([words[i] for i in u.tolist()])[inv]
+            return rows.repeat_rows(table[self.u], self.m)
+        return table[self.sp.feature_of[self.p]]
 
     def feature_words(self) -> rows.Field:
         """Features followed by a space, or nothing, per point."""
-        return self._features([f + " " if f else "" for f in self.sp.all_features])
+        return self._features("feature words", lambda: [f + " " if f else "" for f in self.sp.all_features])
 
     def side_offset(self, decimals: int) -> rows.Field:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
@@ -147,7 +152,7 @@ class _PerPoint:
         return rows.tile_rows(both, self.k)
 
     def feature(self) -> rows.Field:
-        return self._features(list(self.sp.all_features))
+        return self._features("features", lambda: list(self.sp.all_features))
 
     def elevation(self) -> rows.Field:
         """Design elevations, empty where a stake has none (a reference stake)."""
@@ -198,8 +203,10 @@ def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], l
     m = max(1, sp.offsets.size)
     step = _CHUNK_ROWS if sp.layout is not None else max(1, _CHUNK_ROWS // m) * m
 
+    shared: dict[str, rows.Field] = {}
+
     def chunk(p0: int) -> bytes:  # each chunk is vectorised
-        part = _PerPoint(sp, p0, min(p0 + step, len(sp)))
+        part = _PerPoint(sp, p0, min(p0 + step, len(sp)), shared)
         return rows.join_rows(layout(part), part.n)
 
     yield (",".join(header) + "\n").encode("ascii")
