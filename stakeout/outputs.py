@@ -232,7 +232,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
            "control:control_csv", several="whole"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
-           "exchange:alignment_xml", several="whole"),
+           "exchange:alignment_xml_pieces", several="whole"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf, several="whole"),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
            _picture, several="whole"),
