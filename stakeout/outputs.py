@@ -169,7 +169,7 @@ def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
 
 def _dxf(d: "Design", done: Rendered) -> Written:
     if "plan.png" not in done.writing:  # nothing is drawn from it: piece by piece, never kept
-        return _writer("dxf:plan_dxf")(d)
+        return _writer("dxf:plan_dxf_pieces")(d)
     return _once(d, done, "plan.dxf", "dxf:plan_dxf")
 
 
