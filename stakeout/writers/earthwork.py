@@ -79,8 +79,8 @@ class _Ids:
         i = self.index[which]
         m = i.size
         num = (i >= 0) & (i < self.numbered)
-        f = rows.blank(np.hstack([rows.const(self.head, m), rows.integer(np.where(num, self.first + i, 0)),
-                                  rows.const(self.tail, m)]), ~num)
+        f = rows.blank(np.hstack([Same(self.head, m).field(which), rows.integer(np.where(num, self.first + i, 0)),
+                                  Same(self.tail, m).field(which)]), ~num)
         named = i >= self.numbered
         if named.any():
             g = self.words.field(np.searchsorted(self.named, i[named]))
@@ -130,9 +130,16 @@ class _Guarded:
 
 
 def _coded(values: ArrayLike, word: Callable[[str], str] = str) -> Coded:
-    """A column of few distinct texts (a side, a kind, a note), each written as ``word`` gives it."""
-    words, codes = np.unique(np.asarray(values, dtype=str), return_inverse=True)
-    return Coded(Texts.of([word(w) for w in words.tolist()]), codes.astype(np.intp).ravel())
+    """A column of few distinct texts (a side, a kind, a note), each written as ``word`` gives it:
+    found one distinct text at a time (no sorted copy of the whole column).
+    """
+    a = np.asarray(values, dtype=str).ravel()
+    codes = np.full(a.size, -1, dtype=np.intp)
+    words: list[str] = []
+    while a.size and codes[first := int(np.argmax(codes < 0))] < 0:
+        codes[a == a[first]] = len(words)
+        words.append(word(str(a[first])))
+    return Coded(Texts.of(words), codes)
 
 
 def _labels(sp: StakePoints, station: NDArray[np.int64]) -> Coded:
