@@ -38,7 +38,7 @@ SHEET_DECIMALS = 3
 #: Decimals of the CSV numbers.
 CSV_DECIMALS = 4
 #: Rows of a CSV file laid out at once (one piece of the file); a file of at most this many rows is one piece.
-CHUNK_ROWS = 16384
+CHUNK_ROWS = 4096
 
 SLOPESTAKES_COLUMNS = ("alignment", "station", "station_label", "side", "hinge_point", "hinge_offset",
                        "hinge_elevation", "ground_at_hinge", "kind", "catch_point", "catch_offset", "catch_northing",
