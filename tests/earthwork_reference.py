@@ -1,8 +1,9 @@
 """The earthwork outputs as they were built before issue 27 (row by row, one Python string a
 field): the reference the whole-column writers are compared with byte for byte
 (tests/test_earthwork_fast.py).  A frozen copy of stakeout/writers/earthwork.py at commit
-790ac26 (and of Presentation.catch_gaps); its table and paging come from the frozen copy in
-tests/sheets_reference.py.  Do not change it to follow the package.
+790ac26 and of Presentation.catch_gaps (the side lines of the sheet's head, unchanged, are
+imported); its table and paging come from the frozen copy in tests/sheets_reference.py.
+Do not change it to follow the package.
 """
 # ruff: noqa
 
@@ -12,7 +13,7 @@ from stakeout.design import Design
 from stakeout.slopestakes import lath_marking
 from stakeout.writers.csvtext import csv_field, csv_guard, csv_text, csv_text_field
 from stakeout.writers.csvtext import numbers_or_empty as _opt
-from stakeout.writers.earthwork import SLOPESTAKES_COLUMNS, VOLUMES_COLUMNS
+from stakeout.writers.earthwork import SLOPESTAKES_COLUMNS, VOLUMES_COLUMNS, _side_words  # unchanged by issue 27
 from stakeout.writers.text import WIDE, WIDTH, header_lines, wrap_lines
 
 from .sheets_reference import Column, SheetPart, paged_parts, table_lines
@@ -80,20 +81,6 @@ def volumes_csv(design: Design) -> bytes:
     ]
     lines = (",".join((name, *row)) for row in zip(*cols))
     return csv_text(VOLUMES_COLUMNS, lines).encode("utf-8")
-
-
-def _side_words(design: Design) -> list[str]:
-    """One line per staked side: its hinge and slopes, as the job gives them (run per unit rise)."""
-    spec = design.job.slope_stakes
-    assert spec is not None
-    out = []
-    for side, sd in spec.sides():
-        ditch = ("" if sd.ditch_depth is None else
-                 f", ditch {sd.ditch_depth:g} deep at {sd.foreslope:g}:1, {sd.ditch_width:g} wide")
-        out.append(f"{side}: hinge {sd.hinge}, fill {sd.fill_slope:g}:1, cut {sd.cut_slope:g}:1{ditch}")
-    out.append(f"reference stakes {spec.reference_offset:g} beyond the catch; no catch farther than "
-               f"{spec.max_width:g} from the hinge")
-    return out
 
 
 def _catch_gaps(design: Design) -> tuple[int, int, str]:

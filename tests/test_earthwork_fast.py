@@ -144,3 +144,24 @@ def test_slopestakes_csv_was_built_row_by_row_in_python(sample, monkeypatch):
         tracemalloc.stop()
     assert largest < size / 10  # piece by piece
     assert peak < size  # the file was never whole (was ~9x its size)
+
+
+def test_ids_of_named_points_among_numbered_ones():
+    """A stake the job named (a listed point, after the numbered ones) keeps its own id, quoted
+    where CSV needs it; -1 is no stake; the numbers carry the prefix.
+    """
+    from types import SimpleNamespace
+
+    from stakeout.writers import rows
+    from stakeout.writers.csvtext import csv_field
+
+    names = ["TREE 1", 'gate, "east"', "Brücke", "X"]
+    sp = SimpleNamespace(first_point=98, numbered=5, prefix='P"',
+                         point_id=lambda i: f'P"{98 + i}' if i < 5 else names[i - 5])
+    index = np.array([0, 6, -1, 4, 7, 2, 6, 8, -1, 1])
+    for quoted in (False, True):
+        ids = earthwork._Ids(sp, index, quoted)  # type: ignore[arg-type]
+        for which in (np.arange(10), np.array([1, 2, 3]), np.array([9, 0])):
+            got = rows.join_rows([ids.field(which)], which.size).decode("utf-8").split("\n")[:-1]
+            want = ["" if i < 0 else (csv_field if quoted else str)(sp.point_id(int(i))) for i in index[which]]
+            assert got == want

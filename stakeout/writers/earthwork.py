@@ -16,8 +16,6 @@ no Python string a field.
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator, Sequence
-from dataclasses import dataclass
-from functools import cached_property
 from itertools import chain
 
 import numpy as np
@@ -83,50 +81,19 @@ class _Ids:
                                   Same(self.tail, m).field(which)]), ~num)
         named = i >= self.numbered
         if named.any():
-            g = self.words.field(np.searchsorted(self.named, i[named]))
-            out = np.zeros((m, max(f.shape[1], g.shape[1])), dtype=np.uint8)
-            out[:, :f.shape[1]] = f
-            out[named] = 0
-            out[named, :g.shape[1]] = g
-            f = out
+            f = rows.overlay(f, named, self.words.field(np.searchsorted(self.named, i[named])))
         return f
 
 
-@dataclass(frozen=True)
-class _Guarded:
-    """Texts as CSV text fields that no spreadsheet runs as a formula (:func:`csv_guard`: an
-    apostrophe before a leading ``-`` and the like).  For texts that never need quoting (station
-    labels: digits, signs, a point, parentheses).
+def _guarded(labels: Coded) -> Joined:
+    """Station labels as CSV text fields that no spreadsheet runs as a formula (:func:`csv_guard`:
+    an apostrophe before a leading ``-``); labels hold only digits, signs, a point and
+    parentheses, so none needs quoting.  Each station's label is looked at once.
     """
-
-    cells: Cells
-
-    @property
-    def n(self) -> int:
-        """Rows of the column."""
-        return self.cells.n
-
-    @property
-    def ascii(self) -> bool:
-        """Whether every text is ASCII."""
-        return self.cells.ascii
-
-    @property
-    def clean(self) -> bool:
-        """Whether no text ends in a space."""
-        return self.cells.clean
-
-    @cached_property
-    def _leads(self) -> NDArray[np.uint8]:
-        return np.frombuffer("".join(FORMULA_LEADS).encode("ascii"), dtype=np.uint8)
-
-    def field(self, which: NDArray[np.intp]) -> rows.Field:
-        """The texts of rows ``which``, each guarded."""
-        f = self.cells.field(which)
-        if not f.size:
-            return f
-        lead = f[np.arange(f.shape[0]), np.argmax(f != 0, axis=1)]  # each text's first byte (0: empty)
-        return np.hstack([np.where(np.isin(lead, self._leads), ord("'"), 0).astype(np.uint8)[:, None], f])
+    words = labels.words.field(np.arange(labels.words.n, dtype=np.intp))
+    lead = words[np.arange(words.shape[0]), np.argmax(words != 0, axis=1)] if words.size else words[:, :0]
+    guard = np.isin(lead.ravel(), np.frombuffer("".join(FORMULA_LEADS).encode("ascii"), dtype=np.uint8))
+    return Joined((Coded(Texts.of(["", "'"]), guard.astype(np.intp)[labels.codes]), labels))
 
 
 def _coded(values: ArrayLike, word: Callable[[str], str] = str) -> Coded:
@@ -195,7 +162,7 @@ def slopestakes_csv(design: Design) -> bytes | Iterator[bytes]:
     cols: list[Cells] = [
         Same(csv_text_field(design.alignment.name), len(r.side)),
         num(sp.station_values[r.station]),
-        _Guarded(_labels(sp, r.station)),
+        _guarded(_labels(sp, r.station)),
         _coded(r.side),
         _Ids(sp, r.hinge, quoted=True),
         num(r.hinge_offset),
@@ -233,7 +200,7 @@ def volumes_csv(design: Design) -> bytes | Iterator[bytes]:
     cols: list[Cells] = [
         Same(csv_text_field(design.alignment.name), int(st.size)),
         num(sp.station_values[st]),
-        _Guarded(_labels(sp, st)),
+        _guarded(_labels(sp, st)),
         num(ew.sections.cut_area[st]),
         num(ew.sections.fill_area[st]),
         num(v.cut),

@@ -22,7 +22,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
-           "station", "optional", "Strings", "row_chunks"]
+           "station", "optional", "overlay", "Strings", "row_chunks"]
 
 Field = NDArray[np.uint8]
 _LIMIT = 10**17  # largest scaled value handled exactly
@@ -201,6 +201,15 @@ def optional(values: ArrayLike, decimals: int) -> Field:
     x = np.asarray(values, dtype=float).ravel()
     finite = np.isfinite(x)
     return blank(fixed(np.where(finite, x, 0.0), decimals), ~finite)
+
+
+def overlay(f: Field, where: NDArray[np.bool_], g: Field) -> Field:
+    """``f`` with its rows ``where`` replaced by the rows of ``g`` (one for each True), as wide as the wider."""
+    out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
+    out[:, :f.shape[1]] = f
+    out[where] = 0
+    out[where, :g.shape[1]] = g
+    return out
 
 
 class Strings:

@@ -717,12 +717,7 @@ class Formatted:
             bad &= ~self.empty[which]
         if bad.any():  # few: each as Python writes it
             words = rows.Strings([str(x) for x in v[bad].tolist()])
-            g = words.field(slice(None))
-            out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
-            out[:, :f.shape[1]] = f
-            out[bad] = 0
-            out[bad, :g.shape[1]] = g
-            f = out
+            f = rows.overlay(f, bad, words.field(slice(None)))
         return f
 
 
