@@ -16,6 +16,7 @@ no Python string a field.
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass
 from itertools import chain
 
 import numpy as np
@@ -82,7 +83,7 @@ class _Ids:
         named = i >= self.numbered
         if named.any():
             f = rows.overlay(f, named, self.words.field(np.searchsorted(self.named, i[named])))
-        return f
+        return rows.packed(f)  # prefix and number one run: a left-aligned column takes it as it is
 
 
 def _guarded(labels: Coded) -> Joined:
@@ -114,6 +115,22 @@ def _labels(sp: StakePoints, station: NDArray[np.int64]) -> Coded:
     return Coded(station_labels(sp.stationing, sp.stations), np.asarray(station, dtype=np.intp))
 
 
+@dataclass(frozen=True)
+class _Packed(Joined):
+    """Parts side by side as one run of text from the left (``right``: to the right; :func:`rows.packed`)."""
+
+    right: bool = False
+
+    @property
+    def clean(self) -> bool:
+        """The last part does not end in a space."""
+        return self.parts[-1].clean
+
+    def field(self, which: NDArray[np.intp]) -> rows.Field:
+        """The texts of rows ``which``."""
+        return rows.packed(super().field(which), self.right)
+
+
 def _lath(vertical: NDArray[np.float64], horizontal: NDArray[np.float64], decimals: int = 2) -> Joined:
     """What a crew writes on a lath, as :func:`~stakeout.slopestakes.lath_marking` writes it
     (``C 3.42 @ 26.40``; empty where either number is missing).
@@ -121,7 +138,7 @@ def _lath(vertical: NDArray[np.float64], horizontal: NDArray[np.float64], decima
     v = np.asarray(vertical, dtype=np.float64).ravel()
     h = np.asarray(horizontal, dtype=np.float64).ravel()
     none = np.isnan(v) | np.isnan(h)
-    return Joined((Coded(Texts.of(["C ", "F ", ""]), np.where(none, 2, np.where(v < 0, 0, 1))),
+    return _Packed((Coded(Texts.of(["C ", "F ", ""]), np.where(none, 2, np.where(v < 0, 0, 1))),
                    Formatted(np.abs(v), fixed_format(decimals), none),
                    Coded(Texts.of([" @ ", ""]), none.astype(np.intp)),
                    Formatted(h, fixed_format(decimals), none)))
@@ -226,6 +243,13 @@ def _side_words(design: Design) -> list[str]:
     return out
 
 
+def _sheet_numbers(values: NDArray[np.float64]) -> _Packed:
+    """The sheet's numbers (:data:`SHEET_DECIMALS`), empty where NaN, each one run to the right
+    (a sign beside its digits).
+    """
+    return _Packed((number_cells(values, SHEET_DECIMALS),), right=True)
+
+
 def slopestakes_sheet(design: Design, wide: bool = False) -> bytes:
     """``slopestakes.txt``: per staked station and side the hinge, the catch stake and the
     reference stake, each with what the crew writes on its lath (``C 3.42 @ 26.40``: cut or
@@ -238,20 +262,19 @@ def slopestakes_sheet(design: Design, wide: bool = False) -> bytes:
     r, sp = ew.slopes, design.stakes
     assert r.catch_point is not None and r.reference_point is not None
     res = r.result
-    dec = SHEET_DECIMALS
     title = "SLOPE STAKES"
     head = header_lines(title, design) + [""] + wrap_lines(_side_words(design), page)
     table = FieldTable([
-        FieldColumn("Station", _labels(sp, r.station), "<"),
+        FieldColumn("Station", _Packed((_labels(sp, r.station),)), "<"),
         FieldColumn("Side", _coded(r.side, lambda s: s[0].upper()), "<"),
         FieldColumn("Hinge", _Ids(sp, r.hinge), "<"),
-        FieldColumn("Elev", number_cells(res.lines.z, dec)),
+        FieldColumn("Elev", _sheet_numbers(res.lines.z)),
         FieldColumn("Kind", _coded(res.kind), "<"),
         FieldColumn("Catch", _Ids(sp, r.catch_point), "<"),
-        FieldColumn("Offset", number_cells(r.catch_offset, dec)),
+        FieldColumn("Offset", _sheet_numbers(r.catch_offset)),
         FieldColumn("Lath (catch)", _lath(res.catch_cut_fill, res.catch_dist), "<"),
         FieldColumn("Ref", _Ids(sp, r.reference_point), "<"),
-        FieldColumn("Offset", number_cells(r.reference_offset, dec), with_previous=True),
+        FieldColumn("Offset", _sheet_numbers(r.reference_offset), with_previous=True),
         FieldColumn("Lath (reference)", _lath(res.vd_to_hinge, res.ref_dist), "<", with_previous=True),
         FieldColumn("Note", _coded(res.note), "<", with_previous=True),
     ], width)

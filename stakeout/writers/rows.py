@@ -22,7 +22,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
-           "station", "optional", "overlay", "Strings", "row_chunks"]
+           "station", "optional", "overlay", "packed", "Strings", "row_chunks"]
 
 Field = NDArray[np.uint8]
 _LIMIT = 10**17  # largest scaled value handled exactly
@@ -209,6 +209,20 @@ def overlay(f: Field, where: NDArray[np.bool_], g: Field) -> Field:
     out[:, :f.shape[1]] = f
     out[where] = 0
     out[where, :g.shape[1]] = g
+    return out
+
+
+def packed(f: Field, right: bool = False) -> Field:
+    """Each row's bytes moved to its left end (``right``: its right end) in order, the padding (NUL)
+    on the other side: each text one run, as an aligned column wants it (a field joined of parts
+    padded on the left, a sign apart from the digits of a short number).
+    """
+    keep = f != 0
+    n = keep.sum(axis=1)
+    w = int(n.max()) if n.size else 0
+    out = np.zeros((f.shape[0], w), dtype=np.uint8)
+    at = np.arange(w)[None, :]
+    out[at >= (w - n)[:, None] if right else at < n[:, None]] = f[keep]
     return out
 
 
