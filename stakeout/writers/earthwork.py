@@ -57,7 +57,7 @@ class _Ids:
 
     def __init__(self, sp: StakePoints, index: NDArray[np.int64], quoted: bool = False):
         self.index = np.asarray(index, dtype=np.int64)
-        self.first, self.numbered = sp.first_point, sp.numbered
+        self.first, self.numbered, self.quoted = sp.first_point, sp.numbered, quoted
         head, tail = sp.prefix, ""
         if quoted and csv_field(head) != head:  # digits never need quoting: the prefix decides
             head, tail = csv_field(head)[:-1], '"'
@@ -83,7 +83,7 @@ class _Ids:
         named = i >= self.numbered
         if named.any():
             f = rows.overlay(f, named, self.words.field(np.searchsorted(self.named, i[named])))
-        return rows.packed(f)  # prefix and number one run: a left-aligned column takes it as it is
+        return f if self.quoted else rows.packed(f)  # on a sheet: one run, as a left-aligned column takes it
 
 
 def _guarded(labels: Coded) -> Joined:
