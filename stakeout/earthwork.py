@@ -141,7 +141,7 @@ def earthwork(stakes: StakePoints, ground: Ground, spec: SlopeStaking | None,
         raise JobFileError(f"slope_stakes.left.hinge = {spec.left.hinge!r}: lies at or right of the right hinge "
                            f"{spec.right.hinge!r} at {stakes.labels[i]} (offsets {h_off[li[crossed[0]]]:.4f} and "
                            f"{h_off[ri[crossed[0]]]:.4f}); the left hinge must lie left of the right one")
-    lres, rres = _take(res, li), _take(res, ri)
+    lres, rres = res.take(li), res.take(ri)
     cs = cross_sections(ground, np.repeat(np.arange(k, dtype=np.int64), m), stakes.offset, stakes.elevation,
                         lres, h_off[li], rres, h_off[ri])
     vst = np.flatnonzero(cs.ok)
@@ -237,17 +237,6 @@ def placed(ew: Earthwork, table: StakePoints, ground: Ground, first_more: int) -
         if table.elevation is not None:
             cf[k] = table.elevation[k] - gz[k]
     return replace(ew, ground_elevation=gz, cut_fill=cf, slopes=rows)
-
-
-def _take(res: SlopeStakes, idx: I64) -> SlopeStakes:
-    """The rays ``idx`` of a result (every array field, and the design lines)."""
-    from dataclasses import fields
-
-    from .slopestakes import DesignLines
-
-    lines = DesignLines(*(getattr(res.lines, f.name)[idx] for f in fields(DesignLines)))
-    vals = {f.name: getattr(res, f.name)[idx] for f in fields(SlopeStakes) if f.name != "lines"}
-    return replace(res, lines=lines, **vals)
 
 
 def ground_beyond_catch(ground: Ground, rows: SlopeRows, idx: I64) -> tuple[I64, F64, F64]:

@@ -51,6 +51,8 @@ _ENTRIES_PER_FACE = 16
 #: larger ones (Delaunay's long faces across the inside of a bend, the hull's) go in coarser grids
 #: of their own, so they never make the cells of the ordinary faces coarse.
 _LEVEL_RATIO = 4.0
+#: Points located at once (their candidate faces, a dozen each, are the temporaries).
+_LOOKUP_BLOCK = 65536
 
 F64 = NDArray[np.float64]
 I64 = NDArray[np.int64]
@@ -298,18 +300,20 @@ class Ground:
         out = np.full(n.shape, -1, dtype=np.int64)
         flat_n, flat_e = n.ravel(), e.ravel()
         res = out.ravel()
-        todo = np.flatnonzero(np.isfinite(flat_n) & np.isfinite(flat_e))
-        for gr in self._grids:
-            if not todo.size:
-                break
-            tn, te = flat_n[todo], flat_e[todo]
-            pt, fc = self._candidates(gr, self._cell(gr, tn, te))
-            inside = self._inside(fc, tn[pt], te[pt])
-            pt, fc = pt[inside], fc[inside]
-            first = np.ones(len(pt), dtype=bool)
-            first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
-            res[todo[pt[first]]] = fc[first]
-            todo = todo[res[todo] < 0]
+        finite = np.flatnonzero(np.isfinite(flat_n) & np.isfinite(flat_e))
+        for a in range(0, finite.size, _LOOKUP_BLOCK):  # a block of points at a time: bounded temporaries
+            todo = finite[a:a + _LOOKUP_BLOCK]
+            for gr in self._grids:
+                if not todo.size:
+                    break
+                tn, te = flat_n[todo], flat_e[todo]
+                pt, fc = self._candidates(gr, self._cell(gr, tn, te))
+                inside = self._inside(fc, tn[pt], te[pt])
+                pt, fc = pt[inside], fc[inside]
+                first = np.ones(len(pt), dtype=bool)
+                first[1:] = pt[1:] != pt[:-1]  # candidates come grouped by point: keep each point's first face
+                res[todo[pt[first]]] = fc[first]
+                todo = todo[res[todo] < 0]
         return res.reshape(n.shape)  # a single point gives a 0-d array
 
     def _inside(self, fc: I64, pn: F64, pe: F64) -> NDArray[np.bool_]:

@@ -169,7 +169,7 @@ def _once(d: "Design", done: Rendered, filename: str, target: str) -> bytes:
 
 def _dxf(d: "Design", done: Rendered) -> Written:
     if "plan.png" not in done.writing:  # nothing is drawn from it: piece by piece, never kept
-        return _writer("dxf:plan_dxf")(d)
+        return _writer("dxf:plan_dxf_pieces")(d)
     return _once(d, done, "plan.dxf", "dxf:plan_dxf")
 
 
@@ -232,7 +232,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("control", "control.csv", "the control points the job lists or uses, in the point file's layout",
            "control:control_csv", several="whole"),
     Output("landxml", "alignment.xml", "the staked design as LandXML 1.2 (alignment, profile, stakes)",
-           "exchange:alignment_xml", several="whole"),
+           "exchange:alignment_xml_pieces", several="whole"),
     Output("dxf", "plan.dxf", "the plan check drawing", _dxf, several="whole"),
     Output("picture", "plan.svg", "the plan picture: stakes, key points, PIs, control, north arrow, scale bar",
            _picture, several="whole"),

@@ -189,7 +189,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             if not _has_extra(o.extra):
                 raise JobFileError(f"--only {o.name}: matplotlib is not installed, so there is no {o.filename} "
                                    f"(pip install 'stakeout[{o.extra}]')")
-    folder = OutputFolder(out, force, protect=job.inputs())
+    folder = OutputFolder(out, force, protect=job.inputs(), hashes=any(o.name == "manifest" for o in outputs))
     d = build_design(job)
     for part in d.parts or (d,):
         check_design(part)

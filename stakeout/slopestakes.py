@@ -24,7 +24,8 @@ round one vectorised pass over the rays still open.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Sequence
+from dataclasses import dataclass, fields
 
 import numpy as np
 from numpy.typing import NDArray
@@ -43,6 +44,8 @@ NOTE_NO_CATCH = "no catch within max_width"
 NOTE_OUTSIDE = "outside the ground surface"
 #: First round's reach, in grid cells of the ground (then four times longer a round).
 _FIRST_ROUND_CELLS = 16.0
+#: Rays worked out at once (their ground sections are the temporaries).
+_RAY_BLOCK = 32768
 
 
 @dataclass(frozen=True)
@@ -153,6 +156,22 @@ class SlopeStakes:
         """Hinge elevation minus catch elevation (positive: fill down to the catch)."""
         return self.lines.z - self.catch_z
 
+    def take(self, idx: NDArray[np.int64] | slice) -> "SlopeStakes":
+        """The rays ``idx`` of this result (every array field, and the design lines)."""
+        lines = DesignLines(*(getattr(self.lines, f.name)[idx] for f in fields(DesignLines)))
+        vals = {f.name: getattr(self, f.name)[idx] for f in fields(SlopeStakes) if f.name != "lines"}
+        return SlopeStakes(lines=lines, **vals)
+
+    @staticmethod
+    def joined(parts: "Sequence[SlopeStakes]") -> "SlopeStakes":
+        """Results of consecutive blocks of rays as one."""
+        if len(parts) == 1:
+            return parts[0]
+        lines = DesignLines(*(np.concatenate([getattr(p.lines, f.name) for p in parts]) for f in fields(DesignLines)))
+        vals = {f.name: np.concatenate([getattr(p, f.name) for p in parts])
+                for f in fields(SlopeStakes) if f.name != "lines"}
+        return SlopeStakes(lines=lines, **vals)
+
 
 def _design_lines(z: F64, cut: NDArray[np.bool_], fill_slope: F64, cut_slope: F64, foreslope: F64,
                   ditch_depth: F64, ditch_width: F64) -> DesignLines:
@@ -191,10 +210,19 @@ def slope_stakes(ground: Ground, n: Num, e: Num, z: Num, dn: Num, de: Num, fill_
     Returns
     -------
     SlopeStakes
-        Per ray, in the order given.
+        Per ray, in the order given (worked out a block of rays at a time: each ray is its own).
     """
     arrs = np.broadcast_arrays(*(np.atleast_1d(np.asarray(v, dtype=np.float64)) for v in (
         n, e, z, dn, de, fill_slope, cut_slope, foreslope, ditch_depth, ditch_width, max_width, reference_offset)))
+    r = len(arrs[0])
+    if r <= _RAY_BLOCK:
+        return _slope_stakes(ground, *arrs)
+    return SlopeStakes.joined([_slope_stakes(ground, *(a[b:b + _RAY_BLOCK] for a in arrs))
+                               for b in range(0, r, _RAY_BLOCK)])
+
+
+def _slope_stakes(ground: Ground, *arrs: F64) -> SlopeStakes:
+    """:func:`slope_stakes` of one block of rays (arrays of one length)."""
     n, e, z, dn, de, fill_slope, cut_slope, foreslope, ditch_depth, ditch_width, max_width, reference_offset = arrs
     r = len(n)
     gh = ground.elevation(n, e)

@@ -16,6 +16,7 @@ stations; no curvature correction), in cubic job units, with running totals.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -23,6 +24,9 @@ from numpy.typing import NDArray
 
 from .ground import Ground
 from .slopestakes import SlopeStakes, slope_vertices
+
+#: Stations whose sections are worked out at once (their ground sections are the temporaries).
+_STATION_BLOCK = 16384
 
 __all__ = ["AreaOutlines", "CrossSections", "Volumes", "area_outlines", "areas_between", "cross_sections",
            "average_end_volumes"]
@@ -148,10 +152,25 @@ class CrossSections:
     ground_offset: F64
     ground_z: F64
 
+    @staticmethod
+    def joined(parts: "Sequence[CrossSections]") -> "CrossSections":
+        """The sections of consecutive blocks of stations as one."""
+        def firsts(got: list[I64]) -> I64:
+            base = np.cumsum([0] + [int(f[-1]) for f in got])
+            return np.concatenate([f[:-1] + b for f, b in zip(got, base)] + [base[-1:]]).astype(np.int64)
+
+        cat = np.concatenate
+        return CrossSections(cat([p.ok for p in parts]), cat([p.cut_area for p in parts]),
+                             cat([p.fill_area for p in parts]), firsts([p.design_first for p in parts]),
+                             cat([p.design_offset for p in parts]), cat([p.design_z for p in parts]),
+                             firsts([p.ground_first for p in parts]), cat([p.ground_offset for p in parts]),
+                             cat([p.ground_z for p in parts]))
+
 
 def cross_sections(ground: Ground, tmpl_station: I64, tmpl_offset: F64, tmpl_z: F64, left: SlopeStakes,
                    left_hinge_offset: F64, right: SlopeStakes, right_hinge_offset: F64) -> CrossSections:
-    """Design and ground sections, and their cut and fill areas, at ``k`` stations.
+    """Design and ground sections, and their cut and fill areas, at ``k`` stations, worked out a
+    block of stations at a time (each station is its own; the template's rows in station order).
 
     Parameters
     ----------
@@ -170,6 +189,23 @@ def cross_sections(ground: Ground, tmpl_station: I64, tmpl_offset: F64, tmpl_z: 
     CrossSections
         Areas in square job units.
     """
+    k = len(left_hinge_offset)
+    if k <= _STATION_BLOCK or (np.diff(tmpl_station) < 0).any():
+        return _cross_sections(ground, tmpl_station, tmpl_offset, tmpl_z, left, left_hinge_offset, right,
+                               right_hinge_offset)
+    parts = []
+    for a in range(0, k, _STATION_BLOCK):
+        b = min(k, a + _STATION_BLOCK)
+        t0, t1 = np.searchsorted(tmpl_station, [a, b])
+        parts.append(_cross_sections(ground, tmpl_station[t0:t1] - a, tmpl_offset[t0:t1], tmpl_z[t0:t1],
+                                     left.take(slice(a, b)), left_hinge_offset[a:b], right.take(slice(a, b)),
+                                     right_hinge_offset[a:b]))
+    return CrossSections.joined(parts)
+
+
+def _cross_sections(ground: Ground, tmpl_station: I64, tmpl_offset: F64, tmpl_z: F64, left: SlopeStakes,
+                    left_hinge_offset: F64, right: SlopeStakes, right_hinge_offset: F64) -> CrossSections:
+    """:func:`cross_sections` of one block of stations."""
     k = len(left_hinge_offset)
     both = ~np.isnan(left.catch_dist) & ~np.isnan(right.catch_dist)
     # the ground from the left catch to the right catch

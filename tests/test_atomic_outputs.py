@@ -14,7 +14,7 @@ JOB = SAMPLES / "loop_ramp_usft.toml"
 
 
 #: The writer function behind each output named in these tests.
-_WRITERS = {"preview": "stakeout.writers.dxf.plan_png", "dxf": "stakeout.writers.dxf.plan_dxf",
+_WRITERS = {"preview": "stakeout.writers.dxf.plan_png", "dxf": "stakeout.writers.dxf.plan_dxf_pieces",
             "report": "stakeout.writers.html.report_html"}
 
 

@@ -29,7 +29,7 @@ class _EzdxfBulk(dxf.Bulk):
         assert n * len(ents) == count
         for i in range(n):
             for ent in ents:
-                tags = {code: (v if isinstance(v, str) else v[i]) for code, v in ent.tags}
+                tags = {code: _value(v, i) for code, v in ent.tags}
                 attribs = {"layer": ent.layer}
                 if ent.dxftype == "POINT":
                     msp.add_point((float(tags[10]), float(tags[20]), float(tags[30])), dxfattribs=attribs)
@@ -48,8 +48,17 @@ class _EzdxfBulk(dxf.Bulk):
     def reserve_polyline(self, msp, layer, x, y):
         msp.add_lwpolyline(list(zip(x.tolist(), y.tolist())), dxfattribs={"layer": layer})
 
-    def splice(self, data, owner):
-        return data
+    def pieces(self, data, owner):
+        yield data
+
+
+def _value(v, i):
+    """Row ``i`` of a bulk tag's value (a field made a block at a time: that block of one row)."""
+    if isinstance(v, str):
+        return v
+    if callable(v):
+        return bytes(v(slice(i, i + 1))[0]).replace(b"\0", b"").decode("ascii")
+    return v[i]
 
 
 def _with_control(tmp_path: Path, count: int, spread: float, seed: int = 3) -> Path:

@@ -59,3 +59,65 @@ def test_pieces_and_whole_give_the_same_file(tmp_path):
         f = tmp_path / "out" / o.filename
         if f.exists() and o.name != "manifest":  # the manifest holds the time it was made
             assert o.render(d, done) == f.read_bytes(), o.filename
+
+
+def test_pieces_rendered_on_every_core_come_in_order_and_few_ahead():
+    """``rows.in_order`` gives ``render`` of each start in order, with at most a few pieces
+    rendered and not yet read (the per-point CSVs' chunks)."""
+    import threading
+
+    from stakeout.writers import rows
+
+    for count in (0, 1, 2, 3, 17, 200):
+        lock = threading.Lock()
+        state = {"made": 0, "read": 0, "most": 0}
+
+        def render(s: int) -> bytes:
+            with lock:
+                state["made"] += 1
+                state["most"] = max(state["most"], state["made"] - state["read"])
+            return str(s).encode() + b"\n"
+
+        got = []
+        for piece in rows.in_order(render, range(0, 3 * count, 3)):
+            got.append(piece)
+            with lock:
+                state["read"] += 1
+        assert got == [str(s).encode() + b"\n" for s in range(0, 3 * count, 3)]
+        assert state["most"] <= 2 * 4 + 1
+
+
+def test_ground_work_in_blocks_equals_it_in_one(monkeypatch):
+    """Ground lookups, slope stakes and cross-sections are worked out a block at a time (bounded
+    temporaries on a long corridor); each point, ray and station is its own, so blocks of 1, 2
+    and 3 give exactly what one block gives."""
+    import dataclasses
+
+    import numpy as np
+
+    from stakeout import ground, slopestakes, volumes
+
+    job = Path(__file__).resolve().parent.parent / "sample_jobs" / "fenwick_cutting_earthwork_m.toml"
+
+    def arrays(ew):
+        out = {"gz": ew.ground_elevation, "cf": ew.cut_fill}
+        res = ew.slopes.result
+        for f in dataclasses.fields(res):
+            if f.name != "lines":
+                out[f.name] = getattr(res, f.name)
+        for f in dataclasses.fields(ew.sections):
+            out["cs." + f.name] = getattr(ew.sections, f.name)
+        return out
+
+    whole = arrays(pipeline.compute(job).earthwork)
+    assert whole["cs.ok"].sum() > 3
+    for size in (1, 2, 3):
+        monkeypatch.setattr(ground, "_LOOKUP_BLOCK", size)
+        monkeypatch.setattr(slopestakes, "_RAY_BLOCK", size)
+        monkeypatch.setattr(volumes, "_STATION_BLOCK", size)
+        got = arrays(pipeline.compute(job).earthwork)
+        for k, v in whole.items():
+            if v.dtype.kind == "f":
+                assert np.array_equal(got[k], v, equal_nan=True), (size, k)
+            else:
+                assert np.array_equal(got[k], v), (size, k)

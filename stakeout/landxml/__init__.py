@@ -9,7 +9,7 @@ from them is the caller's business.
   alignment or profile;
 * :mod:`.validation`: :func:`validate_geometry`, the geometry measured from
   the points and checked against itself and the attributes;
-* :mod:`.writer`: :func:`write_landxml`;
+* :mod:`.writer`: :func:`write_landxml` (:func:`landxml_pieces`: the same piece by piece);
 * :mod:`.describe`: what ``stakeout inspect`` prints.
 
 An element kind lives in one table, :data:`.records.KINDS`; every module
@@ -23,7 +23,7 @@ from .describe import describe
 from .reader import check_units, parse_landxml, pick_alignment, pick_profile, read_landxml
 from .records import *  # noqa: F403  (the records' own __all__ is the package's)
 from .validation import station_at, validate_geometry
-from .writer import write_landxml
+from .writer import landxml_pieces, write_landxml
 
 __all__ = [
     "read_landxml",
@@ -35,5 +35,6 @@ __all__ = [
     "station_at",
     "describe",
     "write_landxml",
+    "landxml_pieces",
 ]
 __all__ += records.__all__

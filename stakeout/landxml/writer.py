@@ -29,11 +29,12 @@ grid north; ``rot``/``turn`` +1 clockwise (right), -1 counter-clockwise
 from __future__ import annotations
 
 import datetime as _dt
-from typing import Any
+import itertools
 import math
 import re
 import xml.etree.ElementTree as _ET  # building and serialising only
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from typing import Any
 from dataclasses import replace
 
 import numpy as np
@@ -116,7 +117,12 @@ def _dir(az: float) -> str:
     return _ang(0.0) if text == _ang(360.0) else text
 
 
-def write_landxml(
+def write_landxml(*args: Any, **kwargs: Any) -> bytes:
+    """:func:`landxml_pieces` joined: the whole document."""
+    return b"".join(landxml_pieces(*args, **kwargs))
+
+
+def landxml_pieces(
     units_key: str,
     alignment_name: str,
     sta_start: float,
@@ -133,8 +139,10 @@ def write_landxml(
     tolerance: float = 0.001,
     more_alignments: Sequence[tuple[str, float, Sequence[XElement], Sequence[XEquation], Sequence[XPVI] | None,
                                     str | None]] = (),
-) -> bytes:
-    """Write a design as a LandXML 1.2 document.
+) -> Iterator[bytes]:
+    """Write a design as a LandXML 1.2 document, piece by piece: the document up to the points
+    at once (every check done, so an error comes before the first piece), then the
+    ``<CgPoints>`` a block of rows at a time.
 
     Parameters
     ----------
@@ -245,9 +253,9 @@ def write_landxml(
     body = _ET.tostring(root, encoding="unicode")
     assert body.endswith("</LandXML>")
     # the points as text: a build may stake a million of them, too many for a tree
-    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else []
+    cg = _cgpoints_text(points) if len(points.names if isinstance(points, XPoints) else points) else iter(())
     head = ('<?xml version="1.0" encoding="UTF-8"?>\n' + body[: -len("</LandXML>")]).encode("utf-8")
-    return b"".join([head, *cg, b"</LandXML>\n"])
+    return itertools.chain((head,), cg, (b"</LandXML>\n",))
 
 
 _POINT_DECIMALS = 6  # CgPoint coordinates: micro-units, far below any staking tolerance
@@ -309,11 +317,13 @@ def _attr_texts(strings: Sequence[str], what: str) -> Sequence[str]:
     return strings
 
 
-def _optional_attr(name: str, values: Sequence[str] | None, rows: slice, what: str) -> list[Field]:
-    """`` name="value"`` where a value is given, nothing where it is empty (or none is given): fields of ``rows``."""
+def _optional_attr(name: str, values: Sequence[str] | None, rows: slice) -> list[Field]:
+    """`` name="value"`` where a value is given, nothing where it is empty (or none is given): fields of
+    ``rows`` (``values`` checked and escaped by :func:`_attr_texts`).
+    """
     if values is None:
         return []
-    col = rows_.Strings(_attr_texts(values[rows], what))
+    col = rows_.Strings(values[rows])
     empty = col.lens == 0
     return [rows_.blank(rows_.const(f' {name}="', col.n), empty), col.field(slice(None)),
             rows_.blank(rows_.const('"', col.n), empty)]
@@ -324,10 +334,11 @@ def _optional_attr(name: str, values: Sequence[str] | None, rows: slice, what: s
 _TABLE_LIMIT = 1e11
 
 
-def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> list[bytes]:
+def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> Iterator[bytes]:
     """``<CgPoints>`` with one ``<CgPoint>`` a line (coordinates with 6 decimals by the one rounding
     rule), laid out as byte fields a block of rows at a time (:mod:`stakeout.writers.rows`): the
-    file's bytes in blocks.
+    file's bytes in blocks, each made when it is asked for. Every check (names, codes,
+    coordinates) is done here, before the first block.
     """
     if not isinstance(points, XPoints):
         points = XPoints(
@@ -352,7 +363,9 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> list[bytes]:
     if not np.isfinite(coords).all() or (np.abs(coords) >= 1e12).any():
         raise JobFileError("points: coordinates must be finite and below 1e12")
     d = _POINT_DECIMALS
-    names = list(points.names)
+    names = _attr_texts(list(points.names), "point name")
+    codes = None if points.codes is None else _attr_texts(points.codes, "point code")
+    descs = None if points.descs is None else _attr_texts(points.descs, "point desc")
     width = np.fromiter(map(len, names), dtype=np.int64, count=n)  # characters: the blocks' size, roughly
     large = bool(coords.size) and float(np.abs(coords).max()) >= _TABLE_LIMIT
 
@@ -366,18 +379,20 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> list[bytes]:
         return np.hstack([rows_.blank(rows_.const(" ", z.size), none),
                           rows_.blank(number(np.where(none, 0.0, z)), none)])
 
-    out = [b"  <CgPoints>\n"]
-    for a, b in rows_.row_chunks(width):
-        k = b - a
-        fields = [rows_.const('    <CgPoint name="', k), rows_.Strings(_attr_texts(names[a:b], "point name")).field(
-            slice(None)), rows_.const('"', k)]
-        fields += _optional_attr("code", points.codes, slice(a, b), "point code")
-        fields += _optional_attr("desc", points.descs, slice(a, b), "point desc")
-        fields += [rows_.const(">", k), number(nn[a:b]), rows_.const(" ", k), number(ee[a:b]), elevation(elev[a:b]),
-                   rows_.const("</CgPoint>", k)]
-        out.append(rows_.join_rows(fields, k))
-    out.append(b"  </CgPoints>\n")
-    return out
+    def blocks() -> Iterator[bytes]:
+        yield b"  <CgPoints>\n"
+        for a, b in rows_.row_chunks(width):
+            k = b - a
+            fields = [rows_.const('    <CgPoint name="', k), rows_.Strings(names[a:b]).field(slice(None)),
+                      rows_.const('"', k)]
+            fields += _optional_attr("code", codes, slice(a, b))
+            fields += _optional_attr("desc", descs, slice(a, b))
+            fields += [rows_.const(">", k), number(nn[a:b]), rows_.const(" ", k), number(ee[a:b]),
+                       elevation(elev[a:b]), rows_.const("</CgPoint>", k)]
+            yield rows_.join_rows(fields, k)
+        yield b"  </CgPoints>\n"
+
+    return blocks()
 
 
 def _renumber(el: XElement, index: int) -> XElement:

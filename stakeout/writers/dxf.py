@@ -32,7 +32,7 @@ import functools
 import io
 import math
 from collections import OrderedDict
-from collections.abc import Callable
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -50,7 +50,7 @@ from .sections import widened_traces
 from .stationmarks import labelled_stations, sheet_scale, station_spacing
 from .text import CAUTION_LINES, curve_texts
 
-__all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_png"]
+__all__ = ["LAYERS", "INSUNITS", "dxf_angle", "plan_dxf", "plan_dxf_pieces", "plan_png"]
 
 LAYERS: dict[str, int] = {
     "SO-CL": 1,
@@ -83,6 +83,11 @@ EXACT_MAX_ENTITIES = 10_000
 #: Decimals of a coordinate written in bulk above :data:`EXACT_MAX_ENTITIES`: those of the
 #: point file (0.1 mm, 0.0001 ft), which the large plan had before.
 BULK_DECIMALS = COORDINATE_DECIMALS
+
+#: Entities (or polyline vertices) of a bulk run rendered as one piece of the file: the file comes out
+#: piece by piece (:func:`plan_dxf_pieces`), so that a plan of a million stakes (about 350 MB) is never
+#: held whole; a piece of stakes is about 5 MB.  The bytes do not depend on it.
+BLOCK_ENTITIES = 32768
 
 #: Up to this many control points besides the setups' each has a small ring around its POINT;
 #: above it (a design file's survey points: 215,000 in one) a POINT and its id only, both in
@@ -382,6 +387,20 @@ def plan_dxf(d: Design) -> bytes:
     """Render ``plan.dxf`` as bytes, identical for the same job and version; with several
     alignments every one in the one drawing (setups and control drawn once).
     """
+    return b"".join(plan_dxf_pieces(d))
+
+
+def plan_dxf_pieces(d: Design) -> Iterator[bytes]:
+    """``plan.dxf`` piece by piece, in order (the bytes of :func:`plan_dxf`): ezdxf's drawing, in
+    which the bulk runs hold their handles, then each run rendered a block at a time where it goes,
+    so that no more than a block of the file is held besides the drawing's own text.
+    """
+    bulk, data, owner = _drawing(d)
+    yield from bulk.pieces(data, owner)
+
+
+def _drawing(d: Design) -> tuple[Bulk, bytes, str]:
+    """The drawing ezdxf wrote, as bytes, with the bulk runs reserved in it, and model space's handle."""
     parts = d.parts or (d,)
     bulk = Bulk()
     saved = ezdxf.options.write_fixed_meta_data_for_testing
@@ -406,7 +425,7 @@ def plan_dxf(d: Design) -> bytes:
         owner = doc.modelspace().block_record_handle
     finally:
         ezdxf.options.write_fixed_meta_data_for_testing = saved
-    return bulk.splice(stream.getvalue().encode(doc.output_encoding), owner)
+    return bulk, stream.getvalue().encode(doc.output_encoding), owner
 
 
 def _hex(values: np.ndarray) -> rows.Field:
@@ -435,8 +454,9 @@ def _stake_heights(d: Design) -> np.ndarray:
 
 
 #: A tag's value in a run of bulk entities: text on every row, a float per row (written as
-#: ezdxf writes a float: Python's shortest repr) or a text per row (ASCII: safe ids).
-Value = str | np.ndarray | list[str]
+#: ezdxf writes a float: Python's shortest repr), a text per row (ASCII: safe ids), or the field of
+#: a block of rows (a text per row made a block at a time, never all at once).
+Value = str | np.ndarray | Sequence[str] | Callable[[slice], rows.Field]
 
 
 @dataclass(frozen=True)
@@ -449,8 +469,9 @@ class Entity:
     tags: list[tuple[int, Value]]
 
 
-#: How a reserved run is written: (first handle, model space's handle, numbers exact?) -> bytes.
-Render = Callable[[int, str, bool], list[bytes]]
+#: How a reserved run is written: (first handle, model space's handle, numbers exact?) -> its bytes,
+#: a block of :data:`BLOCK_ENTITIES` entities (or vertices) a piece.
+Render = Callable[[int, str, bool], Iterator[bytes]]
 
 
 class Bulk:
@@ -458,11 +479,12 @@ class Bulk:
     ezdxf writes them (checked by a test against entities ezdxf drew).
 
     :meth:`reserve` puts a placeholder POINT where the run goes and skips the handles of the run,
-    so every entity ezdxf draws afterwards has the handle it would have had; :meth:`splice` puts
-    each run in place of its placeholder.  Up to :data:`EXACT_MAX_ENTITIES` entities (and
+    so every entity ezdxf draws afterwards has the handle it would have had (and the header its
+    handle seed); :meth:`pieces` puts each run in place of its placeholder, rendered a block at a
+    time as the file is written.  Up to :data:`EXACT_MAX_ENTITIES` entities (and
     polyline vertices) in all their numbers are written as ezdxf writes them, above it to
     :data:`BULK_DECIMALS` decimals.  A run is one row per item (a stake, a control point) of one
-    or more entities each, or one polyline, rendered in blocks of rows, each from whole columns.
+    or more entities each, or one polyline, rendered in blocks of rows from whole columns.
     """
 
     def __init__(self) -> None:
@@ -477,7 +499,7 @@ class Bulk:
 
     def reserve(self, msp: Any, count: int, entities: Callable[[], tuple[int, list[Entity]]]) -> None:
         """Reserve ``count`` handles here for the entities ``entities()`` gives (rows, entities a row)."""
-        def render(first: int, owner: str, exact: bool) -> list[bytes]:
+        def render(first: int, owner: str, exact: bool) -> Iterator[bytes]:
             n, ents = entities()
             assert n * len(ents) == count
             return _entity_rows(first, owner, n, ents, exact)
@@ -487,50 +509,58 @@ class Bulk:
 
     def reserve_polyline(self, msp: Any, layer: str, x: np.ndarray, y: np.ndarray) -> None:
         """Reserve an open LWPOLYLINE through (x, y) here, as ``msp.add_lwpolyline`` draws it."""
-        def render(first: int, owner: str, exact: bool) -> list[bytes]:
-            head = (f"  0\nLWPOLYLINE\n  5\n{first:X}\n330\n{owner}\n100\nAcDbEntity\n  8\n{layer}\n"
-                    f"100\nAcDbPolyline\n 90\n{x.size}\n 70\n0\n").encode("ascii")
-            out = [head]
-            for i in range(0, x.size, 16384):
-                sl = slice(i, min(x.size, i + 16384))
+        def render(first: int, owner: str, exact: bool) -> Iterator[bytes]:
+            yield (f"  0\nLWPOLYLINE\n  5\n{first:X}\n330\n{owner}\n100\nAcDbEntity\n  8\n{layer}\n"
+                   f"100\nAcDbPolyline\n 90\n{x.size}\n 70\n0\n").encode("ascii")
+            ex, ey = _exact(x, exact), _exact(y, exact)
+            for i in range(0, x.size, BLOCK_ENTITIES):
+                sl = slice(i, min(x.size, i + BLOCK_ENTITIES))
                 k = sl.stop - i
-                out.append(rows.join_rows([rows.const(" 10\n", k), _floats(x[sl], exact), rows.const("\n 20\n", k),
-                                           _floats(y[sl], exact)], k))
-            return out
+                yield rows.join_rows([rows.const(" 10\n", k), _floats(x[sl], ex), rows.const("\n 20\n", k),
+                                      _floats(y[sl], ey)], k)
 
         self._reserve(msp, 1, x.size, render)
 
-    def splice(self, data: bytes, owner: str) -> bytes:
-        """The drawing ``data`` with each placeholder replaced by its run (``owner``: the model space's handle)."""
-        pieces, at = [], 0
+    def pieces(self, data: bytes, owner: str) -> Iterator[bytes]:
+        """The drawing ``data`` piece by piece, each placeholder replaced by its run rendered a block
+        at a time (``owner``: the model space's handle).
+        """
+        at = 0
         exact = self.size <= EXACT_MAX_ENTITIES
         for first, render in self.runs:
             # "  0" on a line of its own before "POINT" can only be a group code: an entity starts here
             start = data.index(b"\n  0\nPOINT\n  5\n%X\n" % first, max(at - 1, 0)) + 1
-            pieces.append(data[at:start])
-            pieces += render(first, owner, exact)
+            yield data[at:start]
+            yield from render(first, owner, exact)
             at = data.index(b"\n  0\n", start) + 1
-        pieces.append(data[at:])
-        return b"".join(pieces)
+        yield data[at:]
+
+
+def _exact(values: np.ndarray, exact: bool) -> bool:
+    """Whether a column of floats is written as ezdxf writes them: ``exact``, or some value too
+    large for the digit tables (decided for the whole column, so no block decides on its own).
+    """
+    return exact or bool(values.size and np.abs(values).max() >= 1e12)
 
 
 def _floats(values: np.ndarray, exact: bool) -> rows.Field:
     """Floats one a row: as ezdxf writes them (``str(float)``, the shortest text that reads back
     exactly) when ``exact``, else with :data:`BULK_DECIMALS` decimals (from the digit tables).
     """
-    if exact or not values.size or np.abs(values).max() >= 1e12:
+    if exact:
         return rows.text(list(map(repr, values.tolist())))
     return rows.fixed(values, BULK_DECIMALS)
 
 
-def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> list[bytes]:
+def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool) -> Iterator[bytes]:
     """``n`` rows of the entities ``ents`` each, with handles from ``first`` in row order, the
-    numbers written in full (``exact``) or to :data:`BULK_DECIMALS` decimals.
+    numbers written in full (``exact``) or to :data:`BULK_DECIMALS` decimals; a block of rows
+    (:data:`BLOCK_ENTITIES` entities) a piece.
     """
     m = len(ents)
-    out = []
-    step = 16384
-    for i in range(0, n, step):  # blocks bound the temporaries; each is vectorised
+    step = max(1, BLOCK_ENTITIES // m)
+    full = {id(v): _exact(v, exact) for ent in ents for _, v in ent.tags if isinstance(v, np.ndarray)}
+    for i in range(0, n, step):  # blocks bound the temporaries and the piece; each is vectorised
         k = min(n, i + step) - i
         sl = slice(i, i + k)
         fields: list[rows.Field] = []
@@ -545,15 +575,17 @@ def _entity_rows(first: int, owner: str, n: int, ents: list[Entity], exact: bool
                     text += value
                     continue
                 fields.append(rows.const(text, k))
-                fields.append(_floats(value[sl], exact) if isinstance(value, np.ndarray) else rows.text(value[sl]))
+                if isinstance(value, np.ndarray):
+                    fields.append(_floats(value[sl], full[id(value)]))
+                else:
+                    fields.append(value(sl) if callable(value) else rows.text(value[sl]))
                 text = ""
             fields.append(rows.const(text, k))
             head = "\n"
-        out.append(rows.join_rows(fields, k))
-    return out
+        yield rows.join_rows(fields, k)
 
 
-def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: list[str]) -> list[tuple[int, Value]]:
+def _text_tags(x: np.ndarray, y: np.ndarray, height: float, texts: Value) -> list[tuple[int, Value]]:
     """The tags ezdxf writes for ``_text`` at (x, y), left-aligned and unrotated, after its subclass."""
     return [(10, x), (20, y), (30, "0.0"), (40, repr(height)), (1, texts), (7, TEXT_STYLE), (11, x), (21, y),
             (31, "0.0"), (100, "AcDbText")]
@@ -571,7 +603,18 @@ def _stake_entities(d: Design, h: float) -> tuple[int, list[Entity]]:
     sp = d.stakes
     e, n = sp.easting, sp.northing
     return len(sp), [Entity("POINT", "SO-STAKE", "AcDbPoint", [(10, e), (20, n), (30, _stake_heights(d))]),
-                     Entity("TEXT", "SO-STAKE-NO", "AcDbText", _text_tags(e + 0.4 * h, n + 0.4 * h, 0.6 * h, sp.point))]
+                     Entity("TEXT", "SO-STAKE-NO", "AcDbText",
+                            _text_tags(e + 0.4 * h, n + 0.4 * h, 0.6 * h, functools.partial(_stake_ids, sp)))]
+
+
+def _stake_ids(sp: StakePoints, s: slice) -> rows.Field:
+    """The ids of stakes ``s`` (prefix + number; the ids the job gave as written), made a block at
+    a time: the list of every id (:attr:`StakePoints.point`) would hold a million strings.
+    """
+    if s.stop > sp.numbered:
+        return rows.text([sp.point_id(i) for i in range(s.start, s.stop)])
+    return np.hstack([rows.const(sp.prefix, s.stop - s.start),
+                      rows.integer(np.arange(sp.first_point + s.start, sp.first_point + s.stop, dtype=np.int64))])
 
 
 def plan_png(dxf_bytes: bytes) -> bytes:

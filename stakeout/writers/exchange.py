@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime as _dt
 import math
 import os
+from collections.abc import Iterator
 from typing import Any
 
 import numpy as np
@@ -25,10 +26,10 @@ import numpy as np
 from .. import __version__
 from ..design import Design
 from ..errors import OutputError, StakeoutError
-from ..landxml import XPVI, XEquation, XPoints, write_landxml
+from ..landxml import XPVI, XEquation, XPoints, landxml_pieces
 from ..numbers import round_to
 
-__all__ = ["alignment_xml"]
+__all__ = ["alignment_xml", "alignment_xml_pieces"]
 
 
 def _profile(d: Design) -> list[XPVI] | None:
@@ -106,12 +107,19 @@ def alignment_xml(d: Design) -> bytes:
     """Render ``alignment.xml`` (LandXML 1.2, the same bytes for the same design): every
     alignment with its profile, every stake and the control.
     """
+    return b"".join(alignment_xml_pieces(d))
+
+
+def alignment_xml_pieces(d: Design) -> Iterator[bytes]:
+    """``alignment.xml`` piece by piece (the stakes a block at a time); every check is done
+    before the first piece.
+    """
     points = _points(d)
     name = d.job.info.name or d.alignment.name
     first, *more = [_alignment_record(p) for p in (d.parts or (d,))]
     try:
-        return write_landxml(d.unit.key, first[0], first[1], first[2], first[3], first[4], points, "stakeout",
-                             f"staked design of {name}"[:200], profile_name=first[5],
-                             application_version=__version__, created=source_date(), more_alignments=more)
+        return landxml_pieces(d.unit.key, first[0], first[1], first[2], first[3], first[4], points, "stakeout",
+                              f"staked design of {name}"[:200], profile_name=first[5],
+                              application_version=__version__, created=source_date(), more_alignments=more)
     except StakeoutError as exc:  # name the output and the part of the job it comes from
         raise type(exc)(f"alignment.xml (the LandXML export of [alignment] and [profile]): {exc}") from None

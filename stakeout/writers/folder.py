@@ -103,10 +103,10 @@ IN_FLIGHT = 8
 class _File:
     """One output file being written by the background thread: its handle, hash and size."""
 
-    def __init__(self, path: Path, name: str) -> None:
+    def __init__(self, path: Path, name: str, hashed: bool = True) -> None:
         self.path = path
         self.name = name
-        self.sha256 = hashlib.sha256()
+        self.sha256 = hashlib.sha256() if hashed else None
         self.size = 0
         self._fh: "BinaryIO | None" = None
 
@@ -117,7 +117,8 @@ class _File:
         if self._fh is None:  # its open failed, and said so
             return
         self._fh.write(data)
-        self.sha256.update(data)
+        if self.sha256 is not None:
+            self.sha256.update(data)
         self.size += len(data)
 
     def close(self) -> None:
@@ -272,8 +273,9 @@ class OutputFolder:
     """
 
     def __init__(self, target: str | Path, force: bool = False, option: str = "--out",
-                 protect: tuple[str | Path, ...] = ()):
+                 protect: tuple[str | Path, ...] = (), hashes: bool = True):
         self.target = Path(target).absolute()
+        self.hashes = hashes  # hash each file as it is written (for a manifest): False saves that work
         self.force = force
         self.option = option
         self.tmp: Path | None = None
@@ -450,7 +452,7 @@ class OutputFolder:
         self._raise_failed()
         if self._writer is None:
             self._writer = ThreadPoolExecutor(max_workers=1, thread_name_prefix="stakeout-write")
-        f = self._files[name] = _File(self.path(name), name)
+        f = self._files[name] = _File(self.path(name), name, self.hashes)
         self._submit(f, f.open)
         for c in chunks:
             if c:
@@ -477,9 +479,11 @@ class OutputFolder:
                 f.result()
 
     def written(self) -> dict[str, tuple[str, int]]:
-        """Every file written so far: name -> (SHA-256 in hex, bytes), once all are on disk."""
+        """Every file written so far: name -> (SHA-256 in hex, bytes), once all are on disk
+        (only with ``hashes``).
+        """
         self._raise_failed(wait=True)
-        return {name: (f.sha256.hexdigest(), f.size) for name, f in self._files.items()}
+        return {name: (f.sha256.hexdigest(), f.size) for name, f in self._files.items() if f.sha256 is not None}
 
     def commit(self) -> None:
         """Move the finished folder into place (replacing the old one with force).

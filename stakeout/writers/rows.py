@@ -14,7 +14,9 @@ blocks so that a few very long texts do not widen every field.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+import os
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -22,7 +24,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
-           "station", "optional", "overlay", "packed", "Strings", "row_chunks"]
+           "station", "optional", "overlay", "packed", "Strings", "row_chunks", "in_order"]
 
 Field = NDArray[np.uint8]
 _LIMIT = 10**17  # largest scaled value handled exactly
@@ -290,3 +292,32 @@ def row_chunks(width: NDArray[np.int64], rows: int = 16384, budget: int = 16384 
     if s0 < n:
         out.append((s0, n))
     return out
+
+
+def in_order(render: Callable[[int], bytes], starts: Iterable[int]) -> Iterator[bytes]:
+    """``render(s)`` for each of ``starts``, in order: on the cores the build's other threads
+    leave free (numpy releases the GIL in its loops; one core is kept for the thread writing the
+    files and the caller), each worker at most one piece ahead of the reader, so the pieces
+    waiting in memory stay few whatever the file's size. On two cores that is one: measured, two
+    render threads there were slower than one (benchmarks/run.py, DEVELOPERS.md).
+    """
+    todo = iter(starts)
+    workers = min(4, (os.cpu_count() or 1) - 1)
+    if workers < 2:
+        yield from map(render, todo)
+        return
+    first = next(todo, None)
+    if first is None:
+        return
+    second = next(todo, None)
+    if second is None:
+        yield render(first)
+        return
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        ahead: list[Future[bytes]] = [pool.submit(render, first), pool.submit(render, second)]
+        for s in todo:
+            if len(ahead) >= 2 * workers:
+                yield ahead.pop(0).result()
+            ahead.append(pool.submit(render, s))
+        for f in ahead:
+            yield f.result()

@@ -7,9 +7,7 @@ needs quoting; :func:`csv_field` quotes anything else per RFC 4180.
 
 from __future__ import annotations
 
-import os
-from collections.abc import Callable, Sequence
-from concurrent.futures import ThreadPoolExecutor
+from collections.abc import Callable, Iterator, Sequence
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -60,8 +58,9 @@ class _PerPoint:
     code and feature formatted once per chunk).
     """
 
-    def __init__(self, sp: StakePoints, p0: int, p1: int):
+    def __init__(self, sp: StakePoints, p0: int, p1: int, shared: dict[str, rows.Field] | None = None):
         self.sp = sp
+        self.shared = {} if shared is None else shared  # what every chunk of one file uses, made once
         self.p = slice(p0, p1)
         self.n = p1 - p0
         self.m = sp.offsets.size
@@ -119,16 +118,20 @@ class _PerPoint:
     def region(self) -> rows.Field:
         return self.per_station(rows.integer(self.sp.all_regions[self.u]))
 
-    def _features(self, words: list[str]) -> rows.Field:
-        """Per point, the text ``words`` gives for each of :attr:`StakePoints.all_features`."""
+    def _features(self, key: str, words: Callable[[], list[str]]) -> rows.Field:
+        """Per point, the text ``words()`` gives for each of :attr:`StakePoints.all_features`
+        (laid out once a file, under ``key``).
+        """
+        table = self.shared.get(key)
+        if table is None:
+            table = self.shared[key] = rows.text(words())
         if self.take is None:
-            return rows.repeat_rows(rows.text([words[i] for i in self.u.tolist()]), self.m)
-        u, inv = np.unique(self.sp.feature_of[self.p], return_inverse=True)
-        return rows.text([words[i] for i in u.tolist()])[inv]
+            return rows.repeat_rows(table[self.u], self.m)
+        return table[self.sp.feature_of[self.p]]
 
     def feature_words(self) -> rows.Field:
         """Features followed by a space, or nothing, per point."""
-        return self._features([f + " " if f else "" for f in self.sp.all_features])
+        return self._features("feature words", lambda: [f + " " if f else "" for f in self.sp.all_features])
 
     def side_offset(self, decimals: int) -> rows.Field:
         """The offset's size and side, ``16.00 LT`` / ``12.00 RT`` / ``0.00``."""
@@ -149,7 +152,7 @@ class _PerPoint:
         return rows.tile_rows(both, self.k)
 
     def feature(self) -> rows.Field:
-        return self._features(list(self.sp.all_features))
+        return self._features("features", lambda: list(self.sp.all_features))
 
     def elevation(self) -> rows.Field:
         """Design elevations, empty where a stake has none (a reference stake)."""
@@ -192,25 +195,25 @@ class _PerPoint:
         return [rows.blank(np.concatenate(default, axis=1), own), table[np.where(own, di, len(texts) - 1)]]
 
 
-def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], list[rows.Field]]) -> bytes:
-    """Render a per-point CSV in chunks (whole stations of a plain grid)."""
+def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], list[rows.Field]]
+         ) -> Iterator[bytes]:
+    """Render a per-point CSV in chunks (whole stations of a plain grid): the header, then each
+    chunk's rows as one piece, rendered on every core and never more than a few ahead.
+    """
     m = max(1, sp.offsets.size)
     step = _CHUNK_ROWS if sp.layout is not None else max(1, _CHUNK_ROWS // m) * m
-    starts = range(0, len(sp), step)
+
+    shared: dict[str, rows.Field] = {}
 
     def chunk(p0: int) -> bytes:  # each chunk is vectorised
-        part = _PerPoint(sp, p0, min(p0 + step, len(sp)))
+        part = _PerPoint(sp, p0, min(p0 + step, len(sp)), shared)
         return rows.join_rows(layout(part), part.n)
 
-    head = (",".join(header) + "\n").encode("ascii")
-    if len(starts) < 2:
-        return head + b"".join(map(chunk, starts))
-    # numpy releases the GIL in its loops: chunks render on every core, in order
-    with ThreadPoolExecutor(max_workers=min(4, os.cpu_count() or 1)) as pool:
-        return head + b"".join(pool.map(chunk, starts))
+    yield (",".join(header) + "\n").encode("ascii")
+    yield from rows.in_order(chunk, range(0, len(sp), step))
 
 
-def points_csv(design: Design) -> bytes:
+def points_csv(design: Design) -> Iterator[bytes]:
     """``points.csv``: the file a crew loads onto a data collector."""
     d = DECIMALS
     sp, unit = design.stakes, design.unit
@@ -225,7 +228,7 @@ def points_csv(design: Design) -> bytes:
     return _csv(POINTS_COLUMNS, sp, layout)
 
 
-def stations_csv(design: Design) -> bytes:
+def stations_csv(design: Design) -> Iterator[bytes]:
     """``stations.csv``: every staked point with where it sits on the alignment."""
     d = DECIMALS
     sp = design.stakes
@@ -291,7 +294,7 @@ SETUP_COLUMNS = ("setup", "occupied", "backsight")
 PRECISION_COLUMNS = ("sigma_along", "sigma_across", "r95")
 
 
-def setout_csv(design: Design) -> bytes:
+def setout_csv(design: Design) -> Iterator[bytes]:
     """``setout.csv``: angle and distance from each stake's occupied point.
 
     Added columns, after the contract's: ``zenith_deg,slope_distance`` with
@@ -449,7 +452,7 @@ def restake_csv(d: Design, r: "CheckResult") -> bytes:
     row exactly as in ``points.csv`` (the rows are taken from it).
     """
     parts = d.parts or (d,)  # several alignments: every alignment's stakes, as in points.csv
-    data = np.frombuffer(csv_rows([points_csv(p) for p in parts]), dtype=np.uint8)
+    data = np.frombuffer(csv_rows([b"".join(points_csv(p)) for p in parts]), dtype=np.uint8)
     line_of_byte = np.concatenate([[0], np.cumsum(data[:-1] == 10)])  # line 0 is the header
     # one line per stake (no text field holds a line break: the job-file readers refuse them)
     keep = np.zeros(sum(len(p.stakes) for p in parts) + 1, dtype=bool)
