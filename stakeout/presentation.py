@@ -369,9 +369,10 @@ class Presentation:
         ew = self.d.earthwork
         if ew is None or ew.slopes is None:
             return 0, 0, ""
-        notes = [str(t) for t in ew.slopes.result.note.tolist() if t]
-        why = ", ".join(f"{notes.count(t)} {t}" for t in sorted(set(notes)))
-        return len(notes), len(ew.slopes.side), why
+        note = np.asarray(ew.slopes.result.note, dtype=str)
+        words, counts = np.unique(note[note != ""], return_counts=True)  # code-point order, as sorted()
+        why = ", ".join(f"{c} {t}" for t, c in zip(words.tolist(), counts.tolist()))
+        return int(counts.sum()), len(ew.slopes.side), why
 
     @cached_property
     def slope_stake_ids(self) -> tuple[list[str], list[str]]:

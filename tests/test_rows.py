@@ -51,3 +51,16 @@ def test_integers(xs):
 def test_text_and_join():
     f = [rows.text(["A1", "", "LONGER"]), rows.const(",", 3), rows.fixed(np.array([-0.00001, 2.5, -3.0]), 2)]
     assert rows.join_rows(f, 3) == b"A1,0.00\n,2.50\nLONGER,-3.00\n"
+
+
+def test_packed_moves_each_text_to_one_end():
+    f = np.array([[0, 45, 0, 0, 53, 46, 48], [0, 0, 0, 49, 50, 46, 53], [0, 0, 0, 0, 0, 0, 0]], dtype=np.uint8)
+    assert [bytes(r).rstrip(b"\0") for r in rows.packed(f)] == [b"-5.0", b"12.5", b""]
+    assert [bytes(r).lstrip(b"\0") for r in rows.packed(f, right=True)] == [b"-5.0", b"12.5", b""]
+    assert rows.packed(f).shape == (3, 4) and rows.packed(f[:0]).shape == (0, 0)
+
+
+def test_overlay_replaces_rows_and_widens():
+    f = rows.text(["ab", "cd", "ef"])
+    out = rows.overlay(f, np.array([False, True, False]), rows.text(["long"]))
+    assert rows.join_rows([out], 3) == b"ab\nlong\nef\n"

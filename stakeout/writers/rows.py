@@ -24,7 +24,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..numbers import scaled
 
 __all__ = ["Field", "fixed", "integer", "text", "const", "blank", "repeat_rows", "tile_rows", "join_rows", "dms",
-           "station", "optional", "Strings", "row_chunks", "in_order"]
+           "station", "optional", "overlay", "packed", "Strings", "row_chunks", "in_order"]
 
 Field = NDArray[np.uint8]
 _LIMIT = 10**17  # largest scaled value handled exactly
@@ -203,6 +203,29 @@ def optional(values: ArrayLike, decimals: int) -> Field:
     x = np.asarray(values, dtype=float).ravel()
     finite = np.isfinite(x)
     return blank(fixed(np.where(finite, x, 0.0), decimals), ~finite)
+
+
+def overlay(f: Field, where: NDArray[np.bool_], g: Field) -> Field:
+    """``f`` with its rows ``where`` replaced by the rows of ``g`` (one for each True), as wide as the wider."""
+    out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
+    out[:, :f.shape[1]] = f
+    out[where] = 0
+    out[where, :g.shape[1]] = g
+    return out
+
+
+def packed(f: Field, right: bool = False) -> Field:
+    """Each row's bytes moved to its left end (``right``: its right end) in order, the padding (NUL)
+    on the other side: each text one run, as an aligned column wants it (a field joined of parts
+    padded on the left, a sign apart from the digits of a short number).
+    """
+    keep = f != 0
+    n = keep.sum(axis=1)
+    w = int(n.max()) if n.size else 0
+    out = np.zeros((f.shape[0], w), dtype=np.uint8)
+    at = np.arange(w)[None, :]
+    out[at >= (w - n)[:, None] if right else at < n[:, None]] = f[keep]
+    return out
 
 
 class Strings:

@@ -37,7 +37,7 @@ __all__ = [
     # tables from whole columns (long tables: the setout and deflection sheets)
     "Cells", "Texts", "Coded", "Formatted", "Joined", "Same", "Stacked", "station_labels", "FieldColumn",
     "FieldTable", "Block", "Records", "TableRecords", "table_records", "paged_bytes", "paged_pieces",
-    "PIECE_LINES", "fixed_format", "dms_format", "setout_fields",
+    "PIECE_LINES", "fixed_format", "dms_format", "setout_fields", "number_cells",
 ]
 
 #: The cautions printed at the foot of every sheet and report.
@@ -763,12 +763,7 @@ class Formatted:
             bad &= ~self.empty[which]
         if bad.any():  # few: each as Python writes it
             words = rows.Strings([str(x) for x in v[bad].tolist()])
-            g = words.field(slice(None))
-            out = np.zeros((f.shape[0], max(f.shape[1], g.shape[1])), dtype=np.uint8)
-            out[:, :f.shape[1]] = f
-            out[bad] = 0
-            out[bad, :g.shape[1]] = g
-            f = out
+            f = rows.overlay(f, bad, words.field(slice(None)))
         return f
 
     def filled(self, which: NDArray[np.intp]) -> NDArray[np.bool_]:
@@ -1273,7 +1268,7 @@ def dms_format(wrap360: bool) -> Callable[[NDArray[np.float64]], rows.Field]:
     return lambda v: rows.dms(v, 0, wrap360)
 
 
-def _number(values: NDArray[np.float64], decimals: int) -> Formatted:
+def number_cells(values: NDArray[np.float64], decimals: int) -> Formatted:
     """Numbers to ``decimals``, empty where NaN (a stake without the number)."""
     v = np.asarray(values, dtype=float)
     return Formatted(v, fixed_format(decimals), np.isnan(v))
@@ -1304,19 +1299,19 @@ def setout_fields(d: Design) -> list[tuple[str, bool, Cells]]:
         ("code", False, Coded(Texts.of(sp.all_codes), sp.code_of)),
         ("feature", False, Coded(Texts.of(sp.all_features), sp.feature_of)),
         ("angle_right", False, Formatted(np.asarray(so.angle_right, dtype=float), dms_format(True), at)),
-        ("grid_distance", False, _number(so.grid_distance, 3)),
-        ("ground_distance", False, _number(so.ground_distance, 3))]
+        ("grid_distance", False, number_cells(so.grid_distance, 3)),
+        ("ground_distance", False, number_cells(so.ground_distance, 3))]
     if sp.elevation is not None:
-        out.append(("design_elevation", False, _number(sp.elevation, 3)))
+        out.append(("design_elevation", False, number_cells(sp.elevation, 3)))
     if so.zenith is not None and so.slope_distance is not None:
         z = np.asarray(so.zenith, dtype=float)
         out.append(("zenith", False, Formatted(z, dms_format(False), np.isnan(z))))  # no height, no zenith
-        out.append(("slope_distance", True, _number(so.slope_distance, 3)))
+        out.append(("slope_distance", True, number_cells(so.slope_distance, 3)))
     prec = sd.precision
     if prec is not None:
-        out.append(("sigma_along", False, _number(prec.sigma_along, 4)))
-        out.append(("sigma_across", True, _number(prec.sigma_across, 4)))
-        out.append(("r95", True, _number(prec.r95, 4)))
+        out.append(("sigma_along", False, number_cells(prec.sigma_along, 4)))
+        out.append(("sigma_across", True, number_cells(prec.sigma_across, 4)))
+        out.append(("r95", True, number_cells(prec.r95, 4)))
     flagged = np.zeros(n, dtype=bool) if sd.flagged is None else np.asarray(sd.flagged, dtype=bool)
     if at.any() or flagged.any():
         words = ["", AT_INSTRUMENT_NOTE, FLAG, f"{AT_INSTRUMENT_NOTE}; {FLAG}"]
