@@ -216,7 +216,7 @@ OUTPUTS: tuple[Output, ...] = (
     Output("slopestakes", "slopestakes.csv", "one row per staked station and side: hinge, catch point, reference "
            "stake", "earthwork:slopestakes_csv", applies=_has_slope_stakes, absent="the job has no [slope_stakes]"),
     Output("slopestakes-sheet", "slopestakes.txt", "the printable slope-stake sheet with the lath markings",
-           "earthwork:slopestakes_sheet", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True,
+           "earthwork:slopestakes_sheet_pieces", applies=_has_slope_stakes, absent="the job has no [slope_stakes]", wide=True,
            several="sheets"),
     Output("sections-picture", "sections.svg", "the cross-sections at each station with both catch points: ground, "
            "design template, hinges, catch and reference stakes, areas", "sections_picture:sections_svg",

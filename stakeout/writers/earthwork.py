@@ -26,11 +26,11 @@ from ..design import Design
 from ..staking import StakePoints
 from . import rows
 from .csvtext import FORMULA_LEADS, csv_field, csv_text_field
-from .text import (WIDE, WIDTH, Cells, Coded, FieldColumn, FieldTable, Formatted, Joined, Same, SheetPart, Texts,
-                   fixed_format, header_lines, number_cells, paged_bytes, station_labels, table_records, wrap_lines)
+from .text import (WIDE, WIDTH, Cells, Coded, FieldColumn, FieldTable, Formatted, Joined, Same, SheetPart, TableRecords,
+                   Texts, fixed_format, header_lines, number_cells, paged_pieces, station_labels, wrap_lines)
 
 __all__ = ["SLOPESTAKES_COLUMNS", "VOLUMES_COLUMNS", "CHUNK_ROWS", "slopestakes_csv", "slopestakes_sheet",
-           "volumes_csv"]
+           "slopestakes_sheet_pieces", "volumes_csv"]
 
 #: Decimals of the sheet's offsets and elevations.
 SHEET_DECIMALS = 3
@@ -257,10 +257,15 @@ def _sheet_numbers(values: NDArray[np.float64]) -> _Packed:
 
 
 def slopestakes_sheet(design: Design, wide: bool = False) -> bytes:
-    """``slopestakes.txt``: per staked station and side the hinge, the catch stake and the
-    reference stake, each with what the crew writes on its lath (``C 3.42 @ 26.40``: cut or
-    fill to the hinge, at the horizontal distance to it); 80 columns (``wide``: one line
-    per record) and 60 lines a page.
+    """``slopestakes.txt`` whole (:func:`slopestakes_sheet_pieces` joined)."""
+    return b"".join(slopestakes_sheet_pieces(design, wide))
+
+
+def slopestakes_sheet_pieces(design: Design, wide: bool = False) -> Iterator[bytes]:
+    """``slopestakes.txt``, a run of pages at a time (:func:`~stakeout.writers.text.paged_pieces`):
+    per staked station and side the hinge, the catch stake and the reference stake, each with
+    what the crew writes on its lath (``C 3.42 @ 26.40``: cut or fill to the hinge, at the
+    horizontal distance to it); 80 columns (``wide``: one line per record) and 60 lines a page.
     """
     ew = design.earthwork
     assert ew is not None and ew.slopes is not None
@@ -284,10 +289,10 @@ def slopestakes_sheet(design: Design, wide: bool = False) -> bytes:
         FieldColumn("Lath (reference)", _lath(res.vd_to_hinge, res.ref_dist), "<", with_previous=True),
         FieldColumn("Note", _coded(res.note), "<", with_previous=True),
     ], width)
-    records = table_records(table, np.arange(len(r.side), dtype=np.intp))
+    records = TableRecords(table, np.arange(len(r.side), dtype=np.intp))  # laid out as their pages are written
     missing, _, why = design.presentation.catch_gaps
     foot = ["Lath: C (cut) or F (fill) from the ground at the stake up or down to the hinge,",
             "@ the horizontal distance from the stake to the hinge; offsets negative left.",
             f"{missing} of {len(r.side)} station side(s) without a catch point" + (f" ({why})." if why else "."),
             "Catch and reference point ids are numbered after the last stake of the job."]
-    return paged_bytes(head, [SheetPart([], table.heads(), records)], f"{title}   {design.job.info.name}", foot, page)
+    return paged_pieces(head, [SheetPart([], table.heads(), records)], f"{title}   {design.job.info.name}", foot, page)
