@@ -203,9 +203,21 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     progress = Progress(len(files) + 1, count)
     progress.step("computed")
     with folder:
-        for o in files:  # written piece by piece as rendered; per-point CSVs render their chunks on every core
-            folder.write_chunks(o.filename, o.chunks(d, done))
-            progress.step(o.filename)
+        from .beside import start
+
+        # above a size, a second process renders the text sheets and the LandXML meanwhile
+        beside, here = start(d, files, folder, done, count)
+        try:
+            for o in here:  # written piece by piece as rendered
+                folder.write_chunks(o.filename, o.chunks(d, done))
+                progress.step(o.filename)
+            if beside is not None:
+                for name, (digest, size) in beside.finish().items():
+                    folder.adopt(name, digest, size)
+                    progress.step(name)
+        finally:
+            if beside is not None:
+                beside.abandon()
         if any(o.name == "manifest" for o in outputs):
             from .writers.manifest import manifest_json  # importlib.metadata: only when a manifest is asked for
 
@@ -279,7 +291,7 @@ def run_check(job_path: str | Path, staked: str | Path, out: str | Path, force: 
     cols = parse_columns(columns)
     check_file_name(str(staked), "staked file", StakedFileError)
     shots = read_shots(staked, cols, delimiter, columns_given=columns is not None)
-    folder = OutputFolder(out, force, protect=job.inputs() + (staked,))
+    folder = OutputFolder(out, force, protect=job.inputs() + (staked,), hashes=False)  # no manifest
     d = build_design(job)
     parts = d.parts or (d,)
     for part in parts:

@@ -132,6 +132,21 @@ class _File:
             fh.close()
 
 
+def write_file(folder: "OutputFolder", name: str, chunks: Iterable[bytes]) -> tuple[str | None, int]:
+    """Write one file into ``folder``'s temporary folder here and now, piece by piece (a second
+    process rendering some of a build's outputs): its SHA-256 (when the folder hashes) and size.
+    """
+    f = _File(folder.path(name), name, folder.hashes)
+    try:
+        f.open()
+        for c in chunks:
+            f.append(c)
+        f.close()
+    except OSError as exc:
+        raise OutputError(f"{folder.option} {str(folder.target)!r}: cannot write {name} ({exc.strerror})") from None
+    return (None if f.sha256 is None else f.sha256.hexdigest()), f.size
+
+
 def committed_targets() -> tuple[Path, ...]:
     """Every output folder put in place by this process so far, oldest first.
 
@@ -283,6 +298,7 @@ class OutputFolder:
         self._writer: ThreadPoolExecutor | None = None  # writes files while the next output renders
         self._pending: list[Future[None]] = []
         self._files: dict[str, _File] = {}  # what is written, with its hash and size once written
+        self._adopted: dict[str, tuple[str, int]] = {}  # written by another process: hash and size
         self._check_protected(protect)
         self.litter_notes: list[str] = []
         self._clean_litter()
@@ -483,7 +499,14 @@ class OutputFolder:
         (only with ``hashes``).
         """
         self._raise_failed(wait=True)
-        return {name: (f.sha256.hexdigest(), f.size) for name, f in self._files.items() if f.sha256 is not None}
+        out = {name: (f.sha256.hexdigest(), f.size) for name, f in self._files.items() if f.sha256 is not None}
+        out.update(self._adopted)
+        return out
+
+    def adopt(self, name: str, sha256: str | None, size: int) -> None:
+        """Count a file another process wrote into the temporary folder (:func:`write_file`)."""
+        if sha256 is not None:
+            self._adopted[name] = (sha256, size)
 
     def commit(self) -> None:
         """Move the finished folder into place (replacing the old one with force).

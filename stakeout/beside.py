@@ -1,0 +1,150 @@
+"""Some outputs rendered by a second process while the build renders the rest.
+
+A corridor's outputs are independent once the design is built, and the build
+renders them one after another on one core (numpy releases the interpreter
+lock only inside its loops, so threads gain little: measured). On Linux, for
+a build of at least :data:`MIN_STAKES` stakes on a machine with two cores or
+more, the build forks once, before it writes anything: the child renders the
+outputs of :data:`BESIDE` (the text sheets and the LandXML, which need
+nothing another output made) straight into the temporary folder, and the
+parent renders the others. The child shares the design with the parent
+(copy on write), so nothing is sent between them but, at the end, each file's
+size and hash, or the child's error, which the parent raises as its own.
+
+Each file is made by the same function either way, so the bytes are the same
+(tests/test_beside.py). Interrupted (Ctrl-C, SIGTERM), or failing itself, the
+parent kills and waits for the child before the temporary folder is removed.
+``MIN_STAKES`` and the gain are measured by benchmarks/run.py (DEVELOPERS.md).
+"""
+
+from __future__ import annotations
+
+import os
+import pickle
+import signal
+import sys
+import traceback
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
+
+from .errors import OutputError, StakeoutError
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .design import Design
+    from .outputs import Output, Rendered
+    from .writers.folder import OutputFolder
+
+__all__ = ["MIN_STAKES", "BESIDE", "Beside", "start"]
+
+#: Builds of fewer stakes render every output in one process. Measured (DEVELOPERS.md), the second
+#: process paid at every size tried, 5 % on a sample of a few hundred stakes, 9 % at 3,000, 31 % at
+#: 250,000; below this size a build takes about a second, mostly imports, and one process is the
+#: simpler to follow when something goes wrong.
+MIN_STAKES = 2_000
+#: The outputs the second process renders (``--only`` names): each is made from the design alone.
+BESIDE = ("sheet", "deflections", "landxml", "slopestakes-sheet")
+
+
+class Beside:
+    """The second process: its id, the pipe its answer comes down, and the outputs it renders."""
+
+    def __init__(self, pid: int, answer: int, outputs: Sequence["Output"]) -> None:
+        self.pid = pid
+        self.answer = answer
+        self.outputs = tuple(outputs)
+        self._open = True
+
+    def finish(self) -> dict[str, tuple[str | None, int]]:
+        """Wait for the second process; each of its files' SHA-256 (None unless hashed) and size.
+
+        Raises
+        ------
+        StakeoutError
+            The error the second process met (the same class and message), or an
+            :class:`OutputError` when it ended without an answer (killed).
+        """
+        data = b""
+        try:
+            while chunk := os.read(self.answer, 1 << 16):
+                data += chunk
+        finally:
+            self._close()
+        names = ", ".join(o.filename for o in self.outputs)
+        if not data:
+            raise OutputError(f"the second process rendering {names} ended without finishing them "
+                              "(killed, or out of memory?); nothing was written")
+        kind, *rest = pickle.loads(data)
+        if kind == "ok":
+            files: dict[str, tuple[str | None, int]] = rest[0]
+            return files
+        if kind == "error":
+            cls, message = rest
+            try:
+                err = cls(message)
+            except TypeError:
+                err = StakeoutError(message)
+            raise err
+        raise RuntimeError(f"in the second process rendering {names}: {rest[0]}")
+
+    def abandon(self) -> None:
+        """Kill the second process and wait for it (the build failed or was interrupted)."""
+        if self._open:
+            try:
+                os.kill(self.pid, signal.SIGKILL)
+            except ProcessLookupError:
+                pass
+            self._close()
+
+    def _close(self) -> None:
+        if self._open:
+            self._open = False
+            os.close(self.answer)
+            os.waitpid(self.pid, 0)
+
+
+def usable(stakes: int) -> bool:
+    """Whether a build of ``stakes`` stakes renders some outputs in a second process here."""
+    return (sys.platform.startswith("linux") and hasattr(os, "fork") and stakes >= MIN_STAKES
+            and len(os.sched_getaffinity(0)) >= 2)
+
+
+def start(design: "Design", files: Sequence["Output"], folder: "OutputFolder", done: "Rendered",
+          stakes: int) -> tuple[Beside | None, list["Output"]]:
+    """Fork the second process for the outputs of :data:`BESIDE` among ``files``, when it pays.
+
+    Call it before the build writes anything (no other thread runs then). Returns the
+    second process (None: none was started) and the outputs left to the caller.
+    """
+    mine = [o for o in files if o.name in BESIDE]
+    rest = [o for o in files if o.name not in BESIDE]
+    if not mine or not rest or not usable(stakes):
+        return None, list(files)
+    read, write = os.pipe()
+    sys.stdout.flush()
+    sys.stderr.flush()
+    pid = os.fork()
+    if pid:
+        os.close(write)
+        return Beside(pid, read, mine), rest
+    # the second process: render, answer, and leave at once (no clean-up of the parent's)
+    os.close(read)
+    code = 0
+    answer: tuple[object, ...]
+    try:
+        try:
+            from .writers.folder import write_file
+
+            answer = ("ok", {o.filename: write_file(folder, o.filename, o.chunks(design, done)) for o in mine})
+        except StakeoutError as exc:
+            answer = ("error", type(exc), str(exc))
+        except KeyboardInterrupt:
+            os._exit(130)
+        except BaseException:  # a bug: its traceback goes to the parent, which reports it
+            answer = ("crash", traceback.format_exc(limit=8))
+        data = pickle.dumps(answer)
+        while data:
+            data = data[os.write(write, data):]
+    except BaseException:
+        code = 1
+    finally:
+        os._exit(code)
