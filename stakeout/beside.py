@@ -67,8 +67,10 @@ class Beside:
         try:
             while chunk := os.read(self.answer, 1 << 16):
                 data += chunk
-        finally:
-            self._close()
+        except BaseException:  # interrupted (SIGTERM reaches the parent alone): never wait for its work
+            self.abandon()
+            raise
+        self._close()
         names = ", ".join(o.filename for o in self.outputs)
         if not data:
             raise OutputError(f"the second process rendering {names} ended without finishing them "
@@ -84,7 +86,11 @@ class Beside:
             except TypeError:
                 err = StakeoutError(message)
             raise err
-        raise RuntimeError(f"in the second process rendering {names}: {rest[0]}")
+        tb: str = rest[0]
+        last = tb.strip().splitlines()[-1] if tb.strip() else "no traceback"
+        crash = RuntimeError(f"in the second process rendering {names}: {last}")
+        crash.add_note(tb)  # the whole traceback, shown with --debug
+        raise crash
 
     def abandon(self) -> None:
         """Kill the second process and wait for it (the build failed or was interrupted)."""
@@ -113,16 +119,22 @@ def start(design: "Design", files: Sequence["Output"], folder: "OutputFolder", d
     """Fork the second process for the outputs of :data:`BESIDE` among ``files``, when it pays.
 
     Call it before the build writes anything (no other thread runs then). Returns the
-    second process (None: none was started) and the outputs left to the caller.
+    second process (None: none was started, or the fork was refused) and the outputs left
+    to the caller.
     """
     mine = [o for o in files if o.name in BESIDE]
     rest = [o for o in files if o.name not in BESIDE]
     if not mine or not rest or not usable(stakes):
         return None, list(files)
-    read, write = os.pipe()
     sys.stdout.flush()
     sys.stderr.flush()
-    pid = os.fork()
+    read, write = os.pipe()
+    try:
+        pid = os.fork()
+    except OSError:  # refused (ENOMEM under strict overcommit, EAGAIN at the process limit): one process
+        os.close(read)
+        os.close(write)
+        return None, list(files)
     if pid:
         os.close(write)
         return Beside(pid, read, mine), rest

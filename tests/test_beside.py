@@ -129,3 +129,82 @@ def test_the_parent_failing_kills_and_waits_for_the_second_process(tmp_path, mon
     assert not _partials(tmp_path)
     with pytest.raises(ChildProcessError):  # no child left to wait for
         os.waitpid(-1, os.WNOHANG)
+
+
+class _Os:
+    """``os`` as stakeout.beside sees it, with some functions replaced."""
+
+    def __init__(self, **replaced):
+        self.__dict__.update(replaced)
+
+    def __getattr__(self, name):
+        return getattr(os, name)
+
+
+def test_an_interrupt_while_waiting_for_the_second_process_waited_for_it_to_finish(tmp_path, monkeypatch, always):
+    """Regression: SIGTERM (sent to the parent alone) while the parent waited for the second
+    process's answer closed the pipe and waited for the child to finish all its work (here a
+    minute) instead of killing it; a second SIGTERM then left it running on, orphaned."""
+    import time
+
+    from stakeout.writers import sheets
+
+    def slow(design, wide=False):
+        time.sleep(25)
+        yield b"late"
+
+    def interrupted(fd, n):
+        raise KeyboardInterrupt  # what the CLI's SIGTERM handler raises, arriving during the read
+
+    monkeypatch.setattr(sheets, "setout_pieces", slow)
+    monkeypatch.setattr(beside, "os", _Os(read=interrupted))
+    t = time.monotonic()
+    with pytest.raises(KeyboardInterrupt):
+        pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "out")
+    assert time.monotonic() - t < 20
+    assert not (tmp_path / "out").exists()
+    assert not _partials(tmp_path)
+    with pytest.raises(ChildProcessError):  # killed and waited for
+        os.waitpid(-1, os.WNOHANG)
+
+
+def test_a_failed_fork_was_an_internal_error(tmp_path, monkeypatch, always):
+    """Regression: a fork refused (ENOMEM under strict overcommit, a big corridor's parent being
+    large; EAGAIN at the process limit) ended the build as an internal error and leaked the
+    pipe; the build now renders everything in one process, the same bytes."""
+    import errno
+
+    monkeypatch.setattr(beside, "MIN_STAKES", 10**12)
+    pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "one")
+    monkeypatch.setattr(beside, "MIN_STAKES", 0)
+
+    def refused():
+        raise OSError(errno.ENOMEM, "Cannot allocate memory")
+
+    monkeypatch.setattr(beside, "os", _Os(fork=refused))
+    fds = len(os.listdir("/proc/self/fd"))
+    pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "two")
+    assert len(os.listdir("/proc/self/fd")) == fds
+    one, two = _files(tmp_path / "one"), _files(tmp_path / "two")
+    assert one.keys() == two.keys()
+    assert all(one[n] == two[n] for n in one if n != "manifest.json")
+
+
+def test_a_bug_in_the_second_process_was_reported_on_many_lines(tmp_path, monkeypatch, always):
+    """Regression: a bug in the second process reached the CLI as a RuntimeError holding the whole
+    traceback, so "internal error (...)" ran over a dozen lines; now one line names the
+    exception, and the traceback is a note (shown with --debug)."""
+    from typer.testing import CliRunner
+
+    from stakeout.cli import app
+    from stakeout.writers import sheets
+
+    def bug(design, wide=False):
+        return 1 / 0
+
+    monkeypatch.setattr(sheets, "deflection_pieces", bug)
+    r = CliRunner().invoke(app, ["build", str(SAMPLES / JOBS[0]), "--out", str(tmp_path / "out")])
+    assert r.exit_code == 3
+    lines = r.stderr.strip().splitlines()
+    assert len(lines) == 1 and "ZeroDivisionError: division by zero" in lines[0], r.stderr
+    assert not (tmp_path / "out").exists()
