@@ -121,3 +121,38 @@ def test_ground_work_in_blocks_equals_it_in_one(monkeypatch):
                 assert np.array_equal(got[k], v, equal_nan=True), (size, k)
             else:
                 assert np.array_equal(got[k], v), (size, k)
+
+
+def test_a_writer_failing_mid_file_left_the_file_open(tmp_path):
+    """Regression: a writer raising after some pieces (an error found on a later page) left the
+    file's handle open after the build failed (ResourceWarning, a descriptor per failed build
+    in a long-lived process); the folder closes every file when it is discarded."""
+    import os
+
+    import pytest
+
+    from stakeout.errors import JobFileError
+    from stakeout.writers.folder import OutputFolder
+
+    def pieces():
+        yield b"head\n"
+        yield b"row\n"
+        raise JobFileError("staking.interval = 0: found on a later page")
+
+    def open_in(folder: Path) -> list[str]:
+        out = []
+        for fd in os.listdir("/proc/self/fd"):
+            try:
+                target = os.readlink(f"/proc/self/fd/{fd}")
+            except OSError:
+                continue
+            if folder.name in target:
+                out.append(target)
+        return out
+
+    folder = OutputFolder(tmp_path / "out")
+    with pytest.raises(JobFileError):
+        with folder:
+            folder.write_chunks("points.csv", pieces())
+    assert folder.tmp is not None and open_in(folder.tmp) == []
+    assert not (tmp_path / "out").exists()

@@ -131,6 +131,15 @@ class _File:
         finally:
             fh.close()
 
+    def drop(self) -> None:
+        """Close the file unfinished (its writer failed: the folder is being discarded)."""
+        fh, self._fh = self._fh, None
+        if fh is not None:
+            try:
+                fh.close()
+            except OSError:  # its buffer could not be flushed: the build's own error is the one to say
+                pass
+
 
 def write_file(folder: "OutputFolder", name: str, chunks: Iterable[bytes]) -> tuple[str | None, int]:
     """Write one file into ``folder``'s temporary folder here and now, piece by piece (a second
@@ -442,6 +451,8 @@ class OutputFolder:
                     self._writer.shutdown(wait=True, cancel_futures=True)
                 self._writer = None
         finally:
+            for f in self._files.values():  # a writer that failed mid-file never queued its close
+                f.drop()
             self._discard()
 
     def path(self, name: str) -> Path:
