@@ -72,16 +72,6 @@ def whole(out: Written) -> bytes:
     return b"".join(pieces(out))
 
 
-def _without_header(chunks: Iterator[bytes]) -> Iterator[bytes]:
-    """The pieces of a CSV file after its first line."""
-    for c in chunks:
-        k = c.find(b"\n")
-        if k >= 0:
-            yield c[k + 1:]
-            break
-    yield from chunks
-
-
 @dataclass(frozen=True)
 class Output:
     """One output file.
@@ -90,9 +80,10 @@ class Output:
     ``stakeout.writers`` called as ``function(design)`` (``function(design,
     wide=...)`` for a ``wide`` text sheet) and imported only when the file is
     rendered, so a build pays only for the outputs it writes; or a render
-    function ``(design, done) -> bytes`` for an output drawn from another
-    (the report holds plan.svg, the preview is drawn from plan.dxf).  Text
-    comes back as UTF-8 bytes.  ``needs_setup`` outputs exist only for jobs
+    function ``(design, done) -> Written`` for an output drawn from another
+    (the report holds plan.svg, the preview is drawn from plan.dxf).  A
+    writer gives bytes, text (written as UTF-8) or its bytes piece by piece
+    (:data:`Written`).  ``needs_setup`` outputs exist only for jobs
     with a ``[setup]``, ``needs_profile`` only for jobs with a ``[profile]``;
     ``extra`` names the optional install an output needs (``None``: always
     available); ``default`` outputs are written by a build without ``--only``,
@@ -132,16 +123,13 @@ class Output:
         if not design.parts or self.several == "whole":
             yield from self._chunks(design, done)
             return
-        served = [(k, p) for k, p in enumerate(design.parts) if self.serves(p)]
-        if self.several in ("rows", "sheets"):
-            for j, (k, p) in enumerate(served):
-                c = self._chunks(p, done.part(k))
-                if j and self.several == "sheets":  # each alignment's sheets on a new page
-                    yield b"\f"
-                yield from (_without_header(c) if j and self.several == "rows" else c)
-            return
         from .writers import several
 
+        served = [(k, p) for k, p in enumerate(design.parts) if self.serves(p)]
+        if self.several in ("rows", "sheets"):  # piece by piece, each alignment's writer called in turn
+            streamed = {"rows": several.csv_rows_pieces, "sheets": several.sheets_pieces}[self.several]
+            yield from streamed(self._chunks(p, done.part(k)) for k, p in served)
+            return
         join = {"pictures": several.svg_sheets, "documents": several.html_documents}[self.several]
         yield join([whole(self._chunks(p, done.part(k))) for k, p in served])
 

@@ -156,3 +156,20 @@ def test_a_writer_failing_mid_file_left_the_file_open(tmp_path):
             folder.write_chunks("points.csv", pieces())
     assert folder.tmp is not None and open_in(folder.tmp) == []
     assert not (tmp_path / "out").exists()
+
+
+def test_the_streamed_joins_of_several_alignments_were_a_second_copy_of_the_whole_ones():
+    """Regression (duplication): the CSV and sheet joins of several alignments were written again
+    inside ``Output.chunks`` and ``several.sheets`` was left uncalled; now the whole join is the
+    streamed one joined, checked here against the rule written out by hand (header of the first
+    file, rows of every file; sheets split by a form feed), whatever the pieces."""
+    from stakeout.writers import several
+
+    files = [b"a,b\n", b"a,b\n1,2\n3,4\n", b"a,b\n5,6\n", b"", b"a,b"]
+    expected = files[0] + b"1,2\n3,4\n" + b"5,6\n"
+    for size in (1, 2, 3, 100):
+        cut = [[f[i:i + size] for i in range(0, len(f), size)] for f in files]
+        assert b"".join(several.csv_rows_pieces(cut)) == expected, size
+        assert b"".join(several.sheets_pieces(cut)) == b"\f".join(files), size
+    assert several.csv_rows(files) == expected
+    assert b"".join(several.csv_rows_pieces([])) == b"" == b"".join(several.sheets_pieces([]))

@@ -1,7 +1,8 @@
 """Toolkit: one output file from the same output of several alignments (``[[alignment]]``).
 
 Each alignment's file is rendered as it would be alone; these join them in
-job order into the one file the job writes:
+job order into the one file the job writes (CSV files and text sheets piece
+by piece, as each alignment's writer renders them):
 
 * CSV files: the header once, then every alignment's rows (each row names
   its alignment where the file has an ``alignment`` column);
@@ -15,21 +16,40 @@ job order into the one file the job writes:
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections.abc import Iterable, Iterator, Sequence
 
-__all__ = ["csv_rows", "sheets", "svg_sheets", "html_documents"]
+__all__ = ["csv_rows", "csv_rows_pieces", "sheets_pieces", "svg_sheets", "html_documents"]
 
 
 def csv_rows(files: Sequence[bytes]) -> bytes:
     """The header of the first file, then the rows of every file."""
-    if not files:
-        return b""
-    return files[0] + b"".join(f.split(b"\n", 1)[1] if b"\n" in f else b"" for f in files[1:])
+    return b"".join(csv_rows_pieces([f] for f in files))
 
 
-def sheets(files: Sequence[bytes]) -> bytes:
-    """Text sheets one after the other, each on a new page."""
-    return b"".join((b"\f" if k else b"") + f for k, f in enumerate(files))
+def csv_rows_pieces(files: Iterable[Iterable[bytes]]) -> Iterator[bytes]:
+    """:func:`csv_rows` piece by piece: each file's pieces as they come (each file's writer asked
+    only once the one before is done), a later file's header dropped wherever its pieces split it.
+    """
+    for k, f in enumerate(files):
+        yield from (_without_header(iter(f)) if k else f)
+
+
+def _without_header(chunks: Iterator[bytes]) -> Iterator[bytes]:
+    """The pieces of a CSV file after its first line (nothing when it has no line break)."""
+    for c in chunks:
+        k = c.find(b"\n")
+        if k >= 0:
+            yield c[k + 1:]
+            break
+    yield from chunks
+
+
+def sheets_pieces(files: Iterable[Iterable[bytes]]) -> Iterator[bytes]:
+    """Text sheets one after the other, each on a new page (a form feed), piece by piece."""
+    for k, f in enumerate(files):
+        if k:
+            yield b"\f"
+        yield from f
 
 
 _SVG_OPEN = re.compile(rb"<svg\b[^>]*>")
