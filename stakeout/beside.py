@@ -95,11 +95,14 @@ class Beside:
     def abandon(self) -> None:
         """Kill the second process and wait for it (the build failed or was interrupted)."""
         if self._open:
-            try:
-                os.kill(self.pid, signal.SIGKILL)
-            except ProcessLookupError:
-                pass
-            self._close()
+            from .writers.folder import signals_held
+
+            with signals_held():  # a second Ctrl-C would stop the wait for good: a zombie
+                try:
+                    os.kill(self.pid, signal.SIGKILL)
+                except ProcessLookupError:
+                    pass
+                self._close()
 
     def _close(self) -> None:
         if self._open:

@@ -208,3 +208,35 @@ def test_a_bug_in_the_second_process_was_reported_on_many_lines(tmp_path, monkey
     lines = r.stderr.strip().splitlines()
     assert len(lines) == 1 and "ZeroDivisionError: division by zero" in lines[0], r.stderr
     assert not (tmp_path / "out").exists()
+
+
+def test_a_second_interrupt_while_reaping_the_second_process_left_a_zombie(tmp_path, monkeypatch, always):
+    """Regression: a second Ctrl-C while the failing parent waited for the killed second process
+    to end interrupted that wait for good (the process was marked done first), leaving a zombie
+    in a long-lived caller; the kill and the wait are now done with the signals held back, the
+    interruption delivered after."""
+    import signal
+    import time
+
+    from stakeout.writers import sheets, tables
+
+    def slow(design, wide=False):
+        time.sleep(25)
+        yield b"late"
+
+    def boom(design):
+        raise OutputError("--out 'x': cannot write points.csv (No space left on device)")
+
+    def waitpid(pid, options):
+        signal.raise_signal(signal.SIGINT)  # the second Ctrl-C, arriving during the wait
+        return os.waitpid(pid, options)
+
+    monkeypatch.setattr(sheets, "setout_pieces", slow)
+    monkeypatch.setattr(tables, "points_csv", boom)
+    monkeypatch.setattr(beside, "os", _Os(waitpid=waitpid))
+    with pytest.raises(KeyboardInterrupt):
+        pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "out")
+    assert not (tmp_path / "out").exists()
+    assert not _partials(tmp_path)
+    with pytest.raises(ChildProcessError):  # reaped: no zombie left
+        os.waitpid(-1, os.WNOHANG)

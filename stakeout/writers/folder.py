@@ -62,7 +62,7 @@ from typing import BinaryIO, Callable
 
 from ..errors import OutputError
 
-__all__ = ["OutputFolder", "InterruptedAfterCommit", "REMAINS_MARK", "committed_targets"]
+__all__ = ["OutputFolder", "InterruptedAfterCommit", "REMAINS_MARK", "committed_targets", "signals_held"]
 
 #: Middle part of the name of a replaced folder's remains:
 #: ``.NAME.remains-XXXX`` beside the target.  Only a replaced folder whose
@@ -179,7 +179,7 @@ def _umask() -> int:
                     return int(line.split()[1], 8)
     except (OSError, ValueError, IndexError):
         pass
-    with _signals_held():
+    with signals_held():
         mask = os.umask(0o022)
         os.umask(mask)
     return mask
@@ -215,7 +215,7 @@ def _nearest_existing(p: Path) -> Path:
 
 
 @contextmanager
-def _signals_held() -> Iterator[None]:
+def signals_held() -> Iterator[None]:
     """Hold SIGINT, SIGTERM and SIGHUP back during a few renames, then
     deliver the first one that arrived (through the handler in force).
     """
@@ -429,7 +429,7 @@ class OutputFolder:
         self._remove_remains()
         base = _nearest_existing(self.target.parent)
         try:
-            with _signals_held():  # never a temporary folder that nobody will remove
+            with signals_held():  # never a temporary folder that nobody will remove
                 self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.target.name}.partial-{os.getpid()}-", dir=base))
         except OSError as exc:
             raise OutputError(f"{self.option} {str(self.target)!r}: cannot write there ({exc.strerror})") from None
@@ -440,14 +440,14 @@ class OutputFolder:
 
     def _discard(self) -> None:
         if self.tmp is not None and self.tmp.exists():
-            with _signals_held():  # a second Ctrl-C or SIGTERM waits until the litter is gone
+            with signals_held():  # a second Ctrl-C or SIGTERM waits until the litter is gone
                 shutil.rmtree(self.tmp, ignore_errors=True)
 
     def __exit__(self, exc_type: type[BaseException] | None, exc: BaseException | None,
                  tb: TracebackType | None) -> None:
         try:
             if self._writer is not None:  # no write may land in the folder after it is removed
-                with _signals_held():  # a second Ctrl-C or SIGTERM waits for the write in hand
+                with signals_held():  # a second Ctrl-C or SIGTERM waits for the write in hand
                     self._writer.shutdown(wait=True, cancel_futures=True)
                 self._writer = None
         finally:
@@ -547,12 +547,12 @@ class OutputFolder:
             if t.exists() or t.is_symlink():
                 self._check_target(during_build=True)
             if not t.exists():
-                with _signals_held():
+                with signals_held():
                     os.rename(tmp, t)
                     committed, self.tmp = True, None
                     _COMMITTED.append(t)
             elif not any(t.iterdir()):
-                with _signals_held():
+                with signals_held():
                     os.rmdir(t)
                     os.rename(tmp, t)
                     committed, self.tmp = True, None
@@ -560,7 +560,7 @@ class OutputFolder:
             else:
                 old = Path(tempfile.mkdtemp(prefix=f".{t.name}.old-{os.getpid()}-", dir=t.parent))
                 old.rmdir()
-                with _signals_held():
+                with signals_held():
                     os.rename(t, old)
                     try:
                         os.rename(tmp, t)
