@@ -152,7 +152,7 @@ def write_file(folder: "OutputFolder", name: str, chunks: Iterable[bytes]) -> tu
             f.append(c)
         f.close()
     except OSError as exc:
-        raise OutputError(f"{folder.option} {str(folder.target)!r}: cannot write {name} ({exc.strerror})") from None
+        raise folder.cannot_write(name, exc) from None
     return (None if f.sha256 is None else f.sha256.hexdigest()), f.size
 
 
@@ -496,7 +496,11 @@ class OutputFolder:
         try:
             fn(*args)
         except OSError as exc:
-            raise OutputError(f"{self.option} {str(self.target)!r}: cannot write {f.name} ({exc.strerror})") from None
+            raise self.cannot_write(f.name, exc) from None
+
+    def cannot_write(self, name: str, exc: OSError) -> OutputError:
+        """The error of a file that cannot be written (here, or by :func:`write_file` in another process)."""
+        return OutputError(f"{self.option} {str(self.target)!r}: cannot write {name} ({exc.strerror})")
 
     def _raise_failed(self, wait: bool = False) -> None:
         """Raise the error of a finished write (``wait``: wait for them all first)."""
