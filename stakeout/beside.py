@@ -4,7 +4,9 @@ A corridor's outputs are independent once the design is built, and the build
 renders them one after another on one core (numpy releases the interpreter
 lock only inside its loops, so threads gain little: measured). On Linux, for
 a build of at least :data:`MIN_STAKES` stakes on a machine with two cores or
-more, the build forks once, before it writes anything: the child renders the
+more, run by a process with no other thread alive (a lock another thread held
+would stay held in the child), the build forks once, before it writes
+anything (a fork refused: one process): the child renders the
 outputs of :data:`BESIDE` (the text sheets and the LandXML, which need
 nothing another output made) straight into the temporary folder, and the
 parent renders the others. The child shares the design with the parent
@@ -23,6 +25,7 @@ import os
 import pickle
 import signal
 import sys
+import threading
 import traceback
 from collections.abc import Sequence
 from typing import TYPE_CHECKING
@@ -114,7 +117,8 @@ class Beside:
 def usable(stakes: int) -> bool:
     """Whether a build of ``stakes`` stakes renders some outputs in a second process here."""
     return (sys.platform.startswith("linux") and hasattr(os, "fork") and stakes >= MIN_STAKES
-            and len(os.sched_getaffinity(0)) >= 2)
+            and len(os.sched_getaffinity(0)) >= 2
+            and threading.active_count() == 1)  # a lock another thread holds would stay held in the child
 
 
 def start(design: "Design", files: Sequence["Output"], folder: "OutputFolder", done: "Rendered",

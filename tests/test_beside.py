@@ -240,3 +240,31 @@ def test_a_second_interrupt_while_reaping_the_second_process_left_a_zombie(tmp_p
     assert not _partials(tmp_path)
     with pytest.raises(ChildProcessError):  # reaped: no zombie left
         os.waitpid(-1, os.WNOHANG)
+
+
+def test_a_build_forked_while_other_threads_ran(tmp_path, monkeypatch, always):
+    """Regression: a build run by a caller with other threads alive (a service building jobs on
+    a thread pool) forked anyway; the child holds only the forking thread, so a lock another
+    thread held at that moment stays held in it for good (Python 3.12 warns of it). With other
+    threads alive the build renders everything in one process."""
+    import threading
+
+    started = []
+    real = beside.start
+
+    def spy(*args, **kwargs):
+        b, rest = real(*args, **kwargs)
+        started.append(b)
+        return b, rest
+
+    monkeypatch.setattr(beside, "start", spy)
+    stop = threading.Event()
+    other = threading.Thread(target=stop.wait, daemon=True)
+    other.start()
+    try:
+        pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "out")
+    finally:
+        stop.set()
+        other.join()
+    assert started == [None]
+    assert (tmp_path / "out" / "setout.txt").exists()
