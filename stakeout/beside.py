@@ -28,7 +28,7 @@ import sys
 import threading
 import traceback
 from collections.abc import Sequence
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, NoReturn
 
 from .errors import OutputError, StakeoutError
 
@@ -46,6 +46,8 @@ __all__ = ["MIN_STAKES", "BESIDE", "Beside", "start"]
 MIN_STAKES = 2_000
 #: The outputs the second process renders (``--only`` names): each is made from the design alone.
 BESIDE = ("sheet", "deflections", "landxml", "slopestakes-sheet")
+#: The signals that interrupt a build (Ctrl-C; SIGTERM and SIGHUP, which the CLI makes interruptions).
+_INTERRUPTS = {signal.SIGINT, signal.SIGTERM, signal.SIGHUP}
 
 
 class Beside:
@@ -136,20 +138,35 @@ def start(design: "Design", files: Sequence["Output"], folder: "OutputFolder", d
     sys.stdout.flush()
     sys.stderr.flush()
     read, write = os.pipe()
+    # no interruption may land in the child before its guard below (it would run on as the build)
+    saved = signal.pthread_sigmask(signal.SIG_BLOCK, _INTERRUPTS)
     try:
         pid = os.fork()
     except OSError:  # refused (ENOMEM under strict overcommit, EAGAIN at the process limit): one process
+        signal.pthread_sigmask(signal.SIG_SETMASK, saved)
         os.close(read)
         os.close(write)
         return None, list(files)
     if pid:
-        os.close(write)
-        return Beside(pid, read, mine), rest
-    # the second process: render, answer, and leave at once (no clean-up of the parent's)
-    os.close(read)
+        b = Beside(pid, read, mine)
+        try:
+            os.close(write)
+            signal.pthread_sigmask(signal.SIG_SETMASK, saved)  # an interruption held back lands now
+        except BaseException:
+            b.abandon()
+            raise
+        return b, rest
+    _second(saved, read, write, mine, design, folder, done)
+
+
+def _second(saved: "set[int | signal.Signals]", read: int, write: int, mine: Sequence["Output"], design: "Design",
+            folder: "OutputFolder", done: "Rendered") -> NoReturn:
+    """The second process: render, answer, and leave at once (no clean-up of the parent's)."""
     code = 0
     answer: tuple[object, ...]
     try:
+        signal.pthread_sigmask(signal.SIG_SETMASK, saved)  # an interruption held back lands in here
+        os.close(read)
         try:
             from .writers.folder import write_file
 

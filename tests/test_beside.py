@@ -268,3 +268,32 @@ def test_a_build_forked_while_other_threads_ran(tmp_path, monkeypatch, always):
         other.join()
     assert started == [None]
     assert (tmp_path / "out" / "setout.txt").exists()
+
+
+def test_an_interrupt_landing_in_the_second_process_before_its_guard_ran_the_callers_code(
+        tmp_path, monkeypatch, always):
+    """Regression: Ctrl-C reaches the whole process group; one landing in the second process just
+    after the fork (before its try) came out of ``start`` there, so the child ran on as the
+    build: it removed the temporary folder the parent was writing, printed a second message,
+    and under a test runner ran the rest of the session. Now the signals are blocked over the
+    fork and the child's first step is inside its guard: it ends, and the parent reports it."""
+    parent = os.getpid()
+    escaped = tmp_path / "escaped"
+
+    def close(fd):
+        if os.getpid() != parent:
+            raise KeyboardInterrupt  # the Ctrl-C, landing in the child's first step
+        os.close(fd)
+
+    monkeypatch.setattr(beside, "os", _Os(close=close))
+    try:
+        with pytest.raises(OutputError, match="ended without finishing"):
+            pipeline.run_build(SAMPLES / JOBS[0], tmp_path / "out")
+    except BaseException:
+        if os.getpid() != parent:  # the child came out here: end it (and say so) before it runs on
+            escaped.write_text("the second process ran the caller's code")
+            os._exit(77)
+        raise
+    assert not escaped.exists()
+    assert not (tmp_path / "out").exists()
+    assert not _partials(tmp_path)
