@@ -34,6 +34,20 @@ def always(monkeypatch):
     monkeypatch.setattr(beside.os, "sched_getaffinity", lambda pid: {0, 1})
 
 
+def _spied(monkeypatch) -> list:
+    """What each build's ``beside.start`` returned as its second process (None: none), in order."""
+    started = []
+    real = beside.start
+
+    def spy(*args, **kwargs):
+        b, rest = real(*args, **kwargs)
+        started.append(b)
+        return b, rest
+
+    monkeypatch.setattr(beside, "start", spy)
+    return started
+
+
 def _partials(tmp_path: Path) -> list[str]:
     return [p.name for p in tmp_path.iterdir() if ".partial-" in p.name or ".old-" in p.name]
 
@@ -44,15 +58,7 @@ def test_two_processes_write_the_files_one_writes(job, tmp_path, monkeypatch):
     pipeline.run_build(SAMPLES / job, tmp_path / "one")
     monkeypatch.setattr(beside, "MIN_STAKES", 0)
     monkeypatch.setattr(beside.os, "sched_getaffinity", lambda pid: {0, 1})
-    started = []
-    real = beside.start
-
-    def spy(*args, **kwargs):
-        b, rest = real(*args, **kwargs)
-        started.append(b)
-        return b, rest
-
-    monkeypatch.setattr(beside, "start", spy)
+    started = _spied(monkeypatch)
     pipeline.run_build(SAMPLES / job, tmp_path / "two")
     assert started and started[0] is not None  # the second process did render some
     one, two = _files(tmp_path / "one"), _files(tmp_path / "two")
@@ -249,15 +255,7 @@ def test_a_build_forked_while_other_threads_ran(tmp_path, monkeypatch, always):
     threads alive the build renders everything in one process."""
     import threading
 
-    started = []
-    real = beside.start
-
-    def spy(*args, **kwargs):
-        b, rest = real(*args, **kwargs)
-        started.append(b)
-        return b, rest
-
-    monkeypatch.setattr(beside, "start", spy)
+    started = _spied(monkeypatch)
     stop = threading.Event()
     other = threading.Thread(target=stop.wait, daemon=True)
     other.start()
