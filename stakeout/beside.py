@@ -41,12 +41,12 @@ __all__ = ["MIN_STAKES", "COST", "Beside", "share", "start"]
 #: 250,000; below this size a build takes about a second, mostly imports, and one process is the
 #: simpler to follow when something goes wrong.
 MIN_STAKES = 2_000
-#: What each output costs to render, seconds a million stakes (the rich corridor's, benchmarks/run.py
-#: ``outputs`` part, 2026-12-04): how the outputs are shared between the two processes. An output
-#: not listed counts as :data:`SMALL`.
-COST = {"setout.txt": 1.85, "plan.dxf": 1.7, "alignment.xml": 1.06, "slopestakes.txt": 0.84,
-        "stations.csv": 0.49, "plan.svg": 0.47, "setout.csv": 0.40, "points.csv": 0.34,
-        "slopestakes.csv": 0.32, "report.html": 0.25, "deflections.txt": 0.24}
+#: What each output costs to render, seconds a million stakes (measured one after another in one
+#: process on the rich corridor, benchmarks/run.py ``outputs``, 2026-12-04; the earthwork files with
+#: a ground): how the outputs are shared between the two processes. Not listed: :data:`SMALL`.
+COST = {"setout.txt": 1.62, "plan.dxf": 1.32, "alignment.xml": 0.86, "slopestakes.txt": 0.84,
+        "setout.csv": 0.38, "deflections.txt": 0.36, "plan.svg": 0.34, "report.html": 0.33,
+        "slopestakes.csv": 0.32, "stations.csv": 0.31, "points.csv": 0.26, "volumes.csv": 0.07}
 SMALL = 0.02
 
 

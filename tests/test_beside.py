@@ -155,4 +155,4 @@ def test_the_outputs_are_shared_by_their_cost():
             fixed = sum(c for o, c in zip(files, cost) if not isinstance(o.writer, str))
             assert max(loads) <= max(fixed, sum(cost) / 2 + max(cost)) + 1e-9
     names = [o.name for o in beside.share([o for o in OUTPUTS if o.name in ("points", "stations", "setout")])[0]]
-    assert names == ["points", "setout"]  # the CSV path: stations here, the other two beside
+    assert names == ["points", "stations"]  # the CSV path: setout.csv here, the other two beside
