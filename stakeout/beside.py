@@ -6,10 +6,10 @@ lock only inside its loops, so threads gain little: measured). On Linux, for
 a build of at least :data:`MIN_STAKES` stakes on a machine with two cores or
 more, run by a process with no other thread alive (a lock another thread held
 would stay held in the child), the build forks once, before it writes
-anything (a fork refused: one process): the child renders the
-outputs of :data:`BESIDE` (the text sheets and the LandXML, which need
-nothing another output made) straight into the temporary folder, and the
-parent renders the others. The child shares the design with the parent
+anything (a fork refused: one process): the child renders its share of the
+outputs (:func:`share`: about half the work by :data:`COST`, among those made
+from the design alone) straight into the temporary folder, and the parent
+renders the others. The child shares the design with the parent
 (copy on write), so nothing is sent between them but, at the end, each file's
 size and hash, or the child's error, which the parent raises as its own.
 
@@ -37,17 +37,41 @@ if TYPE_CHECKING:  # pragma: no cover
     from .outputs import Output, Rendered
     from .writers.folder import OutputFolder
 
-__all__ = ["MIN_STAKES", "BESIDE", "Beside", "start"]
+__all__ = ["MIN_STAKES", "COST", "Beside", "share", "start"]
 
 #: Builds of fewer stakes render every output in one process. Measured (DEVELOPERS.md), the second
 #: process paid at every size tried, 5 % on a sample of a few hundred stakes, 9 % at 3,000, 31 % at
 #: 250,000; below this size a build takes about a second, mostly imports, and one process is the
 #: simpler to follow when something goes wrong.
 MIN_STAKES = 2_000
-#: The outputs the second process renders (``--only`` names): each is made from the design alone.
-BESIDE = ("sheet", "deflections", "landxml", "slopestakes-sheet")
 #: The signals that interrupt a build (Ctrl-C; SIGTERM and SIGHUP, which the CLI makes interruptions).
 _INTERRUPTS = {signal.SIGINT, signal.SIGTERM, signal.SIGHUP}
+#: What each output costs to render, seconds a million stakes (measured one after another in one
+#: process on the rich corridor, benchmarks/run.py ``outputs``, 2026-12-04; the earthwork files with
+#: a ground): how the outputs are shared between the two processes. Not listed: :data:`SMALL`.
+COST = {"setout.txt": 1.62, "plan.dxf": 1.32, "alignment.xml": 0.86, "slopestakes.txt": 0.84,
+        "setout.csv": 0.38, "deflections.txt": 0.36, "plan.svg": 0.34, "report.html": 0.33,
+        "slopestakes.csv": 0.32, "stations.csv": 0.31, "points.csv": 0.26, "volumes.csv": 0.07}
+SMALL = 0.02
+
+
+def share(files: Sequence["Output"]) -> tuple[list["Output"], list["Output"]]:
+    """The outputs the second process renders and those left to the build, in writing order.
+
+    Only an output made from the design alone (its writer named ``"module:function"``) may go;
+    one drawn from another, or another's source (plan.dxf, plan.svg, the report), stays. The
+    rest go, the costliest first, each to the process with less to do so far (longest
+    processing time first).
+    """
+    movable = [o for o in files if isinstance(o.writer, str)]
+    load = [0.0, sum(COST.get(o.filename, SMALL) for o in files if not isinstance(o.writer, str))]
+    away: set[str] = set()
+    for o in sorted(movable, key=lambda o: -COST.get(o.filename, SMALL)):
+        k = 0 if load[0] < load[1] else 1
+        load[k] += COST.get(o.filename, SMALL)
+        if k == 0:
+            away.add(o.name)
+    return [o for o in files if o.name in away], [o for o in files if o.name not in away]
 
 
 class Beside:
@@ -125,14 +149,13 @@ def usable(stakes: int) -> bool:
 
 def start(design: "Design", files: Sequence["Output"], folder: "OutputFolder", done: "Rendered",
           stakes: int) -> tuple[Beside | None, list["Output"]]:
-    """Fork the second process for the outputs of :data:`BESIDE` among ``files``, when it pays.
+    """Fork the second process for its share of ``files`` (:func:`share`), when it pays.
 
     Call it before the build writes anything (no other thread runs then). Returns the
     second process (None: none was started, or the fork was refused) and the outputs left
     to the caller.
     """
-    mine = [o for o in files if o.name in BESIDE]
-    rest = [o for o in files if o.name not in BESIDE]
+    mine, rest = share(files)
     if not mine or not rest or not usable(stakes):
         return None, list(files)
     sys.stdout.flush()

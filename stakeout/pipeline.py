@@ -205,7 +205,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
     with folder:
         from .beside import start
 
-        # above a size, a second process renders the text sheets and the LandXML meanwhile
+        # above a size, a second process renders about half the outputs meanwhile
         beside, here = start(d, files, folder, done, count)
         try:
             for o in here:  # written piece by piece as rendered

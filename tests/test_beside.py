@@ -29,9 +29,16 @@ def _files(folder: Path) -> dict[str, bytes]:
 
 @pytest.fixture
 def always(monkeypatch):
-    """A second process for every build, whatever its size, on one core or more."""
+    """A second process for every build, whatever its size, on one core or more, rendering the
+    two text sheets (the build renders the rest)."""
     monkeypatch.setattr(beside, "MIN_STAKES", 0)
     monkeypatch.setattr(beside.os, "sched_getaffinity", lambda pid: {0, 1})
+
+    def sheets_away(files):
+        return ([o for o in files if o.name in ("sheet", "deflections")],
+                [o for o in files if o.name not in ("sheet", "deflections")])
+
+    monkeypatch.setattr(beside, "share", sheets_away)
 
 
 def _spied(monkeypatch) -> list:
@@ -295,3 +302,23 @@ def test_an_interrupt_landing_in_the_second_process_before_its_guard_ran_the_cal
     assert not escaped.exists()
     assert not (tmp_path / "out").exists()
     assert not _partials(tmp_path)
+
+
+def test_the_outputs_are_shared_by_their_cost():
+    """Each output goes to exactly one process, in writing order; an output drawn from another
+    or another's source stays with the build; neither process has more than half the work plus
+    the costliest output (the bound of longest-processing-time-first)."""
+    from stakeout.outputs import OUTPUTS
+
+    for k in range(len(OUTPUTS)):
+        for files in (list(OUTPUTS), list(OUTPUTS[k:]), list(OUTPUTS[::k + 1])):
+            mine, rest = beside.share(files)
+            assert sorted(o.name for o in mine + rest) == sorted(o.name for o in files)
+            assert [o for o in files if o in mine] == mine and [o for o in files if o in rest] == rest
+            assert all(isinstance(o.writer, str) for o in mine)
+            cost = [beside.COST.get(o.filename, beside.SMALL) for o in files]
+            loads = [sum(beside.COST.get(o.filename, beside.SMALL) for o in g) for g in (mine, rest)]
+            fixed = sum(c for o, c in zip(files, cost) if not isinstance(o.writer, str))
+            assert max(loads) <= max(fixed, sum(cost) / 2 + max(cost)) + 1e-9
+    names = [o.name for o in beside.share([o for o in OUTPUTS if o.name in ("points", "stations", "setout")])[0]]
+    assert names == ["points", "stations"]  # the CSV path: setout.csv here, the other two beside

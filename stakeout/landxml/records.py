@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import NamedTuple, overload
 
 import numpy as np
 from numpy.typing import NDArray
@@ -33,6 +34,8 @@ __all__ = [
     "XProfile",
     "XPoint",
     "XPoints",
+    "NumberedNames",
+    "NumberRun",
     "XDesign",
     "XMeasured",
     "XKind",
@@ -374,6 +377,69 @@ class XPoint:
     desc: str = ""
 
 
+class NumberRun(NamedTuple):
+    """Names that are a prefix and consecutive numbers: ``NumberRun("P", 1001, 3)`` is P1001 .. P1003."""
+
+    prefix: str
+    first: int
+    size: int
+
+
+class NumberedNames(Sequence[str]):
+    """Point names in runs, made only for the rows asked for: a :class:`NumberRun`, or names as
+    written (a tuple of str). Whoever makes one vouches that its names are unique and hold only
+    characters XML carries (a build's stakes: their ids are checked when the job is read);
+    :class:`XPoints` takes it in place of a list, so a million stakes need no million strings.
+    """
+
+    def __init__(self, runs: Sequence[NumberRun | tuple[str, ...]]) -> None:
+        self._runs = list(runs)
+        sizes = [r.size if isinstance(r, NumberRun) else len(r) for r in self._runs]
+        self._starts: NDArray[np.int64] = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
+
+    def __len__(self) -> int:
+        return int(self._starts[-1])
+
+    @overload
+    def __getitem__(self, i: int) -> str: ...
+
+    @overload
+    def __getitem__(self, i: slice) -> list[str]: ...
+
+    def __getitem__(self, i: int | slice) -> str | list[str]:
+        if isinstance(i, slice):
+            a, b, step = i.indices(len(self))
+            if step != 1:
+                return [self[k] for k in range(a, b, step)]
+            out: list[str] = []
+            for k, r in enumerate(self._runs):
+                lo, hi = max(a, int(self._starts[k])), min(b, int(self._starts[k + 1]))
+                if lo >= hi:
+                    continue
+                lo, hi = lo - int(self._starts[k]), hi - int(self._starts[k])
+                if isinstance(r, NumberRun):
+                    out += [f"{r.prefix}{v}" for v in range(r.first + lo, r.first + hi)]
+                else:
+                    out += list(r[lo:hi])
+            return out
+        k = i + len(self) if i < 0 else i
+        if not 0 <= k < len(self):
+            raise IndexError(i)
+        return self[k:k + 1][0]
+
+    def lengths(self) -> NDArray[np.int64]:
+        """Characters of every name, without making them."""
+        parts: list[NDArray[np.int64]] = []
+        for r in self._runs:
+            if isinstance(r, NumberRun):
+                v = r.first + np.arange(r.size, dtype=np.int64)
+                digits = np.searchsorted(10 ** np.arange(19, dtype=np.int64), np.abs(v), side="right")
+                parts.append((len(r.prefix) + np.maximum(digits, 1) + (v < 0)).astype(np.int64))
+            else:
+                parts.append(np.array([len(t) for t in r], dtype=np.int64))
+        return np.concatenate(parts) if parts else np.zeros(0, dtype=np.int64)
+
+
 @dataclass(frozen=True)
 class XPoints:
     """Many points as columns, for writing a build's stakes without a Python
@@ -382,7 +448,7 @@ class XPoints:
     Attributes
     ----------
     names : sequence of str
-        Point names (unique).
+        Point names (unique); a :class:`NumberedNames` makes them a block at a time.
     northing, easting : array of float
         File units.
     elevation : array of float or None

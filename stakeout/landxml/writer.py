@@ -57,6 +57,7 @@ from .records import (
     XMeasured,
     XPoint,
     XPoints,
+    NumberedNames,
     XSpiral,
     fmt,
     kind_of,
@@ -352,7 +353,8 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> Iterator[bytes]:
     n = len(points.names)
     if not (len(points.northing) == len(points.easting) == n):
         raise JobFileError(f"points: {n} names but {len(points.northing)} northings and {len(points.easting)} eastings")
-    if len(set(points.names)) != n:
+    numbered = isinstance(points.names, NumberedNames)  # unique and checked by its maker, made a block at a time
+    if not numbered and len(set(points.names)) != n:
         seen: set[str] = set()
         dup = next(v for v in points.names if v in seen or seen.add(v))  # type: ignore[func-returns-value]
         raise JobFileError(f"point {dup!r}: written twice; CgPoint names must be unique")
@@ -363,10 +365,12 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> Iterator[bytes]:
     if not np.isfinite(coords).all() or (np.abs(coords) >= 1e12).any():
         raise JobFileError("points: coordinates must be finite and below 1e12")
     d = _POINT_DECIMALS
-    names = _attr_texts(list(points.names), "point name")
+    names = points.names if numbered else _attr_texts(list(points.names), "point name")
     codes = None if points.codes is None else _attr_texts(points.codes, "point code")
     descs = None if points.descs is None else _attr_texts(points.descs, "point desc")
-    width = np.fromiter(map(len, names), dtype=np.int64, count=n)  # characters: the blocks' size, roughly
+    # characters: the blocks' size, roughly
+    width = (points.names.lengths() if isinstance(points.names, NumberedNames)
+             else np.fromiter(map(len, names), dtype=np.int64, count=n))
     large = bool(coords.size) and float(np.abs(coords).max()) >= _TABLE_LIMIT
 
     def number(x: NDArray[np.float64]) -> Field:
@@ -383,7 +387,8 @@ def _cgpoints_text(points: Sequence[XPoint] | XPoints) -> Iterator[bytes]:
         yield b"  <CgPoints>\n"
         for a, b in rows_.row_chunks(width):
             k = b - a
-            fields = [rows_.const('    <CgPoint name="', k), rows_.Strings(names[a:b]).field(slice(None)),
+            block = _attr_texts(names[a:b], "point name") if numbered else names[a:b]
+            fields = [rows_.const('    <CgPoint name="', k), rows_.Strings(block).field(slice(None)),
                       rows_.const('"', k)]
             fields += _optional_attr("code", codes, slice(a, b))
             fields += _optional_attr("desc", descs, slice(a, b))

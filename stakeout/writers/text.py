@@ -902,8 +902,7 @@ def station_labels(stationing: Stationing, internal: NDArray[np.float64]) -> For
 
 def _chars(f: rows.Field) -> NDArray[np.int64]:
     """Characters in each row of a field (UTF-8: bytes that do not continue a character)."""
-    out: NDArray[np.int64] = ((f != 0) & ((f & 0xC0) != 0x80)).sum(axis=1)
-    return out
+    return rows.row_counts((f != 0) & ((f & 0xC0) != 0x80))
 
 
 def _widest(cells: Cells) -> int:
@@ -959,7 +958,7 @@ class FieldColumn:
         if not w:
             return np.full((m, width), 32, dtype=np.uint8), np.zeros(m, dtype=np.int64)
         keep = f != 0
-        nb = keep.sum(axis=1)
+        nb = rows.row_counts(keep)
         right = self.align == ">"
         # rows whose text is not one run at the field's right end (left end, to align left)
         edge = np.argmax(keep, axis=1) if right else w - np.argmax(keep[:, ::-1], axis=1)
@@ -1006,7 +1005,7 @@ class FieldColumn:
         (NUL padding anywhere; UTF-8 counted by characters).
         """
         keep = f != 0
-        nb = keep.sum(axis=1)
+        nb = rows.row_counts(keep)
         pad = self.width - _chars(f)
         m = f.shape[0]
         wide = int((pad + nb).max()) if m else self.width
@@ -1111,8 +1110,8 @@ class FieldTable:
             keep &= whole != 0
             lead = keep & ((whole & 0xC0) != 0x80)
             at = np.cumsum([0] + [n + 1 for n in spans])
-            chars = np.stack([lead[:, at[k]:at[k] + spans[k]].sum(axis=1) for k in range(len(ends))], axis=1)
-            size = keep.sum(axis=1)
+            chars = np.stack([rows.row_counts(lead[:, at[k]:at[k] + spans[k]]) for k in range(len(ends))], axis=1)
+            size = rows.row_counts(keep)
         return Block(whole[keep].tobytes(), size.astype(np.int64), count.astype(np.int64),
                      chars[:, 0].astype(np.int64), chars.max(axis=1).astype(np.int64))
 
