@@ -38,10 +38,10 @@ rows of an element are one slice of the staked stations, found by
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
-from typing import TYPE_CHECKING, Any, cast
+from typing import TYPE_CHECKING, Any, cast, overload
 
 import numpy as np
 from numpy.typing import NDArray
@@ -354,6 +354,33 @@ class SetoutColumn:
     grouped: bool = False
 
 
+class EachStake(Sequence[str]):
+    """A text for each of ``n`` stakes, made by ``one(i)`` when asked for: a column of ids, labels
+    or codes without a million strings when only some rows are shown.
+    """
+
+    def __init__(self, n: int, one: Callable[[int], str]) -> None:
+        self.n = n
+        self.one = one
+
+    def __len__(self) -> int:
+        return self.n
+
+    @overload
+    def __getitem__(self, i: int) -> str: ...
+
+    @overload
+    def __getitem__(self, i: slice) -> list[str]: ...
+
+    def __getitem__(self, i: int | slice) -> str | list[str]:
+        if isinstance(i, slice):
+            return [self.one(k) for k in range(*i.indices(self.n))]
+        k = i + self.n if i < 0 else i
+        if not 0 <= k < self.n:
+            raise IndexError(i)
+        return self.one(k)
+
+
 class Presentation:
     """What the outputs of one design show, each part computed on first use and kept."""
 
@@ -478,9 +505,10 @@ class Presentation:
         sd = d.setup
         assert sd is not None
         sp, so = d.stakes, sd.setout
-        cols = [SetoutColumn("point", sp.point), SetoutColumn("station", sp.station_label),
-                SetoutColumn("offset", sp.offset, d.unit.station_decimals), SetoutColumn("code", sp.code),
-                SetoutColumn("feature", sp.feature), SetoutColumn("angle_right", so.angle_right, 0),
+        n = len(sp)  # the texts made only for the stakes a table lists (a report: a few thousand of a million)
+        cols = [SetoutColumn("point", EachStake(n, sp.point_id)), SetoutColumn("station", EachStake(n, sp.label_at)),
+                SetoutColumn("offset", sp.offset, d.unit.station_decimals), SetoutColumn("code", EachStake(n, sp.code_at)),
+                SetoutColumn("feature", EachStake(n, sp.feature_at)), SetoutColumn("angle_right", so.angle_right, 0),
                 SetoutColumn("grid_distance", so.grid_distance, 3),
                 SetoutColumn("ground_distance", so.ground_distance, 3)]
         if sp.elevation is not None:

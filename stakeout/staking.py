@@ -183,6 +183,24 @@ class StakePoints:
         named = list(self.layout.names) if self.layout is not None else []
         return [f"{self.prefix}{k}" for k in self.number.tolist()] + named
 
+    def code_at(self, i: int) -> str:
+        """The code of point ``i`` (as :attr:`code`, without building every one)."""
+        if self.layout is not None:
+            return self.all_codes[int(self.layout.code_of[i])]
+        return self.codes[i % max(1, self.offsets.size)]
+
+    def feature_at(self, i: int) -> str:
+        """The key-point features of point ``i`` (as :attr:`feature`, without building every one)."""
+        if self.layout is not None:
+            return self.all_features[int(self.layout.feature_of[i])]
+        return self.features[i // max(1, self.offsets.size)]
+
+    def label_at(self, i: int) -> str:
+        """The station label of point ``i`` (as :attr:`station_label`, without building every one)."""
+        if self.layout is not None:
+            return self.all_labels[int(self.layout.station_of[i])]
+        return self.labels[i // max(1, self.offsets.size)]
+
     def point_id(self, i: int) -> str:
         """The id of point ``i`` (without building every id)."""
         if i < self.numbered:

@@ -225,3 +225,33 @@ def test_alignment_xml_made_a_string_for_every_stake_id(tmp_path):
     want = [p.stakes.point_id(i) for p in d.parts or (d,) for i in range(len(p.stakes))]
     want += [c.id for c in d.job.control_points()]
     assert got == want
+
+
+def test_report_made_every_stakes_texts_to_list_two_thousand(tmp_path):
+    """Regression: report.html lists at most REPORT_MAX_ROWS stakes, but its setout columns held
+    every stake's id, station label, code and feature as a Python string (about 146 bytes a stake,
+    kept for the rest of the build). They are now made for the listed stakes only; the report's
+    bytes are those of a report made from the whole lists (the old way, rebuilt here)."""
+    import dataclasses
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "benchmarks"))
+    from corridor import corridor_job
+
+    from stakeout.writers import html
+
+    job = corridor_job(tmp_path / "c.toml", 6000)
+    d = pipeline.compute(job)
+    assert len(d.stakes) > html.REPORT_MAX_ROWS
+    done = outputs.Rendered()
+    report = next(o for o in outputs.OUTPUTS if o.name == "report")
+    got = report.render(d, done)
+    for name in ("point", "station_label", "code", "feature"):
+        assert name not in vars(d.stakes), name
+    # the same report from whole lists: every column's values taken from the full cached lists
+    sp = d.stakes
+    whole = {"point": sp.point, "station": sp.station_label, "code": sp.code, "feature": sp.feature}
+    pres = d.presentation
+    cols = tuple(dataclasses.replace(c, values=whole[c.key]) if c.key in whole else c for c in pres.setout_columns)
+    vars(pres)["setout_columns"] = cols
+    assert report.render(d, outputs.Rendered()) == got
