@@ -41,6 +41,9 @@ COORDINATE_DECIMALS = 4
 MERGE_TOLERANCE = 5e-5
 
 
+#: Stakes placed at once (the alignment's evaluation temporaries are several arrays of this size).
+_EVALUATE_BLOCK = 1 << 18
+
 @dataclass(frozen=True)
 class Layout:
     """Where the stakes beyond the plain grid sit in the table (:func:`with_stakes`).
@@ -446,11 +449,14 @@ def plan_stakes(alignment: Alignment, staking: Staking, stationing: Stationing,
     st = np.repeat(stations, offs.size)
     widened = sec is not None and sections is not None and sections.widened
     of = sec.offset.ravel() if widened and sec is not None else np.tile(offs, stations.size)
-    n, e, az = alignment.evaluate(st, of)
     # Round once to the point file's decimals: every output (points, setout,
     # plan, check) then works from exactly the coordinates the crew loads.
-    n = round_to(n, COORDINATE_DECIMALS)
-    e = round_to(e, COORDINATE_DECIMALS)
+    # A block of points at a time: each point is its own, and the evaluation's temporaries stay bounded.
+    n, e, az = (np.empty(st.size) for _ in range(3))
+    for a in range(0, st.size, _EVALUATE_BLOCK):
+        b = min(st.size, a + _EVALUATE_BLOCK)
+        bn, be, baz = alignment.evaluate(st[a:b], of[a:b])
+        n[a:b], e[a:b], az[a:b] = round_to(bn, COORDINATE_DECIMALS), round_to(be, COORDINATE_DECIMALS), baz
     elev = slope = None
     if sec is not None and sec.elevation is not None:
         elev, slope = sec.elevation.ravel(), sec.slope.ravel()
