@@ -20,7 +20,7 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass, fields, replace
 from functools import cached_property
-from typing import TYPE_CHECKING, overload
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
@@ -35,7 +35,7 @@ from .profile import PVISpec, Profile, build_profile
 from .setout import MEAN_EARTH_RADIUS_M, ScaleInfo, Setout, backsight_azimuth, compute_setout, resolve_scale
 from .setups import choose_setups
 from .listed import ListedStakes, listed_stakes, number_listed
-from .staking import MoreStakes, StakePoints, join_stakes, plan_stakes, with_stakes
+from .staking import EachStake, MoreStakes, StakePoints, join_stakes, plan_stakes, with_stakes
 from .stations import StationRef, Stationing
 from .units import Unit
 
@@ -285,27 +285,6 @@ def build_profile_of(job: Job, stationing: Stationing) -> Profile | None:
     return build_profile(pvis, job.profile.name)
 
 
-class _PointIds(Sequence[str]):
-    """Point ids of the stakes, made one at a time (only an error names one)."""
-
-    def __init__(self, stakes: StakePoints):
-        self._stakes = stakes
-
-    def __len__(self) -> int:
-        return len(self._stakes)
-
-    @overload
-    def __getitem__(self, i: int) -> str: ...
-
-    @overload
-    def __getitem__(self, i: slice) -> Sequence[str]: ...
-
-    def __getitem__(self, i: int | slice) -> str | Sequence[str]:
-        if isinstance(i, slice):
-            return [self[k] for k in range(*i.indices(len(self)))]
-        return self._stakes.point_id(i)
-
-
 def precision_rules_setups(job: Job) -> bool:
     """Whether automatic setups keep stakes within tolerance: ``[instrument]`` and
     ``[check] horizontal_tolerance`` both given (job-file contract).
@@ -331,7 +310,7 @@ def _auto_stations(job: Job, setup: Setup, stakes: StakePoints) -> tuple[tuple[S
 
     plan = choose_setups([c.id for c in ctrl], np.array([c.northing for c in ctrl]),
                          np.array([c.easting for c in ctrl]), stakes.northing, stakes.easting, setup.max_distance,
-                         setup.max_backsight, stake_ids=_PointIds(stakes), r95=r95, tolerance=tolerance)
+                         setup.max_backsight, stake_ids=EachStake(len(stakes), stakes.point_id), r95=r95, tolerance=tolerance)
     n = len(stakes)
     first = np.full(len(plan.setups), n, dtype=np.int64)
     np.minimum.at(first, plan.setup_index, np.arange(n, dtype=np.int64))
@@ -377,7 +356,7 @@ def _ranged_index(stations: tuple[SetupStation, ...], stakes: StakePoints,
         index[(index < 0) & (st >= lo - tol) & (st <= hi + tol)] = k
     if (index < 0).any():
         i = int(np.argmax(index < 0))
-        raise GeometryError(f"stake {_PointIds(stakes)[i]!r} at {stationing.label(float(st[i]))}: no "
+        raise GeometryError(f"stake {stakes.point_id(i)!r} at {stationing.label(float(st[i]))}: no "
                             "[[setup.station]] from_station/to_station range serves it")
     return index
 

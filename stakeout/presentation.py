@@ -38,10 +38,10 @@ rows of an element are one slice of the staked stations, found by
 
 from __future__ import annotations
 
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import cached_property
-from typing import TYPE_CHECKING, Any, cast, overload
+from typing import TYPE_CHECKING, Any, cast
 
 import numpy as np
 from numpy.typing import NDArray
@@ -51,6 +51,7 @@ from .alignment.clothoid import SpiralFigures, clothoid_xy, spiral_figures
 from .alignment.curves import degree_of_curve_arc
 from .alignment.kinds import CURVE_PART, ELEMENT_CLASSES, PerKind
 from .profile import PVIRow
+from .staking import EachStake
 
 if TYPE_CHECKING:  # pragma: no cover
     from .alignment.elements import Arc, Spiral
@@ -352,33 +353,6 @@ class SetoutColumn:
     values: Any
     decimals: int | None = None
     grouped: bool = False
-
-
-class EachStake(Sequence[str]):
-    """A text for each of ``n`` stakes, made by ``one(i)`` when asked for: a column of ids, labels
-    or codes without a million strings when only some rows are shown.
-    """
-
-    def __init__(self, n: int, one: Callable[[int], str]) -> None:
-        self.n = n
-        self.one = one
-
-    def __len__(self) -> int:
-        return self.n
-
-    @overload
-    def __getitem__(self, i: int) -> str: ...
-
-    @overload
-    def __getitem__(self, i: slice) -> list[str]: ...
-
-    def __getitem__(self, i: int | slice) -> str | list[str]:
-        if isinstance(i, slice):
-            return [self.one(k) for k in range(*i.indices(self.n))]
-        k = i + self.n if i < 0 else i
-        if not 0 <= k < self.n:
-            raise IndexError(i)
-        return self.one(k)
 
 
 class Presentation:

@@ -8,6 +8,7 @@ then by offset from left to right.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from functools import cached_property
 
@@ -19,6 +20,7 @@ from .crosssection import SectionPlan, section
 from .errors import JobFileError
 from .job import Staking
 from .limits import check_point_numbers
+from .ondemand import OnDemand
 from .numbers import round_to
 from .profile import Profile
 from .stations import Stationing
@@ -43,6 +45,24 @@ MERGE_TOLERANCE = 5e-5
 
 #: Stakes placed at once (the alignment's evaluation temporaries are several arrays of this size).
 _EVALUATE_BLOCK = 1 << 18
+
+
+class EachStake(OnDemand):
+    """A text for each of ``n`` stakes, made by ``make(i)`` when asked for: a column of ids, labels
+    or codes without a million strings when only some rows are shown.
+    """
+
+    def __init__(self, n: int, make: Callable[[int], str]) -> None:
+        self.n = n
+        self.make = make
+
+    def __len__(self) -> int:
+        return self.n
+
+    def one(self, i: int) -> str:
+        """The text of stake ``i``."""
+        return self.make(i)
+
 
 @dataclass(frozen=True)
 class Layout:

@@ -10,12 +10,13 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import NamedTuple, overload
+from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import NDArray
 
 from ..errors import GeometryError
+from ..ondemand import OnDemand
 from ..textsafety import find_unsafe_char
 
 __all__ = [
@@ -385,7 +386,7 @@ class NumberRun(NamedTuple):
     size: int
 
 
-class NumberedNames(Sequence[str]):
+class NumberedNames(OnDemand):
     """Point names in runs, made only for the rows asked for: a :class:`NumberRun`, or names as
     written (a tuple of str). Whoever makes one vouches that its names are unique and hold only
     characters XML carries (a build's stakes: their ids are checked when the job is read);
@@ -400,32 +401,23 @@ class NumberedNames(Sequence[str]):
     def __len__(self) -> int:
         return int(self._starts[-1])
 
-    @overload
-    def __getitem__(self, i: int) -> str: ...
+    def one(self, i: int) -> str:
+        """Name ``i``."""
+        return self.span(i, i + 1)[0]
 
-    @overload
-    def __getitem__(self, i: slice) -> list[str]: ...
-
-    def __getitem__(self, i: int | slice) -> str | list[str]:
-        if isinstance(i, slice):
-            a, b, step = i.indices(len(self))
-            if step != 1:
-                return [self[k] for k in range(a, b, step)]
-            out: list[str] = []
-            for k, r in enumerate(self._runs):
-                lo, hi = max(a, int(self._starts[k])), min(b, int(self._starts[k + 1]))
-                if lo >= hi:
-                    continue
-                lo, hi = lo - int(self._starts[k]), hi - int(self._starts[k])
-                if isinstance(r, NumberRun):
-                    out += [f"{r.prefix}{v}" for v in range(r.first + lo, r.first + hi)]
-                else:
-                    out += list(r[lo:hi])
-            return out
-        k = i + len(self) if i < 0 else i
-        if not 0 <= k < len(self):
-            raise IndexError(i)
-        return self[k:k + 1][0]
+    def span(self, a: int, b: int) -> list[str]:
+        """Names ``a`` to ``b``, a run at a time."""
+        out: list[str] = []
+        for k, r in enumerate(self._runs):
+            lo, hi = max(a, int(self._starts[k])), min(b, int(self._starts[k + 1]))
+            if lo >= hi:
+                continue
+            lo, hi = lo - int(self._starts[k]), hi - int(self._starts[k])
+            if isinstance(r, NumberRun):
+                out += [f"{r.prefix}{v}" for v in range(r.first + lo, r.first + hi)]
+            else:
+                out += list(r[lo:hi])
+        return out
 
     def lengths(self) -> NDArray[np.int64]:
         """Characters of every name, without making them."""
