@@ -189,7 +189,8 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
             if not _has_extra(o.extra):
                 raise JobFileError(f"--only {o.name}: matplotlib is not installed, so there is no {o.filename} "
                                    f"(pip install 'stakeout[{o.extra}]')")
-    folder = OutputFolder(out, force, protect=job.inputs(), hashes=any(o.name == "manifest" for o in outputs))
+    manifest = any(o.name == "manifest" for o in outputs)
+    folder = OutputFolder(out, force, protect=job.inputs(), hashes=manifest)  # hashes only for a manifest
     d = build_design(job)
     for part in d.parts or (d,):
         check_design(part)
@@ -218,7 +219,7 @@ def run_build(job_path: str | Path, out: str | Path, only: str | None = None, fo
         finally:
             if beside is not None:
                 beside.abandon()
-        if any(o.name == "manifest" for o in outputs):
+        if manifest:
             from .writers.manifest import manifest_json  # importlib.metadata: only when a manifest is asked for
 
             folder.write_bytes("manifest.json", manifest_json(d, str(job_path), folder.written()))

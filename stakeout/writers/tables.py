@@ -198,7 +198,8 @@ class _PerPoint:
 def _csv(header: Sequence[str], sp: StakePoints, layout: Callable[[_PerPoint], list[rows.Field]]
          ) -> Iterator[bytes]:
     """Render a per-point CSV in chunks (whole stations of a plain grid): the header, then each
-    chunk's rows as one piece, rendered on every core and never more than a few ahead.
+    chunk's rows as one piece (:func:`rows.in_order`: on the cores the writing leaves free, never
+    more than a few ahead).
     """
     m = max(1, sp.offsets.size)
     step = _CHUNK_ROWS if sp.layout is not None else max(1, _CHUNK_ROWS // m) * m
